@@ -1,0 +1,53 @@
+import type { ChannelLabel, PcmBlock } from '../analysis/audio.ts';
+
+export type Container = 'wav' | 'rf64' | 'bw64' | 'aiff' | 'aifc' | 'flac' | 'mp3' | 'm4a' | 'aac' | 'ogg' | 'webm' | 'caf' | 'other';
+
+/** Everything known about the file's audio before (and, for `frames`, after) decoding. */
+export interface AudioFormat {
+  container: Container;
+  /** e.g. 'pcm_s16le', 'pcm_s24be', 'pcm_f32le', 'pcm_u8', 'flac', 'mp3', 'aac', 'vorbis', 'opus'. */
+  encoding: string;
+  sampleRate: number;
+  channels: number;
+  /** Bits per stored sample for PCM and FLAC; null for lossy codecs. */
+  bitsPerSample: number | null;
+  /** Frames the container declares; null when it cannot say before decoding. */
+  frames: number | null;
+  durationSeconds: number | null;
+  channelLabels: ChannelLabel[];
+  /** WAVE_FORMAT_EXTENSIBLE dwChannelMask, when present. */
+  channelMask: number | null;
+  /** BWF bext TimeReference: samples since midnight of the first sample; null without bext. */
+  timeReferenceSamples: number | null;
+}
+
+export type DecodeWarningCode = 'truncated_data' | 'trailing_garbage' | 'channels_restored' | 'frames_mismatch' | 'odd_chunk_padding_missing';
+
+export interface DecodeWarning {
+  code: DecodeWarningCode;
+  message: string;
+  /** Sample-frame position the warning applies from, when it has one. */
+  atFrame?: number;
+}
+
+/**
+ * The one output shape of every decoder. Iterate `blocks` once; blocks are planar Float32
+ * with at most `maxBlockFrames` frames. `warnings` fills while decoding: read it after the
+ * iteration ends. `framesDecoded` is final after the iteration ends.
+ */
+export interface DecodedAudio {
+  format: AudioFormat;
+  blocks: AsyncIterable<PcmBlock>;
+  readonly warnings: DecodeWarning[];
+  readonly framesDecoded: number;
+}
+
+export interface DecodeOptions {
+  /** Largest block handed to meters (frames). Default 65536. */
+  maxBlockFrames?: number;
+  /** Cap on decoded PCM bytes (as float32) for decoders that cannot stream. Default 2 GiB. */
+  maxDecodedBytes?: number;
+}
+
+export const DEFAULT_MAX_BLOCK_FRAMES = 65536;
+export const DEFAULT_MAX_DECODED_BYTES = 2 * 1024 ** 3;

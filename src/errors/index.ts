@@ -1,0 +1,53 @@
+// One catalogue of error codes. Every layer throws EarmarkError with one of these codes;
+// the CLI maps them to exit codes and stderr lines, the API to problem+json (RFC 9457).
+
+export const errorCatalogue = {
+  // Input files
+  empty_file: { status: 422, title: 'The file is empty' },
+  unsupported_format: { status: 415, title: 'The file is not in an audio format Earmark reads' },
+  unsupported_encoding: { status: 415, title: 'The container is known but its sample encoding is not supported' },
+  corrupt_file: { status: 422, title: 'The file is damaged or inconsistent' },
+  decoded_size_exceeded: { status: 413, title: 'The decoded audio is larger than the configured cap' },
+  file_not_found: { status: 404, title: 'The file does not exist or cannot be read' },
+  // Arguments and profiles
+  invalid_argument: { status: 400, title: 'An argument is invalid' },
+  invalid_profile: { status: 400, title: 'The delivery profile is invalid' },
+  unknown_profile: { status: 422, title: 'No delivery profile has this id' },
+  // Catch-all
+  internal_error: { status: 500, title: 'Internal error' },
+} as const satisfies Record<string, { status: number; title: string }>;
+
+export type ErrorCode = keyof typeof errorCatalogue;
+
+export interface ErrorDetails {
+  /** Field or path the error is about (profile field, CLI option). */
+  field?: string;
+  [key: string]: unknown;
+}
+
+export class EarmarkError extends Error {
+  readonly code: ErrorCode;
+  readonly details: ErrorDetails;
+
+  constructor(code: ErrorCode, message: string, details: ErrorDetails = {}, options?: { cause?: unknown }) {
+    super(message, options);
+    this.name = 'EarmarkError';
+    this.code = code;
+    this.details = details;
+  }
+
+  get status(): number {
+    return errorCatalogue[this.code].status;
+  }
+}
+
+export function isEarmarkError(value: unknown): value is EarmarkError {
+  return value instanceof EarmarkError;
+}
+
+/** Wraps anything thrown into an EarmarkError so callers only ever see catalogue codes. */
+export function toEarmarkError(value: unknown): EarmarkError {
+  if (value instanceof EarmarkError) return value;
+  const message = value instanceof Error ? value.message : String(value);
+  return new EarmarkError('internal_error', message, {}, { cause: value });
+}
