@@ -1,0 +1,50 @@
+// Time-located findings of the meters. Positions are sample-accurate (frames from the start
+// of the stream); seconds are derived from them by the runner's sample rate.
+
+export type EventKind =
+  | 'clipping'          // run of consecutive samples at or near full scale
+  | 'silence'           // below a level for at least a duration (one channel, or all together)
+  | 'true_peak_over'    // true peak above the configured ceiling
+  | 'dead_channel'      // digital silence for the whole stream
+  | 'duplicate_channel' // a channel that is an identical copy of another
+  | 'inverted_channel'  // a channel that is a polarity-inverted copy of another
+  | 'phase_problem';    // a window of strongly negative inter-channel correlation
+
+export interface AnalysisEvent {
+  kind: EventKind;
+  /** Channel index, or null when the event concerns all channels together. */
+  channel: number | null;
+  /** For pair events (duplicate, inverted, phase): the other channel. */
+  otherChannel?: number;
+  startFrame: number;
+  /** Exclusive end. */
+  endFrame: number;
+  startSeconds: number;
+  endSeconds: number;
+  /** Most extreme level inside the event, in the unit the kind uses (dBFS, dBTP, correlation). */
+  peakValue?: number;
+  /** Number of raw detections merged into this event (e.g. overs in one span). */
+  count?: number;
+}
+
+/** Caps the events a meter keeps; counts continue past the cap so reports stay honest. */
+export class EventLog {
+  readonly events: AnalysisEvent[] = [];
+  total = 0;
+
+  constructor(private readonly sampleRate: number, private readonly maxEvents = 10_000) {}
+
+  add(event: Omit<AnalysisEvent, 'startSeconds' | 'endSeconds'>): void {
+    this.total++;
+    if (this.events.length >= this.maxEvents) return;
+    this.events.push({
+      ...event,
+      startSeconds: event.startFrame / this.sampleRate,
+      endSeconds: event.endFrame / this.sampleRate,
+    });
+  }
+
+  get truncated(): boolean {
+    return this.total > this.events.length;
+  }
+}
