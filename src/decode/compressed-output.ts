@@ -1,0 +1,122 @@
+// Checks decoder output against what the container declared and re-chunks it into fixed-size
+// planar blocks. Decoders rarely throw on damaged input, so this is where damage becomes an error.
+import type { PcmBlock } from '../analysis/audio.ts';
+import { EarmarkError } from '../errors/index.ts';
+import type { DecodeWarning } from './types.ts';
+import type { CodecOutput } from './compressed-codecs.ts';
+import type { Probe } from './compressed-probe.ts';
+
+/** +12 dBFS: lossy codecs overshoot 0 dBFS by a few dB at most; beyond this the decoder is reading garbage. */
+const GARBAGE_PEAK = 3.98;
+
+export class OutputCheck {
+  framesOut = 0;
+  private pending: Float32Array[] = [];
+  private filled = 0;
+  private restoredWarned = false;
+  private finalErrors: string[] = [];
+
+  constructor(
+    private readonly probe: Probe,
+    private readonly blockFrames: number,
+    private readonly warnings: DecodeWarning[],
+    /** Decoded-bytes cap for whole-file decoding; Infinity when streaming. */
+    private readonly maxDecodedBytes: number,
+  ) {
+    this.fresh();
+  }
+
+  /** `final`: this output came from the last input bytes or the flush, where a cut file shows up. */
+  *take(r: CodecOutput, final: boolean): Generator<PcmBlock> {
+    const errors = r.errors ?? [];
+    if (errors.length) {
+      if (!final) throw new EarmarkError('corrupt_file', `decoder error inside the stream: ${errors[0].message}`, { atFrame: this.framesOut });
+      this.finalErrors.push(...errors.map((e) => e.message));
+    }
+    const data = r.channelData ?? [];
+    const frames = Math.min(r.samplesDecoded ?? Infinity, data[0]?.length ?? 0);
+    if (!data.length || frames <= 0) return;
+    const channels = this.reconcile(data);
+    this.checkRate(r.sampleRate);
+    this.checkLevels(channels, frames);
+    if ((this.framesOut + this.filled + frames) * this.probe.channels * 4 > this.maxDecodedBytes) {
+      throw new EarmarkError('decoded_size_exceeded', `decoded audio exceeds the cap of ${this.maxDecodedBytes} bytes`);
+    }
+    for (let at = 0; at < frames;) {
+      const n = Math.min(frames - at, this.blockFrames - this.filled);
+      for (let c = 0; c < channels.length; c++) this.pending[c].set(channels[c].subarray(at, at + n), this.filled);
+      this.filled += n;
+      at += n;
+      if (this.filled === this.blockFrames) yield this.emit();
+    }
+  }
+
+  /** Last partial block, then the frame-count verdict. */
+  *finish(): Generator<PcmBlock> {
+    if (this.filled) yield this.emit();
+    const { frames: declared, framesSlack: slack } = this.probe;
+    if (this.framesOut === 0) throw new EarmarkError('corrupt_file', `no audio could be decoded${this.finalErrors.length ? `: ${this.finalErrors[0]}` : ''}`);
+    if (declared !== null && this.framesOut < declared - slack) {
+      this.warnings.push({ code: 'truncated_data', atFrame: this.framesOut,
+        message: `decoding stopped at frame ${this.framesOut} of ${declared} declared${this.finalErrors.length ? ` (${this.finalErrors[0]})` : ''}` });
+    } else if (declared !== null && this.framesOut > declared + slack) {
+      this.warnings.push({ code: 'frames_mismatch', atFrame: declared, message: `decoded ${this.framesOut} frames, container declares ${declared}` });
+    } else if (this.finalErrors.length) {
+      this.warnings.push({ code: 'trailing_garbage', atFrame: this.framesOut, message: `decoder rejected bytes at the end: ${this.finalErrors[0]}` });
+    }
+  }
+
+  private emit(): PcmBlock {
+    const block: PcmBlock = { channelData: this.pending.map((c) => c.subarray(0, this.filled)), frames: this.filled };
+    this.framesOut += this.filled;
+    this.fresh();
+    return block;
+  }
+
+  // Fresh arrays per block: consumers may keep blocks, and decoder arrays may be reused views.
+  private fresh(): void {
+    this.pending = Array.from({ length: this.probe.channels }, () => new Float32Array(this.blockFrames));
+    this.filled = 0;
+  }
+
+  private reconcile(data: Float32Array[]): Float32Array[] {
+    const want = this.probe.channels;
+    if (data.length === want) return data;
+    // mpg123 always outputs two channels; a mono MP3 header means one of them.
+    if (want === 1 && data.length === 2 && this.probe.codec === 'mp3') return [data[0]];
+    if (want === 2 && data.length === 1) {
+      if (!this.restoredWarned) {
+        this.restoredWarned = true;
+        this.warnings.push({ code: 'channels_restored', atFrame: this.framesOut + this.filled,
+          message: 'decoder returned one channel for a two-channel stream; duplicated to restore dual mono' });
+      }
+      return [data[0], data[0]];
+    }
+    throw new EarmarkError('corrupt_file', `decoder produced ${data.length} channels, the container declares ${want}`);
+  }
+
+  private checkRate(rate: number): void {
+    const declared = this.probe.sampleRate;
+    if (!rate || rate === declared) return;
+    if (this.probe.encoding === 'aac' && rate === 2 * declared) {
+      throw new EarmarkError('unsupported_encoding', `HE-AAC (SBR) decodes at ${rate} Hz but the container declares ${declared} Hz`);
+    }
+    throw new EarmarkError('corrupt_file', `decoder output is ${rate} Hz, the container declares ${declared} Hz`);
+  }
+
+  private checkLevels(channels: Float32Array[], frames: number): void {
+    let over = 0;
+    for (const ch of channels) {
+      for (let i = 0; i < frames; i++) {
+        const a = Math.abs(ch[i]);
+        if (a <= GARBAGE_PEAK) continue;
+        if (a !== a || a === Infinity) throw new EarmarkError('corrupt_file', 'decoder produced non-finite samples', { atFrame: this.framesOut + this.filled + i });
+        over++;
+      }
+    }
+    // A handful of overs can be a real (if broken) master; many mean the decoder is reading noise.
+    if (over > Math.max(8, 1e-4 * frames * channels.length)) {
+      throw new EarmarkError('corrupt_file', `decoded samples far above full scale (${over} over +12 dBFS): the stream is damaged`, { atFrame: this.framesOut + this.filled });
+    }
+  }
+}

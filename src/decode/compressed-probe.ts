@@ -1,0 +1,144 @@
+// Container probes: what the file declares before any decoding, used to fill AudioFormat and to
+// check the decoder's output (channel count, rate, frame count).
+import { EarmarkError } from '../errors/index.ts';
+import type { Container } from './types.ts';
+import { ascii, id3v2Length, readRange, u16be, u16le, u32be, u32le, u64be, u64le } from './compressed-bytes.ts';
+import { probeMp3 } from './compressed-mp3.ts';
+import { probeMp4 } from './compressed-mp4.ts';
+import { probeWebm } from './compressed-webm.ts';
+
+export type CodecPackage = 'flac' | 'mp3' | 'mp4' | 'aac' | 'vorbis' | 'opus' | 'webm' | 'caf';
+
+export interface Probe {
+  codec: CodecPackage;
+  encoding: string;
+  sampleRate: number;
+  channels: number;
+  bitsPerSample: number | null;
+  /** Frames the container declares; null when it cannot say. */
+  frames: number | null;
+  /** How far decoded frames may differ from `frames` (codec priming/padding) before we warn. */
+  framesSlack: number;
+  /** Decoder needs the file in one piece (MP4 with moov after mdat). */
+  wholeFile: boolean;
+}
+
+const HEAD_BYTES = 1024 * 1024;
+
+export async function probe(path: string, container: Container, fileBytes: number): Promise<Probe> {
+  if (container === 'm4a') {
+    const m = await probeMp4(path, fileBytes);
+    const slack = m.encoding === 'flac' || m.encoding === 'alac' ? 0 : 4096;
+    return { codec: 'mp4', ...m, bitsPerSample: null, framesSlack: slack, wholeFile: !m.moovFirst };
+  }
+  const head = await readRange(path, 0, HEAD_BYTES);
+  switch (container) {
+    case 'flac': return probeFlac(head);
+    case 'mp3': {
+      // A large ID3v2 tag (cover art) can push the first frame beyond the head we read.
+      const skip = id3v2Length(head);
+      const m = probeMp3(skip + 65536 > head.length ? await readRange(path, skip, HEAD_BYTES) : head.subarray(skip), 0);
+      const h = m.header;
+      return { codec: 'mp3', encoding: h.layer === 3 ? 'mp3' : `mp${h.layer}`, sampleRate: h.sampleRate, channels: h.channels,
+        bitsPerSample: null, frames: m.frames, framesSlack: 2 * h.samplesPerFrame, wholeFile: false };
+    }
+    case 'aac': return probeAdts(head);
+    case 'ogg': return probeOgg(path, head, fileBytes);
+    case 'webm': return { codec: 'webm', ...probeWebm(head), bitsPerSample: null, framesSlack: 4096, wholeFile: false };
+    case 'caf': return probeCaf(head, fileBytes);
+    default: throw new EarmarkError('unsupported_format', `the compressed decoder does not read ${container} files`);
+  }
+}
+
+function streamInfo(b: Uint8Array, o: number): { sampleRate: number; channels: number; bits: number; total: number } {
+  if (o + 18 > b.length) throw new EarmarkError('corrupt_file', 'FLAC STREAMINFO is cut off');
+  const sampleRate = (b[o + 10] << 12) | (b[o + 11] << 4) | (b[o + 12] >> 4);
+  const channels = ((b[o + 12] >> 1) & 7) + 1;
+  const bits = (((b[o + 12] & 1) << 4) | (b[o + 13] >> 4)) + 1;
+  const total = (b[o + 13] & 0xf) * 2 ** 32 + u32be(b, o + 14);
+  if (sampleRate === 0 || bits < 4 || u16be(b, o + 2) < 16) throw new EarmarkError('corrupt_file', 'FLAC STREAMINFO is invalid');
+  return { sampleRate, channels, bits, total };
+}
+
+function probeFlac(head: Uint8Array): Probe {
+  const o = id3v2Length(head);
+  if (ascii(head, o, 4) !== 'fLaC') throw new EarmarkError('corrupt_file', 'FLAC signature not found');
+  if ((head[o + 4] & 0x7f) !== 0 || (u32be(head, o + 4) & 0xffffff) !== 34) throw new EarmarkError('corrupt_file', 'FLAC stream does not start with STREAMINFO');
+  const s = streamInfo(head, o + 8);
+  return { codec: 'flac', encoding: 'flac', sampleRate: s.sampleRate, channels: s.channels, bitsPerSample: s.bits,
+    frames: s.total || null, framesSlack: 0, wholeFile: false };
+}
+
+const ADTS_RATES = [96000, 88200, 64000, 48000, 44100, 32000, 24000, 22050, 16000, 12000, 11025, 8000, 7350];
+
+function probeAdts(head: Uint8Array): Probe {
+  const o = id3v2Length(head);
+  if (head[o] !== 0xff || (head[o + 1] & 0xf6) !== 0xf0) throw new EarmarkError('corrupt_file', 'ADTS sync word not found');
+  const sampleRate = ADTS_RATES[(head[o + 2] >> 2) & 15];
+  const channels = ((head[o + 2] & 1) << 2) | (head[o + 3] >> 6);
+  if (!sampleRate) throw new EarmarkError('corrupt_file', 'ADTS header has an invalid sample rate');
+  if (!channels) throw new EarmarkError('unsupported_encoding', 'ADTS with in-band channel configuration (0) is not supported');
+  return { codec: 'aac', encoding: 'aac', sampleRate, channels, bitsPerSample: null, frames: null, framesSlack: 4096, wholeFile: false };
+}
+
+async function probeOgg(path: string, head: Uint8Array, fileBytes: number): Promise<Probe> {
+  if (ascii(head, 0, 4) !== 'OggS' || head.length < 28) throw new EarmarkError('corrupt_file', 'Ogg page header not found');
+  const serial = u32le(head, 14);
+  const p = 27 + head[26];
+  let info: Omit<Probe, 'frames'> & { preSkip: number; total: number | null };
+  if (ascii(head, p, 7) === '\x01vorbis') {
+    info = { codec: 'vorbis', encoding: 'vorbis', channels: head[p + 11], sampleRate: u32le(head, p + 12), bitsPerSample: null,
+      framesSlack: 2048, wholeFile: false, preSkip: 0, total: null };
+  } else if (ascii(head, p, 8) === 'OpusHead') {
+    // Opus always decodes at 48 kHz; the header's rate is only the source's.
+    info = { codec: 'opus', encoding: 'opus', channels: head[p + 9], sampleRate: 48000, bitsPerSample: null,
+      framesSlack: 1920, wholeFile: false, preSkip: u16le(head, p + 10), total: null };
+  } else if (ascii(head, p, 5) === '\x7fFLAC' && ascii(head, p + 9, 4) === 'fLaC') {
+    const s = streamInfo(head, p + 17);
+    info = { codec: 'flac', encoding: 'flac', channels: s.channels, sampleRate: s.sampleRate, bitsPerSample: s.bits,
+      framesSlack: 0, wholeFile: false, preSkip: 0, total: s.total || null };
+  } else throw new EarmarkError('unsupported_encoding', 'Ogg stream is not Vorbis, Opus or FLAC');
+  if (!info.channels || !info.sampleRate) throw new EarmarkError('corrupt_file', 'Ogg identification header declares no channels or rate');
+  const { preSkip, total, ...rest } = info;
+  const granule = total ?? (await lastGranule(path, fileBytes, serial));
+  return { ...rest, frames: granule === null ? null : Math.max(0, granule - preSkip) };
+}
+
+/** Granule position of the last page of the stream: the stream's end in output frames (Vorbis/FLAC) or 48 kHz samples + pre-skip (Opus). */
+async function lastGranule(path: string, fileBytes: number, serial: number): Promise<number | null> {
+  const span = Math.min(fileBytes, 128 * 1024);
+  const tail = await readRange(path, fileBytes - span, span);
+  for (let o = tail.length - 27; o >= 0; o--) {
+    if (tail[o] !== 0x4f || ascii(tail, o, 4) !== 'OggS' || u32le(tail, o + 14) !== serial) continue;
+    if (u32le(tail, o + 6) === 0xffffffff && u32le(tail, o + 10) === 0xffffffff) continue; // no packet ends on this page
+    return u64le(tail, o + 6);
+  }
+  return null;
+}
+
+function probeCaf(head: Uint8Array, fileBytes: number): Probe {
+  if (ascii(head, 0, 4) !== 'caff') throw new EarmarkError('corrupt_file', 'CAF signature not found');
+  let desc: { rate: number; format: string; flags: number; bytesPerPacket: number; framesPerPacket: number; channels: number; bits: number } | null = null;
+  let dataBytes: number | null = null;
+  let validFrames: number | null = null;
+  for (let o = 8; o + 12 <= head.length;) {
+    const type = ascii(head, o, 4);
+    const size = u64be(head, o + 4);
+    const body = o + 12;
+    if (type === 'desc' && body + 32 <= head.length) {
+      desc = { rate: new DataView(head.buffer, head.byteOffset + body, 8).getFloat64(0), format: ascii(head, body + 8, 4),
+        flags: u32be(head, body + 12), bytesPerPacket: u32be(head, body + 16), framesPerPacket: u32be(head, body + 20),
+        channels: u32be(head, body + 24), bits: u32be(head, body + 28) };
+    } else if (type === 'pakt' && body + 16 <= head.length) validFrames = u64be(head, body + 8);
+    if (type === 'data') { dataBytes = size === 2 ** 64 - 1 || size > 2 ** 53 ? fileBytes - body - 4 : size - 4; break; }
+    o = body + size;
+  }
+  if (!desc || !desc.channels || !(desc.rate > 0)) throw new EarmarkError('corrupt_file', 'CAF desc chunk is missing or invalid');
+  const kinds: Record<string, string> = { alaw: 'pcm_alaw', ulaw: 'pcm_mulaw', ima4: 'adpcm_ima_qt' };
+  let encoding = kinds[desc.format];
+  if (desc.format === 'lpcm') encoding = `pcm_${desc.flags & 1 ? 'f' : 's'}${desc.bits}${desc.flags & 2 ? 'le' : 'be'}`;
+  if (!encoding) throw new EarmarkError('unsupported_encoding', `CAF audio format ${JSON.stringify(desc.format)} is not supported`);
+  const fromData = dataBytes !== null && desc.bytesPerPacket ? Math.floor(dataBytes / desc.bytesPerPacket) * desc.framesPerPacket : null;
+  return { codec: 'caf', encoding, sampleRate: desc.rate, channels: desc.channels, bitsPerSample: desc.format === 'lpcm' ? desc.bits : null,
+    frames: validFrames ?? fromData, framesSlack: desc.format === 'ima4' ? 64 : 0, wholeFile: false };
+}
