@@ -1,0 +1,361 @@
+// RIFF/WAVE, RF64 and BW64 reader, plus the PCM block streaming that aiff.ts shares
+// (kept here because the file list for decoders is fixed; see the report for a split).
+import type { ChannelLabel, PcmBlock } from '../analysis/audio.ts';
+import { defaultChannelLabels } from '../analysis/audio.ts';
+import { EarmarkError } from '../errors/index.ts';
+import { ByteReader } from './byte-reader.ts';
+import type { AudioFormat, Container, DecodedAudio, DecodeOptions, DecodeWarning } from './types.ts';
+import { DEFAULT_MAX_BLOCK_FRAMES } from './types.ts';
+
+export const MAX_SAMPLE_RATE = 1_536_000;
+export const MAX_CHANNELS = 64;
+
+/** How one stored sample looks: integer (signed unless uint8), or IEEE float. */
+export interface SampleLayout {
+  kind: 'int' | 'uint8' | 'float';
+  bytesPerSample: 1 | 2 | 3 | 4 | 8;
+  bigEndian: boolean;
+}
+
+/** A parsed header: where the interleaved samples are and how to read them. */
+export interface PcmPlan {
+  format: AudioFormat;
+  layout: SampleLayout;
+  blockAlign: number;
+  dataOffset: number;
+  /** Declared sample bytes; may exceed what the file holds. */
+  dataBytes: number;
+  warnings: DecodeWarning[];
+}
+
+const hostLittleEndian = new Uint8Array(new Uint16Array([1]).buffer)[0] === 1;
+let alignedScratch = new ArrayBuffer(0);
+
+/** Copies `byteLength` bytes into 8-byte aligned scratch, reversing each sample when byte order differs. */
+function alignedCopy(bytes: Uint8Array, byteLength: number, sampleBytes: number, swap: boolean): ArrayBuffer {
+  if (alignedScratch.byteLength < byteLength) alignedScratch = new ArrayBuffer(byteLength);
+  const dst = new Uint8Array(alignedScratch, 0, byteLength);
+  if (!swap) dst.set(bytes.subarray(0, byteLength));
+  else for (let i = 0; i < byteLength; i += sampleBytes) for (let k = 0; k < sampleBytes; k++) dst[i + k] = bytes[i + sampleBytes - 1 - k];
+  return alignedScratch;
+}
+
+/**
+ * Deinterleaves `frames` frames from `bytes` into `out[c][outOffset...]` as float.
+ * One tight loop per layout; integer scales are powers of two, so results are exact for 8-24 bits.
+ */
+export function convertInterleaved(bytes: Uint8Array, frames: number, channels: number, layout: SampleLayout, out: readonly Float32Array[], outOffset: number): void {
+  const bps = layout.bytesPerSample;
+  const stride = channels * bps;
+  if (layout.kind === 'float') {
+    const byteLength = frames * stride;
+    const direct = !layout.bigEndian === hostLittleEndian && (bytes.byteOffset % bps) === 0;
+    const buffer = direct ? bytes.buffer : alignedCopy(bytes, byteLength, bps, layout.bigEndian === hostLittleEndian);
+    const offset = direct ? bytes.byteOffset : 0;
+    const src = bps === 4 ? new Float32Array(buffer, offset, frames * channels) : new Float64Array(buffer, offset, frames * channels);
+    for (let c = 0; c < channels; c++) {
+      const dst = out[c];
+      for (let f = 0, i = c; f < frames; f++, i += channels) dst[outOffset + f] = src[i];
+    }
+    return;
+  }
+  const be = layout.bigEndian;
+  for (let c = 0; c < channels; c++) {
+    const dst = out[c];
+    let i = c * bps;
+    const end = outOffset + frames;
+    if (layout.kind === 'uint8') {
+      for (let o = outOffset; o < end; o++, i += stride) dst[o] = (bytes[i] - 128) * 0.0078125;
+    } else if (bps === 1) {
+      for (let o = outOffset; o < end; o++, i += stride) dst[o] = ((bytes[i] << 24) >> 24) * 0.0078125;
+    } else if (bps === 2) {
+      if (be) for (let o = outOffset; o < end; o++, i += stride) dst[o] = (((bytes[i] << 24) | (bytes[i + 1] << 16)) >> 16) * (1 / 32768);
+      else for (let o = outOffset; o < end; o++, i += stride) dst[o] = (((bytes[i + 1] << 24) | (bytes[i] << 16)) >> 16) * (1 / 32768);
+    } else if (bps === 3) {
+      if (be) for (let o = outOffset; o < end; o++, i += stride) dst[o] = (((bytes[i] << 24) | (bytes[i + 1] << 16) | (bytes[i + 2] << 8)) >> 8) * (1 / 8388608);
+      else for (let o = outOffset; o < end; o++, i += stride) dst[o] = (((bytes[i + 2] << 24) | (bytes[i + 1] << 16) | (bytes[i] << 8)) >> 8) * (1 / 8388608);
+    } else {
+      if (be) for (let o = outOffset; o < end; o++, i += stride) dst[o] = ((bytes[i] << 24) | (bytes[i + 1] << 16) | (bytes[i + 2] << 8) | bytes[i + 3]) * (1 / 2147483648);
+      else for (let o = outOffset; o < end; o++, i += stride) dst[o] = ((bytes[i + 3] << 24) | (bytes[i + 2] << 16) | (bytes[i + 1] << 8) | bytes[i]) * (1 / 2147483648);
+    }
+  }
+}
+
+/**
+ * Streams a parsed plan as planar blocks. `openReader` is called on first iteration and must
+ * return a reader positioned at plan.dataOffset; it is closed when iteration ends or stops.
+ * Blocks are fresh Float32Arrays each time, so consumers may keep them.
+ */
+export function streamPcm(plan: PcmPlan, openReader: () => Promise<ByteReader>, options: DecodeOptions = {}): DecodedAudio {
+  const maxBlockFrames = options.maxBlockFrames ?? DEFAULT_MAX_BLOCK_FRAMES;
+  if (!Number.isInteger(maxBlockFrames) || maxBlockFrames < 1) {
+    throw new EarmarkError('invalid_argument', `maxBlockFrames must be a positive integer, got ${maxBlockFrames}`, { field: 'maxBlockFrames' });
+  }
+  const { channels } = plan.format;
+  const { blockAlign, layout } = plan;
+  const warnings = [...plan.warnings];
+  const declaredFrames = Math.floor(plan.dataBytes / blockAlign);
+  let framesDecoded = 0;
+
+  async function* blocks(): AsyncGenerator<PcmBlock> {
+    const reader = await openReader();
+    try {
+      const framesPerRead = Math.max(1, Math.floor(reader.capacityBytes / blockAlign));
+      let framesLeft = declaredFrames;
+      let ended = false;
+      while (framesLeft > 0 && !ended) {
+        const blockFrames = Math.min(maxBlockFrames, framesLeft);
+        const channelData = Array.from({ length: channels }, () => new Float32Array(blockFrames));
+        let filled = 0;
+        while (filled < blockFrames) {
+          const wantFrames = Math.min(blockFrames - filled, framesPerRead);
+          const bytes = await reader.read(wantFrames * blockAlign);
+          const gotFrames = Math.floor(bytes.length / blockAlign);
+          convertInterleaved(bytes, gotFrames, channels, layout, channelData, filled);
+          filled += gotFrames;
+          if (gotFrames < wantFrames) {
+            ended = true;
+            const at = framesDecoded + filled;
+            const partial = bytes.length % blockAlign;
+            warnings.push({
+              code: 'truncated_data',
+              message: `audio data ends at frame ${at} of ${declaredFrames} declared${partial ? ` (partial last frame of ${partial} bytes dropped)` : ''}`,
+              atFrame: at,
+            });
+            break;
+          }
+        }
+        framesLeft -= filled;
+        framesDecoded += filled;
+        if (filled > 0) yield { channelData: filled === blockFrames ? channelData : channelData.map((a) => a.subarray(0, filled)), frames: filled };
+      }
+    } finally {
+      await reader.close();
+    }
+  }
+
+  return {
+    format: plan.format,
+    blocks: blocks(),
+    warnings,
+    get framesDecoded() {
+      return framesDecoded;
+    },
+  };
+}
+
+/** Validates the numbers every PCM header shares; throws corrupt_file on nonsense. */
+export function checkStreamNumbers(what: string, channels: number, sampleRate: number): void {
+  if (channels === 0) throw new EarmarkError('corrupt_file', `${what} declares 0 channels`);
+  if (channels > MAX_CHANNELS) throw new EarmarkError('corrupt_file', `${what} declares ${channels} channels (more than ${MAX_CHANNELS})`);
+  if (!Number.isFinite(sampleRate) || sampleRate <= 0 || sampleRate > MAX_SAMPLE_RATE) {
+    throw new EarmarkError('corrupt_file', `${what} declares an impossible sample rate of ${sampleRate} Hz`);
+  }
+}
+
+// ---- RIFF specifics ----
+
+const u16 = (b: Uint8Array, o: number): number => b[o] | (b[o + 1] << 8);
+const u32 = (b: Uint8Array, o: number): number => (b[o] | (b[o + 1] << 8) | (b[o + 2] << 16) | (b[o + 3] << 24)) >>> 0;
+const u64 = (b: Uint8Array, o: number): number => u32(b, o) + u32(b, o + 4) * 2 ** 32;
+export const fourcc = (b: Uint8Array, o: number): string => String.fromCharCode(b[o], b[o + 1], b[o + 2], b[o + 3]);
+
+const WAVE_FORMAT_PCM = 0x0001;
+const WAVE_FORMAT_IEEE_FLOAT = 0x0003;
+const WAVE_FORMAT_EXTENSIBLE = 0xfffe;
+// Microsoft mmreg.h format tags, named only so the error says what the file is.
+const KNOWN_TAGS: Record<number, string> = {
+  0x0002: 'Microsoft ADPCM', 0x0006: 'A-law', 0x0007: 'mu-law', 0x0011: 'IMA ADPCM', 0x0031: 'GSM 6.10',
+  0x0050: 'MPEG audio', 0x0055: 'MPEG layer III', 0x00ff: 'AAC', 0x2000: 'AC-3', 0x2001: 'DTS',
+};
+// KSDATAFORMAT_SUBTYPE_* GUID bytes 2..15 as stored (little-endian Data1..Data3), ksmedia.h.
+const KSDATAFORMAT_TAIL = [0x00, 0x00, 0x00, 0x00, 0x10, 0x00, 0x80, 0x00, 0x00, 0xaa, 0x00, 0x38, 0x9b, 0x71];
+
+// dwChannelMask bit order (ksmedia.h SPEAKER_*): FL FR FC LFE BL BR FLC FRC BC SL SR TC TFL TFC TFR TBL TBC TBR.
+const SPEAKER_BACK_PAIR = 0x30;
+const SPEAKER_SIDE_PAIR = 0x600;
+
+/** Labels for the first `channels` set bits of a WAVE_FORMAT_EXTENSIBLE mask; extra channels are 'unknown'. */
+export function labelsFromChannelMask(mask: number, channels: number): ChannelLabel[] {
+  if (mask === 0) return defaultChannelLabels(channels);
+  if (mask === 0x4 && channels === 1) return ['M'];
+  const hasBack = (mask & SPEAKER_BACK_PAIR) !== 0;
+  const hasSide = (mask & SPEAKER_SIDE_PAIR) !== 0;
+  const byBit: ChannelLabel[] = [
+    'L', 'R', 'C', 'LFE', hasSide ? 'Lrs' : 'Ls', hasSide ? 'Rrs' : 'Rs', 'Lc', 'Rc', 'Cs',
+    hasBack ? 'Lss' : 'Ls', hasBack ? 'Rss' : 'Rs', 'Tc', 'Tfl', 'Tfc', 'Tfr', 'Tbl', 'Tbc', 'Tbr',
+  ];
+  const labels: ChannelLabel[] = [];
+  for (let bit = 0; bit < 32 && labels.length < channels; bit++) {
+    if (mask & (1 << bit)) labels.push(byBit[bit] ?? 'unknown');
+  }
+  while (labels.length < channels) labels.push('unknown');
+  return labels;
+}
+
+interface WaveFmt {
+  layout: SampleLayout;
+  encoding: string;
+  channels: number;
+  sampleRate: number;
+  blockAlign: number;
+  bitsPerSample: number;
+  channelMask: number | null;
+}
+
+function parseFmt(b: Uint8Array): WaveFmt {
+  if (b.length < 16) throw new EarmarkError('corrupt_file', `fmt chunk is ${b.length} bytes, shorter than 16`);
+  let tag = u16(b, 0);
+  const channels = u16(b, 2);
+  const sampleRate = u32(b, 4);
+  const blockAlign = u16(b, 12);
+  const containerBits = u16(b, 14);
+  let bitsPerSample = containerBits;
+  let channelMask: number | null = null;
+  checkStreamNumbers('fmt chunk', channels, sampleRate);
+  if (tag === WAVE_FORMAT_EXTENSIBLE) {
+    if (b.length < 40 || u16(b, 16) < 22) throw new EarmarkError('corrupt_file', 'WAVE_FORMAT_EXTENSIBLE fmt chunk is shorter than 40 bytes');
+    const validBits = u16(b, 18);
+    if (validBits > containerBits) throw new EarmarkError('corrupt_file', `valid bits ${validBits} exceed container bits ${containerBits}`);
+    if (validBits > 0) bitsPerSample = validBits;
+    channelMask = u32(b, 20);
+    tag = u16(b, 24);
+    if (KSDATAFORMAT_TAIL.some((v, i) => b[26 + i] !== v)) throw new EarmarkError('unsupported_encoding', 'WAVE_FORMAT_EXTENSIBLE sub-format GUID is not a known PCM or float GUID');
+  }
+  if (tag !== WAVE_FORMAT_PCM && tag !== WAVE_FORMAT_IEEE_FLOAT) {
+    const name = KNOWN_TAGS[tag] ? ` (${KNOWN_TAGS[tag]})` : '';
+    throw new EarmarkError('unsupported_encoding', `WAVE format tag 0x${tag.toString(16).padStart(4, '0')}${name} is not supported; only PCM and IEEE float are`);
+  }
+  if (containerBits === 0) throw new EarmarkError('corrupt_file', 'fmt chunk declares 0 bits per sample');
+  const bytesPerSample = Math.ceil(containerBits / 8);
+  if (blockAlign !== channels * bytesPerSample) {
+    throw new EarmarkError('corrupt_file', `block align ${blockAlign} does not match ${channels} channels of ${containerBits}-bit samples`);
+  }
+  if (tag === WAVE_FORMAT_IEEE_FLOAT) {
+    if (containerBits !== 32 && containerBits !== 64) throw new EarmarkError('unsupported_encoding', `${containerBits}-bit IEEE float is not supported`);
+    return { layout: { kind: 'float', bytesPerSample: bytesPerSample as 4 | 8, bigEndian: false }, encoding: `pcm_f${containerBits}le`, channels, sampleRate, blockAlign, bitsPerSample, channelMask };
+  }
+  if (bytesPerSample > 4) throw new EarmarkError('unsupported_encoding', `${containerBits}-bit integer PCM is not supported`);
+  const kind = bytesPerSample === 1 ? 'uint8' : 'int';
+  const encoding = bytesPerSample === 1 ? 'pcm_u8' : `pcm_s${bytesPerSample * 8}le`;
+  return { layout: { kind, bytesPerSample: bytesPerSample as 1 | 2 | 3 | 4, bigEndian: false }, encoding, channels, sampleRate, blockAlign, bitsPerSample, channelMask };
+}
+
+const KNOWN_CHUNKS = new Set(['data', 'fmt ', 'bext', 'LIST', 'fact', 'cue ', 'JUNK', 'junk', 'PAD ', 'iXML', 'axml', 'chna', 'ds64', 'smpl', 'inst', 'id3 ', 'ID3 ', 'acid', 'PEAK', 'levl', 'umid', 'cart', 'list', 'FLLR', 'minf', 'elm1', 'regn', 'ovwf']);
+const isPrintableId = (b: Uint8Array, o: number): boolean => {
+  for (let i = o; i < o + 4; i++) if (b[i] < 0x20 || b[i] > 0x7e) return false;
+  return true;
+};
+
+/** After an odd-sized chunk: true when the pad byte is missing (the next chunk id starts right away). */
+async function padMissing(reader: ByteReader): Promise<boolean> {
+  const p = await reader.peek(5);
+  if (p.length < 5) return false;
+  if (KNOWN_CHUNKS.has(fourcc(p, 1))) return false;
+  if (KNOWN_CHUNKS.has(fourcc(p, 0))) return true;
+  return !isPrintableId(p, 1) && isPrintableId(p, 0);
+}
+
+interface Ds64 {
+  dataBytes: number;
+  sampleCount: number;
+  table: Map<string, number>;
+}
+
+function parseDs64(b: Uint8Array): Ds64 {
+  // EBU Tech 3306 ds64: riffSize, dataSize, sampleCount (64-bit each), tableLength, table.
+  if (b.length < 28) throw new EarmarkError('corrupt_file', `ds64 chunk is ${b.length} bytes, shorter than 28`);
+  const table = new Map<string, number>();
+  const entries = u32(b, 24);
+  for (let i = 0, o = 28; i < entries && o + 12 <= b.length; i++, o += 12) table.set(fourcc(b, o), u64(b, o + 4));
+  return { dataBytes: u64(b, 8), sampleCount: u64(b, 16), table };
+}
+
+const MAX_HEADER_CHUNK_BYTES = 1024 * 1024;
+const BEXT_TIME_REFERENCE_OFFSET = 338; // EBU Tech 3285: 256 + 32 + 32 + 10 + 8 bytes of text fields
+
+/**
+ * Reads chunk headers up to the data chunk. With a seekable reader it also looks past the data
+ * for a bext chunk, then the caller reopens at dataOffset.
+ */
+export async function parseRiff(reader: ByteReader, container: Container): Promise<PcmPlan> {
+  const head = await reader.readExactly(12, 'the RIFF header');
+  const riffId = fourcc(head, 0);
+  if (!['RIFF', 'RF64', 'BW64'].includes(riffId) || fourcc(head, 8) !== 'WAVE') throw new EarmarkError('unsupported_format', 'not a RIFF/WAVE file');
+  const is64 = riffId !== 'RIFF';
+  const warnings: DecodeWarning[] = [];
+  let ds64: Ds64 | null = null;
+  let fmt: WaveFmt | null = null;
+  let timeReferenceSamples: number | null = null;
+  let data: { offset: number; bytes: number } | null = null;
+
+  for (;;) {
+    if (data && !reader.seekable) break;
+    const header = await reader.read(8);
+    if (header.length < 8) {
+      if (header.length > 0 && !data) throw new EarmarkError('corrupt_file', `file ends inside a chunk header at offset ${reader.position - header.length}`);
+      break;
+    }
+    const id = fourcc(header, 0);
+    let size = u32(header, 4);
+    if (is64 && size === 0xffffffff) {
+      const sized = id === 'data' ? ds64?.dataBytes : ds64?.table.get(id);
+      if (sized === undefined) {
+        if (data) break;
+        throw new EarmarkError('corrupt_file', `${riffId} chunk '${id}' has a 64-bit size but no ds64 entry for it`);
+      }
+      size = sized;
+    }
+    const chunkOffset = reader.position;
+    if (data) {
+      // Past the audio: only metadata we can use; anything odd ends the scan quietly.
+      if (id === 'bext' && timeReferenceSamples === null && size >= BEXT_TIME_REFERENCE_OFFSET + 8) {
+        const body = await reader.read(BEXT_TIME_REFERENCE_OFFSET + 8);
+        if (body.length === BEXT_TIME_REFERENCE_OFFSET + 8) timeReferenceSamples = u64(body, BEXT_TIME_REFERENCE_OFFSET);
+        break;
+      }
+    } else if (id === 'ds64' && is64) {
+      if (size > MAX_HEADER_CHUNK_BYTES) throw new EarmarkError('corrupt_file', `ds64 chunk of ${size} bytes is implausible`);
+      ds64 = parseDs64(await reader.readExactly(size, 'the ds64 chunk'));
+    } else if (id === 'fmt ') {
+      if (size > MAX_HEADER_CHUNK_BYTES) throw new EarmarkError('corrupt_file', `fmt chunk of ${size} bytes is implausible`);
+      fmt = parseFmt(await reader.readExactly(size, 'the fmt chunk'));
+    } else if (id === 'bext' && size >= BEXT_TIME_REFERENCE_OFFSET + 8) {
+      const body = await reader.readExactly(BEXT_TIME_REFERENCE_OFFSET + 8, 'the bext chunk');
+      timeReferenceSamples = u64(body, BEXT_TIME_REFERENCE_OFFSET);
+    } else if (id === 'data') {
+      if (!fmt) throw new EarmarkError('corrupt_file', 'data chunk comes before the fmt chunk');
+      if (is64 && !ds64) throw new EarmarkError('corrupt_file', `${riffId} file has no ds64 chunk before its data`);
+      data = { offset: chunkOffset, bytes: size };
+      if (!reader.seekable) break; // a stream is left positioned at the first sample
+    }
+    const consumed = reader.position - chunkOffset;
+    const skipped = await reader.skip(size - consumed);
+    if (skipped < size - consumed) break;
+    if (size % 2 === 1) {
+      if (!data && (await padMissing(reader))) {
+        warnings.push({ code: 'odd_chunk_padding_missing', message: `chunk '${id}' has odd size ${size} but no pad byte follows it` });
+      } else if ((await reader.skip(1)) < 1) break;
+    }
+  }
+
+  if (!fmt) throw new EarmarkError('corrupt_file', 'no fmt chunk found');
+  if (!data) throw new EarmarkError('corrupt_file', 'no data chunk found');
+  const frames = Math.floor(data.bytes / fmt.blockAlign);
+  if (ds64 && ds64.sampleCount !== 0 && ds64.sampleCount !== frames) {
+    warnings.push({ code: 'frames_mismatch', message: `ds64 sample count ${ds64.sampleCount} differs from ${frames} frames of data` });
+  }
+  const format: AudioFormat = {
+    container,
+    encoding: fmt.encoding,
+    sampleRate: fmt.sampleRate,
+    channels: fmt.channels,
+    bitsPerSample: fmt.bitsPerSample,
+    frames,
+    durationSeconds: frames / fmt.sampleRate,
+    channelLabels: fmt.channelMask === null ? defaultChannelLabels(fmt.channels) : labelsFromChannelMask(fmt.channelMask, fmt.channels),
+    channelMask: fmt.channelMask,
+    timeReferenceSamples,
+  };
+  return { format, layout: fmt.layout, blockAlign: fmt.blockAlign, dataOffset: data.offset, dataBytes: data.bytes, warnings };
+}
