@@ -1,0 +1,85 @@
+import { describe, expect, it } from 'vitest';
+import type { ChannelLabel, PcmBlock } from '../../src/analysis/audio.ts';
+import { LoudnessMeter } from '../../src/analysis/loudness.ts';
+import { programmeBlocks, toneBlocks, type ToneSegment } from '../../src/selftest/signals.ts';
+
+function measure(labels: ChannelLabel[], blocks: Iterable<PcmBlock>, sampleRate = 48000) {
+  const meter = new LoudnessMeter({ sampleRate, channels: labels.length, channelLabels: labels });
+  for (const block of blocks) meter.push(block);
+  return meter.result();
+}
+
+const fullScale997 = (channels: number, loudChannel: number, seconds = 10, sampleRate = 48000) =>
+  toneBlocks({
+    sampleRate, channels,
+    segments: [{ seconds, frequencyHz: 997, peakDbfs: Array.from({ length: channels }, (_, c) => (c === loudChannel ? 0 : null)) } as ToneSegment],
+  });
+
+describe('LoudnessMeter (ITU-R BS.1770-5)', () => {
+  it('reads a 0 dBFS 997 Hz sine in one front channel as -3.01 LKFS (BS.1770-5, text after eq. (7))', () => {
+    expect(measure(['M'], fullScale997(1, 0)).integratedLufs).toBeCloseTo(-3.01, 1);
+    expect(Math.abs(measure(['M'], fullScale997(1, 0)).integratedLufs! + 3.01)).toBeLessThan(0.05);
+    expect(Math.abs(measure(['L', 'R'], fullScale997(2, 0)).integratedLufs! + 3.01)).toBeLessThan(0.05);
+    expect(Math.abs(measure(['L', 'R', 'C', 'LFE', 'Ls', 'Rs'], fullScale997(6, 2)).integratedLufs! + 3.01)).toBeLessThan(0.05);
+  });
+
+  it('holds -3.01 LKFS at 44.1, 88.2, 96 and 192 kHz too (BS.1770-5 Annex 1: same response at every rate)', () => {
+    for (const rate of [44100, 88200, 96000, 192000]) {
+      expect(Math.abs(measure(['M'], fullScale997(1, 0, 4, rate), rate).integratedLufs! + 3.01)).toBeLessThan(0.05);
+    }
+  });
+
+  it('weights a surround channel by 1.41 (+1.49 dB) and excludes LFE (BS.1770-5 Table 3)', () => {
+    const labels: ChannelLabel[] = ['L', 'R', 'C', 'LFE', 'Ls', 'Rs'];
+    const inSurround = measure(labels, fullScale997(6, 4)).integratedLufs!;
+    expect(inSurround - -3.0103).toBeCloseTo(10 * Math.log10(1.41), 2);
+    expect(measure(labels, fullScale997(6, 3)).integratedLufs).toBeNull();
+  });
+
+  it('gives null, never -Infinity, for digital silence and for programme below the absolute gate (BS.1770-5 eq. (6))', () => {
+    const silent = measure(['L', 'R'], toneBlocks({ sampleRate: 48000, channels: 2, segments: [{ seconds: 5, peakDbfs: null }] }));
+    expect(silent.integratedLufs).toBeNull();
+    expect(silent.loudnessRangeLu).toBeNull();
+    expect(silent.maxMomentaryLufs).toBeNull();
+    expect(silent.momentaryLufs.every((v) => v === null)).toBe(true);
+    const quiet = measure(['L', 'R'], toneBlocks({ sampleRate: 48000, channels: 2, segments: [{ seconds: 5, peakDbfs: -75 }] }));
+    expect(quiet.integratedLufs).toBeNull();
+    expect(quiet.maxMomentaryLufs).toBeCloseTo(-75, 0);
+    expect(JSON.stringify(quiet)).not.toContain('Infinity');
+  });
+
+  it('uses only complete 400 ms blocks: a 300 ms file has no integrated or momentary value (BS.1770-5 eq. (3))', () => {
+    const short = measure(['M'], toneBlocks({ sampleRate: 48000, channels: 1, segments: [{ seconds: 0.3, peakDbfs: -20 }] }));
+    expect(short.integratedLufs).toBeNull();
+    expect(short.maxMomentaryLufs).toBeNull();
+    expect(short.gatingBlocks).toBe(0);
+  });
+
+  it('steps gating blocks every 100 ms with 75 % overlap (BS.1770-5 eq. (3)): 10 s gives 97 blocks', () => {
+    const result = measure(['M'], toneBlocks({ sampleRate: 48000, channels: 1, segments: [{ seconds: 10, peakDbfs: -20 }] }));
+    expect(result.gatingBlocks).toBe(97);
+    expect(result.momentaryLufs).toHaveLength(100);
+    expect(result.shortTermLufs).toHaveLength(100);
+    expect(result.shortTermLufs[28]).toBeNull();
+    expect(result.shortTermLufs[29]).not.toBeNull();
+  });
+
+  it('gives the same readings however the stream is cut into blocks', () => {
+    const spec = { sampleRate: 44100, channels: 2, seconds: 8, seed: 3 };
+    const whole = measure(['L', 'R'], programmeBlocks({ ...spec, blockFrames: 1 << 20 }), 44100);
+    for (const blockFrames of [1, 997, 4096]) {
+      const cut = measure(['L', 'R'], programmeBlocks({ ...spec, blockFrames }), 44100);
+      expect(cut.integratedLufs!).toBeCloseTo(whole.integratedLufs!, 9);
+      expect(cut.maxMomentaryLufs!).toBeCloseTo(whole.maxMomentaryLufs!, 9);
+      expect(cut.maxShortTermLufs!).toBeCloseTo(whole.maxShortTermLufs!, 9);
+      expect(cut.loudnessRangeLu!).toBeCloseTo(whole.loudnessRangeLu!, 9);
+    }
+  });
+
+  it('finds the loudest momentary window to the sample, not on the 100 ms grid (EBU Tech 3341 case 13 rationale)', () => {
+    // 400 ms of -23 dBFS stereo starting 50 ms off the grid, a 100 ms grid would read -23.58.
+    const result = measure(['L', 'R'], toneBlocks({ sampleRate: 48000, channels: 2, segments: [{ seconds: 0.05, peakDbfs: null }, { seconds: 0.4, peakDbfs: -23 }, { seconds: 1, peakDbfs: null }] }));
+    expect(result.maxMomentaryLufs!).toBeCloseTo(-23, 1);
+    expect(result.maxMomentaryAtSeconds!).toBeCloseTo(0.45, 3);
+  });
+});

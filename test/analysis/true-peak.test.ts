@@ -1,0 +1,66 @@
+import { describe, expect, it } from 'vitest';
+import { ANNEX2_GAIN_BOUND, ANNEX2_PHASE0, ANNEX2_PHASE1, TruePeakMeter } from '../../src/analysis/true-peak.ts';
+import { programmeBlocks } from '../../src/selftest/signals.ts';
+import { naiveTruePeak } from '../helpers/naive-true-peak.ts';
+
+const info = (channels: number, sampleRate = 48000) => ({ sampleRate, channels, channelLabels: Array.from({ length: channels }, () => 'unknown' as const) });
+
+describe('TruePeakMeter (ITU-R BS.1770-5 Annex 2)', () => {
+  it('uses the Annex 2 example filter: phase sums 1.00159 and 0.97302 (Annex 2, section 3)', () => {
+    const sum = (h: number[]) => h.reduce((s, v) => s + v, 0);
+    expect(sum(ANNEX2_PHASE0)).toBeCloseTo(1.00159, 5);
+    expect(sum(ANNEX2_PHASE1)).toBeCloseTo(0.97302, 5);
+    expect(ANNEX2_GAIN_BOUND).toBeGreaterThan(1.7);
+  });
+
+  it('matches a direct four-phase evaluation exactly on programme, brick-wall loud and quiet material, any block size', () => {
+    for (const levelDbfs of [-30, -12, -3]) {
+      const [block] = [...programmeBlocks({ sampleRate: 48000, channels: 2, seconds: 3, seed: 11, levelDbfs, blockFrames: 1 << 20 })];
+      // Hard-limit the loud variant so most spans sit near the ceiling.
+      const channels = block.channelData.map((x) => x.map((v) => Math.max(-0.9, Math.min(0.9, v))));
+      const expected = channels.map((x) => naiveTruePeak(x).peak);
+      for (const blockFrames of [1, 255, 4096, channels[0].length]) {
+        const meter = new TruePeakMeter(info(2), { overCeilingDbtp: -1 });
+        for (let start = 0; start < channels[0].length; start += blockFrames) {
+          const frames = Math.min(blockFrames, channels[0].length - start);
+          meter.push({ channelData: channels.map((x) => x.subarray(start, start + frames)), frames });
+        }
+        const result = meter.result();
+        result.channelTruePeakDbtp.forEach((db, c) => expect(Math.abs(10 ** (db! / 20) - expected[c])).toBeLessThan(1e-12));
+      }
+    }
+  });
+
+  it('reports every over above the ceiling, merged into spans, and none in pruned spans', () => {
+    const [block] = [...programmeBlocks({ sampleRate: 48000, channels: 1, seconds: 4, seed: 5, levelDbfs: -9, blockFrames: 1 << 20 })];
+    const x = block.channelData[0];
+    const ceilingDbtp = -3;
+    const naive = naiveTruePeak(x).perSample;
+    const overSamples = naive.filter((v) => 20 * Math.log10(v) > ceilingDbtp).length;
+    const meter = new TruePeakMeter(info(1), { overCeilingDbtp: ceilingDbtp, overMergeSeconds: 0, maxEvents: 1e6 });
+    meter.push(block);
+    const result = meter.result();
+    const counted = result.overs.reduce((s, e) => s + (e.count ?? 0), 0);
+    expect(overSamples).toBeGreaterThan(0);
+    expect(counted).toBe(overSamples);
+    expect(result.overs.every((e) => e.kind === 'true_peak_over' && e.peakValue! > ceilingDbtp)).toBe(true);
+  });
+
+  it('never reads below the sample peak, and reads an intersample over above 0 dBTP (BS.1770-5 Annex 2)', () => {
+    // fs/4 sine at 45 deg phase: samples at +-0.707 of amplitude 1.41, true peak about +3 dBTP (EBU Tech 3341 case 19).
+    const frames = 4800;
+    const x = Float32Array.from({ length: frames }, (_, n) => 1.41 * Math.sin((Math.PI / 2) * n + Math.PI / 4));
+    const meter = new TruePeakMeter(info(1));
+    meter.push({ channelData: [x], frames });
+    const { truePeakDbtp } = meter.result();
+    expect(truePeakDbtp!).toBeGreaterThan(20 * Math.log10(Math.max(...x.map(Math.abs))));
+    expect(truePeakDbtp!).toBeGreaterThan(2.8);
+  });
+
+  it('gives null for digital silence', () => {
+    const meter = new TruePeakMeter(info(2));
+    meter.push({ channelData: [new Float32Array(1000), new Float32Array(1000)], frames: 1000 });
+    expect(meter.result().truePeakDbtp).toBeNull();
+    expect(meter.result().channelTruePeakDbtp).toEqual([null, null]);
+  });
+});
