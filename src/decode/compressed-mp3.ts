@@ -45,6 +45,8 @@ export interface Mp3Probe {
   header: MpegFrameHeader;
   /** Frames after encoder delay/padding removal when the Xing/Info/VBRI frame says; else null. */
   frames: number | null;
+  /** Stream bytes the Xing/Info/VBRI frame declares, null without one. */
+  streamBytes: number | null;
 }
 
 /** `head` is the start of the file (a few hundred KiB is plenty after any ID3v2 tag). */
@@ -55,19 +57,21 @@ export function probeMp3(head: Uint8Array, id3Skip = id3v2Length(head)): Mp3Prob
     const h = parseMpegHeader(head, o);
     if (!h) continue;
     const next = o + h.frameBytes;
-    if (next + 4 > head.length || parseMpegHeader(head, next)) return { header: h, frames: tagFrames(head, o, h) };
+    if (next + 4 > head.length || parseMpegHeader(head, next)) return { header: h, ...tagFrames(head, o, h) };
   }
   throw new EarmarkError('corrupt_file', 'no MPEG audio frame found near the start of the file');
 }
 
-function tagFrames(b: Uint8Array, o: number, h: MpegFrameHeader): number | null {
-  if (h.layer !== 3) return null;
+function tagFrames(b: Uint8Array, o: number, h: MpegFrameHeader): { frames: number | null; streamBytes: number | null } {
+  const none = { frames: null, streamBytes: null };
+  if (h.layer !== 3) return none;
   const sideInfo = h.mpeg1 ? (h.channels === 1 ? 17 : 32) : h.channels === 1 ? 9 : 17;
   const x = o + 4 + sideInfo;
   const tag = ascii(b, x, 4);
   if (tag === 'Xing' || tag === 'Info') {
     const flags = u32be(b, x + 4);
-    if (!(flags & 1)) return null;
+    const streamBytes = flags & 2 ? u32be(b, x + 8 + (flags & 1 ? 4 : 0)) : null;
+    if (!(flags & 1)) return { frames: null, streamBytes };
     const count = u32be(b, x + 8);
     const lame = x + 8 + 4 + (flags & 2 ? 4 : 0) + (flags & 4 ? 100 : 0) + (flags & 8 ? 4 : 0);
     let trim = 0;
@@ -76,11 +80,11 @@ function tagFrames(b: Uint8Array, o: number, h: MpegFrameHeader): number | null 
       const v = u24be(b, lame + 21);
       trim = (v >> 12) + (v & 0xfff);
     }
-    return Math.max(0, count * h.samplesPerFrame - trim);
+    return { frames: Math.max(0, count * h.samplesPerFrame - trim), streamBytes };
   }
   const v = o + 4 + 32;
   if (ascii(b, v, 4) === 'VBRI' && v + 18 <= b.length) {
-    return u32be(b, v + 14) * h.samplesPerFrame - u16be(b, v + 6);
+    return { frames: u32be(b, v + 14) * h.samplesPerFrame - u16be(b, v + 6), streamBytes: u32be(b, v + 10) };
   }
-  return null;
+  return none;
 }

@@ -10,6 +10,8 @@ export interface Mp4Probe {
   frames: number | null;
   /** moov before mdat: the decoder can stream; otherwise it must see the whole file. */
   moovFirst: boolean;
+  /** A top-level box runs past the end of the file: the file was cut. */
+  cut: boolean;
 }
 
 /** moov holds only tables; anything bigger than this is not a plausible audio file. */
@@ -39,6 +41,7 @@ export async function probeMp4(path: string, fileBytes: number): Promise<Mp4Prob
   let moov: Uint8Array | null = null;
   let mdatSeen = false;
   let moovFirst = false;
+  let cut = false;
   for (let o = 0; o + 8 <= fileBytes;) {
     const h = await readRange(path, o, 16);
     let size = u32be(h, 0);
@@ -46,20 +49,19 @@ export async function probeMp4(path: string, fileBytes: number): Promise<Mp4Prob
     if (size === 1) size = u64be(h, 8); else if (size === 0) size = fileBytes - o;
     if (size < 8) throw new EarmarkError('corrupt_file', `MP4 box ${JSON.stringify(type)} has an invalid size`);
     if (type === 'mdat') mdatSeen = true;
+    if (o + size > fileBytes) { cut = true; break; }
     if (type === 'moov') {
       if (size > MAX_MOOV_BYTES) throw new EarmarkError('corrupt_file', `MP4 moov box of ${size} bytes is implausibly large`);
-      if (o + size > fileBytes) throw new EarmarkError('corrupt_file', 'MP4 moov box is cut off');
       moov = await readRange(path, o, size);
       moovFirst = !mdatSeen;
-      break;
     }
     o += size;
   }
   if (!moov) throw new EarmarkError('corrupt_file', 'MP4 file has no moov box (truncated or not finished)');
-  return { ...soundTrack(moov), moovFirst };
+  return { ...soundTrack(moov), moovFirst, cut };
 }
 
-function soundTrack(b: Uint8Array): Omit<Mp4Probe, 'moovFirst'> {
+function soundTrack(b: Uint8Array): Omit<Mp4Probe, 'moovFirst' | 'cut'> {
   const [moov] = boxes(b, 0, b.length);
   for (const trak of boxes(b, moov.body, moov.end)) {
     if (trak.type !== 'trak') continue;

@@ -56,13 +56,19 @@ export class OutputCheck {
     if (this.filled) yield this.emit();
     const { frames: declared, framesSlack: slack } = this.probe;
     if (this.framesOut === 0) throw new EarmarkError('corrupt_file', `no audio could be decoded${this.finalErrors.length ? `: ${this.finalErrors[0]}` : ''}`);
+    const errorNote = this.finalErrors.length ? ` (${this.finalErrors[0]})` : '';
     if (declared !== null && this.framesOut < declared - slack) {
-      this.warnings.push({ code: 'truncated_data', atFrame: this.framesOut,
-        message: `decoding stopped at frame ${this.framesOut} of ${declared} declared${this.finalErrors.length ? ` (${this.finalErrors[0]})` : ''}` });
+      // Decoders report errors on damaged frames but not on a clean cut; a container that says it is whole means frames went missing inside.
+      if (this.finalErrors.length || this.probe.endMissing === false) {
+        throw new EarmarkError('corrupt_file', `only ${this.framesOut} of ${declared} declared frames decoded: frames are damaged or missing${errorNote}`, { atFrame: this.framesOut });
+      }
+      this.warnings.push({ code: 'truncated_data', atFrame: this.framesOut, message: `decoding stopped at frame ${this.framesOut} of ${declared} declared: the file is cut short` });
+    } else if (this.probe.endMissing) {
+      this.warnings.push({ code: 'truncated_data', atFrame: this.framesOut, message: `the container shows the file was cut after frame ${this.framesOut}` });
     } else if (declared !== null && this.framesOut > declared + slack) {
       this.warnings.push({ code: 'frames_mismatch', atFrame: declared, message: `decoded ${this.framesOut} frames, container declares ${declared}` });
     } else if (this.finalErrors.length) {
-      this.warnings.push({ code: 'trailing_garbage', atFrame: this.framesOut, message: `decoder rejected bytes at the end: ${this.finalErrors[0]}` });
+      this.warnings.push({ code: 'trailing_garbage', atFrame: this.framesOut, message: `decoder rejected bytes at the end${errorNote}` });
     }
   }
 

@@ -21,6 +21,8 @@ export interface Probe {
   framesSlack: number;
   /** Decoder needs the file in one piece (MP4 with moov after mdat). */
   wholeFile: boolean;
+  /** true: the container shows the file was cut; false: it shows the file is whole; null: it cannot tell. */
+  endMissing: boolean | null;
 }
 
 const HEAD_BYTES = 1024 * 1024;
@@ -29,22 +31,27 @@ export async function probe(path: string, container: Container, fileBytes: numbe
   if (container === 'm4a') {
     const m = await probeMp4(path, fileBytes);
     const slack = m.encoding === 'flac' || m.encoding === 'alac' ? 0 : 4096;
-    return { codec: 'mp4', ...m, bitsPerSample: null, framesSlack: slack, wholeFile: !m.moovFirst };
+    return { codec: 'mp4', ...m, bitsPerSample: null, framesSlack: slack, wholeFile: !m.moovFirst, endMissing: m.cut };
   }
   const head = await readRange(path, 0, HEAD_BYTES);
   switch (container) {
-    case 'flac': return probeFlac(head);
+    case 'flac': {
+      const f = probeFlac(head);
+      const tail = await readRange(path, Math.max(0, fileBytes - 65536), 65536);
+      return { ...f, endMissing: flacEndMissing(tail, f.frames, f.maxBlockFrames) };
+    }
     case 'mp3': {
       // A large ID3v2 tag (cover art) can push the first frame beyond the head we read.
       const skip = id3v2Length(head);
       const m = probeMp3(skip + 65536 > head.length ? await readRange(path, skip, HEAD_BYTES) : head.subarray(skip), 0);
       const h = m.header;
       return { codec: 'mp3', encoding: h.layer === 3 ? 'mp3' : `mp${h.layer}`, sampleRate: h.sampleRate, channels: h.channels,
-        bitsPerSample: null, frames: m.frames, framesSlack: 2 * h.samplesPerFrame, wholeFile: false };
+        bitsPerSample: null, frames: m.frames, framesSlack: 2 * h.samplesPerFrame, wholeFile: false,
+        endMissing: m.streamBytes === null ? null : fileBytes - skip < m.streamBytes - h.frameBytes };
     }
     case 'aac': return probeAdts(head);
     case 'ogg': return probeOgg(path, head, fileBytes);
-    case 'webm': return { codec: 'webm', ...probeWebm(head), bitsPerSample: null, framesSlack: 4096, wholeFile: false };
+    case 'webm': return { codec: 'webm', ...probeWebm(head), bitsPerSample: null, framesSlack: 4096, wholeFile: false, endMissing: null };
     case 'caf': return probeCaf(head, fileBytes);
     default: throw new EarmarkError('unsupported_format', `the compressed decoder does not read ${container} files`);
   }
@@ -60,13 +67,13 @@ function streamInfo(b: Uint8Array, o: number): { sampleRate: number; channels: n
   return { sampleRate, channels, bits, total };
 }
 
-function probeFlac(head: Uint8Array): Probe {
+function probeFlac(head: Uint8Array): Probe & { maxBlockFrames: number } {
   const o = id3v2Length(head);
   if (ascii(head, o, 4) !== 'fLaC') throw new EarmarkError('corrupt_file', 'FLAC signature not found');
   if ((head[o + 4] & 0x7f) !== 0 || (u32be(head, o + 4) & 0xffffff) !== 34) throw new EarmarkError('corrupt_file', 'FLAC stream does not start with STREAMINFO');
   const s = streamInfo(head, o + 8);
   return { codec: 'flac', encoding: 'flac', sampleRate: s.sampleRate, channels: s.channels, bitsPerSample: s.bits,
-    frames: s.total || null, framesSlack: 0, wholeFile: false };
+    frames: s.total || null, framesSlack: 0, wholeFile: false, endMissing: null, maxBlockFrames: u16be(head, o + 10) };
 }
 
 const ADTS_RATES = [96000, 88200, 64000, 48000, 44100, 32000, 24000, 22050, 16000, 12000, 11025, 8000, 7350];
@@ -78,14 +85,14 @@ function probeAdts(head: Uint8Array): Probe {
   const channels = ((head[o + 2] & 1) << 2) | (head[o + 3] >> 6);
   if (!sampleRate) throw new EarmarkError('corrupt_file', 'ADTS header has an invalid sample rate');
   if (!channels) throw new EarmarkError('unsupported_encoding', 'ADTS with in-band channel configuration (0) is not supported');
-  return { codec: 'aac', encoding: 'aac', sampleRate, channels, bitsPerSample: null, frames: null, framesSlack: 4096, wholeFile: false };
+  return { codec: 'aac', encoding: 'aac', sampleRate, channels, bitsPerSample: null, frames: null, framesSlack: 4096, wholeFile: false, endMissing: null };
 }
 
 async function probeOgg(path: string, head: Uint8Array, fileBytes: number): Promise<Probe> {
   if (ascii(head, 0, 4) !== 'OggS' || head.length < 28) throw new EarmarkError('corrupt_file', 'Ogg page header not found');
   const serial = u32le(head, 14);
   const p = 27 + head[26];
-  let info: Omit<Probe, 'frames'> & { preSkip: number; total: number | null };
+  let info: Omit<Probe, 'frames' | 'endMissing'> & { preSkip: number; total: number | null };
   if (ascii(head, p, 7) === '\x01vorbis') {
     info = { codec: 'vorbis', encoding: 'vorbis', channels: head[p + 11], sampleRate: u32le(head, p + 12), bitsPerSample: null,
       framesSlack: 2048, wholeFile: false, preSkip: 0, total: null };
@@ -100,18 +107,22 @@ async function probeOgg(path: string, head: Uint8Array, fileBytes: number): Prom
   } else throw new EarmarkError('unsupported_encoding', 'Ogg stream is not Vorbis, Opus or FLAC');
   if (!info.channels || !info.sampleRate) throw new EarmarkError('corrupt_file', 'Ogg identification header declares no channels or rate');
   const { preSkip, total, ...rest } = info;
-  const granule = total ?? (await lastGranule(path, fileBytes, serial));
-  return { ...rest, frames: granule === null ? null : Math.max(0, granule - preSkip) };
+  const last = await lastPage(path, fileBytes, serial);
+  // Without the end-of-stream page the last granule is where the cut happened, not the length.
+  const granule = total ?? (last?.eos ? last.granule : null);
+  return { ...rest, frames: granule === null ? null : Math.max(0, granule - preSkip), endMissing: !last?.eos };
 }
 
 /** Granule position of the last page of the stream: the stream's end in output frames (Vorbis/FLAC) or 48 kHz samples + pre-skip (Opus). */
-async function lastGranule(path: string, fileBytes: number, serial: number): Promise<number | null> {
+async function lastPage(path: string, fileBytes: number, serial: number): Promise<{ granule: number; eos: boolean } | null> {
   const span = Math.min(fileBytes, 128 * 1024);
   const tail = await readRange(path, fileBytes - span, span);
   for (let o = tail.length - 27; o >= 0; o--) {
     if (tail[o] !== 0x4f || ascii(tail, o, 4) !== 'OggS' || u32le(tail, o + 14) !== serial) continue;
     if (u32le(tail, o + 6) === 0xffffffff && u32le(tail, o + 10) === 0xffffffff) continue; // no packet ends on this page
-    return u64le(tail, o + 6);
+    const bodyBytes = tail.subarray(o + 27, o + 27 + tail[o + 26]).reduce((sum, lace) => sum + lace, 0);
+    const complete = o + 27 + tail[o + 26] + bodyBytes <= tail.length;
+    return { granule: u64le(tail, o + 6), eos: complete && (tail[o + 5] & 4) !== 0 };
   }
   return null;
 }
@@ -121,6 +132,7 @@ function probeCaf(head: Uint8Array, fileBytes: number): Probe {
   let desc: { rate: number; format: string; flags: number; bytesPerPacket: number; framesPerPacket: number; channels: number; bits: number } | null = null;
   let dataBytes: number | null = null;
   let validFrames: number | null = null;
+  let dataEnd = 0;
   for (let o = 8; o + 12 <= head.length;) {
     const type = ascii(head, o, 4);
     const size = u64be(head, o + 4);
@@ -130,7 +142,12 @@ function probeCaf(head: Uint8Array, fileBytes: number): Probe {
         flags: u32be(head, body + 12), bytesPerPacket: u32be(head, body + 16), framesPerPacket: u32be(head, body + 20),
         channels: u32be(head, body + 24), bits: u32be(head, body + 28) };
     } else if (type === 'pakt' && body + 16 <= head.length) validFrames = u64be(head, body + 8);
-    if (type === 'data') { dataBytes = size === 2 ** 64 - 1 || size > 2 ** 53 ? fileBytes - body - 4 : size - 4; break; }
+    if (type === 'data') {
+      const open = size === 2 ** 64 - 1 || size > 2 ** 53;
+      dataBytes = open ? fileBytes - body - 4 : size - 4;
+      dataEnd = open ? fileBytes : body + size;
+      break;
+    }
     o = body + size;
   }
   if (!desc || !desc.channels || !(desc.rate > 0)) throw new EarmarkError('corrupt_file', 'CAF desc chunk is missing or invalid');
@@ -140,5 +157,41 @@ function probeCaf(head: Uint8Array, fileBytes: number): Probe {
   if (!encoding) throw new EarmarkError('unsupported_encoding', `CAF audio format ${JSON.stringify(desc.format)} is not supported`);
   const fromData = dataBytes !== null && desc.bytesPerPacket ? Math.floor(dataBytes / desc.bytesPerPacket) * desc.framesPerPacket : null;
   return { codec: 'caf', encoding, sampleRate: desc.rate, channels: desc.channels, bitsPerSample: desc.format === 'lpcm' ? desc.bits : null,
-    frames: validFrames ?? fromData, framesSlack: desc.format === 'ima4' ? 64 : 0, wholeFile: false };
+    frames: validFrames ?? fromData, framesSlack: desc.format === 'ima4' ? 64 : 0, wholeFile: false,
+    endMissing: dataBytes === null ? null : dataEnd > fileBytes };
+}
+
+/** CRC-8, polynomial 0x07, over a FLAC frame header (RFC 9639). */
+function crc8(b: Uint8Array, from: number, to: number): number {
+  let c = 0;
+  for (let i = from; i < to; i++) { c ^= b[i]; for (let k = 0; k < 8; k++) c = c & 0x80 ? ((c << 1) ^ 0x07) & 0xff : (c << 1) & 0xff; }
+  return c;
+}
+
+/**
+ * Whether the file's last frame header sits at the end of the declared samples: a cut file's
+ * last header is far earlier. null when no header is found or the total is unknown.
+ */
+function flacEndMissing(tail: Uint8Array, total: number | null, maxBlock: number): boolean | null {
+  if (!total) return null;
+  for (let o = tail.length - 6; o >= 0; o--) {
+    if (tail[o] !== 0xff || (tail[o + 1] & 0xfe) !== 0xf8) continue;
+    const variable = tail[o + 1] & 1;
+    const sizeCode = tail[o + 2] >> 4;
+    const rateCode = tail[o + 2] & 15;
+    if (sizeCode === 0 || rateCode === 15) continue;
+    // UTF-8-style coded frame or sample number.
+    let p = o + 4;
+    const lead = tail[p];
+    let extra = lead < 0x80 ? 0 : lead >= 0xfe ? 6 : lead >= 0xfc ? 5 : lead >= 0xf8 ? 4 : lead >= 0xf0 ? 3 : lead >= 0xe0 ? 2 : lead >= 0xc0 ? 1 : -1;
+    if (extra < 0) continue;
+    let n = extra ? lead & (0x3f >> extra) : lead;
+    for (p++; extra > 0; extra--, p++) n = n * 64 + (tail[p] & 0x3f);
+    p += sizeCode === 6 ? 1 : sizeCode === 7 ? 2 : 0;
+    p += rateCode === 12 ? 1 : rateCode === 13 || rateCode === 14 ? 2 : 0;
+    if (p >= tail.length || crc8(tail, o, p) !== tail[p]) continue;
+    const firstSample = variable ? n : n * maxBlock;
+    return firstSample + maxBlock < total - maxBlock;
+  }
+  return null;
 }
