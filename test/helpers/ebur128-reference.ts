@@ -14,8 +14,11 @@ export interface Ebur128Reference {
   truePeakStereo(sampleRate: number, left: Float32Array, right: Float32Array): number;
 }
 
+// Minimal WebAssembly typing: the ES lib set used here does not declare it.
+declare const WebAssembly: { instantiate(bytes: Uint8Array, imports: object): Promise<{ instance: { exports: object } }> };
+
 interface GlueModule {
-  __setWasm(exports: WebAssembly.Exports): void;
+  __setWasm(exports: object): void;
   ebur128_integrated_mono(sampleRate: number, samples: Float32Array): number;
   ebur128_integrated_stereo(sampleRate: number, left: Float32Array, right: Float32Array): number;
   ebur128_true_peak_mono(sampleRate: number, samples: Float32Array): number;
@@ -34,7 +37,7 @@ export async function loadEbur128Reference(): Promise<Ebur128Reference> {
   await writeFile(gluePath, patched);
   const glue = (await import(pathToFileURL(gluePath).href)) as GlueModule;
   const bytes = await readFile(join(packageDir, 'ebur128_wasm_bg.wasm'));
-  const { instance } = await WebAssembly.instantiate(bytes, { './ebur128_wasm_bg.js': glue as unknown as WebAssembly.ModuleImports });
+  const { instance } = await WebAssembly.instantiate(bytes, { './ebur128_wasm_bg.js': glue });
   glue.__setWasm(instance.exports);
   return {
     integratedMono: (rate, samples) => glue.ebur128_integrated_mono(rate, samples),

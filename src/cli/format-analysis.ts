@@ -1,0 +1,46 @@
+// Plain-text summary of an analysis document for people at a terminal.
+import type { AnalysisDocument } from '../engine/document.ts';
+
+const fixed = (value: number | null, unit: string, digits = 1) => (value === null ? `-inf ${unit}`.replace('-inf LU', 'n/a') : `${value.toFixed(digits)} ${unit}`);
+const orNone = (value: number | null, unit: string) => (value === null ? 'none (below gate)' : `${value.toFixed(1)} ${unit}`);
+
+export function formatTime(seconds: number): string {
+  const h = Math.floor(seconds / 3600);
+  const m = Math.floor((seconds % 3600) / 60);
+  const s = seconds % 60;
+  return `${String(h).padStart(2, '0')}:${String(m).padStart(2, '0')}:${s.toFixed(3).padStart(6, '0')}`;
+}
+
+export function formatAnalysis(doc: AnalysisDocument): string {
+  const f = doc.format;
+  const s = doc.summary;
+  const lines = [
+    `${doc.file?.name ?? 'stream'}: ${f.container} ${f.encoding}, ${f.sampleRate} Hz, ${f.channels} ch (${f.channelLabels.join(' ')})` +
+      `${f.bitsPerSample ? `, ${f.bitsPerSample}-bit` : ''}, ${formatTime(f.durationSeconds ?? 0)}`,
+    '',
+    `  Integrated loudness   ${orNone(s.integratedLufs, 'LUFS')}`,
+    `  Loudness range        ${orNone(s.loudnessRangeLu, 'LU')}`,
+    `  Max momentary         ${orNone(s.maxMomentaryLufs, 'LUFS')}`,
+    `  Max short-term        ${orNone(s.maxShortTermLufs, 'LUFS')}`,
+    `  True peak             ${fixed(s.truePeakDbtp, 'dBTP')}`,
+    `  Sample peak           ${fixed(s.samplePeakDbfs, 'dBFS')}`,
+    `  RMS (all channels)    ${fixed(s.rmsDbfs, 'dBFS')}`,
+    `  Head / tail silence   ${s.headSilenceSeconds.toFixed(2)} s / ${s.tailSilenceSeconds.toFixed(2)} s`,
+    '',
+    '  ch  label  peak dBFS  TP dBTP   RMS dBFS  crest dB  DC          clip runs',
+    ...doc.channels.map((c) =>
+      `  ${String(c.index).padEnd(3)} ${c.label.padEnd(6)} ${num(c.samplePeakDbfs)} ${num(c.truePeakDbtp)} ${num(c.rmsDbfs)} ${num(c.crestFactorDb)} ${c.dcOffset.toExponential(2).padStart(10)}  ${c.clippingRuns}${c.dead ? '  (dead)' : ''}`),
+  ];
+  const counts = Object.entries(doc.eventCounts);
+  lines.push('', counts.length === 0 ? '  No events.' : `  Events: ${counts.map(([k, n]) => `${k} ${n}`).join(', ')}${doc.eventsTruncated ? ' (list truncated)' : ''}`);
+  for (const e of doc.events.slice(0, 20)) {
+    lines.push(`    ${formatTime(e.startSeconds)} - ${formatTime(e.endSeconds)}  ${e.kind}  ${e.channel === null ? 'all' : `ch ${e.channel}`}${e.otherChannel !== undefined ? ` / ch ${e.otherChannel}` : ''}${e.peakValue !== undefined ? `  ${e.peakValue.toFixed(2)}` : ''}`);
+  }
+  if (doc.events.length > 20) lines.push(`    ... ${doc.events.length - 20} more (use --json)`);
+  for (const w of doc.warnings) lines.push(`  warning ${w.code}: ${w.message}`);
+  return `${lines.join('\n')}\n`;
+}
+
+function num(value: number | null): string {
+  return (value === null ? '-inf' : value.toFixed(2)).padStart(9);
+}

@@ -1,0 +1,104 @@
+// `earmark` command line. Exit codes: 0 success (check: pass), 1 check warn, 2 check fail,
+// 3 error (bad input, bad profile, bad arguments). Errors print "error <code>: <message>" on stderr.
+
+import { parseArgs } from 'node:util';
+import type { AnalysisOptions } from '../analysis/runner.ts';
+import { analyzeFile } from '../engine/analyze-file.ts';
+import { EarmarkError, toEarmarkError } from '../errors/index.ts';
+import { formatAnalysis } from './format-analysis.ts';
+import { runSelftest } from './selftest.ts';
+
+export const EXIT_ERROR = 3;
+
+const USAGE = `usage:
+  earmark analyze <file> [--json] [--true-peak-ceiling dBTP] [--clip-run N] [--clip-threshold dBFS]
+                         [--silence-threshold dBFS] [--silence-min seconds]
+  earmark selftest [--json]
+exit codes: 0 ok, 3 error`;
+
+type Write = (text: string) => void;
+
+export interface CliIo {
+  stdout: Write;
+  stderr: Write;
+}
+
+const defaultIo: CliIo = {
+  stdout: (text) => process.stdout.write(text),
+  stderr: (text) => process.stderr.write(text),
+};
+
+function numberOption(values: Record<string, unknown>, name: string): number | undefined {
+  const raw = values[name];
+  if (raw === undefined) return undefined;
+  const value = Number(raw);
+  if (typeof raw !== 'string' || raw.trim() === '' || !Number.isFinite(value)) {
+    throw new EarmarkError('invalid_argument', `--${name} needs a number, got "${String(raw)}"`, { field: name });
+  }
+  return value;
+}
+
+export function analysisOptionsFromArgs(values: Record<string, unknown>): AnalysisOptions {
+  const options: AnalysisOptions = {};
+  const ceiling = numberOption(values, 'true-peak-ceiling');
+  if (ceiling !== undefined) options.truePeak = { overCeilingDbtp: ceiling };
+  const clipRun = numberOption(values, 'clip-run');
+  const clipThreshold = numberOption(values, 'clip-threshold');
+  if (clipRun !== undefined && (!Number.isInteger(clipRun) || clipRun < 1)) {
+    throw new EarmarkError('invalid_argument', '--clip-run must be a whole number of samples >= 1', { field: 'clip-run' });
+  }
+  if (clipRun !== undefined || clipThreshold !== undefined) {
+    options.clipping = { ...(clipRun !== undefined ? { minRunSamples: clipRun } : {}), ...(clipThreshold !== undefined ? { thresholdDbfs: clipThreshold } : {}) };
+  }
+  const silenceThreshold = numberOption(values, 'silence-threshold');
+  const silenceMin = numberOption(values, 'silence-min');
+  if (silenceMin !== undefined && silenceMin <= 0) {
+    throw new EarmarkError('invalid_argument', '--silence-min must be above 0 seconds', { field: 'silence-min' });
+  }
+  if (silenceThreshold !== undefined || silenceMin !== undefined) {
+    options.silence = { ...(silenceThreshold !== undefined ? { thresholdDbfs: silenceThreshold } : {}), ...(silenceMin !== undefined ? { minDurationSeconds: silenceMin } : {}) };
+  }
+  return options;
+}
+
+const ANALYSIS_FLAGS = {
+  json: { type: 'boolean' },
+  'true-peak-ceiling': { type: 'string' },
+  'clip-run': { type: 'string' },
+  'clip-threshold': { type: 'string' },
+  'silence-threshold': { type: 'string' },
+  'silence-min': { type: 'string' },
+} as const;
+
+async function analyzeCommand(args: string[], io: CliIo): Promise<number> {
+  const { values, positionals } = parseArgs({ args, options: ANALYSIS_FLAGS, allowPositionals: true, strict: true });
+  if (positionals.length !== 1) throw new EarmarkError('invalid_argument', 'analyze needs exactly one file');
+  const document = await analyzeFile(positionals[0], { analysis: analysisOptionsFromArgs(values) });
+  io.stdout(values.json ? `${JSON.stringify(document)}\n` : formatAnalysis(document));
+  return 0;
+}
+
+export async function main(argv: string[], io: CliIo = defaultIo): Promise<number> {
+  const [command, ...rest] = argv;
+  try {
+    switch (command) {
+      case 'analyze': return await analyzeCommand(rest, io);
+      case 'selftest': return runSelftest(rest, io);
+      case undefined: case 'help': case '--help': case '-h':
+        io.stdout(`${USAGE}\n`);
+        return command === undefined ? EXIT_ERROR : 0;
+      default:
+        throw new EarmarkError('invalid_argument', `unknown command "${command}"\n${USAGE}`);
+    }
+  } catch (thrown) {
+    const error = isArgsError(thrown) ? new EarmarkError('invalid_argument', thrown.message) : toEarmarkError(thrown);
+    io.stderr(`error ${error.code}: ${error.message}\n`);
+    return EXIT_ERROR;
+  }
+}
+
+/** node:util parseArgs throws TypeErrors with ERR_PARSE_ARGS_* codes for unknown or malformed flags. */
+function isArgsError(value: unknown): value is Error {
+  const code = (value as { code?: unknown } | null)?.code;
+  return value instanceof Error && typeof code === 'string' && code.startsWith('ERR_PARSE_ARGS');
+}

@@ -1,0 +1,58 @@
+// One file, one pass: decode blocks and feed them to every meter, hashing the bytes alongside.
+
+import { createHash } from 'node:crypto';
+import { createReadStream } from 'node:fs';
+import { stat } from 'node:fs/promises';
+import { basename } from 'node:path';
+import { AnalysisRunner, type AnalysisOptions } from '../analysis/runner.ts';
+import { openAudioFile } from '../decode/index.ts';
+import type { DecodeOptions } from '../decode/types.ts';
+import { EarmarkError } from '../errors/index.ts';
+import { buildAnalysisDocument, type AnalysisDocument } from './document.ts';
+
+export interface AnalyzeFileOptions {
+  analysis?: AnalysisOptions;
+  decode?: DecodeOptions;
+  /** Name to report instead of the path's base name (the service stores uploads under generated names). */
+  displayName?: string;
+  /** Compute the file's SHA-256 (a second, cheap read of the bytes). Default true. */
+  hash?: boolean;
+  /** Called with 0..1 as decoding proceeds, at most every ~5 % when the length is known. */
+  onProgress?: (fraction: number) => void;
+  signal?: AbortSignal;
+}
+
+async function sha256File(path: string): Promise<string> {
+  const hash = createHash('sha256');
+  for await (const chunk of createReadStream(path, { highWaterMark: 1 << 20 })) hash.update(chunk as Buffer);
+  return hash.digest('hex');
+}
+
+export async function analyzeFile(path: string, options: AnalyzeFileOptions = {}): Promise<AnalysisDocument> {
+  const started = performance.now();
+  const hashing = options.hash === false ? Promise.resolve(undefined) : sha256File(path).catch(() => undefined);
+  const decoded = await openAudioFile(path, options.decode);
+  const { format } = decoded;
+  const runner = new AnalysisRunner(
+    { sampleRate: format.sampleRate, channels: format.channels, channelLabels: format.channelLabels },
+    options.analysis,
+  );
+  const expectedFrames = format.frames ?? 0;
+  let nextProgress = 0.05;
+  for await (const block of decoded.blocks) {
+    if (options.signal?.aborted) throw new EarmarkError('internal_error', 'analysis was cancelled');
+    runner.push(block);
+    if (options.onProgress && expectedFrames > 0 && decoded.framesDecoded / expectedFrames >= nextProgress) {
+      options.onProgress(Math.min(1, decoded.framesDecoded / expectedFrames));
+      nextProgress += 0.05;
+    }
+  }
+  if (decoded.framesDecoded === 0) {
+    throw new EarmarkError('corrupt_file', 'the file holds no audio frames', { container: format.container });
+  }
+  const measurements = runner.result();
+  const { size } = await stat(path);
+  const sha256 = await hashing;
+  const file = { name: options.displayName ?? basename(path), sizeBytes: size, ...(sha256 ? { sha256 } : {}) };
+  return buildAnalysisDocument(format, measurements, decoded.warnings, file, (performance.now() - started) / 1000);
+}

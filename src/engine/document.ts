@@ -1,0 +1,177 @@
+// The analysis JSON: one document shape for the CLI, the service and the report. Field names
+// carry their unit. A level of digital silence is null (JSON has no -Infinity).
+
+import type { AnalysisEvent, EventKind } from '../analysis/events.ts';
+import type { Measurements } from '../analysis/runner.ts';
+import type { AudioFormat, DecodeWarning } from '../decode/types.ts';
+
+export const ENGINE_NAME = 'earmark';
+export const ENGINE_VERSION = '0.1.0';
+export const DOCUMENT_SCHEMA_VERSION = 1;
+/** Events kept in one document; counts per kind continue past it. */
+export const MAX_DOCUMENT_EVENTS = 5000;
+
+export interface FileInfo {
+  name: string;
+  sizeBytes: number;
+  sha256?: string;
+}
+
+export interface ChannelSummary {
+  index: number;
+  label: string;
+  samplePeakDbfs: number | null;
+  truePeakDbtp: number | null;
+  rmsDbfs: number | null;
+  /** AES17 reading: RMS referenced to a full-scale sine (full-scale sine = 0 dB). */
+  rmsAes17Db: number | null;
+  /** Mean sample value, linear (full scale = 1). */
+  dcOffset: number;
+  dcOffsetDbfs: number | null;
+  crestFactorDb: number | null;
+  maxFastDbfs: number | null;
+  maxSlowDbfs: number | null;
+  maxVuDbfs: number | null;
+  clippingRuns: number;
+  clippedSamples: number;
+  silentSeconds: number;
+  dead: boolean;
+}
+
+export interface AnalysisDocument {
+  schemaVersion: number;
+  engine: { name: string; version: string };
+  file: FileInfo | null;
+  format: AudioFormat & { framesDecoded: number; timeReferenceSeconds: number | null };
+  summary: {
+    integratedLufs: number | null;
+    loudnessRangeLu: number | null;
+    maxMomentaryLufs: number | null;
+    maxMomentaryAtSeconds: number | null;
+    maxShortTermLufs: number | null;
+    maxShortTermAtSeconds: number | null;
+    truePeakDbtp: number | null;
+    truePeakAtSeconds: number | null;
+    samplePeakDbfs: number | null;
+    rmsDbfs: number | null;
+    rmsAes17Db: number | null;
+    headSilenceSeconds: number;
+    tailSilenceSeconds: number;
+    longestInternalGapSeconds: number;
+    allSilent: boolean;
+    clippingRuns: number;
+    clippedSamples: number;
+    truePeakOvers: number;
+    deadChannels: number[];
+  };
+  channels: ChannelSummary[];
+  channelPairs: Measurements['channelRelations']['pairs'];
+  events: AnalysisEvent[];
+  eventCounts: Partial<Record<EventKind, number>>;
+  eventsTruncated: boolean;
+  series: {
+    momentary: { pointsPerSecond: 10; firstAtSeconds: number; lufs: (number | null)[] };
+    shortTerm: { pointsPerSecond: 1; firstAtSeconds: number; lufs: (number | null)[] };
+  };
+  settings: {
+    overCeilingDbtp: number;
+    clipping: { thresholdDbfs: number; minRunSamples: number };
+    silence: { thresholdDbfs: number; minDurationSeconds: number };
+  };
+  warnings: DecodeWarning[];
+  analysisSeconds: number;
+}
+
+const round2 = (v: number | null) => (v === null ? null : Math.round(v * 100) / 100);
+
+export function buildAnalysisDocument(
+  format: AudioFormat,
+  m: Measurements,
+  warnings: DecodeWarning[],
+  file: FileInfo | null,
+  analysisSeconds: number,
+): AnalysisDocument {
+  const rate = format.sampleRate;
+  const allEvents = [...m.truePeak.overs, ...m.clipping.events, ...m.silence.events, ...m.channelRelations.events]
+    .sort((a, b) => a.startFrame - b.startFrame || (a.channel ?? -1) - (b.channel ?? -1));
+  const eventCounts: Partial<Record<EventKind, number>> = {};
+  const countKind = (kind: EventKind, n: number) => { if (n > 0) eventCounts[kind] = (eventCounts[kind] ?? 0) + n; };
+  countKind('true_peak_over', m.truePeak.oversTotal);
+  countKind('clipping', m.clipping.eventsTotal);
+  countKind('silence', m.silence.eventsTotal);
+  for (const e of m.channelRelations.events) countKind(e.kind, 1);
+  const relationsOverflow = m.channelRelations.eventsTotal - m.channelRelations.events.length;
+  const truncated = allEvents.length > MAX_DOCUMENT_EVENTS || m.truePeak.oversTotal > m.truePeak.overs.length
+    || m.clipping.eventsTruncated || m.silence.eventsTruncated || relationsOverflow > 0;
+  const dead = new Set(m.channelRelations.deadChannels);
+  const stSeries = m.loudness.shortTermLufs.filter((_, i) => i % 10 === 9);
+  return {
+    schemaVersion: DOCUMENT_SCHEMA_VERSION,
+    engine: { name: ENGINE_NAME, version: ENGINE_VERSION },
+    file,
+    format: {
+      ...format,
+      framesDecoded: m.frames,
+      durationSeconds: m.frames / rate,
+      timeReferenceSeconds: format.timeReferenceSamples === null ? null : format.timeReferenceSamples / rate,
+    },
+    summary: {
+      integratedLufs: m.loudness.integratedLufs,
+      loudnessRangeLu: m.loudness.loudnessRangeLu,
+      maxMomentaryLufs: m.loudness.maxMomentaryLufs,
+      maxMomentaryAtSeconds: m.loudness.maxMomentaryAtSeconds,
+      maxShortTermLufs: m.loudness.maxShortTermLufs,
+      maxShortTermAtSeconds: m.loudness.maxShortTermAtSeconds,
+      truePeakDbtp: m.truePeak.truePeakDbtp,
+      truePeakAtSeconds: m.truePeak.truePeakAtSeconds,
+      samplePeakDbfs: m.levels.all.samplePeakDbfs,
+      rmsDbfs: m.levels.all.rmsDbfs,
+      rmsAes17Db: m.levels.all.rmsAes17Db,
+      headSilenceSeconds: m.silence.headSilenceSeconds,
+      tailSilenceSeconds: m.silence.tailSilenceSeconds,
+      longestInternalGapSeconds: m.silence.longestInternalGapSeconds,
+      allSilent: m.silence.allSilent,
+      clippingRuns: m.clipping.totalRuns,
+      clippedSamples: m.clipping.totalClippedSamples,
+      truePeakOvers: m.truePeak.oversTotal,
+      deadChannels: m.channelRelations.deadChannels,
+    },
+    channels: m.levels.channels.map((level, c) => {
+      const timeWeighted = m.timeWeighted.channels[c];
+      const clipping = m.clipping.channels[c];
+      return {
+        index: c,
+        label: format.channelLabels[c] ?? 'unknown',
+        samplePeakDbfs: level.samplePeakDbfs,
+        truePeakDbtp: m.truePeak.channelTruePeakDbtp[c],
+        rmsDbfs: level.rmsDbfs,
+        rmsAes17Db: level.rmsAes17Db,
+        dcOffset: level.dcOffsetLinear,
+        dcOffsetDbfs: level.dcOffsetDbfs,
+        crestFactorDb: level.crestFactorDb,
+        maxFastDbfs: timeWeighted.maxFastDbfs,
+        maxSlowDbfs: timeWeighted.maxSlowDbfs,
+        maxVuDbfs: timeWeighted.maxVuDbfs,
+        clippingRuns: clipping.runs,
+        clippedSamples: clipping.clippedSamples,
+        silentSeconds: m.silence.channels[c]?.silentSeconds ?? 0,
+        dead: dead.has(c),
+      };
+    }),
+    channelPairs: m.channelRelations.pairs,
+    events: allEvents.slice(0, MAX_DOCUMENT_EVENTS),
+    eventCounts,
+    eventsTruncated: truncated,
+    series: {
+      momentary: { pointsPerSecond: 10, firstAtSeconds: 0.1, lufs: m.loudness.momentaryLufs.map(round2) },
+      shortTerm: { pointsPerSecond: 1, firstAtSeconds: 1, lufs: stSeries.map(round2) },
+    },
+    settings: {
+      overCeilingDbtp: m.truePeak.overCeilingDbtp,
+      clipping: { thresholdDbfs: 20 * Math.log10(m.clipping.thresholdLinear), minRunSamples: m.clipping.minRunSamples },
+      silence: { thresholdDbfs: m.silence.thresholdDbfs, minDurationSeconds: m.silence.minDurationSeconds },
+    },
+    warnings,
+    analysisSeconds,
+  };
+}
