@@ -51,13 +51,17 @@ export interface Mp3Probe {
 
 /** `head` is the start of the file (a few hundred KiB is plenty after any ID3v2 tag). */
 export function probeMp3(head: Uint8Array, id3Skip = id3v2Length(head)): Mp3Probe {
-  let o = id3Skip;
-  // A frame is real when the next one follows where its length says: guards against sync bytes in tag data.
-  for (; o + 4 <= head.length; o++) {
+  // A frame is real when two more follow where the lengths say: guards against sync bytes in tag data or noise.
+  const limit = Math.min(head.length, id3Skip + 65536);
+  for (let o = id3Skip; o + 4 <= limit; o++) {
     const h = parseMpegHeader(head, o);
     if (!h) continue;
-    const next = o + h.frameBytes;
-    if (next + 4 > head.length || parseMpegHeader(head, next)) return { header: h, ...tagFrames(head, o, h) };
+    const second = o + h.frameBytes;
+    const h2 = second + 4 > head.length ? null : parseMpegHeader(head, second);
+    if (second + 4 > head.length) return { header: h, ...tagFrames(head, o, h) };
+    if (!h2) continue;
+    const third = second + h2.frameBytes;
+    if (third + 4 > head.length || parseMpegHeader(head, third)) return { header: h, ...tagFrames(head, o, h) };
   }
   throw new EarmarkError('corrupt_file', 'no MPEG audio frame found near the start of the file');
 }

@@ -103,8 +103,6 @@ function sampleEntryEncoding(b: Uint8Array, entry: Box): string {
     case 'alac': return 'alac';
     case 'fLaC': return 'flac';
     case 'Opus': return 'opus';
-    case 'ac-3': return 'ac3';
-    case 'ec-3': return 'eac3';
     default: throw new EarmarkError('unsupported_encoding', `MP4 audio codec ${JSON.stringify(entry.type)} is not supported`);
   }
 }

@@ -23,6 +23,7 @@ export class OutputCheck {
     /** Decoded-bytes cap for whole-file decoding; Infinity when streaming. */
     private readonly maxDecodedBytes: number,
   ) {
+    this.flacScale = probe.encoding === 'flac' && probe.bitsPerSample ? 2 ** (probe.bitsPerSample - 1) : 0;
     this.fresh();
   }
 
@@ -44,7 +45,10 @@ export class OutputCheck {
     }
     for (let at = 0; at < frames;) {
       const n = Math.min(frames - at, this.blockFrames - this.filled);
-      for (let c = 0; c < channels.length; c++) this.pending[c].set(channels[c].subarray(at, at + n), this.filled);
+      for (let c = 0; c < channels.length; c++) {
+        this.pending[c].set(channels[c].subarray(at, at + n), this.filled);
+        if (this.flacScale) this.requantize(this.pending[c], this.filled, this.filled + n);
+      }
       this.filled += n;
       at += n;
       if (this.filled === this.blockFrames) yield this.emit();
@@ -67,9 +71,23 @@ export class OutputCheck {
       this.warnings.push({ code: 'truncated_data', atFrame: this.framesOut, message: `the container shows the file was cut after frame ${this.framesOut}` });
     } else if (declared !== null && this.framesOut > declared + slack) {
       this.warnings.push({ code: 'frames_mismatch', atFrame: declared, message: `decoded ${this.framesOut} frames, container declares ${declared}` });
+    } else if (this.finalErrors.length > 1 || (this.finalErrors.length && declared === null)) {
+      // Without a declared length we cannot tell where the errors were: do not trust the output.
+      throw new EarmarkError('corrupt_file', `decoder errors in the stream${errorNote}`, { atFrame: this.framesOut });
     } else if (this.finalErrors.length) {
       this.warnings.push({ code: 'trailing_garbage', atFrame: this.framesOut, message: `decoder rejected bytes at the end${errorNote}` });
     }
+  }
+
+  /**
+   * The FLAC decoder scales by 1/(2^(bits-1) - 1); recover the integer and use 1/2^(bits-1) so
+   * output is bit-exact with the usual convention (and -full scale is -1.0, not below it).
+   */
+  private readonly flacScale: number;
+
+  private requantize(ch: Float32Array, from: number, to: number): void {
+    const m = this.flacScale;
+    for (let i = from; i < to; i++) ch[i] = Math.round(ch[i] * (m - 1)) / m;
   }
 
   private emit(): PcmBlock {
