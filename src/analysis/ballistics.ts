@@ -1,6 +1,6 @@
 // Time-weighted levels: exponential RMS Fast/Slow (IEC 61672-1 time constants) and a VU-style reading.
 //
-// Fast/Slow: one-pole low-pass on x^2, y += (1 - a)(x^2 - y), a = exp(-1 / (tau fs)); level 10 log10(y).
+// Fast/Slow: one-pole low-pass on x^2, y = a y + (1 - a) x^2, a = exp(-1 / (tau fs)); level 10 log10(y).
 // VU: the VU instrument averages the rectified signal and is scaled in sine RMS, so we low-pass |x| with
 // a critically damped second-order section (two equal one-poles, tau = 0.3 s / 6.6384) and scale by
 // pi / (2 sqrt 2). The step response 1 - (1 + t/tau) e^(-t/tau) reaches 99 % at t = 6.6384 tau = 300 ms.
@@ -70,7 +70,7 @@ export class TimeWeightedLevelMeter implements Meter<TimeWeightedLevelResult> {
     this.fastSeconds = options.fastSeconds ?? FAST_TIME_CONSTANT_SECONDS;
     this.slowSeconds = options.slowSeconds ?? SLOW_TIME_CONSTANT_SECONDS;
     this.vuRiseSeconds = options.vuRiseSeconds ?? VU_RISE_SECONDS;
-    // Stored as 1 - a for the y += b (x - y) form.
+    // Stored as b = 1 - a; the loop uses y = a y + b x.
     this.fastCoef = 1 - Math.exp(-1 / (this.fastSeconds * fs));
     this.slowCoef = 1 - Math.exp(-1 / (this.slowSeconds * fs));
     this.vuCoef = 1 - Math.exp(-1 / ((this.vuRiseSeconds / CRITICAL_99_PERCENT_RATIO) * fs));
@@ -86,38 +86,38 @@ export class TimeWeightedLevelMeter implements Meter<TimeWeightedLevelResult> {
 
   push(block: PcmBlock): void {
     const frames = block.frames;
-    const bf = this.fastCoef;
-    const bs = this.slowCoef;
-    const bv = this.vuCoef;
+    const bf = this.fastCoef, af = 1 - bf;
+    const bs = this.slowCoef, as = 1 - bs;
+    const bv = this.vuCoef, av = 1 - bv;
     for (let c = 0; c < this.info.channels; c++) {
       const x = block.channelData[c];
-      let fast = this.fast[c];
-      let slow = this.slow[c];
-      let vu1 = this.vu1[c];
-      let vu2 = this.vu2[c];
-      let maxFast = this.maxFast[c];
-      let maxSlow = this.maxSlow[c];
-      let maxVu = this.maxVu[c];
+      let fast = this.fast[c], slow = this.slow[c], vu1 = this.vu1[c], vu2 = this.vu2[c];
+      let maxFast = this.maxFast[c], maxSlow = this.maxSlow[c], maxVu = this.maxVu[c];
       for (let i = 0; i < frames; i++) {
         const v = x[i];
         const sq = v * v;
-        fast += bf * (sq - fast);
-        slow += bs * (sq - slow);
-        vu1 += bv * (Math.abs(v) - vu1);
-        vu2 += bv * (vu1 - vu2);
+        // a y + b x keeps each loop-carried chain at one multiply and one add.
+        fast = af * fast + bf * sq;
+        slow = as * slow + bs * sq;
+        vu1 = av * vu1 + bv * Math.abs(v);
+        vu2 = av * vu2 + bv * vu1;
         // New maxima are rare after the first moments, so these predict well.
         if (fast > maxFast) maxFast = fast;
         if (slow > maxSlow) maxSlow = slow;
         if (vu2 > maxVu) maxVu = vu2;
       }
-      this.fast[c] = fast < FLUSH_BELOW ? 0 : fast;
-      this.slow[c] = slow < FLUSH_BELOW ? 0 : slow;
-      this.vu1[c] = vu1 < FLUSH_BELOW ? 0 : vu1;
-      this.vu2[c] = vu2 < FLUSH_BELOW ? 0 : vu2;
-      this.maxFast[c] = maxFast;
-      this.maxSlow[c] = maxSlow;
-      this.maxVu[c] = maxVu;
+      this.store(c, fast, slow, vu1, vu2, maxFast, maxSlow, maxVu);
     }
+  }
+
+  private store(c: number, fast: number, slow: number, vu1: number, vu2: number, maxFast: number, maxSlow: number, maxVu: number): void {
+    this.fast[c] = fast < FLUSH_BELOW ? 0 : fast;
+    this.slow[c] = slow < FLUSH_BELOW ? 0 : slow;
+    this.vu1[c] = vu1 < FLUSH_BELOW ? 0 : vu1;
+    this.vu2[c] = vu2 < FLUSH_BELOW ? 0 : vu2;
+    this.maxFast[c] = maxFast;
+    this.maxSlow[c] = maxSlow;
+    this.maxVu[c] = maxVu;
   }
 
   /** Readings at the end of the last pushed block (for live display and tests of the ballistics). */

@@ -131,18 +131,46 @@ export class ChannelRelationMeter implements Meter<ChannelRelationResult> {
   }
 
   private accumulate(data: readonly Float32Array[], from: number, to: number): void {
-    for (let c = 0; c < this.info.channels; c++) {
-      const x = data[c];
-      let s = this.winSumSq[c];
+    const w = this.winSumSq;
+    if (this.pairA.length === 0) {
+      const x = data[0];
+      let s = w[0];
       for (let i = from; i < to; i++) s += x[i] * x[i];
-      this.winSumSq[c] = s;
+      w[0] = s;
+      return;
     }
+    // Squares ride along in the pair loops: channel 0 and 1 in pair (0, 1), channel b in pair (0, b),
+    // so every channel is read in as few passes as possible.
     for (let k = 0; k < this.pairA.length; k++) {
-      const xa = data[this.pairA[k]];
-      const xb = data[this.pairB[k]];
-      let s = this.winPairSum[k];
-      for (let i = from; i < to; i++) s += xa[i] * xb[i];
-      this.winPairSum[k] = s;
+      const a = this.pairA[k];
+      const b = this.pairB[k];
+      const xa = data[a];
+      const xb = data[b];
+      let ab = this.winPairSum[k];
+      if (k === 0) {
+        let aa = w[a];
+        let bb = w[b];
+        for (let i = from; i < to; i++) {
+          const p = xa[i];
+          const q = xb[i];
+          aa += p * p;
+          bb += q * q;
+          ab += p * q;
+        }
+        w[a] = aa;
+        w[b] = bb;
+      } else if (a === 0) {
+        let bb = w[b];
+        for (let i = from; i < to; i++) {
+          const q = xb[i];
+          bb += q * q;
+          ab += xa[i] * q;
+        }
+        w[b] = bb;
+      } else {
+        for (let i = from; i < to; i++) ab += xa[i] * xb[i];
+      }
+      this.winPairSum[k] = ab;
       // Candidates only; the first mismatch ends the check for good.
       if (this.identical[k] === 1) {
         for (let i = from; i < to; i++) {

@@ -61,8 +61,15 @@ export class SilenceMeter implements Meter<SilenceResult> {
   private readonly regions: Float64Array;
   private readonly silentFrames: Float64Array;
   private readonly pending: PendingEvent[] = [];
-  /** Per-frame max |x| over channels for the current block; grows to the largest block once. */
-  private maxAbs = new Float32Array(0);
+  // This block's silent runs per channel (channel c at c * runCap) and their intersection;
+  // sized for the largest block seen, once.
+  private runCap = 0;
+  private blockRuns: Int32Array;
+  private blockRunStart = new Float64Array(0);
+  private blockRunEnd = new Float64Array(0);
+  private meetStart = [new Float64Array(0), new Float64Array(0)];
+  private meetEnd = [new Float64Array(0), new Float64Array(0)];
+  private meetIndex = 0;
   private headFrames = 0;
   private headOpen = true;
   private longestGapFrames = 0;
@@ -86,6 +93,7 @@ export class SilenceMeter implements Meter<SilenceResult> {
     this.runPeak = new Float64Array(slots);
     this.regions = new Float64Array(slots);
     this.silentFrames = new Float64Array(slots);
+    this.blockRuns = new Int32Array(info.channels);
   }
 
   push(block: PcmBlock): void {
@@ -93,16 +101,17 @@ export class SilenceMeter implements Meter<SilenceResult> {
     const base = this.frames;
     const thr = this.threshold;
     const n = this.info.channels;
-    if (this.maxAbs.length < frames) this.maxAbs = new Float32Array(frames);
-    const m = this.maxAbs;
-    m.fill(0, 0, frames);
+    // A block of f frames holds at most ceil(f / 2) silent runs per channel.
+    const cap = (frames >> 1) + 2;
+    if (this.runCap < cap) this.allocateRuns(cap);
     for (let c = 0; c < n; c++) {
       const x = block.channelData[c];
+      const off = c * this.runCap;
+      let count = 0;
       let start = this.runStart[c];
       let peak = this.runPeak[c];
       for (let i = 0; i < frames; i++) {
         const a = Math.abs(x[i]);
-        m[i] = Math.max(m[i], a);
         if (a < thr) {
           if (start < 0) {
             start = base + i;
@@ -110,40 +119,106 @@ export class SilenceMeter implements Meter<SilenceResult> {
           }
           if (a > peak) peak = a;
         } else if (start >= 0) {
+          this.blockRunStart[off + count] = start > base ? start : base;
+          this.blockRunEnd[off + count++] = base + i;
           this.close(c, start, base + i, peak);
           start = -1;
         }
       }
+      if (start >= 0) {
+        this.blockRunStart[off + count] = start > base ? start : base;
+        this.blockRunEnd[off + count++] = base + frames;
+      }
+      this.blockRuns[c] = count;
       this.runStart[c] = start;
       this.runPeak[c] = peak;
     }
-    this.scanAllChannels(m, frames, base);
+    this.scanAllChannels(block, this.intersectRuns(), base);
     this.frames = base + frames;
     this.flushPending();
   }
 
-  private scanAllChannels(m: Float32Array, frames: number, base: number): void {
-    const thr = this.threshold;
+  private allocateRuns(cap: number): void {
+    const n = this.info.channels;
+    this.runCap = cap;
+    this.blockRunStart = new Float64Array(n * cap);
+    this.blockRunEnd = new Float64Array(n * cap);
+    this.meetStart = [new Float64Array(cap), new Float64Array(cap)];
+    this.meetEnd = [new Float64Array(cap), new Float64Array(cap)];
+  }
+
+  /** All-channel silent runs of this block = intersection of the channels' runs (no per-frame pass). */
+  private intersectRuns(): number {
+    const cap = this.runCap;
+    let idx = 0;
+    let count = this.blockRuns[0];
+    this.meetStart[0].set(this.blockRunStart.subarray(0, count));
+    this.meetEnd[0].set(this.blockRunEnd.subarray(0, count));
+    for (let c = 1; c < this.info.channels && count > 0; c++) {
+      const off = c * cap;
+      const other = this.blockRuns[c];
+      const inStart = this.meetStart[idx];
+      const inEnd = this.meetEnd[idx];
+      const outStart = this.meetStart[1 - idx];
+      const outEnd = this.meetEnd[1 - idx];
+      let k = 0;
+      let i = 0;
+      let j = 0;
+      while (i < count && j < other) {
+        const s = Math.max(inStart[i], this.blockRunStart[off + j]);
+        const e = Math.min(inEnd[i], this.blockRunEnd[off + j]);
+        if (s < e) {
+          outStart[k] = s;
+          outEnd[k++] = e;
+        }
+        if (inEnd[i] < this.blockRunEnd[off + j]) i++;
+        else j++;
+      }
+      idx = 1 - idx;
+      count = k;
+    }
+    this.meetIndex = idx;
+    return count;
+  }
+
+  private scanAllChannels(block: PcmBlock, count: number, base: number): void {
     const slot = this.info.channels;
-    let start = this.runStart[slot];
+    const end = base + block.frames;
+    const starts = this.meetStart[this.meetIndex];
+    const ends = this.meetEnd[this.meetIndex];
+    let open = this.runStart[slot];
     let peak = this.runPeak[slot];
-    for (let i = 0; i < frames; i++) {
-      const a = m[i];
-      if (a < thr) {
-        if (start < 0) {
-          start = base + i;
-          peak = 0;
-        }
-        if (a > peak) peak = a;
-      } else {
-        if (start >= 0) {
-          this.closeAll(start, base + i, peak);
-          start = -1;
-        }
+    let cursor = base;
+    for (let k = 0; k < count; k++) {
+      const s = starts[k];
+      const e = ends[k];
+      if (s > cursor) {
+        if (open >= 0) this.closeAll(open, cursor, peak);
+        open = -1;
+        this.headOpen = false;
+      }
+      if (open < 0) {
+        open = s;
+        peak = 0;
+      }
+      // Loudest sample of the region: rescans only silent stretches.
+      for (let c = 0; c < slot; c++) {
+        const x = block.channelData[c];
+        for (let i = s - base; i < e - base; i++) peak = Math.max(peak, Math.abs(x[i]));
+      }
+      cursor = e;
+      if (e < end) {
+        this.closeAll(open, e, peak);
+        open = -1;
         this.headOpen = false;
       }
     }
-    this.runStart[slot] = start;
+    if (cursor < end) {
+      if (open >= 0) this.closeAll(open, cursor, peak);
+      open = -1;
+      this.headOpen = false;
+    }
+    this.runStart[slot] = open;
     this.runPeak[slot] = peak;
   }
 
