@@ -1,5 +1,5 @@
-// RIFF/WAVE, RF64 and BW64 reader, plus the PCM block streaming that aiff.ts shares
-// (kept here because the file list for decoders is fixed; see the report for a split).
+// RIFF/WAVE, RF64 and BW64 reader, plus the PCM conversion and block streaming that aiff.ts
+// shares, so both containers run through one hot loop.
 import type { ChannelLabel, PcmBlock } from '../analysis/audio.ts';
 import { defaultChannelLabels } from '../analysis/audio.ts';
 import { EarmarkError } from '../errors/index.ts';
