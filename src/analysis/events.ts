@@ -8,7 +8,9 @@ export type EventKind =
   | 'dead_channel'      // digital silence for the whole stream
   | 'duplicate_channel' // a channel that is an identical copy of another
   | 'inverted_channel'  // a channel that is a polarity-inverted copy of another
-  | 'phase_problem';    // a window of strongly negative inter-channel correlation
+  | 'phase_problem'     // a window of strongly negative inter-channel correlation
+  | 'loud_short_term'   // short-term loudness (3 s) above a configured limit
+  | 'loud_momentary';   // momentary loudness (400 ms) above a configured limit
 
 export interface AnalysisEvent {
   kind: EventKind;

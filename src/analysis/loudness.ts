@@ -10,6 +10,7 @@
 import type { Meter, PcmBlock, StreamInfo } from './audio.ts';
 import { channelWeight, highpassCoefficients, shelfCoefficients } from './k-weighting.ts';
 import { GrowableFloat64 } from './growable.ts';
+import { EventLog, type AnalysisEvent } from './events.ts';
 
 const LOUDNESS_OFFSET = -0.691;
 const ABSOLUTE_GATE_LUFS = -70;
@@ -17,6 +18,14 @@ const RELATIVE_GATE_LU = -10;
 const LRA_RELATIVE_GATE_LU = -20;
 const SUBBLOCKS_PER_MOMENTARY = 4;
 const SUBBLOCKS_PER_SHORT_TERM = 30;
+
+export interface LoudnessOptions {
+  /** Short-term values (10 Hz) above this become 'loud_short_term' events. */
+  shortTermLimitLufs?: number;
+  /** Momentary values (10 Hz) above this become 'loud_momentary' events. */
+  momentaryLimitLufs?: number;
+  maxEvents?: number;
+}
 
 export interface LoudnessResult {
   /** Gated integrated loudness; null when no block passes the absolute gate. */
@@ -38,6 +47,9 @@ export interface LoudnessResult {
   /** Gating blocks used: total and after both gates. */
   gatingBlocks: number;
   gatedBlocks: number;
+  /** Stretches of the 10 Hz momentary / short-term series above the configured limits. */
+  events: AnalysisEvent[];
+  eventsTotal: number;
 }
 
 export function powerToLufs(meanPower: number): number | null {
@@ -86,7 +98,11 @@ export class LoudnessMeter implements Meter<LoudnessResult> {
   private maxShortTermEndFrame = 0;
   private framesSeen = 0;
 
-  constructor(info: StreamInfo) {
+  // Stretches above the optional limits: [window start frame, last window end frame, max power]
+  private readonly limits: { kind: 'loud_short_term' | 'loud_momentary'; power: number; windowFrames: number; open: [number, number, number] | null }[] = [];
+  private readonly log: EventLog;
+
+  constructor(info: StreamInfo, options: LoudnessOptions = {}) {
     this.sampleRate = info.sampleRate;
     this.shelf = shelfCoefficients(info.sampleRate);
     this.highpass = highpassCoefficients(info.sampleRate);
@@ -96,6 +112,13 @@ export class LoudnessMeter implements Meter<LoudnessResult> {
     this.shortTermFrames = Math.round(3 * info.sampleRate);
     this.ring = new Float64Array(this.shortTermFrames);
     this.momentaryPos = this.shortTermFrames - this.momentaryFrames;
+    this.log = new EventLog(info.sampleRate, options.maxEvents);
+    if (options.momentaryLimitLufs !== undefined) {
+      this.limits.push({ kind: 'loud_momentary', power: lufsToPower(options.momentaryLimitLufs), windowFrames: this.momentaryFrames, open: null });
+    }
+    if (options.shortTermLimitLufs !== undefined) {
+      this.limits.push({ kind: 'loud_short_term', power: lufsToPower(options.shortTermLimitLufs), windowFrames: this.shortTermFrames, open: null });
+    }
   }
 
   private boundaryFrame(subblock: number): number {
@@ -191,6 +214,25 @@ export class LoudnessMeter implements Meter<LoudnessResult> {
     if (momentary !== null) this.blockPowers.push(momentary);
     const shortTerm = this.windowMeanPower(SUBBLOCKS_PER_SHORT_TERM);
     if (shortTerm !== null) this.shortTermPowers.push(shortTerm);
+    for (const limit of this.limits) this.trackLimit(limit, limit.kind === 'loud_momentary' ? momentary : shortTerm);
+  }
+
+  /** Opens a stretch when a window is above its limit; the stretch covers the windows' span. */
+  private trackLimit(limit: LoudnessMeter['limits'][number], power: number | null): void {
+    const endFrame = this.boundaryFrame(this.subblockIndex);
+    if (power !== null && power > limit.power) {
+      if (limit.open) { limit.open[1] = endFrame; limit.open[2] = Math.max(limit.open[2], power); }
+      else limit.open = [Math.max(0, endFrame - limit.windowFrames), endFrame, power];
+      return;
+    }
+    this.closeLimit(limit);
+  }
+
+  private closeLimit(limit: LoudnessMeter['limits'][number]): void {
+    if (!limit.open) return;
+    const [startFrame, endFrame, power] = limit.open;
+    this.log.add({ kind: limit.kind, channel: null, startFrame, endFrame, peakValue: powerToLufs(power) ?? undefined });
+    limit.open = null;
   }
 
   /** Mean power of the last `count` sub-blocks, or null until that many are complete. */
@@ -206,6 +248,7 @@ export class LoudnessMeter implements Meter<LoudnessResult> {
   }
 
   result(): LoudnessResult {
+    for (const limit of this.limits) this.closeLimit(limit);
     const blocks = this.blockPowers.view();
     const { loudness: integratedLufs, kept } = gatedLoudness(blocks, RELATIVE_GATE_LU);
     const range = loudnessRange(this.shortTermPowers.view());
@@ -230,6 +273,8 @@ export class LoudnessMeter implements Meter<LoudnessResult> {
       shortTermLufs,
       gatingBlocks: blocks.length,
       gatedBlocks: kept,
+      events: [...this.log.events].sort((a, b) => a.startFrame - b.startFrame),
+      eventsTotal: this.log.total,
     };
   }
 }

@@ -4,12 +4,13 @@ import type { Meter, PcmBlock, StreamInfo } from './audio.ts';
 import { ChannelRelationMeter, type ChannelRelationOptions, type ChannelRelationResult } from './channel-relations.ts';
 import { ClippingMeter, type ClippingMeterOptions, type ClippingResult } from './clipping.ts';
 import { LevelMeter, type LevelResult } from './levels.ts';
-import { LoudnessMeter, type LoudnessResult } from './loudness.ts';
+import { LoudnessMeter, type LoudnessOptions, type LoudnessResult } from './loudness.ts';
 import { SilenceMeter, type SilenceMeterOptions, type SilenceResult } from './silence.ts';
 import { TimeWeightedLevelMeter, type TimeWeightedLevelResult } from './ballistics.ts';
 import { TruePeakMeter, type TruePeakOptions, type TruePeakResult } from './true-peak.ts';
 
 export interface AnalysisOptions {
+  loudness?: LoudnessOptions;
   truePeak?: TruePeakOptions;
   clipping?: ClippingMeterOptions;
   silence?: SilenceMeterOptions;
@@ -41,7 +42,7 @@ export class AnalysisRunner implements Meter<Measurements> {
   constructor(readonly info: StreamInfo, options: AnalysisOptions = {}) {
     this.levels = new LevelMeter(info);
     this.timeWeighted = new TimeWeightedLevelMeter(info);
-    this.loudness = new LoudnessMeter(info);
+    this.loudness = new LoudnessMeter(info, options.loudness);
     this.truePeak = new TruePeakMeter(info, options.truePeak);
     this.clipping = new ClippingMeter(info, options.clipping);
     this.silence = new SilenceMeter(info, options.silence);

@@ -92,16 +92,17 @@ export function buildAnalysisDocument(
   analysisSeconds: number,
 ): AnalysisDocument {
   const rate = format.sampleRate;
-  const allEvents = [...m.truePeak.overs, ...m.clipping.events, ...m.silence.events, ...m.channelRelations.events]
+  const allEvents = [...m.loudness.events, ...m.truePeak.overs, ...m.clipping.events, ...m.silence.events, ...m.channelRelations.events]
     .sort((a, b) => a.startFrame - b.startFrame || (a.channel ?? -1) - (b.channel ?? -1));
   const eventCounts: Partial<Record<EventKind, number>> = {};
   const countKind = (kind: EventKind, n: number) => { if (n > 0) eventCounts[kind] = (eventCounts[kind] ?? 0) + n; };
   countKind('true_peak_over', m.truePeak.oversTotal);
+  for (const e of m.loudness.events) countKind(e.kind, 1);
   countKind('clipping', m.clipping.eventsTotal);
   countKind('silence', m.silence.eventsTotal);
   for (const e of m.channelRelations.events) countKind(e.kind, 1);
   const relationsOverflow = m.channelRelations.eventsTotal - m.channelRelations.events.length;
-  const truncated = allEvents.length > MAX_DOCUMENT_EVENTS || m.truePeak.oversTotal > m.truePeak.overs.length
+  const truncated = allEvents.length > MAX_DOCUMENT_EVENTS || m.loudness.eventsTotal > m.loudness.events.length || m.truePeak.oversTotal > m.truePeak.overs.length
     || m.clipping.eventsTruncated || m.silence.eventsTruncated || relationsOverflow > 0;
   const dead = new Set(m.channelRelations.deadChannels);
   const stSeries = m.loudness.shortTermLufs.filter((_, i) => i % 10 === 9);

@@ -82,4 +82,19 @@ describe('LoudnessMeter (ITU-R BS.1770-5)', () => {
     expect(result.maxMomentaryLufs!).toBeCloseTo(-23, 1);
     expect(result.maxMomentaryAtSeconds!).toBeCloseTo(0.45, 3);
   });
+
+  it('reports stretches of short-term loudness above a limit as events (EBU Tech 3343 short-form max short-term rule)', () => {
+    // 10 s at -30 dBFS, 5 s at -12 dBFS, 10 s at -30 dBFS stereo: 1 kHz, so LUFS ~ dBFS.
+    const meter = new LoudnessMeter({ sampleRate: 48000, channels: 2, channelLabels: ['L', 'R'] }, { shortTermLimitLufs: -18 });
+    for (const block of toneBlocks({ sampleRate: 48000, channels: 2, segments: [{ seconds: 10, peakDbfs: -30 }, { seconds: 5, peakDbfs: -12 }, { seconds: 10, peakDbfs: -30 }] })) meter.push(block);
+    const { events } = meter.result();
+    expect(events).toHaveLength(1);
+    expect(events[0].kind).toBe('loud_short_term');
+    expect(events[0].peakValue!).toBeCloseTo(-12, 0);
+    // The first window over the limit ends shortly after 10 s; the last starts before 15 s.
+    expect(events[0].startSeconds).toBeGreaterThan(7);
+    expect(events[0].startSeconds).toBeLessThan(10);
+    expect(events[0].endSeconds).toBeGreaterThan(15);
+    expect(events[0].endSeconds).toBeLessThan(18.1);
+  });
 });
