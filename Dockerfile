@@ -1,0 +1,21 @@
+# Multi-stage build: dependencies in one stage, a slim non-root runtime in the other.
+FROM node:20-bookworm-slim AS deps
+WORKDIR /app
+COPY package.json package-lock.json ./
+RUN npm ci --omit=dev --no-audit --no-fund
+
+FROM node:20-bookworm-slim AS runtime
+ENV NODE_ENV=production
+WORKDIR /app
+COPY --from=deps /app/node_modules ./node_modules
+COPY package.json ./
+COPY bin ./bin
+COPY src ./src
+COPY workers ./workers
+COPY openapi ./openapi
+RUN mkdir -p /data && chown node:node /data
+USER node
+ENV EARMARK_STORAGE_DIR=/data
+EXPOSE 8080
+# The API by default; the worker service in docker-compose.yml overrides the command.
+CMD ["node", "bin/run.js", "workers/api.ts"]
