@@ -5,7 +5,9 @@ import { parseArgs } from 'node:util';
 import type { AnalysisOptions } from '../analysis/runner.ts';
 import { analyzeFile } from '../engine/analyze-file.ts';
 import { EarmarkError, toEarmarkError } from '../errors/index.ts';
+import { checkCommand } from './check.ts';
 import { formatAnalysis } from './format-analysis.ts';
+import { profilesCommand } from './profiles.ts';
 import { runSelftest } from './selftest.ts';
 
 export const EXIT_ERROR = 3;
@@ -13,8 +15,11 @@ export const EXIT_ERROR = 3;
 const USAGE = `usage:
   earmark analyze <file> [--json] [--true-peak-ceiling dBTP] [--clip-run N] [--clip-threshold dBFS]
                          [--silence-threshold dBFS] [--silence-min seconds]
+  earmark check <file> --profile <id|path.json> [--fps rate] [--json]
+      rate: 23.976 24 25 29.97-df 29.97-ndf 30 50 59.94-df 59.94-ndf 60 (default: the profile's)
+  earmark profiles [id] [--json]
   earmark selftest [--json]
-exit codes: 0 ok, 3 error`;
+exit codes: 0 ok (check: pass), 1 check: warn, 2 check: fail, 3 error (bad input, bad profile, bad arguments)`;
 
 type Write = (text: string) => void;
 
@@ -83,6 +88,8 @@ export async function main(argv: string[], io: CliIo = defaultIo): Promise<numbe
   try {
     switch (command) {
       case 'analyze': return await analyzeCommand(rest, io);
+      case 'check': return await checkCommand(rest, io);
+      case 'profiles': return profilesCommand(rest, io);
       case 'selftest': return runSelftest(rest, io);
       case undefined: case 'help': case '--help': case '-h':
         io.stdout(`${USAGE}\n`);

@@ -1,0 +1,19 @@
+// Number formatting for one-line explanations: one decimal, two when one would hide a crossing.
+
+export function fmt(value: number, decimals = 1): string {
+  const text = value.toFixed(decimals);
+  return text === `-${(0).toFixed(decimals)}` ? (0).toFixed(decimals) : text;
+}
+
+/** Formats `value` so that it never reads equal to `limit` when it is not. */
+export function fmtAgainst(value: number, limit: number): string {
+  for (let decimals = 1; decimals < 4; decimals++) {
+    if (value === limit || fmt(value, decimals) !== fmt(limit, decimals)) return fmt(value, decimals);
+  }
+  return fmt(value, 4);
+}
+
+/** A limit as written in the profile. */
+export const fmtLimit = (value: number): string => String(value);
+
+export const signed = (value: number): string => (value > 0 ? `+${fmt(value)}` : fmt(value));
