@@ -1,0 +1,73 @@
+import { describe, expect, it } from 'vitest';
+import { escapeXml, renderLoudnessPlot, type PlotInput } from '../../src/views/loudness-plot.ts';
+
+const seconds = (s: number) => `${s.toFixed(0)}s`;
+
+function input(overrides: Partial<PlotInput> = {}): PlotInput {
+  const momentary = Array.from({ length: 600 }, (_, i) => (i < 5 ? null : -23 + 3 * Math.sin(i / 20)));
+  const shortTerm = Array.from({ length: 60 }, (_, i) => (i < 2 ? null : -23 + Math.sin(i / 5)));
+  return {
+    durationSeconds: 60,
+    momentary: { pointsPerSecond: 10, firstAtSeconds: 0.1, lufs: momentary },
+    shortTerm: { pointsPerSecond: 1, firstAtSeconds: 1, lufs: shortTerm },
+    targetBand: { lowLufs: -24, highLufs: -22, targetLufs: -23 },
+    flags: [
+      { kind: 'clipping', severity: 'fail', startSeconds: 12, endSeconds: 12.01, label: 'Clipping <ch 1>' },
+      { kind: 'silence', severity: 'warn', startSeconds: 30, endSeconds: 34, label: 'Silence 4 s' },
+    ],
+    formatTime: seconds,
+    ...overrides,
+  };
+}
+
+describe('renderLoudnessPlot', () => {
+  it('draws one marker per flag, in order, with its label escaped', () => {
+    const svg = renderLoudnessPlot(input());
+    expect(svg.match(/class="em-flag /g)).toHaveLength(2);
+    expect(svg).toContain('data-flag-index="0"');
+    expect(svg).toContain('data-flag-index="1"');
+    expect(svg).toContain('Clipping &lt;ch 1&gt;');
+    expect(svg).not.toContain('<ch 1>');
+  });
+
+  it('places a flag at its time on the axis: 30 s of 60 s is half-way across the plot area', () => {
+    const svg = renderLoudnessPlot(input({ widthPx: 1000 }));
+    // plot area: x from 56 to 1000-16 = 984, width 928; 30 s -> 56 + 464 = 520.
+    expect(svg).toMatch(/data-flag-index="1"><rect x="520"/);
+  });
+
+  it('draws the target band and the loudness curves, breaking lines at null values', () => {
+    const svg = renderLoudnessPlot(input());
+    expect(svg).toContain('class="em-target-band"');
+    expect(svg.match(/class="em-momentary"/g)?.length).toBe(1);
+    const gap = input({ momentary: { pointsPerSecond: 10, firstAtSeconds: 0.1, lufs: [...Array(200).fill(-20), ...Array(200).fill(null), ...Array(200).fill(-20)] } });
+    expect(renderLoudnessPlot(gap).match(/class="em-momentary"/g)?.length).toBe(2);
+  });
+
+  it('labels the time axis with the given formatter and keeps at most about 9 ticks', () => {
+    const svg = renderLoudnessPlot(input());
+    expect(svg).toContain('>0s<');
+    expect(svg).toContain('>60s<');
+    expect((svg.match(/class="em-tick"/g) ?? []).length).toBeLessThanOrEqual(9);
+  });
+
+  it('reduces a 3-hour series to at most two points per pixel column', () => {
+    const long = Array.from({ length: 3 * 3600 * 10 }, (_, i) => -30 + 10 * Math.sin(i / 50));
+    const svg = renderLoudnessPlot(input({ durationSeconds: 3 * 3600, momentary: { pointsPerSecond: 10, firstAtSeconds: 0.1, lufs: long }, widthPx: 800 }));
+    const points = /class="em-momentary" points="([^"]*)"/.exec(svg)?.[1].split(' ') ?? [];
+    expect(points.length).toBeLessThanOrEqual(2 * (800 - 56 - 16 + 1));
+    expect(points.length).toBeGreaterThan(700);
+  });
+
+  it('is a pure function: same input, same SVG; and valid for an all-silent file', () => {
+    expect(renderLoudnessPlot(input())).toBe(renderLoudnessPlot(input()));
+    const silent = renderLoudnessPlot(input({ momentary: { pointsPerSecond: 10, firstAtSeconds: 0.1, lufs: Array(100).fill(null) }, shortTerm: { pointsPerSecond: 1, firstAtSeconds: 1, lufs: Array(10).fill(null) }, targetBand: undefined, flags: [] }));
+    expect(silent).toContain('<svg');
+    expect(silent).not.toContain('NaN');
+    expect(silent).not.toContain('Infinity');
+  });
+
+  it('escapes XML special characters', () => {
+    expect(escapeXml(`<a href="x">&'</a>`)).toBe('&lt;a href=&quot;x&quot;&gt;&amp;&#39;&lt;/a&gt;');
+  });
+});
