@@ -3,7 +3,7 @@
 // every other rule passes with a "not measurable" note (no short-term max in a 2 s file is not a breach).
 
 import type { AnalysisDocument } from '../engine/document.ts';
-import { fmt, fmtAgainst, fmtLimit } from './format.ts';
+import { fmt, fmtAgainst, fmtGap, fmtLimit } from './format.ts';
 import type { CheckLimit, CheckResult } from './report.ts';
 import { DEFAULT_MAX_CLIP_RUNS, type IntegratedLoudnessRule, type Rule } from './types.ts';
 
@@ -24,7 +24,7 @@ function atMost(what: string, value: number | null, max: number, unit: string, w
   const shown = fmtAgainst(value, max);
   const explanation = passed
     ? `${what} ${shown} ${unit} is within the ${fmtLimit(max)} ${unit} maximum`
-    : `${what} ${shown} ${unit} is ${fmt(value - max)} dB above the ${fmtLimit(max)} ${unit} maximum`;
+    : `${what} ${shown} ${unit} is ${fmtGap(value - max)} ${unit === 'LUFS' ? 'LU' : 'dB'} above the ${fmtLimit(max)} ${unit} maximum`;
   return { measured: value, unit, limit, outcome: verdictOf(passed), passed, explanation };
 }
 
@@ -37,8 +37,8 @@ function within(what: string, value: number, min: number | undefined, max: numbe
   const range = min !== undefined && max !== undefined ? `${fmtLimit(min)} to ${fmtLimit(max)} ${unit}` : min !== undefined ? `at least ${fmtLimit(min)} ${unit}` : `at most ${fmtLimit(max as number)} ${unit}`;
   let explanation: string;
   if (passed) explanation = `${what} ${fmt(value)} ${unit} is within ${range}`;
-  else if (lowBy > 0) explanation = `${what} ${fmtAgainst(value, min as number)} ${unit} is ${fmt(lowBy)} ${unitGap} below the ${fmtLimit(min as number)} ${unit} minimum`;
-  else explanation = `${what} ${fmtAgainst(value, max as number)} ${unit} is ${fmt(highBy)} ${unitGap} above the ${fmtLimit(max as number)} ${unit} maximum`;
+  else if (lowBy > 0) explanation = `${what} ${fmtAgainst(value, min as number)} ${unit} is ${fmtGap(lowBy)} ${unitGap} below the ${fmtLimit(min as number)} ${unit} minimum`;
+  else explanation = `${what} ${fmtAgainst(value, max as number)} ${unit} is ${fmtGap(highBy)} ${unitGap} above the ${fmtLimit(max as number)} ${unit} maximum`;
   return { measured: value, unit, limit, outcome: verdictOf(passed), passed, explanation };
 }
 
@@ -53,7 +53,7 @@ function integrated(rule: IntegratedLoudnessRule, value: number | null): Draft {
   const passed = Math.abs(deviation) <= tolerance;
   const side = deviation > 0 ? 'above' : 'below';
   const gap = Math.abs(deviation);
-  const gapText = Math.abs(gap - tolerance) < 0.05 && gap !== tolerance ? fmtAgainst(gap, tolerance) : fmt(gap);
+  const gapText = fmtAgainst(gap, tolerance);
   const explanation = passed && fmt(gap) === '0.0'
     ? `Integrated loudness ${fmt(value)} LUFS is on the ${fmtLimit(target)} LUFS target (tolerance ±${fmt(tolerance)} LU)`
     : `Integrated loudness ${fmt(value)} LUFS is ${gapText} LU ${side} the ${fmtLimit(target)} LUFS target (tolerance ±${fmt(tolerance)} LU)`;

@@ -17,3 +17,9 @@ export function fmtAgainst(value: number, limit: number): string {
 export const fmtLimit = (value: number): string => String(value);
 
 export const signed = (value: number): string => (value > 0 ? `+${fmt(value)}` : fmt(value));
+
+/** A positive distance with enough decimals that it does not read as zero. */
+export function fmtGap(gap: number): string {
+  for (let decimals = 1; decimals < 4; decimals++) if (fmt(gap, decimals) !== fmt(0, decimals)) return fmt(gap, decimals);
+  return fmt(gap, 4);
+}
