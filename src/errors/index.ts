@@ -13,6 +13,18 @@ export const errorCatalogue = {
   invalid_argument: { status: 400, title: 'An argument is invalid' },
   invalid_profile: { status: 400, title: 'The delivery profile is invalid' },
   unknown_profile: { status: 422, title: 'No delivery profile has this id' },
+  // Service (HTTP API, queue, workers)
+  validation_failed: { status: 400, title: 'The request does not match its schema' },
+  unauthorized: { status: 401, title: 'A valid API key is required' },
+  forbidden: { status: 403, title: 'The API key lacks the scope for this operation' },
+  not_found: { status: 404, title: 'No such resource' },
+  idempotency_conflict: { status: 409, title: 'The Idempotency-Key was used with a different request' },
+  payload_too_large: { status: 413, title: 'The upload is larger than the configured limit' },
+  unsupported_media_type: { status: 415, title: 'The request body type is not accepted here' },
+  source_refused: { status: 422, title: 'The URL is not allowed (scheme or address refused)' },
+  source_fetch_failed: { status: 422, title: 'The source URL could not be fetched' },
+  storage_unavailable: { status: 503, title: 'Storage is not available' },
+  service_unavailable: { status: 503, title: 'A dependency (Redis) is not available' },
   // Catch-all
   internal_error: { status: 500, title: 'Internal error' },
 } as const satisfies Record<string, { status: number; title: string }>;
