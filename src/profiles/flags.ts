@@ -68,7 +68,7 @@ function draftsFromEvents(profile: Profile, doc: AnalysisDocument, failed: Set<s
     drafts.push({
       kind: map.kind, ruleId: rule.id, severity: rule.severity, channel: e.channel,
       ...(e.otherChannel !== undefined ? { otherChannel: e.otherChannel } : {}),
-      startSample: e.startFrame, endSample: e.endFrame, peakValue: e.peakValue ?? null, mergedEvents: e.count ?? 1,
+      startSample: e.startFrame, endSample: e.endFrame, peakValue: e.peakValue ?? null, mergedEvents: 1, detections: e.count ?? 1,
     });
   }
   // Events the analysis counted but did not keep: not merged, but counted (silence counts mix channels, so not).
@@ -87,7 +87,7 @@ function edgeDrafts(profile: Profile, doc: AnalysisDocument, failed: Set<string>
     const length = Math.min(frames, Math.round((head ? doc.summary.headSilenceSeconds : doc.summary.tailSilenceSeconds) * rate));
     out.push({
       kind: head ? 'head_silence' : 'tail_silence', ruleId: rule.id, severity: rule.severity, channel: null,
-      startSample: head ? 0 : frames - length, endSample: head ? length : frames, peakValue: null, mergedEvents: 1,
+      startSample: head ? 0 : frames - length, endSample: head ? length : frames, peakValue: null, mergedEvents: 1, detections: 1,
     });
   }
   return out;
@@ -102,6 +102,7 @@ function merge(drafts: Draft[], gapSamples: number): Draft[] {
     if (last && key(last) === key(d) && d.startSample - last.endSample <= gapSamples) {
       last.endSample = Math.max(last.endSample, d.endSample);
       last.mergedEvents += d.mergedEvents;
+      last.detections += d.detections;
       if (d.peakValue !== null) {
         const lower = d.kind === 'phase_problem'; // correlation: the lowest is the worst
         last.peakValue = last.peakValue === null ? d.peakValue : lower ? Math.min(last.peakValue, d.peakValue) : Math.max(last.peakValue, d.peakValue);

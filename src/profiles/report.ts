@@ -55,8 +55,10 @@ export interface Flag {
   endTimecode: string;
   /** Most extreme value inside (dBTP, dBFS, LUFS, correlation); null when the kind has none. */
   peakValue: number | null;
-  /** Engine events merged into this flag (true-peak overs count each over). */
+  /** Engine events merged into this flag. */
   mergedEvents: number;
+  /** Raw detections inside (clipped samples, over samples); mergedEvents for kinds without. */
+  detections: number;
 }
 
 export interface Correction {

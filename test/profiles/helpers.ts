@@ -33,9 +33,10 @@ export async function writeTone(dir: string, spec: ToneFile): Promise<string> {
   function* blocks() {
     let start = 0;
     for (const block of toneBlocks({ sampleRate: SAMPLE_RATE, channels: spec.channels ?? 2, segments: spec.segments })) {
-      spec.edit?.(block.channelData, start);
+      const data = [...block.channelData];
+      spec.edit?.(data, start);
       start += block.frames;
-      yield block.channelData;
+      yield data;
     }
   }
   await writeWavFile(path, {
