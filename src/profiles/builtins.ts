@@ -75,7 +75,7 @@ export function builtinProfile(id: string): Profile {
 }
 
 /** A built-in id, or a path to a JSON profile (anything with a slash or ending in .json). */
-export function resolveProfile(idOrPath: string): Promise<Profile> {
+export async function resolveProfile(idOrPath: string): Promise<Profile> {
   if (idOrPath.endsWith('.json') || idOrPath.includes('/') || idOrPath.includes('\\')) return loadProfileFile(idOrPath);
-  return Promise.resolve(builtinProfile(idOrPath));
+  return builtinProfile(idOrPath);
 }

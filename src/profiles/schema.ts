@@ -53,13 +53,13 @@ function ruleIssues(rule: Rule, at: string): ProfileIssue[] {
     if (min !== undefined && max !== undefined && min > max) issues.push({ field: `${at}.${minKey}`, message: `${at}.${minKey} (${min}) is above ${at}.${maxKey} (${max})` });
   };
   const needOne = (keys: string[], values: unknown[]) => {
-    if (!values.some(has)) issues.push({ field: `${at}.${keys[0]}`, message: `${at} needs at least one of ${keys.join(', ')}` });
+    if (!values.some(has)) issues.push({ field: `${at}.${keys[0]}`, message: `${at}.${keys[0]} is missing: ${at} needs at least one of ${keys.join(', ')}` });
   };
   switch (rule.type) {
     case 'integrated-loudness': {
       const range = has(rule.minLufs) || has(rule.maxLufs);
-      if (!range && !has(rule.toleranceLu)) issues.push({ field: `${at}.toleranceLu`, message: `${at} needs targetLufs with toleranceLu, or minLufs/maxLufs` });
-      if (range && has(rule.toleranceLu)) issues.push({ field: `${at}.toleranceLu`, message: `${at} gives both toleranceLu and minLufs/maxLufs; use one` });
+      if (!range && !has(rule.toleranceLu)) issues.push({ field: `${at}.toleranceLu`, message: `${at}.toleranceLu is missing: give targetLufs with toleranceLu, or minLufs/maxLufs` });
+      if (range && has(rule.toleranceLu)) issues.push({ field: `${at}.toleranceLu`, message: `${at}.toleranceLu cannot be combined with minLufs/maxLufs; use one` });
       order('minLufs', 'maxLufs', rule.minLufs, rule.maxLufs);
       if (range && rule.targetLufs !== undefined && ((rule.minLufs ?? -Infinity) > rule.targetLufs || (rule.maxLufs ?? Infinity) < rule.targetLufs)) {
         issues.push({ field: `${at}.targetLufs`, message: `${at}.targetLufs lies outside minLufs..maxLufs` });
