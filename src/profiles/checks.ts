@@ -130,7 +130,7 @@ function draftFor(rule: Rule, doc: AnalysisDocument): Draft {
       const passed = countOk && layoutOk;
       const layout = labels.join(' ');
       const wanted = [rule.count !== undefined ? `${rule.count} channels` : '', rule.layout ? `layout ${rule.layout.join(' ')}` : ''].filter(Boolean).join(', ');
-      return { measured: labels, unit: null, limit: { ...(rule.count !== undefined ? { min: rule.count, max: rule.count } : {}), ...(rule.layout ? { allowed: rule.layout } : {}) }, outcome: verdictOf(passed), passed, explanation: `${doc.format.channels} channel${doc.format.channels === 1 ? '' : 's'} (${layout}) ${passed ? 'match' : 'do not match'} ${wanted}` };
+      return { measured: labels, unit: null, limit: { ...(rule.count !== undefined ? { min: rule.count, max: rule.count } : {}), ...(rule.layout ? { allowed: rule.layout } : {}) }, outcome: verdictOf(passed), passed, explanation: `${doc.format.channels} channel${doc.format.channels === 1 ? '' : 's'} (${layout})${passed ? ' as required' : `, but ${wanted} required`}` };
     }
     case 'duration': return within('Duration', doc.format.durationSeconds ?? doc.format.framesDecoded / doc.format.sampleRate, rule.minSeconds, rule.maxSeconds, 's', 's');
   }
