@@ -168,12 +168,31 @@ function crc8(b: Uint8Array, from: number, to: number): number {
   return c;
 }
 
+const CRC16_TABLE = Uint16Array.from({ length: 256 }, (_, i) => {
+  let c = i << 8;
+  for (let k = 0; k < 8; k++) c = c & 0x8000 ? (c << 1) ^ 0x8005 : c << 1;
+  return c & 0xffff;
+});
+
+/** Whether a frame starting at `o` ends exactly at the end of `tail` (or before an ID3v1 tag): its CRC-16 footer matches (RFC 9639). */
+function frameEndsFile(tail: Uint8Array, o: number): boolean {
+  const ends = [tail.length];
+  if (tail.length - o > 130 && ascii(tail, tail.length - 128, 3) === 'TAG') ends.push(tail.length - 128);
+  return ends.some((end) => {
+    let c = 0;
+    for (let i = o; i < end - 2; i++) c = ((c << 8) ^ CRC16_TABLE[(c >> 8) ^ tail[i]]) & 0xffff;
+    return c === u16be(tail, end - 2);
+  });
+}
+
 /**
- * Whether the file's last frame header sits at the end of the declared samples: a cut file's
- * last header is far earlier. null when no header is found or the total is unknown.
+ * Whether the file was cut: its last frame does not end the file (cut inside a frame), or the
+ * last frame header sits far before the end of the declared samples (cut between frames).
+ * null when no header is found or the total is unknown.
  */
 function flacEndMissing(tail: Uint8Array, total: number | null, maxBlock: number): boolean | null {
   if (!total) return null;
+  let headerSeen = false;
   for (let o = tail.length - 6; o >= 0; o--) {
     if (tail[o] !== 0xff || (tail[o + 1] & 0xfe) !== 0xf8) continue;
     const variable = tail[o + 1] & 1;
@@ -190,8 +209,11 @@ function flacEndMissing(tail: Uint8Array, total: number | null, maxBlock: number
     p += sizeCode === 6 ? 1 : sizeCode === 7 ? 2 : 0;
     p += rateCode === 12 ? 1 : rateCode === 13 || rateCode === 14 ? 2 : 0;
     if (p >= tail.length || crc8(tail, o, p) !== tail[p]) continue;
+    headerSeen = true;
+    // A header whose frame does not end the file is a cut last frame or a false sync in frame data: look further back.
+    if (!frameEndsFile(tail, o)) continue;
     const firstSample = variable ? n : n * maxBlock;
     return firstSample + maxBlock < total - maxBlock;
   }
-  return null;
+  return headerSeen ? true : null;
 }

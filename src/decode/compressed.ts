@@ -12,6 +12,8 @@ import {
 import { loadCodec } from './compressed-codecs.ts';
 import { OutputCheck } from './compressed-output.ts';
 import { probe, type Probe } from './compressed-probe.ts';
+import { checkStreamNumbers } from './riff.ts';
+import { safeName } from './safe-name.ts';
 
 /** Input chunk size: 64 KiB–1 MiB is where the decoders behave (tiny chunks lose FLAC frames). */
 export const INPUT_CHUNK_BYTES = 256 * 1024;
@@ -24,6 +26,7 @@ export async function openCompressed(path: string, container: Container, options
 
   const fileBytes = await fileSize(path);
   const p = await probe(path, container, fileBytes);
+  checkStreamNumbers(`the ${container} header`, p.channels, p.sampleRate);
   if (p.wholeFile) checkWholeFileCap(p, fileBytes, maxDecodedBytes);
 
   const format: AudioFormat = {
@@ -72,11 +75,11 @@ function checkWholeFileCap(p: Probe, fileBytes: number, cap: number): void {
 async function fileSize(path: string): Promise<number> {
   try {
     const s = await stat(path);
-    if (s.size === 0) throw new EarmarkError('empty_file', `${path} is empty`);
+    if (s.size === 0) throw new EarmarkError('empty_file', `${safeName(path)} is empty`);
     return s.size;
   } catch (e) {
     if (e instanceof EarmarkError) throw e;
-    throw new EarmarkError('file_not_found', `cannot read ${path}`, {}, { cause: e });
+    throw new EarmarkError('file_not_found', `cannot read ${safeName(path)}`, {}, { cause: e });
   }
 }
 
@@ -84,6 +87,6 @@ async function fileSize(path: string): Promise<number> {
 function asDecodeError(e: unknown, path: string): EarmarkError {
   if (e instanceof EarmarkError) return e;
   const code = (e as { code?: unknown } | null)?.code;
-  if (typeof code === 'string' && code.startsWith('E')) return new EarmarkError('file_not_found', `cannot read ${path}`, {}, { cause: e });
+  if (typeof code === 'string' && code.startsWith('E')) return new EarmarkError('file_not_found', `cannot read ${safeName(path)}`, {}, { cause: e });
   return new EarmarkError('corrupt_file', `decoder failed: ${e instanceof Error ? e.message : String(e)}`, {}, { cause: e });
 }

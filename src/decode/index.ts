@@ -6,7 +6,9 @@ import { parseAiff } from './aiff.ts';
 import { ByteReader } from './byte-reader.ts';
 import { openCompressed } from './compressed.ts';
 import { DETECT_HEAD_BYTES, detectAfterId3, detectContainer, id3v2Length } from './detect.ts';
+import { rejectNonFinite } from './finite.ts';
 import { parseRiff, streamPcm, type PcmPlan } from './riff.ts';
+import { safeName } from './safe-name.ts';
 import type { Container, DecodedAudio, DecodeOptions } from './types.ts';
 
 export * from './types.ts';
@@ -23,6 +25,10 @@ function isPcmContainer(container: Container): boolean {
 
 function parsePlan(reader: ByteReader, container: Container): Promise<PcmPlan> {
   return container === 'aiff' || container === 'aifc' ? parseAiff(reader, container) : parseRiff(reader, container);
+}
+
+function checkedFloats(plan: PcmPlan, decoded: DecodedAudio): DecodedAudio {
+  return plan.layout.kind === 'float' ? rejectNonFinite(decoded) : decoded;
 }
 
 async function readAt(handle: FileHandle, position: number, length: number): Promise<Uint8Array> {
@@ -55,32 +61,32 @@ export async function openAudioFile(path: string, options: DecodeOptions = {}): 
   let sizeBytes: number;
   try {
     const info = await stat(path);
-    if (!info.isFile()) throw new EarmarkError('file_not_found', `${path} is not a regular file`);
+    if (!info.isFile()) throw new EarmarkError('file_not_found', `${safeName(path)} is not a regular file`);
     sizeBytes = info.size;
   } catch (error) {
     if (error instanceof EarmarkError) throw error;
-    throw new EarmarkError('file_not_found', `cannot read ${path}: ${(error as NodeJS.ErrnoException).code ?? String(error)}`, {}, { cause: error });
+    throw new EarmarkError('file_not_found', `cannot read ${safeName(path)}: ${(error as NodeJS.ErrnoException).code ?? String(error)}`, {}, { cause: error });
   }
-  if (sizeBytes === 0) throw new EarmarkError('empty_file', `${path} is empty`);
+  if (sizeBytes === 0) throw new EarmarkError('empty_file', `${safeName(path)} is empty`);
 
   let handle: FileHandle;
   try {
     handle = await open(path, 'r');
   } catch (error) {
-    throw new EarmarkError('file_not_found', `cannot open ${path}: ${(error as NodeJS.ErrnoException).code ?? String(error)}`, {}, { cause: error });
+    throw new EarmarkError('file_not_found', `cannot open ${safeName(path)}: ${(error as NodeJS.ErrnoException).code ?? String(error)}`, {}, { cause: error });
   }
   let plan: PcmPlan;
   let container: Container | null;
   try {
     container = await detectFile(handle);
-    if (container === null) throw new EarmarkError('unsupported_format', `${path} is not in a recognised audio format`);
+    if (container === null) throw new EarmarkError('unsupported_format', `${safeName(path)} is not in a recognised audio format`);
     if (!isPcmContainer(container)) return await openCompressed(path, container, options);
     plan = await parsePlan(ByteReader.fromFile(handle, sizeBytes), container);
   } finally {
     await handle.close();
   }
   const dataOffset = plan.dataOffset;
-  return streamPcm(plan, async () => ByteReader.fromFile(await open(path, 'r'), sizeBytes, dataOffset), options);
+  return checkedFloats(plan, streamPcm(plan, async () => ByteReader.fromFile(await open(path, 'r'), sizeBytes, dataOffset), options));
 }
 
 /**
@@ -97,7 +103,7 @@ export async function openPcmStream(stream: AsyncIterable<Uint8Array>, options: 
       throw new EarmarkError('unsupported_format', container ? `${container} streams need a file path` : 'the stream is not in a recognised PCM format');
     }
     const plan = await parsePlan(reader, container);
-    return streamPcm(plan, async () => reader, options);
+    return checkedFloats(plan, streamPcm(plan, async () => reader, options));
   } catch (error) {
     await reader.close();
     throw error;

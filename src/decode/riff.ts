@@ -8,6 +8,8 @@ import type { AudioFormat, Container, DecodedAudio, DecodeOptions, DecodeWarning
 import { DEFAULT_MAX_BLOCK_FRAMES } from './types.ts';
 
 export const MAX_SAMPLE_RATE = 1_536_000;
+/** K-weighting's 1.68 kHz shelf needs a Nyquist frequency above it; lower rates make the meters' filters unstable (NaN). */
+export const MIN_SAMPLE_RATE = 4000;
 export const MAX_CHANNELS = 64;
 
 /** How one stored sample looks: integer (signed unless uint8), or IEEE float. */
@@ -193,9 +195,10 @@ export function streamPcm(plan: PcmPlan, openReader: () => Promise<ByteReader>, 
 export function checkStreamNumbers(what: string, channels: number, sampleRate: number): void {
   if (channels === 0) throw new EarmarkError('corrupt_file', `${what} declares 0 channels`);
   if (channels > MAX_CHANNELS) throw new EarmarkError('corrupt_file', `${what} declares ${channels} channels (more than ${MAX_CHANNELS})`);
-  if (!Number.isFinite(sampleRate) || sampleRate <= 0 || sampleRate > MAX_SAMPLE_RATE) {
+  if (!Number.isFinite(sampleRate) || sampleRate < 1 || sampleRate > MAX_SAMPLE_RATE) {
     throw new EarmarkError('corrupt_file', `${what} declares an impossible sample rate of ${sampleRate} Hz`);
   }
+  if (sampleRate < MIN_SAMPLE_RATE) throw new EarmarkError('unsupported_encoding', `${what} declares ${sampleRate} Hz; rates below ${MIN_SAMPLE_RATE} Hz are not supported`);
 }
 
 // ---- RIFF specifics ----
