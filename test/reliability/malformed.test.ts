@@ -8,7 +8,7 @@ import { wavBytes, seedSamples } from '../../fixtures/seeds.ts';
 import { openPcmStream } from '../../src/decode/index.ts';
 import { safeName } from '../../src/decode/safe-name.ts';
 import { isEarmarkError } from '../../src/errors/index.ts';
-import { analyzeOutcome, cliOutcome, describeOutcome, matches } from './outcome.ts';
+import { analyzeOutcome, cliOutcome, describeOutcome, matches } from '../../fixtures/outcome.ts';
 
 const dir = mkdtempSync(join(tmpdir(), 'earmark-malformed-'));
 let cases: MalformedCase[] = [];
