@@ -87,57 +87,37 @@ export class LevelMeter implements Meter<LevelResult> {
     const first = this.frames % 2;
     for (let c = 0; c < this.info.channels; c++) {
       const x = block.channelData[c];
-      const even = 2 * c;
-      const odd = even + 1;
-      let peak = this.peak[c];
-      let sq0 = this.sumSquares[even];
-      let sq1 = this.sumSquares[odd];
-      let s0 = this.sum[even];
-      let s1 = this.sum[odd];
-      let fsCount = 0;
-      let overCount = 0;
+      // Lane of the block's even-indexed samples, and of its odd-indexed ones.
+      const even = 2 * c + first;
+      const odd = 2 * c + 1 - first;
+      let peak = 0, sq0 = this.sumSquares[even], sq1 = this.sumSquares[odd], s0 = this.sum[even], s1 = this.sum[odd];
       let i = 0;
-      if (first === 1 && frames > 0) {
-        const v = x[0];
-        s1 += v;
-        sq1 += v * v;
-        const a = Math.abs(v);
-        if (a > peak) peak = a;
-        if (a >= fullScale) { fsCount++; if (a > 1) overCount++; }
-        i = 1;
-      }
       for (; i + 1 < frames; i += 2) {
-        const v0 = x[i];
-        const v1 = x[i + 1];
-        s0 += v0;
-        s1 += v1;
-        sq0 += v0 * v0;
-        sq1 += v1 * v1;
-        const a = Math.max(Math.abs(v0), Math.abs(v1));
-        if (a > peak) peak = a;
-        // Rare in real audio, so the branch predicts well.
-        if (a >= fullScale) {
-          fsCount += (Math.abs(v0) >= fullScale ? 1 : 0) + (Math.abs(v1) >= fullScale ? 1 : 0);
-          overCount += (Math.abs(v0) > 1 ? 1 : 0) + (Math.abs(v1) > 1 ? 1 : 0);
-        }
+        const v0 = x[i], v1 = x[i + 1];
+        s0 += v0; s1 += v1;
+        sq0 += v0 * v0; sq1 += v1 * v1;
+        peak = Math.max(peak, Math.abs(v0), Math.abs(v1));
       }
       if (i < frames) {
         const v = x[i];
-        s0 += v;
-        sq0 += v * v;
-        const a = Math.abs(v);
-        if (a > peak) peak = a;
-        if (a >= fullScale) { fsCount++; if (a > 1) overCount++; }
+        s0 += v; sq0 += v * v;
+        peak = Math.max(peak, Math.abs(v));
       }
-      this.peak[c] = peak;
-      this.sumSquares[even] = sq0;
-      this.sumSquares[odd] = sq1;
-      this.sum[even] = s0;
-      this.sum[odd] = s1;
-      this.fullScaleCount[c] += fsCount;
-      this.overCount[c] += overCount;
+      this.sumSquares[even] = sq0; this.sumSquares[odd] = sq1;
+      this.sum[even] = s0; this.sum[odd] = s1;
+      if (peak > this.peak[c]) this.peak[c] = peak;
+      // Full-scale samples are rare: count them in a second pass only when the block has any.
+      if (peak >= fullScale || peak > 1) this.countFullScale(c, x, frames);
     }
     this.frames += frames;
+  }
+
+  private countFullScale(c: number, x: Float32Array, frames: number): void {
+    for (let i = 0; i < frames; i++) {
+      const a = Math.abs(x[i]);
+      if (a >= this.fullScaleLinear) this.fullScaleCount[c]++;
+      if (a > 1) this.overCount[c]++;
+    }
   }
 
   result(): LevelResult {

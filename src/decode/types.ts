@@ -32,7 +32,9 @@ export interface DecodeWarning {
 
 /**
  * The one output shape of every decoder. Iterate `blocks` once; blocks are planar Float32
- * with at most `maxBlockFrames` frames. `warnings` fills while decoding: read it after the
+ * with at most `maxBlockFrames` frames. A decoder may reuse a block's arrays for the next block
+ * (the PCM/WAV/AIFF streamer does), so read a block before asking for the next one and copy what
+ * must outlive it. `warnings` fills while decoding: read it after the
  * iteration ends. `framesDecoded` is final after the iteration ends.
  */
 export interface DecodedAudio {

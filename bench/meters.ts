@@ -1,0 +1,62 @@
+// `node bin/run.js bench/meters.ts [file] [seconds]`: per-meter push time on blocks decoded into
+// memory once (so decode is timed separately). Medians of alternating rounds; a benchmark, not a test.
+import { openAudioFile } from '../src/decode/index.ts';
+import type { PcmBlock, StreamInfo, Meter } from '../src/analysis/audio.ts';
+import { AnalysisRunner } from '../src/analysis/runner.ts';
+import { LevelMeter } from '../src/analysis/levels.ts';
+import { TimeWeightedLevelMeter } from '../src/analysis/ballistics.ts';
+import { LoudnessMeter } from '../src/analysis/loudness.ts';
+import { TruePeakMeter } from '../src/analysis/true-peak.ts';
+import { ClippingMeter } from '../src/analysis/clipping.ts';
+import { SilenceMeter } from '../src/analysis/silence.ts';
+import { ChannelRelationMeter } from '../src/analysis/channel-relations.ts';
+
+import { LevelMeter as RefLevels } from '../test/helpers/reference-meters/levels.ts';
+import { TruePeakMeter as RefTruePeak } from '../test/helpers/reference-meters/true-peak.ts';
+import { LoudnessMeter as RefLoudness } from '../test/helpers/reference-meters/loudness.ts';
+
+const [file, secondsArg, only] = process.argv.slice(2);
+const limitSeconds = Number(secondsArg ?? 120);
+const decodeStarted = performance.now();
+const decoded = await openAudioFile(file);
+const info: StreamInfo = { sampleRate: decoded.format.sampleRate, channels: decoded.format.channels, channelLabels: decoded.format.channelLabels };
+const blocks: PcmBlock[] = [];
+let frames = 0;
+for await (const block of decoded.blocks) {
+  blocks.push({ frames: block.frames, channelData: block.channelData.map((c) => c.slice()) });
+  frames += block.frames;
+  if (frames >= limitSeconds * info.sampleRate) break;
+}
+const audioSeconds = frames / info.sampleRate;
+console.log(`${audioSeconds.toFixed(0)} s of audio decoded+copied in ${((performance.now() - decodeStarted) / 1000).toFixed(2)} s`);
+
+const makers: Record<string, () => Meter<unknown>> = {
+  levels: () => new LevelMeter(info),
+  ballistics: () => new TimeWeightedLevelMeter(info),
+  loudness: () => new LoudnessMeter(info),
+  truePeak: () => new TruePeakMeter(info),
+  clipping: () => new ClippingMeter(info),
+  silence: () => new SilenceMeter(info),
+  relations: () => new ChannelRelationMeter(info),
+  runner: () => new AnalysisRunner(info),
+  // The straightforward implementations the optimised meters replaced, for side-by-side ratios.
+  'levels ref': () => new RefLevels(info),
+  'loudness ref': () => new RefLoudness(info),
+  'truePeak ref': () => new RefTruePeak(info),
+};
+if (only) for (const name of Object.keys(makers)) if (!name.startsWith(only)) delete makers[name];
+const times: Record<string, number[]> = {};
+for (let round = 0; round < 5; round++) {
+  for (const [name, make] of Object.entries(makers)) {
+    const meter = make();
+    const t0 = performance.now();
+    for (const block of blocks) meter.push(block);
+    meter.result();
+    (times[name] ??= []).push(performance.now() - t0);
+  }
+}
+const median = (v: number[]) => [...v].sort((a, b) => a - b)[v.length >> 1];
+for (const [name, t] of Object.entries(times)) {
+  const ms = median(t);
+  console.log(`${name.padEnd(11)} ${(ms * 60 / audioSeconds).toFixed(0).padStart(6)} ms per audio minute  ${(audioSeconds * 1000 / ms).toFixed(0).padStart(6)}x realtime`);
+}

@@ -1,0 +1,198 @@
+// Whole-stream sample levels: peak, RMS, DC offset, crest factor, full-scale counts.
+// Sums run sample by sample in stream order (Float64), so block cuts never change a result.
+
+import type { Meter, PcmBlock, StreamInfo } from '../../../src/analysis/audio.ts';
+
+/** 20 log10(2^0.5): AES17 references RMS to a full-scale sine, so it reads this much higher. */
+export const AES17_OFFSET_DB = 10 * Math.log10(2);
+
+/** Amplitude to dBFS; digital silence is null (JSON has no -Infinity). */
+export function amplitudeToDb(linear: number): number | null {
+  return linear > 0 ? 20 * Math.log10(linear) : null;
+}
+
+/** Mean square to dBFS (same reference as amplitudeToDb(rms)). */
+export function powerToDb(meanSquare: number): number | null {
+  return meanSquare > 0 ? 10 * Math.log10(meanSquare) : null;
+}
+
+export interface LevelMeterOptions {
+  /** |x| at or above this counts as a full-scale sample. Default 1.0. */
+  fullScaleLinear?: number;
+}
+
+export interface ChannelLevels {
+  channel: number;
+  samplePeakLinear: number;
+  samplePeakDbfs: number | null;
+  rmsLinear: number;
+  /** 20 log10(RMS): full-scale sine reads -3.01. */
+  rmsDbfs: number | null;
+  /** RMS referenced to a full-scale sine (AES17): rmsDbfs + 3.0103, full-scale sine reads 0. */
+  rmsAes17Db: number | null;
+  /** Mean sample value (signed). */
+  dcOffsetLinear: number;
+  dcOffsetDbfs: number | null;
+  /** Peak over plain RMS; null when the channel is digital silence. */
+  crestFactorDb: number | null;
+  /** Samples with |x| >= fullScaleLinear. */
+  fullScaleSamples: number;
+  /** Samples with |x| > 1 (only float sources can hold them). */
+  overFullScaleSamples: number;
+}
+
+export interface LevelResult {
+  frames: number;
+  durationSeconds: number;
+  channels: ChannelLevels[];
+  /** All channels together: max peak, power mean of the channels' mean squares, summed counts. */
+  all: {
+    samplePeakLinear: number;
+    samplePeakDbfs: number | null;
+    /** Index of the channel holding the maximum peak; null when every channel is silent. */
+    peakChannel: number | null;
+    rmsLinear: number;
+    rmsDbfs: number | null;
+    rmsAes17Db: number | null;
+    fullScaleSamples: number;
+    overFullScaleSamples: number;
+  };
+}
+
+export class LevelMeter implements Meter<LevelResult> {
+  private readonly fullScaleLinear: number;
+  private readonly peak: Float64Array;
+  private readonly sumSquares: Float64Array;
+  private readonly sum: Float64Array;
+  private readonly fullScaleCount: Float64Array;
+  private readonly overCount: Float64Array;
+  private frames = 0;
+
+  constructor(private readonly info: StreamInfo, options: LevelMeterOptions = {}) {
+    this.fullScaleLinear = options.fullScaleLinear ?? 1;
+    const n = info.channels;
+    this.peak = new Float64Array(n);
+    // Two lanes per channel: [2c] even frames, [2c + 1] odd frames.
+    this.sumSquares = new Float64Array(2 * n);
+    this.sum = new Float64Array(2 * n);
+    this.fullScaleCount = new Float64Array(n);
+    this.overCount = new Float64Array(n);
+  }
+
+  push(block: PcmBlock): void {
+    const frames = block.frames;
+    const fullScale = this.fullScaleLinear;
+    // Two accumulator lanes keyed by the absolute frame parity: halves the add-latency chain
+    // and still sums every sample in the same order however the stream is cut.
+    const first = this.frames % 2;
+    for (let c = 0; c < this.info.channels; c++) {
+      const x = block.channelData[c];
+      const even = 2 * c;
+      const odd = even + 1;
+      let peak = this.peak[c];
+      let sq0 = this.sumSquares[even];
+      let sq1 = this.sumSquares[odd];
+      let s0 = this.sum[even];
+      let s1 = this.sum[odd];
+      let fsCount = 0;
+      let overCount = 0;
+      let i = 0;
+      if (first === 1 && frames > 0) {
+        const v = x[0];
+        s1 += v;
+        sq1 += v * v;
+        const a = Math.abs(v);
+        if (a > peak) peak = a;
+        if (a >= fullScale) { fsCount++; if (a > 1) overCount++; }
+        i = 1;
+      }
+      for (; i + 1 < frames; i += 2) {
+        const v0 = x[i];
+        const v1 = x[i + 1];
+        s0 += v0;
+        s1 += v1;
+        sq0 += v0 * v0;
+        sq1 += v1 * v1;
+        const a = Math.max(Math.abs(v0), Math.abs(v1));
+        if (a > peak) peak = a;
+        // Rare in real audio, so the branch predicts well.
+        if (a >= fullScale) {
+          fsCount += (Math.abs(v0) >= fullScale ? 1 : 0) + (Math.abs(v1) >= fullScale ? 1 : 0);
+          overCount += (Math.abs(v0) > 1 ? 1 : 0) + (Math.abs(v1) > 1 ? 1 : 0);
+        }
+      }
+      if (i < frames) {
+        const v = x[i];
+        s0 += v;
+        sq0 += v * v;
+        const a = Math.abs(v);
+        if (a > peak) peak = a;
+        if (a >= fullScale) { fsCount++; if (a > 1) overCount++; }
+      }
+      this.peak[c] = peak;
+      this.sumSquares[even] = sq0;
+      this.sumSquares[odd] = sq1;
+      this.sum[even] = s0;
+      this.sum[odd] = s1;
+      this.fullScaleCount[c] += fsCount;
+      this.overCount[c] += overCount;
+    }
+    this.frames += frames;
+  }
+
+  result(): LevelResult {
+    const n = this.info.channels;
+    const frames = this.frames;
+    const channels: ChannelLevels[] = [];
+    let maxPeak = 0;
+    let peakChannel: number | null = null;
+    let meanSquareSum = 0;
+    let fsTotal = 0;
+    let overTotal = 0;
+    for (let c = 0; c < n; c++) {
+      const meanSquare = frames > 0 ? (this.sumSquares[2 * c] + this.sumSquares[2 * c + 1]) / frames : 0;
+      const rms = Math.sqrt(meanSquare);
+      const dc = frames > 0 ? (this.sum[2 * c] + this.sum[2 * c + 1]) / frames : 0;
+      const peak = this.peak[c];
+      const rmsDbfs = powerToDb(meanSquare);
+      const peakDbfs = amplitudeToDb(peak);
+      channels.push({
+        channel: c,
+        samplePeakLinear: peak,
+        samplePeakDbfs: peakDbfs,
+        rmsLinear: rms,
+        rmsDbfs,
+        rmsAes17Db: rmsDbfs === null ? null : rmsDbfs + AES17_OFFSET_DB,
+        dcOffsetLinear: dc,
+        dcOffsetDbfs: amplitudeToDb(Math.abs(dc)),
+        crestFactorDb: rms > 0 ? 20 * Math.log10(peak / rms) : null,
+        fullScaleSamples: this.fullScaleCount[c],
+        overFullScaleSamples: this.overCount[c],
+      });
+      if (peak > maxPeak) {
+        maxPeak = peak;
+        peakChannel = c;
+      }
+      meanSquareSum += meanSquare;
+      fsTotal += this.fullScaleCount[c];
+      overTotal += this.overCount[c];
+    }
+    const allMeanSquare = n > 0 ? meanSquareSum / n : 0;
+    const allRmsDbfs = powerToDb(allMeanSquare);
+    return {
+      frames,
+      durationSeconds: frames / this.info.sampleRate,
+      channels,
+      all: {
+        samplePeakLinear: maxPeak,
+        samplePeakDbfs: amplitudeToDb(maxPeak),
+        peakChannel,
+        rmsLinear: Math.sqrt(allMeanSquare),
+        rmsDbfs: allRmsDbfs,
+        rmsAes17Db: allRmsDbfs === null ? null : allRmsDbfs + AES17_OFFSET_DB,
+        fullScaleSamples: fsTotal,
+        overFullScaleSamples: overTotal,
+      },
+    };
+  }
+}
