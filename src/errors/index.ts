@@ -19,6 +19,7 @@ export const errorCatalogue = {
   forbidden: { status: 403, title: 'The API key lacks the scope for this operation' },
   not_found: { status: 404, title: 'No such resource' },
   idempotency_conflict: { status: 409, title: 'The Idempotency-Key was used with a different request' },
+  report_not_ready: { status: 409, title: 'The job has not completed, so it has no report yet' },
   payload_too_large: { status: 413, title: 'The upload is larger than the configured limit' },
   unsupported_media_type: { status: 415, title: 'The request body type is not accepted here' },
   source_refused: { status: 422, title: 'The URL is not allowed (scheme or address refused)' },

@@ -1,0 +1,17 @@
+// What the HTTP app needs from the outside; the entrypoint builds these, tests build their own.
+
+import type { Redis } from 'ioredis';
+import type { UrlPolicy } from '../net/url-guard.ts';
+import type { ProfileStore } from '../queue/profile-store.ts';
+import type { AnalysisQueue } from '../queue/queues.ts';
+import type { ServiceStore } from '../queue/store.ts';
+import type { Storage } from '../storage/index.ts';
+
+export interface AppDeps {
+  redis: Redis;
+  queue: AnalysisQueue;
+  store: ServiceStore;
+  profiles: ProfileStore;
+  storage: Storage;
+  policy: UrlPolicy;
+}

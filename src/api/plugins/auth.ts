@@ -1,0 +1,48 @@
+// Bearer API keys. Keys are compared as SHA-256 digests with timingSafeEqual, checking every
+// configured key, so neither the length nor the position of a match shows in the timing.
+
+import { createHash, timingSafeEqual } from 'node:crypto';
+import type { FastifyInstance, FastifyRequest } from 'fastify';
+import type { ApiKey, Scope } from '../../config/index.ts';
+import { EarmarkError } from '../../errors/index.ts';
+
+export interface Principal { tenant: string; scopes: Scope[] }
+
+declare module 'fastify' {
+  interface FastifyRequest { principal: Principal | null }
+}
+
+const digest = (s: string) => createHash('sha256').update(s).digest();
+
+export function findKey(keys: Array<{ digest: Buffer; entry: ApiKey }>, presented: string): ApiKey | null {
+  const given = digest(presented);
+  let found: ApiKey | null = null;
+  for (const k of keys) if (timingSafeEqual(k.digest, given)) found = k.entry;
+  return found;
+}
+
+export function principalOf(request: FastifyRequest): Principal {
+  if (!request.principal) throw new EarmarkError('unauthorized', 'a valid API key is required');
+  return request.principal;
+}
+
+export function authPlugin(apiKeys: ApiKey[]) {
+  const keys = apiKeys.map((entry) => ({ digest: digest(entry.key), entry }));
+  const plugin = async (app: FastifyInstance) => {
+    app.decorateRequest('principal', null);
+    app.addHook('onRequest', async (request) => {
+      const scope = request.routeOptions.config?.scope;
+      if (!scope) return;
+      const header = request.headers.authorization ?? '';
+      const match = /^Bearer ([\x21-\x7e]{1,512})$/.exec(header);
+      const entry = match ? findKey(keys, match[1]) : null;
+      if (!entry) throw new EarmarkError('unauthorized', 'send a valid API key as "Authorization: Bearer <key>"');
+      request.principal = { tenant: entry.tenant, scopes: entry.scopes };
+      request.log = request.log.child({ tenant: entry.tenant });
+      if (!entry.scopes.includes(scope) && !entry.scopes.includes('admin')) {
+        throw new EarmarkError('forbidden', `this API key lacks the "${scope}" scope`);
+      }
+    });
+  };
+  return Object.assign(plugin, { [Symbol.for('skip-override')]: true });
+}

@@ -1,0 +1,193 @@
+// Job routes: submit (multipart upload or JSON sourceUrl), status, report, listing, queue.
+
+import type { MultipartFile } from '@fastify/multipart';
+import { Ajv } from 'ajv';
+import type { FastifyInstance, FastifyRequest } from 'fastify';
+import type { Job } from 'bullmq';
+import { EarmarkError } from '../../errors/index.ts';
+import type { AnalyzeJobV1, AnalyzeResultV1 } from '../../queue/contract.ts';
+import { jobView, stateOf, type JobView } from '../../queue/job-view.ts';
+import type { StoredFile } from '../../storage/index.ts';
+import type { AppDeps } from '../deps.ts';
+import { route, type RouteSpec } from '../route-spec.ts';
+import * as S from '../schemas.ts';
+import { submitJob, type SubmitInput } from '../submit.ts';
+import { principalOf } from './auth.ts';
+
+const problems = (...statuses: number[]) => Object.fromEntries(statuses.map((s) => [s, { description: 'Problem', schema: S.Problem, contentType: 'application/problem+json' }]));
+const idempotencyHeader = { 'Idempotency-Key': { description: 'Repeat a submission safely: the same key returns the job made the first time.', schema: { type: 'string', maxLength: 200 } } };
+
+export const jobSpecs = {
+  submit: {
+    method: 'POST', url: '/v1/jobs', operationId: 'submitJob', tag: 'jobs', scope: 'submit',
+    summary: 'Submit a file (multipart upload) or a sourceUrl (JSON) for QC against a profile',
+    body: { 'application/json': S.SubmitJson, 'multipart/form-data': S.SubmitMultipart },
+    headers: idempotencyHeader,
+    responses: {
+      202: { description: 'Queued', schema: S.JobAccepted, headers: { Location: 'The job status URL' } },
+      200: { description: 'Already submitted with this Idempotency-Key', schema: S.JobAccepted },
+      ...problems(400, 401, 403, 409, 413, 415, 422, 503),
+    },
+  },
+  get: {
+    method: 'GET', url: '/v1/jobs/:id', operationId: 'getJob', tag: 'jobs', scope: 'read', summary: 'Job state, progress, verdict and webhook deliveries',
+    params: S.JobIdParams, responses: { 200: { description: 'The job', schema: S.Job }, ...problems(400, 401, 403, 404, 503) },
+  },
+  report: {
+    method: 'GET', url: '/v1/jobs/:id/report', operationId: 'getJobReport', tag: 'jobs', scope: 'read', summary: 'The QC report of a completed job',
+    params: S.JobIdParams, responses: { 200: { description: 'The report', schema: S.Report }, ...problems(400, 401, 403, 404, 409, 503) },
+  },
+  list: {
+    method: 'GET', url: '/v1/jobs', operationId: 'listJobs', tag: 'jobs', scope: 'read', summary: 'The tenant\'s jobs, newest first, with cursor pagination',
+    querystring: S.ListJobsQuery, responses: { 200: { description: 'A page of jobs', schema: S.JobList }, ...problems(400, 401, 403, 503) },
+  },
+  queue: {
+    method: 'GET', url: '/v1/queue', operationId: 'getQueue', tag: 'jobs', scope: 'read', summary: 'Queue counts, workers seen and jobs finished in the last minute',
+    responses: { 200: { description: 'Queue status', schema: S.QueueStatus }, ...problems(401, 403, 503) },
+  },
+} satisfies Record<string, RouteSpec>;
+
+const ajv = new Ajv({ allErrors: false });
+const validateJson = ajv.compile(S.SubmitJson);
+const validateFields = ajv.compile({ ...S.SubmitJson, required: ['profile'], properties: { ...(S.SubmitJson.properties as object), sourceUrl: false } });
+
+function fieldError(errors: typeof validateFields.errors): EarmarkError {
+  const e = errors?.[0];
+  const missing = (e?.params as { missingProperty?: string; additionalProperty?: string } | undefined);
+  const field = missing?.missingProperty ?? missing?.additionalProperty ?? (e?.instancePath.replace(/^\//, '').replace(/\//g, '.') || 'body');
+  return new EarmarkError('validation_failed', `${field} ${e?.keyword === 'additionalProperties' ? 'is not a known field' : e?.message ?? 'is invalid'}`, { field });
+}
+
+const cleanName = (name: string | undefined) => (name ?? 'upload').replace(/[^\w .()-]/g, '_').slice(0, 200) || 'upload';
+
+async function readMultipart(deps: AppDeps, request: FastifyRequest, limitBytes: number): Promise<{ stored: StoredFile; fileName: string; input: SubmitInput }> {
+  let stored: StoredFile | null = null;
+  let fileName = 'upload';
+  let problem: EarmarkError | null = null;
+  const fields: Record<string, string> = {};
+  try {
+    for await (const part of request.parts()) {
+      if (part.type === 'file') {
+        const file = part as MultipartFile;
+        if (file.fieldname !== 'file' || stored || problem) {
+          file.file.resume();
+          problem ??= new EarmarkError('validation_failed', 'send exactly one file part, named "file"', { field: file.fieldname });
+          continue;
+        }
+        stored = await deps.storage.saveUpload(file.file, limitBytes, () => file.file.truncated);
+        fileName = cleanName(file.filename);
+      } else {
+        fields[part.fieldname] = String(part.value);
+      }
+    }
+    if (problem) throw problem;
+    if (!stored) throw new EarmarkError('validation_failed', 'the multipart body has no "file" part', { field: 'file' });
+    const input: Record<string, unknown> = { ...fields };
+    if (fields.metadata !== undefined) {
+      try { input.metadata = JSON.parse(fields.metadata); } catch { throw new EarmarkError('validation_failed', 'metadata is not valid JSON', { field: 'metadata' }); }
+    }
+    if (!validateFields(input)) throw fieldError(validateFields.errors);
+    return { stored, fileName, input: input as unknown as SubmitInput };
+  } catch (error) {
+    if (stored) await deps.storage.remove(stored.key).catch(() => undefined);
+    throw error;
+  }
+}
+
+async function loadJob(deps: AppDeps, tenant: string, id: string): Promise<Job<AnalyzeJobV1, AnalyzeResultV1>> {
+  const job = await deps.queue.getJob(id);
+  // Another tenant's job answers exactly like a missing one.
+  if (!job || job.data.tenant !== tenant) throw new EarmarkError('not_found', `no job ${id}`);
+  return job;
+}
+
+async function viewOf(deps: AppDeps, job: Job<AnalyzeJobV1, AnalyzeResultV1>): Promise<JobView> {
+  const [state, deliveries] = await Promise.all([job.getState(), deps.store.deliveries(String(job.id))]);
+  return jobView(job, state, deliveries);
+}
+
+const encodeCursor = (c: { scoreMs: number; id: string }) => Buffer.from(`${c.scoreMs}:${c.id}`).toString('base64url');
+function decodeCursor(raw: string): { scoreMs: number; id: string } {
+  const match = /^(\d+):(j_[a-z0-9]+)$/.exec(Buffer.from(raw, 'base64url').toString());
+  if (!match) throw new EarmarkError('validation_failed', 'cursor is not one this API gave out', { field: 'cursor' });
+  return { scoreMs: Number(match[1]), id: match[2] };
+}
+
+export function jobsPlugin(deps: AppDeps, uploadLimitBytes: number) {
+  return async (app: FastifyInstance) => {
+    route(app, jobSpecs.submit, async (request, reply) => {
+      const { tenant } = principalOf(request);
+      const idempotencyKey = typeof request.headers['idempotency-key'] === 'string' ? request.headers['idempotency-key'].slice(0, 200) : undefined;
+      let result;
+      if (request.isMultipart()) {
+        const { stored, fileName, input } = await readMultipart(deps, request, uploadLimitBytes);
+        try {
+          result = await submitJob(deps, tenant, input, { kind: 'upload', storageKey: stored.key, fileName, sizeBytes: stored.sizeBytes, sha256: stored.sha256 }, idempotencyKey);
+        } catch (error) {
+          await deps.storage.remove(stored.key).catch(() => undefined);
+          throw error;
+        }
+        if (result.duplicate) await deps.storage.remove(stored.key).catch(() => undefined);
+      } else {
+        const body = request.body as { sourceUrl: string } & SubmitInput;
+        if (!validateJson(body)) throw fieldError(validateJson.errors);
+        const { sourceUrl, ...input } = body;
+        result = await submitJob(deps, tenant, input, { kind: 'url', url: sourceUrl }, idempotencyKey);
+      }
+      request.log.info({ jobId: result.id, duplicate: result.duplicate }, 'job submitted');
+      const statusUrl = `/v1/jobs/${result.id}`;
+      const job = result.duplicate ? await deps.queue.getJob(result.id) : null;
+      const state = job ? stateOf(await job.getState()) : 'queued';
+      return reply.code(result.duplicate ? 200 : 202).header('location', statusUrl).send({ id: result.id, state, statusUrl, duplicate: result.duplicate });
+    });
+
+    route(app, jobSpecs.get, async (request) => {
+      const { id } = request.params as { id: string };
+      return viewOf(deps, await loadJob(deps, principalOf(request).tenant, id));
+    });
+
+    route(app, jobSpecs.report, async (request, reply) => {
+      const { id } = request.params as { id: string };
+      const job = await loadJob(deps, principalOf(request).tenant, id);
+      const state = stateOf(await job.getState());
+      if (state !== 'completed') throw new EarmarkError('report_not_ready', `job ${id} is ${state}`);
+      const json = (await deps.store.getReport(id)) ?? (await deps.storage.readReport(id));
+      if (!json) throw new EarmarkError('not_found', `the report of job ${id} is past its retention period`);
+      return reply.type('application/json').send(json);
+    });
+
+    route(app, jobSpecs.list, async (request) => {
+      const q = request.query as { state?: string; verdict?: string; profile?: string; limit: number; cursor?: string };
+      const { tenant } = principalOf(request);
+      let cursor = q.cursor ? decodeCursor(q.cursor) : null;
+      const items: JobView[] = [];
+      // Filters are applied while scanning the tenant's index; one request examines at most 1000 jobs.
+      for (let examined = 0; items.length < q.limit && examined < 1000;) {
+        const page = await deps.store.jobPage(tenant, cursor, Math.min(100, q.limit * 2));
+        if (page.length === 0) { cursor = null; break; }
+        for (const row of page) {
+          examined += 1;
+          cursor = row;
+          const job = await deps.queue.getJob(row.id);
+          if (!job) { await deps.store.unindexJob(tenant, row.id); continue; }
+          const view = await viewOf(deps, job);
+          if ((q.state && view.state !== q.state) || (q.verdict && view.verdict !== q.verdict) || (q.profile && view.profile.id !== q.profile)) continue;
+          items.push(view);
+          if (items.length === q.limit) break;
+        }
+      }
+      const more = cursor !== null && (await deps.store.jobPage(tenant, cursor, 1)).length > 0;
+      return { items, nextCursor: more && cursor ? encodeCursor(cursor) : null };
+    });
+
+    route(app, jobSpecs.queue, async () => {
+      const counts = await deps.queue.getJobCounts('waiting', 'active', 'delayed', 'completed', 'failed', 'prioritized');
+      const workers = await deps.queue.getWorkers();
+      return {
+        waiting: (counts.waiting ?? 0) + (counts.prioritized ?? 0), active: counts.active ?? 0, delayed: counts.delayed ?? 0,
+        completed: counts.completed ?? 0, failed: counts.failed ?? 0, workers: workers.length,
+        finishedLastMinute: await deps.store.finishedSince(Date.now() - 60_000),
+      };
+    });
+  };
+}

@@ -1,0 +1,194 @@
+// JSON Schemas of the API. Fastify validates requests with them; the OpenAPI document is built
+// from the same objects (components are recognised by identity and become $refs).
+
+import { existsSync, readFileSync } from 'node:fs';
+import { profileSchema } from '../profiles/index.ts';
+
+type Schema = Record<string, unknown>;
+
+const nullable = (type: string, extra: Schema = {}): Schema => ({ type: [type, 'null'], ...extra });
+
+export const Problem: Schema = {
+  type: 'object',
+  description: 'RFC 9457 problem details; `code` is stable, `title` and `detail` are for people.',
+  required: ['type', 'title', 'status', 'code', 'detail'],
+  properties: {
+    type: { type: 'string' },
+    title: { type: 'string' },
+    status: { type: 'integer' },
+    code: { type: 'string' },
+    detail: { type: 'string' },
+    field: { type: 'string' },
+    instance: { type: 'string' },
+    requestId: { type: 'string' },
+  },
+};
+
+export const DeliveryAttempt: Schema = {
+  type: 'object',
+  required: ['deliveryId', 'event', 'attempt', 'at', 'statusCode', 'outcome', 'error'],
+  properties: {
+    deliveryId: { type: 'string' },
+    event: { type: 'string', enum: ['job.completed', 'job.failed'] },
+    attempt: { type: 'integer', minimum: 1 },
+    at: { type: 'string', format: 'date-time' },
+    statusCode: nullable('integer'),
+    outcome: { type: 'string', enum: ['delivered', 'retrying', 'failed'] },
+    error: nullable('string'),
+  },
+  additionalProperties: false,
+};
+
+export const Job: Schema = {
+  type: 'object',
+  required: ['id', 'state', 'progressPercent', 'createdAt', 'startedAt', 'finishedAt', 'attemptsMade', 'profile', 'source', 'externalId', 'metadata', 'verdict', 'error', 'callback', 'links'],
+  properties: {
+    id: { type: 'string' },
+    state: { type: 'string', enum: ['queued', 'active', 'completed', 'failed'] },
+    progressPercent: { type: 'integer', minimum: 0, maximum: 100 },
+    createdAt: { type: 'string', format: 'date-time' },
+    startedAt: nullable('string', { format: 'date-time' }),
+    finishedAt: nullable('string', { format: 'date-time' }),
+    attemptsMade: { type: 'integer', minimum: 0 },
+    profile: { type: 'object', required: ['id', 'version'], properties: { id: { type: 'string' }, version: { type: 'string' } }, additionalProperties: false },
+    source: {
+      oneOf: [
+        { type: 'object', required: ['kind', 'fileName', 'sizeBytes'], properties: { kind: { const: 'upload' }, fileName: { type: 'string' }, sizeBytes: { type: 'integer' } }, additionalProperties: false },
+        { type: 'object', required: ['kind', 'url'], properties: { kind: { const: 'url' }, url: { type: 'string' } }, additionalProperties: false },
+      ],
+    },
+    externalId: nullable('string'),
+    metadata: { type: ['object', 'null'], additionalProperties: { type: 'string' } },
+    verdict: { type: ['string', 'null'], enum: ['pass', 'warn', 'fail', null] },
+    error: { type: ['object', 'null'], required: ['code', 'message'], properties: { code: { type: 'string' }, message: { type: 'string' } }, additionalProperties: false },
+    callback: {
+      type: ['object', 'null'],
+      required: ['url', 'deliveries'],
+      properties: { url: { type: 'string' }, deliveries: { type: 'array', items: DeliveryAttempt } },
+      additionalProperties: false,
+    },
+    links: { type: 'object', required: ['self', 'report'], properties: { self: { type: 'string' }, report: nullable('string') }, additionalProperties: false },
+  },
+  additionalProperties: false,
+};
+
+export const JobAccepted: Schema = {
+  type: 'object',
+  required: ['id', 'state', 'statusUrl', 'duplicate'],
+  properties: {
+    id: { type: 'string' },
+    state: { type: 'string', enum: ['queued', 'active', 'completed', 'failed'] },
+    statusUrl: { type: 'string' },
+    /** True when an Idempotency-Key matched an earlier submission. */
+    duplicate: { type: 'boolean' },
+  },
+  additionalProperties: false,
+};
+
+export const JobList: Schema = {
+  type: 'object',
+  required: ['items', 'nextCursor'],
+  properties: { items: { type: 'array', items: Job }, nextCursor: nullable('string') },
+  additionalProperties: false,
+};
+
+export const QueueStatus: Schema = {
+  type: 'object',
+  required: ['waiting', 'active', 'delayed', 'completed', 'failed', 'workers', 'finishedLastMinute'],
+  properties: {
+    waiting: { type: 'integer' }, active: { type: 'integer' }, delayed: { type: 'integer' },
+    completed: { type: 'integer' }, failed: { type: 'integer' }, workers: { type: 'integer' },
+    finishedLastMinute: { type: 'integer' },
+  },
+  additionalProperties: false,
+};
+
+/** The delivery profile (openapi/profile.schema.json, owned by the profiles layer). */
+export const Profile: Schema = profileSchema;
+
+export const ProfileEntry: Schema = {
+  type: 'object',
+  required: ['profile', 'builtin', 'versions'],
+  properties: { profile: Profile, builtin: { type: 'boolean' }, versions: { type: 'integer', minimum: 1 } },
+  additionalProperties: false,
+};
+
+export const ProfileList: Schema = {
+  type: 'object', required: ['items'], properties: { items: { type: 'array', items: ProfileEntry } }, additionalProperties: false,
+};
+
+const REPORT_SCHEMA_URL = new URL('../../openapi/report.schema.json', import.meta.url);
+
+/** The QC report: the profiles layer's schema when it ships one, else the fields the service relies on. */
+export const Report: Schema = existsSync(REPORT_SCHEMA_URL)
+  ? JSON.parse(readFileSync(REPORT_SCHEMA_URL, 'utf8'))
+  : {
+    type: 'object',
+    description: 'The QC report: the analysis document plus verdict, checks, flags and correction.',
+    required: ['reportVersion', 'verdict', 'profile', 'checks', 'flags', 'summary', 'format', 'generatedAt'],
+    properties: {
+      reportVersion: { type: 'integer' },
+      verdict: { type: 'string', enum: ['pass', 'warn', 'fail'] },
+      profile: { type: 'object', required: ['id', 'version', 'name', 'basis'], properties: { id: { type: 'string' }, version: { type: 'string' }, name: { type: 'string' }, basis: { type: 'string' } } },
+      checks: { type: 'array', items: { type: 'object', required: ['ruleId', 'type', 'severity', 'outcome', 'passed', 'explanation'] } },
+      flags: { type: 'array', items: { type: 'object', required: ['kind', 'ruleId', 'severity', 'startSeconds', 'endSeconds', 'startTimecode', 'endTimecode'] } },
+      summary: { type: 'object' },
+      format: { type: 'object' },
+      generatedAt: { type: 'string', format: 'date-time' },
+    },
+  };
+
+export const Health: Schema = {
+  type: 'object', required: ['status'],
+  properties: { status: { type: 'string', enum: ['ok', 'unavailable'] }, redis: { type: 'boolean' }, storage: { type: 'boolean' } },
+  additionalProperties: false,
+};
+
+export const components: Record<string, Schema> = { Problem, DeliveryAttempt, Job, JobAccepted, JobList, QueueStatus, Profile, ProfileEntry, ProfileList, Report, Health };
+
+export const JobIdParams: Schema = {
+  type: 'object', required: ['id'], properties: { id: { type: 'string', pattern: '^j_[a-z0-9]{20,40}$' } },
+};
+
+export const ProfileIdParams: Schema = {
+  type: 'object', required: ['id'], properties: { id: { type: 'string', pattern: '^[a-z0-9][a-z0-9-]{0,63}$' } },
+};
+
+export const ListJobsQuery: Schema = {
+  type: 'object',
+  properties: {
+    state: { type: 'string', enum: ['queued', 'active', 'completed', 'failed'] },
+    verdict: { type: 'string', enum: ['pass', 'warn', 'fail'] },
+    profile: { type: 'string', maxLength: 64 },
+    limit: { type: 'integer', minimum: 1, maximum: 100, default: 20 },
+    cursor: { type: 'string', maxLength: 200 },
+  },
+  additionalProperties: false,
+};
+
+const submitFields = {
+  profile: { type: 'string', pattern: '^[a-z0-9][a-z0-9-]{0,63}$', description: 'Profile id (built-in or the tenant\'s own); its current version is used.' },
+  callbackUrl: { type: 'string', maxLength: 2000, description: 'Receives a signed POST when the job completes or fails.' },
+  externalId: { type: 'string', maxLength: 200 },
+};
+
+export const SubmitJson: Schema = {
+  type: 'object',
+  required: ['sourceUrl', 'profile'],
+  properties: {
+    sourceUrl: { type: 'string', maxLength: 2000, description: 'Fetched by the worker (size cap, timeout; internal addresses refused).' },
+    ...submitFields,
+    metadata: { type: 'object', maxProperties: 20, additionalProperties: { type: 'string', maxLength: 500 } },
+  },
+  additionalProperties: false,
+};
+
+export const SubmitMultipart: Schema = {
+  type: 'object',
+  required: ['file', 'profile'],
+  properties: {
+    file: { type: 'string', contentMediaType: 'application/octet-stream', description: 'The audio file (format detected from its bytes).' },
+    ...submitFields,
+    metadata: { type: 'string', description: 'A JSON object of string values.' },
+  },
+};

@@ -1,0 +1,44 @@
+// Builds the API's dependencies (fail-fast Redis connection, queue, stores, storage), the app,
+// and listens. close() stops accepting, lets in-flight requests finish (bounded), then closes.
+
+import type { FastifyInstance } from 'fastify';
+import type { Config } from '../config/index.ts';
+import { UrlPolicy } from '../net/url-guard.ts';
+import { createRedis, waitReady } from '../queue/connection.ts';
+import { ProfileStore } from '../queue/profile-store.ts';
+import { createAnalysisQueue } from '../queue/queues.ts';
+import { ServiceStore } from '../queue/store.ts';
+import { openStorage } from '../storage/index.ts';
+import { buildApp } from './app.ts';
+import type { AppDeps } from './deps.ts';
+
+export interface RunningApi { app: FastifyInstance; deps: AppDeps; url: string; close(): Promise<void> }
+
+export async function startApi(config: Config): Promise<RunningApi> {
+  const redis = createRedis(config.redisUrl, 'api');
+  let app: FastifyInstance | null = null;
+  const log = (message: string, error: Error) => app?.log.warn({ err: { message: error.message } }, message);
+  redis.on('error', (error) => log('redis connection error', error));
+  await waitReady(redis, 5_000);
+  const storage = await openStorage(config.storageDir);
+  const queue = createAnalysisQueue(redis, config, (error) => log('analysis queue error', error));
+  const deps: AppDeps = {
+    redis, queue, storage,
+    store: new ServiceStore(redis, config.queuePrefix, config.retentionHours * 3600),
+    profiles: new ProfileStore(redis, config.queuePrefix),
+    policy: new UrlPolicy(config.urlAllowlist),
+  };
+  app = await buildApp(config, deps);
+  const address = await app.listen({ port: config.port, host: config.host });
+  const running = app;
+  return {
+    app: running, deps, url: address.replace('0.0.0.0', '127.0.0.1'),
+    async close() {
+      let timer: NodeJS.Timeout | undefined;
+      await Promise.race([running.close(), new Promise((resolve) => { timer = setTimeout(resolve, config.shutdownTimeoutMs); })]);
+      clearTimeout(timer);
+      await queue.close().catch(() => undefined);
+      await redis.quit().catch(() => redis.disconnect());
+    },
+  };
+}

@@ -1,0 +1,55 @@
+// Turning a validated submission into a queued job: profile resolution, URL policy,
+// idempotency and the BullMQ add. A failure after the upload was stored removes it again.
+
+import { createHash, randomBytes } from 'node:crypto';
+import { EarmarkError } from '../errors/index.ts';
+import { ANALYZE_JOB_V1, type AnalyzeJobV1, type JobSource } from '../queue/contract.ts';
+import type { AppDeps } from './deps.ts';
+
+export interface SubmitInput {
+  profile: string;
+  callbackUrl?: string;
+  externalId?: string;
+  metadata?: Record<string, string>;
+}
+
+export interface Submitted { id: string; duplicate: boolean }
+
+export const newJobId = () => `j_${randomBytes(12).toString('hex')}`;
+
+export async function submitJob(deps: AppDeps, tenant: string, input: SubmitInput, source: JobSource & { sha256?: string }, idempotencyKey: string | undefined): Promise<Submitted> {
+  const entry = await deps.profiles.get(tenant, input.profile);
+  if (!entry) throw new EarmarkError('unknown_profile', `no profile "${input.profile}" for this tenant`, { field: 'profile' });
+  if (input.callbackUrl) await deps.policy.check(input.callbackUrl, 'callbackUrl');
+  if (source.kind === 'url') await deps.policy.check(source.url, 'sourceUrl');
+
+  const id = newJobId();
+  const fingerprint = createHash('sha256').update(JSON.stringify([input.profile, input.callbackUrl ?? null, input.externalId ?? null, input.metadata ?? null, source.kind === 'url' ? source.url : source.sha256])).digest('hex');
+  if (idempotencyKey) {
+    const existing = await deps.store.claimIdempotency(tenant, idempotencyKey, id, fingerprint);
+    if (existing) {
+      if (existing.fingerprint !== fingerprint) throw new EarmarkError('idempotency_conflict', 'this Idempotency-Key was used for a different request', { field: 'Idempotency-Key' });
+      return { id: existing.jobId, duplicate: true };
+    }
+  }
+  const { sha256: _hash, ...jobSource } = source;
+  const data: AnalyzeJobV1 = {
+    tenant,
+    source: jobSource,
+    profileId: entry.profile.id,
+    profileVersion: entry.profile.version,
+    profile: entry.profile,
+    callbackUrl: input.callbackUrl ?? null,
+    externalId: input.externalId ?? null,
+    metadata: input.metadata ?? null,
+    submittedAt: new Date().toISOString(),
+  };
+  try {
+    await deps.queue.add(ANALYZE_JOB_V1, data, { jobId: id });
+    await deps.store.indexJob(tenant, id, Date.now());
+  } catch (error) {
+    if (idempotencyKey) await deps.store.releaseIdempotency(tenant, idempotencyKey).catch(() => undefined);
+    throw error;
+  }
+  return { id, duplicate: false };
+}

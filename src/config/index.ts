@@ -1,0 +1,121 @@
+// The one environment schema. Read once at start; a bad value throws ConfigError naming the
+// variable, and the entrypoints print it and exit (no half-configured process).
+
+import { tmpdir } from 'node:os';
+import { join, resolve } from 'node:path';
+
+export type Scope = 'submit' | 'read' | 'admin';
+export const SCOPES: readonly Scope[] = ['submit', 'read', 'admin'];
+
+export interface ApiKey { key: string; tenant: string; scopes: Scope[] }
+
+export interface Config {
+  port: number;
+  host: string;
+  redisUrl: string;
+  /** False when REDIS_URL was not set: the entrypoint may then start a private redis-server. */
+  redisUrlExplicit: boolean;
+  queuePrefix: string;
+  apiKeys: ApiKey[];
+  storageDir: string;
+  uploadLimitBytes: number;
+  fetchLimitBytes: number;
+  fetchTimeoutMs: number;
+  urlAllowlist: string[];
+  workerConcurrency: number;
+  retentionHours: number;
+  jobAttempts: number;
+  jobBackoffMs: number;
+  webhookSecrets: Record<string, string>;
+  webhookDefaultSecret: string | null;
+  webhookAttempts: number;
+  webhookBackoffMs: number;
+  webhookTimeoutMs: number;
+  shutdownTimeoutMs: number;
+  logLevel: string;
+}
+
+export class ConfigError extends Error {
+  constructor(readonly variable: string, message: string) {
+    super(`${variable}: ${message}`);
+    this.name = 'ConfigError';
+  }
+}
+
+type Env = Record<string, string | undefined>;
+
+function int(env: Env, name: string, fallback: number, min: number, max = Number.MAX_SAFE_INTEGER): number {
+  const raw = env[name];
+  if (raw === undefined || raw === '') return fallback;
+  if (!/^\d+$/.test(raw.trim())) throw new ConfigError(name, `expected a whole number, got "${raw.slice(0, 40)}"`);
+  const value = Number(raw);
+  if (value < min || value > max) throw new ConfigError(name, `must be between ${min} and ${max}`);
+  return value;
+}
+
+function json(env: Env, name: string): unknown {
+  try {
+    return JSON.parse(env[name] ?? '');
+  } catch {
+    throw new ConfigError(name, 'is not valid JSON');
+  }
+}
+
+function apiKeys(env: Env): ApiKey[] {
+  if (!env.EARMARK_API_KEYS) return [];
+  const value = json(env, 'EARMARK_API_KEYS');
+  if (!Array.isArray(value)) throw new ConfigError('EARMARK_API_KEYS', 'expected a JSON array of {key, tenant, scopes}');
+  return value.map((entry: unknown, i) => {
+    const e = entry as Partial<ApiKey> | null;
+    const at = `entry ${i}`;
+    if (!e || typeof e.key !== 'string' || e.key.length < 16) throw new ConfigError('EARMARK_API_KEYS', `${at}: key must be a string of at least 16 characters`);
+    if (typeof e.tenant !== 'string' || !/^[A-Za-z0-9_-]{1,64}$/.test(e.tenant)) throw new ConfigError('EARMARK_API_KEYS', `${at}: tenant must match [A-Za-z0-9_-]{1,64}`);
+    if (!Array.isArray(e.scopes) || e.scopes.some((s) => !SCOPES.includes(s))) throw new ConfigError('EARMARK_API_KEYS', `${at}: scopes must be a list of ${SCOPES.join(', ')}`);
+    return { key: e.key, tenant: e.tenant, scopes: [...e.scopes] };
+  });
+}
+
+function secrets(env: Env): Record<string, string> {
+  if (!env.EARMARK_WEBHOOK_SECRETS) return {};
+  const value = json(env, 'EARMARK_WEBHOOK_SECRETS');
+  if (!value || typeof value !== 'object' || Array.isArray(value) || Object.values(value).some((s) => typeof s !== 'string' || s.length < 16)) {
+    throw new ConfigError('EARMARK_WEBHOOK_SECRETS', 'expected a JSON object {tenant: secret} with secrets of at least 16 characters');
+  }
+  return value as Record<string, string>;
+}
+
+export function loadConfig(env: Env = process.env): Config {
+  const redisUrl = env.REDIS_URL || 'redis://127.0.0.1:6379';
+  if (!/^rediss?:\/\//.test(redisUrl)) throw new ConfigError('REDIS_URL', 'must start with redis:// or rediss://');
+  const prefix = env.EARMARK_QUEUE_PREFIX || 'earmark';
+  if (!/^[A-Za-z0-9_-]{1,40}$/.test(prefix)) throw new ConfigError('EARMARK_QUEUE_PREFIX', 'must match [A-Za-z0-9_-]{1,40}');
+  const defaultSecret = env.EARMARK_WEBHOOK_SECRET || null;
+  if (defaultSecret !== null && defaultSecret.length < 16) throw new ConfigError('EARMARK_WEBHOOK_SECRET', 'must be at least 16 characters');
+  const logLevel = env.EARMARK_LOG_LEVEL || 'info';
+  if (!['fatal', 'error', 'warn', 'info', 'debug', 'trace', 'silent'].includes(logLevel)) throw new ConfigError('EARMARK_LOG_LEVEL', 'must be one of fatal, error, warn, info, debug, trace, silent');
+  const uploadLimitBytes = int(env, 'EARMARK_UPLOAD_LIMIT_BYTES', 2 * 1024 ** 3, 1);
+  return {
+    port: int(env, 'PORT', 8080, 0, 65535),
+    host: env.HOST || '0.0.0.0',
+    redisUrl,
+    redisUrlExplicit: Boolean(env.REDIS_URL),
+    queuePrefix: prefix,
+    apiKeys: apiKeys(env),
+    storageDir: resolve(env.EARMARK_STORAGE_DIR || join(tmpdir(), 'earmark-storage')),
+    uploadLimitBytes,
+    fetchLimitBytes: int(env, 'EARMARK_FETCH_LIMIT_BYTES', uploadLimitBytes, 1),
+    fetchTimeoutMs: int(env, 'EARMARK_FETCH_TIMEOUT_MS', 60_000, 100),
+    urlAllowlist: (env.EARMARK_URL_ALLOWLIST ?? '').split(',').map((s) => s.trim()).filter(Boolean),
+    workerConcurrency: int(env, 'EARMARK_WORKER_CONCURRENCY', 1, 1, 64),
+    retentionHours: int(env, 'EARMARK_RETENTION_HOURS', 24, 1, 24 * 365),
+    jobAttempts: int(env, 'EARMARK_JOB_ATTEMPTS', 3, 1, 20),
+    jobBackoffMs: int(env, 'EARMARK_JOB_BACKOFF_MS', 5_000, 10),
+    webhookSecrets: secrets(env),
+    webhookDefaultSecret: defaultSecret,
+    webhookAttempts: int(env, 'EARMARK_WEBHOOK_ATTEMPTS', 6, 1, 30),
+    webhookBackoffMs: int(env, 'EARMARK_WEBHOOK_BACKOFF_MS', 10_000, 10),
+    webhookTimeoutMs: int(env, 'EARMARK_WEBHOOK_TIMEOUT_MS', 10_000, 100),
+    shutdownTimeoutMs: int(env, 'EARMARK_SHUTDOWN_TIMEOUT_MS', 30_000, 0),
+    logLevel,
+  };
+}

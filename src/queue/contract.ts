@@ -1,0 +1,60 @@
+// The job contract between API and workers. Payloads are versioned through the job name:
+// a worker only takes names it knows, so an old worker never misreads a new payload.
+// Job data holds a storage key or URL, never audio.
+
+import type { Profile } from '../profiles/index.ts';
+
+export const ANALYSIS_QUEUE = 'analysis';
+export const WEBHOOK_QUEUE = 'webhooks';
+export const ANALYZE_JOB_V1 = 'analyze.v1';
+export const DELIVER_WEBHOOK_V1 = 'deliver.v1';
+
+export type JobSource =
+  | { kind: 'upload'; storageKey: string; fileName: string; sizeBytes: number }
+  | { kind: 'url'; url: string };
+
+export interface AnalyzeJobV1 {
+  tenant: string;
+  source: JobSource;
+  profileId: string;
+  profileVersion: string;
+  /**
+   * The exact profile version, frozen at submit: versions never change once written, and the
+   * sandboxed child then needs no Redis connection of its own.
+   */
+  profile: Profile;
+  callbackUrl: string | null;
+  externalId: string | null;
+  metadata: Record<string, string> | null;
+  submittedAt: string;
+}
+
+export interface AnalyzeResultV1 {
+  verdict: 'pass' | 'warn' | 'fail';
+  reportKey: string;
+  analysisSeconds: number;
+}
+
+export type JobEvent = 'job.completed' | 'job.failed';
+
+export interface DeliverWebhookV1 {
+  jobId: string;
+  tenant: string;
+  url: string;
+  event: JobEvent;
+  /** Same on every retry, so a receiver can drop duplicates. */
+  deliveryId: string;
+  body: string;
+}
+
+/** failedReason carries "code: message" so the API can show a stable code. */
+export function encodeFailure(code: string, message: string): string {
+  return `${code}: ${message}`;
+}
+
+export function decodeFailure(reason: string | undefined): { code: string; message: string } {
+  const match = /^([a-z][a-z_]*): ([\s\S]*)$/.exec(reason ?? '');
+  if (match) return { code: match[1], message: match[2] };
+  // A crash of the child (OOM, signal) has no code of ours.
+  return { code: 'internal_error', message: 'the analysis process ended unexpectedly' };
+}

@@ -1,0 +1,126 @@
+// Storage for uploads and reports. One small interface; the local-directory implementation
+// works for several hosts when the directory is a shared volume. Keys are generated here,
+// never taken from a client, so a key can always be mapped to a path safely.
+
+import { createHash, randomUUID } from 'node:crypto';
+import { createWriteStream } from 'node:fs';
+import { access, constants, mkdir, readdir, readFile, rename, rm, stat, writeFile } from 'node:fs/promises';
+import { join } from 'node:path';
+import type { Readable } from 'node:stream';
+import { pipeline } from 'node:stream/promises';
+import { EarmarkError } from '../errors/index.ts';
+
+export interface StoredFile { key: string; sizeBytes: number; sha256: string }
+
+export interface Storage {
+  /** Streams into a new upload; over limitBytes the partial file is removed and payload_too_large thrown. */
+  saveUpload(source: Readable, limitBytes: number, isTruncated?: () => boolean): Promise<StoredFile>;
+  pathOf(key: string): string;
+  writeReport(jobId: string, json: string): Promise<string>;
+  readReport(jobId: string): Promise<string | null>;
+  remove(key: string): Promise<void>;
+  /** Deletes uploads and reports older than maxAgeMs; returns how many went. */
+  sweep(maxAgeMs: number): Promise<number>;
+  checkWritable(): Promise<boolean>;
+}
+
+const KEY = /^(uploads|reports)\/[A-Za-z0-9_-]+(\.json)?$/;
+
+class LimitError extends Error {}
+
+export class LocalStorage implements Storage {
+  constructor(readonly rootDir: string) {}
+
+  async init(): Promise<this> {
+    for (const dir of ['uploads', 'reports', 'tmp']) await mkdir(join(this.rootDir, dir), { recursive: true });
+    return this;
+  }
+
+  pathOf(key: string): string {
+    if (!KEY.test(key)) throw new EarmarkError('invalid_argument', 'malformed storage key');
+    return join(this.rootDir, key);
+  }
+
+  async saveUpload(source: Readable, limitBytes: number, isTruncated?: () => boolean): Promise<StoredFile> {
+    const key = `uploads/${randomUUID()}`;
+    const tmp = join(this.rootDir, 'tmp', randomUUID());
+    let sizeBytes = 0;
+    const hash = createHash('sha256');
+    const counter = async function* (chunks: AsyncIterable<Buffer>) {
+      for await (const chunk of chunks) {
+        sizeBytes += chunk.length;
+        hash.update(chunk);
+        if (sizeBytes > limitBytes) throw new LimitError();
+        yield chunk;
+      }
+    };
+    try {
+      await pipeline(source, counter, createWriteStream(tmp, { flags: 'wx' }));
+      if (isTruncated?.()) throw new LimitError();
+      await rename(tmp, this.pathOf(key));
+      return { key, sizeBytes, sha256: hash.digest('hex') };
+    } catch (error) {
+      await rm(tmp, { force: true });
+      source.resume();
+      if (error instanceof LimitError) throw new EarmarkError('payload_too_large', `the upload is larger than ${limitBytes} bytes`, { limitBytes });
+      if (error instanceof EarmarkError) throw error;
+      throw new EarmarkError('storage_unavailable', 'the upload could not be stored', {}, { cause: error });
+    }
+  }
+
+  /** Temp file + rename: a reader never sees half a report. */
+  async writeReport(jobId: string, json: string): Promise<string> {
+    const key = `reports/${jobId}.json`;
+    const tmp = join(this.rootDir, 'tmp', randomUUID());
+    await writeFile(tmp, json, { flag: 'wx' });
+    await rename(tmp, this.pathOf(key));
+    return key;
+  }
+
+  async readReport(jobId: string): Promise<string | null> {
+    try {
+      return await readFile(this.pathOf(`reports/${jobId}.json`), 'utf8');
+    } catch (error) {
+      if ((error as NodeJS.ErrnoException).code === 'ENOENT') return null;
+      throw new EarmarkError('storage_unavailable', 'the report could not be read', {}, { cause: error });
+    }
+  }
+
+  async remove(key: string): Promise<void> {
+    await rm(this.pathOf(key), { force: true });
+  }
+
+  async sweep(maxAgeMs: number): Promise<number> {
+    const cutoff = Date.now() - maxAgeMs;
+    let removed = 0;
+    for (const dir of ['uploads', 'reports', 'tmp']) {
+      const names = await readdir(join(this.rootDir, dir)).catch(() => [] as string[]);
+      for (const name of names) {
+        const path = join(this.rootDir, dir, name);
+        const info = await stat(path).catch(() => null);
+        if (info && info.mtimeMs < cutoff) {
+          await rm(path, { force: true });
+          removed += 1;
+        }
+      }
+    }
+    return removed;
+  }
+
+  async checkWritable(): Promise<boolean> {
+    try {
+      await access(join(this.rootDir, 'tmp'), constants.W_OK);
+      return true;
+    } catch {
+      return false;
+    }
+  }
+}
+
+export async function openStorage(rootDir: string): Promise<LocalStorage> {
+  try {
+    return await new LocalStorage(rootDir).init();
+  } catch (error) {
+    throw new EarmarkError('storage_unavailable', 'the storage directory cannot be created', {}, { cause: error });
+  }
+}

@@ -1,0 +1,65 @@
+// The sandboxed processor: BullMQ runs this file in a child process, so a decoder crash or an
+// out-of-memory ends the child, not the worker, and the worker's lock renewal never waits on
+// the CPU-bound analysis. Bad input fails at once (UnrecoverableError with the catalogue code);
+// anything else is retried with backoff.
+
+import { UnrecoverableError, type SandboxedJob } from 'bullmq';
+import { loadConfig } from '../config/index.ts';
+import { analyzeFile } from '../engine/analyze-file.ts';
+import { toEarmarkError, type ErrorCode } from '../errors/index.ts';
+import { UrlPolicy } from '../net/url-guard.ts';
+import { analysisOptionsForProfile, evaluate } from '../profiles/index.ts';
+import { ANALYZE_JOB_V1, encodeFailure, type AnalyzeJobV1, type AnalyzeResultV1 } from '../queue/contract.ts';
+import { openStorage } from '../storage/index.ts';
+import { fetchSource } from './fetch-source.ts';
+
+/** Codes that mean "this input will never work": retrying cannot help. */
+const PERMANENT: ReadonlySet<ErrorCode> = new Set<ErrorCode>([
+  'empty_file', 'unsupported_format', 'unsupported_encoding', 'corrupt_file', 'decoded_size_exceeded',
+  'invalid_profile', 'unknown_profile', 'invalid_argument', 'payload_too_large', 'source_refused', 'file_not_found',
+]);
+
+const config = loadConfig();
+const policy = new UrlPolicy(config.urlAllowlist);
+
+export default async function analyzeJob(job: SandboxedJob<AnalyzeJobV1, AnalyzeResultV1>): Promise<AnalyzeResultV1> {
+  if (job.name !== ANALYZE_JOB_V1) throw new UnrecoverableError(encodeFailure('invalid_argument', `this worker does not know job name ${job.name}`));
+  const started = performance.now();
+  const storage = await openStorage(config.storageDir);
+  const data = job.data;
+  let fetchedKey: string | null = null;
+  try {
+    let path: string;
+    let fileName: string;
+    if (data.source.kind === 'upload') {
+      path = storage.pathOf(data.source.storageKey);
+      fileName = data.source.fileName;
+    } else {
+      const fetched = await fetchSource(policy, storage, data.source.url, config.fetchLimitBytes, config.fetchTimeoutMs);
+      fetchedKey = fetched.key;
+      path = storage.pathOf(fetched.key);
+      fileName = decodeURIComponent(new URL(data.source.url).pathname.split('/').pop() || 'source');
+    }
+    let lastPercent = -1;
+    const doc = await analyzeFile(path, {
+      analysis: analysisOptionsForProfile(data.profile),
+      displayName: fileName,
+      onProgress: (fraction) => {
+        const percent = Math.floor(fraction * 100);
+        if (percent > lastPercent) { lastPercent = percent; void job.updateProgress(percent); }
+      },
+    });
+    const report = evaluate(data.profile, doc);
+    const reportKey = await storage.writeReport(job.id ?? 'unknown', JSON.stringify(report));
+    return { verdict: report.verdict, reportKey, analysisSeconds: (performance.now() - started) / 1000 };
+  } catch (thrown) {
+    const error = toEarmarkError(thrown);
+    const transient = error.details.transient === true || !PERMANENT.has(error.code);
+    const reason = encodeFailure(error.code, error.code === 'internal_error' ? 'the analysis failed unexpectedly' : error.message);
+    if (!transient) throw new UnrecoverableError(reason);
+    throw new Error(reason);
+  } finally {
+    // A fetched copy is ours alone; an upload stays until the retention sweep.
+    if (fetchedKey) await storage.remove(fetchedKey).catch(() => undefined);
+  }
+}
