@@ -132,8 +132,7 @@ export class LoudnessMeter implements Meter<LoudnessResult> {
     const power = this.weightedPower;
     power.fill(0, 0, frames);
     this.filterInto(block, power);
-    this.slideWindows(power, frames);
-    this.accumulateSubblocks(power, frames);
+    this.slideAndAccumulate(power, frames);
   }
 
   /** K-weights every channel and adds its weighted squared output into `power`. */
@@ -160,43 +159,39 @@ export class LoudnessMeter implements Meter<LoudnessResult> {
     }
   }
 
-  private slideWindows(power: Float64Array, frames: number): void {
+  /** One pass over the block's power: per-sample sliding windows and the 100 ms sub-block sums. */
+  private slideAndAccumulate(power: Float64Array, frames: number): void {
     const ring = this.ring;
     const ringLength = ring.length;
-    let pos = this.ringPos, mPos = this.momentaryPos;
-    let mSum = this.momentarySum, sSum = this.shortTermSum;
-    let maxM = this.maxMomentarySum, maxS = this.maxShortTermSum;
-    let seen = this.framesSeen;
     const mFrames = this.momentaryFrames, sFrames = this.shortTermFrames;
-    for (let n = 0; n < frames; n++) {
-      const v = power[n];
-      sSum += v - ring[pos];
-      mSum += v - ring[mPos];
-      ring[pos] = v;
-      if (++pos === ringLength) pos = 0;
-      if (++mPos === ringLength) mPos = 0;
-      seen++;
-      if (mSum > maxM && seen >= mFrames) { maxM = mSum; this.maxMomentaryEndFrame = seen; }
-      if (sSum > maxS && seen >= sFrames) { maxS = sSum; this.maxShortTermEndFrame = seen; }
-    }
-    this.ringPos = pos; this.momentaryPos = mPos;
-    this.momentarySum = mSum; this.shortTermSum = sSum;
-    this.maxMomentarySum = maxM; this.maxShortTermSum = maxS;
-    this.framesSeen = seen;
-  }
-
-  private accumulateSubblocks(power: Float64Array, frames: number): void {
     let n = 0;
-    let position = this.framesSeen - frames;
     while (n < frames) {
-      const take = Math.min(frames - n, this.nextBoundaryFrame - position);
+      // Up to the next sub-block boundary, so the loop below needs no boundary test.
+      const end = n + Math.min(frames - n, this.nextBoundaryFrame - this.framesSeen);
+      let pos = this.ringPos, mPos = this.momentaryPos;
+      let mSum = this.momentarySum, sSum = this.shortTermSum;
+      let maxM = this.maxMomentarySum, maxS = this.maxShortTermSum;
+      let seen = this.framesSeen;
       let sum = 0;
-      for (let i = n; i < n + take; i++) sum += power[i];
+      for (; n < end; n++) {
+        const v = power[n];
+        sum += v;
+        sSum += v - ring[pos];
+        mSum += v - ring[mPos];
+        ring[pos] = v;
+        if (++pos === ringLength) pos = 0;
+        if (++mPos === ringLength) mPos = 0;
+        seen++;
+        if (mSum > maxM && seen >= mFrames) { maxM = mSum; this.maxMomentaryEndFrame = seen; }
+        if (sSum > maxS && seen >= sFrames) { maxS = sSum; this.maxShortTermEndFrame = seen; }
+      }
+      this.ringPos = pos; this.momentaryPos = mPos;
+      this.momentarySum = mSum; this.shortTermSum = sSum;
+      this.maxMomentarySum = maxM; this.maxShortTermSum = maxS;
       this.subblockPower += sum;
-      this.subblockFrames += take;
-      n += take;
-      position += take;
-      if (position === this.nextBoundaryFrame) this.closeSubblock();
+      this.subblockFrames += seen - this.framesSeen;
+      this.framesSeen = seen;
+      if (seen === this.nextBoundaryFrame) this.closeSubblock();
     }
   }
 
