@@ -2,6 +2,7 @@
 // profile's settings, evaluate, print. Exit code from the verdict: 0 pass, 1 warn, 2 fail.
 
 import { parseArgs } from 'node:util';
+import { printableName } from './printable.ts';
 import { analyzeFile } from '../engine/analyze-file.ts';
 import { EarmarkError } from '../errors/index.ts';
 import { analysisOptionsForProfile, evaluate, frameRate, resolveProfile, type Flag, type QcReport, type Verdict } from '../profiles/index.ts';
@@ -27,7 +28,7 @@ function flagLine(report: QcReport, f: Flag): string {
 export function formatReport(report: QcReport): string {
   const lines: string[] = [];
   const failed = report.checks.filter((c) => !c.passed);
-  lines.push(`file     ${report.file?.name ?? '?'}  (${fmt(report.format.durationSeconds ?? 0, 2)} s, ${report.format.sampleRate} Hz, ${report.format.channels} ch)\n`);
+  lines.push(`file     ${printableName(report.file?.name ?? '?')}  (${fmt(report.format.durationSeconds ?? 0, 2)} s, ${report.format.sampleRate} Hz, ${report.format.channels} ch)\n`);
   lines.push(`profile  ${report.profile.id} ${report.profile.version}  (${report.profile.basis})\n`);
   lines.push(`verdict  ${report.verdict.toUpperCase()}  (${report.checks.length - failed.length} of ${report.checks.length} checks met)\n`);
   for (const c of failed) lines.push(`  ${c.severity.padEnd(4)}  ${c.ruleId}: ${c.explanation}${c.source ? `  [${c.source}]` : ''}\n`);

@@ -1,4 +1,5 @@
 // Plain-text summary of an analysis document for people at a terminal.
+import { printableName } from './printable.ts';
 import type { AnalysisDocument } from '../engine/document.ts';
 
 const fixed = (value: number | null, unit: string, digits = 1) => (value === null ? `-inf ${unit}`.replace('-inf LU', 'n/a') : `${value.toFixed(digits)} ${unit}`);
@@ -15,7 +16,7 @@ export function formatAnalysis(doc: AnalysisDocument): string {
   const f = doc.format;
   const s = doc.summary;
   const lines = [
-    `${doc.file?.name ?? 'stream'}: ${f.container} ${f.encoding}, ${f.sampleRate} Hz, ${f.channels} ch (${f.channelLabels.join(' ')})` +
+    `${printableName(doc.file?.name ?? 'stream')}: ${f.container} ${f.encoding}, ${f.sampleRate} Hz, ${f.channels} ch (${f.channelLabels.join(' ')})` +
       `${f.bitsPerSample ? `, ${f.bitsPerSample}-bit` : ''}, ${formatTime(f.durationSeconds ?? 0)}`,
     '',
     `  Integrated loudness   ${orNone(s.integratedLufs, 'LUFS')}`,

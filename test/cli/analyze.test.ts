@@ -58,6 +58,16 @@ describe('earmark analyze', () => {
     expect(c.out()).toMatch(/48000 Hz, 2 ch \(L R\), 24-bit/);
   });
 
+  it('escapes control characters of the file name in the readable output', async () => {
+    const hostile = join(dir, 'ident\u001b[31m\nFAKE LINE.wav');
+    const blocks = (function* () { for (const b of toneBlocks({ sampleRate: 48000, channels: 1, segments: [{ seconds: 1, peakDbfs: -20 }] })) yield b.channelData as Float32Array[]; })();
+    await writeWavFile(hostile, { sampleRate: 48000, channels: 1, bitsPerSample: 16, float: false }, blocks);
+    const c = capture();
+    expect(await main(['analyze', hostile], c.io)).toBe(0);
+    expect(c.out()).not.toContain('\u001b');
+    expect(c.out()).toContain('ident\\u001b[31m\\u000aFAKE LINE.wav');
+  });
+
   it('exits 3 with the error code on stderr for bad input, and writes nothing on stdout', async () => {
     const noise = join(dir, 'noise.wav');
     writeFileSync(noise, Buffer.from(Array.from({ length: 4096 }, (_, i) => (i * 7919) % 251)));
