@@ -2,8 +2,9 @@
 // listen on a random port.
 
 import multipart from '@fastify/multipart';
-import Fastify, { type FastifyInstance } from 'fastify';
+import Fastify, { type FastifyBaseLogger, type FastifyInstance } from 'fastify';
 import { randomUUID } from 'node:crypto';
+import pino, { type Logger } from 'pino';
 import type { Config } from '../config/index.ts';
 import type { AppDeps } from './deps.ts';
 import { openapiPlugin } from './openapi.ts';
@@ -14,14 +15,13 @@ import { jobsPlugin } from './plugins/jobs.ts';
 import { metricsPlugin } from './plugins/metrics.ts';
 import { profilesPlugin } from './plugins/profiles.ts';
 
-export async function buildApp(config: Config, deps: AppDeps): Promise<FastifyInstance> {
+/** Requests are logged as method and path only: no headers (keys), no query strings. */
+const serializers = { req: (req: { method: string; url: string }) => ({ method: req.method, url: req.url.split('?')[0] }) };
+
+export async function buildApp(config: Config, deps: AppDeps, logger?: Logger): Promise<FastifyInstance> {
+  const base = logger ?? pino({ level: config.logLevel });
   const app = Fastify({
-    logger: {
-      level: config.logLevel,
-      // Never log the Authorization header; only method, route and status per request.
-      redact: ['req.headers.authorization'],
-      serializers: { req: (req: { method: string; url: string }) => ({ method: req.method, url: req.url.split('?')[0] }) },
-    },
+    loggerInstance: base.child({ component: 'api' }, { serializers }) as FastifyBaseLogger,
     genReqId: (req) => {
       const given = req.headers['x-request-id'];
       return typeof given === 'string' && /^[\w-]{1,64}$/.test(given) ? given : randomUUID();

@@ -2,6 +2,7 @@
 // and listens. close() stops accepting, lets in-flight requests finish (bounded), then closes.
 
 import type { FastifyInstance } from 'fastify';
+import type { Logger } from 'pino';
 import type { Config } from '../config/index.ts';
 import { UrlPolicy } from '../net/url-guard.ts';
 import { createRedis, waitReady } from '../queue/connection.ts';
@@ -14,7 +15,7 @@ import type { AppDeps } from './deps.ts';
 
 export interface RunningApi { app: FastifyInstance; deps: AppDeps; url: string; close(): Promise<void> }
 
-export async function startApi(config: Config): Promise<RunningApi> {
+export async function startApi(config: Config, logger?: Logger): Promise<RunningApi> {
   const redis = createRedis(config.redisUrl, 'api');
   let app: FastifyInstance | null = null;
   const log = (message: string, error: Error) => app?.log.warn({ err: { message: error.message } }, message);
@@ -28,7 +29,7 @@ export async function startApi(config: Config): Promise<RunningApi> {
     profiles: new ProfileStore(redis, config.queuePrefix),
     policy: new UrlPolicy(config.urlAllowlist),
   };
-  app = await buildApp(config, deps);
+  app = await buildApp(config, deps, logger);
   const address = await app.listen({ port: config.port, host: config.host });
   const running = app;
   return {

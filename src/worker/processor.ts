@@ -4,13 +4,13 @@
 // anything else is retried with backoff.
 
 import { UnrecoverableError, type SandboxedJob } from 'bullmq';
-import { loadConfig } from '../config/index.ts';
 import { analyzeFile } from '../engine/analyze-file.ts';
 import { toEarmarkError, type ErrorCode } from '../errors/index.ts';
 import { UrlPolicy } from '../net/url-guard.ts';
 import { analysisOptionsForProfile, evaluate } from '../profiles/index.ts';
 import { ANALYZE_JOB_V1, encodeFailure, type AnalyzeJobV1, type AnalyzeResultV1 } from '../queue/contract.ts';
 import { openStorage } from '../storage/index.ts';
+import { readChildSettings } from './child-settings.ts';
 import { fetchSource } from './fetch-source.ts';
 
 /** Codes that mean "this input will never work": retrying cannot help. */
@@ -19,7 +19,7 @@ const PERMANENT: ReadonlySet<ErrorCode> = new Set<ErrorCode>([
   'invalid_profile', 'unknown_profile', 'invalid_argument', 'payload_too_large', 'source_refused', 'file_not_found',
 ]);
 
-const config = loadConfig();
+const config = readChildSettings();
 const policy = new UrlPolicy(config.urlAllowlist);
 
 export default async function analyzeJob(job: SandboxedJob<AnalyzeJobV1, AnalyzeResultV1>): Promise<AnalyzeResultV1> {

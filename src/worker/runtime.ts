@@ -13,6 +13,7 @@ import { jobView } from '../queue/job-view.ts';
 import { createAnalysisQueue, createWebhookQueue } from '../queue/queues.ts';
 import { ServiceStore } from '../queue/store.ts';
 import { openStorage } from '../storage/index.ts';
+import { CHILD_SETTINGS_ENV, type ChildSettings } from './child-settings.ts';
 import { deliver } from './webhooks.ts';
 
 // The child is BullMQ's own main.js, which then imports our processor: a loader given on the
@@ -37,12 +38,16 @@ export async function startWorker(config: Config, log: Logger): Promise<WorkerRu
   const webhookQueue = createWebhookQueue(redis, config, onError);
   const analysisQueue = createAnalysisQueue(redis, config, onError);
 
+  const childSettings: ChildSettings = { storageDir: config.storageDir, urlAllowlist: config.urlAllowlist, fetchLimitBytes: config.fetchLimitBytes, fetchTimeoutMs: config.fetchTimeoutMs };
   const analysis = new Worker<AnalyzeJobV1, AnalyzeResultV1>(ANALYSIS_QUEUE, PROCESSOR_FILE, {
     connection: redis,
     prefix: config.queuePrefix,
     concurrency: config.workerConcurrency,
     useWorkerThreads: false,
-    workerForkOptions: { execArgv: [...process.execArgv, '--import', TSX_LOADER] },
+    workerForkOptions: {
+      execArgv: [...process.execArgv, '--import', TSX_LOADER],
+      env: { ...process.env, [CHILD_SETTINGS_ENV]: JSON.stringify(childSettings) },
+    },
     // A child that dies takes its job with it; the stall check hands such jobs to a live worker.
     maxStalledCount: 2,
   });

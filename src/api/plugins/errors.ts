@@ -29,11 +29,13 @@ export function sendProblem(reply: FastifyReply, request: FastifyRequest, error:
 function fromFastify(error: FastifyError): EarmarkError {
   if (error.validation) {
     const first = error.validation[0];
-    const where = error.validationContext ?? 'request';
-    const path = `${where}${first?.instancePath ? first.instancePath.replace(/\//g, '.') : ''}`;
-    const missing = (first?.params as { missingProperty?: string } | undefined)?.missingProperty;
-    const field = missing ? `${path}.${missing}` : path;
-    return new EarmarkError('validation_failed', `${field} ${first?.message ?? 'is invalid'}`, { field });
+    // Field names as the client wrote them: "sourceUrl", "limit", "metadata.desk".
+    const parts = (first?.instancePath ?? '').split('/').filter(Boolean);
+    const params = first?.params as { missingProperty?: string; additionalProperty?: string } | undefined;
+    const named = params?.missingProperty ?? params?.additionalProperty;
+    if (named) parts.push(named);
+    const field = parts.join('.') || (error.validationContext ?? 'request');
+    return new EarmarkError('validation_failed', `${field} ${params?.additionalProperty ? 'is not a known field' : first?.message ?? 'is invalid'}`, { field });
   }
   const byFastifyCode: Record<string, ErrorCode> = {
     FST_REQ_FILE_TOO_LARGE: 'payload_too_large',

@@ -9,7 +9,7 @@ import * as S from '../schemas.ts';
 export const metricsSpecs = {
   metrics: {
     method: 'GET', url: '/metrics', operationId: 'metrics', tag: 'health', scope: 'admin', summary: 'Prometheus metrics',
-    responses: { 200: { description: 'Prometheus text format', schema: { type: 'string' }, contentType: 'text/plain' }, 401: { description: 'Problem', schema: S.Problem, contentType: 'application/problem+json' } },
+    responses: { 200: { description: 'Prometheus text format', schema: { type: 'string' }, contentType: 'text/plain' }, 401: { description: 'Problem', schema: S.Problem, contentType: 'application/problem+json' }, 403: { description: 'Problem', schema: S.Problem, contentType: 'application/problem+json' } },
   },
 } satisfies Record<string, RouteSpec>;
 

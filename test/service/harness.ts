@@ -1,0 +1,81 @@
+// A real service for tests: the API listening on a random port and (optionally) a worker, both
+// against the real Redis at 127.0.0.1:6379 under a unique prefix, storage in a temp folder.
+// close() stops both and removes every key under the prefix and the folder.
+
+import { randomBytes } from 'node:crypto';
+import { mkdtempSync, rmSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import pino from 'pino';
+import { startApi, type RunningApi } from '../../src/api/server.ts';
+import { loadConfig, type Config } from '../../src/config/index.ts';
+import { ServiceStore } from '../../src/queue/store.ts';
+import { startWorker, type WorkerRuntime } from '../../src/worker/runtime.ts';
+
+export const KEYS = {
+  alpha: 'alpha-submit-read-key-0001',
+  alphaReadOnly: 'alpha-read-only-key-000002',
+  alphaAdmin: 'alpha-admin-key-0000000003',
+  beta: 'beta-submit-read-key-00004',
+};
+export const WEBHOOK_SECRET = 'test-webhook-secret-alpha-01';
+
+export const API_KEYS = JSON.stringify([
+  { key: KEYS.alpha, tenant: 'alpha', scopes: ['submit', 'read'] },
+  { key: KEYS.alphaReadOnly, tenant: 'alpha', scopes: ['read'] },
+  { key: KEYS.alphaAdmin, tenant: 'alpha', scopes: ['admin'] },
+  { key: KEYS.beta, tenant: 'beta', scopes: ['submit', 'read'] },
+]);
+
+export function testEnv(dir: string, extra: Record<string, string> = {}): Record<string, string> {
+  return {
+    REDIS_URL: 'redis://127.0.0.1:6379',
+    PORT: '0',
+    HOST: '127.0.0.1',
+    EARMARK_QUEUE_PREFIX: `t${randomBytes(6).toString('hex')}`,
+    EARMARK_STORAGE_DIR: dir,
+    EARMARK_API_KEYS: API_KEYS,
+    EARMARK_UPLOAD_LIMIT_BYTES: String(5 * 1024 * 1024),
+    EARMARK_URL_ALLOWLIST: '127.0.0.1',
+    EARMARK_WEBHOOK_SECRETS: JSON.stringify({ alpha: WEBHOOK_SECRET }),
+    EARMARK_WEBHOOK_BACKOFF_MS: '200',
+    EARMARK_JOB_BACKOFF_MS: '200',
+    EARMARK_SHUTDOWN_TIMEOUT_MS: '10000',
+    EARMARK_LOG_LEVEL: 'silent',
+    ...extra,
+  };
+}
+
+export interface TestService { url: string; config: Config; env: Record<string, string>; dir: string; api: RunningApi; worker: WorkerRuntime | null; close(): Promise<void> }
+
+export async function startService(options: { worker?: boolean; env?: Record<string, string> } = {}): Promise<TestService> {
+  const dir = mkdtempSync(join(tmpdir(), 'earmark-svc-'));
+  const env = testEnv(dir, options.env);
+  const config = loadConfig(env);
+  const log = pino({ level: 'silent' });
+  const worker = options.worker === false ? null : await startWorker(config, log);
+  const api = await startApi(config, log);
+  return {
+    url: api.url, config, env, dir, api, worker,
+    async close() {
+      await api.close();
+      await worker?.close();
+      const { createRedis } = await import('../../src/queue/connection.ts');
+      const redis = createRedis(config.redisUrl, 'worker');
+      await new ServiceStore(redis, config.queuePrefix, 60).purge();
+      await redis.quit();
+      rmSync(dir, { recursive: true, force: true });
+    },
+  };
+}
+
+export const sleep = (ms: number) => new Promise((resolve) => setTimeout(resolve, ms));
+
+/** Polls until check returns a value (no timing assertion: the test's own timeout bounds it). */
+export async function until<T>(check: () => Promise<T | null | undefined | false>, everyMs = 100): Promise<T> {
+  for (;;) {
+    const value = await check();
+    if (value) return value;
+    await sleep(everyMs);
+  }
+}
