@@ -2,7 +2,13 @@
 // a whole process beside `ffmpeg -af ebur128=peak=true` on the same file, runs alternating.
 // A benchmark, not a test: it prints figures and never fails on them.
 //
-// Environment: BENCH_MINUTES (default 60), BENCH_RUNS (default 5), BENCH_DIR (cache folder).
+// Prints, per target of the performance issue, our figure, the reference figure and the ratio:
+// wall time against ffmpeg ebur128 (one thread), peak RSS and its growth with duration, and FLAC /
+// MP3 decode plus full analysis in x-realtime (encoded from the WAV once with ffmpeg, cached).
+//
+// Environment: BENCH_MINUTES (default 60), BENCH_RUNS (default 5), BENCH_DIR (cache folder),
+// BENCH_SHORT_MINUTES (default 10: the short file for RSS growth and the compressed inputs),
+// BENCH_LONG_MINUTES (optional, e.g. 180: adds a long file to the RSS comparison).
 
 import { spawn, spawnSync } from 'node:child_process';
 import { existsSync } from 'node:fs';
@@ -13,11 +19,13 @@ import { programmeBlocks } from '../src/selftest/signals.ts';
 import { writeWavFile } from '../src/encode/wav.ts';
 
 const minutes = Number(process.env.BENCH_MINUTES ?? 60);
+const shortMinutes = Number(process.env.BENCH_SHORT_MINUTES ?? 10);
+const longMinutes = process.env.BENCH_LONG_MINUTES ? Number(process.env.BENCH_LONG_MINUTES) : null;
 const runs = Number(process.env.BENCH_RUNS ?? 5);
 const cacheDir = process.env.BENCH_DIR ?? join(tmpdir(), 'earmark-bench');
 const sampleRate = 48000;
 
-async function benchFile(): Promise<string> {
+async function benchFile(minutes: number): Promise<string> {
   const path = join(cacheDir, `programme-${minutes}min-48k-stereo-24bit.wav`);
   if (existsSync(path)) return path;
   await mkdir(cacheDir, { recursive: true });
@@ -68,8 +76,23 @@ function earmarkRun(file: string): Promise<RunFigures> {
 
 const median = (values: number[]) => [...values].sort((a, b) => a - b)[Math.floor(values.length / 2)];
 
+/** FLAC or MP3 made from the WAV by ffmpeg, once. */
+async function encoded(wav: string, extension: 'flac' | 'mp3'): Promise<string> {
+  const path = wav.replace(/\.wav$/, `.${extension}`);
+  if (existsSync(path)) return path;
+  const codec = extension === 'flac' ? ['-c:a', 'flac'] : ['-c:a', 'libmp3lame', '-b:a', '320k'];
+  const partial = `${path}.partial.${extension}`;
+  const done = spawnSync('ffmpeg', ['-nostdin', '-hide_banner', '-loglevel', 'error', '-y', '-i', wav, ...codec, partial]);
+  if (done.status !== 0) throw new Error(`ffmpeg could not encode ${extension}: ${done.stderr}`);
+  await rename(partial, path);
+  return path;
+}
+
+const row = (what: string, ours: string, reference: string, ratio: string, target: string) =>
+  console.log(`${what.padEnd(44)} ${ours.padStart(12)} ${reference.padStart(14)} ${ratio.padStart(7)}   ${target}`);
+
 async function main(): Promise<void> {
-  const file = await benchFile();
+  const file = await benchFile(minutes);
   const { size } = await stat(file);
   const audioSeconds = minutes * 60;
   const hasFfmpeg = spawnSync('ffmpeg', ['-version']).status === 0;
@@ -82,12 +105,42 @@ async function main(): Promise<void> {
     console.log(`  run ${i + 1}: earmark ${ours[i].seconds.toFixed(2)} s${hasFfmpeg ? `, ffmpeg ebur128 ${theirs[i].seconds.toFixed(2)} s` : ''}`);
   }
   const oursSeconds = median(ours.map((r) => r.seconds));
-  console.log('');
-  console.log(`earmark full analysis (every meter), one thread: ${oursSeconds.toFixed(2)} s median, ${(audioSeconds / oursSeconds).toFixed(0)}x realtime, peak RSS ${Math.max(...ours.map((r) => r.maxRssMb)).toFixed(0)} MB`);
+  const ffmpegSeconds = hasFfmpeg ? median(theirs.map((r) => r.seconds)) : Number.NaN;
+  const peakRss = Math.max(...ours.map((r) => r.maxRssMb));
+
+  // Peak RSS against duration: the short file (and the long one when asked for), one run each.
+  const rssByMinutes: [number, number][] = [[minutes, peakRss]];
+  for (const m of [shortMinutes, ...(longMinutes ? [longMinutes] : [])]) {
+    if (m !== minutes) rssByMinutes.push([m, (await earmarkRun(await benchFile(m))).maxRssMb]);
+  }
+  const shortRss = rssByMinutes.find(([m]) => m === shortMinutes)?.[1] ?? peakRss;
+
+  // Compressed input, from the short file: decode plus every meter, in x-realtime.
+  const compressed: [string, number][] = [];
   if (hasFfmpeg) {
-    const ffmpegSeconds = median(theirs.map((r) => r.seconds));
-    console.log(`ffmpeg -af ebur128=peak=true:                    ${ffmpegSeconds.toFixed(2)} s median, ${(audioSeconds / ffmpegSeconds).toFixed(0)}x realtime`);
-    console.log(`ratio earmark / ffmpeg:                          ${(oursSeconds / ffmpegSeconds).toFixed(3)}`);
+    const shortWav = await benchFile(shortMinutes);
+    for (const extension of ['flac', 'mp3'] as const) {
+      const path = await encoded(shortWav, extension);
+      const figures = [await earmarkRun(path), await earmarkRun(path), await earmarkRun(path)];
+      compressed.push([extension, (shortMinutes * 60) / median(figures.map((r) => r.seconds))]);
+    }
+    const wavShort = [await earmarkRun(shortWav), await earmarkRun(shortWav), await earmarkRun(shortWav)];
+    compressed.unshift(['wav', (shortMinutes * 60) / median(wavShort.map((r) => r.seconds))]);
+  }
+
+  console.log('');
+  row('target', 'earmark', 'reference', 'ratio', 'goal');
+  row(`full analysis, one thread, ${minutes} min WAV (s)`, oursSeconds.toFixed(2), hasFfmpeg ? `${ffmpegSeconds.toFixed(2)} ffmpeg` : 'n/a',
+    hasFfmpeg ? (oursSeconds / ffmpegSeconds).toFixed(3) : 'n/a', '<= 0.25 of ffmpeg ebur128=peak=true');
+  row('  x realtime', `${(audioSeconds / oursSeconds).toFixed(0)}x`, hasFfmpeg ? `${(audioSeconds / ffmpegSeconds).toFixed(0)}x` : 'n/a', '', '');
+  row('full analysis, two threads', 'not built', '', '', '<= 0.15 of ffmpeg (optional)');
+  row(`peak RSS, ${minutes} min (MB)`, peakRss.toFixed(0), '100', (peakRss / 100).toFixed(2), '<= 1.00 of 100 MB');
+  for (const [m, rss] of rssByMinutes.slice(1).filter(([m]) => m !== shortMinutes)) {
+    row(`peak RSS, ${m} min vs ${shortMinutes} min (MB)`, rss.toFixed(0), shortRss.toFixed(0), (rss / shortRss).toFixed(2), 'within 10 %');
+  }
+  if (minutes !== shortMinutes) row(`peak RSS, ${minutes} min vs ${shortMinutes} min (MB)`, peakRss.toFixed(0), shortRss.toFixed(0), (peakRss / shortRss).toFixed(2), 'within 10 %');
+  for (const [extension, realtime] of compressed) {
+    row(`${extension} decode + full analysis, ${shortMinutes} min`, `${realtime.toFixed(0)}x`, '', '', 'x realtime, reported');
   }
 }
 
