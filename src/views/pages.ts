@@ -1,0 +1,89 @@
+// The two HTML pages. They hold no data: the page script fetches it with the API key the
+// operator enters once (kept in session storage), so the pages need no cookie or session.
+
+import { escapeXml } from './loudness-plot.ts';
+
+function shell(title: string, bodyAttributes: string, main: string, script: string): string {
+  return `<!doctype html>
+<html lang="en">
+<head>
+<meta charset="utf-8">
+<meta name="viewport" content="width=device-width, initial-scale=1">
+<title>${escapeXml(title)} · Earmark</title>
+<link rel="stylesheet" href="/assets/earmark.css">
+</head>
+<body ${bodyAttributes}>
+<header class="em-top">
+  <h1><a href="/" style="color:inherit;text-decoration:none">Earmark</a> <span>${escapeXml(title)}</span></h1>
+  <form id="em-key-form" class="em-key" aria-label="API key">
+    <label for="em-key" class="em-visually-hidden">API key</label>
+    <input id="em-key" type="password" autocomplete="off" placeholder="API key (kept for this tab only)">
+    <button type="submit">Use key</button>
+  </form>
+</header>
+<main>
+${main}
+</main>
+<script type="module" src="/assets/${script}"></script>
+</body>
+</html>
+`;
+}
+
+export function dashboardPage(): string {
+  return shell('Queue', 'data-page="dashboard"', `
+<h2 class="em-visually-hidden">Queue at a glance</h2>
+<section id="em-counters" class="em-counters" aria-label="Queue counters" aria-live="polite"></section>
+<p id="em-live-status" class="em-status" role="status"></p>
+<section class="em-card" aria-labelledby="em-jobs-title">
+  <h2 id="em-jobs-title" style="margin-top:0">Recent jobs</h2>
+  <div class="em-filters">
+    <label for="em-filter-state">State
+      <select id="em-filter-state"><option value="">any</option><option>queued</option><option>active</option><option>completed</option><option>failed</option></select></label>
+    <label for="em-filter-verdict">Verdict
+      <select id="em-filter-verdict"><option value="">any</option><option>pass</option><option>warn</option><option>fail</option></select></label>
+    <label for="em-filter-profile">Profile
+      <select id="em-filter-profile"><option value="">any</option></select></label>
+  </div>
+  <div style="overflow-x:auto">
+  <table>
+    <thead><tr><th scope="col">File</th><th scope="col">Profile</th><th scope="col">State</th><th scope="col">Verdict</th><th scope="col" class="em-hide-narrow">Integrated</th><th scope="col" class="em-hide-narrow">True peak</th><th scope="col" class="em-hide-narrow">Submitted</th><th scope="col">Finished</th></tr></thead>
+    <tbody id="em-jobs-body"></tbody>
+  </table>
+  </div>
+</section>`, 'dashboard.js');
+}
+
+export function reportPage(jobId: string): string {
+  return shell('Report', `data-page="report" data-job-id="${escapeXml(jobId)}"`, `
+<p id="em-load-status" class="em-status" role="status">Loading…</p>
+<section class="em-card" aria-labelledby="em-file">
+  <div style="display:flex;flex-wrap:wrap;gap:1rem;align-items:center;justify-content:space-between">
+    <div><h2 id="em-file" style="margin:0;word-break:break-all"></h2><div id="em-profile" class="em-status"></div></div>
+    <div id="em-verdict" aria-label="Verdict"></div>
+  </div>
+  <dl id="em-metrics" class="em-metrics" style="margin-top:1rem"></dl>
+</section>
+<div class="em-grid-2">
+  <section class="em-card" aria-labelledby="em-plot-title">
+    <h2 id="em-plot-title" style="margin-top:0">Loudness over time</h2>
+    <p class="em-status">Thin line: momentary (400 ms). Thick line: short-term (3 s). Band: the profile's target. Marks above the plot: flags.</p>
+    <div id="em-plot"></div>
+    <p id="em-cursor-status" class="em-status" aria-live="polite"></p>
+  </section>
+  <section class="em-card" aria-labelledby="em-flags-title">
+    <h2 id="em-flags-title" style="margin-top:0">Flags</h2>
+    <ul id="em-flags" class="em-flags"></ul>
+    <h3>Listen</h3>
+    <p class="em-caution"><strong>Caution:</strong> turn your playback level down before you press play. Excerpts play at the file's own level, and a flagged passage may be clipped, far over the ceiling or suddenly loud. Protect your hearing: follow your workplace's rules on listening levels.</p>
+    <audio id="em-player" controls preload="none" aria-label="Flag excerpt"></audio>
+    <p id="em-player-status" class="em-status" aria-live="polite"></p>
+  </section>
+</div>
+<section class="em-card" aria-labelledby="em-checks-title">
+  <h2 id="em-checks-title" style="margin-top:0">Checks</h2>
+  <div style="overflow-x:auto">
+  <table><thead><tr><th scope="col">Rule</th><th scope="col">Finding</th><th scope="col">Severity</th><th scope="col">Outcome</th></tr></thead><tbody id="em-checks-body"></tbody></table>
+  </div>
+</section>`, 'report.js');
+}
