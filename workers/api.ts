@@ -3,7 +3,7 @@ import { startApi } from '../src/api/server.ts';
 import { boot, onShutdown } from './boot.ts';
 
 const { config, log, stopRedis } = await boot('api');
-const api = await startApi(config).catch((error: Error) => {
+const api = await startApi(config, log).catch((error: Error) => {
   log.fatal({ err: { message: error.message } }, 'the API could not start');
   process.exit(2);
 });

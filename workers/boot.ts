@@ -13,7 +13,7 @@ export async function boot(role: string): Promise<{ config: Config; log: Logger;
     process.stderr.write(`earmark ${role}: configuration error: ${error instanceof ConfigError ? error.message : 'unreadable environment'}\n`);
     process.exit(2);
   }
-  const log = pino({ level: config.logLevel, base: { role } });
+  const log = pino({ level: config.logLevel, base: { pid: process.pid, process: role } });
   try {
     const redis = await ensureRedis(config.redisUrl, config.redisUrlExplicit);
     if (redis.message) log.warn(redis.message);

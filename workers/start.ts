@@ -6,8 +6,8 @@ import { boot, onShutdown } from './boot.ts';
 
 const { config, log, stopRedis } = await boot('start');
 try {
-  const worker = await startWorker(config, log.child({ role: 'worker' }));
-  const api = await startApi(config);
+  const worker = await startWorker(config, log.child({ component: 'worker' }));
+  const api = await startApi(config, log);
   log.info({ url: api.url }, 'Earmark is listening');
   onShutdown(log, async () => {
     await api.close();
