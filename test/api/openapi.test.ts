@@ -1,7 +1,7 @@
 // The OpenAPI document: valid OpenAPI 3.1 (checked by @seriousme/openapi-schema-validator
 // against the published OAS 3.1 schema), current with the code, and covering every route.
 
-import { Validator } from '@seriousme/openapi-schema-validator';
+import { Validator, type SpecData } from '@seriousme/openapi-schema-validator';
 import { describe, expect, it } from 'vitest';
 import { allSpecs, buildOpenApiDocument } from '../../src/api/openapi.ts';
 import { openapiDocument } from '../service/openapi-check.ts';
@@ -9,7 +9,7 @@ import { openapiDocument } from '../service/openapi-check.ts';
 describe('openapi/openapi.yaml', () => {
   it('is a valid OpenAPI 3.1 document', async () => {
     const validator = new Validator();
-    const result = await validator.validate(structuredClone(openapiDocument) as object);
+    const result = await validator.validate(structuredClone(openapiDocument) as unknown as SpecData);
     expect(result.errors ?? []).toEqual([]);
     expect(result.valid).toBe(true);
     expect(validator.version).toBe('3.1');
