@@ -55,6 +55,7 @@ export function encodeFailure(code: string, message: string): string {
 export function decodeFailure(reason: string | undefined): { code: string; message: string } {
   const match = /^([a-z][a-z_]*): ([\s\S]*)$/.exec(reason ?? '');
   if (match) return { code: match[1], message: match[2] };
-  // A crash of the child (OOM, signal) has no code of ours.
-  return { code: 'internal_error', message: 'the analysis process ended unexpectedly' };
+  // A crash of the child (OOM, signal) or a stall has no code of ours; keep BullMQ's words, minus anything path-like.
+  const said = (reason ?? '').replace(/\S*[\/\\]\S*/g, '…').slice(0, 200);
+  return { code: 'internal_error', message: `the analysis process ended unexpectedly${said ? ` (${said})` : ''}` };
 }

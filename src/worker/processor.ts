@@ -28,9 +28,9 @@ export default async function analyzeJob(job: SandboxedJob<AnalyzeJobV1, Analyze
   const storage = await openStorage(config.storageDir);
   const data = job.data;
   let fetchedKey: string | null = null;
+  let path = '';
+  let fileName = 'the file';
   try {
-    let path: string;
-    let fileName: string;
     if (data.source.kind === 'upload') {
       path = storage.pathOf(data.source.storageKey);
       fileName = data.source.fileName;
@@ -54,8 +54,10 @@ export default async function analyzeJob(job: SandboxedJob<AnalyzeJobV1, Analyze
     return { verdict: report.verdict, reportKey, analysisSeconds: (performance.now() - started) / 1000 };
   } catch (thrown) {
     const error = toEarmarkError(thrown);
-    const transient = error.details.transient === true || !PERMANENT.has(error.code);
-    const reason = encodeFailure(error.code, error.code === 'internal_error' ? 'the analysis failed unexpectedly' : error.message);
+    const transient = typeof error.details.transient === 'boolean' ? error.details.transient : !PERMANENT.has(error.code);
+    // Decoder messages name the file by path: clients and logs get the client's file name instead.
+    const message = path ? error.message.split(`"${path}"`).join(fileName).split(path).join(fileName).split(config.storageDir).join('storage') : error.message;
+    const reason = encodeFailure(error.code, error.code === 'internal_error' ? 'the analysis failed unexpectedly' : message);
     if (!transient) throw new UnrecoverableError(reason);
     throw new Error(reason);
   } finally {

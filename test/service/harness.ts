@@ -52,7 +52,7 @@ export async function startService(options: { worker?: boolean; env?: Record<str
   const dir = mkdtempSync(join(tmpdir(), 'earmark-svc-'));
   const env = testEnv(dir, options.env);
   const config = loadConfig(env);
-  const log = pino({ level: 'silent' });
+  const log = pino({ level: process.env.EARMARK_TEST_LOG ?? 'silent' });
   const worker = options.worker === false ? null : await startWorker(config, log);
   const api = await startApi(config, log);
   return {

@@ -79,6 +79,9 @@ describe('upload and report', () => {
     const done = await finished(submit.body.id);
     expect(done.body.state).toBe('failed');
     expect(done.body.error.code).toBe('unsupported_format');
+    // The message names the client's file, never the storage path.
+    expect(done.body.error.message).toContain('notes.wav');
+    expect(done.body.error.message).not.toContain(service.dir);
     expect(done.body.attemptsMade).toBe(1);
     const report = await api.get(`/v1/jobs/${submit.body.id}/report`, KEYS.alpha);
     expect(report.status).toBe(409);
@@ -129,6 +132,8 @@ describe('sourceUrl', () => {
     const submit = await api.postJson('/v1/jobs', { sourceUrl: `${originUrl}/media/missing.wav`, profile: 'ebu-r128' }, KEYS.alpha);
     const done = await finished(submit.body.id);
     expect(done.body.error.code).toBe('source_fetch_failed');
+    // A 404 is the origin's answer, not a transient fault: no retry.
+    expect(done.body.attemptsMade).toBe(1);
   });
 
   it('refuses link-local and private addresses that are not allowlisted', async () => {
