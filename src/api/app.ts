@@ -13,7 +13,9 @@ import { errorsPlugin } from './plugins/errors.ts';
 import { healthPlugin } from './plugins/health.ts';
 import { jobsPlugin } from './plugins/jobs.ts';
 import { metricsPlugin } from './plugins/metrics.ts';
+import { pagesPlugin } from './plugins/pages.ts';
 import { profilesPlugin } from './plugins/profiles.ts';
+import { reportViewsPlugin } from './plugins/report-views.ts';
 
 /** Requests are logged as method and path only: no headers (keys), no query strings. */
 const serializers = { req: (req: { method: string; url: string }) => ({ method: req.method, url: req.url.split('?')[0] }) };
@@ -39,5 +41,7 @@ export async function buildApp(config: Config, deps: AppDeps, logger?: Logger): 
   await app.register(openapiPlugin());
   await app.register(jobsPlugin(deps, config.uploadLimitBytes));
   await app.register(profilesPlugin(deps));
+  await app.register(reportViewsPlugin(deps));
+  await app.register(pagesPlugin());
   return app;
 }

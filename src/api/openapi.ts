@@ -6,7 +6,9 @@ import { ENGINE_VERSION } from '../engine/document.ts';
 import { healthSpecs } from './plugins/health.ts';
 import { jobSpecs } from './plugins/jobs.ts';
 import { metricsSpecs } from './plugins/metrics.ts';
+import { pageSpecs } from './plugins/pages.ts';
 import { profileSpecs } from './plugins/profiles.ts';
+import { reportViewSpecs } from './plugins/report-views.ts';
 import { route, type RouteSpec } from './route-spec.ts';
 import { components } from './schemas.ts';
 
@@ -17,7 +19,7 @@ const openapiSpec: RouteSpec = {
   responses: { 200: { description: 'OpenAPI 3.1 document', schema: { type: 'object' } } },
 };
 
-export const allSpecs: RouteSpec[] = [...Object.values(jobSpecs), ...Object.values(profileSpecs), ...Object.values(healthSpecs), ...Object.values(metricsSpecs), openapiSpec];
+export const allSpecs: RouteSpec[] = [...Object.values(jobSpecs), ...Object.values(reportViewSpecs), ...Object.values(profileSpecs), ...Object.values(pageSpecs), ...Object.values(healthSpecs), ...Object.values(metricsSpecs), openapiSpec];
 
 const byIdentity = new Map<unknown, string>(Object.entries(components).map(([name, schema]) => [schema, name]));
 
@@ -74,7 +76,7 @@ export function buildOpenApiDocument(): Schema {
     info: { title: 'Earmark audio QC API', version: ENGINE_VERSION, description: 'Submit audio for delivery-profile QC, follow the job, fetch the report.' },
     servers: [{ url: '/' }],
     security: [{ apiKey: [] }],
-    tags: [{ name: 'jobs' }, { name: 'profiles' }, { name: 'health' }],
+    tags: [{ name: 'jobs' }, { name: 'profiles' }, { name: 'health' }, { name: 'pages' }],
     paths,
     components: {
       securitySchemes: { apiKey: { type: 'http', scheme: 'bearer', description: 'An API key from EARMARK_API_KEYS.' } },

@@ -41,7 +41,7 @@ export const DeliveryAttempt: Schema = {
 
 export const Job: Schema = {
   type: 'object',
-  required: ['id', 'state', 'progressPercent', 'createdAt', 'startedAt', 'finishedAt', 'attemptsMade', 'profile', 'source', 'externalId', 'metadata', 'verdict', 'error', 'callback', 'links'],
+  required: ['id', 'state', 'progressPercent', 'createdAt', 'startedAt', 'finishedAt', 'attemptsMade', 'profile', 'source', 'externalId', 'metadata', 'verdict', 'summary', 'error', 'callback', 'links'],
   properties: {
     id: { type: 'string' },
     state: { type: 'string', enum: ['queued', 'active', 'completed', 'failed'] },
@@ -60,6 +60,10 @@ export const Job: Schema = {
     externalId: nullable('string'),
     metadata: { type: ['object', 'null'], additionalProperties: { type: 'string' } },
     verdict: { type: ['string', 'null'], enum: ['pass', 'warn', 'fail', null] },
+    summary: {
+      type: ['object', 'null'], required: ['integratedLufs', 'truePeakDbtp'], additionalProperties: false,
+      properties: { integratedLufs: { type: ['number', 'null'] }, truePeakDbtp: { type: ['number', 'null'] } },
+    },
     error: { type: ['object', 'null'], required: ['code', 'message'], properties: { code: { type: 'string' }, message: { type: 'string' } }, additionalProperties: false },
     callback: {
       type: ['object', 'null'],

@@ -33,6 +33,11 @@ export interface AnalyzeResultV1 {
   verdict: 'pass' | 'warn' | 'fail';
   reportKey: string;
   analysisSeconds: number;
+  /** Headline readings, so listings need not load reports. */
+  integratedLufs: number | null;
+  truePeakDbtp: number | null;
+  /** Storage key of the analysed audio (upload or fetched copy), kept until retention for excerpts. */
+  sourceKey: string;
 }
 
 export type JobEvent = 'job.completed' | 'job.failed';

@@ -20,6 +20,8 @@ export interface JobView {
   externalId: string | null;
   metadata: Record<string, string> | null;
   verdict: 'pass' | 'warn' | 'fail' | null;
+  /** Headline readings of a completed job. */
+  summary: { integratedLufs: number | null; truePeakDbtp: number | null } | null;
   error: { code: string; message: string } | null;
   callback: { url: string; deliveries: DeliveryAttempt[] } | null;
   links: { self: string; report: string | null };
@@ -53,6 +55,7 @@ export function jobView(job: Job<AnalyzeJobV1, AnalyzeResultV1>, rawState: strin
     externalId: data.externalId,
     metadata: data.metadata,
     verdict: result?.verdict ?? null,
+    summary: result ? { integratedLufs: result.integratedLufs ?? null, truePeakDbtp: result.truePeakDbtp ?? null } : null,
     error: state === 'failed' ? decodeFailure(job.failedReason) : null,
     callback: data.callbackUrl ? { url: data.callbackUrl, deliveries } : null,
     links: { self: `/v1/jobs/${id}`, report: state === 'completed' ? `/v1/jobs/${id}/report` : null },

@@ -28,15 +28,18 @@ export default async function analyzeJob(job: SandboxedJob<AnalyzeJobV1, Analyze
   const storage = await openStorage(config.storageDir);
   const data = job.data;
   let fetchedKey: string | null = null;
+  let sourceKey = '';
   let path = '';
   let fileName = 'the file';
   try {
     if (data.source.kind === 'upload') {
-      path = storage.pathOf(data.source.storageKey);
+      sourceKey = data.source.storageKey;
+      path = storage.pathOf(sourceKey);
       fileName = data.source.fileName;
     } else {
       const fetched = await fetchSource(policy, storage, data.source.url, config.fetchLimitBytes, config.fetchTimeoutMs);
       fetchedKey = fetched.key;
+      sourceKey = fetched.key;
       path = storage.pathOf(fetched.key);
       fileName = decodeURIComponent(new URL(data.source.url).pathname.split('/').pop() || 'source');
     }
@@ -51,7 +54,12 @@ export default async function analyzeJob(job: SandboxedJob<AnalyzeJobV1, Analyze
     });
     const report = evaluate(data.profile, doc);
     const reportKey = await storage.writeReport(job.id ?? 'unknown', JSON.stringify(report));
-    return { verdict: report.verdict, reportKey, analysisSeconds: (performance.now() - started) / 1000 };
+    // The fetched copy now stays until the retention sweep, like an upload, for listening excerpts.
+    fetchedKey = null;
+    return {
+      verdict: report.verdict, reportKey, analysisSeconds: (performance.now() - started) / 1000,
+      integratedLufs: report.summary.integratedLufs, truePeakDbtp: report.summary.truePeakDbtp, sourceKey,
+    };
   } catch (thrown) {
     const error = toEarmarkError(thrown);
     const transient = typeof error.details.transient === 'boolean' ? error.details.transient : !PERMANENT.has(error.code);
@@ -61,7 +69,7 @@ export default async function analyzeJob(job: SandboxedJob<AnalyzeJobV1, Analyze
     if (!transient) throw new UnrecoverableError(reason);
     throw new Error(reason);
   } finally {
-    // A fetched copy is ours alone; an upload stays until the retention sweep.
+    // A fetched copy of a failed job is ours alone; an upload stays until the retention sweep.
     if (fetchedKey) await storage.remove(fetchedKey).catch(() => undefined);
   }
 }

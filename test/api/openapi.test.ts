@@ -28,6 +28,6 @@ describe('openapi/openapi.yaml', () => {
       else expect(op.security).toEqual([]);
     }
     const open = allSpecs.filter((s) => s.scope === null).map((s) => s.url).sort();
-    expect(open).toEqual(['/healthz', '/openapi.json', '/readyz']);
+    expect(open).toEqual(['/', '/assets/:name', '/healthz', '/jobs/:id', '/openapi.json', '/readyz']);
   });
 });

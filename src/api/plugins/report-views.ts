@@ -1,0 +1,77 @@
+// Views of a completed job for the report page: the loudness plot (SVG, drawn on the server by
+// the same pure function the tests check) and short listening excerpts cut from the stored audio.
+
+import type { FastifyInstance } from 'fastify';
+import type { Job } from 'bullmq';
+import { EarmarkError } from '../../errors/index.ts';
+import { cutExcerpt, MAX_EXCERPT_SECONDS } from '../../engine/excerpt.ts';
+import type { QcReport } from '../../profiles/index.ts';
+import type { AnalyzeJobV1, AnalyzeResultV1 } from '../../queue/contract.ts';
+import { stateOf } from '../../queue/job-view.ts';
+import { renderReportPlot } from '../../views/report-plot.ts';
+import { principalOf } from './auth.ts';
+import type { AppDeps } from '../deps.ts';
+import { route, type RouteSpec } from '../route-spec.ts';
+import * as S from '../schemas.ts';
+
+const problems = (...statuses: number[]) => Object.fromEntries(statuses.map((s) => [s, { description: 'Problem', schema: S.Problem, contentType: 'application/problem+json' }]));
+
+export const reportViewSpecs = {
+  plot: {
+    method: 'GET', url: '/v1/jobs/:id/plot.svg', operationId: 'getJobPlot', tag: 'jobs', scope: 'read',
+    summary: 'Momentary and short-term loudness over time with the target band and one marker per flag (SVG)',
+    params: S.JobIdParams,
+    responses: { 200: { description: 'SVG image', schema: { type: 'string' }, contentType: 'image/svg+xml' }, ...problems(400, 401, 403, 404, 409, 503) },
+  },
+  excerpt: {
+    method: 'GET', url: '/v1/jobs/:id/excerpt', operationId: 'getJobExcerpt', tag: 'jobs', scope: 'read',
+    summary: `A WAV (24-bit PCM) of a span of the stored audio, at most ${MAX_EXCERPT_SECONDS} s, for listening to a flag`,
+    params: S.JobIdParams,
+    querystring: {
+      type: 'object', required: ['startSeconds', 'endSeconds'], additionalProperties: false,
+      properties: { startSeconds: { type: 'number', minimum: 0 }, endSeconds: { type: 'number', exclusiveMinimum: 0 } },
+    },
+    responses: { 200: { description: 'WAV audio', schema: { type: 'string', format: 'binary' }, contentType: 'audio/wav' }, ...problems(400, 401, 403, 404, 409, 503) },
+  },
+} satisfies Record<string, RouteSpec>;
+
+async function completedJob(deps: AppDeps, tenant: string, id: string): Promise<Job<AnalyzeJobV1, AnalyzeResultV1>> {
+  const job = await deps.queue.getJob(id);
+  if (!job || job.data.tenant !== tenant) throw new EarmarkError('not_found', `no job ${id}`);
+  const state = stateOf(await job.getState());
+  if (state !== 'completed') throw new EarmarkError('report_not_ready', `job ${id} is ${state}`);
+  return job as Job<AnalyzeJobV1, AnalyzeResultV1>;
+}
+
+export function reportViewsPlugin(deps: AppDeps) {
+  return async (app: FastifyInstance) => {
+    route(app, reportViewSpecs.plot, async (request, reply) => {
+      const { id } = request.params as { id: string };
+      await completedJob(deps, principalOf(request).tenant, id);
+      const json = (await deps.store.getReport(id)) ?? (await deps.storage.readReport(id));
+      if (!json) throw new EarmarkError('not_found', `the report of job ${id} is past its retention period`);
+      return reply.type('image/svg+xml').send(renderReportPlot(JSON.parse(json) as QcReport));
+    });
+
+    route(app, reportViewSpecs.excerpt, async (request, reply) => {
+      const { id } = request.params as { id: string };
+      const { startSeconds, endSeconds } = request.query as { startSeconds: number; endSeconds: number };
+      const job = await completedJob(deps, principalOf(request).tenant, id);
+      const sourceKey = job.returnvalue?.sourceKey ?? (job.data.source.kind === 'upload' ? job.data.source.storageKey : null);
+      if (!sourceKey) throw new EarmarkError('not_found', `the audio of job ${id} was not kept`);
+      let excerpt;
+      try {
+        excerpt = await cutExcerpt(deps.storage.pathOf(sourceKey), startSeconds, endSeconds);
+      } catch (error) {
+        // The stored audio is gone after the retention period; never leak its path.
+        if (error instanceof EarmarkError && error.code === 'file_not_found') throw new EarmarkError('not_found', `the audio of job ${id} is past its retention period`);
+        throw error;
+      }
+      return reply.type('audio/wav')
+        .header('content-disposition', `inline; filename="excerpt-${id}.wav"`)
+        .header('x-excerpt-start-seconds', excerpt.startSeconds.toFixed(6))
+        .header('x-excerpt-end-seconds', excerpt.endSeconds.toFixed(6))
+        .send(Buffer.from(excerpt.wav.buffer, excerpt.wav.byteOffset, excerpt.wav.byteLength));
+    });
+  };
+}
