@@ -72,7 +72,7 @@ describe.skipIf(!existsSync(CHROMIUM))('pages in Chromium', () => {
   it('dashboard shows a job that completes while the page is open, without a reload', async () => {
     const page = await openPage('/');
     await page.waitForSelector('[data-counter="completed"]');
-    await page.evaluate(() => { (window as unknown as { keptAcrossUpdates: number }).keptAcrossUpdates = 1; });
+    await page.evaluate('window.keptAcrossUpdates = 1');
     const wav = await writeSine(join(dir, 'station-ident.wav'), -23, 6);
     const submitted = await client(service.url).upload(wav, { profile: 'ebu-r128' }, KEYS.alpha);
     expect(submitted.status).toBe(202);
@@ -81,7 +81,7 @@ describe.skipIf(!existsSync(CHROMIUM))('pages in Chromium', () => {
     expect(await page.textContent(row)).toContain('PASS');
     expect(await page.textContent(row)).toContain('-23.0 LUFS');
     // Same document: the marker set before the job existed is still there.
-    expect(await page.evaluate(() => (window as unknown as { keptAcrossUpdates?: number }).keptAcrossUpdates)).toBe(1);
+    expect(await page.evaluate('window.keptAcrossUpdates')).toBe(1);
     await page.screenshot({ path: join(OUTPUT_DIR, 'dashboard-1280x800.png'), fullPage: true });
     await page.setViewportSize({ width: 390, height: 844 });
     await page.screenshot({ path: join(OUTPUT_DIR, 'dashboard-narrow.png'), fullPage: true });
@@ -125,7 +125,7 @@ describe.skipIf(!existsSync(CHROMIUM))('pages in Chromium', () => {
     // Listen: the page loads an excerpt into the player, with the level caution beside it.
     expect(await page.textContent('.em-caution')).toMatch(/playback level down/);
     await page.locator('#em-flags .em-listen').first().click();
-    await page.waitForFunction(() => (document.getElementById('em-player') as HTMLAudioElement).src.startsWith('blob:'));
+    await page.waitForFunction("document.getElementById('em-player').src.startsWith('blob:')");
     await page.setViewportSize({ width: 390, height: 844 });
     await page.screenshot({ path: join(OUTPUT_DIR, 'report-narrow.png'), fullPage: true });
     await page.close();
