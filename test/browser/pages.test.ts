@@ -15,6 +15,8 @@ import { KEYS, startService, until, type TestService } from '../service/harness.
 import { writeSine } from '../service/audio.ts';
 
 const CHROMIUM = '/usr/bin/chromium';
+/** The little of the page's DOM the tests touch (the Node tsconfig has no DOM types). */
+interface PageGlobals { document: { getElementById(id: string): { src: string } } }
 const OUTPUT_DIR = join(process.cwd(), 'test-output');
 const SAMPLE_RATE = 48000;
 const dir = mkdtempSync(join(tmpdir(), 'earmark-browser-'));
@@ -125,7 +127,7 @@ describe.skipIf(!existsSync(CHROMIUM))('pages in Chromium', () => {
     // Listen: the page loads an excerpt into the player, with the level caution beside it.
     expect(await page.textContent('.em-caution')).toMatch(/playback level down/);
     await page.locator('#em-flags .em-listen').first().click();
-    await page.waitForFunction("document.getElementById('em-player').src.startsWith('blob:')");
+    await page.waitForFunction(() => (globalThis as unknown as PageGlobals).document.getElementById('em-player').src.startsWith('blob:'));
     await page.setViewportSize({ width: 390, height: 844 });
     await page.screenshot({ path: join(OUTPUT_DIR, 'report-narrow.png'), fullPage: true });
     await page.close();
