@@ -15,6 +15,7 @@ import { jobsPlugin } from './plugins/jobs.ts';
 import { metricsPlugin } from './plugins/metrics.ts';
 import { pagesPlugin } from './plugins/pages.ts';
 import { profilesPlugin } from './plugins/profiles.ts';
+import { rateLimitPlugin } from './plugins/rate-limit.ts';
 import { reportViewsPlugin } from './plugins/report-views.ts';
 
 /** Requests are logged as method and path only: no headers (keys), no query strings. */
@@ -35,6 +36,7 @@ export async function buildApp(config: Config, deps: AppDeps, logger?: Logger): 
   app.addHook('onSend', async (request, reply) => { reply.header('x-request-id', request.id); });
   await app.register(Object.assign(errorsPlugin, { [Symbol.for('skip-override')]: true }));
   await app.register(authPlugin(config.apiKeys));
+  await app.register(rateLimitPlugin(config.rateLimitPerMinute));
   await app.register(multipart, { limits: { fileSize: config.uploadLimitBytes, files: 1, fields: 10, fieldSize: 64 * 1024, parts: 20 } });
   await app.register(metricsPlugin(deps));
   await app.register(healthPlugin(deps));

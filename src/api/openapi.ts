@@ -45,9 +45,13 @@ function parameters(spec: RouteSpec): Schema[] {
   return out;
 }
 
+/** Every keyed route is rate limited per key (plugins/rate-limit.ts). */
+const RATE_LIMITED = { description: 'Too many requests for this API key (see Retry-After)', schema: components.Problem, contentType: 'application/problem+json', headers: { 'Retry-After': 'Seconds until the key may send again' } };
+
 function operation(spec: RouteSpec): Schema {
   const responses: Schema = {};
-  for (const [status, r] of Object.entries(spec.responses)) {
+  const all = spec.scope ? { ...spec.responses, 429: spec.responses[429] ?? RATE_LIMITED } : spec.responses;
+  for (const [status, r] of Object.entries(all)) {
     responses[status] = {
       description: r.description,
       ...(r.headers ? { headers: Object.fromEntries(Object.entries(r.headers).map(([n, d]) => [n, { description: d, schema: { type: 'string' } }])) } : {}),

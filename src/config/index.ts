@@ -32,6 +32,11 @@ export interface Config {
   webhookBackoffMs: number;
   webhookTimeoutMs: number;
   shutdownTimeoutMs: number;
+  /** Analysis job lock; a worker that dies loses it after this, and the stall check hands the job on. */
+  lockDurationMs: number;
+  stalledIntervalMs: number;
+  /** Requests per minute per API key (0: no limit). */
+  rateLimitPerMinute: number;
   logLevel: string;
 }
 
@@ -116,6 +121,9 @@ export function loadConfig(env: Env = process.env): Config {
     webhookBackoffMs: int(env, 'EARMARK_WEBHOOK_BACKOFF_MS', 10_000, 10),
     webhookTimeoutMs: int(env, 'EARMARK_WEBHOOK_TIMEOUT_MS', 10_000, 100),
     shutdownTimeoutMs: int(env, 'EARMARK_SHUTDOWN_TIMEOUT_MS', 30_000, 0),
+    lockDurationMs: int(env, 'EARMARK_LOCK_DURATION_MS', 30_000, 500),
+    stalledIntervalMs: int(env, 'EARMARK_STALLED_INTERVAL_MS', 30_000, 200),
+    rateLimitPerMinute: int(env, 'EARMARK_RATE_LIMIT_PER_MINUTE', 1200, 0),
     logLevel,
   };
 }

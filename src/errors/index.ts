@@ -24,6 +24,8 @@ export const errorCatalogue = {
   unsupported_media_type: { status: 415, title: 'The request body type is not accepted here' },
   source_refused: { status: 422, title: 'The URL is not allowed (scheme or address refused)' },
   source_fetch_failed: { status: 422, title: 'The source URL could not be fetched' },
+  rate_limited: { status: 429, title: 'Too many requests for this API key; retry after the given time' },
+  storage_full: { status: 507, title: 'Storage is full' },
   storage_unavailable: { status: 503, title: 'Storage is not available' },
   service_unavailable: { status: 503, title: 'A dependency (Redis) is not available' },
   // Catch-all

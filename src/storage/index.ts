@@ -64,6 +64,8 @@ export class LocalStorage implements Storage {
       source.resume();
       if (error instanceof LimitError) throw new EarmarkError('payload_too_large', `the upload is larger than ${limitBytes} bytes`, { limitBytes });
       if (error instanceof EarmarkError) throw error;
+      const errno = (error as NodeJS.ErrnoException).code;
+      if (errno === 'ENOSPC' || errno === 'EDQUOT') throw new EarmarkError('storage_full', 'storage is full; the upload was not kept', {}, { cause: error });
       throw new EarmarkError('storage_unavailable', 'the upload could not be stored', {}, { cause: error });
     }
   }

@@ -20,6 +20,9 @@ const PERMANENT: ReadonlySet<ErrorCode> = new Set<ErrorCode>([
 ]);
 
 const config = readChildSettings();
+// A worker killed with SIGKILL leaves this child behind: without it the analysis would go on
+// unowned (burning a core, writing a report) while another worker redoes the job.
+if (process.send) process.once('disconnect', () => process.exit(1));
 const policy = new UrlPolicy(config.urlAllowlist);
 
 export default async function analyzeJob(job: SandboxedJob<AnalyzeJobV1, AnalyzeResultV1>): Promise<AnalyzeResultV1> {

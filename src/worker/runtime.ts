@@ -50,6 +50,8 @@ export async function startWorker(config: Config, log: Logger): Promise<WorkerRu
     },
     // A child that dies takes its job with it; the stall check hands such jobs to a live worker.
     maxStalledCount: 2,
+    lockDuration: config.lockDurationMs,
+    stalledInterval: config.stalledIntervalMs,
   });
   const active = new Map<string, Job<AnalyzeJobV1, AnalyzeResultV1>>();
   analysis.on('error', (error) => onError(error, 'analysis worker'));

@@ -6,7 +6,8 @@ import type { FastifyInstance, FastifyRequest } from 'fastify';
 import type { ApiKey, Scope } from '../../config/index.ts';
 import { EarmarkError } from '../../errors/index.ts';
 
-export interface Principal { tenant: string; scopes: Scope[] }
+/** keyId: a digest prefix naming the key in rate limits, never the key itself. */
+export interface Principal { tenant: string; keyId: string; scopes: Scope[] }
 
 declare module 'fastify' {
   interface FastifyRequest { principal: Principal | null }
@@ -14,10 +15,10 @@ declare module 'fastify' {
 
 const digest = (s: string) => createHash('sha256').update(s).digest();
 
-export function findKey(keys: Array<{ digest: Buffer; entry: ApiKey }>, presented: string): ApiKey | null {
+export function findKey(keys: Array<{ digest: Buffer; entry: ApiKey }>, presented: string): { entry: ApiKey; keyId: string } | null {
   const given = digest(presented);
-  let found: ApiKey | null = null;
-  for (const k of keys) if (timingSafeEqual(k.digest, given)) found = k.entry;
+  let found: { entry: ApiKey; keyId: string } | null = null;
+  for (const k of keys) if (timingSafeEqual(k.digest, given)) found = { entry: k.entry, keyId: k.digest.toString('hex').slice(0, 12) };
   return found;
 }
 
@@ -35,9 +36,10 @@ export function authPlugin(apiKeys: ApiKey[]) {
       if (!scope) return;
       const header = request.headers.authorization ?? '';
       const match = /^Bearer ([\x21-\x7e]{1,512})$/.exec(header);
-      const entry = match ? findKey(keys, match[1]) : null;
-      if (!entry) throw new EarmarkError('unauthorized', 'send a valid API key as "Authorization: Bearer <key>"');
-      request.principal = { tenant: entry.tenant, scopes: entry.scopes };
+      const found = match ? findKey(keys, match[1]) : null;
+      if (!found) throw new EarmarkError('unauthorized', 'send a valid API key as "Authorization: Bearer <key>"');
+      const { entry, keyId } = found;
+      request.principal = { tenant: entry.tenant, keyId, scopes: entry.scopes };
       request.log = request.log.child({ tenant: entry.tenant });
       if (!entry.scopes.includes(scope) && !entry.scopes.includes('admin')) {
         throw new EarmarkError('forbidden', `this API key lacks the "${scope}" scope`);

@@ -21,7 +21,7 @@ export function problemBody(error: EarmarkError, request: FastifyRequest): Recor
 
 export function sendProblem(reply: FastifyReply, request: FastifyRequest, error: EarmarkError): FastifyReply {
   const body = problemBody(error, request);
-  if (error.code === 'service_unavailable' || error.code === 'storage_unavailable') reply.header('retry-after', '5');
+  if (error.code === 'service_unavailable' || error.code === 'storage_unavailable' || error.code === 'storage_full') reply.header('retry-after', '5');
   return reply.code(body.status as number).type('application/problem+json').send(JSON.stringify(body));
 }
 

@@ -26,7 +26,7 @@ export const jobSpecs = {
     responses: {
       202: { description: 'Queued', schema: S.JobAccepted, headers: { Location: 'The job status URL' } },
       200: { description: 'Already submitted with this Idempotency-Key', schema: S.JobAccepted },
-      ...problems(400, 401, 403, 409, 413, 415, 422, 503),
+      ...problems(400, 401, 403, 409, 413, 415, 422, 503, 507),
     },
   },
   get: {
