@@ -131,7 +131,7 @@ describe('sourceUrl', () => {
   it('a 404 from the origin fails the job with source_fetch_failed', async () => {
     const submit = await api.postJson('/v1/jobs', { sourceUrl: `${originUrl}/media/missing.wav`, profile: 'ebu-r128' }, KEYS.alpha);
     const done = await finished(submit.body.id);
-    expect(done.body.error.code).toBe('source_fetch_failed');
+    expect(done.body.error).toMatchObject({ code: 'source_fetch_failed' });
     // A 404 is the origin's answer, not a transient fault: no retry.
     expect(done.body.attemptsMade).toBe(1);
   });
