@@ -1,7 +1,7 @@
 // JSON Schemas of the API. Fastify validates requests with them; the OpenAPI document is built
 // from the same objects (components are recognised by identity and become $refs).
 
-import { existsSync, readFileSync } from 'node:fs';
+import { readFileSync } from 'node:fs';
 import { profileSchema } from '../profiles/index.ts';
 
 type Schema = Record<string, unknown>;
@@ -122,25 +122,24 @@ export const ProfileList: Schema = {
 };
 
 const REPORT_SCHEMA_URL = new URL('../../openapi/report.schema.json', import.meta.url);
+const REPORT_PREFIX = 'Report';
 
-/** The QC report: the profiles layer's schema when it ships one, else the fields the service relies on. */
-export const Report: Schema = existsSync(REPORT_SCHEMA_URL)
-  ? JSON.parse(readFileSync(REPORT_SCHEMA_URL, 'utf8'))
-  : {
-    type: 'object',
-    description: 'The QC report: the analysis document plus verdict, checks, flags and correction.',
-    required: ['reportVersion', 'verdict', 'profile', 'checks', 'flags', 'summary', 'format', 'generatedAt'],
-    properties: {
-      reportVersion: { type: 'integer' },
-      verdict: { type: 'string', enum: ['pass', 'warn', 'fail'] },
-      profile: { type: 'object', required: ['id', 'version', 'name', 'basis'], properties: { id: { type: 'string' }, version: { type: 'string' }, name: { type: 'string' }, basis: { type: 'string' } } },
-      checks: { type: 'array', items: { type: 'object', required: ['ruleId', 'type', 'severity', 'outcome', 'passed', 'explanation'] } },
-      flags: { type: 'array', items: { type: 'object', required: ['kind', 'ruleId', 'severity', 'startSeconds', 'endSeconds', 'startTimecode', 'endTimecode'] } },
-      summary: { type: 'object' },
-      format: { type: 'object' },
-      generatedAt: { type: 'string', format: 'date-time' },
-    },
+/** The report schema's $defs become components named Report<Def>; its refs follow them. */
+function reportComponents(): Record<string, Schema> {
+  const file = JSON.parse(readFileSync(REPORT_SCHEMA_URL, 'utf8')) as { $defs: Record<string, Schema> };
+  const retarget = (value: unknown): unknown => {
+    if (Array.isArray(value)) return value.map(retarget);
+    if (!value || typeof value !== 'object') return value;
+    return Object.fromEntries(Object.entries(value).map(([k, v]) =>
+      [k, k === '$ref' && typeof v === 'string' ? v.replace('#/$defs/', `#/components/schemas/${REPORT_PREFIX}`) : retarget(v)]));
   };
+  return Object.fromEntries(Object.entries(file.$defs).map(([name, def]) => [`${REPORT_PREFIX}${name}`, retarget(def) as Schema]));
+}
+
+/** Every definition of the QC report (openapi/report.schema.json, generated from src/profiles/report.ts). */
+export const reportDefinitions = reportComponents();
+/** The QC report itself. */
+export const Report: Schema = reportDefinitions[`${REPORT_PREFIX}QcReport`];
 
 export const Health: Schema = {
   type: 'object', required: ['status'],
@@ -148,7 +147,7 @@ export const Health: Schema = {
   additionalProperties: false,
 };
 
-export const components: Record<string, Schema> = { Problem, DeliveryAttempt, Job, JobAccepted, JobList, QueueStatus, Profile, ProfileEntry, ProfileList, Report, Health };
+export const components: Record<string, Schema> = { Problem, DeliveryAttempt, Job, JobAccepted, JobList, QueueStatus, Profile, ProfileEntry, ProfileList, Health, ...reportDefinitions };
 
 export const JobIdParams: Schema = {
   type: 'object', required: ['id'], properties: { id: { type: 'string', pattern: '^j_[a-z0-9]{20,40}$' } },
