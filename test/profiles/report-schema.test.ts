@@ -1,7 +1,7 @@
 // One schema serves the CLI, the API and the pages: openapi/report.schema.json, generated from
 // the QcReport interface. It must be current, and real reports must validate against it.
 import { readFileSync } from 'node:fs';
-import Ajv2020 from 'ajv/dist/2020.js';
+import { Ajv2020 } from 'ajv/dist/2020.js';
 import { afterAll, describe, expect, it } from 'vitest';
 import { main } from '../../src/cli/main.ts';
 import { builtinProfile } from '../../src/profiles/index.ts';
