@@ -6,7 +6,7 @@ import { createHash, randomUUID } from 'node:crypto';
 import { createWriteStream } from 'node:fs';
 import { access, constants, mkdir, readdir, readFile, rename, rm, stat, writeFile } from 'node:fs/promises';
 import { join } from 'node:path';
-import type { Readable } from 'node:stream';
+import { PassThrough, type Readable } from 'node:stream';
 import { pipeline } from 'node:stream/promises';
 import { EarmarkError } from '../errors/index.ts';
 
@@ -54,14 +54,19 @@ export class LocalStorage implements Storage {
         yield chunk;
       }
     };
+    // Through a PassThrough: a failed write destroys it, not the client's stream, which is then
+    // drained so the client can read the answer instead of a reset connection.
+    const input = source.pipe(new PassThrough());
     try {
-      await pipeline(source, counter, createWriteStream(tmp, { flags: 'wx' }));
+      await pipeline(input, counter, createWriteStream(tmp, { flags: 'wx' }));
       if (isTruncated?.()) throw new LimitError();
       await rename(tmp, this.pathOf(key));
       return { key, sizeBytes, sha256: hash.digest('hex') };
     } catch (error) {
-      await rm(tmp, { force: true });
+      source.unpipe(input);
       source.resume();
+      // A broken temp folder (ENOTDIR, EACCES) must not stop the answer.
+      await rm(tmp, { force: true }).catch(() => undefined);
       if (error instanceof LimitError) throw new EarmarkError('payload_too_large', `the upload is larger than ${limitBytes} bytes`, { limitBytes });
       if (error instanceof EarmarkError) throw error;
       const errno = (error as NodeJS.ErrnoException).code;

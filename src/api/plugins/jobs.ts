@@ -74,7 +74,11 @@ async function readMultipart(deps: AppDeps, request: FastifyRequest, limitBytes:
           problem ??= new EarmarkError('validation_failed', 'send exactly one file part, named "file"', { field: file.fieldname });
           continue;
         }
-        stored = await deps.storage.saveUpload(file.file, limitBytes, () => file.file.truncated);
+        // A refused or failed store is answered after the rest of the body is read (no reset).
+        stored = await deps.storage.saveUpload(file.file, limitBytes, () => file.file.truncated).catch((error: unknown) => {
+          problem ??= error instanceof EarmarkError ? error : new EarmarkError('storage_unavailable', 'the upload could not be stored');
+          return null;
+        });
         fileName = cleanName(file.filename);
       } else {
         fields[part.fieldname] = String(part.value);
