@@ -61,6 +61,7 @@ function lufsToPower(lufs: number): number {
 }
 
 interface ChannelFilter {
+  channel: number;
   weight: number;
   // Two biquads, transposed direct form II state.
   s1a: number; s1b: number; s2a: number; s2b: number;
@@ -68,10 +69,13 @@ interface ChannelFilter {
 
 export class LoudnessMeter implements Meter<LoudnessResult> {
   private readonly sampleRate: number;
+  /** Channels with a nonzero weight (LFE is excluded). */
   private readonly filters: ChannelFilter[];
   private readonly shelf;
   private readonly highpass;
   private weightedPower = new Float64Array(0);
+  /** Partner of an odd channel out: weight 0, its own state, never read. */
+  private readonly dummy: ChannelFilter = { channel: -1, weight: 0, s1a: 0, s1b: 0, s2a: 0, s2b: 0 };
 
   // 100 ms sub-blocks
   private subblockIndex = 0;
@@ -106,7 +110,9 @@ export class LoudnessMeter implements Meter<LoudnessResult> {
     this.sampleRate = info.sampleRate;
     this.shelf = shelfCoefficients(info.sampleRate);
     this.highpass = highpassCoefficients(info.sampleRate);
-    this.filters = info.channelLabels.map((label) => ({ weight: channelWeight(label), s1a: 0, s1b: 0, s2a: 0, s2b: 0 }));
+    this.filters = info.channelLabels
+      .map((label, channel) => ({ channel, weight: channelWeight(label), s1a: 0, s1b: 0, s2a: 0, s2b: 0 }))
+      .filter((f) => f.weight !== 0);
     this.nextBoundaryFrame = this.boundaryFrame(1);
     this.momentaryFrames = Math.round(0.4 * info.sampleRate);
     this.shortTermFrames = Math.round(3 * info.sampleRate);
@@ -135,28 +141,44 @@ export class LoudnessMeter implements Meter<LoudnessResult> {
     this.slideAndAccumulate(power, frames);
   }
 
-  /** K-weights every channel and adds its weighted squared output into `power`. */
+  /**
+   * K-weights every channel and adds its weighted squared output into `power`, in channel order.
+   * Two channels share one loop: each biquad is latency-bound, so two independent recurrences
+   * run in the time of one. An odd channel out is paired with a muted dummy (weight 0 adds +0).
+   */
   private filterInto(block: PcmBlock, power: Float64Array): void {
+    const filters = this.filters, x = block.channelData;
+    for (let k = 0; k < filters.length; k += 2) {
+      const a = filters[k], b = filters[k + 1] ?? this.dummy;
+      this.filterPair(x[a.channel], x[b.channel] ?? x[a.channel], a, b, power, block.frames);
+    }
+  }
+
+  private filterPair(xa: Float32Array, xb: Float32Array, fa: ChannelFilter, fb: ChannelFilter, power: Float64Array, frames: number): void {
     const { b0: p0, b1: p1, b2: p2, a1: pa1, a2: pa2 } = this.shelf;
     const { a1: ha1, a2: ha2 } = this.highpass;
-    for (let c = 0; c < this.filters.length; c++) {
-      const f = this.filters[c];
-      if (f.weight === 0) continue;
-      const x = block.channelData[c];
-      const g = f.weight;
-      let s1a = f.s1a, s1b = f.s1b, s2a = f.s2a, s2b = f.s2b;
-      for (let n = 0; n < block.frames; n++) {
-        const xn = x[n];
-        const y1 = p0 * xn + s1a;
-        s1a = p1 * xn - pa1 * y1 + s1b;
-        s1b = p2 * xn - pa2 * y1;
-        const y2 = y1 + s2a;
-        s2a = -2 * y1 - ha1 * y2 + s2b;
-        s2b = y1 - ha2 * y2;
-        power[n] += g * y2 * y2;
-      }
-      f.s1a = s1a; f.s1b = s1b; f.s2a = s2a; f.s2b = s2b;
+    const ga = fa.weight, gb = fb.weight;
+    let s1a = fa.s1a, s1b = fa.s1b, s2a = fa.s2a, s2b = fa.s2b;
+    let t1a = fb.s1a, t1b = fb.s1b, t2a = fb.s2a, t2b = fb.s2b;
+    for (let n = 0; n < frames; n++) {
+      const xn = xa[n];
+      const y1 = p0 * xn + s1a;
+      s1a = p1 * xn - pa1 * y1 + s1b;
+      s1b = p2 * xn - pa2 * y1;
+      const y2 = y1 + s2a;
+      s2a = -2 * y1 - ha1 * y2 + s2b;
+      s2b = y1 - ha2 * y2;
+      const un = xb[n];
+      const v1 = p0 * un + t1a;
+      t1a = p1 * un - pa1 * v1 + t1b;
+      t1b = p2 * un - pa2 * v1;
+      const v2 = v1 + t2a;
+      t2a = -2 * v1 - ha1 * v2 + t2b;
+      t2b = v1 - ha2 * v2;
+      power[n] = power[n] + ga * y2 * y2 + gb * v2 * v2;
     }
+    fa.s1a = s1a; fa.s1b = s1b; fa.s2a = s2a; fa.s2b = s2b;
+    fb.s1a = t1a; fb.s1b = t1b; fb.s2a = t2a; fb.s2b = t2b;
   }
 
   /** One pass over the block's power: per-sample sliding windows and the 100 ms sub-block sums. */

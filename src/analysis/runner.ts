@@ -1,4 +1,6 @@
 // Composes every meter into one pass: each block goes to each meter once, in stream order.
+// A runner may hold only some of the meters (`only`): the parallel runner gives each thread a
+// group of whole meters, so every reading comes from the same code on the same samples.
 
 import type { Meter, PcmBlock, StreamInfo } from './audio.ts';
 import { ChannelRelationMeter, type ChannelRelationOptions, type ChannelRelationResult } from './channel-relations.ts';
@@ -28,46 +30,44 @@ export interface Measurements {
   channelRelations: ChannelRelationResult;
 }
 
+export type MeterName = Exclude<keyof Measurements, 'frames'>;
+
+const METERS: { [K in MeterName]: (info: StreamInfo, options: AnalysisOptions) => Meter<Measurements[K]> } = {
+  levels: (info) => new LevelMeter(info),
+  timeWeighted: (info) => new TimeWeightedLevelMeter(info),
+  loudness: (info, o) => new LoudnessMeter(info, o.loudness),
+  truePeak: (info, o) => new TruePeakMeter(info, o.truePeak),
+  clipping: (info, o) => new ClippingMeter(info, o.clipping),
+  silence: (info, o) => new SilenceMeter(info, o.silence),
+  channelRelations: (info, o) => new ChannelRelationMeter(info, o.channelRelations),
+};
+
+export const METER_NAMES = Object.keys(METERS) as MeterName[];
+
 export class AnalysisRunner implements Meter<Measurements> {
   private frames = 0;
-  private readonly levels: LevelMeter;
-  private readonly timeWeighted: TimeWeightedLevelMeter;
-  private readonly loudness: LoudnessMeter;
-  private readonly truePeak: TruePeakMeter;
-  private readonly clipping: ClippingMeter;
-  private readonly silence: SilenceMeter;
-  private readonly channelRelations: ChannelRelationMeter;
-  private readonly meters: Meter<unknown>[];
+  private readonly meters: [MeterName, Meter<unknown>][];
 
-  constructor(readonly info: StreamInfo, options: AnalysisOptions = {}) {
-    this.levels = new LevelMeter(info);
-    this.timeWeighted = new TimeWeightedLevelMeter(info);
-    this.loudness = new LoudnessMeter(info, options.loudness);
-    this.truePeak = new TruePeakMeter(info, options.truePeak);
-    this.clipping = new ClippingMeter(info, options.clipping);
-    this.silence = new SilenceMeter(info, options.silence);
-    this.channelRelations = new ChannelRelationMeter(info, options.channelRelations);
-    this.meters = [this.levels, this.timeWeighted, this.loudness, this.truePeak, this.clipping, this.silence, this.channelRelations];
+  constructor(readonly info: StreamInfo, options: AnalysisOptions = {}, only: readonly MeterName[] = METER_NAMES) {
+    this.meters = METER_NAMES.filter((name) => only.includes(name)).map((name) => [name, METERS[name](info, options)]);
   }
 
   push(block: PcmBlock): void {
     if (block.channelData.length !== this.info.channels) {
       throw new RangeError(`block has ${block.channelData.length} channels, stream has ${this.info.channels}`);
     }
-    for (const meter of this.meters) meter.push(block);
+    for (const [, meter] of this.meters) meter.push(block);
     this.frames += block.frames;
   }
 
+  /** Every meter's result; with `only`, the other fields are absent (see partialResult). */
   result(): Measurements {
-    return {
-      frames: this.frames,
-      levels: this.levels.result(),
-      timeWeighted: this.timeWeighted.result(),
-      loudness: this.loudness.result(),
-      truePeak: this.truePeak.result(),
-      clipping: this.clipping.result(),
-      silence: this.silence.result(),
-      channelRelations: this.channelRelations.result(),
-    };
+    return this.partialResult() as Measurements;
+  }
+
+  partialResult(): Partial<Measurements> {
+    const out: Partial<Measurements> = { frames: this.frames };
+    for (const [name, meter] of this.meters) (out as Record<string, unknown>)[name] = meter.result();
+    return out;
   }
 }
