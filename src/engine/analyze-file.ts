@@ -4,7 +4,8 @@ import { createHash } from 'node:crypto';
 import { createReadStream } from 'node:fs';
 import { stat } from 'node:fs/promises';
 import { basename } from 'node:path';
-import { AnalysisRunner, type AnalysisOptions } from '../analysis/runner.ts';
+import { AnalysisRunner, type AnalysisOptions, type Measurements } from '../analysis/runner.ts';
+import { ParallelAnalysisRunner } from './parallel-runner.ts';
 import { openAudioFile } from '../decode/index.ts';
 import type { DecodeOptions } from '../decode/types.ts';
 import { EarmarkError } from '../errors/index.ts';
@@ -20,6 +21,8 @@ export interface AnalyzeFileOptions {
   /** Called with 0..1 as decoding proceeds, at most every ~5 % when the length is known. */
   onProgress?: (fraction: number) => void;
   signal?: AbortSignal;
+  /** Threads to spread the meters over (whole meters per thread; same readings). Default 1. */
+  threads?: number;
 }
 
 async function sha256File(path: string): Promise<string> {
@@ -33,24 +36,28 @@ export async function analyzeFile(path: string, options: AnalyzeFileOptions = {}
   const hashing = options.hash === false ? Promise.resolve(undefined) : sha256File(path).catch(() => undefined);
   const decoded = await openAudioFile(path, options.decode);
   const { format } = decoded;
-  const runner = new AnalysisRunner(
-    { sampleRate: format.sampleRate, channels: format.channels, channelLabels: format.channelLabels },
-    options.analysis,
-  );
-  const expectedFrames = format.frames ?? 0;
-  let nextProgress = 0.05;
-  for await (const block of decoded.blocks) {
-    if (options.signal?.aborted) throw new EarmarkError('internal_error', 'analysis was cancelled');
-    runner.push(block);
-    if (options.onProgress && expectedFrames > 0 && decoded.framesDecoded / expectedFrames >= nextProgress) {
-      options.onProgress(Math.min(1, decoded.framesDecoded / expectedFrames));
-      nextProgress += 0.05;
+  const info = { sampleRate: format.sampleRate, channels: format.channels, channelLabels: format.channelLabels };
+  const threads = options.threads ?? 1;
+  const runner = threads > 1 ? new ParallelAnalysisRunner(info, options.analysis, threads) : new AnalysisRunner(info, options.analysis);
+  let measurements: Measurements;
+  try {
+    const expectedFrames = format.frames ?? 0;
+    let nextProgress = 0.05;
+    for await (const block of decoded.blocks) {
+      if (options.signal?.aborted) throw new EarmarkError('internal_error', 'analysis was cancelled');
+      await runner.push(block);
+      if (options.onProgress && expectedFrames > 0 && decoded.framesDecoded / expectedFrames >= nextProgress) {
+        options.onProgress(Math.min(1, decoded.framesDecoded / expectedFrames));
+        nextProgress += 0.05;
+      }
     }
+    if (decoded.framesDecoded === 0) {
+      throw new EarmarkError('corrupt_file', 'the file holds no audio frames', { container: format.container });
+    }
+    measurements = await runner.result();
+  } finally {
+    if (runner instanceof ParallelAnalysisRunner) await runner.close();
   }
-  if (decoded.framesDecoded === 0) {
-    throw new EarmarkError('corrupt_file', 'the file holds no audio frames', { container: format.container });
-  }
-  const measurements = runner.result();
   const { size } = await stat(path);
   const sha256 = await hashing;
   const file = { name: options.displayName ?? basename(path), sizeBytes: size, ...(sha256 ? { sha256 } : {}) };
