@@ -12,6 +12,7 @@ import { authPlugin } from './plugins/auth.ts';
 import { errorsPlugin } from './plugins/errors.ts';
 import { healthPlugin } from './plugins/health.ts';
 import { jobsPlugin } from './plugins/jobs.ts';
+import { jsonBodyPlugin } from './plugins/json-body.ts';
 import { metricsPlugin } from './plugins/metrics.ts';
 import { pagesPlugin } from './plugins/pages.ts';
 import { profilesPlugin } from './plugins/profiles.ts';
@@ -35,9 +36,11 @@ export async function buildApp(config: Config, deps: AppDeps, logger?: Logger): 
   });
   app.addHook('onSend', async (request, reply) => { reply.header('x-request-id', request.id); });
   await app.register(Object.assign(errorsPlugin, { [Symbol.for('skip-override')]: true }));
+  await app.register(jsonBodyPlugin());
   await app.register(authPlugin(config.apiKeys));
   await app.register(rateLimitPlugin(config.rateLimitPerMinute));
-  await app.register(multipart, { limits: { fileSize: config.uploadLimitBytes, files: 1, fields: 10, fieldSize: 64 * 1024, parts: 20 } });
+  // Generous parser limits: past them the parser stops reading mid-body; jobs.ts allows 10 fields.
+  await app.register(multipart, { limits: { fileSize: config.uploadLimitBytes, files: 1, fields: 100, fieldSize: 64 * 1024, parts: 110 } });
   await app.register(metricsPlugin(deps));
   await app.register(healthPlugin(deps));
   await app.register(openapiPlugin());

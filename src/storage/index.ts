@@ -27,6 +27,7 @@ export interface Storage {
 const KEY = /^(uploads|reports)\/[A-Za-z0-9_-]+(\.json)?$/;
 
 class LimitError extends Error {}
+class SourceAborted extends Error {}
 
 export class LocalStorage implements Storage {
   constructor(readonly rootDir: string) {}
@@ -57,18 +58,24 @@ export class LocalStorage implements Storage {
     // Through a PassThrough: a failed write destroys it, not the client's stream, which is then
     // drained so the client can read the answer instead of a reset connection.
     const input = source.pipe(new PassThrough());
+    // pipe() does not pass on a source destroyed mid-file (client gone, multipart limit hit).
+    const aborted = () => { if (!source.readableEnded) input.destroy(new SourceAborted()); };
+    source.once('close', aborted).once('error', aborted);
+    if (source.destroyed) aborted();
     try {
       await pipeline(input, counter, createWriteStream(tmp, { flags: 'wx' }));
       if (isTruncated?.()) throw new LimitError();
       await rename(tmp, this.pathOf(key));
       return { key, sizeBytes, sha256: hash.digest('hex') };
     } catch (error) {
+      source.off('close', aborted).off('error', aborted);
       source.unpipe(input);
       source.resume();
       // A broken temp folder (ENOTDIR, EACCES) must not stop the answer.
       await rm(tmp, { force: true }).catch(() => undefined);
       if (error instanceof LimitError) throw new EarmarkError('payload_too_large', `the upload is larger than ${limitBytes} bytes`, { limitBytes });
       if (error instanceof EarmarkError) throw error;
+      if (error instanceof SourceAborted) throw new EarmarkError('validation_failed', 'the upload ended before the file did', { field: 'file' });
       const errno = (error as NodeJS.ErrnoException).code;
       if (errno === 'ENOSPC' || errno === 'EDQUOT') throw new EarmarkError('storage_full', 'storage is full; the upload was not kept', {}, { cause: error });
       throw new EarmarkError('storage_unavailable', 'the upload could not be stored', {}, { cause: error });

@@ -45,6 +45,14 @@ function fromFastify(error: FastifyError): EarmarkError {
     FST_ERR_CTP_EMPTY_JSON_BODY: 'validation_failed',
     FST_ERR_CTP_INVALID_JSON_BODY: 'validation_failed',
   };
+  const multipartLimits: Record<string, [string, string]> = {
+    FST_FIELDS_LIMIT: ['request', 'the form has more fields than allowed'],
+    FST_PARTS_LIMIT: ['request', 'the form has more parts than allowed'],
+    FST_FILES_LIMIT: ['file', 'send exactly one file part, named "file"'],
+    FST_PROTO_VIOLATION: ['request', 'a form field name is a reserved name'],
+  };
+  const limit = error.code ? multipartLimits[error.code] : undefined;
+  if (limit) return new EarmarkError('validation_failed', limit[1], { field: limit[0] });
   const code = error.code ? byFastifyCode[error.code] : undefined;
   if (code) return new EarmarkError(code, code === 'validation_failed' ? 'the body is not valid JSON' : errorCatalogue[code].title);
   if (error.statusCode === 400 || (error as { name?: string }).name === 'SyntaxError') return new EarmarkError('validation_failed', 'the request is malformed');

@@ -58,6 +58,8 @@ function fieldError(errors: typeof validateFields.errors): EarmarkError {
   return new EarmarkError('validation_failed', `${field} ${e?.keyword === 'additionalProperties' ? 'is not a known field' : e?.message ?? 'is invalid'}`, { field });
 }
 
+const MAX_FIELDS = 10;
+
 const cleanName = (name: string | undefined) => (name ?? 'upload').replace(/[^\w .()-]/g, '_').slice(0, 200) || 'upload';
 
 async function readMultipart(deps: AppDeps, request: FastifyRequest, limitBytes: number): Promise<{ stored: StoredFile; fileName: string; input: SubmitInput }> {
@@ -80,6 +82,8 @@ async function readMultipart(deps: AppDeps, request: FastifyRequest, limitBytes:
           return null;
         });
         fileName = cleanName(file.filename);
+      } else if (Object.keys(fields).length >= MAX_FIELDS) {
+        problem ??= new EarmarkError('validation_failed', `the form has more than ${MAX_FIELDS} fields`, { field: part.fieldname });
       } else {
         fields[part.fieldname] = String(part.value);
       }
@@ -89,11 +93,17 @@ async function readMultipart(deps: AppDeps, request: FastifyRequest, limitBytes:
     const input: Record<string, unknown> = { ...fields };
     if (fields.metadata !== undefined) {
       try { input.metadata = JSON.parse(fields.metadata); } catch { throw new EarmarkError('validation_failed', 'metadata is not valid JSON', { field: 'metadata' }); }
+      // Same rule as the JSON body parser: no prototype-poisoning keys.
+      const poison = Object.keys(input.metadata ?? {}).find((k) => k === '__proto__' || k === 'constructor' || k === 'prototype');
+      if (poison) throw new EarmarkError('validation_failed', `metadata has a "${poison}" key, which is not allowed`, { field: `metadata.${poison}` });
     }
     if (!validateFields(input)) throw fieldError(validateFields.errors);
     return { stored, fileName, input: input as unknown as SubmitInput };
   } catch (error) {
     if (stored) await deps.storage.remove(stored.key).catch(() => undefined);
+    // A multipart limit stops the parser mid-body: read the rest (bounded by the server's
+    // request timeout) so the client gets the answer instead of a broken pipe.
+    request.raw.resume();
     throw error;
   }
 }

@@ -1,0 +1,41 @@
+// The JSON body parser. Fastify's own refuses prototype-poisoning keys but answers only "not valid
+// JSON"; this one names the key. JSON.parse makes "__proto__" an own property (harmless) and
+// the reviver refuses it, and a constructor.prototype pair, anywhere in the body. Plain
+// "constructor" or "prototype" keys are left to the route schemas, which refuse unknown keys.
+
+import type { FastifyInstance } from 'fastify';
+import { EarmarkError } from '../../errors/index.ts';
+
+class PoisonKey extends Error {
+  constructor(readonly key: string) { super(key); }
+}
+
+function revive(key: string, value: unknown): unknown {
+  if (key === '__proto__') throw new PoisonKey('__proto__');
+  if (key === 'constructor' && value !== null && typeof value === 'object' && Object.hasOwn(value, 'prototype')) throw new PoisonKey('constructor');
+  return value;
+}
+
+export function parseJsonBody(body: string): unknown {
+  if (body.length === 0) throw new EarmarkError('validation_failed', 'the body is empty', { field: 'body' });
+  try {
+    return JSON.parse(body, revive);
+  } catch (error) {
+    if (error instanceof PoisonKey) throw new EarmarkError('validation_failed', `the body has a "${error.key}" key, which is not allowed`, { field: error.key });
+    throw new EarmarkError('validation_failed', 'the body is not valid JSON', { field: 'body' });
+  }
+}
+
+export function jsonBodyPlugin() {
+  const plugin = async (app: FastifyInstance) => {
+    app.removeContentTypeParser('application/json');
+    app.addContentTypeParser('application/json', { parseAs: 'string' }, (_request, body, done) => {
+      try {
+        done(null, parseJsonBody(body as string));
+      } catch (error) {
+        done(error as EarmarkError, undefined);
+      }
+    });
+  };
+  return Object.assign(plugin, { [Symbol.for('skip-override')]: true });
+}
