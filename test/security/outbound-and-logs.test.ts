@@ -8,7 +8,7 @@ import { Writable } from 'node:stream';
 import pino from 'pino';
 import request from 'supertest';
 import { afterAll, describe, expect, it } from 'vitest';
-import { spawnService, stopProcess, waitFor } from '../../fixtures/procs.ts';
+import { spawnService, stopProcess, waitFor, type ServiceProcess } from '../../fixtures/procs.ts';
 import { startApi } from '../../src/api/server.ts';
 import { loadConfig } from '../../src/config/index.ts';
 import { createRedis } from '../../src/queue/connection.ts';
@@ -18,7 +18,12 @@ import { client } from '../service/client.ts';
 import { KEYS, startService, testEnv, WEBHOOK_SECRET, type TestService } from '../service/harness.ts';
 
 const services: TestService[] = [];
-afterAll(async () => { for (const s of services) await s.close(); });
+const processes: ServiceProcess[] = [];
+// Also on a timeout: a spawned worker must not outlive the run.
+afterAll(async () => {
+  for (const p of processes) await stopProcess(p);
+  for (const s of services) await s.close();
+});
 
 describe('sourceUrl and callbackUrl after DNS resolution', () => {
   it('refuses a host name that resolves to loopback unless the allowlist names it', async () => {
@@ -55,6 +60,7 @@ describe('error bodies and logs', () => {
     const sink = new Writable({ write(chunk, _enc, done) { apiLines.push(...String(chunk).split('\n').filter(Boolean)); done(); } });
     const running = await startApi(config, pino({ level: 'debug' }, sink));
     const worker = spawnService('worker', env);
+    processes.push(worker);
     const bodies: string[] = [];
     const base = running.url;
     const keep = async (t: request.Test) => { const r = await t; bodies.push(r.text); return r; };
