@@ -78,7 +78,7 @@ describe('upload and report', () => {
     const submit = await api.upload(files.junk, { profile: 'ebu-r128' }, KEYS.alpha);
     const done = await finished(submit.body.id);
     expect(done.body.state).toBe('failed');
-    expect(done.body.error.code).toBe('unsupported_format');
+    expect(done.body.error).toMatchObject({ code: 'unsupported_format' });
     // The message names the client's file, never the storage path.
     expect(done.body.error.message).toContain('notes.wav');
     expect(done.body.error.message).not.toContain(service.dir);

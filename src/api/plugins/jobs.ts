@@ -115,8 +115,12 @@ async function loadJob(deps: AppDeps, tenant: string, id: string): Promise<Job<A
   return job;
 }
 
-async function viewOf(deps: AppDeps, job: Job<AnalyzeJobV1, AnalyzeResultV1>): Promise<JobView> {
-  const [state, deliveries] = await Promise.all([job.getState(), deps.store.deliveries(String(job.id))]);
+async function viewOf(deps: AppDeps, loaded: Job<AnalyzeJobV1, AnalyzeResultV1>): Promise<JobView> {
+  const [state, deliveries] = await Promise.all([loaded.getState(), deps.store.deliveries(String(loaded.id))]);
+  // The job may have finished between reading its hash and its state: read it again, or a
+  // failed job would show no reason (and a completed one no result).
+  const finishedSinceLoaded = (state === 'completed' || state === 'failed') && !loaded.finishedOn;
+  const job = finishedSinceLoaded ? (await deps.queue.getJob(String(loaded.id))) ?? loaded : loaded;
   return jobView(job, state, deliveries);
 }
 
