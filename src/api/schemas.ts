@@ -24,6 +24,9 @@ export const Problem: Schema = {
   },
 };
 
+/** problem+json responses (RFC 9457) for the given statuses, for route specs. */
+export const problems = (...statuses: number[]) => Object.fromEntries(statuses.map((s) => [s, { description: 'Problem', schema: Problem, contentType: 'application/problem+json' }]));
+
 export const DeliveryAttempt: Schema = {
   type: 'object',
   required: ['deliveryId', 'event', 'attempt', 'at', 'statusCode', 'outcome', 'error'],

@@ -14,7 +14,6 @@ import * as S from '../schemas.ts';
 import { submitJob, type SubmitInput } from '../submit.ts';
 import { principalOf } from './auth.ts';
 
-const problems = (...statuses: number[]) => Object.fromEntries(statuses.map((s) => [s, { description: 'Problem', schema: S.Problem, contentType: 'application/problem+json' }]));
 const idempotencyHeader = { 'Idempotency-Key': { description: 'Repeat a submission safely: the same key returns the job made the first time.', schema: { type: 'string', maxLength: 200 } } };
 
 export const jobSpecs = {
@@ -26,24 +25,24 @@ export const jobSpecs = {
     responses: {
       202: { description: 'Queued', schema: S.JobAccepted, headers: { Location: 'The job status URL' } },
       200: { description: 'Already submitted with this Idempotency-Key', schema: S.JobAccepted },
-      ...problems(400, 401, 403, 409, 413, 415, 422, 503, 507),
+      ...S.problems(400, 401, 403, 409, 413, 415, 422, 503, 507),
     },
   },
   get: {
     method: 'GET', url: '/v1/jobs/:id', operationId: 'getJob', tag: 'jobs', scope: 'read', summary: 'Job state, progress, verdict and webhook deliveries',
-    params: S.JobIdParams, responses: { 200: { description: 'The job', schema: S.Job }, ...problems(400, 401, 403, 404, 503) },
+    params: S.JobIdParams, responses: { 200: { description: 'The job', schema: S.Job }, ...S.problems(400, 401, 403, 404, 503) },
   },
   report: {
     method: 'GET', url: '/v1/jobs/:id/report', operationId: 'getJobReport', tag: 'jobs', scope: 'read', summary: 'The QC report of a completed job',
-    params: S.JobIdParams, responses: { 200: { description: 'The report', schema: S.Report }, ...problems(400, 401, 403, 404, 409, 503) },
+    params: S.JobIdParams, responses: { 200: { description: 'The report', schema: S.Report }, ...S.problems(400, 401, 403, 404, 409, 503) },
   },
   list: {
     method: 'GET', url: '/v1/jobs', operationId: 'listJobs', tag: 'jobs', scope: 'read', summary: 'The tenant\'s jobs, newest first, with cursor pagination',
-    querystring: S.ListJobsQuery, responses: { 200: { description: 'A page of jobs', schema: S.JobList }, ...problems(400, 401, 403, 503) },
+    querystring: S.ListJobsQuery, responses: { 200: { description: 'A page of jobs', schema: S.JobList }, ...S.problems(400, 401, 403, 503) },
   },
   queue: {
     method: 'GET', url: '/v1/queue', operationId: 'getQueue', tag: 'jobs', scope: 'read', summary: 'Queue counts, workers seen and jobs finished in the last minute',
-    responses: { 200: { description: 'Queue status', schema: S.QueueStatus }, ...problems(401, 403, 503) },
+    responses: { 200: { description: 'Queue status', schema: S.QueueStatus }, ...S.problems(401, 403, 503) },
   },
 } satisfies Record<string, RouteSpec>;
 

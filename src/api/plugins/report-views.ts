@@ -14,14 +14,13 @@ import type { AppDeps } from '../deps.ts';
 import { route, type RouteSpec } from '../route-spec.ts';
 import * as S from '../schemas.ts';
 
-const problems = (...statuses: number[]) => Object.fromEntries(statuses.map((s) => [s, { description: 'Problem', schema: S.Problem, contentType: 'application/problem+json' }]));
 
 export const reportViewSpecs = {
   plot: {
     method: 'GET', url: '/v1/jobs/:id/plot.svg', operationId: 'getJobPlot', tag: 'jobs', scope: 'read',
     summary: 'Momentary and short-term loudness over time with the target band and one marker per flag (SVG)',
     params: S.JobIdParams,
-    responses: { 200: { description: 'SVG image', schema: { type: 'string' }, contentType: 'image/svg+xml' }, ...problems(400, 401, 403, 404, 409, 503) },
+    responses: { 200: { description: 'SVG image', schema: { type: 'string' }, contentType: 'image/svg+xml' }, ...S.problems(400, 401, 403, 404, 409, 503) },
   },
   excerpt: {
     method: 'GET', url: '/v1/jobs/:id/excerpt', operationId: 'getJobExcerpt', tag: 'jobs', scope: 'read',
@@ -31,7 +30,7 @@ export const reportViewSpecs = {
       type: 'object', required: ['startSeconds', 'endSeconds'], additionalProperties: false,
       properties: { startSeconds: { type: 'number', minimum: 0 }, endSeconds: { type: 'number', exclusiveMinimum: 0 } },
     },
-    responses: { 200: { description: 'WAV audio', schema: { type: 'string', format: 'binary' }, contentType: 'audio/wav' }, ...problems(400, 401, 403, 404, 409, 503) },
+    responses: { 200: { description: 'WAV audio', schema: { type: 'string', format: 'binary' }, contentType: 'audio/wav' }, ...S.problems(400, 401, 403, 404, 409, 503) },
   },
 } satisfies Record<string, RouteSpec>;
 
