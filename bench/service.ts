@@ -1,0 +1,264 @@
+// `npm run bench:service`: the service targets of the performance issue, measured on real
+// processes over loopback against the local Redis (REDIS_URL, default redis://127.0.0.1:6379),
+// under a private queue prefix and a temp storage folder, both removed at the end.
+// A benchmark, not a test: it prints figures and never fails on them.
+//
+// 1. Throughput: 200 one-minute 48 kHz stereo 24-bit WAVs (one generated file uploaded 200 times,
+//    the jobs are independent) through one API and two workers, first submit to last report,
+//    beside the CLI analysis run serially (10 runs scaled to 200) divided by two.
+// 2. Upload ingest: one large WAV (the 60-minute bench file, ~989 MiB) and one smaller one (the
+//    10-minute file, ~165 MiB) posted to /v1/jobs, each to a fresh API process with no worker:
+//    MB/s from the start of the request to the 202 (Node's fetch, then the same file from curl),
+//    and the API's VmHWM before and after.
+// 3. Latency: 20 sequential submits of a 30-second file with warm workers, polling every 20 ms
+//    until completed and then reading the report; p50 and p95.
+//
+// Environment: BENCH_DIR (cache folder, shared with bench/analysis.ts), BENCH_SERVICE_FILES (200),
+// BENCH_SERVICE_CLI_RUNS (10), BENCH_SERVICE_LATENCY_RUNS (20).
+
+import { spawn } from 'node:child_process';
+import { randomBytes } from 'node:crypto';
+import { existsSync, mkdtempSync, openAsBlob, readFileSync, rmSync } from 'node:fs';
+import { mkdir, rename, stat } from 'node:fs/promises';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { writeWavFile } from '../src/encode/wav.ts';
+import { createRedis } from '../src/queue/connection.ts';
+import { ServiceStore } from '../src/queue/store.ts';
+import { programmeBlocks } from '../src/selftest/signals.ts';
+import { freePort, peakRssMib, sleep, spawnService, stopProcess, waitFor, type ServiceProcess } from '../fixtures/procs.ts';
+
+const redisUrl = process.env.REDIS_URL ?? 'redis://127.0.0.1:6379';
+const cacheDir = process.env.BENCH_DIR ?? join(tmpdir(), 'earmark-bench');
+const files = Number(process.env.BENCH_SERVICE_FILES ?? 200);
+const cliRuns = Number(process.env.BENCH_SERVICE_CLI_RUNS ?? 10);
+const latencyRuns = Number(process.env.BENCH_SERVICE_LATENCY_RUNS ?? 20);
+const sampleRate = 48000;
+const basePrefix = `bsvc${randomBytes(4).toString('hex')}`;
+const key = `bench-${randomBytes(12).toString('hex')}`;
+const auth = { authorization: `Bearer ${key}` };
+
+/** A deterministic programme WAV in the cache folder, generated once. */
+async function wavFile(name: string, seconds: number): Promise<string> {
+  const path = join(cacheDir, name);
+  if (existsSync(path)) return path;
+  await mkdir(cacheDir, { recursive: true });
+  console.log(`generating ${path} (once) ...`);
+  const partial = `${path}.partial`;
+  const blocks = (function* () {
+    for (const block of programmeBlocks({ sampleRate, channels: 2, seconds, seed: 2026, blockFrames: 1 << 16 })) yield block.channelData as Float32Array[];
+  })();
+  await writeWavFile(partial, { sampleRate, channels: 2, bitsPerSample: 24, float: false }, blocks);
+  await rename(partial, path);
+  return path;
+}
+
+interface Service { url: string; prefix: string; dir: string; api: ServiceProcess; workers: ServiceProcess[]; close(): Promise<void> }
+
+async function startService(prefix: string, workerCount: number): Promise<Service> {
+  const dir = mkdtempSync(join(tmpdir(), 'earmark-bench-svc-'));
+  const port = await freePort();
+  const env = {
+    REDIS_URL: redisUrl, PORT: String(port), HOST: '127.0.0.1', EARMARK_QUEUE_PREFIX: prefix, EARMARK_STORAGE_DIR: dir,
+    EARMARK_API_KEYS: JSON.stringify([{ key, tenant: 'bench', scopes: ['submit', 'read'] }]),
+    EARMARK_RATE_LIMIT_PER_MINUTE: '1000000', EARMARK_LOG_LEVEL: 'warn',
+    EARMARK_UPLOAD_LIMIT_BYTES: String(8 * 1024 ** 3),
+  };
+  const api = spawnService('api', env);
+  const workers = Array.from({ length: workerCount }, () => spawnService('worker', env));
+  const url = `http://127.0.0.1:${port}`;
+  await waitFor('the API to be ready', async () => (await fetch(`${url}/readyz`).catch(() => null))?.status === 200, 60_000, 100);
+  return {
+    url, prefix, dir, api, workers,
+    async close() {
+      await Promise.all([api, ...workers].map((p) => stopProcess(p)));
+      const redis = createRedis(redisUrl, 'worker');
+      await new ServiceStore(redis, prefix, 60).purge();
+      await redis.quit();
+      rmSync(dir, { recursive: true, force: true });
+    },
+  };
+}
+
+async function submit(url: string, body: Blob, name: string): Promise<string> {
+  const form = new FormData();
+  form.set('profile', 'ebu-r128');
+  form.set('file', body, name);
+  const res = await fetch(`${url}/v1/jobs`, { method: 'POST', headers: auth, body: form });
+  const reply = (await res.json()) as { id?: string };
+  if (res.status !== 202 || !reply.id) throw new Error(`submit answered ${res.status}: ${JSON.stringify(reply).slice(0, 200)}`);
+  return reply.id;
+}
+
+interface View { state: string; finishedAt: string | null }
+async function view(url: string, id: string): Promise<View> {
+  const res = await fetch(`${url}/v1/jobs/${id}`, { headers: auth });
+  if (res.status !== 200) throw new Error(`job view answered ${res.status}`);
+  return (await res.json()) as View;
+}
+async function report(url: string, id: string): Promise<void> {
+  const res = await fetch(`${url}/v1/jobs/${id}/report`, { headers: auth });
+  if (res.status !== 200) throw new Error(`report answered ${res.status}`);
+  await res.arrayBuffer();
+}
+
+/** Wall time of one CLI analysis process (bench/analyze-once.ts). */
+function cliRun(file: string): Promise<number> {
+  return new Promise((resolve, reject) => {
+    const started = performance.now();
+    const child = spawn(process.execPath, ['bin/run.js', 'bench/analyze-once.ts', file, '1'], { stdio: ['ignore', 'ignore', 'inherit'] });
+    child.on('error', reject);
+    child.on('exit', (code) => (code === 0 ? resolve((performance.now() - started) / 1000) : reject(new Error(`analysis exited ${code}`))));
+  });
+}
+
+const percentile = (values: number[], p: number) => {
+  const sorted = [...values].sort((a, b) => a - b);
+  return sorted[Math.min(sorted.length - 1, Math.max(0, Math.ceil((p / 100) * sorted.length) - 1))];
+};
+
+const rows: string[][] = [];
+const row = (what: string, ours: string, reference: string, ratio: string, goal: string) => rows.push([what, ours, reference, ratio, goal]);
+
+async function throughputAndLatency(oneMinute: string, thirtySeconds: string): Promise<void> {
+  // Reference first, on an idle machine: the CLI over the same file, serially.
+  await cliRun(oneMinute); // page cache and tsx cache warm
+  const cli: number[] = [];
+  for (let i = 0; i < cliRuns; i++) cli.push(await cliRun(oneMinute));
+  const cliTotal = cli.reduce((a, b) => a + b, 0);
+  const reference = (cliTotal * (files / cliRuns)) / 2;
+  console.log(`CLI: ${cliRuns} serial runs of bench/analyze-once.ts on the 1-minute file: ${cliTotal.toFixed(2)} s (median ${percentile(cli, 50).toFixed(2)} s); x${files / cliRuns} for ${files} files, / 2 = ${reference.toFixed(1)} s`);
+
+  const service = await startService(basePrefix, 2);
+  try {
+    const body = new Blob([readFileSync(oneMinute)]);
+    // Warm each worker's sandboxed child (two jobs at once, so both workers take one) before the clock starts.
+    const warm = await Promise.all([submit(service.url, body, 'warm.wav'), submit(service.url, body, 'warm.wav')]);
+    await waitFor('the warm-up jobs', async () => (await Promise.all(warm.map((id) => view(service.url, id)))).every((v) => v.state === 'completed'), 120_000, 100);
+
+    const started = Date.now();
+    const t0 = performance.now();
+    const ids: string[] = [];
+    let next = 0;
+    const client = async () => {
+      while (next < files) {
+        next += 1;
+        ids.push(await submit(service.url, body, 'one-minute.wav'));
+      }
+    };
+    await Promise.all(Array.from({ length: 4 }, client));
+    const submitSeconds = (performance.now() - t0) / 1000;
+    const pending = new Set(ids);
+    let lastFinished = 0;
+    let failed = 0;
+    while (pending.size > 0) {
+      await sleep(250);
+      for (const id of [...pending]) {
+        const v = await view(service.url, id);
+        if (v.state === 'completed' || v.state === 'failed') {
+          pending.delete(id);
+          if (v.state === 'failed') failed += 1;
+          lastFinished = Math.max(lastFinished, Date.parse(v.finishedAt ?? new Date().toISOString()));
+        }
+      }
+    }
+    await report(service.url, ids[ids.length - 1]);
+    const observed = (performance.now() - t0) / 1000;
+    const wall = (lastFinished - started) / 1000;
+    console.log(`service: ${files} jobs submitted in ${submitSeconds.toFixed(1)} s; last finished ${wall.toFixed(1)} s after the first submit (observed by polling ${observed.toFixed(1)} s); failed ${failed}`);
+    row(`${files} x 1-min stereo WAV, 2 workers (s)`, wall.toFixed(1), `${reference.toFixed(1)} CLI/2`, (wall / reference).toFixed(2), '< 1.2');
+
+    // Latency, warm workers: one job at a time.
+    const small = new Blob([readFileSync(thirtySeconds)]);
+    const latencies: number[] = [];
+    for (let i = 0; i < latencyRuns; i++) {
+      const t = performance.now();
+      const id = await submit(service.url, small, 'thirty-seconds.wav');
+      for (;;) {
+        const v = await view(service.url, id);
+        if (v.state === 'completed') break;
+        if (v.state === 'failed') throw new Error('latency job failed');
+        await sleep(20);
+      }
+      await report(service.url, id);
+      latencies.push(performance.now() - t);
+    }
+    const p50 = percentile(latencies, 50);
+    const p95 = percentile(latencies, 95);
+    console.log(`latency: ${latencyRuns} sequential 30-s jobs, ms: ${latencies.map((x) => x.toFixed(0)).join(' ')}`);
+    row('submit-to-report, 30-s file, p50 (ms)', p50.toFixed(0), '300', (p50 / 300).toFixed(2), '<= 300 ms');
+    row('submit-to-report, 30-s file, p95 (ms)', p95.toFixed(0), '', '', 'reported');
+    console.log(`peak RSS: API ${peakRssMib(service.api.pid)?.toFixed(0)} MiB, workers ${service.workers.map((w) => peakRssMib(w.pid)?.toFixed(0)).join(' / ')} MiB`);
+  } finally {
+    await service.close();
+  }
+}
+
+interface Ingest { mbPerSecond: number; bytes: number; hwmBefore: number; hwmAfter: number; curlMbPerSecond: number | null; hwmAfterCurl: number }
+
+/** The same upload from curl (a client that costs the shared cores less than fetch): seconds, or null without curl. */
+function curlUpload(url: string, file: string): Promise<number | null> {
+  return new Promise((resolve) => {
+    const child = spawn('curl', ['-s', '-o', '/dev/null', '-w', '%{http_code} %{time_total}', '-H', `authorization: ${auth.authorization}`,
+      '-F', 'profile=ebu-r128', '-F', `file=@${file};type=audio/wav`, `${url}/v1/jobs`], { stdio: ['ignore', 'pipe', 'ignore'] });
+    let out = '';
+    child.stdout.on('data', (chunk: Buffer) => { out += chunk.toString(); });
+    child.on('error', () => resolve(null));
+    child.on('exit', () => {
+      const [code, seconds] = out.trim().split(' ');
+      resolve(code === '202' ? Number(seconds) : null);
+    });
+  });
+}
+
+/** Uploads to a fresh API process with no worker (fetch, then curl): MB/s and the API's VmHWM before and after. */
+async function ingest(file: string, suffix: string): Promise<Ingest> {
+  const service = await startService(`${basePrefix}${suffix}`, 0);
+  try {
+    // A small upload first, so the "before" figure includes the upload path's own code and buffers.
+    // (the first MiB of the file: a truncated WAV, which the API accepts and only the worker would reject).
+    await submit(service.url, (await openAsBlob(file)).slice(0, 1 << 20), 'warm.wav').catch(() => undefined);
+    await sleep(300);
+    const hwmBefore = peakRssMib(service.api.pid) ?? NaN;
+    const { size } = await stat(file);
+    const blob = await openAsBlob(file);
+    const t = performance.now();
+    await submit(service.url, blob, 'large.wav');
+    const seconds = (performance.now() - t) / 1000;
+    const hwmAfter = peakRssMib(service.api.pid) ?? NaN;
+    const curl = await curlUpload(service.url, file);
+    return { mbPerSecond: size / 1e6 / seconds, bytes: size, hwmBefore, hwmAfter, curlMbPerSecond: curl === null ? null : size / 1e6 / curl, hwmAfterCurl: peakRssMib(service.api.pid) ?? NaN };
+  } finally {
+    await service.close();
+  }
+}
+
+async function main(): Promise<void> {
+  console.log(`prefix ${basePrefix}*, Redis ${redisUrl}`);
+  const oneMinute = await wavFile('programme-1min-48k-stereo-24bit.wav', 60);
+  const thirtySeconds = await wavFile('programme-0.5min-48k-stereo-24bit.wav', 30);
+  const mid = await wavFile('programme-10min-48k-stereo-24bit.wav', 600);
+  const large = await wavFile('programme-60min-48k-stereo-24bit.wav', 3600);
+
+  await throughputAndLatency(oneMinute, thirtySeconds);
+
+  const small = await ingest(mid, 'm');
+  const big = await ingest(large, 'l');
+  for (const [label, r] of [['small', small], ['large', big]] as const) {
+    console.log(`ingest ${label}: ${(r.bytes / 2 ** 20).toFixed(0)} MiB at ${r.mbPerSecond.toFixed(0)} MB/s from fetch; API VmHWM ${r.hwmBefore.toFixed(0)} -> ${r.hwmAfter.toFixed(0)} MiB (+${(r.hwmAfter - r.hwmBefore).toFixed(0)}); `
+      + `then from curl ${r.curlMbPerSecond === null ? 'n/a' : `${r.curlMbPerSecond.toFixed(0)} MB/s`}, VmHWM ${r.hwmAfterCurl.toFixed(0)} MiB`);
+  }
+  if (big.curlMbPerSecond !== null) row(`upload ingest, ${(big.bytes / 2 ** 20).toFixed(0)} MiB WAV, curl client (MB/s)`, big.curlMbPerSecond.toFixed(0), '200', (big.curlMbPerSecond / 200).toFixed(2), '>= 200 MB/s');
+  row(`upload ingest, ${(big.bytes / 2 ** 20).toFixed(0)} MiB WAV, fetch client (MB/s)`, big.mbPerSecond.toFixed(0), '200', (big.mbPerSecond / 200).toFixed(2), '>= 200 MB/s');
+  row(`upload ingest, ${(small.bytes / 2 ** 20).toFixed(0)} MiB WAV, fetch client (MB/s)`, small.mbPerSecond.toFixed(0), '200', (small.mbPerSecond / 200).toFixed(2), '>= 200 MB/s');
+  row(`API VmHWM increase, ${(big.bytes / 2 ** 20).toFixed(0)} vs ${(small.bytes / 2 ** 20).toFixed(0)} MiB upload (MiB)`,
+    `+${(big.hwmAfter - big.hwmBefore).toFixed(0)}`, `+${(small.hwmAfter - small.hwmBefore).toFixed(0)}`, '', 'not growing with size');
+
+  console.log('');
+  const widths = [58, 12, 16, 7];
+  for (const r of [['target', 'earmark', 'reference', 'ratio', 'goal'], ...rows]) {
+    console.log(`${r[0].padEnd(widths[0])} ${r[1].padStart(widths[1])} ${r[2].padStart(widths[2])} ${r[3].padStart(widths[3])}   ${r[4]}`);
+  }
+}
+
+await main();
