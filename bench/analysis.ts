@@ -8,7 +8,8 @@
 //
 // Environment: BENCH_MINUTES (default 60), BENCH_RUNS (default 5), BENCH_DIR (cache folder),
 // BENCH_SHORT_MINUTES (default 10: the short file for RSS growth and the compressed inputs),
-// BENCH_LONG_MINUTES (optional, e.g. 180: adds a long file to the RSS comparison).
+// BENCH_LONG_MINUTES (optional, e.g. 180: adds a long file to the RSS comparison),
+// BENCH_SURROUND_MINUTES (optional, e.g. 10: adds a 5.1 file to the RSS comparison).
 
 import { spawn, spawnSync } from 'node:child_process';
 import { existsSync } from 'node:fs';
@@ -21,22 +22,23 @@ import { writeWavFile } from '../src/encode/wav.ts';
 const minutes = Number(process.env.BENCH_MINUTES ?? 60);
 const shortMinutes = Number(process.env.BENCH_SHORT_MINUTES ?? 10);
 const longMinutes = process.env.BENCH_LONG_MINUTES ? Number(process.env.BENCH_LONG_MINUTES) : null;
+const surroundMinutes = process.env.BENCH_SURROUND_MINUTES ? Number(process.env.BENCH_SURROUND_MINUTES) : null;
 const runs = Number(process.env.BENCH_RUNS ?? 5);
 const cacheDir = process.env.BENCH_DIR ?? join(tmpdir(), 'earmark-bench');
 const sampleRate = 48000;
 
-async function benchFile(minutes: number): Promise<string> {
-  const path = join(cacheDir, `programme-${minutes}min-48k-stereo-24bit.wav`);
+async function benchFile(minutes: number, channels = 2): Promise<string> {
+  const path = join(cacheDir, `programme-${minutes}min-48k-${channels === 6 ? '5.1' : 'stereo'}-24bit.wav`);
   if (existsSync(path)) return path;
   await mkdir(cacheDir, { recursive: true });
   console.log(`generating ${path} (once) ...`);
   const partial = `${path}.partial`;
   const blocks = (function* () {
-    for (const block of programmeBlocks({ sampleRate, channels: 2, seconds: minutes * 60, seed: 2026, blockFrames: 1 << 16 })) {
+    for (const block of programmeBlocks({ sampleRate, channels, seconds: minutes * 60, seed: 2026, blockFrames: 1 << 16 })) {
       yield block.channelData as Float32Array[];
     }
   })();
-  await writeWavFile(partial, { sampleRate, channels: 2, bitsPerSample: 24, float: false }, blocks);
+  await writeWavFile(partial, { sampleRate, channels, bitsPerSample: 24, float: false, ...(channels === 6 ? { channelMask: 0x3f } : {}) }, blocks);
   await rename(partial, path);
   return path;
 }
@@ -118,6 +120,7 @@ async function main(): Promise<void> {
     if (m !== minutes) rssByMinutes.push([m, (await earmarkRun(await benchFile(m))).maxRssMb]);
   }
   const shortRss = rssByMinutes.find(([m]) => m === shortMinutes)?.[1] ?? peakRss;
+  const surroundRss = surroundMinutes ? (await earmarkRun(await benchFile(surroundMinutes, 6))).maxRssMb : null;
 
   // Compressed input, from the short file: decode plus every meter, in x-realtime.
   const compressed: [string, number][] = [];
@@ -145,6 +148,7 @@ async function main(): Promise<void> {
   for (const [m, rss] of rssByMinutes.slice(1).filter(([m]) => m !== shortMinutes)) {
     row(`peak RSS, ${m} min vs ${shortMinutes} min (MB)`, rss.toFixed(0), shortRss.toFixed(0), (rss / shortRss).toFixed(2), 'within 10 %');
   }
+  if (surroundMinutes && surroundRss !== null) row(`peak RSS, 5.1 ${surroundMinutes} min vs stereo ${shortMinutes} min (MB)`, surroundRss.toFixed(0), shortRss.toFixed(0), (surroundRss / shortRss).toFixed(2), 'within 10 %');
   if (minutes !== shortMinutes) row(`peak RSS, ${minutes} min vs ${shortMinutes} min (MB)`, peakRss.toFixed(0), shortRss.toFixed(0), (peakRss / shortRss).toFixed(2), 'within 10 %');
   for (const [extension, realtime] of compressed) {
     row(`${extension} decode + full analysis, ${shortMinutes} min`, `${realtime.toFixed(0)}x`, '', '', 'x realtime, reported');
