@@ -18,15 +18,13 @@
 
 import { spawn } from 'node:child_process';
 import { randomBytes } from 'node:crypto';
-import { existsSync, mkdtempSync, openAsBlob, readFileSync, rmSync } from 'node:fs';
+import { existsSync, openAsBlob, readFileSync } from 'node:fs';
 import { mkdir, rename, stat } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { writeWavFile } from '../src/encode/wav.ts';
-import { createRedis } from '../src/queue/connection.ts';
-import { ServiceStore } from '../src/queue/store.ts';
 import { programmeBlocks } from '../src/selftest/signals.ts';
-import { freePort, peakRssMib, sleep, spawnService, stopProcess, waitFor, type ServiceProcess } from '../fixtures/procs.ts';
+import { peakRssMib, sleep, startServiceProcesses, waitFor, type ServiceProcesses } from '../fixtures/procs.ts';
 
 const redisUrl = process.env.REDIS_URL ?? 'redis://127.0.0.1:6379';
 const cacheDir = process.env.BENCH_DIR ?? join(tmpdir(), 'earmark-bench');
@@ -53,31 +51,14 @@ async function wavFile(name: string, seconds: number): Promise<string> {
   return path;
 }
 
-interface Service { url: string; prefix: string; dir: string; api: ServiceProcess; workers: ServiceProcess[]; close(): Promise<void> }
+type Service = ServiceProcesses;
 
-async function startService(prefix: string, workerCount: number): Promise<Service> {
-  const dir = mkdtempSync(join(tmpdir(), 'earmark-bench-svc-'));
-  const port = await freePort();
-  const env = {
-    REDIS_URL: redisUrl, PORT: String(port), HOST: '127.0.0.1', EARMARK_QUEUE_PREFIX: prefix, EARMARK_STORAGE_DIR: dir,
-    EARMARK_API_KEYS: JSON.stringify([{ key, tenant: 'bench', scopes: ['submit', 'read'] }]),
-    EARMARK_RATE_LIMIT_PER_MINUTE: '1000000', EARMARK_LOG_LEVEL: 'warn',
-    EARMARK_UPLOAD_LIMIT_BYTES: String(8 * 1024 ** 3),
-  };
-  const api = spawnService('api', env);
-  const workers = Array.from({ length: workerCount }, () => spawnService('worker', env));
-  const url = `http://127.0.0.1:${port}`;
-  await waitFor('the API to be ready', async () => (await fetch(`${url}/readyz`).catch(() => null))?.status === 200, 60_000, 100);
-  return {
-    url, prefix, dir, api, workers,
-    async close() {
-      await Promise.all([api, ...workers].map((p) => stopProcess(p)));
-      const redis = createRedis(redisUrl, 'worker');
-      await new ServiceStore(redis, prefix, 60).purge();
-      await redis.quit();
-      rmSync(dir, { recursive: true, force: true });
-    },
-  };
+function startService(prefix: string, workerCount: number): Promise<Service> {
+  return startServiceProcesses({
+    redisUrl, prefix, workerCount,
+    apiKeys: [{ key, tenant: 'bench', scopes: ['submit', 'read'] }],
+    env: { EARMARK_RATE_LIMIT_PER_MINUTE: '1000000', EARMARK_LOG_LEVEL: 'warn', EARMARK_UPLOAD_LIMIT_BYTES: String(8 * 1024 ** 3) },
+  });
 }
 
 async function submit(url: string, body: Blob, name: string): Promise<string> {
