@@ -1,10 +1,14 @@
 // The PCM contract between decoders and meters. The analysis layer owns it (it imports nothing
 // from decode); decoders produce it.
 
+import type { BlockEnvelope } from './envelope.ts';
+
 /** Planar float samples, nominal full scale +/-1.0. All channels hold `frames` samples. */
 export interface PcmBlock {
   readonly channelData: readonly Float32Array[];
   readonly frames: number;
+  /** Per-chunk extremes, attached by the runner so meters share one pass; absent from decoders. */
+  readonly envelope?: BlockEnvelope;
 }
 
 /**

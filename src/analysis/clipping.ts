@@ -3,6 +3,7 @@
 // (e.g. a test tone at fs/2) is not clipped. Runs are tracked across block boundaries per channel.
 
 import type { Meter, PcmBlock, StreamInfo } from './audio.ts';
+import { ENVELOPE_CHUNK_FRAMES, EnvelopeBuilder } from './envelope.ts';
 import { EventLog, type AnalysisEvent } from './events.ts';
 import { amplitudeToDb } from './levels.ts';
 import { EarmarkError } from '../errors/index.ts';
@@ -56,6 +57,7 @@ export class ClippingMeter implements Meter<ClippingResult> {
   private readonly pending: PendingEvent[] = [];
   private frames = 0;
   private finished: ClippingResult | null = null;
+  private readonly envelopes = new EnvelopeBuilder();
 
   constructor(private readonly info: StreamInfo, options: ClippingMeterOptions = {}) {
     this.threshold = options.thresholdLinear
@@ -80,30 +82,36 @@ export class ClippingMeter implements Meter<ClippingResult> {
     const frames = block.frames;
     const base = this.frames;
     const thr = this.threshold;
+    const envelope = this.envelopes.of(block);
     for (let c = 0; c < this.info.channels; c++) {
       const x = block.channelData[c];
+      const chunkMax = envelope.maxAbs[c];
       let sign = this.runSign[c];
       let start = this.runStart[c];
       let peak = this.runPeak[c];
-      for (let i = 0; i < frames; i++) {
-        const v = x[i];
-        const a = Math.abs(v);
-        // Fast path: below threshold and no open run (almost every sample).
-        if (a < thr) {
-          if (sign !== 0) {
-            this.close(c, start, base + i, peak);
-            sign = 0;
+      for (let k = 0, from = 0; from < frames; k++, from += ENVELOPE_CHUNK_FRAMES) {
+        // A chunk wholly below the threshold with no run open changes nothing (almost every chunk).
+        if (sign === 0 && chunkMax[k] < thr) continue;
+        const to = Math.min(from + ENVELOPE_CHUNK_FRAMES, frames);
+        for (let i = from; i < to; i++) {
+          const v = x[i];
+          const a = Math.abs(v);
+          if (a < thr) {
+            if (sign !== 0) {
+              this.close(c, start, base + i, peak);
+              sign = 0;
+            }
+            continue;
           }
-          continue;
-        }
-        const s = v > 0 ? 1 : -1;
-        if (s !== sign) {
-          if (sign !== 0) this.close(c, start, base + i, peak);
-          sign = s;
-          start = base + i;
-          peak = a;
-        } else if (a > peak) {
-          peak = a;
+          const s = v > 0 ? 1 : -1;
+          if (s !== sign) {
+            if (sign !== 0) this.close(c, start, base + i, peak);
+            sign = s;
+            start = base + i;
+            peak = a;
+          } else if (a > peak) {
+            peak = a;
+          }
         }
       }
       this.runSign[c] = sign;

@@ -2,6 +2,7 @@
 // Sums run sample by sample in stream order (Float64), so block cuts never change a result.
 
 import type { Meter, PcmBlock, StreamInfo } from './audio.ts';
+import { EnvelopeBuilder } from './envelope.ts';
 
 /** 20 log10(2^0.5): AES17 references RMS to a full-scale sine, so it reads this much higher. */
 export const AES17_OFFSET_DB = 10 * Math.log10(2);
@@ -67,6 +68,7 @@ export class LevelMeter implements Meter<LevelResult> {
   private readonly fullScaleCount: Float64Array;
   private readonly overCount: Float64Array;
   private frames = 0;
+  private readonly envelopes = new EnvelopeBuilder();
 
   constructor(private readonly info: StreamInfo, options: LevelMeterOptions = {}) {
     this.fullScaleLinear = options.fullScaleLinear ?? 1;
@@ -85,24 +87,25 @@ export class LevelMeter implements Meter<LevelResult> {
     // Two accumulator lanes keyed by the absolute frame parity: halves the add-latency chain
     // and still sums every sample in the same order however the stream is cut.
     const first = this.frames % 2;
+    // The peak comes from the shared envelope: this loop only sums.
+    const blockPeak = this.envelopes.of(block).blockMaxAbs;
     for (let c = 0; c < this.info.channels; c++) {
       const x = block.channelData[c];
       // Lane of the block's even-indexed samples, and of its odd-indexed ones.
       const even = 2 * c + first;
       const odd = 2 * c + 1 - first;
-      let peak = 0, sq0 = this.sumSquares[even], sq1 = this.sumSquares[odd], s0 = this.sum[even], s1 = this.sum[odd];
+      let sq0 = this.sumSquares[even], sq1 = this.sumSquares[odd], s0 = this.sum[even], s1 = this.sum[odd];
       let i = 0;
       for (; i + 1 < frames; i += 2) {
         const v0 = x[i], v1 = x[i + 1];
         s0 += v0; s1 += v1;
         sq0 += v0 * v0; sq1 += v1 * v1;
-        peak = Math.max(peak, Math.abs(v0), Math.abs(v1));
       }
       if (i < frames) {
         const v = x[i];
         s0 += v; sq0 += v * v;
-        peak = Math.max(peak, Math.abs(v));
       }
+      const peak = blockPeak[c];
       this.sumSquares[even] = sq0; this.sumSquares[odd] = sq1;
       this.sum[even] = s0; this.sum[odd] = s1;
       if (peak > this.peak[c]) this.peak[c] = peak;

@@ -4,6 +4,7 @@
 
 import type { Meter, PcmBlock, StreamInfo } from './audio.ts';
 import { ChannelRelationMeter, type ChannelRelationOptions, type ChannelRelationResult } from './channel-relations.ts';
+import { EnvelopeBuilder } from './envelope.ts';
 import { ClippingMeter, type ClippingMeterOptions, type ClippingResult } from './clipping.ts';
 import { LevelMeter, type LevelResult } from './levels.ts';
 import { LoudnessMeter, type LoudnessOptions, type LoudnessResult } from './loudness.ts';
@@ -47,6 +48,7 @@ export const METER_NAMES = Object.keys(METERS) as MeterName[];
 export class AnalysisRunner implements Meter<Measurements> {
   private frames = 0;
   private readonly meters: [MeterName, Meter<unknown>][];
+  private readonly envelopes = new EnvelopeBuilder();
 
   constructor(readonly info: StreamInfo, options: AnalysisOptions = {}, only: readonly MeterName[] = METER_NAMES) {
     this.meters = METER_NAMES.filter((name) => only.includes(name)).map((name) => [name, METERS[name](info, options)]);
@@ -56,7 +58,9 @@ export class AnalysisRunner implements Meter<Measurements> {
     if (block.channelData.length !== this.info.channels) {
       throw new RangeError(`block has ${block.channelData.length} channels, stream has ${this.info.channels}`);
     }
-    for (const [, meter] of this.meters) meter.push(block);
+    // One envelope pass for every meter that reads it.
+    const shared: PcmBlock = block.envelope ? block : { ...block, envelope: this.envelopes.build(block) };
+    for (const [, meter] of this.meters) meter.push(shared);
     this.frames += block.frames;
   }
 

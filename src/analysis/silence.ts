@@ -5,6 +5,7 @@
 // runs of any length; events only cover runs of at least the minimum duration.
 
 import type { Meter, PcmBlock, StreamInfo } from './audio.ts';
+import { ENVELOPE_CHUNK_FRAMES, EnvelopeBuilder } from './envelope.ts';
 import { EventLog, type AnalysisEvent } from './events.ts';
 import { amplitudeToDb } from './levels.ts';
 import { byEndThenChannel } from './clipping.ts';
@@ -76,6 +77,7 @@ export class SilenceMeter implements Meter<SilenceResult> {
   private longestGapStart: number | null = null;
   private frames = 0;
   private finished: SilenceResult | null = null;
+  private readonly envelopes = new EnvelopeBuilder();
 
   constructor(private readonly info: StreamInfo, options: SilenceMeterOptions = {}) {
     this.thresholdDbfs = options.thresholdDbfs ?? DEFAULT_SILENCE_THRESHOLD_DBFS;
@@ -104,25 +106,41 @@ export class SilenceMeter implements Meter<SilenceResult> {
     // A block of f frames holds at most ceil(f / 2) silent runs per channel.
     const cap = (frames >> 1) + 2;
     if (this.runCap < cap) this.allocateRuns(cap);
+    const envelope = this.envelopes.of(block);
+    // A run inside the block that is shorter than the minimum and no longer than the longest gap
+    // so far can neither raise an event nor a longer gap (all-channel runs lie inside it): the
+    // intersection below skips it. Noisy quiet passages make thousands of such one-sample runs.
+    const keepFrames = Math.min(this.minFrames, this.longestGapFrames + 1);
     for (let c = 0; c < n; c++) {
       const x = block.channelData[c];
+      const chunkMax = envelope.maxAbs[c], chunkMin = envelope.minAbs[c];
       const off = c * this.runCap;
       let count = 0;
       let start = this.runStart[c];
       let peak = this.runPeak[c];
-      for (let i = 0; i < frames; i++) {
-        const a = Math.abs(x[i]);
-        if (a < thr) {
-          if (start < 0) {
-            start = base + i;
-            peak = 0;
+      for (let k = 0, from = 0; from < frames; k++, from += ENVELOPE_CHUNK_FRAMES) {
+        // Chunks that cannot start or end a run are decided by their extremes alone.
+        if (start < 0 ? chunkMin[k] >= thr : chunkMax[k] < thr) {
+          if (start >= 0 && chunkMax[k] > peak) peak = chunkMax[k];
+          continue;
+        }
+        const to = Math.min(from + ENVELOPE_CHUNK_FRAMES, frames);
+        for (let i = from; i < to; i++) {
+          const a = Math.abs(x[i]);
+          if (a < thr) {
+            if (start < 0) {
+              start = base + i;
+              peak = 0;
+            }
+            if (a > peak) peak = a;
+          } else if (start >= 0) {
+            if (start <= base || base + i - start >= keepFrames) {
+              this.blockRunStart[off + count] = start > base ? start : base;
+              this.blockRunEnd[off + count++] = base + i;
+            }
+            this.close(c, start, base + i, peak);
+            start = -1;
           }
-          if (a > peak) peak = a;
-        } else if (start >= 0) {
-          this.blockRunStart[off + count] = start > base ? start : base;
-          this.blockRunEnd[off + count++] = base + i;
-          this.close(c, start, base + i, peak);
-          start = -1;
         }
       }
       if (start >= 0) {

@@ -8,13 +8,14 @@
 //   six multiplies each on pre-added tap pairs.
 // - A span of samples whose interpolated values provably cannot exceed both the running
 //   maximum and the over ceiling is skipped: |y| <= max|x over the taps| * max_p sum|h_p|.
-//   The bound is checked per 256-frame span, then per 32-frame chunk from the same pass.
+//   The bound is checked per 32-frame chunk, from the shared block envelope (envelope.ts).
 // The kernel keeps the 12 taps in locals sliding by one sample and tests one gate per sample;
 // it runs at the scalar floating-point throughput (V8 does not vectorise).
 // A reconstructed waveform passes through its own samples, so the reading is never below the
 // sample peak (the example filter's passband ripple would otherwise under-read by ~0.2 dB).
 
 import type { Meter, PcmBlock, StreamInfo } from './audio.ts';
+import { ENVELOPE_CHUNK_FRAMES, EnvelopeBuilder } from './envelope.ts';
 import { EventLog, type AnalysisEvent } from './events.ts';
 
 /** BS.1770-5 Annex 2, section 3: phase 0 and phase 1 of the example filter. */
@@ -30,9 +31,8 @@ const TAPS = 12;
 const HISTORY = TAPS - 1;
 /** Input samples between an interpolated value and the input sample that completes it. */
 const FILTER_DELAY_FRAMES = 6;
-const SPAN_FRAMES = 256;
-/** Pruning granularity inside a span; at least HISTORY, so a chunk's taps lie in it and the chunk before. */
-const CHUNK_FRAMES = 32;
+// A chunk's taps lie in it and the chunk before only if a chunk is at least HISTORY frames long.
+if (ENVELOPE_CHUNK_FRAMES < HISTORY) throw new Error('envelope chunks are shorter than the filter history');
 
 const sumAbs = (h: number[]) => h.reduce((s, v) => s + Math.abs(v), 0);
 /** Largest possible |y| per unit of max|x|: the bound used for exact pruning. */
@@ -80,8 +80,10 @@ export class TruePeakMeter implements Meter<TruePeakResult> {
   private readonly maxima: Float64Array;
   private readonly maxFrame: Float64Array;
   private readonly history: Float32Array[];
+  /** max |x| of each channel's HISTORY samples carried from the previous block. */
+  private readonly historyMax: Float64Array;
   private extended = new Float32Array(0);
-  private readonly chunkMax = new Float64Array(SPAN_FRAMES / CHUNK_FRAMES + 1);
+  private readonly envelopes = new EnvelopeBuilder();
   private readonly open: (OpenOver | null)[];
   private readonly log: EventLog;
   private readonly s0: Float64Array;
@@ -100,6 +102,7 @@ export class TruePeakMeter implements Meter<TruePeakResult> {
     this.maxima = new Float64Array(info.channels);
     this.maxFrame = new Float64Array(info.channels);
     this.history = Array.from({ length: info.channels }, () => new Float32Array(HISTORY));
+    this.historyMax = new Float64Array(info.channels);
     this.open = new Array<OpenOver | null>(info.channels).fill(null);
     this.log = new EventLog(info.sampleRate, options.maxEvents);
     // Halved (exact: a power of two), so |S| + |D| is already max(|y0|, |y3|).
@@ -113,44 +116,34 @@ export class TruePeakMeter implements Meter<TruePeakResult> {
     if (frames === 0) return;
     if (this.extended.length < frames + HISTORY) this.extended = new Float32Array(frames + HISTORY);
     const ext = this.extended;
+    const envelope = this.envelopes.of(block);
     for (let c = 0; c < this.channels; c++) {
       const history = this.history[c];
       ext.set(history, 0);
       ext.set(block.channelData[c].subarray(0, frames), HISTORY);
-      for (let start = 0; start < frames; start += SPAN_FRAMES) {
-        this.scanSpan(c, ext, start, Math.min(start + SPAN_FRAMES, frames));
-      }
+      this.scanChunks(c, ext, envelope.maxAbs[c], frames);
       history.set(ext.subarray(frames, frames + HISTORY));
+      this.historyMax[c] = absMax(history, 0, HISTORY);
     }
     this.position += frames;
   }
 
-  /** Frames [start, end) of the block; ext holds HISTORY samples before frame 0. */
-  private scanSpan(channel: number, ext: Float32Array, start: number, end: number): void {
-    // One pass: max |x| per chunk; chunkMax[0] is the HISTORY taps before the span.
-    const chunkMax = this.chunkMax;
-    chunkMax[0] = absMax(ext, start, start + HISTORY);
-    let sampleMax = 0;
-    for (let s = start, k = 1; s < end; s += CHUNK_FRAMES, k++) {
-      const m = absMax(ext, s + HISTORY, Math.min(s + CHUNK_FRAMES, end) + HISTORY);
-      chunkMax[k] = m;
-      if (m > sampleMax) sampleMax = m;
-    }
-    if (sampleMax > this.maxima[channel]) {
-      let at = start;
-      while (Math.abs(ext[at + HISTORY]) !== sampleMax) at++;
-      this.maxima[channel] = sampleMax;
-      this.maxFrame[channel] = this.position + at;
-    }
-    if (!this.mayExceed(Math.max(sampleMax, chunkMax[0]), channel)) {
-      this.pruned += end - start;
-      return;
-    }
-    // The same bound per chunk (its taps reach into the chunk before): loud spans are mostly pruned too.
-    for (let s = start, k = 1; s < end; s += CHUNK_FRAMES, k++) {
-      const e = Math.min(s + CHUNK_FRAMES, end);
-      if (this.mayExceed(Math.max(chunkMax[k - 1], chunkMax[k]), channel)) this.interpolateSpan(channel, ext, s, e);
-      else this.pruned += e - s;
+  /** The block's chunks in order; ext holds HISTORY samples before frame 0. */
+  private scanChunks(channel: number, ext: Float32Array, chunkMax: Float32Array, frames: number): void {
+    // max |x| of the taps before the chunk: the history, then the previous chunk.
+    let before = this.historyMax[channel];
+    for (let k = 0, from = 0; from < frames; k++, from += ENVELOPE_CHUNK_FRAMES) {
+      const to = Math.min(from + ENVELOPE_CHUNK_FRAMES, frames);
+      const sampleMax = chunkMax[k];
+      if (sampleMax > this.maxima[channel]) {
+        let at = from;
+        while (Math.abs(ext[at + HISTORY]) !== sampleMax) at++;
+        this.maxima[channel] = sampleMax;
+        this.maxFrame[channel] = this.position + at;
+      }
+      if (this.mayExceed(Math.max(before, sampleMax), channel)) this.interpolateSpan(channel, ext, from, to);
+      else this.pruned += to - from;
+      before = sampleMax;
     }
   }
 

@@ -6,9 +6,14 @@ import { defaultChannelLabels, type Meter, type StreamInfo } from '../../src/ana
 import { LevelMeter } from '../../src/analysis/levels.ts';
 import { TruePeakMeter } from '../../src/analysis/true-peak.ts';
 import { LoudnessMeter } from '../../src/analysis/loudness.ts';
+import { ClippingMeter } from '../../src/analysis/clipping.ts';
+import { SilenceMeter } from '../../src/analysis/silence.ts';
+import { AnalysisRunner } from '../../src/analysis/runner.ts';
 import { LevelMeter as ReferenceLevelMeter } from '../helpers/reference-meters/levels.ts';
 import { TruePeakMeter as ReferenceTruePeakMeter } from '../helpers/reference-meters/true-peak.ts';
 import { LoudnessMeter as ReferenceLoudnessMeter } from '../helpers/reference-meters/loudness.ts';
+import { ClippingMeter as ReferenceClippingMeter } from '../helpers/reference-meters/clipping.ts';
+import { SilenceMeter as ReferenceSilenceMeter } from '../helpers/reference-meters/silence.ts';
 import { BLOCK_CUTS, cut, expectClose, SAMPLE_RATE, testSignals } from '../helpers/test-signals.ts';
 
 /** The result, without the true-peak meter's pruning statistic (a benchmark figure that depends on block cuts). */
@@ -27,6 +32,14 @@ const pairs: Record<string, [Maker, Maker, number]> = {
     (i) => new ReferenceLoudnessMeter(i, { momentaryLimitLufs: -20, shortTermLimitLufs: -22 }),
     1e-9,
   ],
+  clipping: [(i) => new ClippingMeter(i), (i) => new ReferenceClippingMeter(i), 0],
+  // A high threshold and a short minimum, so programme material opens and closes many runs.
+  silence: [
+    (i) => new SilenceMeter(i, { thresholdDbfs: -30, minDurationSeconds: 0.01 }),
+    (i) => new ReferenceSilenceMeter(i, { thresholdDbfs: -30, minDurationSeconds: 0.01 }),
+    0,
+  ],
+  'silence (defaults)': [(i) => new SilenceMeter(i), (i) => new ReferenceSilenceMeter(i), 0],
 };
 
 describe.each([1, 2, 6])('optimised meters equal the reference implementations (%i channels)', (channels) => {
@@ -40,4 +53,22 @@ describe.each([1, 2, 6])('optimised meters equal the reference implementations (
       });
     }
   }
+});
+
+describe('the runner shares one envelope per block', () => {
+  it('every meter reads in the runner what it reads alone, on gappy and clipped stereo cut into odd blocks', () => {
+    const info: StreamInfo = { sampleRate: SAMPLE_RATE, channels: 2, channelLabels: defaultChannelLabels(2) };
+    const signals = testSignals(2, 4);
+    for (const signal of [signals.gaps, signals.clipped]) {
+      const sizes = BLOCK_CUTS[1];
+      const runner = new AnalysisRunner(info);
+      for (const block of cut(signal, sizes)) runner.push(block);
+      const together = runner.result();
+      expectClose(together.clipping, run(new ClippingMeter(info), signal, sizes), 0);
+      expectClose(together.silence, run(new SilenceMeter(info), signal, sizes), 0);
+      expectClose(together.levels, run(new LevelMeter(info), signal, sizes), 0);
+      const { prunedFrames: _, ...truePeak } = together.truePeak;
+      expectClose(truePeak, run(new TruePeakMeter(info), signal, sizes), 0);
+    }
+  });
 });

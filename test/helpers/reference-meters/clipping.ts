@@ -1,0 +1,180 @@
+// Reference for the equivalence tests: the straightforward per-sample meter the envelope-skipping
+// src/analysis version replaced. Kept as it was; do not optimise.
+// Clipping: runs of at least minRunSamples consecutive samples of the same polarity with |x| >= threshold.
+// Same polarity because a clipped waveform flattens on one side; an alternating full-scale signal
+// (e.g. a test tone at fs/2) is not clipped. Runs are tracked across block boundaries per channel.
+
+import type { Meter, PcmBlock, StreamInfo } from '../../../src/analysis/audio.ts';
+import { EventLog, type AnalysisEvent } from '../../../src/analysis/events.ts';
+import { amplitudeToDb } from '../../../src/analysis/levels.ts';
+import { EarmarkError } from '../../../src/errors/index.ts';
+
+/** Within 0.01 dB of full scale (common practice). */
+export const DEFAULT_CLIP_THRESHOLD_DBFS = -0.01;
+/** Three consecutive samples (common practice; no standard fixes the number). */
+export const DEFAULT_MIN_RUN_SAMPLES = 3;
+
+export interface ClippingMeterOptions {
+  minRunSamples?: number;
+  /** Linear threshold on |x|; wins over thresholdDbfs. */
+  thresholdLinear?: number;
+  thresholdDbfs?: number;
+  maxEvents?: number;
+}
+
+export interface ChannelClipping {
+  channel: number;
+  runs: number;
+  /** Samples inside counted runs. */
+  clippedSamples: number;
+  longestRunSamples: number;
+}
+
+export interface ClippingResult {
+  thresholdLinear: number;
+  minRunSamples: number;
+  channels: ChannelClipping[];
+  totalRuns: number;
+  totalClippedSamples: number;
+  /** One 'clipping' event per run, peakValue in dBFS; ordered by end, then channel. */
+  events: AnalysisEvent[];
+  eventsTotal: number;
+  eventsTruncated: boolean;
+}
+
+type PendingEvent = Omit<AnalysisEvent, 'startSeconds' | 'endSeconds'>;
+
+export class ClippingMeter implements Meter<ClippingResult> {
+  private readonly threshold: number;
+  private readonly minRun: number;
+  private readonly log: EventLog;
+  // Open run per channel: polarity (0 none), start frame, peak |x|.
+  private readonly runSign: Int8Array;
+  private readonly runStart: Float64Array;
+  private readonly runPeak: Float64Array;
+  private readonly runs: Float64Array;
+  private readonly clipped: Float64Array;
+  private readonly longest: Float64Array;
+  private readonly pending: PendingEvent[] = [];
+  private frames = 0;
+  private finished: ClippingResult | null = null;
+
+  constructor(private readonly info: StreamInfo, options: ClippingMeterOptions = {}) {
+    this.threshold = options.thresholdLinear
+      ?? 10 ** ((options.thresholdDbfs ?? DEFAULT_CLIP_THRESHOLD_DBFS) / 20);
+    this.minRun = options.minRunSamples ?? DEFAULT_MIN_RUN_SAMPLES;
+    if (!(this.threshold > 0) || !Number.isInteger(this.minRun) || this.minRun < 1) {
+      throw new EarmarkError('invalid_argument', 'Clipping threshold must be > 0 and minRunSamples an integer >= 1', {
+        field: 'clipping',
+      });
+    }
+    this.log = new EventLog(info.sampleRate, options.maxEvents);
+    const n = info.channels;
+    this.runSign = new Int8Array(n);
+    this.runStart = new Float64Array(n);
+    this.runPeak = new Float64Array(n);
+    this.runs = new Float64Array(n);
+    this.clipped = new Float64Array(n);
+    this.longest = new Float64Array(n);
+  }
+
+  push(block: PcmBlock): void {
+    const frames = block.frames;
+    const base = this.frames;
+    const thr = this.threshold;
+    for (let c = 0; c < this.info.channels; c++) {
+      const x = block.channelData[c];
+      let sign = this.runSign[c];
+      let start = this.runStart[c];
+      let peak = this.runPeak[c];
+      for (let i = 0; i < frames; i++) {
+        const v = x[i];
+        const a = Math.abs(v);
+        // Fast path: below threshold and no open run (almost every sample).
+        if (a < thr) {
+          if (sign !== 0) {
+            this.close(c, start, base + i, peak);
+            sign = 0;
+          }
+          continue;
+        }
+        const s = v > 0 ? 1 : -1;
+        if (s !== sign) {
+          if (sign !== 0) this.close(c, start, base + i, peak);
+          sign = s;
+          start = base + i;
+          peak = a;
+        } else if (a > peak) {
+          peak = a;
+        }
+      }
+      this.runSign[c] = sign;
+      this.runStart[c] = start;
+      this.runPeak[c] = peak;
+    }
+    this.frames = base + frames;
+    this.flushPending();
+  }
+
+  result(): ClippingResult {
+    if (this.finished) return this.finished;
+    for (let c = 0; c < this.info.channels; c++) {
+      if (this.runSign[c] !== 0) this.close(c, this.runStart[c], this.frames, this.runPeak[c]);
+      this.runSign[c] = 0;
+    }
+    this.flushPending();
+    const channels: ChannelClipping[] = [];
+    let totalRuns = 0;
+    let totalClipped = 0;
+    for (let c = 0; c < this.info.channels; c++) {
+      channels.push({
+        channel: c,
+        runs: this.runs[c],
+        clippedSamples: this.clipped[c],
+        longestRunSamples: this.longest[c],
+      });
+      totalRuns += this.runs[c];
+      totalClipped += this.clipped[c];
+    }
+    this.finished = {
+      thresholdLinear: this.threshold,
+      minRunSamples: this.minRun,
+      channels,
+      totalRuns,
+      totalClippedSamples: totalClipped,
+      events: this.log.events,
+      eventsTotal: this.log.total,
+      eventsTruncated: this.log.truncated,
+    };
+    return this.finished;
+  }
+
+  private close(channel: number, startFrame: number, endFrame: number, peak: number): void {
+    const length = endFrame - startFrame;
+    if (length < this.minRun) return;
+    this.runs[channel]++;
+    this.clipped[channel] += length;
+    if (length > this.longest[channel]) this.longest[channel] = length;
+    this.pending.push({
+      kind: 'clipping',
+      channel,
+      startFrame,
+      endFrame,
+      peakValue: amplitudeToDb(peak) ?? undefined,
+      count: length,
+    });
+  }
+
+  /** Channels are scanned one after another inside a block; ordering by end frame keeps the
+   * event list (and what the cap keeps) independent of how the stream was cut. */
+  private flushPending(): void {
+    if (this.pending.length === 0) return;
+    this.pending.sort(byEndThenChannel);
+    for (const event of this.pending) this.log.add(event);
+    this.pending.length = 0;
+  }
+}
+
+export function byEndThenChannel(a: PendingEvent, b: PendingEvent): number {
+  return a.endFrame - b.endFrame || (a.channel ?? -1) - (b.channel ?? -1);
+}
