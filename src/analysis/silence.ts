@@ -2,7 +2,8 @@
 // The decision is per sample (no averaging window), so region bounds are sample-exact and a single
 // sample at or above the threshold ends a region. Per channel, and for all channels together
 // (a frame is silent when all its samples are). Head/tail/longest internal gap use the all-channel
-// runs of any length; events only cover runs of at least the minimum duration.
+// runs of any length (internal gaps from MIN_GAP_SECONDS); events only cover runs of at least the
+// minimum duration.
 
 import type { Meter, PcmBlock, StreamInfo } from './audio.ts';
 import { ENVELOPE_CHUNK_FRAMES, EnvelopeBuilder } from './envelope.ts';
@@ -14,6 +15,9 @@ import { EarmarkError } from '../errors/index.ts';
 /** ffmpeg silencedetect defaults (common practice): -60 dB for 2 s. */
 export const DEFAULT_SILENCE_THRESHOLD_DBFS = -60;
 export const DEFAULT_SILENCE_MIN_SECONDS = 2;
+/** Our definition: an all-channel run shorter than 1 ms between sounding samples is the waveform
+ * crossing zero, not a gap, so it never becomes the longest internal gap. */
+export const MIN_GAP_SECONDS = 0.001;
 
 export interface SilenceMeterOptions {
   thresholdDbfs?: number;
@@ -37,7 +41,7 @@ export interface SilenceResult {
   tailSilenceSeconds: number;
   /** Every frame of the stream is silent (then head = tail = duration). */
   allSilent: boolean;
-  /** Longest all-channel silent run with signal on both sides (any length); 0 when none. */
+  /** Longest all-channel silent run with signal on both sides, of at least MIN_GAP_SECONDS; 0 when none. */
   longestInternalGapSeconds: number;
   longestInternalGapStartFrame: number | null;
   channels: Array<SilenceTotals & { channel: number }>;
@@ -55,6 +59,7 @@ export class SilenceMeter implements Meter<SilenceResult> {
   private readonly threshold: number;
   private readonly minDurationSeconds: number;
   private readonly minFrames: number;
+  private readonly minGapFrames: number;
   private readonly log: EventLog;
   // Open run per channel (start -1 = none); index n is the all-channel run.
   private readonly runStart: Float64Array;
@@ -89,9 +94,11 @@ export class SilenceMeter implements Meter<SilenceResult> {
       });
     }
     this.minFrames = Math.max(1, Math.round(this.minDurationSeconds * info.sampleRate));
+    this.minGapFrames = Math.max(1, Math.round(MIN_GAP_SECONDS * info.sampleRate));
     this.log = new EventLog(info.sampleRate, options.maxEvents);
     const slots = info.channels + 1;
-    this.runStart = new Float64Array(slots).fill(-1);
+    // Each channel starts inside an empty run, so a silent head is ended like any continued run.
+    this.runStart = new Float64Array(slots).fill(-1).fill(0, 0, info.channels);
     this.runPeak = new Float64Array(slots);
     this.regions = new Float64Array(slots);
     this.silentFrames = new Float64Array(slots);
@@ -110,7 +117,9 @@ export class SilenceMeter implements Meter<SilenceResult> {
     // A run inside the block that is shorter than the minimum and no longer than the longest gap
     // so far can neither raise an event nor a longer gap (all-channel runs lie inside it): the
     // intersection below skips it. Noisy quiet passages make thousands of such one-sample runs.
-    const keepFrames = Math.min(this.minFrames, this.longestGapFrames + 1);
+    const keepFrames = Math.min(this.minFrames, Math.max(this.longestGapFrames + 1, this.minGapFrames));
+    // Once that holds for every run shorter than a chunk, a chunk needs only its two ends.
+    const edgesOnly = keepFrames > ENVELOPE_CHUNK_FRAMES;
     for (let c = 0; c < n; c++) {
       const x = block.channelData[c];
       const chunkMax = envelope.maxAbs[c], chunkMin = envelope.minAbs[c];
@@ -125,6 +134,29 @@ export class SilenceMeter implements Meter<SilenceResult> {
           continue;
         }
         const to = Math.min(from + ENVELOPE_CHUNK_FRAMES, frames);
+        if (edgesOnly) {
+          // End the run the chunk continues at its first loud sample (the chunk has one) ...
+          let i = from;
+          if (start >= 0) {
+            for (; i < to; i++) {
+              const a = Math.abs(x[i]);
+              if (a >= thr) break;
+              if (a > peak) peak = a;
+            }
+            count = this.endRun(c, start, base + i, peak, base, keepFrames, off, count);
+            start = -1;
+            i++;
+          }
+          // ... and open one at the silent stretch it ends with, if any.
+          let j = to, tail = 0;
+          for (; j > i; j--) {
+            const a = Math.abs(x[j - 1]);
+            if (a >= thr) break;
+            if (a > tail) tail = a;
+          }
+          if (j < to) { start = base + j; peak = tail; }
+          continue;
+        }
         for (let i = from; i < to; i++) {
           const a = Math.abs(x[i]);
           if (a < thr) {
@@ -134,11 +166,7 @@ export class SilenceMeter implements Meter<SilenceResult> {
             }
             if (a > peak) peak = a;
           } else if (start >= 0) {
-            if (start <= base || base + i - start >= keepFrames) {
-              this.blockRunStart[off + count] = start > base ? start : base;
-              this.blockRunEnd[off + count++] = base + i;
-            }
-            this.close(c, start, base + i, peak);
+            count = this.endRun(c, start, base + i, peak, base, keepFrames, off, count);
             start = -1;
           }
         }
@@ -154,6 +182,16 @@ export class SilenceMeter implements Meter<SilenceResult> {
     this.scanAllChannels(block, this.intersectRuns(), base);
     this.frames = base + frames;
     this.flushPending();
+  }
+
+  /** Closes a channel's run at a loud sample; keeps it for the all-channel intersection if it can matter there. */
+  private endRun(c: number, start: number, end: number, peak: number, base: number, keepFrames: number, off: number, count: number): number {
+    if (start <= base || end - start >= keepFrames) {
+      this.blockRunStart[off + count] = start > base ? start : base;
+      this.blockRunEnd[off + count++] = end;
+    }
+    this.close(c, start, end, peak);
+    return count;
   }
 
   private allocateRuns(cap: number): void {
@@ -243,7 +281,7 @@ export class SilenceMeter implements Meter<SilenceResult> {
   private closeAll(startFrame: number, endFrame: number, peak: number): void {
     if (startFrame === 0) {
       this.headFrames = endFrame;
-    } else if (endFrame - startFrame > this.longestGapFrames) {
+    } else if (endFrame - startFrame > this.longestGapFrames && endFrame - startFrame >= this.minGapFrames) {
       this.longestGapFrames = endFrame - startFrame;
       this.longestGapStart = startFrame;
     }

@@ -72,6 +72,19 @@ describe('SilenceMeter', () => {
     expect(spans(f).some(([c, start]) => c === null && start === 56_000)).toBe(false);
   });
 
+  it('counts internal gaps from 1 ms (our definition): zero crossings of a waveform are not gaps', () => {
+    const x = new Float32Array(fs);
+    tone(x, 0, 1, 0.5);
+    x.fill(0, 1000, 1004); // 0.5 ms: a coincidence of near-zero samples, not a gap
+    expect(measure(mono, [x], 4096).longestInternalGapSeconds).toBe(0);
+    x.fill(0, 4000, 4016); // 2 ms: a gap
+    for (const blockFrames of [7, 33, 4096]) {
+      const r = measure(mono, [x], blockFrames);
+      expect(r.longestInternalGapSeconds).toBe(0.002);
+      expect(r.longestInternalGapStartFrame).toBe(4000);
+    }
+  });
+
   it('gives identical results cut as 1 block, 7-frame and 4096-frame blocks', () => {
     const whole = measure(stereo, [left, right], 1_000_000);
     expect(measure(stereo, [left, right], 7)).toEqual(whole);

@@ -56,6 +56,8 @@ export class SilenceMeter implements Meter<SilenceResult> {
   private readonly threshold: number;
   private readonly minDurationSeconds: number;
   private readonly minFrames: number;
+  /** Internal gaps count from 1 ms (MIN_GAP_SECONDS of the meter: our definition, not an optimisation). */
+  private readonly minGapFrames: number;
   private readonly log: EventLog;
   // Open run per channel (start -1 = none); index n is the all-channel run.
   private readonly runStart: Float64Array;
@@ -89,6 +91,7 @@ export class SilenceMeter implements Meter<SilenceResult> {
       });
     }
     this.minFrames = Math.max(1, Math.round(this.minDurationSeconds * info.sampleRate));
+    this.minGapFrames = Math.max(1, Math.round(0.001 * info.sampleRate));
     this.log = new EventLog(info.sampleRate, options.maxEvents);
     const slots = info.channels + 1;
     this.runStart = new Float64Array(slots).fill(-1);
@@ -227,7 +230,7 @@ export class SilenceMeter implements Meter<SilenceResult> {
   private closeAll(startFrame: number, endFrame: number, peak: number): void {
     if (startFrame === 0) {
       this.headFrames = endFrame;
-    } else if (endFrame - startFrame > this.longestGapFrames) {
+    } else if (endFrame - startFrame > this.longestGapFrames && endFrame - startFrame >= this.minGapFrames) {
       this.longestGapFrames = endFrame - startFrame;
       this.longestGapStart = startFrame;
     }
