@@ -13,6 +13,8 @@ COPY bin ./bin
 COPY src ./src
 COPY workers ./workers
 COPY openapi ./openapi
+# The `earmark` command runs from plain-JavaScript bundles (faster start, less memory).
+RUN node bin/build.js
 RUN mkdir -p /data && chown node:node /data
 USER node
 ENV EARMARK_STORAGE_DIR=/data

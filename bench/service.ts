@@ -16,7 +16,7 @@
 // Environment: BENCH_DIR (cache folder, shared with bench/analysis.ts), BENCH_SERVICE_FILES (200),
 // BENCH_SERVICE_CLI_RUNS (10), BENCH_SERVICE_LATENCY_RUNS (20).
 
-import { spawn } from 'node:child_process';
+import { spawn, spawnSync } from 'node:child_process';
 import { randomBytes } from 'node:crypto';
 import { existsSync, openAsBlob, readFileSync } from 'node:fs';
 import { mkdir, rename, stat } from 'node:fs/promises';
@@ -83,11 +83,11 @@ async function report(url: string, id: string): Promise<void> {
   await res.arrayBuffer();
 }
 
-/** Wall time of one CLI analysis process (bench/analyze-once.ts). */
+/** Wall time of one CLI analysis process (bench/analyze-once.ts, bundled as the CLI runs after `npm run build`). */
 function cliRun(file: string): Promise<number> {
   return new Promise((resolve, reject) => {
     const started = performance.now();
-    const child = spawn(process.execPath, ['bin/run.js', 'bench/analyze-once.ts', file, '1'], { stdio: ['ignore', 'ignore', 'inherit'] });
+    const child = spawn(process.execPath, ['dist/analyze-once.mjs', file, '1'], { stdio: ['ignore', 'ignore', 'inherit'] });
     child.on('error', reject);
     child.on('exit', (code) => (code === 0 ? resolve((performance.now() - started) / 1000) : reject(new Error(`analysis exited ${code}`))));
   });
@@ -216,6 +216,7 @@ async function ingest(file: string, suffix: string): Promise<Ingest> {
 
 async function main(): Promise<void> {
   console.log(`prefix ${basePrefix}*, Redis ${redisUrl}`);
+  if (spawnSync(process.execPath, ['bin/build.js'], { stdio: 'inherit' }).status !== 0) throw new Error('npm run build failed');
   const oneMinute = await wavFile('programme-1min-48k-stereo-24bit.wav', 60);
   const thirtySeconds = await wavFile('programme-0.5min-48k-stereo-24bit.wav', 30);
   const mid = await wavFile('programme-10min-48k-stereo-24bit.wav', 600);

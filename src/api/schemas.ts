@@ -3,6 +3,7 @@
 
 import { readFileSync } from 'node:fs';
 import { profileSchema } from '../profiles/index.ts';
+import { projectFileUrl } from '../config/paths.ts';
 
 type Schema = Record<string, unknown>;
 
@@ -124,7 +125,7 @@ export const ProfileList: Schema = {
   type: 'object', required: ['items'], properties: { items: { type: 'array', items: ProfileEntry } }, additionalProperties: false,
 };
 
-const REPORT_SCHEMA_URL = new URL('../../openapi/report.schema.json', import.meta.url);
+const REPORT_SCHEMA_URL = projectFileUrl('openapi/report.schema.json');
 const REPORT_PREFIX = 'Report';
 
 /** The report schema's $defs become components named Report<Def>; its refs follow them. */

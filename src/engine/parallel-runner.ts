@@ -14,9 +14,15 @@ const COST: Record<MeterName, number> = {
   loudness: 45, truePeak: 30, timeWeighted: 24, silence: 24, clipping: 13, levels: 10, channelRelations: 6,
 };
 const MAIN_THREAD_DECODE_COST = 30;
-// The worker loads its TypeScript through tsx, as bin/run.js does for entrypoints.
-const WORKER_BOOT = `import(${JSON.stringify(import.meta.resolve('tsx/esm/api'))})
+// From the TypeScript sources the worker loads them through tsx, as bin/run.js does for
+// entrypoints; inside the dist/ bundle (bin/build.js) it is the bundled dist/parallel-worker.mjs.
+const BUNDLED = !import.meta.url.endsWith('.ts');
+function startWorker(workerData: unknown): Worker {
+  if (BUNDLED) return new Worker(new URL('./parallel-worker.mjs', import.meta.url), { workerData });
+  const boot = `import(${JSON.stringify(import.meta.resolve('tsx/esm/api'))})
   .then(({ register }) => { register(); return import(${JSON.stringify(new URL('./parallel-worker.ts', import.meta.url).href)}); })`;
+  return new Worker(boot, { eval: true, workerData });
+}
 
 /** Longest-processing-time split of the meters into `threads` groups; group 0 is the main thread's. */
 export function meterGroups(threads: number): MeterName[][] {
@@ -39,7 +45,7 @@ class MeterThread {
   private failure: Error | null = null;
 
   constructor(info: StreamInfo, options: AnalysisOptions, meters: MeterName[]) {
-    this.worker = new Worker(WORKER_BOOT, { eval: true, workerData: { info, options, meters } });
+    this.worker = startWorker({ info, options, meters });
     this.worker.on('message', (message: FromWorker) => {
       if (message.type === 'done-block') { this.inFlight--; this.free.push(message.buffers); }
       else if (message.type === 'result') this.finished?.(message.result);

@@ -6,9 +6,10 @@ import { readFileSync } from 'node:fs';
 import { readFile } from 'node:fs/promises';
 import { Ajv2020, type ErrorObject } from 'ajv/dist/2020.js';
 import { EarmarkError } from '../errors/index.ts';
+import { projectFileUrl } from '../config/paths.ts';
 import type { Profile, Rule } from './types.ts';
 
-export const PROFILE_SCHEMA_URL = new URL('../../openapi/profile.schema.json', import.meta.url);
+export const PROFILE_SCHEMA_URL = projectFileUrl('openapi/profile.schema.json');
 export const profileSchema: Record<string, unknown> = JSON.parse(readFileSync(PROFILE_SCHEMA_URL, 'utf8'));
 
 const ajv = new Ajv2020({ allErrors: true, discriminator: true, strict: true });

@@ -1,0 +1,25 @@
+#!/usr/bin/env node
+// `npm run build`: bundles the CLI, the analysis thread and the benchmark child into dist/*.mjs
+// (`node bin/build.js <folder>` for another folder). Packages stay external: node_modules is
+// resolved at run time as usual.
+import { build } from 'esbuild';
+import { existsSync } from 'node:fs';
+import { join, resolve } from 'node:path';
+import { DIST, ENTRIES, ROOT } from './bundles.js';
+
+const outdir = process.argv[2] ? resolve(process.argv[2]) : DIST;
+// The image ships without bench/: bundle what is there.
+const entries = Object.entries(ENTRIES).filter(([, source]) => existsSync(join(ROOT, source)));
+await build({
+  entryPoints: Object.fromEntries(entries.map(([name, source]) => [name, join(ROOT, source)])),
+  outdir,
+  outExtension: { '.js': '.mjs' },
+  bundle: true,
+  platform: 'node',
+  format: 'esm',
+  target: 'node20',
+  packages: 'external',
+  sourcemap: 'linked',
+  logLevel: 'warning',
+});
+console.log(`bundled ${entries.map(([name]) => name).join(', ')} into ${outdir}`);
