@@ -9,7 +9,8 @@
 // - A span of samples whose interpolated values provably cannot exceed both the running
 //   maximum and the over ceiling is skipped: |y| <= max|x over the taps| * max_p sum|h_p|.
 //   The bound is checked per 32-frame chunk, from the shared block envelope (envelope.ts).
-// The kernel keeps the 12 taps in locals sliding by one sample and tests one gate per sample;
+// The kernel loads its 12 taps per output (fewer register spills than sliding them through
+// locals) and tests one gate per sample;
 // it runs at the scalar floating-point throughput (V8 does not vectorise).
 // A reconstructed waveform passes through its own samples, so the reading is never below the
 // sample peak (the example filter's passband ripple would otherwise under-read by ~0.2 dB).
@@ -82,7 +83,8 @@ export class TruePeakMeter implements Meter<TruePeakResult> {
   private readonly history: Float32Array[];
   /** max |x| of each channel's HISTORY samples carried from the previous block. */
   private readonly historyMax: Float64Array;
-  private extended = new Float32Array(0);
+  /** The previous block's last HISTORY samples, then this block's first chunk. */
+  private readonly head = new Float32Array(HISTORY + ENVELOPE_CHUNK_FRAMES);
   private readonly envelopes = new EnvelopeBuilder();
   private readonly open: (OpenOver | null)[];
   private readonly log: EventLog;
@@ -114,22 +116,24 @@ export class TruePeakMeter implements Meter<TruePeakResult> {
   push(block: PcmBlock): void {
     const frames = block.frames;
     if (frames === 0) return;
-    if (this.extended.length < frames + HISTORY) this.extended = new Float32Array(frames + HISTORY);
-    const ext = this.extended;
     const envelope = this.envelopes.of(block);
+    const head = this.head;
     for (let c = 0; c < this.channels; c++) {
+      const x = block.channelData[c];
       const history = this.history[c];
-      ext.set(history, 0);
-      ext.set(block.channelData[c].subarray(0, frames), HISTORY);
-      this.scanChunks(c, ext, envelope.maxAbs[c], frames);
-      history.set(ext.subarray(frames, frames + HISTORY));
+      // Only the first chunk's taps reach into the previous block: it alone reads a joined copy.
+      head.set(history, 0);
+      head.set(x.subarray(0, Math.min(frames, ENVELOPE_CHUNK_FRAMES)), HISTORY);
+      this.scanChunks(c, x, envelope.maxAbs[c], frames);
+      if (frames >= HISTORY) history.set(x.subarray(frames - HISTORY, frames));
+      else history.set(head.subarray(frames, frames + HISTORY));
       this.historyMax[c] = absMax(history, 0, HISTORY);
     }
     this.position += frames;
   }
 
-  /** The block's chunks in order; ext holds HISTORY samples before frame 0. */
-  private scanChunks(channel: number, ext: Float32Array, chunkMax: Float32Array, frames: number): void {
+  /** The block's chunks in order; `head` holds HISTORY samples before frame 0 and the first chunk. */
+  private scanChunks(channel: number, x: Float32Array, chunkMax: Float32Array, frames: number): void {
     // max |x| of the taps before the chunk: the history, then the previous chunk.
     let before = this.historyMax[channel];
     for (let k = 0, from = 0; from < frames; k++, from += ENVELOPE_CHUNK_FRAMES) {
@@ -137,12 +141,14 @@ export class TruePeakMeter implements Meter<TruePeakResult> {
       const sampleMax = chunkMax[k];
       if (sampleMax > this.maxima[channel]) {
         let at = from;
-        while (Math.abs(ext[at + HISTORY]) !== sampleMax) at++;
+        while (Math.abs(x[at]) !== sampleMax) at++;
         this.maxima[channel] = sampleMax;
         this.maxFrame[channel] = this.position + at;
       }
-      if (this.mayExceed(Math.max(before, sampleMax), channel)) this.interpolateSpan(channel, ext, from, to);
-      else this.pruned += to - from;
+      if (!this.mayExceed(Math.max(before, sampleMax), channel)) this.pruned += to - from;
+      // Taps of frame f: head[f .. f + HISTORY] in the first chunk, x[f - HISTORY .. f] after it.
+      else if (k === 0) this.interpolateSpan(channel, this.head, 0, from, to);
+      else this.interpolateSpan(channel, x, -HISTORY, from, to);
       before = sampleMax;
     }
   }
@@ -153,7 +159,8 @@ export class TruePeakMeter implements Meter<TruePeakResult> {
     return bound > this.maxima[channel] || bound > this.ceilingLinear;
   }
 
-  private interpolateSpan(channel: number, ext: Float32Array, start: number, end: number): void {
+  /** Frames [start, end): the taps of frame f are taps[f + offset .. f + offset + HISTORY]. */
+  private interpolateSpan(channel: number, taps: Float32Array, offset: number, start: number, end: number): void {
     const { s0, d0, s1, d1 } = this;
     const s00 = s0[0], s01 = s0[1], s02 = s0[2], s03 = s0[3], s04 = s0[4], s05 = s0[5];
     const d00 = d0[0], d01 = d0[1], d02 = d0[2], d03 = d0[3], d04 = d0[4], d05 = d0[5];
@@ -163,12 +170,10 @@ export class TruePeakMeter implements Meter<TruePeakResult> {
     let max = this.maxima[channel], maxAt = -1;
     // One test per sample: either a new maximum or an over is rare.
     let gate = Math.min(max, ceiling);
-    // The 12 taps slide through locals: one new sample read per output.
-    let x0 = ext[start], x1 = ext[start + 1], x2 = ext[start + 2], x3 = ext[start + 3];
-    let x4 = ext[start + 4], x5 = ext[start + 5], x6 = ext[start + 6], x7 = ext[start + 7];
-    let x8 = ext[start + 8], x9 = ext[start + 9], x10 = ext[start + 10];
-    for (let n = start; n < end; n++) {
-      const x11 = ext[n + HISTORY];
+    for (let n = start, t = start + offset; n < end; n++, t++) {
+      // Twelve loads per output beat sliding the taps through locals: fewer register spills.
+      const x0 = taps[t], x1 = taps[t + 1], x2 = taps[t + 2], x3 = taps[t + 3], x4 = taps[t + 4], x5 = taps[t + 5];
+      const x6 = taps[t + 6], x7 = taps[t + 7], x8 = taps[t + 8], x9 = taps[t + 9], x10 = taps[t + 10], x11 = taps[t + 11];
       const a0 = x11 + x0, b0 = x11 - x0;
       const a1 = x10 + x1, b1 = x10 - x1;
       const a2 = x9 + x2, b2 = x9 - x2;
@@ -187,7 +192,6 @@ export class TruePeakMeter implements Meter<TruePeakResult> {
         if (peak > ceiling) this.recordOver(channel, this.position + n, peak);
         gate = Math.min(max, ceiling);
       }
-      x0 = x1; x1 = x2; x2 = x3; x3 = x4; x4 = x5; x5 = x6; x6 = x7; x7 = x8; x8 = x9; x9 = x10; x10 = x11;
     }
     if (maxAt >= 0) {
       this.maxima[channel] = max;
