@@ -44,14 +44,17 @@ const METERS: { [K in MeterName]: (info: StreamInfo, options: AnalysisOptions) =
 };
 
 export const METER_NAMES = Object.keys(METERS) as MeterName[];
+/** Meters that read the block envelope (envelope.ts); a runner without them skips that pass. */
+export const ENVELOPE_METERS: readonly MeterName[] = ['levels', 'truePeak', 'clipping', 'silence'];
 
 export class AnalysisRunner implements Meter<Measurements> {
   private frames = 0;
   private readonly meters: [MeterName, Meter<unknown>][];
-  private readonly envelopes = new EnvelopeBuilder();
+  private readonly envelopes: EnvelopeBuilder | null;
 
   constructor(readonly info: StreamInfo, options: AnalysisOptions = {}, only: readonly MeterName[] = METER_NAMES) {
     this.meters = METER_NAMES.filter((name) => only.includes(name)).map((name) => [name, METERS[name](info, options)]);
+    this.envelopes = this.meters.some(([name]) => ENVELOPE_METERS.includes(name)) ? new EnvelopeBuilder() : null;
   }
 
   push(block: PcmBlock): void {
@@ -59,7 +62,7 @@ export class AnalysisRunner implements Meter<Measurements> {
       throw new RangeError(`block has ${block.channelData.length} channels, stream has ${this.info.channels}`);
     }
     // One envelope pass for every meter that reads it.
-    const shared: PcmBlock = block.envelope ? block : { ...block, envelope: this.envelopes.build(block) };
+    const shared: PcmBlock = block.envelope || !this.envelopes ? block : { ...block, envelope: this.envelopes.build(block) };
     for (const [, meter] of this.meters) meter.push(shared);
     this.frames += block.frames;
   }

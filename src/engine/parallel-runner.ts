@@ -4,16 +4,18 @@
 // arithmetic). At most IN_FLIGHT blocks wait per worker, so memory stays flat with duration.
 import { Worker } from 'node:worker_threads';
 import type { PcmBlock, StreamInfo } from '../analysis/audio.ts';
-import { AnalysisRunner, METER_NAMES, type AnalysisOptions, type Measurements, type MeterName } from '../analysis/runner.ts';
+import { AnalysisRunner, ENVELOPE_METERS, METER_NAMES, type AnalysisOptions, type Measurements, type MeterName } from '../analysis/runner.ts';
 import { EarmarkError } from '../errors/index.ts';
 import type { FromWorker, ToWorker } from './parallel-worker.ts';
 
 const IN_FLIGHT = 3;
-/** Relative cost per channel, measured with bench/meters.ts; decoding counts against the main thread. */
+/** Cost per stereo audio minute (ms, bench/meters.ts on programme material); decoding and the
+ * shared envelope pass count against the thread that runs them. */
 const COST: Record<MeterName, number> = {
-  loudness: 45, truePeak: 30, timeWeighted: 24, silence: 24, clipping: 13, levels: 10, channelRelations: 6,
+  loudness: 30, truePeak: 11, timeWeighted: 10, channelRelations: 8, levels: 6, silence: 4, clipping: 1,
 };
-const MAIN_THREAD_DECODE_COST = 30;
+const ENVELOPE_COST = 12;
+const MAIN_THREAD_DECODE_COST = 14;
 // From the TypeScript sources the worker loads them through tsx, as bin/run.js does for
 // entrypoints; inside the dist/ bundle (bin/build.js) it is the bundled dist/parallel-worker.mjs.
 const BUNDLED = !import.meta.url.endsWith('.ts');
@@ -28,10 +30,14 @@ function startWorker(workerData: unknown): Worker {
 export function meterGroups(threads: number): MeterName[][] {
   const groups = Array.from({ length: threads }, () => [] as MeterName[]);
   const load: number[] = groups.map((_, i) => (i === 0 ? MAIN_THREAD_DECODE_COST : 0));
+  // A meter that reads the envelope brings its pass along unless the group has it already.
+  const costIn = (group: MeterName[], name: MeterName) => COST[name]
+    + (ENVELOPE_METERS.includes(name) && !group.some((m) => ENVELOPE_METERS.includes(m)) ? ENVELOPE_COST : 0);
   for (const name of [...METER_NAMES].sort((a, b) => COST[b] - COST[a])) {
-    const least = load.indexOf(Math.min(...load));
+    const totals = groups.map((group, i) => load[i] + costIn(group, name));
+    const least = totals.indexOf(Math.min(...totals));
+    load[least] = totals[least];
     groups[least].push(name);
-    load[least] += COST[name];
   }
   return groups.filter((g, i) => i === 0 || g.length > 0);
 }
