@@ -14,6 +14,10 @@ import { ChannelRelationMeter } from '../src/analysis/channel-relations.ts';
 import { LevelMeter as RefLevels } from '../test/helpers/reference-meters/levels.ts';
 import { TruePeakMeter as RefTruePeak } from '../test/helpers/reference-meters/true-peak.ts';
 import { LoudnessMeter as RefLoudness } from '../test/helpers/reference-meters/loudness.ts';
+import { TimeWeightedLevelMeter as RefBallistics } from '../test/helpers/reference-meters/ballistics.ts';
+import { ClippingMeter as RefClipping } from '../test/helpers/reference-meters/clipping.ts';
+import { SilenceMeter as RefSilence } from '../test/helpers/reference-meters/silence.ts';
+import { EnvelopeBuilder } from '../src/analysis/envelope.ts';
 
 const [file, secondsArg, only] = process.argv.slice(2);
 const limitSeconds = Number(secondsArg ?? 120);
@@ -43,6 +47,11 @@ const makers: Record<string, () => Meter<unknown>> = {
   'levels ref': () => new RefLevels(info),
   'loudness ref': () => new RefLoudness(info),
   'truePeak ref': () => new RefTruePeak(info),
+  'ballistics ref': () => new RefBallistics(info),
+  'clipping ref': () => new RefClipping(info),
+  'silence ref': () => new RefSilence(info),
+  // The shared pass alone (each meter above computes its own when pushed alone; the runner computes it once).
+  envelope: () => { const builder = new EnvelopeBuilder(); return { push: (b: PcmBlock) => { builder.build(b); }, result: () => null }; },
 };
 if (only) for (const name of Object.keys(makers)) if (!name.startsWith(only)) delete makers[name];
 const times: Record<string, number[]> = {};
