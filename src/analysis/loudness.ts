@@ -8,7 +8,7 @@
 // tone not aligned to the 100 ms grid still reads its level (EBU Tech 3341 cases 10 and 13).
 
 import type { Meter, PcmBlock, StreamInfo } from './audio.ts';
-import { channelWeight, highpassCoefficients, shelfCoefficients } from './k-weighting.ts';
+import { channelWeight, highpassCoefficients, shelfCoefficients, type Biquad } from './k-weighting.ts';
 import { GrowableFloat64 } from './growable.ts';
 import { EventLog, type AnalysisEvent } from './events.ts';
 
@@ -40,10 +40,10 @@ export interface LoudnessResult {
   /** Time (s) of the end of the loudest momentary and short-term windows. */
   maxMomentaryAtSeconds: number | null;
   maxShortTermAtSeconds: number | null;
-  /** Momentary loudness every 100 ms (value of the 400 ms ending there); null before 400 ms or for digital silence. */
-  momentaryLufs: (number | null)[];
-  /** Short-term loudness every 100 ms (3 s window ending there); null before 3 s. */
-  shortTermLufs: (number | null)[];
+  /** Momentary loudness every 100 ms (the 400 ms ending there); NaN before 400 ms and for digital silence. */
+  momentaryLufs: Float64Array;
+  /** Short-term loudness every 100 ms (the 3 s ending there); NaN before 3 s and for digital silence. */
+  shortTermLufs: Float64Array;
   /** Gating blocks used: total and after both gates. */
   gatingBlocks: number;
   gatedBlocks: number;
@@ -63,19 +63,40 @@ function lufsToPower(lufs: number): number {
 interface ChannelFilter {
   channel: number;
   weight: number;
-  // Two biquads, transposed direct form II state.
+  // Two biquads, transposed direct form II state (the shelf's scaled by 1/b0, see KWeightingLoop).
   s1a: number; s1b: number; s2a: number; s2b: number;
+}
+
+/**
+ * The two K-weighting biquads (transposed direct form II) rearranged to cost fewer operations per
+ * sample; the filter is the same, the rounding differs at the 1e-16 level.
+ * - The shelf is divided by its b0: its output y = x + sa needs no multiply, and b0^2 moves into
+ *   the channel weight (`b0Squared`).
+ * - y is substituted into the shelf's state updates: sa' = (b1/b0 - a1)*x + sb - a1*sa and
+ *   sb' = (b2/b0 - a2)*x - a2*sa, so each state's loop-carried chain is one multiply and one subtract.
+ * - The high-pass (numerator 1, -2, 1; output z = y + sa) likewise: sa' = (-2 - a1)*y + sb - a1*sa;
+ *   sb' = y - a2*z stays as it is, one multiply shorter than substituted.
+ */
+interface KWeightingLoop {
+  c1: number; c2: number; a1: number; a2: number;
+  h1: number; ha1: number; ha2: number;
+  b0Squared: number;
+}
+
+function kWeightingLoop(shelf: Biquad, highpass: Biquad): KWeightingLoop {
+  return {
+    c1: shelf.b1 / shelf.b0 - shelf.a1, c2: shelf.b2 / shelf.b0 - shelf.a2, a1: shelf.a1, a2: shelf.a2,
+    h1: highpass.b1 - highpass.a1, ha1: highpass.a1, ha2: highpass.a2,
+    b0Squared: shelf.b0 * shelf.b0,
+  };
 }
 
 export class LoudnessMeter implements Meter<LoudnessResult> {
   private readonly sampleRate: number;
   /** Channels with a nonzero weight (LFE is excluded). */
   private readonly filters: ChannelFilter[];
-  private readonly shelf;
-  private readonly highpass;
+  private readonly kWeighting: KWeightingLoop;
   private weightedPower = new Float64Array(0);
-  /** Partner of an odd channel out: weight 0, its own state, never read. */
-  private readonly dummy: ChannelFilter = { channel: -1, weight: 0, s1a: 0, s1b: 0, s2a: 0, s2b: 0 };
 
   // 100 ms sub-blocks
   private subblockIndex = 0;
@@ -84,9 +105,9 @@ export class LoudnessMeter implements Meter<LoudnessResult> {
   private nextBoundaryFrame: number;
   private readonly recentPower = new Float64Array(SUBBLOCKS_PER_SHORT_TERM);
   private readonly recentFrames = new Float64Array(SUBBLOCKS_PER_SHORT_TERM);
-  private readonly blockPowers = new GrowableFloat64();
+  /** Mean power of the window ending at each sub-block, NaN until the window is full. */
+  private readonly momentaryPowers = new GrowableFloat64();
   private readonly shortTermPowers = new GrowableFloat64();
-  private readonly momentarySeries = new GrowableFloat64();
 
   // Per-sample sliding windows for the maxima
   private readonly ring: Float64Array;
@@ -108,8 +129,7 @@ export class LoudnessMeter implements Meter<LoudnessResult> {
 
   constructor(info: StreamInfo, options: LoudnessOptions = {}) {
     this.sampleRate = info.sampleRate;
-    this.shelf = shelfCoefficients(info.sampleRate);
-    this.highpass = highpassCoefficients(info.sampleRate);
+    this.kWeighting = kWeightingLoop(shelfCoefficients(info.sampleRate), highpassCoefficients(info.sampleRate));
     this.filters = info.channelLabels
       .map((label, channel) => ({ channel, weight: channelWeight(label), s1a: 0, s1b: 0, s2a: 0, s2b: 0 }))
       .filter((f) => f.weight !== 0);
@@ -141,44 +161,31 @@ export class LoudnessMeter implements Meter<LoudnessResult> {
     this.slideAndAccumulate(power, frames);
   }
 
-  /**
-   * K-weights every channel and adds its weighted squared output into `power`, in channel order.
-   * Two channels share one loop: each biquad is latency-bound, so two independent recurrences
-   * run in the time of one. An odd channel out is paired with a muted dummy (weight 0 adds +0).
-   */
+  /** K-weights every channel and adds its weighted squared output into `power`, in channel order. */
   private filterInto(block: PcmBlock, power: Float64Array): void {
-    const filters = this.filters, x = block.channelData;
-    for (let k = 0; k < filters.length; k += 2) {
-      const a = filters[k], b = filters[k + 1] ?? this.dummy;
-      this.filterPair(x[a.channel], x[b.channel] ?? x[a.channel], a, b, power, block.frames);
-    }
+    for (const f of this.filters) this.filterChannel(block.channelData[f.channel], f, power, block.frames);
   }
 
-  private filterPair(xa: Float32Array, xb: Float32Array, fa: ChannelFilter, fb: ChannelFilter, power: Float64Array, frames: number): void {
-    const { b0: p0, b1: p1, b2: p2, a1: pa1, a2: pa2 } = this.shelf;
-    const { a1: ha1, a2: ha2 } = this.highpass;
-    const ga = fa.weight, gb = fb.weight;
-    let s1a = fa.s1a, s1b = fa.s1b, s2a = fa.s2a, s2b = fa.s2b;
-    let t1a = fb.s1a, t1b = fb.s1b, t2a = fb.s2a, t2b = fb.s2b;
+  /**
+   * One channel per loop. The loop is bound by floating-point throughput, not by the recurrences'
+   * latency, so operations saved count (see KWeightingLoop); two channels in one loop need more
+   * doubles than x64 has registers for and measured slower.
+   */
+  private filterChannel(x: Float32Array, f: ChannelFilter, power: Float64Array, frames: number): void {
+    const { c1, c2, a1, a2, h1, ha1, ha2, b0Squared } = this.kWeighting;
+    const g = f.weight * b0Squared;
+    let s1a = f.s1a, s1b = f.s1b, s2a = f.s2a, s2b = f.s2b;
     for (let n = 0; n < frames; n++) {
-      const xn = xa[n];
-      const y1 = p0 * xn + s1a;
-      s1a = p1 * xn - pa1 * y1 + s1b;
-      s1b = p2 * xn - pa2 * y1;
-      const y2 = y1 + s2a;
-      s2a = -2 * y1 - ha1 * y2 + s2b;
+      const xn = x[n], sa = s1a, ta = s2a;
+      const y1 = xn + sa;
+      s1a = c1 * xn + s1b - a1 * sa;
+      s1b = c2 * xn - a2 * sa;
+      const y2 = y1 + ta;
+      s2a = h1 * y1 + s2b - ha1 * ta;
       s2b = y1 - ha2 * y2;
-      const un = xb[n];
-      const v1 = p0 * un + t1a;
-      t1a = p1 * un - pa1 * v1 + t1b;
-      t1b = p2 * un - pa2 * v1;
-      const v2 = v1 + t2a;
-      t2a = -2 * v1 - ha1 * v2 + t2b;
-      t2b = v1 - ha2 * v2;
-      power[n] = power[n] + ga * y2 * y2 + gb * v2 * v2;
+      power[n] += g * y2 * y2;
     }
-    fa.s1a = s1a; fa.s1b = s1b; fa.s2a = s2a; fa.s2b = s2b;
-    fb.s1a = t1a; fb.s1b = t1b; fb.s2a = t2a; fb.s2b = t2b;
+    f.s1a = s1a; f.s1b = s1b; f.s2a = s2a; f.s2b = s2b;
   }
 
   /** One pass over the block's power: per-sample sliding windows and the 100 ms sub-block sums. */
@@ -188,32 +195,33 @@ export class LoudnessMeter implements Meter<LoudnessResult> {
     const mFrames = this.momentaryFrames, sFrames = this.shortTermFrames;
     let n = 0;
     while (n < frames) {
-      // Up to the next sub-block boundary, so the loop below needs no boundary test.
-      const end = n + Math.min(frames - n, this.nextBoundaryFrame - this.framesSeen);
-      let pos = this.ringPos, mPos = this.momentaryPos;
+      // Up to the next sub-block boundary or ring wrap, so the loop below tests neither.
+      const pos = this.ringPos, mPos = this.momentaryPos;
+      const take = Math.min(frames - n, this.nextBoundaryFrame - this.framesSeen, ringLength - pos, ringLength - mPos);
+      const end = n + take;
+      const sOffset = pos - n, mOffset = mPos - n;
+      // Frames seen once sample n is in: n + endOffset (only needed for a new maximum).
+      const endOffset = this.framesSeen - n + 1;
       let mSum = this.momentarySum, sSum = this.shortTermSum;
       let maxM = this.maxMomentarySum, maxS = this.maxShortTermSum;
-      let seen = this.framesSeen;
       let sum = 0;
       for (; n < end; n++) {
         const v = power[n];
         sum += v;
-        sSum += v - ring[pos];
-        mSum += v - ring[mPos];
-        ring[pos] = v;
-        if (++pos === ringLength) pos = 0;
-        if (++mPos === ringLength) mPos = 0;
-        seen++;
-        if (mSum > maxM && seen >= mFrames) { maxM = mSum; this.maxMomentaryEndFrame = seen; }
-        if (sSum > maxS && seen >= sFrames) { maxS = sSum; this.maxShortTermEndFrame = seen; }
+        sSum += v - ring[n + sOffset];
+        mSum += v - ring[n + mOffset];
+        ring[n + sOffset] = v;
+        if (mSum > maxM && n + endOffset >= mFrames) { maxM = mSum; this.maxMomentaryEndFrame = n + endOffset; }
+        if (sSum > maxS && n + endOffset >= sFrames) { maxS = sSum; this.maxShortTermEndFrame = n + endOffset; }
       }
-      this.ringPos = pos; this.momentaryPos = mPos;
+      this.ringPos = pos + take === ringLength ? 0 : pos + take;
+      this.momentaryPos = mPos + take === ringLength ? 0 : mPos + take;
       this.momentarySum = mSum; this.shortTermSum = sSum;
       this.maxMomentarySum = maxM; this.maxShortTermSum = maxS;
       this.subblockPower += sum;
-      this.subblockFrames += seen - this.framesSeen;
-      this.framesSeen = seen;
-      if (seen === this.nextBoundaryFrame) this.closeSubblock();
+      this.subblockFrames += take;
+      this.framesSeen += take;
+      if (this.framesSeen === this.nextBoundaryFrame) this.closeSubblock();
     }
   }
 
@@ -227,10 +235,9 @@ export class LoudnessMeter implements Meter<LoudnessResult> {
     this.nextBoundaryFrame = this.boundaryFrame(this.subblockIndex + 1);
 
     const momentary = this.windowMeanPower(SUBBLOCKS_PER_MOMENTARY);
-    this.momentarySeries.push(momentary ?? Number.NaN);
-    if (momentary !== null) this.blockPowers.push(momentary);
+    this.momentaryPowers.push(momentary ?? Number.NaN);
     const shortTerm = this.windowMeanPower(SUBBLOCKS_PER_SHORT_TERM);
-    if (shortTerm !== null) this.shortTermPowers.push(shortTerm);
+    this.shortTermPowers.push(shortTerm ?? Number.NaN);
     for (const limit of this.limits) this.trackLimit(limit, limit.kind === 'loud_momentary' ? momentary : shortTerm);
   }
 
@@ -266,15 +273,10 @@ export class LoudnessMeter implements Meter<LoudnessResult> {
 
   result(): LoudnessResult {
     for (const limit of this.limits) this.closeLimit(limit);
-    const blocks = this.blockPowers.view();
+    // The gating blocks and the short-term values are the series once their windows are full.
+    const blocks = this.momentaryPowers.view().subarray(SUBBLOCKS_PER_MOMENTARY - 1);
     const { loudness: integratedLufs, kept } = gatedLoudness(blocks, RELATIVE_GATE_LU);
-    const range = loudnessRange(this.shortTermPowers.view());
-    const momentaryLufs = Array.from(this.momentarySeries.view(), (p) => (Number.isNaN(p) ? null : powerToLufs(p)));
-    const stValues = Array.from(this.shortTermPowers.view(), (p) => powerToLufs(p));
-    const shortTermLufs: (number | null)[] = [
-      ...new Array<null>(Math.min(SUBBLOCKS_PER_SHORT_TERM - 1, this.subblockIndex)).fill(null),
-      ...stValues,
-    ];
+    const range = loudnessRange(this.shortTermPowers.view().subarray(SUBBLOCKS_PER_SHORT_TERM - 1));
     const maxM = this.maxMomentarySum >= 0 ? powerToLufs(this.maxMomentarySum / this.momentaryFrames) : null;
     const maxS = this.maxShortTermSum >= 0 ? powerToLufs(this.maxShortTermSum / this.shortTermFrames) : null;
     return {
@@ -286,14 +288,21 @@ export class LoudnessMeter implements Meter<LoudnessResult> {
       maxShortTermLufs: maxS,
       maxMomentaryAtSeconds: maxM === null ? null : this.maxMomentaryEndFrame / this.sampleRate,
       maxShortTermAtSeconds: maxS === null ? null : this.maxShortTermEndFrame / this.sampleRate,
-      momentaryLufs,
-      shortTermLufs,
+      momentaryLufs: lufsSeries(this.momentaryPowers.view()),
+      shortTermLufs: lufsSeries(this.shortTermPowers.view()),
       gatingBlocks: blocks.length,
       gatedBlocks: kept,
       events: [...this.log.events].sort((a, b) => a.startFrame - b.startFrame),
       eventsTotal: this.log.total,
     };
   }
+}
+
+/** Powers to LUFS, NaN where there is no value (NaN in) or digital silence (0 in). */
+function lufsSeries(powers: Float64Array): Float64Array {
+  const lufs = new Float64Array(powers.length);
+  for (let i = 0; i < powers.length; i++) lufs[i] = powerToLufs(powers[i]) ?? Number.NaN;
+  return lufs;
 }
 
 /** BS.1770-5 eqs. (4)-(7): absolute gate at -70 LKFS, then a relative gate. */

@@ -82,7 +82,12 @@ export interface AnalysisDocument {
   analysisSeconds: number;
 }
 
-const round2 = (v: number | null) => (v === null ? null : Math.round(v * 100) / 100);
+/** Every `step`-th value of a loudness series from `first`, rounded to 0.01; null where it has none (NaN). */
+function seriesPoints(lufs: Float64Array, first: number, step: number): (number | null)[] {
+  const points: (number | null)[] = [];
+  for (let i = first; i < lufs.length; i += step) points.push(Number.isNaN(lufs[i]) ? null : Math.round(lufs[i] * 100) / 100);
+  return points;
+}
 
 export function buildAnalysisDocument(
   format: AudioFormat,
@@ -105,7 +110,6 @@ export function buildAnalysisDocument(
   const truncated = allEvents.length > MAX_DOCUMENT_EVENTS || m.loudness.eventsTotal > m.loudness.events.length || m.truePeak.oversTotal > m.truePeak.overs.length
     || m.clipping.eventsTruncated || m.silence.eventsTruncated || relationsOverflow > 0;
   const dead = new Set(m.channelRelations.deadChannels);
-  const stSeries = m.loudness.shortTermLufs.filter((_, i) => i % 10 === 9);
   return {
     schemaVersion: DOCUMENT_SCHEMA_VERSION,
     engine: { name: ENGINE_NAME, version: ENGINE_VERSION },
@@ -164,8 +168,9 @@ export function buildAnalysisDocument(
     eventCounts,
     eventsTruncated: truncated,
     series: {
-      momentary: { pointsPerSecond: 10, firstAtSeconds: 0.1, lufs: m.loudness.momentaryLufs.map(round2) },
-      shortTerm: { pointsPerSecond: 1, firstAtSeconds: 1, lufs: stSeries.map(round2) },
+      momentary: { pointsPerSecond: 10, firstAtSeconds: 0.1, lufs: seriesPoints(m.loudness.momentaryLufs, 0, 1) },
+      // The 10 Hz short-term series at whole seconds (its 10th value ends at 1 s).
+      shortTerm: { pointsPerSecond: 1, firstAtSeconds: 1, lufs: seriesPoints(m.loudness.shortTermLufs, 9, 10) },
     },
     settings: {
       overCeilingDbtp: m.truePeak.overCeilingDbtp,

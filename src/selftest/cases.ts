@@ -137,15 +137,15 @@ function readValue(testCase: ComplianceCase, loudness: LoudnessMeter, truePeak: 
     case 'maxShortTerm': return result.maxShortTermLufs;
     case 'loudnessRange': return result.loudnessRangeLu;
     // The value farthest from the expected one once the window has filled (after 3 s / 1 s).
-    case 'shortTermSpread': return farthest(result.shortTermLufs.slice(30), testCase.expected);
-    case 'momentarySpread': return farthest(result.momentaryLufs.slice(10), testCase.expected);
+    case 'shortTermSpread': return farthest(result.shortTermLufs.subarray(30), testCase.expected);
+    case 'momentarySpread': return farthest(result.momentaryLufs.subarray(10), testCase.expected);
   }
 }
 
-function farthest(values: (number | null)[], expected: number): number | null {
+function farthest(values: Float64Array, expected: number): number | null {
   let worst: number | null = null;
   for (const v of values) {
-    if (v === null) return null;
+    if (Number.isNaN(v)) return null;
     if (worst === null || Math.abs(v - expected) > Math.abs(worst - expected)) worst = v;
   }
   return worst;

@@ -41,7 +41,8 @@ describe('LoudnessMeter (ITU-R BS.1770-5)', () => {
     expect(silent.integratedLufs).toBeNull();
     expect(silent.loudnessRangeLu).toBeNull();
     expect(silent.maxMomentaryLufs).toBeNull();
-    expect(silent.momentaryLufs.every((v) => v === null)).toBe(true);
+    expect(silent.momentaryLufs.length).toBe(50);
+    expect(silent.momentaryLufs.every((v) => Number.isNaN(v))).toBe(true);
     const quiet = measure(['L', 'R'], toneBlocks({ sampleRate: 48000, channels: 2, segments: [{ seconds: 5, peakDbfs: -75 }] }));
     expect(quiet.integratedLufs).toBeNull();
     expect(quiet.maxMomentaryLufs).toBeCloseTo(-75, 0);
@@ -60,8 +61,11 @@ describe('LoudnessMeter (ITU-R BS.1770-5)', () => {
     expect(result.gatingBlocks).toBe(97);
     expect(result.momentaryLufs).toHaveLength(100);
     expect(result.shortTermLufs).toHaveLength(100);
-    expect(result.shortTermLufs[28]).toBeNull();
-    expect(result.shortTermLufs[29]).not.toBeNull();
+    // No value until the 400 ms / 3 s windows are full (NaN marks 'none'), then the tone's level.
+    expect(result.momentaryLufs[2]).toBeNaN();
+    expect(result.momentaryLufs[3]).toBeCloseTo(-23.01, 1); // 1 kHz at -20 dBFS peak: 20 dB under the -3.01 of BS.1770-5 (text after eq. (7))
+    expect(result.shortTermLufs[28]).toBeNaN();
+    expect(result.shortTermLufs[29]).toBeCloseTo(-23.01, 1);
   });
 
   it('gives the same readings however the stream is cut into blocks', () => {

@@ -40,10 +40,10 @@ export interface LoudnessResult {
   /** Time (s) of the end of the loudest momentary and short-term windows. */
   maxMomentaryAtSeconds: number | null;
   maxShortTermAtSeconds: number | null;
-  /** Momentary loudness every 100 ms (value of the 400 ms ending there); null before 400 ms or for digital silence. */
-  momentaryLufs: (number | null)[];
-  /** Short-term loudness every 100 ms (3 s window ending there); null before 3 s. */
-  shortTermLufs: (number | null)[];
+  /** Momentary loudness every 100 ms (the 400 ms ending there); NaN before 400 ms and for digital silence. */
+  momentaryLufs: Float64Array;
+  /** Short-term loudness every 100 ms (the 3 s ending there); NaN before 3 s and for digital silence. */
+  shortTermLufs: Float64Array;
   /** Gating blocks used: total and after both gates. */
   gatingBlocks: number;
   gatedBlocks: number;
@@ -252,12 +252,12 @@ export class LoudnessMeter implements Meter<LoudnessResult> {
     const blocks = this.blockPowers.view();
     const { loudness: integratedLufs, kept } = gatedLoudness(blocks, RELATIVE_GATE_LU);
     const range = loudnessRange(this.shortTermPowers.view());
-    const momentaryLufs = Array.from(this.momentarySeries.view(), (p) => (Number.isNaN(p) ? null : powerToLufs(p)));
-    const stValues = Array.from(this.shortTermPowers.view(), (p) => powerToLufs(p));
-    const shortTermLufs: (number | null)[] = [
-      ...new Array<null>(Math.min(SUBBLOCKS_PER_SHORT_TERM - 1, this.subblockIndex)).fill(null),
+    const momentaryLufs = Float64Array.from(this.momentarySeries.view(), (p) => (Number.isNaN(p) ? Number.NaN : powerToLufs(p) ?? Number.NaN));
+    const stValues = Array.from(this.shortTermPowers.view(), (p) => powerToLufs(p) ?? Number.NaN);
+    const shortTermLufs = Float64Array.from([
+      ...new Array<number>(Math.min(SUBBLOCKS_PER_SHORT_TERM - 1, this.subblockIndex)).fill(Number.NaN),
       ...stValues,
-    ];
+    ]);
     const maxM = this.maxMomentarySum >= 0 ? powerToLufs(this.maxMomentarySum / this.momentaryFrames) : null;
     const maxS = this.maxShortTermSum >= 0 ? powerToLufs(this.maxShortTermSum / this.shortTermFrames) : null;
     return {
