@@ -141,8 +141,9 @@ export class ByteReader {
         return;
       }
       // Synchronous on purpose: a read from the page cache is a memory copy, and done on this
-      // thread it leaves the bytes in this core's cache for the conversion that follows (a
-      // thread-pool read measured a third slower end to end). Analysis runs in its own process.
+      // thread it leaves the bytes in this core's cache for the conversion that follows (WAV
+      // decode measured 20 ms per stereo minute with thread-pool reads, 13 ms with these).
+      // The service analyses in its own sandboxed process, so no server loop waits on it.
       const bytesRead = readSync(source.handle.fd, this.buffer, this.end, want, this.sourcePosition);
       if (bytesRead === 0) this.sourceEnded = true; // file shrank under us
       this.end += bytesRead;
