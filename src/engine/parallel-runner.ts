@@ -12,10 +12,10 @@ const IN_FLIGHT = 3;
 /** Cost per stereo audio minute (ms, bench/meters.ts on programme material); decoding and the
  * shared envelope pass count against the thread that runs them. */
 const COST: Record<MeterName, number> = {
-  loudness: 30, truePeak: 11, timeWeighted: 10, channelRelations: 8, levels: 6, silence: 4, clipping: 1,
+  loudness: 24, truePeak: 9, timeWeighted: 9, channelRelations: 8, levels: 5, silence: 2, clipping: 1,
 };
-const ENVELOPE_COST = 12;
-const MAIN_THREAD_DECODE_COST = 14;
+const ENVELOPE_COST = 14;
+const MAIN_THREAD_DECODE_COST = 13;
 // From the TypeScript sources the worker loads them through tsx, as bin/run.js does for
 // entrypoints; inside the dist/ bundle (bin/build.js) it is the bundled dist/parallel-worker.mjs.
 const BUNDLED = !import.meta.url.endsWith('.ts');
@@ -26,19 +26,35 @@ function startWorker(workerData: unknown): Worker {
   return new Worker(boot, { eval: true, workerData });
 }
 
-/** Longest-processing-time split of the meters into `threads` groups; group 0 is the main thread's. */
+/** Load of each thread for an assignment of meters to threads (thread 0 also decodes). */
+function loads(assignment: number[], threads: number): number[] {
+  const load = Array.from({ length: threads }, (_, i) => (i === 0 ? MAIN_THREAD_DECODE_COST : 0));
+  const hasEnvelope = new Array<boolean>(threads).fill(false);
+  METER_NAMES.forEach((name, m) => {
+    const t = assignment[m];
+    load[t] += COST[name];
+    if (ENVELOPE_METERS.includes(name) && !hasEnvelope[t]) { hasEnvelope[t] = true; load[t] += ENVELOPE_COST; }
+  });
+  return load;
+}
+
+/** More threads than this cannot shorten the run: loudness alone is over a quarter of the work. */
+const MAX_METER_THREADS = 4;
+
+/**
+ * The split of the meters into `threads` groups with the smallest largest load, found by trying
+ * every assignment (7 meters: 128 for two threads, 16384 for four); group 0 is the main thread's.
+ */
 export function meterGroups(threads: number): MeterName[][] {
-  const groups = Array.from({ length: threads }, () => [] as MeterName[]);
-  const load: number[] = groups.map((_, i) => (i === 0 ? MAIN_THREAD_DECODE_COST : 0));
-  // A meter that reads the envelope brings its pass along unless the group has it already.
-  const costIn = (group: MeterName[], name: MeterName) => COST[name]
-    + (ENVELOPE_METERS.includes(name) && !group.some((m) => ENVELOPE_METERS.includes(m)) ? ENVELOPE_COST : 0);
-  for (const name of [...METER_NAMES].sort((a, b) => COST[b] - COST[a])) {
-    const totals = groups.map((group, i) => load[i] + costIn(group, name));
-    const least = totals.indexOf(Math.min(...totals));
-    load[least] = totals[least];
-    groups[least].push(name);
+  const n = Math.max(1, Math.min(Math.floor(threads), MAX_METER_THREADS));
+  const assignment = new Array<number>(METER_NAMES.length).fill(0);
+  let best = [...assignment], bestLoad = Math.max(...loads(assignment, n));
+  for (let code = 1; code < n ** METER_NAMES.length; code++) {
+    for (let m = 0, c = code; m < METER_NAMES.length; m++, c = Math.floor(c / n)) assignment[m] = c % n;
+    const load = Math.max(...loads(assignment, n));
+    if (load < bestLoad) { best = [...assignment]; bestLoad = load; }
   }
+  const groups = Array.from({ length: n }, (_, t) => METER_NAMES.filter((_, m) => best[m] === t));
   return groups.filter((g, i) => i === 0 || g.length > 0);
 }
 

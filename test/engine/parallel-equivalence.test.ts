@@ -23,6 +23,12 @@ describe('meter groups', () => {
       expect(groups.length).toBeLessThanOrEqual(threads);
     }
   });
+
+  it('keep the meters that read the block envelope on one thread for two threads, so its pass runs once', () => {
+    const [main, worker] = meterGroups(2);
+    expect(main).toEqual(expect.arrayContaining(['levels', 'truePeak', 'clipping', 'silence']));
+    expect(worker).toEqual(expect.arrayContaining(['loudness']));
+  });
 });
 
 describe.each([1, 2, 6])('parallel analysis equals the serial runner (%i channels)', (channels) => {
