@@ -25,6 +25,8 @@ export interface StreamInfo {
   readonly sampleRate: number;
   readonly channels: number;
   readonly channelLabels: readonly ChannelLabel[];
+  /** Frames the container declares, when it does: lets meters size per-interval series once. */
+  readonly expectedFrames?: number;
 }
 
 /** A streaming meter: feed blocks in order, then read the result once. */

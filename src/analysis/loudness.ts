@@ -18,6 +18,7 @@ const RELATIVE_GATE_LU = -10;
 const LRA_RELATIVE_GATE_LU = -20;
 const SUBBLOCKS_PER_MOMENTARY = 4;
 const SUBBLOCKS_PER_SHORT_TERM = 30;
+const MAX_PRESIZED_SUBBLOCKS = 10 * 86_400;
 
 export interface LoudnessOptions {
   /** Short-term values (10 Hz) above this become 'loud_short_term' events. */
@@ -106,8 +107,8 @@ export class LoudnessMeter implements Meter<LoudnessResult> {
   private readonly recentPower = new Float64Array(SUBBLOCKS_PER_SHORT_TERM);
   private readonly recentFrames = new Float64Array(SUBBLOCKS_PER_SHORT_TERM);
   /** Mean power of the window ending at each sub-block, NaN until the window is full. */
-  private readonly momentaryPowers = new GrowableFloat64();
-  private readonly shortTermPowers = new GrowableFloat64();
+  private readonly momentaryPowers: GrowableFloat64;
+  private readonly shortTermPowers: GrowableFloat64;
 
   // Per-sample sliding windows for the maxima
   private readonly ring: Float64Array;
@@ -126,6 +127,7 @@ export class LoudnessMeter implements Meter<LoudnessResult> {
   // Stretches above the optional limits: [window start frame, last window end frame, max power]
   private readonly limits: { kind: 'loud_short_term' | 'loud_momentary'; power: number; windowFrames: number; open: [number, number, number] | null }[] = [];
   private readonly log: EventLog;
+  private finished: LoudnessResult | null = null;
 
   constructor(info: StreamInfo, options: LoudnessOptions = {}) {
     this.sampleRate = info.sampleRate;
@@ -137,6 +139,12 @@ export class LoudnessMeter implements Meter<LoudnessResult> {
     this.momentaryFrames = Math.round(0.4 * info.sampleRate);
     this.shortTermFrames = Math.round(3 * info.sampleRate);
     this.ring = new Float64Array(this.shortTermFrames);
+    // One value per 100 ms sub-block (plus one for a final partial sub-block); a header's claim
+    // is trusted up to a day of audio, beyond that the series grow as they go.
+    const expectedSubblocks = info.expectedFrames
+      ? Math.min(MAX_PRESIZED_SUBBLOCKS, Math.ceil((info.expectedFrames * 10) / info.sampleRate) + 1) : undefined;
+    this.momentaryPowers = new GrowableFloat64(expectedSubblocks);
+    this.shortTermPowers = new GrowableFloat64(expectedSubblocks);
     this.momentaryPos = this.shortTermFrames - this.momentaryFrames;
     this.log = new EventLog(info.sampleRate, options.maxEvents);
     if (options.momentaryLimitLufs !== undefined) {
@@ -272,6 +280,7 @@ export class LoudnessMeter implements Meter<LoudnessResult> {
   }
 
   result(): LoudnessResult {
+    if (this.finished) return this.finished;
     for (const limit of this.limits) this.closeLimit(limit);
     // The gating blocks and the short-term values are the series once their windows are full.
     const blocks = this.momentaryPowers.view().subarray(SUBBLOCKS_PER_MOMENTARY - 1);
@@ -279,7 +288,7 @@ export class LoudnessMeter implements Meter<LoudnessResult> {
     const range = loudnessRange(this.shortTermPowers.view().subarray(SUBBLOCKS_PER_SHORT_TERM - 1));
     const maxM = this.maxMomentarySum >= 0 ? powerToLufs(this.maxMomentarySum / this.momentaryFrames) : null;
     const maxS = this.maxShortTermSum >= 0 ? powerToLufs(this.maxShortTermSum / this.shortTermFrames) : null;
-    return {
+    this.finished = {
       integratedLufs,
       loudnessRangeLu: range?.rangeLu ?? null,
       loudnessRangeLowLufs: range?.lowLufs ?? null,
@@ -288,21 +297,22 @@ export class LoudnessMeter implements Meter<LoudnessResult> {
       maxShortTermLufs: maxS,
       maxMomentaryAtSeconds: maxM === null ? null : this.maxMomentaryEndFrame / this.sampleRate,
       maxShortTermAtSeconds: maxS === null ? null : this.maxShortTermEndFrame / this.sampleRate,
-      momentaryLufs: lufsSeries(this.momentaryPowers.view()),
-      shortTermLufs: lufsSeries(this.shortTermPowers.view()),
+      // Converted in place (the powers are not needed again): no second copy of a long series.
+      momentaryLufs: toLufsInPlace(this.momentaryPowers.view()),
+      shortTermLufs: toLufsInPlace(this.shortTermPowers.view()),
       gatingBlocks: blocks.length,
       gatedBlocks: kept,
       events: [...this.log.events].sort((a, b) => a.startFrame - b.startFrame),
       eventsTotal: this.log.total,
     };
+    return this.finished;
   }
 }
 
-/** Powers to LUFS, NaN where there is no value (NaN in) or digital silence (0 in). */
-function lufsSeries(powers: Float64Array): Float64Array {
-  const lufs = new Float64Array(powers.length);
-  for (let i = 0; i < powers.length; i++) lufs[i] = powerToLufs(powers[i]) ?? Number.NaN;
-  return lufs;
+/** Powers to LUFS in place, NaN where there is no value (NaN in) or digital silence (0 in). */
+function toLufsInPlace(series: Float64Array): Float64Array {
+  for (let i = 0; i < series.length; i++) series[i] = powerToLufs(series[i]) ?? Number.NaN;
+  return series;
 }
 
 /** BS.1770-5 eqs. (4)-(7): absolute gate at -70 LKFS, then a relative gate. */
@@ -324,10 +334,43 @@ export function loudnessRange(shortTermPowers: Float64Array): { rangeLu: number;
   for (const p of shortTermPowers) if (p > absolutePower) { sum += p; count++; }
   if (count === 0) return null;
   const relativePower = (sum / count) * Math.pow(10, LRA_RELATIVE_GATE_LU / 10);
-  const gated = shortTermPowers.filter((p) => p > absolutePower && p > relativePower).sort();
-  if (gated.length === 0) return null;
-  const percentile = (p: number) => gated[Math.round(((gated.length - 1) * p) / 100)];
+  // Counted, then copied: TypedArray filter() gathers boxed numbers first (12 MB for 3 hours).
+  const gate = Math.max(absolutePower, relativePower);
+  let kept = 0;
+  for (let i = 0; i < shortTermPowers.length; i++) if (shortTermPowers[i] > gate) kept++;
+  if (kept === 0) return null;
+  const gated = new Float64Array(kept);
+  for (let i = 0, k = 0; i < shortTermPowers.length; i++) if (shortTermPowers[i] > gate) gated[k++] = shortTermPowers[i];
+  // Selection, not a sort: the same values at the percentile indices, in place.
+  const percentile = (p: number) => kthSmallest(gated, Math.round(((gated.length - 1) * p) / 100));
   const lowLufs = powerToLufs(percentile(10)) as number;
   const highLufs = powerToLufs(percentile(95)) as number;
   return { rangeLu: highLufs - lowLufs, lowLufs, highLufs };
+}
+
+/**
+ * The k-th smallest (0-based) of `values`, reordering them in place: Hoare's selection with a
+ * median-of-three pivot, handing a range that refuses to shrink to the built-in sort (so crafted
+ * input cannot make it quadratic).
+ */
+export function kthSmallest(values: Float64Array, k: number): number {
+  let lo = 0, hi = values.length - 1;
+  for (let rounds = 0; lo < hi; rounds++) {
+    if (rounds > 64) {
+      values.subarray(lo, hi + 1).sort();
+      return values[k];
+    }
+    const a = values[lo], b = values[(lo + hi) >> 1], c = values[hi];
+    const pivot = a < b ? (b < c ? b : a < c ? c : a) : (a < c ? a : b < c ? c : b);
+    let i = lo, j = hi;
+    while (i <= j) {
+      while (values[i] < pivot) i++;
+      while (values[j] > pivot) j--;
+      if (i <= j) { const t = values[i]; values[i] = values[j]; values[j] = t; i++; j--; }
+    }
+    if (k <= j) hi = j;
+    else if (k >= i) lo = i;
+    else return values[k];
+  }
+  return values[k];
 }

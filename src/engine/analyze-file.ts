@@ -36,7 +36,10 @@ export async function analyzeFile(path: string, options: AnalyzeFileOptions = {}
   const hashing = options.hash === false ? Promise.resolve(undefined) : sha256File(path).catch(() => undefined);
   const decoded = await openAudioFile(path, options.decode);
   const { format } = decoded;
-  const info = { sampleRate: format.sampleRate, channels: format.channels, channelLabels: format.channelLabels };
+  const info = {
+    sampleRate: format.sampleRate, channels: format.channels, channelLabels: format.channelLabels,
+    ...(format.frames ? { expectedFrames: format.frames } : {}),
+  };
   const threads = options.threads ?? 1;
   const runner = threads > 1 ? new ParallelAnalysisRunner(info, options.analysis, threads) : new AnalysisRunner(info, options.analysis);
   let measurements: Measurements;

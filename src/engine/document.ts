@@ -84,8 +84,9 @@ export interface AnalysisDocument {
 
 /** Every `step`-th value of a loudness series from `first`, rounded to 0.01; null where it has none (NaN). */
 function seriesPoints(lufs: Float64Array, first: number, step: number): (number | null)[] {
-  const points: (number | null)[] = [];
-  for (let i = first; i < lufs.length; i += step) points.push(Number.isNaN(lufs[i]) ? null : Math.round(lufs[i] * 100) / 100);
+  // Sized once: a long programme's series grows no garbage copies on the way.
+  const points = new Array<number | null>(Math.max(0, Math.ceil((lufs.length - first) / step)));
+  for (let i = first, k = 0; i < lufs.length; i += step, k++) points[k] = Number.isNaN(lufs[i]) ? null : Math.round(lufs[i] * 100) / 100;
   return points;
 }
 

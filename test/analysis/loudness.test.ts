@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import type { ChannelLabel, PcmBlock } from '../../src/analysis/audio.ts';
-import { LoudnessMeter } from '../../src/analysis/loudness.ts';
-import { programmeBlocks, toneBlocks, type ToneSegment } from '../../src/selftest/signals.ts';
+import { kthSmallest, LoudnessMeter } from '../../src/analysis/loudness.ts';
+import { programmeBlocks, seededRandom, toneBlocks, type ToneSegment } from '../../src/selftest/signals.ts';
 
 function measure(labels: ChannelLabel[], blocks: Iterable<PcmBlock>, sampleRate = 48000) {
   const meter = new LoudnessMeter({ sampleRate, channels: labels.length, channelLabels: labels });
@@ -100,5 +100,24 @@ describe('LoudnessMeter (ITU-R BS.1770-5)', () => {
     expect(events[0].startSeconds).toBeLessThan(10);
     expect(events[0].endSeconds).toBeGreaterThan(15);
     expect(events[0].endSeconds).toBeLessThan(18.1);
+  });
+});
+
+describe('kthSmallest (the LRA percentiles without a sort)', () => {
+  it('picks what a full sort puts at each index, with ties, sorted, reversed and random input', () => {
+    const random = seededRandom(9);
+    const inputs = [
+      Float64Array.from({ length: 1001 }, () => random()),
+      Float64Array.from({ length: 500 }, (_, i) => i),
+      Float64Array.from({ length: 500 }, (_, i) => 500 - i),
+      Float64Array.from({ length: 300 }, (_, i) => i % 3),
+      new Float64Array([42]),
+    ];
+    for (const input of inputs) {
+      const sorted = input.slice().sort();
+      for (const k of [0, 1, Math.floor(input.length / 10), Math.floor(input.length * 0.95), input.length - 1]) {
+        expect(kthSmallest(input.slice(), k)).toBe(sorted[k]);
+      }
+    }
   });
 });
