@@ -9,13 +9,14 @@ import { EarmarkError } from '../errors/index.ts';
 import type { FromWorker, ToWorker } from './parallel-worker.ts';
 
 const IN_FLIGHT = 3;
-/** Cost per stereo audio minute (ms, bench/meters.ts on programme material); decoding and the
- * shared envelope pass count against the thread that runs them. */
+/** Cost per stereo audio minute (ms, from a CPU profile of a whole 60-minute analysis); decoding
+ * and the shared envelope pass count against the thread that runs them. */
 const COST: Record<MeterName, number> = {
-  loudness: 24, truePeak: 9, timeWeighted: 9, channelRelations: 8, levels: 5, silence: 2, clipping: 1,
+  loudness: 27, timeWeighted: 9, levels: 5, truePeak: 4, channelRelations: 3, silence: 1.3, clipping: 0.4,
 };
-const ENVELOPE_COST = 14;
-const MAIN_THREAD_DECODE_COST = 13;
+const ENVELOPE_COST = 9;
+/** Decoding plus copying each block for the worker threads. */
+const MAIN_THREAD_DECODE_COST = 14;
 // From the TypeScript sources the worker loads them through tsx, as bin/run.js does for
 // entrypoints; inside the dist/ bundle (bin/build.js) it is the bundled dist/parallel-worker.mjs.
 const BUNDLED = !import.meta.url.endsWith('.ts');
