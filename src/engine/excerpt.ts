@@ -2,6 +2,7 @@
 // Blocks may be reused by the decoder, so the span is copied as it passes. Skipping is a decode
 // pass over the audio before the span (about a second per hour of stereo PCM).
 
+import { setImmediate as nextTurn } from 'node:timers/promises';
 import { openAudioFile } from '../decode/index.ts';
 import { encodePcmFrames, wavHeader } from '../encode/wav.ts';
 import { EarmarkError } from '../errors/index.ts';
@@ -41,6 +42,8 @@ export async function cutExcerpt(path: string, startSeconds: number, endSeconds:
     }
     position = blockEnd;
     if (copied >= wantedFrames) break;
+    // This runs in the API process and decoding reads synchronously: let other requests in.
+    await nextTurn();
   }
   if (copied === 0) throw new EarmarkError('invalid_argument', 'the excerpt starts after the end of the audio', { field: 'startSeconds' });
   const channelData = out.map((x) => x.subarray(0, copied));
