@@ -8,7 +8,8 @@
 // tone not aligned to the 100 ms grid still reads its level (EBU Tech 3341 cases 10 and 13).
 
 import type { Meter, PcmBlock, StreamInfo } from './audio.ts';
-import { channelWeight, highpassCoefficients, shelfCoefficients, type Biquad } from './k-weighting.ts';
+import { channelWeight, highpassCoefficients, shelfCoefficients } from './k-weighting.ts';
+import { KERNEL_FRAMES, KWeightingKernel, kWeightingLoop } from './kernels/k-weighting.ts';
 import { GrowableFloat64 } from './growable.ts';
 import { EventLog, type AnalysisEvent } from './events.ts';
 
@@ -61,43 +62,11 @@ function lufsToPower(lufs: number): number {
   return Math.pow(10, (lufs - LOUDNESS_OFFSET) / 10);
 }
 
-interface ChannelFilter {
-  channel: number;
-  weight: number;
-  // Two biquads, transposed direct form II state (the shelf's scaled by 1/b0, see KWeightingLoop).
-  s1a: number; s1b: number; s2a: number; s2b: number;
-}
-
-/**
- * The two K-weighting biquads (transposed direct form II) rearranged to cost fewer operations per
- * sample; the filter is the same, the rounding differs at the 1e-16 level.
- * - The shelf is divided by its b0: its output y = x + sa needs no multiply, and b0^2 moves into
- *   the channel weight (`b0Squared`).
- * - y is substituted into the shelf's state updates: sa' = (b1/b0 - a1)*x + sb - a1*sa and
- *   sb' = (b2/b0 - a2)*x - a2*sa, so each state's loop-carried chain is one multiply and one subtract.
- * - The high-pass (numerator 1, -2, 1; output z = y + sa) likewise: sa' = (-2 - a1)*y + sb - a1*sa;
- *   sb' = y - a2*z stays as it is, one multiply shorter than substituted.
- */
-interface KWeightingLoop {
-  c1: number; c2: number; a1: number; a2: number;
-  h1: number; ha1: number; ha2: number;
-  b0Squared: number;
-}
-
-function kWeightingLoop(shelf: Biquad, highpass: Biquad): KWeightingLoop {
-  return {
-    c1: shelf.b1 / shelf.b0 - shelf.a1, c2: shelf.b2 / shelf.b0 - shelf.a2, a1: shelf.a1, a2: shelf.a2,
-    h1: highpass.b1 - highpass.a1, ha1: highpass.a1, ha2: highpass.a2,
-    b0Squared: shelf.b0 * shelf.b0,
-  };
-}
-
 export class LoudnessMeter implements Meter<LoudnessResult> {
   private readonly sampleRate: number;
-  /** Channels with a nonzero weight (LFE is excluded). */
-  private readonly filters: ChannelFilter[];
-  private readonly kWeighting: KWeightingLoop;
-  private weightedPower = new Float64Array(0);
+  /** Channels with a nonzero weight (LFE is excluded), and their K-weighting. */
+  private readonly weightedChannels: number[];
+  private readonly kernel: KWeightingKernel;
 
   // 100 ms sub-blocks
   private subblockIndex = 0;
@@ -131,10 +100,10 @@ export class LoudnessMeter implements Meter<LoudnessResult> {
 
   constructor(info: StreamInfo, options: LoudnessOptions = {}) {
     this.sampleRate = info.sampleRate;
-    this.kWeighting = kWeightingLoop(shelfCoefficients(info.sampleRate), highpassCoefficients(info.sampleRate));
-    this.filters = info.channelLabels
-      .map((label, channel) => ({ channel, weight: channelWeight(label), s1a: 0, s1b: 0, s2a: 0, s2b: 0 }))
-      .filter((f) => f.weight !== 0);
+    const weighted = info.channelLabels.map((label, channel) => ({ channel, weight: channelWeight(label) })).filter((c) => c.weight !== 0);
+    this.weightedChannels = weighted.map((c) => c.channel);
+    const loop = kWeightingLoop(shelfCoefficients(info.sampleRate), highpassCoefficients(info.sampleRate));
+    this.kernel = new KWeightingKernel(loop, weighted.map((c) => c.weight));
     this.nextBoundaryFrame = this.boundaryFrame(1);
     this.momentaryFrames = Math.round(0.4 * info.sampleRate);
     this.shortTermFrames = Math.round(3 * info.sampleRate);
@@ -161,39 +130,11 @@ export class LoudnessMeter implements Meter<LoudnessResult> {
 
   push(block: PcmBlock): void {
     const frames = block.frames;
-    if (frames === 0) return;
-    if (this.weightedPower.length < frames) this.weightedPower = new Float64Array(frames);
-    const power = this.weightedPower;
-    power.fill(0, 0, frames);
-    this.filterInto(block, power);
-    this.slideAndAccumulate(power, frames);
-  }
-
-  /** K-weights every channel and adds its weighted squared output into `power`, in channel order. */
-  private filterInto(block: PcmBlock, power: Float64Array): void {
-    for (const f of this.filters) this.filterChannel(block.channelData[f.channel], f, power, block.frames);
-  }
-
-  /**
-   * One channel per loop. The loop is bound by floating-point throughput, not by the recurrences'
-   * latency, so operations saved count (see KWeightingLoop); two channels in one loop need more
-   * doubles than x64 has registers for and measured slower.
-   */
-  private filterChannel(x: Float32Array, f: ChannelFilter, power: Float64Array, frames: number): void {
-    const { c1, c2, a1, a2, h1, ha1, ha2, b0Squared } = this.kWeighting;
-    const g = f.weight * b0Squared;
-    let s1a = f.s1a, s1b = f.s1b, s2a = f.s2a, s2b = f.s2b;
-    for (let n = 0; n < frames; n++) {
-      const xn = x[n], sa = s1a, ta = s2a;
-      const y1 = xn + sa;
-      s1a = c1 * xn + s1b - a1 * sa;
-      s1b = c2 * xn - a2 * sa;
-      const y2 = y1 + ta;
-      s2a = h1 * y1 + s2b - ha1 * ta;
-      s2b = y1 - ha2 * y2;
-      power[n] += g * y2 * y2;
+    const channels = this.weightedChannels.map((c) => block.channelData[c]);
+    for (let from = 0; from < frames; from += KERNEL_FRAMES) {
+      const length = Math.min(KERNEL_FRAMES, frames - from);
+      this.slideAndAccumulate(this.kernel.filter(channels, from, length), length);
     }
-    f.s1a = s1a; f.s1b = s1b; f.s2a = s2a; f.s2b = s2b;
   }
 
   /** One pass over the block's power: per-sample sliding windows and the 100 ms sub-block sums. */
