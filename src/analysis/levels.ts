@@ -3,6 +3,7 @@
 
 import type { Meter, PcmBlock, StreamInfo } from './audio.ts';
 import { EnvelopeBuilder } from './envelope.ts';
+import { SUMS_KERNEL_FRAMES, SumsKernel } from './kernels/sums.ts';
 
 /** 20 log10(2^0.5): AES17 references RMS to a full-scale sine, so it reads this much higher. */
 export const AES17_OFFSET_DB = 10 * Math.log10(2);
@@ -69,6 +70,7 @@ export class LevelMeter implements Meter<LevelResult> {
   private readonly overCount: Float64Array;
   private frames = 0;
   private readonly envelopes = new EnvelopeBuilder();
+  private readonly kernel = new SumsKernel();
 
   constructor(private readonly info: StreamInfo, options: LevelMeterOptions = {}) {
     this.fullScaleLinear = options.fullScaleLinear ?? 1;
@@ -87,27 +89,26 @@ export class LevelMeter implements Meter<LevelResult> {
     // Two accumulator lanes keyed by the absolute frame parity: halves the add-latency chain
     // and still sums every sample in the same order however the stream is cut.
     const first = this.frames % 2;
-    // The peak comes from the shared envelope: this loop only sums.
+    // The peak comes from the shared envelope; the sums from the SIMD kernel (kernels/sums.wat),
+    // two lanes in the same order as a scalar two-accumulator loop.
     const blockPeak = this.envelopes.of(block).blockMaxAbs;
     for (let c = 0; c < this.info.channels; c++) {
       const x = block.channelData[c];
       // Lane of the block's even-indexed samples, and of its odd-indexed ones.
       const even = 2 * c + first;
       const odd = 2 * c + 1 - first;
-      let sq0 = this.sumSquares[even], sq1 = this.sumSquares[odd], s0 = this.sum[even], s1 = this.sum[odd];
-      let i = 0;
-      for (; i + 1 < frames; i += 2) {
-        const v0 = x[i], v1 = x[i + 1];
-        s0 += v0; s1 += v1;
-        sq0 += v0 * v0; sq1 += v1 * v1;
+      const sums = this.kernel.sums;
+      sums[0] = this.sum[even]; sums[1] = this.sum[odd];
+      sums[2] = this.sumSquares[even]; sums[3] = this.sumSquares[odd];
+      // Pieces of an even number of frames keep the block's even frames in the kernel's lane 0.
+      for (let from = 0; from < frames; from += SUMS_KERNEL_FRAMES) {
+        const length = Math.min(SUMS_KERNEL_FRAMES, frames - from);
+        this.kernel.input.set(x.subarray(from, from + length));
+        this.kernel.run(length);
       }
-      if (i < frames) {
-        const v = x[i];
-        s0 += v; sq0 += v * v;
-      }
+      this.sum[even] = sums[0]; this.sum[odd] = sums[1];
+      this.sumSquares[even] = sums[2]; this.sumSquares[odd] = sums[3];
       const peak = blockPeak[c];
-      this.sumSquares[even] = sq0; this.sumSquares[odd] = sq1;
-      this.sum[even] = s0; this.sum[odd] = s1;
       if (peak > this.peak[c]) this.peak[c] = peak;
       // Full-scale samples are rare: count them in a second pass only when the block has any.
       if (peak >= fullScale || peak > 1) this.countFullScale(c, x, frames);
