@@ -1,2 +1,4 @@
-/** The .wasm.ts text `npm run kernels` writes for a .wat file in src/analysis/kernels. */
-export function kernelModuleText(watFile: string): Promise<string>;
+/** The kernel folders: src/analysis/kernels and src/decode/kernels. */
+export const KERNEL_DIRS: string[];
+/** The .wasm.ts text `npm run kernels` writes for a .wat file (a path). */
+export function kernelModuleText(watPath: string): Promise<string>;

@@ -1,19 +1,21 @@
 #!/usr/bin/env node
-// `npm run kernels`: compiles the WebAssembly text kernels (src/analysis/kernels/*.wat) with wabt
+// `npm run kernels`: compiles the WebAssembly text kernels (src/*/kernels/*.wat) with wabt
 // and writes each as <name>.wasm.ts (the bytes in base64), so the code needs no compiler at run
 // time and the bundles carry the kernels inline. test/analysis/kernels.test.ts checks the
 // committed files are what this script writes.
 import { readdirSync, readFileSync, writeFileSync } from 'node:fs';
-import { join } from 'node:path';
+import { basename, join } from 'node:path';
 import initWabt from 'wabt';
 import { ROOT } from './bundles.js';
 
-const dir = join(ROOT, 'src', 'analysis', 'kernels');
+/** The kernel folders: src/analysis/kernels (meters) and src/decode/kernels (PCM conversion). */
+export const KERNEL_DIRS = ['analysis', 'decode'].map((layer) => join(ROOT, 'src', layer, 'kernels'));
 
-/** The .wasm.ts text for a .wat source. */
-export async function kernelModuleText(watFile) {
+/** The .wasm.ts text for a .wat source (a path). */
+export async function kernelModuleText(watPath) {
   const wabt = await initWabt();
-  const module = wabt.parseWat(watFile, readFileSync(join(dir, watFile), 'utf8'), { simd: true });
+  const watFile = basename(watPath);
+  const module = wabt.parseWat(watFile, readFileSync(watPath, 'utf8'), { simd: true });
   module.validate();
   const { buffer } = module.toBinary({});
   module.destroy();
@@ -22,9 +24,11 @@ export async function kernelModuleText(watFile) {
 }
 
 if (import.meta.url === `file://${process.argv[1]}`) {
-  for (const watFile of readdirSync(dir).filter((f) => f.endsWith('.wat'))) {
-    const target = join(dir, watFile.replace(/\.wat$/, '.wasm.ts'));
-    writeFileSync(target, await kernelModuleText(watFile));
-    console.log(`wrote ${target}`);
+  for (const dir of KERNEL_DIRS) {
+    for (const watFile of readdirSync(dir).filter((f) => f.endsWith('.wat'))) {
+      const target = join(dir, watFile.replace(/\.wat$/, '.wasm.ts'));
+      writeFileSync(target, await kernelModuleText(join(dir, watFile)));
+      console.log(`wrote ${target}`);
+    }
   }
 }

@@ -6,6 +6,7 @@ import { EarmarkError } from '../errors/index.ts';
 import { ByteReader } from './byte-reader.ts';
 import type { AudioFormat, Container, DecodedAudio, DecodeOptions, DecodeWarning } from './types.ts';
 import { DEFAULT_MAX_BLOCK_FRAMES } from './types.ts';
+import { convertS24Stereo } from './kernels/s24-stereo.ts';
 
 export const MAX_SAMPLE_RATE = 1_536_000;
 /** K-weighting's 1.68 kHz shelf needs a Nyquist frequency above it; lower rates make the meters' filters unstable (NaN). */
@@ -76,8 +77,10 @@ function fromS24(b: Uint8Array, ch: number, frames: number, out: readonly Float3
   const groups = samples >> 2;
   const w = new Int32Array(b.buffer, b.byteOffset, groups * 3);
   if (ch === 2) {
+    // Whole groups of four frames by the SIMD kernel; the rest (at most three frames) below.
     const l = out[0], r = out[1];
-    for (let g = 0, f = o0, j = 0; g < groups; g++, f += 2, j += 3) {
+    const converted = convertS24Stereo(b, frames, l, r, o0);
+    for (let g = converted / 2, f = o0 + converted, j = 3 * g; g < groups; g++, f += 2, j += 3) {
       const w0 = w[j], w1 = w[j + 1], w2 = w[j + 2];
       l[f] = ((w0 << 8) >> 8) * k;
       r[f] = ((((w0 >>> 24) | (w1 << 8)) << 8) >> 8) * k;

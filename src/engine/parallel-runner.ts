@@ -12,11 +12,11 @@ const IN_FLIGHT = 3;
 /** Cost per stereo audio minute (ms, from a CPU profile of a whole 60-minute analysis); decoding
  * and the shared envelope pass count against the thread that runs them. */
 const COST: Record<MeterName, number> = {
-  loudness: 27, timeWeighted: 9, levels: 5, truePeak: 4, channelRelations: 3, silence: 1.3, clipping: 0.4,
+  loudness: 19, timeWeighted: 10, truePeak: 5, channelRelations: 4, silence: 2, levels: 1.5, clipping: 0.5,
 };
-const ENVELOPE_COST = 9;
-/** Decoding (14) plus copying and posting each block to the worker threads (6), measured. */
-const MAIN_THREAD_DECODE_COST = 20;
+const ENVELOPE_COST = 2;
+/** Decoding (13) plus copying and posting each block to the worker threads (6), measured. */
+const MAIN_THREAD_DECODE_COST = 19;
 // From the TypeScript sources the worker loads them through tsx, as bin/run.js does for
 // entrypoints; inside the dist/ bundle (bin/build.js) it is the bundled dist/parallel-worker.mjs.
 const BUNDLED = !import.meta.url.endsWith('.ts');

@@ -5,9 +5,9 @@ import { describe, expect, it } from 'vitest';
 import { highpassCoefficients, shelfCoefficients } from '../../src/analysis/k-weighting.ts';
 import { KERNEL_FRAMES, KWeightingKernel, kWeightingLoop, type KWeightingLoop } from '../../src/analysis/kernels/k-weighting.ts';
 import { seededRandom } from '../../src/selftest/signals.ts';
-import { kernelModuleText } from '../../bin/build-kernels.js';
-
-const KERNELS = new URL('../../src/analysis/kernels/', import.meta.url);
+import { KERNEL_DIRS, kernelModuleText } from '../../bin/build-kernels.js';
+import { convertS24Stereo } from '../../src/decode/kernels/s24-stereo.ts';
+import { join } from 'node:path';
 
 /** The scalar loop the kernel replaced (one channel per loop, adding into power in channel order). */
 function scalarKWeighting(loop: KWeightingLoop, weights: number[], channels: Float32Array[], pieces: number[]): Float64Array {
@@ -53,11 +53,27 @@ function kernelKWeighting(loop: KWeightingLoop, weights: number[], channels: Flo
 
 describe('WebAssembly kernels', () => {
   it('are committed as `npm run kernels` writes them from their .wat sources', async () => {
-    const sources = readdirSync(KERNELS).filter((f) => f.endsWith('.wat'));
-    expect(sources.sort()).toEqual(['envelope.wat', 'k-weighting.wat', 'sums.wat']);
-    for (const wat of sources) {
-      expect(readFileSync(new URL(wat.replace(/\.wat$/, '.wasm.ts'), KERNELS), 'utf8')).toBe(await kernelModuleText(wat));
+    const sources = KERNEL_DIRS.flatMap((dir) => readdirSync(dir).filter((f) => f.endsWith('.wat')).map((f) => join(dir, f)));
+    expect(sources.map((p) => p.split('/').slice(-3).join('/')).sort()).toEqual([
+      'analysis/kernels/envelope.wat', 'analysis/kernels/k-weighting.wat', 'analysis/kernels/sums.wat', 'decode/kernels/s24-stereo.wat',
+    ]);
+    for (const wat of sources) expect(readFileSync(wat.replace(/\.wat$/, '.wasm.ts'), 'utf8')).toBe(await kernelModuleText(wat));
+  });
+
+  it('24-bit stereo conversion equals the scalar formula for every sample (extremes, odd counts, several calls)', () => {
+    const random = seededRandom(5);
+    const frames = 2 * 16_384 + 7;
+    const bytes = Uint8Array.from({ length: 6 * frames + 16 }, () => Math.floor(random() * 256));
+    // Full-scale extremes and zero in the first frames: 0x7fffff, -0x800000, 0, -1.
+    bytes.set([0xff, 0xff, 0x7f, 0x00, 0x00, 0x80, 0, 0, 0, 0xff, 0xff, 0xff], 0);
+    const left = new Float32Array(frames + 3), right = new Float32Array(frames + 3);
+    const done = convertS24Stereo(bytes, frames, left, right, 3);
+    expect(done).toBe(frames - (frames % 4));
+    const sample = (i: number) => (((bytes[3 * i + 2] << 24) | (bytes[3 * i + 1] << 16) | (bytes[3 * i] << 8)) >> 8) / 8_388_608;
+    for (let f = 0; f < done; f++) {
+      if (left[3 + f] !== Math.fround(sample(2 * f)) || right[3 + f] !== Math.fround(sample(2 * f + 1))) throw new Error(`frame ${f} differs`);
     }
+    expect([left[3], right[3], left[4], right[4]]).toEqual([8_388_607 / 8_388_608, -1, 0, -1 / 8_388_608]);
   });
 
   it('K-weighting equals the scalar loop bit for bit: 1, 2, 5 weighted channels (Table 3 weights), 44.1 and 48 kHz, odd pieces', () => {

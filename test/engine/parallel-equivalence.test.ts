@@ -24,10 +24,11 @@ describe('meter groups', () => {
     }
   });
 
-  it('keep the meters that read the block envelope on one thread for two threads, so its pass runs once', () => {
+  it('for two threads, put the costliest meter (loudness) beside the decoding, not on the main thread with it', () => {
     const [main, worker] = meterGroups(2);
-    expect(main).toEqual(expect.arrayContaining(['levels', 'truePeak', 'clipping', 'silence']));
-    expect(worker).toEqual(expect.arrayContaining(['loudness']));
+    expect(worker).toContain('loudness');
+    expect(main).not.toContain('loudness');
+    expect(main.length).toBeGreaterThan(0);
   });
 });
 
