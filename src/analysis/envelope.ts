@@ -5,6 +5,7 @@
 // peak from them. Skipping on a proven bound is exact: every reading stays the same.
 
 import type { PcmBlock } from './audio.ts';
+import { instantiateKernel } from './kernels/instantiate.ts';
 import { WASM_BASE64 } from './kernels/envelope.wasm.ts';
 
 /** Frames per chunk (chunk k covers block frames [32k, 32k + 32)); the last chunk may be shorter. */
@@ -26,12 +27,6 @@ const KERNEL_FRAMES = 16384;
 const KERNEL_MAX = 65536;
 const KERNEL_MIN = 67584;
 
-let compiled: WebAssembly.Module | null = null;
-function kernelModule(): WebAssembly.Module {
-  compiled ??= new WebAssembly.Module(Uint8Array.from(atob(WASM_BASE64), (c) => c.charCodeAt(0)));
-  return compiled;
-}
-
 /** Computes envelopes into buffers it reuses across blocks (one per meter or runner). */
 export class EnvelopeBuilder {
   private maxBits: Int32Array[] = [];
@@ -48,7 +43,7 @@ export class EnvelopeBuilder {
     // The scan is a WebAssembly kernel: with the sign bit cleared, float order is integer order,
     // and integer max/min run four samples per instruction (V8 does not vectorise JavaScript;
     // the same scan in JavaScript measured about four times slower).
-    const exports = new WebAssembly.Instance(kernelModule()).exports as { memory: WebAssembly.Memory; extremes: (frames: number) => void };
+    const exports = instantiateKernel<{ extremes: (frames: number) => void }>(WASM_BASE64);
     this.extremes = exports.extremes;
     this.kernelIn = new Float32Array(exports.memory.buffer, 0, KERNEL_FRAMES);
     this.kernelMax = new Int32Array(exports.memory.buffer, KERNEL_MAX, KERNEL_FRAMES / ENVELOPE_CHUNK_FRAMES);

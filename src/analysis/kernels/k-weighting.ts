@@ -4,6 +4,7 @@
 // so the power equals that loop's to the bit (test/analysis/kernels.test.ts).
 
 import type { Biquad } from '../k-weighting.ts';
+import { instantiateKernel } from './instantiate.ts';
 import { WASM_BASE64 } from './k-weighting.wasm.ts';
 
 /** Frames per kernel call; a block is filtered in pieces of at most this many. */
@@ -40,12 +41,6 @@ export function kWeightingLoop(shelf: Biquad, highpass: Biquad): KWeightingLoop 
   };
 }
 
-let compiled: WebAssembly.Module | null = null;
-function kernelModule(): WebAssembly.Module {
-  compiled ??= new WebAssembly.Module(Uint8Array.from(atob(WASM_BASE64), (c) => c.charCodeAt(0)));
-  return compiled;
-}
-
 interface KernelExports {
   memory: WebAssembly.Memory;
   filterPair(frames: number, pair: number, first: number): void;
@@ -61,7 +56,7 @@ export class KWeightingKernel {
 
   /** `weights[i]` is the BS.1770 weight of the i-th channel passed to filter(). */
   constructor(loop: KWeightingLoop, private readonly weights: readonly number[]) {
-    this.exports = new WebAssembly.Instance(kernelModule()).exports as unknown as KernelExports;
+    this.exports = instantiateKernel<KernelExports>(WASM_BASE64);
     this.pairs = Math.ceil(weights.length / 2);
     const needed = PAIRS + this.pairs * PAIR_BYTES;
     const memory = this.exports.memory;

@@ -1,18 +1,17 @@
 // 24-bit stereo PCM to planar float by the WebAssembly kernel in s24-stereo.wat (four frames per
 // step; the scalar conversion's exact values).
+import { instantiateKernel } from '../../analysis/kernels/instantiate.ts';
 import { WASM_BASE64 } from './s24-stereo.wasm.ts';
 
 /** Frames per kernel call. */
 export const S24_KERNEL_FRAMES = 16384;
 
-let compiled: WebAssembly.Module | null = null;
 let instance: { input: Uint8Array; left: Float32Array; right: Float32Array; convert: (frames: number) => void } | null = null;
 
 /** The process's one kernel instance (decoding is sequential within a thread). */
 function kernel(): NonNullable<typeof instance> {
   if (instance) return instance;
-  compiled ??= new WebAssembly.Module(Uint8Array.from(atob(WASM_BASE64), (c) => c.charCodeAt(0)));
-  const exports = new WebAssembly.Instance(compiled).exports as { memory: WebAssembly.Memory; convert: (frames: number) => void };
+  const exports = instantiateKernel<{ convert: (frames: number) => void }>(WASM_BASE64);
   const buffer = exports.memory.buffer;
   instance = {
     input: new Uint8Array(buffer, 0, 6 * S24_KERNEL_FRAMES),
