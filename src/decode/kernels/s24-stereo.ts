@@ -8,7 +8,8 @@ export const S24_KERNEL_FRAMES = 16384;
 
 let instance: { input: Uint8Array; left: Float32Array; right: Float32Array; convert: (frames: number) => void } | null = null;
 
-/** The process's one kernel instance (decoding is sequential within a thread). */
+/** One instance per thread: a conversion runs start to end in one synchronous call, so decodes that
+ * interleave at their awaits never share it mid-call. */
 function kernel(): NonNullable<typeof instance> {
   if (instance) return instance;
   const exports = instantiateKernel<{ convert: (frames: number) => void }>(WASM_BASE64);
