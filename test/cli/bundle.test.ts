@@ -1,10 +1,10 @@
 // The plain-JavaScript bundles (`npm run build`, bin/build.js) read what the TypeScript sources read,
 // including the analysis thread they start for --threads, and find the shipped schemas.
 import { spawnSync } from 'node:child_process';
-import { mkdirSync, mkdtempSync } from 'node:fs';
+import { mkdirSync, mkdtempSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { beforeAll, describe, expect, it } from 'vitest';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { writeWavFile } from '../../src/encode/wav.ts';
 import { programmeBlocks } from '../../src/selftest/signals.ts';
 
@@ -22,6 +22,11 @@ beforeAll(async () => {
   const built = spawnSync(process.execPath, ['bin/build.js', out], { encoding: 'utf8' });
   expect(built.status, built.stderr).toBe(0);
 }, 60_000);
+
+afterAll(() => {
+  rmSync(out, { recursive: true, force: true });
+  rmSync(dir, { recursive: true, force: true });
+});
 
 /** The analysis JSON without the fields that differ run to run. */
 function analysis(command: string[], args: string[]): Record<string, unknown> {
