@@ -1,6 +1,7 @@
 // The block envelope: largest and smallest |x| per 32-frame chunk of each channel, computed in
-// one pass (kernels/envelope.wat) and shared. Most samples are neither near full scale nor near silence, so the
-// clipping and silence meters skip whole chunks whose extremes prove nothing can happen there,
+// one pass (kernels/envelope.wat) and shared. Most samples are neither near full scale nor near
+// silence, so the clipping and silence meters skip whole chunks whose extremes prove nothing can
+// happen there,
 // the true-peak meter bounds its interpolation with the maxima, and the level meter takes its
 // peak from them. Skipping on a proven bound is exact: every reading stays the same.
 
