@@ -11,6 +11,7 @@
 
 import type { Meter, PcmBlock, StreamInfo } from './audio.ts';
 import { EventLog, type AnalysisEvent } from './events.ts';
+import { PairSumsKernel } from './kernels/pair-sums.ts';
 import { powerToDb } from './levels.ts';
 import { EarmarkError } from '../errors/index.ts';
 
@@ -79,6 +80,7 @@ export class ChannelRelationMeter implements Meter<ChannelRelationResult> {
   private windowStart = 0;
   private windowFill = 0;
   private finished: ChannelRelationResult | null = null;
+  private readonly pairSums = new PairSumsKernel();
 
   constructor(private readonly info: StreamInfo, options: ChannelRelationOptions = {}) {
     this.windowSeconds = options.windowSeconds ?? 3;
@@ -148,17 +150,11 @@ export class ChannelRelationMeter implements Meter<ChannelRelationResult> {
       const xb = data[b];
       let ab = this.winPairSum[k];
       if (k === 0) {
-        let aa = w[a];
-        let bb = w[b];
-        for (let i = from; i < to; i++) {
-          const p = xa[i];
-          const q = xb[i];
-          aa += p * p;
-          bb += q * q;
-          ab += p * q;
-        }
-        w[a] = aa;
-        w[b] = bb;
+        // The pair every layout has (the whole work for stereo) by the SIMD kernel.
+        const sums = this.pairSums.sums;
+        sums[0] = w[a]; sums[1] = w[b]; sums[2] = ab;
+        this.pairSums.add(xa, xb, from, to);
+        w[a] = sums[0]; w[b] = sums[1]; ab = sums[2];
       } else if (a === 0) {
         let bb = w[b];
         for (let i = from; i < to; i++) {

@@ -55,7 +55,8 @@ describe('WebAssembly kernels', () => {
   it('are committed as `npm run kernels` writes them from their .wat sources', async () => {
     const sources = KERNEL_DIRS.flatMap((dir) => readdirSync(dir).filter((f) => f.endsWith('.wat')).map((f) => join(dir, f)));
     expect(sources.map((p) => p.split('/').slice(-3).join('/')).sort()).toEqual([
-      'analysis/kernels/envelope.wat', 'analysis/kernels/k-weighting.wat', 'analysis/kernels/sums.wat', 'decode/kernels/s24-stereo.wat',
+      'analysis/kernels/envelope.wat', 'analysis/kernels/k-weighting.wat', 'analysis/kernels/pair-sums.wat', 'analysis/kernels/sums.wat',
+      'decode/kernels/s24-stereo.wat',
     ]);
     for (const wat of sources) expect(readFileSync(wat.replace(/\.wat$/, '.wasm.ts'), 'utf8')).toBe(await kernelModuleText(wat));
   });

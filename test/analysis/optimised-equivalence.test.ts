@@ -1,7 +1,7 @@
 // The optimised meters read exactly what the straightforward implementations they replaced read
 // (kept in test/helpers/reference-meters), on programme, loud-limited, clipped and gappy material
 // cut into odd block sizes.
-import { describe, it } from 'vitest';
+import { describe, expect, it } from 'vitest';
 import { defaultChannelLabels, type Meter, type StreamInfo } from '../../src/analysis/audio.ts';
 import { LevelMeter } from '../../src/analysis/levels.ts';
 import { TruePeakMeter } from '../../src/analysis/true-peak.ts';
@@ -9,6 +9,8 @@ import { LoudnessMeter } from '../../src/analysis/loudness.ts';
 import { ClippingMeter } from '../../src/analysis/clipping.ts';
 import { SilenceMeter } from '../../src/analysis/silence.ts';
 import { AnalysisRunner } from '../../src/analysis/runner.ts';
+import { ChannelRelationMeter } from '../../src/analysis/channel-relations.ts';
+import { ChannelRelationMeter as ReferenceChannelRelationMeter } from '../helpers/reference-meters/channel-relations.ts';
 import { LevelMeter as ReferenceLevelMeter } from '../helpers/reference-meters/levels.ts';
 import { TruePeakMeter as ReferenceTruePeakMeter } from '../helpers/reference-meters/true-peak.ts';
 import { LoudnessMeter as ReferenceLoudnessMeter } from '../helpers/reference-meters/loudness.ts';
@@ -40,6 +42,8 @@ const pairs: Record<string, [Maker, Maker, number]> = {
     0,
   ],
   'silence (defaults)': [(i) => new SilenceMeter(i), (i) => new ReferenceSilenceMeter(i), 0],
+  // The pair sums by the SIMD kernel: the scalar order, so the same to the bit.
+  relations: [(i) => new ChannelRelationMeter(i), (i) => new ReferenceChannelRelationMeter(i), 0],
 };
 
 describe.each([1, 2, 6])('optimised meters equal the reference implementations (%i channels)', (channels) => {
@@ -70,5 +74,19 @@ describe('the runner shares one envelope per block', () => {
       const { prunedFrames: _, ...truePeak } = together.truePeak;
       expectClose(truePeak, run(new TruePeakMeter(info), signal, sizes), 0);
     }
+  });
+});
+
+describe('channel relations on copies and antiphase', () => {
+  it('read what the scalar reference reads, bit for bit: identical, inverted and near copies, flagged windows', () => {
+    const info: StreamInfo = { sampleRate: SAMPLE_RATE, channels: 4, channelLabels: ['L', 'R', 'Ls', 'Rs'] };
+    const [left, right] = testSignals(2, 8).programme;
+    // Antiphase from 2 s to 5 s: a phase_problem stretch.
+    const antiphase = left.map((v, i) => (i > 2 * SAMPLE_RATE && i < 5 * SAMPLE_RATE ? -v : right[i]));
+    const nearCopy = left.map((v, i) => v + (i % 7 === 0 ? 1e-7 : 0));
+    const signal = [left, antiphase, Float32Array.from(left, (v) => -v), nearCopy];
+    const expected = run(new ReferenceChannelRelationMeter(info), signal, [65_536]) as { events: unknown[] };
+    expect(expected.events.length).toBeGreaterThanOrEqual(3);
+    for (const sizes of BLOCK_CUTS) expectClose(run(new ChannelRelationMeter(info), signal, sizes), expected, 0);
   });
 });
