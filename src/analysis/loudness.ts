@@ -80,17 +80,11 @@ export class LoudnessMeter implements Meter<LoudnessResult> {
   private readonly shortTermPowers: GrowableFloat64;
 
   // Per-sample sliding windows for the maxima
-  private readonly ring: Float64Array;
   private ringPos = 0;
   private readonly momentaryFrames: number;
   private readonly shortTermFrames: number;
   private momentaryPos: number;
-  private momentarySum = 0;
-  private shortTermSum = 0;
-  private maxMomentarySum = -1;
-  private maxShortTermSum = -1;
-  private maxMomentaryEndFrame = 0;
-  private maxShortTermEndFrame = 0;
+  // The window sums and maxima live in the kernel (kernel.window).
   private framesSeen = 0;
 
   // Stretches above the optional limits: [window start frame, last window end frame, max power]
@@ -103,11 +97,10 @@ export class LoudnessMeter implements Meter<LoudnessResult> {
     const weighted = info.channelLabels.map((label, channel) => ({ channel, weight: channelWeight(label) })).filter((c) => c.weight !== 0);
     this.weightedChannels = weighted.map((c) => c.channel);
     const loop = kWeightingLoop(shelfCoefficients(info.sampleRate), highpassCoefficients(info.sampleRate));
-    this.kernel = new KWeightingKernel(loop, weighted.map((c) => c.weight));
+    this.kernel = new KWeightingKernel(loop, weighted.map((c) => c.weight), Math.round(3 * info.sampleRate));
     this.nextBoundaryFrame = this.boundaryFrame(1);
     this.momentaryFrames = Math.round(0.4 * info.sampleRate);
     this.shortTermFrames = Math.round(3 * info.sampleRate);
-    this.ring = new Float64Array(this.shortTermFrames);
     // One value per 100 ms sub-block (plus one for a final partial sub-block); a header's claim
     // is trusted up to a day of audio, beyond that the series grow as they go.
     const expectedSubblocks = info.expectedFrames
@@ -133,43 +126,30 @@ export class LoudnessMeter implements Meter<LoudnessResult> {
     const channels = this.weightedChannels.map((c) => block.channelData[c]);
     for (let from = 0; from < frames; from += KERNEL_FRAMES) {
       const length = Math.min(KERNEL_FRAMES, frames - from);
-      this.slideAndAccumulate(this.kernel.filter(channels, from, length), length);
+      this.kernel.filter(channels, from, length);
+      this.slideAndAccumulate(length);
     }
   }
 
-  /** One pass over the block's power: per-sample sliding windows and the 100 ms sub-block sums. */
-  private slideAndAccumulate(power: Float64Array, frames: number): void {
-    const ring = this.ring;
-    const ringLength = ring.length;
-    const mFrames = this.momentaryFrames, sFrames = this.shortTermFrames;
+  /**
+   * The sliding windows over the kernel's power for frames [0, frames) of the last filter() call,
+   * cut at sub-block boundaries and ring wraps so the kernel's loop tests neither.
+   */
+  private slideAndAccumulate(frames: number): void {
+    const ringLength = this.shortTermFrames;
+    const window = this.kernel.window;
     let n = 0;
     while (n < frames) {
-      // Up to the next sub-block boundary or ring wrap, so the loop below tests neither.
       const pos = this.ringPos, mPos = this.momentaryPos;
       const take = Math.min(frames - n, this.nextBoundaryFrame - this.framesSeen, ringLength - pos, ringLength - mPos);
-      const end = n + take;
-      const sOffset = pos - n, mOffset = mPos - n;
-      // Frames seen once sample n is in: n + endOffset (only needed for a new maximum).
-      const endOffset = this.framesSeen - n + 1;
-      let mSum = this.momentarySum, sSum = this.shortTermSum;
-      let maxM = this.maxMomentarySum, maxS = this.maxShortTermSum;
-      let sum = 0;
-      for (; n < end; n++) {
-        const v = power[n];
-        sum += v;
-        sSum += v - ring[n + sOffset];
-        mSum += v - ring[n + mOffset];
-        ring[n + sOffset] = v;
-        if (mSum > maxM && n + endOffset >= mFrames) { maxM = mSum; this.maxMomentaryEndFrame = n + endOffset; }
-        if (sSum > maxS && n + endOffset >= sFrames) { maxS = sSum; this.maxShortTermEndFrame = n + endOffset; }
-      }
+      window[0] = 0;
+      this.kernel.slide(n, take, pos, mPos, this.framesSeen, this.momentaryFrames, this.shortTermFrames);
       this.ringPos = pos + take === ringLength ? 0 : pos + take;
       this.momentaryPos = mPos + take === ringLength ? 0 : mPos + take;
-      this.momentarySum = mSum; this.shortTermSum = sSum;
-      this.maxMomentarySum = maxM; this.maxShortTermSum = maxS;
-      this.subblockPower += sum;
+      this.subblockPower += window[0];
       this.subblockFrames += take;
       this.framesSeen += take;
+      n += take;
       if (this.framesSeen === this.nextBoundaryFrame) this.closeSubblock();
     }
   }
@@ -227,8 +207,9 @@ export class LoudnessMeter implements Meter<LoudnessResult> {
     const blocks = this.momentaryPowers.view().subarray(SUBBLOCKS_PER_MOMENTARY - 1);
     const { loudness: integratedLufs, kept } = gatedLoudness(blocks, RELATIVE_GATE_LU);
     const range = loudnessRange(this.shortTermPowers.view().subarray(SUBBLOCKS_PER_SHORT_TERM - 1));
-    const maxM = this.maxMomentarySum >= 0 ? powerToLufs(this.maxMomentarySum / this.momentaryFrames) : null;
-    const maxS = this.maxShortTermSum >= 0 ? powerToLufs(this.maxShortTermSum / this.shortTermFrames) : null;
+    const [, , , maxMomentarySum, maxShortTermSum, maxMomentaryEndFrame, maxShortTermEndFrame] = this.kernel.window;
+    const maxM = maxMomentarySum >= 0 ? powerToLufs(maxMomentarySum / this.momentaryFrames) : null;
+    const maxS = maxShortTermSum >= 0 ? powerToLufs(maxShortTermSum / this.shortTermFrames) : null;
     this.finished = {
       integratedLufs,
       loudnessRangeLu: range?.rangeLu ?? null,
@@ -236,8 +217,8 @@ export class LoudnessMeter implements Meter<LoudnessResult> {
       loudnessRangeHighLufs: range?.highLufs ?? null,
       maxMomentaryLufs: maxM,
       maxShortTermLufs: maxS,
-      maxMomentaryAtSeconds: maxM === null ? null : this.maxMomentaryEndFrame / this.sampleRate,
-      maxShortTermAtSeconds: maxS === null ? null : this.maxShortTermEndFrame / this.sampleRate,
+      maxMomentaryAtSeconds: maxM === null ? null : maxMomentaryEndFrame / this.sampleRate,
+      maxShortTermAtSeconds: maxS === null ? null : maxShortTermEndFrame / this.sampleRate,
       // Converted in place (the powers are not needed again): no second copy of a long series.
       momentaryLufs: toLufsInPlace(this.momentaryPowers.view()),
       shortTermLufs: toLufsInPlace(this.shortTermPowers.view()),

@@ -39,7 +39,7 @@ function scalarKWeighting(loop: KWeightingLoop, weights: number[], channels: Flo
 }
 
 function kernelKWeighting(loop: KWeightingLoop, weights: number[], channels: Float32Array[], pieces: number[]): Float64Array {
-  const kernel = new KWeightingKernel(loop, weights);
+  const kernel = new KWeightingKernel(loop, weights, 144_000);
   const frames = channels[0].length;
   const power = new Float64Array(frames);
   let from = 0;
@@ -95,7 +95,7 @@ describe('WebAssembly kernels', () => {
 
   it('K-weighting with no weighted channel (LFE only) gives zero power', () => {
     const loop = kWeightingLoop(shelfCoefficients(48_000), highpassCoefficients(48_000));
-    const power = new KWeightingKernel(loop, []).filter([], 0, 100);
+    const power = new KWeightingKernel(loop, [], 144_000).filter([], 0, 100);
     expect(power.length).toBe(100);
     expect(power.every((p) => p === 0)).toBe(true);
   });

@@ -13,7 +13,8 @@ const IN_A = 0;
 const IN_B = 65536;
 const POWER = 131072;
 const COEF = 262144;
-const PAIRS = 262208;
+const WINDOW = 262208;
+const PAIRS = 262272;
 const PAIR_BYTES = 80;
 const PAGE_BYTES = 65536;
 
@@ -44,9 +45,11 @@ export function kWeightingLoop(shelf: Biquad, highpass: Biquad): KWeightingLoop 
 interface KernelExports {
   memory: WebAssembly.Memory;
   filterPair(frames: number, pair: number, first: number): void;
+  slide(from: number, count: number, ring: number, sPos: number, mPos: number, seen: number, mFrames: number, sFrames: number): void;
 }
 
-/** Filter state for a fixed set of channels; one instance (and one 400 KB memory) per meter. */
+/** Filter and sliding-window state for a fixed set of channels; one instance (and its own
+ * memory, 400 KB plus the 3 s ring) per meter. */
 export class KWeightingKernel {
   private readonly exports: KernelExports;
   private readonly pairs: number;
@@ -54,17 +57,27 @@ export class KWeightingKernel {
   private readonly inB: Float32Array;
   private readonly power: Float64Array;
 
-  /** `weights[i]` is the BS.1770 weight of the i-th channel passed to filter(). */
-  constructor(loop: KWeightingLoop, private readonly weights: readonly number[]) {
+  /** The sliding windows' state: [sum, mSum, sSum, maxM, maxS, maxMEnd, maxSEnd]. */
+  readonly window: Float64Array;
+  private readonly ringOffset: number;
+
+  /**
+   * `weights[i]` is the BS.1770 weight of the i-th channel passed to filter(); `ringFrames` the
+   * length of the sliding windows' power history (the 3 s window).
+   */
+  constructor(loop: KWeightingLoop, private readonly weights: readonly number[], ringFrames: number) {
     this.exports = instantiateKernel<KernelExports>(WASM_BASE64);
     this.pairs = Math.ceil(weights.length / 2);
-    const needed = PAIRS + this.pairs * PAIR_BYTES;
+    this.ringOffset = Math.ceil((PAIRS + this.pairs * PAIR_BYTES) / 64) * 64;
+    const needed = this.ringOffset + ringFrames * 8;
     const memory = this.exports.memory;
     if (memory.buffer.byteLength < needed) memory.grow(Math.ceil((needed - memory.buffer.byteLength) / PAGE_BYTES));
     const buffer = memory.buffer;
     this.inA = new Float32Array(buffer, IN_A, KERNEL_FRAMES);
     this.inB = new Float32Array(buffer, IN_B, KERNEL_FRAMES);
     this.power = new Float64Array(buffer, POWER, KERNEL_FRAMES);
+    this.window = new Float64Array(buffer, WINDOW, 7);
+    this.window.set([0, 0, 0, -1, -1, 0, 0]);
     new Float64Array(buffer, COEF, 7).set([loop.c1, loop.c2, loop.a1, loop.a2, loop.h1, loop.ha1, loop.ha2]);
     for (let k = 0; k < this.pairs; k++) {
       const pair = new Float64Array(buffer, PAIRS + k * PAIR_BYTES, PAIR_BYTES / 8);
@@ -88,5 +101,14 @@ export class KWeightingKernel {
       this.exports.filterPair(frames, k, k === 0 ? 1 : 0);
     }
     return this.power.subarray(0, frames);
+  }
+
+  /**
+   * Slides the windows over power[from, from + count) of the last filter() call: ring positions
+   * sPos (write, and what leaves the 3 s window) and mPos (what leaves the 400 ms window) must not
+   * wrap within count; `seen` is the frames seen before `from`. Updates `window`.
+   */
+  slide(from: number, count: number, sPos: number, mPos: number, seen: number, mFrames: number, sFrames: number): void {
+    this.exports.slide(from, count, this.ringOffset, sPos, mPos, seen, mFrames, sFrames);
   }
 }
