@@ -13,7 +13,7 @@ const IN_FLIGHT = 3;
  * the 60-minute benchmark file; decoding and the shared envelope pass count against the thread
  * that runs them. */
 const COST: Record<MeterName, number> = {
-  loudness: 21, timeWeighted: 10, truePeak: 5, channelRelations: 4, silence: 2, levels: 1.5, clipping: 0.5,
+  loudness: 19, timeWeighted: 10, truePeak: 5, channelRelations: 2.5, silence: 2, levels: 1.5, clipping: 0.5,
 };
 const ENVELOPE_COST = 2;
 /** Decoding (9) plus copying and posting each block to the worker threads (2). */
