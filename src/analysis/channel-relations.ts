@@ -80,7 +80,8 @@ export class ChannelRelationMeter implements Meter<ChannelRelationResult> {
   private windowStart = 0;
   private windowFill = 0;
   private finished: ChannelRelationResult | null = null;
-  private readonly pairSums = new PairSumsKernel();
+  /** Made on first use: a mono stream has no pair. */
+  private pairSums: PairSumsKernel | null = null;
 
   constructor(private readonly info: StreamInfo, options: ChannelRelationOptions = {}) {
     this.windowSeconds = options.windowSeconds ?? 3;
@@ -151,9 +152,10 @@ export class ChannelRelationMeter implements Meter<ChannelRelationResult> {
       let ab = this.winPairSum[k];
       if (k === 0) {
         // The pair every layout has (the whole work for stereo) by the SIMD kernel.
-        const sums = this.pairSums.sums;
+        const kernel = (this.pairSums ??= new PairSumsKernel());
+        const sums = kernel.sums;
         sums[0] = w[a]; sums[1] = w[b]; sums[2] = ab;
-        this.pairSums.add(xa, xb, from, to);
+        kernel.add(xa, xb, from, to);
         w[a] = sums[0]; w[b] = sums[1]; ab = sums[2];
       } else if (a === 0) {
         let bb = w[b];

@@ -28,6 +28,29 @@ const KERNEL_FRAMES = 16384;
 const KERNEL_MAX = 65536;
 const KERNEL_MIN = 67584;
 
+interface EnvelopeKernel {
+  extremes(frames: number): void;
+  input: Float32Array;
+  max: Int32Array;
+  min: Int32Array;
+}
+
+/**
+ * The scan is a WebAssembly kernel: with the sign bit cleared, float order is integer order, and
+ * integer max/min run four samples per instruction (V8 does not vectorise JavaScript; the same
+ * scan in JavaScript measured about four times slower).
+ */
+function envelopeKernel(): EnvelopeKernel {
+  const exports = instantiateKernel<{ extremes: (frames: number) => void }>(WASM_BASE64);
+  const buffer = exports.memory.buffer;
+  return {
+    extremes: exports.extremes,
+    input: new Float32Array(buffer, 0, KERNEL_FRAMES),
+    max: new Int32Array(buffer, KERNEL_MAX, KERNEL_FRAMES / ENVELOPE_CHUNK_FRAMES),
+    min: new Int32Array(buffer, KERNEL_MIN, KERNEL_FRAMES / ENVELOPE_CHUNK_FRAMES),
+  };
+}
+
 /** Computes envelopes into buffers it reuses across blocks (one per meter or runner). */
 export class EnvelopeBuilder {
   private maxBits: Int32Array[] = [];
@@ -35,21 +58,8 @@ export class EnvelopeBuilder {
   private maxAbs: Float32Array[] = [];
   private minAbs: Float32Array[] = [];
   private blockMaxAbs = new Float64Array(0);
-  private readonly extremes: (frames: number) => void;
-  private readonly kernelIn: Float32Array;
-  private readonly kernelMax: Int32Array;
-  private readonly kernelMin: Int32Array;
-
-  constructor() {
-    // The scan is a WebAssembly kernel: with the sign bit cleared, float order is integer order,
-    // and integer max/min run four samples per instruction (V8 does not vectorise JavaScript;
-    // the same scan in JavaScript measured about four times slower).
-    const exports = instantiateKernel<{ extremes: (frames: number) => void }>(WASM_BASE64);
-    this.extremes = exports.extremes;
-    this.kernelIn = new Float32Array(exports.memory.buffer, 0, KERNEL_FRAMES);
-    this.kernelMax = new Int32Array(exports.memory.buffer, KERNEL_MAX, KERNEL_FRAMES / ENVELOPE_CHUNK_FRAMES);
-    this.kernelMin = new Int32Array(exports.memory.buffer, KERNEL_MIN, KERNEL_FRAMES / ENVELOPE_CHUNK_FRAMES);
-  }
+  /** Made on the first build(): a meter inside the runner is handed the runner's envelope. */
+  private kernel: EnvelopeKernel | null = null;
 
   /** The block's own envelope when the runner attached one, else computed here. */
   of(block: PcmBlock): BlockEnvelope {
@@ -60,15 +70,16 @@ export class EnvelopeBuilder {
     const channels = block.channelData.length;
     const chunks = Math.ceil(block.frames / ENVELOPE_CHUNK_FRAMES);
     if (this.maxBits.length !== channels || this.maxBits[0].length < chunks) this.allocate(channels, chunks);
+    const kernel = (this.kernel ??= envelopeKernel());
     for (let c = 0; c < channels; c++) {
       const x = block.channelData[c];
       for (let from = 0; from < block.frames; from += KERNEL_FRAMES) {
         const frames = Math.min(KERNEL_FRAMES, block.frames - from);
         const pieceChunks = Math.ceil(frames / ENVELOPE_CHUNK_FRAMES);
-        this.kernelIn.set(x.subarray(from, from + frames));
-        this.extremes(frames);
-        this.maxBits[c].set(this.kernelMax.subarray(0, pieceChunks), from / ENVELOPE_CHUNK_FRAMES);
-        this.minBits[c].set(this.kernelMin.subarray(0, pieceChunks), from / ENVELOPE_CHUNK_FRAMES);
+        kernel.input.set(x.subarray(from, from + frames));
+        kernel.extremes(frames);
+        this.maxBits[c].set(kernel.max.subarray(0, pieceChunks), from / ENVELOPE_CHUNK_FRAMES);
+        this.minBits[c].set(kernel.min.subarray(0, pieceChunks), from / ENVELOPE_CHUNK_FRAMES);
       }
       let blockMax = 0;
       const maxAbs = this.maxAbs[c];
