@@ -157,7 +157,9 @@ export function streamPcm(plan: PcmPlan, openReader: () => Promise<ByteReader>, 
       const buffers = Array.from({ length: channels }, () => new Float32Array(Math.min(maxBlockFrames, framesLeft)));
       while (framesLeft > 0 && !ended) {
         const blockFrames = Math.min(maxBlockFrames, framesLeft);
-        const channelData = blockFrames === buffers[0].length ? buffers : buffers.map((a) => a.subarray(0, blockFrames));
+        const offered = options.blockArrays?.();
+        const target = offered && offered.length === channels && offered[0].length >= blockFrames ? offered : buffers;
+        const channelData = blockFrames === target[0].length ? target : target.map((a) => a.subarray(0, blockFrames));
         let filled = 0;
         while (filled < blockFrames) {
           const wantFrames = Math.min(blockFrames - filled, framesPerRead);

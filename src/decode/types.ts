@@ -47,6 +47,12 @@ export interface DecodedAudio {
 export interface DecodeOptions {
   /** Largest block handed to meters (frames). Default 65536. */
   maxBlockFrames?: number;
+  /**
+   * Arrays to decode the next block into, offered by the consumer (the parallel runner's shared
+   * ring) to save a copy; asked once per block, null for the decoder's own. Only the PCM streamer
+   * writes in place; other decoders ignore it.
+   */
+  blockArrays?: () => readonly Float32Array[] | null;
   /** Cap on decoded PCM bytes (as float32) for decoders that cannot stream. Default 2 GiB. */
   maxDecodedBytes?: number;
 }

@@ -8,7 +8,7 @@ import { setImmediate as nextTurn } from 'node:timers/promises';
 import { AnalysisRunner, type AnalysisOptions, type Measurements } from '../analysis/runner.ts';
 import { ParallelAnalysisRunner } from './parallel-runner.ts';
 import { openAudioFile } from '../decode/index.ts';
-import type { DecodeOptions } from '../decode/types.ts';
+import { DEFAULT_MAX_BLOCK_FRAMES, type DecodeOptions } from '../decode/types.ts';
 import { EarmarkError } from '../errors/index.ts';
 import { buildAnalysisDocument, type AnalysisDocument } from './document.ts';
 
@@ -35,14 +35,18 @@ async function sha256File(path: string): Promise<string> {
 export async function analyzeFile(path: string, options: AnalyzeFileOptions = {}): Promise<AnalysisDocument> {
   const started = performance.now();
   const hashing = options.hash === false ? Promise.resolve(undefined) : sha256File(path).catch(() => undefined);
-  const decoded = await openAudioFile(path, options.decode);
+  // With threads the decoder writes each block straight into the runner's shared ring.
+  let runner: AnalysisRunner | ParallelAnalysisRunner | null = null;
+  const blockArrays = () => (runner instanceof ParallelAnalysisRunner ? runner.nextBlockArrays() : null);
+  const decoded = await openAudioFile(path, { ...options.decode, blockArrays });
   const { format } = decoded;
   const info = {
     sampleRate: format.sampleRate, channels: format.channels, channelLabels: format.channelLabels,
     ...(format.frames ? { expectedFrames: format.frames } : {}),
   };
   const threads = options.threads ?? 1;
-  const runner = threads > 1 ? new ParallelAnalysisRunner(info, options.analysis, threads) : new AnalysisRunner(info, options.analysis);
+  const maxBlockFrames = options.decode?.maxBlockFrames ?? DEFAULT_MAX_BLOCK_FRAMES;
+  runner = threads > 1 ? new ParallelAnalysisRunner(info, options.analysis, threads, { maxBlockFrames }) : new AnalysisRunner(info, options.analysis);
   let measurements: Measurements;
   try {
     const expectedFrames = format.frames ?? 0;

@@ -1,43 +1,43 @@
-// The analysis split across threads by whole meters: the main thread runs one group, each worker
-// thread another, on copies of the same blocks in the same order. Every meter is the serial
-// meter, so the merged Measurements equal the serial AnalysisRunner's exactly (no cross-thread
-// arithmetic). At most IN_FLIGHT blocks wait per worker, so memory stays flat with duration.
+// The analysis split across threads by whole meters: the main thread decodes, builds each block's
+// envelope and runs one group; each worker thread runs another group on the same blocks, read in
+// place from a shared ring (block-ring.ts). Every meter is the serial meter, so the merged
+// Measurements equal the serial AnalysisRunner's exactly (no cross-thread arithmetic). The ring
+// has a fixed number of slots, so memory stays flat with duration.
 import { Worker } from 'node:worker_threads';
 import type { PcmBlock, StreamInfo } from '../analysis/audio.ts';
-import { AnalysisRunner, ENVELOPE_METERS, METER_NAMES, type AnalysisOptions, type Measurements, type MeterName } from '../analysis/runner.ts';
+import { AnalysisRunner, METER_NAMES, type AnalysisOptions, type Measurements, type MeterName } from '../analysis/runner.ts';
 import { EarmarkError } from '../errors/index.ts';
-import type { FromWorker, ToWorker } from './parallel-worker.ts';
+import { EnvelopeBuilder } from '../analysis/envelope.ts';
+import { BlockRing, createRing } from './block-ring.ts';
+import type { FromWorker, MeterThreadData } from './parallel-worker.ts';
 
-const IN_FLIGHT = 3;
-/** Cost per stereo audio minute (ms), measured as each thread's busy time in a two-thread run of
- * the 60-minute benchmark file; decoding and the shared envelope pass count against the thread
- * that runs them. */
+/** The decoders' default largest block (decode/types.ts DEFAULT_MAX_BLOCK_FRAMES). */
+const DEFAULT_RING_FRAMES = 65536;
+/** Cost per stereo audio minute (ms), each meter's time in a one-thread run of the 60-minute
+ * benchmark file. */
 const COST: Record<MeterName, number> = {
-  loudness: 19, timeWeighted: 10, truePeak: 5, channelRelations: 2.5, silence: 2, levels: 1.5, clipping: 0.5,
+  loudness: 18, timeWeighted: 6, truePeak: 5.3, channelRelations: 4.5, levels: 2.6, silence: 2.3, clipping: 0.5,
 };
-const ENVELOPE_COST = 2;
-/** Decoding (9) plus copying and posting each block to the worker threads (2). */
-const MAIN_THREAD_DECODE_COST = 11;
+/** The main thread decodes into the ring (10.5) and builds the shared envelope (2). */
+const MAIN_THREAD_COST = 12.5;
+/** A worker's first meter reads each block from the other core's cache: measured as about 1.5. */
+const WORKER_THREAD_COST = 1.5;
 // From the TypeScript sources the worker loads them through tsx, as bin/run.js does for
 // entrypoints; inside the dist/ bundle (bin/build.js) it is the bundled dist/parallel-worker.mjs.
 const BUNDLED = !import.meta.url.endsWith('.ts');
-function startWorker(workerData: unknown): Worker {
+function startWorker(workerData: MeterThreadData): Worker {
   if (BUNDLED) return new Worker(new URL('./parallel-worker.mjs', import.meta.url), { workerData });
   const boot = `import(${JSON.stringify(import.meta.resolve('tsx/esm/api'))})
   .then(({ register }) => { register(); return import(${JSON.stringify(new URL('./parallel-worker.ts', import.meta.url).href)}); })`;
   return new Worker(boot, { eval: true, workerData });
 }
 
-/** Load of each thread for an assignment of meters to threads (thread 0 also decodes). */
+/** Load of each thread for an assignment of meters to threads (thread 0 is the main thread). */
 function loads(assignment: number[], threads: number): number[] {
-  const load = Array.from({ length: threads }, (_, i) => (i === 0 ? MAIN_THREAD_DECODE_COST : 0));
-  const hasEnvelope = new Array<boolean>(threads).fill(false);
-  METER_NAMES.forEach((name, m) => {
-    const t = assignment[m];
-    load[t] += COST[name];
-    if (ENVELOPE_METERS.includes(name) && !hasEnvelope[t]) { hasEnvelope[t] = true; load[t] += ENVELOPE_COST; }
-  });
-  return load;
+  const load = Array.from({ length: threads }, (_, i) => (i === 0 ? MAIN_THREAD_COST : 0));
+  METER_NAMES.forEach((name, m) => { load[assignment[m]] += COST[name]; });
+  // A worker thread with no meters is not started (meterGroups drops it).
+  return load.map((l, t) => (t > 0 && l > 0 ? l + WORKER_THREAD_COST : l));
 }
 
 /** More threads than this cannot shorten the run: loudness alone is over a quarter of the work. */
@@ -62,75 +62,84 @@ export function meterGroups(threads: number): MeterName[][] {
 
 class MeterThread {
   private readonly worker: Worker;
-  private readonly free: ArrayBuffer[][] = [];
-  private inFlight = 0;
-  private waiting: (() => void) | null = null;
-  private finished: ((result: Record<string, unknown>) => void) | null = null;
+  private result_: Record<string, unknown> | null = null;
   private failure: Error | null = null;
+  private settled: (() => void) | null = null;
 
-  constructor(info: StreamInfo, options: AnalysisOptions, meters: MeterName[]) {
-    this.worker = startWorker({ info, options, meters });
+  constructor(info: StreamInfo, options: AnalysisOptions, meters: MeterName[], ring: BlockRing, readonly reader: number) {
+    const data: MeterThreadData = { info, options, meters, ring: ring.shape, reader };
+    this.worker = startWorker(data);
+    const wake = () => { ring.wakeWriter(reader); this.settled?.(); };
     this.worker.on('message', (message: FromWorker) => {
-      if (message.type === 'done-block') { this.inFlight--; this.free.push(message.buffers); }
-      else if (message.type === 'result') this.finished?.(message.result);
+      if (message.type === 'result') this.result_ = message.result;
       else this.fail(new Error(message.message));
-      this.wake();
+      wake();
     });
-    this.worker.on('error', (error) => { this.fail(error); this.wake(); });
+    this.worker.on('error', (error) => { this.fail(error); wake(); });
+    this.worker.on('exit', (code) => { if (!this.result_) this.fail(new Error(`exited with code ${code} before its result`)); wake(); });
   }
 
   private fail(error: Error): void { this.failure ??= error; }
-  private wake(): void { const w = this.waiting; this.waiting = null; w?.(); }
-  private check(): void {
+
+  /** Throws if the thread failed. */
+  readonly check = (): void => {
     if (this.failure) throw new EarmarkError('internal_error', `an analysis thread failed: ${this.failure.message}`);
-  }
+  };
 
-  /** Copies the block into buffers the worker owns until it hands them back. */
-  async send(block: PcmBlock): Promise<void> {
-    while (this.inFlight >= IN_FLIGHT && !this.failure) await new Promise<void>((r) => { this.waiting = r; });
-    this.check();
-    let buffers = this.free.pop();
-    if (!buffers || buffers[0].byteLength < block.frames * 4) {
-      buffers = block.channelData.map(() => new ArrayBuffer(block.frames * 4));
-    }
-    buffers.forEach((b, c) => new Float32Array(b, 0, block.frames).set(block.channelData[c].subarray(0, block.frames)));
-    this.inFlight++;
-    this.worker.postMessage({ type: 'block', frames: block.frames, buffers } satisfies ToWorker, buffers);
-  }
-
+  /** The thread's results, once the ring is finished. */
   async result(): Promise<Record<string, unknown>> {
+    while (!this.result_ && !this.failure) await new Promise<void>((resolve) => { this.settled = resolve; });
     this.check();
-    const result = new Promise<Record<string, unknown>>((resolve) => { this.finished = resolve; });
-    this.worker.postMessage({ type: 'end' } satisfies ToWorker);
-    // Either the result arrives or a failure wakes us.
-    while (!this.failure) {
-      const woken = new Promise<'woken'>((r) => { this.waiting = () => r('woken'); });
-      if ((await Promise.race([result, woken])) !== 'woken') return result;
-    }
-    this.check();
-    return result;
+    return this.result_!;
   }
 
   close(): Promise<number> { return this.worker.terminate(); }
 }
 
+export interface ParallelRunnerOptions {
+  /** Largest block that will be pushed (the decoder's maxBlockFrames); sizes the shared ring. */
+  maxBlockFrames?: number;
+}
+
 export class ParallelAnalysisRunner {
   private readonly main: AnalysisRunner;
   private readonly threads: MeterThread[];
+  private readonly ring: BlockRing | null;
+  private readonly envelopes: EnvelopeBuilder;
+  private pushed = 0;
 
-  constructor(readonly info: StreamInfo, options: AnalysisOptions = {}, threads = 2) {
+  constructor(readonly info: StreamInfo, options: AnalysisOptions = {}, threads = 2, { maxBlockFrames = DEFAULT_RING_FRAMES }: ParallelRunnerOptions = {}) {
     const [mine, ...theirs] = meterGroups(Math.max(1, Math.floor(threads)));
     this.main = new AnalysisRunner(info, options, mine);
-    this.threads = theirs.map((group) => new MeterThread(info, options, group));
+    // The envelope is built once, here, and shared with every thread through the ring.
+    this.envelopes = new EnvelopeBuilder();
+    this.ring = theirs.length ? new BlockRing(createRing(info.channels, maxBlockFrames, true)) : null;
+    this.threads = theirs.map((group, reader) => new MeterThread(info, options, group, this.ring!, reader));
+  }
+
+  /** Where the next block may be decoded in place (saves one copy), or null. */
+  nextBlockArrays(): readonly Float32Array[] | null {
+    return this.ring?.channelDataFor(this.pushed) ?? null;
   }
 
   async push(block: PcmBlock): Promise<void> {
-    // Hand the block out first, so the workers run while this thread runs its own meters.
-    for (const thread of this.threads) await thread.send(block);
-    this.main.push(block);
+    if (block.channelData.length !== this.info.channels) {
+      throw new RangeError(`block has ${block.channelData.length} channels, stream has ${this.info.channels}`);
+    }
+    const envelope = this.envelopes.build(block);
+    const shared: PcmBlock = { ...block, envelope };
+    // Publish first, so the meter threads run while this thread runs its own meters.
+    this.ring?.publish(this.pushed, block, envelope);
+    this.pushed++;
+    this.main.push(shared);
+    // The next block's slot must be free before anyone writes it (the decoder may write it in place).
+    await this.ring?.waitWritable(this.pushed, this.threads.length, this.checkThreads);
   }
 
+  private readonly checkThreads = (): void => { for (const t of this.threads) t.check(); };
+
   async result(): Promise<Measurements> {
+    this.ring?.finish();
     const parts = [this.main.partialResult(), ...(await Promise.all(this.threads.map((t) => t.result())))] as Partial<Measurements>[];
     const merged: Record<string, unknown> = { frames: parts[0].frames };
     // Fields in the serial runner's order, so documents serialise identically.
@@ -139,6 +148,7 @@ export class ParallelAnalysisRunner {
   }
 
   async close(): Promise<void> {
+    this.ring?.finish(true);
     await Promise.all(this.threads.map((t) => t.close()));
   }
 }

@@ -1,29 +1,34 @@
-// Worker thread of the parallel runner: runs its group of whole meters on the blocks it is sent,
-// hands each block's buffers back for reuse, and posts the group's results at the end.
+// Worker thread of the parallel runner: runs its group of whole meters on each block of the shared
+// ring in turn, releases the block, and posts the group's results once the stream has ended.
+// It sleeps on the ring between blocks (no event-loop turn per block).
 import { parentPort, workerData } from 'node:worker_threads';
 import type { StreamInfo } from '../analysis/audio.ts';
 import { AnalysisRunner, type AnalysisOptions, type MeterName } from '../analysis/runner.ts';
+import { BlockRing, type RingShape } from './block-ring.ts';
 
-export type ToWorker = { type: 'block'; frames: number; buffers: ArrayBuffer[] } | { type: 'end' };
+export interface MeterThreadData {
+  info: StreamInfo;
+  options: AnalysisOptions;
+  meters: MeterName[];
+  ring: RingShape;
+  /** This thread's index among the ring's readers. */
+  reader: number;
+}
+
 export type FromWorker =
-  | { type: 'done-block'; buffers: ArrayBuffer[] }
   | { type: 'result'; result: Record<string, unknown> }
   | { type: 'error'; message: string };
 
-const { info, options, meters } = workerData as { info: StreamInfo; options: AnalysisOptions; meters: MeterName[] };
-const runner = new AnalysisRunner(info, options, meters);
+const { info, options, meters, ring: shape, reader } = workerData as MeterThreadData;
 const port = parentPort!;
-
-port.on('message', (message: ToWorker) => {
-  try {
-    if (message.type === 'block') {
-      const channelData = message.buffers.map((b) => new Float32Array(b, 0, message.frames));
-      runner.push({ channelData, frames: message.frames });
-      port.postMessage({ type: 'done-block', buffers: message.buffers } satisfies FromWorker, message.buffers);
-    } else {
-      port.postMessage({ type: 'result', result: runner.partialResult() } satisfies FromWorker);
-    }
-  } catch (error) {
-    port.postMessage({ type: 'error', message: error instanceof Error ? error.message : String(error) } satisfies FromWorker);
+try {
+  const runner = new AnalysisRunner(info, options, meters);
+  const ring = new BlockRing(shape);
+  for (let index = 0; ring.waitReadable(index); index++) {
+    runner.push(ring.block(index));
+    ring.release(reader, index);
   }
-});
+  if (!ring.cancelled) port.postMessage({ type: 'result', result: runner.partialResult() } satisfies FromWorker);
+} catch (error) {
+  port.postMessage({ type: 'error', message: error instanceof Error ? error.message : String(error) } satisfies FromWorker);
+}
