@@ -9,6 +9,7 @@
 
 import type { Meter, PcmBlock, StreamInfo } from './audio.ts';
 import { amplitudeToDb, powerToDb } from './levels.ts';
+import { BALLISTICS_CHUNK_FRAMES, BALLISTICS_KERNEL_FRAMES, BallisticsKernel, type BallisticsPoles } from './kernels/ballistics.ts';
 
 export const FAST_TIME_CONSTANT_SECONDS = 0.125;
 export const SLOW_TIME_CONSTANT_SECONDS = 1;
@@ -60,7 +61,8 @@ export interface CurrentTimeWeightedLevels {
  *   y_N   = a^N y_0 + h,              h = sum_j a^(N-1-j) u_j
  *   vu2_N = a^N vu2_0 + N a^N vu1_0 + g,   g = sum_j (N-j) a^(N-1-j) |x_j|
  * h and g are evaluated two samples a step (Horner in a^2), so their dependency chains are half as
- * long as the recurrence's. Because u >= 0 and a^(N-1-j) <= 1, no state inside the chunk can exceed
+ * long as the recurrence's, by a WebAssembly kernel (kernels/ballistics.wat) that does two channels
+ * at once with the same operations in the same order. Because u >= 0 and a^(N-1-j) <= 1, no state inside the chunk can exceed
  *   y_n <= y_0 + sum_j u_j <= y_0 + h / a^(N-1)                       (Fast, Slow, vu1: call it B)
  *   vu2_n = a^n vu2_0 + sum_k a^(n-k) vu1_k <= vu2_0 + (1 - a^N) max(0, B / (1 - a) - vu2_0).
  * When none of these bounds passes its running maximum, no sample of the chunk sets a new maximum
@@ -68,7 +70,7 @@ export interface CurrentTimeWeightedLevels {
  * chunk runs sample by sample. The closed form adds nonnegative terms, so it agrees with the
  * per-sample recurrence to a few dozen ulps, and SLACK covers the rounding of h in the bounds.
  */
-const CHUNK = 64;
+const CHUNK = BALLISTICS_CHUNK_FRAMES;
 const SLACK = 1 + 1e-12;
 
 export class TimeWeightedLevelMeter implements Meter<TimeWeightedLevelResult> {
@@ -90,6 +92,13 @@ export class TimeWeightedLevelMeter implements Meter<TimeWeightedLevelResult> {
   private readonly maxFast: Float64Array;
   private readonly maxSlow: Float64Array;
   private readonly maxVu: Float64Array;
+  private readonly poles: BallisticsPoles;
+  private readonly closedForm: {
+    afN: number; asN: number; avN: number; nAvN: number;
+    fastGrowth: number; slowGrowth: number; vuGrowth: number; vuSteady: number; vuRise: number;
+  };
+  /** Made on the first push (a runner thread that never gets this meter makes none). */
+  private kernel: BallisticsKernel | null = null;
 
   constructor(private readonly info: StreamInfo, options: TimeWeightedLevelOptions = {}) {
     const fs = info.sampleRate;
@@ -102,6 +111,13 @@ export class TimeWeightedLevelMeter implements Meter<TimeWeightedLevelResult> {
     this.fastPole = 1 - this.fastGain;
     this.slowPole = 1 - this.slowGain;
     this.vuPole = 1 - this.vuGain;
+    const af = this.fastPole, as = this.slowPole, av = this.vuPole;
+    this.poles = { fast: af, fast2: af * af, slow: as, slow2: as * as, vu: av, vu2: av * av, twoVu2: 2 * (av * av) };
+    this.closedForm = {
+      afN: af ** CHUNK, asN: as ** CHUNK, avN: av ** CHUNK, nAvN: CHUNK * av ** CHUNK,
+      fastGrowth: SLACK / af ** (CHUNK - 1), slowGrowth: SLACK / as ** (CHUNK - 1), vuGrowth: SLACK / av ** (CHUNK - 1),
+      vuSteady: 1 / (1 - av), vuRise: 1 - av ** CHUNK,
+    };
     const n = info.channels;
     this.fast = new Float64Array(n);
     this.slow = new Float64Array(n);
@@ -114,68 +130,107 @@ export class TimeWeightedLevelMeter implements Meter<TimeWeightedLevelResult> {
 
   push(block: PcmBlock): void {
     const frames = block.frames;
-    const af = this.fastPole, as = this.slowPole, av = this.vuPole;
-    const af2 = af * af, as2 = as * as, av2 = av * av, twoAv2 = 2 * av2;
-    const afN = af ** CHUNK, asN = as ** CHUNK, avN = av ** CHUNK, nAvN = CHUNK * avN;
-    const fastGrowth = SLACK / af ** (CHUNK - 1), slowGrowth = SLACK / as ** (CHUNK - 1), vuGrowth = SLACK / av ** (CHUNK - 1);
-    const vuSteady = 1 / (1 - av), vuRise = 1 - avN;
-    for (let c = 0; c < this.info.channels; c++) {
-      const x = block.channelData[c];
-      let fast = this.fast[c], slow = this.slow[c], vu1 = this.vu1[c], vu2 = this.vu2[c];
-      let maxFast = this.maxFast[c], maxSlow = this.maxSlow[c], maxVu = this.maxVu[c];
-      for (let i = 0; i < frames;) {
-        const end = i + CHUNK;
-        if (end <= frames) {
-          let hf = 0, hs = 0, hv = 0, gv = 0;
-          for (let j = i; j < end; j += 2) {
-            const x0 = x[j], x1 = x[j + 1];
-            const q0 = x0 * x0, q1 = x1 * x1;
-            const r0 = Math.abs(x0), r1 = Math.abs(x1);
-            hf = af2 * hf + (af * q0 + q1);
-            hs = as2 * hs + (as * q0 + q1);
-            const ar0 = av * r0, p = ar0 + r1;
-            gv = av2 * gv + (twoAv2 * hv + (ar0 + p));
-            hv = av2 * hv + p;
-          }
-          // The bounds above; a chunk that cannot set a new maximum jumps to its end state.
-          const vu1Bound = vu1 + hv * vuGrowth;
-          const vu2Excess = vu1Bound * vuSteady - vu2;
-          if (fast + hf * fastGrowth <= maxFast && slow + hs * slowGrowth <= maxSlow
-            && vu2 + (vu2Excess > 0 ? vuRise * vu2Excess : 0) <= maxVu) {
-            fast = afN * fast + hf;
-            slow = asN * slow + hs;
-            vu2 = avN * vu2 + nAvN * vu1 + gv;
-            vu1 = avN * vu1 + hv;
-            i = end;
-            continue;
-          }
+    const whole = frames - (frames % CHUNK);
+    const kernel = (this.kernel ??= new BallisticsKernel(this.poles));
+    const channels = this.info.channels;
+    for (let c = 0; c < channels; c += 2) {
+      const a = block.channelData[c];
+      if (c + 1 < channels) {
+        // A channel pair: one channel per lane.
+        const b = block.channelData[c + 1];
+        for (let from = 0; from < whole; from += BALLISTICS_KERNEL_FRAMES) {
+          const n = Math.min(BALLISTICS_KERNEL_FRAMES, whole - from);
+          kernel.laneA.set(a.subarray(from, from + n));
+          kernel.laneB.set(b.subarray(from, from + n));
+          kernel.run(n / CHUNK);
+          this.chunks(c, a, from, n / CHUNK, 0);
+          this.chunks(c + 1, b, from, n / CHUNK, 1);
         }
-        const stop = end < frames ? end : frames;
-        for (; i < stop; i++) {
-          const v = x[i];
-          const sq = v * v;
-          fast = af * fast + sq;
-          slow = as * slow + sq;
-          vu1 = av * vu1 + Math.abs(v);
-          vu2 = av * vu2 + vu1;
-          // New maxima are rare after the first moments, so these predict well.
-          if (fast > maxFast) maxFast = fast;
-          if (slow > maxSlow) maxSlow = slow;
-          if (vu2 > maxVu) maxVu = vu2;
+      } else {
+        // A lone channel: the two halves of each piece in the two lanes.
+        for (let from = 0; from < whole; from += 2 * BALLISTICS_KERNEL_FRAMES) {
+          const chunks = Math.min(2 * BALLISTICS_KERNEL_FRAMES, whole - from) / CHUNK;
+          const first = Math.ceil(chunks / 2), middle = from + first * CHUNK;
+          kernel.laneA.set(a.subarray(from, middle));
+          kernel.laneB.set(a.subarray(middle, from + chunks * CHUNK));
+          kernel.run(first); // lane B may hold one stale chunk at the end; its sums are not read
+          this.chunks(c, a, from, first, 0);
+          this.chunks(c, a, middle, chunks - first, 1);
         }
       }
-      this.store(c, fast, slow, vu1, vu2, maxFast, maxSlow, maxVu);
+    }
+    for (let c = 0; c < channels; c++) {
+      if (whole < frames) this.samples(c, block.channelData[c], whole, frames);
+      this.flush(c);
     }
   }
 
-  private store(c: number, fast: number, slow: number, vu1: number, vu2: number, maxFast: number, maxSlow: number, maxVu: number): void {
-    this.fast[c] = fast < FLUSH_BELOW ? 0 : fast;
-    this.slow[c] = slow < FLUSH_BELOW ? 0 : slow;
-    this.vu1[c] = vu1 < FLUSH_BELOW ? 0 : vu1;
-    this.vu2[c] = vu2 < FLUSH_BELOW ? 0 : vu2;
+  /**
+   * `chunks` whole chunks of channel c from frame `from`, with their sums in kernel lane `lane`:
+   * the bounds above, then the end state in closed form or, where a maximum may rise, per sample.
+   */
+  private chunks(c: number, x: Float32Array, from: number, chunks: number, lane: number): void {
+    const sums = this.kernel!.sums;
+    const { afN, asN, avN, nAvN, fastGrowth, slowGrowth, vuGrowth, vuSteady, vuRise } = this.closedForm;
+    let fast = this.fast[c], slow = this.slow[c], vu1 = this.vu1[c], vu2 = this.vu2[c];
+    let maxFast = this.maxFast[c], maxSlow = this.maxSlow[c], maxVu = this.maxVu[c];
+    for (let k = 0; k < chunks; k++) {
+      const o = 8 * k + lane;
+      const hf = sums[o], hs = sums[o + 2], hv = sums[o + 4], gv = sums[o + 6];
+      const vu1Bound = vu1 + hv * vuGrowth;
+      const vu2Excess = vu1Bound * vuSteady - vu2;
+      if (fast + hf * fastGrowth <= maxFast && slow + hs * slowGrowth <= maxSlow
+        && vu2 + (vu2Excess > 0 ? vuRise * vu2Excess : 0) <= maxVu) {
+        fast = afN * fast + hf;
+        slow = asN * slow + hs;
+        vu2 = avN * vu2 + nAvN * vu1 + gv;
+        vu1 = avN * vu1 + hv;
+        continue;
+      }
+      this.save(c, fast, slow, vu1, vu2, maxFast, maxSlow, maxVu);
+      this.samples(c, x, from + k * CHUNK, from + (k + 1) * CHUNK);
+      fast = this.fast[c]; slow = this.slow[c]; vu1 = this.vu1[c]; vu2 = this.vu2[c];
+      maxFast = this.maxFast[c]; maxSlow = this.maxSlow[c]; maxVu = this.maxVu[c];
+    }
+    this.save(c, fast, slow, vu1, vu2, maxFast, maxSlow, maxVu);
+  }
+
+  /** Frames [from, to) of channel c by the recurrences themselves. */
+  private samples(c: number, x: Float32Array, from: number, to: number): void {
+    const af = this.fastPole, as = this.slowPole, av = this.vuPole;
+    let fast = this.fast[c], slow = this.slow[c], vu1 = this.vu1[c], vu2 = this.vu2[c];
+    let maxFast = this.maxFast[c], maxSlow = this.maxSlow[c], maxVu = this.maxVu[c];
+    for (let i = from; i < to; i++) {
+      const v = x[i];
+      const sq = v * v;
+      fast = af * fast + sq;
+      slow = as * slow + sq;
+      vu1 = av * vu1 + Math.abs(v);
+      vu2 = av * vu2 + vu1;
+      // New maxima are rare after the first moments, so these predict well.
+      if (fast > maxFast) maxFast = fast;
+      if (slow > maxSlow) maxSlow = slow;
+      if (vu2 > maxVu) maxVu = vu2;
+    }
+    this.save(c, fast, slow, vu1, vu2, maxFast, maxSlow, maxVu);
+  }
+
+  private save(c: number, fast: number, slow: number, vu1: number, vu2: number, maxFast: number, maxSlow: number, maxVu: number): void {
+    this.fast[c] = fast;
+    this.slow[c] = slow;
+    this.vu1[c] = vu1;
+    this.vu2[c] = vu2;
     this.maxFast[c] = maxFast;
     this.maxSlow[c] = maxSlow;
     this.maxVu[c] = maxVu;
+  }
+
+  /** At each block's end: state decayed below FLUSH_BELOW becomes zero. */
+  private flush(c: number): void {
+    if (this.fast[c] < FLUSH_BELOW) this.fast[c] = 0;
+    if (this.slow[c] < FLUSH_BELOW) this.slow[c] = 0;
+    if (this.vu1[c] < FLUSH_BELOW) this.vu1[c] = 0;
+    if (this.vu2[c] < FLUSH_BELOW) this.vu2[c] = 0;
   }
 
   /** Readings at the end of the last pushed block (for live display and tests of the ballistics). */

@@ -63,7 +63,7 @@ function edgeSignals(channels: number): Record<string, Float32Array[]> {
   return { lateRise, fullScaleSine, crescendo, clicks, steppedClicks, clicksOverTone, tinyThenSilence };
 }
 
-describe.each([1, 2, 6])('optimised time-weighted levels equal the reference implementation (%i channels)', (channels) => {
+describe.each([1, 2, 3, 6])('optimised time-weighted levels equal the reference implementation (%i channels)', (channels) => {
   const info: StreamInfo = { sampleRate: SAMPLE_RATE, channels, channelLabels: defaultChannelLabels(channels) };
   const signals = { ...testSignals(channels), ...edgeSignals(channels) };
   for (const [signalName, signal] of Object.entries(signals)) {

@@ -7,6 +7,23 @@ import { KERNEL_FRAMES, KWeightingKernel, kWeightingLoop, type KWeightingLoop } 
 import { seededRandom } from '../../src/selftest/signals.ts';
 import { KERNEL_DIRS, kernelModuleText } from '../../bin/build-kernels.js';
 import { convertS24Stereo } from '../../src/decode/kernels/s24-stereo.ts';
+import { BALLISTICS_CHUNK_FRAMES, BallisticsKernel, type BallisticsPoles } from '../../src/analysis/kernels/ballistics.ts';
+
+/** The JavaScript loop the ballistics kernel replaced: one chunk's four sums, two frames a step. */
+function scalarChunkSums(p: BallisticsPoles, x: Float32Array, from: number): number[] {
+  let hf = 0, hs = 0, hv = 0, gv = 0;
+  for (let j = from; j < from + BALLISTICS_CHUNK_FRAMES; j += 2) {
+    const x0 = x[j], x1 = x[j + 1];
+    const q0 = x0 * x0, q1 = x1 * x1;
+    const r0 = Math.abs(x0), r1 = Math.abs(x1);
+    hf = p.fast2 * hf + (p.fast * q0 + q1);
+    hs = p.slow2 * hs + (p.slow * q0 + q1);
+    const ar0 = p.vu * r0, q = ar0 + r1;
+    gv = p.vu2 * gv + (p.twoVu2 * hv + (ar0 + q));
+    hv = p.vu2 * hv + q;
+  }
+  return [hf, hs, hv, gv];
+}
 import { join } from 'node:path';
 
 /** The scalar loop the kernel replaced (one channel per loop, adding into power in channel order). */
@@ -55,7 +72,7 @@ describe('WebAssembly kernels', () => {
   it('are committed as `npm run kernels` writes them from their .wat sources', async () => {
     const sources = KERNEL_DIRS.flatMap((dir) => readdirSync(dir).filter((f) => f.endsWith('.wat')).map((f) => join(dir, f)));
     expect(sources.map((p) => p.split('/').slice(-3).join('/')).sort()).toEqual([
-      'analysis/kernels/envelope.wat', 'analysis/kernels/k-weighting.wat', 'analysis/kernels/pair-sums.wat', 'analysis/kernels/sums.wat',
+      'analysis/kernels/ballistics.wat', 'analysis/kernels/envelope.wat', 'analysis/kernels/k-weighting.wat', 'analysis/kernels/pair-sums.wat', 'analysis/kernels/sums.wat',
       'decode/kernels/s24-stereo.wat',
     ]);
     for (const wat of sources) expect(readFileSync(wat.replace(/\.wat$/, '.wasm.ts'), 'utf8')).toBe(await kernelModuleText(wat));
@@ -75,6 +92,29 @@ describe('WebAssembly kernels', () => {
       if (left[3 + f] !== Math.fround(sample(2 * f)) || right[3 + f] !== Math.fround(sample(2 * f + 1))) throw new Error(`frame ${f} differs`);
     }
     expect([left[3], right[3], left[4], right[4]]).toEqual([8_388_607 / 8_388_608, -1, 0, -1 / 8_388_608]);
+  });
+
+  it('ballistics chunk sums equal the JavaScript loop bit for bit in both lanes (48 kHz poles, full scale, silence, noise)', () => {
+    const poles = (fs: number): BallisticsPoles => {
+      const [af, as, av] = [0.125 * fs, 1 * fs, (0.3 / 6.638352067993813) * fs].map((t) => Math.exp(-1 / t));
+      return { fast: af, fast2: af * af, slow: as, slow2: as * as, vu: av, vu2: av * av, twoVu2: 2 * (av * av) };
+    };
+    const random = seededRandom(11);
+    const chunks = 256;
+    const a = Float32Array.from({ length: chunks * 64 }, (_, i) => (i < 64 ? 1 : i < 128 ? 0 : random() * 2 - 1));
+    const b = Float32Array.from({ length: chunks * 64 }, (_, i) => (i < 64 ? -1 : Math.fround((random() * 2 - 1) * 1e-4)));
+    for (const fs of [44_100, 48_000]) {
+      const p = poles(fs);
+      const kernel = new BallisticsKernel(p);
+      kernel.laneA.set(a);
+      kernel.laneB.set(b);
+      kernel.run(chunks);
+      for (let k = 0; k < chunks; k++) {
+        const lanes = [0, 1].map((l) => [0, 2, 4, 6].map((q) => kernel.sums[8 * k + q + l]));
+        expect(lanes[0]).toEqual(scalarChunkSums(p, a, 64 * k));
+        expect(lanes[1]).toEqual(scalarChunkSums(p, b, 64 * k));
+      }
+    }
   });
 
   it('K-weighting equals the scalar loop bit for bit: 1, 2, 5 weighted channels (Table 3 weights), 44.1 and 48 kHz, odd pieces', () => {

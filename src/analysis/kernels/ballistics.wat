@@ -1,0 +1,80 @@
+;; The time-weighted level meter's chunk sums (ballistics.ts explains them): for each 64-frame
+;; chunk of two sequences A and B (two channels, or two halves of one), in the two lanes of f64x2,
+;;   hf = sum a_f^(63-j) x_j^2, hs = the same with a_s, hv = sum a_v^(63-j) |x_j|,
+;;   gv = sum (64-j) a_v^(63-j) |x_j|,
+;; two frames a step (Horner in a^2) with exactly the operations of the JavaScript loop it replaces,
+;; in its order and with no fused multiply-add, so every lane's sums are that loop's to the bit.
+;;
+;; Memory (bytes): A 0 float32[CAP]; B 65536 float32[CAP]; OUT 131072: per chunk four f64x2
+;; (hf, hs, hv, gv; lane 0 A, lane 1 B). CAP = 16384 frames = 256 chunks.
+(module
+  (memory (export "memory") 3)
+  (func (export "chunkSums") (param $chunks i32)
+    (param $afS f64) (param $af2S f64) (param $asS f64) (param $as2S f64)
+    (param $avS f64) (param $av2S f64) (param $twoAv2S f64)
+    (local $af v128) (local $af2 v128) (local $as v128) (local $as2 v128)
+    (local $av v128) (local $av2 v128) (local $twoAv2 v128)
+    (local $k i32) (local $at i32) (local $chunkEnd i32) (local $out i32)
+    (local $a v128) (local $b v128) (local $lo v128) (local $hi v128)
+    (local $x0 v128) (local $x1 v128) (local $x2 v128) (local $x3 v128)
+    (local $q0 v128) (local $q1 v128) (local $ar0 v128) (local $p v128)
+    (local $hf v128) (local $hs v128) (local $hv v128) (local $gv v128)
+    (local.set $af (f64x2.splat (local.get $afS)))
+    (local.set $af2 (f64x2.splat (local.get $af2S)))
+    (local.set $as (f64x2.splat (local.get $asS)))
+    (local.set $as2 (f64x2.splat (local.get $as2S)))
+    (local.set $av (f64x2.splat (local.get $avS)))
+    (local.set $av2 (f64x2.splat (local.get $av2S)))
+    (local.set $twoAv2 (f64x2.splat (local.get $twoAv2S)))
+    (local.set $out (i32.const 131072))
+    (block $done
+      (loop $chunk
+        (br_if $done (i32.ge_u (local.get $k) (local.get $chunks)))
+        (local.set $hf (v128.const i64x2 0 0))
+        (local.set $hs (v128.const i64x2 0 0))
+        (local.set $hv (v128.const i64x2 0 0))
+        (local.set $gv (v128.const i64x2 0 0))
+        (local.set $chunkEnd (i32.add (local.get $at) (i32.const 256)))
+        (loop $four
+        ;; frames 4i..4i+3 of A and of B, paired per frame: (a0 b0 a1 b1) and (a2 b2 a3 b3)
+        (local.set $a (v128.load (local.get $at)))
+        (local.set $b (v128.load offset=65536 (local.get $at)))
+        (local.set $lo (i8x16.shuffle 0 1 2 3 16 17 18 19 4 5 6 7 20 21 22 23 (local.get $a) (local.get $b)))
+        (local.set $hi (i8x16.shuffle 8 9 10 11 24 25 26 27 12 13 14 15 28 29 30 31 (local.get $a) (local.get $b)))
+        (local.set $x0 (f64x2.promote_low_f32x4 (local.get $lo)))
+        (local.set $x1 (f64x2.promote_low_f32x4 (i8x16.shuffle 8 9 10 11 12 13 14 15 8 9 10 11 12 13 14 15 (local.get $lo) (local.get $lo))))
+        (local.set $x2 (f64x2.promote_low_f32x4 (local.get $hi)))
+        (local.set $x3 (f64x2.promote_low_f32x4 (i8x16.shuffle 8 9 10 11 12 13 14 15 8 9 10 11 12 13 14 15 (local.get $hi) (local.get $hi))))
+        ;; two frames: $x0 and $x1
+        (local.set $q0 (f64x2.mul (local.get $x0) (local.get $x0)))
+        (local.set $q1 (f64x2.mul (local.get $x1) (local.get $x1)))
+        (local.set $hf (f64x2.add (f64x2.mul (local.get $af2) (local.get $hf))
+          (f64x2.add (f64x2.mul (local.get $af) (local.get $q0)) (local.get $q1))))
+        (local.set $hs (f64x2.add (f64x2.mul (local.get $as2) (local.get $hs))
+          (f64x2.add (f64x2.mul (local.get $as) (local.get $q0)) (local.get $q1))))
+        (local.set $ar0 (f64x2.mul (local.get $av) (f64x2.abs (local.get $x0))))
+        (local.set $p (f64x2.add (local.get $ar0) (f64x2.abs (local.get $x1))))
+        (local.set $gv (f64x2.add (f64x2.mul (local.get $av2) (local.get $gv))
+          (f64x2.add (f64x2.mul (local.get $twoAv2) (local.get $hv)) (f64x2.add (local.get $ar0) (local.get $p)))))
+        (local.set $hv (f64x2.add (f64x2.mul (local.get $av2) (local.get $hv)) (local.get $p)))
+        ;; two frames: $x2 and $x3
+        (local.set $q0 (f64x2.mul (local.get $x2) (local.get $x2)))
+        (local.set $q1 (f64x2.mul (local.get $x3) (local.get $x3)))
+        (local.set $hf (f64x2.add (f64x2.mul (local.get $af2) (local.get $hf))
+          (f64x2.add (f64x2.mul (local.get $af) (local.get $q0)) (local.get $q1))))
+        (local.set $hs (f64x2.add (f64x2.mul (local.get $as2) (local.get $hs))
+          (f64x2.add (f64x2.mul (local.get $as) (local.get $q0)) (local.get $q1))))
+        (local.set $ar0 (f64x2.mul (local.get $av) (f64x2.abs (local.get $x2))))
+        (local.set $p (f64x2.add (local.get $ar0) (f64x2.abs (local.get $x3))))
+        (local.set $gv (f64x2.add (f64x2.mul (local.get $av2) (local.get $gv))
+          (f64x2.add (f64x2.mul (local.get $twoAv2) (local.get $hv)) (f64x2.add (local.get $ar0) (local.get $p)))))
+        (local.set $hv (f64x2.add (f64x2.mul (local.get $av2) (local.get $hv)) (local.get $p)))
+        (local.set $at (i32.add (local.get $at) (i32.const 16)))
+        (br_if $four (i32.lt_u (local.get $at) (local.get $chunkEnd))))
+        (v128.store (local.get $out) (local.get $hf))
+        (v128.store offset=16 (local.get $out) (local.get $hs))
+        (v128.store offset=32 (local.get $out) (local.get $hv))
+        (v128.store offset=48 (local.get $out) (local.get $gv))
+        (local.set $out (i32.add (local.get $out) (i32.const 64)))
+        (local.set $k (i32.add (local.get $k) (i32.const 1)))
+        (br $chunk)))))
