@@ -3,12 +3,12 @@
 // never taken from a client, so a key can always be mapped to a path safely.
 
 import { createHash, randomUUID } from 'node:crypto';
-import { createWriteStream } from 'node:fs';
 import { access, constants, mkdir, readdir, readFile, rename, rm, stat, writeFile } from 'node:fs/promises';
 import { join } from 'node:path';
 import { PassThrough, type Readable } from 'node:stream';
 import { pipeline } from 'node:stream/promises';
 import { EarmarkError } from '../errors/index.ts';
+import { writeChunksToNewFile } from './block-file-writer.ts';
 
 export interface StoredFile { key: string; sizeBytes: number; sha256: string }
 
@@ -63,7 +63,7 @@ export class LocalStorage implements Storage {
     source.once('close', aborted).once('error', aborted);
     if (source.destroyed) aborted();
     try {
-      await pipeline(input, counter, createWriteStream(tmp, { flags: 'wx' }));
+      await pipeline(input, counter, (chunks) => writeChunksToNewFile(tmp, chunks));
       if (isTruncated?.()) throw new LimitError();
       await rename(tmp, this.pathOf(key));
       return { key, sizeBytes, sha256: hash.digest('hex') };
