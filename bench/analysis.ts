@@ -9,7 +9,8 @@
 // Environment: BENCH_MINUTES (default 60), BENCH_RUNS (default 5), BENCH_DIR (cache folder),
 // BENCH_SHORT_MINUTES (default 10: the short file for RSS growth and the compressed inputs),
 // BENCH_LONG_MINUTES (optional, e.g. 180: adds a long file to the RSS comparison),
-// BENCH_SURROUND_MINUTES (optional, e.g. 10: adds a 5.1 file to the RSS comparison).
+// BENCH_SURROUND_MINUTES (optional, e.g. 10: adds a 5.1 file to the RSS comparison),
+// BENCH_RSS_RUNS (default 3: runs per file for the RSS comparisons, medians).
 
 import { spawn, spawnSync } from 'node:child_process';
 import { existsSync } from 'node:fs';
@@ -24,6 +25,8 @@ const shortMinutes = Number(process.env.BENCH_SHORT_MINUTES ?? 10);
 const longMinutes = process.env.BENCH_LONG_MINUTES ? Number(process.env.BENCH_LONG_MINUTES) : null;
 const surroundMinutes = process.env.BENCH_SURROUND_MINUTES ? Number(process.env.BENCH_SURROUND_MINUTES) : null;
 const runs = Number(process.env.BENCH_RUNS ?? 5);
+/** Runs per file for the peak-RSS comparisons (BENCH_RSS_RUNS). */
+const RSS_RUNS = Number(process.env.BENCH_RSS_RUNS ?? 3);
 const cacheDir = process.env.BENCH_DIR ?? join(tmpdir(), 'earmark-bench');
 const sampleRate = 48000;
 
@@ -120,13 +123,21 @@ async function main(): Promise<void> {
   const ffmpegSeconds = hasFfmpeg ? median(theirs.map((r) => r.seconds)) : Number.NaN;
   const peakRss = Math.max(...ours.map((r) => r.maxRssMb));
 
-  // Peak RSS against duration: the short file (and the long one when asked for), one run each.
-  const rssByMinutes: [number, number][] = [[minutes, peakRss]];
-  for (const m of [shortMinutes, ...(longMinutes ? [longMinutes] : [])]) {
-    if (m !== minutes) rssByMinutes.push([m, (await earmarkRun(await benchFile(m))).maxRssMb]);
+  // Peak RSS against duration: the median of RSS_RUNS runs per file, the files alternating (one
+  // run's peak moves by a few MB with the garbage collector's timing, as much as the difference sought).
+  const rssFiles: [string, string][] = [[`${minutes} min`, file]];
+  for (const m of [shortMinutes, ...(longMinutes ? [longMinutes] : [])]) if (m !== minutes) rssFiles.push([`${m} min`, await benchFile(m)]);
+  if (surroundMinutes) rssFiles.push(['5.1', await benchFile(surroundMinutes, 6)]);
+  const rssRuns = new Map<string, number[]>(rssFiles.map(([label]) => [label, []]));
+  for (let i = 0; i < RSS_RUNS; i++) {
+    for (const [label, path] of rssFiles) rssRuns.get(label)!.push((await earmarkRun(path)).maxRssMb);
   }
+  const rssOf = (label: string) => median(rssRuns.get(label)!);
+  console.log(`peak RSS, MB, ${RSS_RUNS} runs each: ${[...rssRuns].map(([label, v]) => `${label} ${v.map((x) => x.toFixed(1)).join(' / ')}`).join('; ')}`);
+  const rssByMinutes: [number, number][] = [[minutes, rssOf(`${minutes} min`)]];
+  for (const m of [shortMinutes, ...(longMinutes ? [longMinutes] : [])]) if (m !== minutes) rssByMinutes.push([m, rssOf(`${m} min`)]);
   const shortRss = rssByMinutes.find(([m]) => m === shortMinutes)?.[1] ?? peakRss;
-  const surroundRss = surroundMinutes ? (await earmarkRun(await benchFile(surroundMinutes, 6))).maxRssMb : null;
+  const surroundRss = surroundMinutes ? rssOf('5.1') : null;
 
   // Compressed input, from the short file: decode plus every meter, in x-realtime.
   const compressed: [string, number][] = [];
@@ -152,10 +163,11 @@ async function main(): Promise<void> {
   row(`peak RSS, ${minutes} min (MB)`, peakRss.toFixed(0), '100', (peakRss / 100).toFixed(2), '<= 1.00 of 100 MB');
   row(`peak RSS, ${minutes} min, two threads (MB)`, twoRss.toFixed(0), '100', (twoRss / 100).toFixed(2), '<= 1.00 of 100 MB');
   for (const [m, rss] of rssByMinutes.slice(1).filter(([m]) => m !== shortMinutes)) {
-    row(`peak RSS, ${m} min vs ${shortMinutes} min (MB)`, rss.toFixed(0), shortRss.toFixed(0), (rss / shortRss).toFixed(2), 'within 10 %');
+    row(`peak RSS, ${m} min vs ${shortMinutes} min (MB)`, rss.toFixed(1), shortRss.toFixed(1), (rss / shortRss).toFixed(3), 'within 10 %');
   }
-  if (surroundMinutes && surroundRss !== null) row(`peak RSS, 5.1 ${surroundMinutes} min vs stereo ${shortMinutes} min (MB)`, surroundRss.toFixed(0), shortRss.toFixed(0), (surroundRss / shortRss).toFixed(2), 'within 10 %');
-  if (minutes !== shortMinutes) row(`peak RSS, ${minutes} min vs ${shortMinutes} min (MB)`, peakRss.toFixed(0), shortRss.toFixed(0), (peakRss / shortRss).toFixed(2), 'within 10 %');
+  if (surroundMinutes && surroundRss !== null) row(`peak RSS, 5.1 ${surroundMinutes} min vs stereo ${shortMinutes} min (MB)`, surroundRss.toFixed(1), shortRss.toFixed(1), (surroundRss / shortRss).toFixed(3), 'within 10 %');
+  const longRss = rssOf(`${minutes} min`);
+  if (minutes !== shortMinutes) row(`peak RSS, ${minutes} min vs ${shortMinutes} min (MB)`, longRss.toFixed(1), shortRss.toFixed(1), (longRss / shortRss).toFixed(3), 'within 10 %');
   for (const [extension, realtime] of compressed) {
     row(`${extension} decode + full analysis, ${shortMinutes} min`, `${realtime.toFixed(0)}x`, '', '', 'x realtime, reported');
   }
