@@ -32,10 +32,9 @@ export async function submitJob(deps: AppDeps, tenant: string, input: SubmitInpu
       return { id: existing.jobId, duplicate: true };
     }
   }
-  const { sha256: _hash, ...jobSource } = source;
   const data: AnalyzeJobV1 = {
     tenant,
-    source: jobSource,
+    source,
     profileId: entry.profile.id,
     profileVersion: entry.profile.version,
     profile: entry.profile,

@@ -19,6 +19,8 @@ export interface AnalyzeFileOptions {
   displayName?: string;
   /** Compute the file's SHA-256 (a second, cheap read of the bytes). Default true. */
   hash?: boolean;
+  /** The file's SHA-256 as already known (the service hashed the upload as it stored it): reported, not recomputed. */
+  knownSha256?: string;
   /** Called with 0..1 as decoding proceeds, at most every ~5 % when the length is known. */
   onProgress?: (fraction: number) => void;
   signal?: AbortSignal;
@@ -34,7 +36,8 @@ async function sha256File(path: string): Promise<string> {
 
 export async function analyzeFile(path: string, options: AnalyzeFileOptions = {}): Promise<AnalysisDocument> {
   const started = performance.now();
-  const hashing = options.hash === false ? Promise.resolve(undefined) : sha256File(path).catch(() => undefined);
+  const hashing = options.knownSha256 !== undefined ? Promise.resolve(options.knownSha256)
+    : options.hash === false ? Promise.resolve(undefined) : sha256File(path).catch(() => undefined);
   // With threads the decoder writes each block straight into the runner's shared ring.
   let runner: AnalysisRunner | ParallelAnalysisRunner | null = null;
   const blockArrays = () => (runner instanceof ParallelAnalysisRunner ? runner.nextBlockArrays() : null);

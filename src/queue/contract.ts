@@ -10,7 +10,8 @@ export const ANALYZE_JOB_V1 = 'analyze.v1';
 export const DELIVER_WEBHOOK_V1 = 'deliver.v1';
 
 export type JobSource =
-  | { kind: 'upload'; storageKey: string; fileName: string; sizeBytes: number }
+  /** sha256 is the API's hash of the stored bytes, so the worker does not read them twice (absent in older jobs). */
+  | { kind: 'upload'; storageKey: string; fileName: string; sizeBytes: number; sha256?: string }
   | { kind: 'url'; url: string };
 
 export interface AnalyzeJobV1 {

@@ -6,13 +6,19 @@
 import { open } from 'node:fs/promises';
 
 export const WRITE_BLOCK_BYTES = 1024 * 1024;
+/** Buffers kept for the next uploads (eight serve four at once): a fresh 1 MiB buffer is mapped
+ * anew and faulted in page by page on first use. */
+const POOL_SIZE = 8;
+const pool: Buffer[] = [];
+const takeBuffer = () => pool.pop() ?? Buffer.allocUnsafeSlow(WRITE_BLOCK_BYTES);
+const giveBack = (buffer: Buffer) => { if (pool.length < POOL_SIZE) pool.push(buffer); };
 
 /** Consumes `chunks` into a file created at `path` (it must not exist); the file is closed either way. */
 export async function writeChunksToNewFile(path: string, chunks: AsyncIterable<Uint8Array>): Promise<void> {
   const handle = await open(path, 'wx');
   try {
-    let filling = Buffer.allocUnsafe(WRITE_BLOCK_BYTES);
-    let spare = Buffer.allocUnsafe(WRITE_BLOCK_BYTES);
+    let filling = takeBuffer();
+    let spare = takeBuffer();
     let filled = 0;
     // A failed write is kept and thrown at the next flush or at the end, never left unhandled.
     let failure: { error: unknown } | null = null;
@@ -40,8 +46,10 @@ export async function writeChunksToNewFile(path: string, chunks: AsyncIterable<U
       if (filled > 0) await flush();
       await settle();
     } finally {
-      // Never close the handle under a running write.
+      // Never close the handle under a running write, nor hand back a buffer it is reading.
       await inFlight;
+      giveBack(filling);
+      giveBack(spare);
     }
   } finally {
     await handle.close();

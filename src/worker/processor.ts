@@ -34,22 +34,26 @@ export default async function analyzeJob(job: SandboxedJob<AnalyzeJobV1, Analyze
   let sourceKey = '';
   let path = '';
   let fileName = 'the file';
+  let knownSha256: string | undefined;
   try {
     if (data.source.kind === 'upload') {
       sourceKey = data.source.storageKey;
       path = storage.pathOf(sourceKey);
       fileName = data.source.fileName;
+      knownSha256 = data.source.sha256;
     } else {
       const fetched = await fetchSource(policy, storage, data.source.url, config.fetchLimitBytes, config.fetchTimeoutMs);
       fetchedKey = fetched.key;
       sourceKey = fetched.key;
       path = storage.pathOf(fetched.key);
+      knownSha256 = fetched.sha256;
       fileName = decodeURIComponent(new URL(data.source.url).pathname.split('/').pop() || 'source');
     }
     let lastPercent = -1;
     const doc = await analyzeFile(path, {
       analysis: analysisOptionsForProfile(data.profile),
       displayName: fileName,
+      ...(knownSha256 ? { knownSha256 } : {}),
       onProgress: (fraction) => {
         const percent = Math.floor(fraction * 100);
         if (percent > lastPercent) { lastPercent = percent; void job.updateProgress(percent); }

@@ -2,7 +2,8 @@
 // analysis in child processes). Every response is checked against openapi/openapi.yaml.
 
 import { createServer, type IncomingMessage, type Server } from 'node:http';
-import { createReadStream, writeFileSync } from 'node:fs';
+import { createHash } from 'node:crypto';
+import { createReadStream, readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { verify } from '../../src/worker/webhooks.ts';
@@ -57,6 +58,8 @@ describe('upload and report', () => {
     // BS.1770-5: -23 dBFS peak stereo 997 Hz sine = -23.0 LUFS (the README's accuracy figures allow 0.05 LU here).
     expect(report.body.summary.integratedLufs).toBeCloseTo(-23, 1);
     expect(report.body.file.name).toBe('pass.wav');
+    // The hash the API took while storing the upload, carried to the worker: the bytes' own SHA-256.
+    expect(report.body.file.sha256).toBe(createHash('sha256').update(readFileSync(files.pass)).digest('hex'));
     expect(report.body.flags).toEqual([]);
   });
 
@@ -126,6 +129,8 @@ describe('sourceUrl', () => {
     expect(submit.status).toBe(202);
     const done = await finished(submit.body.id);
     expect(done.body).toMatchObject({ state: 'completed', verdict: 'pass', source: { kind: 'url' }, metadata: { desk: 'ingest-2' } });
+    const report = (await api.get(`/v1/jobs/${submit.body.id}/report`, KEYS.alpha)).body;
+    expect(report.file.sha256).toBe(createHash('sha256').update(readFileSync(files.pass)).digest('hex'));
   });
 
   it('a 404 from the origin fails the job with source_fetch_failed', async () => {
