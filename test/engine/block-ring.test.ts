@@ -99,6 +99,17 @@ describe('parallel runner shutdown', () => {
     await expect(runner.result()).rejects.toThrow();
   }, 30_000);
 
+  it('a meter thread that dies mid-stream fails the analysis with internal_error instead of hanging it', async () => {
+    const runner = new ParallelAnalysisRunner({ sampleRate: 48_000, channels: 2, channelLabels: defaultChannelLabels(2) }, {}, 2, { maxBlockFrames: 4096 });
+    open.push(runner);
+    await runner.push(block(4096, 0));
+    // The worker thread ends as if it had crashed (terminated from outside, no result posted).
+    await (runner as unknown as { threads: { close(): Promise<number> }[] }).threads[0].close();
+    const pushing = (async () => { for (let i = 1; i < 50; i++) await runner.push(block(4096, i)); })();
+    await expect(pushing).rejects.toMatchObject({ code: 'internal_error' });
+    await expect(runner.result()).rejects.toMatchObject({ code: 'internal_error' });
+  }, 30_000);
+
   it('refuses a block larger than it was sized for', async () => {
     const runner = new ParallelAnalysisRunner({ sampleRate: 48_000, channels: 2, channelLabels: defaultChannelLabels(2) }, {}, 2, { maxBlockFrames: 1024 });
     open.push(runner);
