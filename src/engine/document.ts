@@ -82,11 +82,23 @@ export interface AnalysisDocument {
   analysisSeconds: number;
 }
 
-/** Every `step`-th value of a loudness series from `first`, rounded to 0.01; null where it has none (NaN). */
+/**
+ * Every `step`-th value of a loudness series from `first`, rounded to 0.01; null where it has none (NaN).
+ * A series of hours repeats a few thousand distinct values; each is made once and shared, so an
+ * array that holds nulls and numbers costs a reference per point, not a boxed number each
+ * (108,000 points for 3 hours: about 0.9 MB instead of 2.6 MB).
+ */
 function seriesPoints(lufs: Float64Array, first: number, step: number): (number | null)[] {
   // Sized once: a long programme's series grows no garbage copies on the way.
   const points = new Array<number | null>(Math.max(0, Math.ceil((lufs.length - first) / step)));
-  for (let i = first, k = 0; i < lufs.length; i += step, k++) points[k] = Number.isNaN(lufs[i]) ? null : Math.round(lufs[i] * 100) / 100;
+  const shared = new Map<number, number>();
+  for (let i = first, k = 0; i < lufs.length; i += step, k++) {
+    if (Number.isNaN(lufs[i])) { points[k] = null; continue; }
+    const hundredths = Math.round(lufs[i] * 100);
+    let value = shared.get(hundredths);
+    if (value === undefined) { value = hundredths / 100; shared.set(hundredths, value); }
+    points[k] = value;
+  }
   return points;
 }
 
