@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import type { ChannelLabel, PcmBlock } from '../../src/analysis/audio.ts';
-import { kthSmallest, LoudnessMeter } from '../../src/analysis/loudness.ts';
+import { kthSmallestAbove, LoudnessMeter } from '../../src/analysis/loudness.ts';
 import { programmeBlocks, seededRandom, toneBlocks, type ToneSegment } from '../../src/selftest/signals.ts';
 
 function measure(labels: ChannelLabel[], blocks: Iterable<PcmBlock>, sampleRate = 48000) {
@@ -103,20 +103,23 @@ describe('LoudnessMeter (ITU-R BS.1770-5)', () => {
   });
 });
 
-describe('kthSmallest (the LRA percentiles without a sort)', () => {
-  it('picks what a full sort puts at each index, with ties, sorted, reversed and random input', () => {
+describe('kthSmallestAbove (the LRA percentiles without a sort or a copy)', () => {
+  it('picks what sorting the values above the gate puts at each index: ties, sorted, reversed, random, gated-out and NaN values, one value', () => {
     const random = seededRandom(9);
-    const inputs = [
-      Float64Array.from({ length: 1001 }, () => random()),
-      Float64Array.from({ length: 500 }, (_, i) => i),
-      Float64Array.from({ length: 500 }, (_, i) => 500 - i),
-      Float64Array.from({ length: 300 }, (_, i) => i % 3),
-      new Float64Array([42]),
+    const inputs: [Float64Array, number][] = [
+      [Float64Array.from({ length: 1001 }, () => random()), 0],
+      [Float64Array.from({ length: 1001 }, () => random() * 1e-3), 2e-4],
+      [Float64Array.from({ length: 500 }, (_, i) => i + 1), 0],
+      [Float64Array.from({ length: 500 }, (_, i) => 500 - i), 100],
+      [Float64Array.from({ length: 300 }, (_, i) => (i % 3) + 1), 1],
+      [Float64Array.from({ length: 50 }, (_, i) => (i % 5 === 0 ? Number.NaN : 1 / (i + 1))), 0.01],
+      [new Float64Array([42]), 0],
     ];
-    for (const input of inputs) {
-      const sorted = input.slice().sort();
-      for (const k of [0, 1, Math.floor(input.length / 10), Math.floor(input.length * 0.95), input.length - 1]) {
-        expect(kthSmallest(input.slice(), k)).toBe(sorted[k]);
+    for (const [input, gate] of inputs) {
+      const above = input.filter((v) => v > gate).sort();
+      const largest = above[above.length - 1];
+      for (const k of [0, 1, Math.floor(above.length / 10), Math.floor(above.length * 0.95), above.length - 1].filter((i) => i < above.length)) {
+        expect(kthSmallestAbove(input, gate, largest, k)).toBe(above[k]);
       }
     }
   });
