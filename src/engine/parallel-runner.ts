@@ -62,7 +62,7 @@ export function meterGroups(threads: number): MeterName[][] {
 
 class MeterThread {
   private readonly worker: Worker;
-  private result_: Record<string, unknown> | null = null;
+  private posted: Record<string, unknown> | null = null;
   private failure: Error | null = null;
   private settled: (() => void) | null = null;
 
@@ -71,12 +71,12 @@ class MeterThread {
     this.worker = startWorker(data);
     const wake = () => { ring.wakeWriter(reader); this.settled?.(); };
     this.worker.on('message', (message: FromWorker) => {
-      if (message.type === 'result') this.result_ = message.result;
+      if (message.type === 'result') this.posted = message.result;
       else this.fail(new Error(message.message));
       wake();
     });
     this.worker.on('error', (error) => { this.fail(error); wake(); });
-    this.worker.on('exit', (code) => { if (!this.result_) this.fail(new Error(`exited with code ${code} before its result`)); wake(); });
+    this.worker.on('exit', (code) => { if (!this.posted) this.fail(new Error(`exited with code ${code} before its result`)); wake(); });
   }
 
   private fail(error: Error): void { this.failure ??= error; }
@@ -88,9 +88,9 @@ class MeterThread {
 
   /** The thread's results, once the ring is finished. */
   async result(): Promise<Record<string, unknown>> {
-    while (!this.result_ && !this.failure) await new Promise<void>((resolve) => { this.settled = resolve; });
+    while (!this.posted && !this.failure) await new Promise<void>((resolve) => { this.settled = resolve; });
     this.check();
-    return this.result_!;
+    return this.posted!;
   }
 
   close(): Promise<number> { return this.worker.terminate(); }
