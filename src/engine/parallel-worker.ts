@@ -19,16 +19,21 @@ export type FromWorker =
   | { type: 'result'; result: Record<string, unknown> }
   | { type: 'error'; message: string };
 
-const { info, options, meters, ring: shape, reader } = workerData as MeterThreadData;
-const port = parentPort!;
-try {
+/** Every published block through this thread's meters; null when the run was cancelled. */
+function meterAll({ info, options, meters, ring: shape, reader }: MeterThreadData): Record<string, unknown> | null {
   const runner = new AnalysisRunner(info, options, meters);
   const ring = new BlockRing(shape);
   for (let index = 0; ring.waitReadable(index); index++) {
     runner.push(ring.block(index));
     ring.release(reader, index);
   }
-  if (!ring.cancelled) port.postMessage({ type: 'result', result: runner.partialResult() } satisfies FromWorker);
+  return ring.cancelled ? null : runner.partialResult();
+}
+
+const port = parentPort!;
+try {
+  const result = meterAll(workerData as MeterThreadData);
+  if (result) port.postMessage({ type: 'result', result } satisfies FromWorker);
 } catch (error) {
   port.postMessage({ type: 'error', message: error instanceof Error ? error.message : String(error) } satisfies FromWorker);
 }
