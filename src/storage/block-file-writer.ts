@@ -3,7 +3,7 @@
 // garbage collector's nursery; kept until their write (as a write stream keeps them) they are
 // promoted and their memory is only freed by full collections, which an upload then triggers
 // dozens of times per GB ("external memory pressure"). Memory stays two buffers whatever the size.
-import { open } from 'node:fs/promises';
+import { open, type FileHandle } from 'node:fs/promises';
 
 export const WRITE_BLOCK_BYTES = 1024 * 1024;
 /** Buffers kept for the next uploads (eight serve four at once): a fresh 1 MiB buffer is mapped
@@ -57,7 +57,7 @@ export async function writeChunksToNewFile(path: string, chunks: AsyncIterable<U
 }
 
 /** FileHandle.write may write less than asked (a full disk mid-buffer); the rest follows. */
-async function writeAll(handle: import('node:fs/promises').FileHandle, bytes: Uint8Array): Promise<void> {
+async function writeAll(handle: FileHandle, bytes: Uint8Array): Promise<void> {
   for (let at = 0; at < bytes.length;) {
     const { bytesWritten } = await handle.write(bytes, at, bytes.length - at);
     at += bytesWritten;
