@@ -10,28 +10,32 @@ import { fmt } from '../profiles/format.ts';
 import type { CliIo } from './main.ts';
 
 export const VERDICT_EXIT_CODES: Record<Verdict, number> = { pass: 0, warn: 1, fail: 2 };
-const SHOWN_FLAGS = 20;
+/** Flags printed in text: rule breaches first, then remarks; the JSON has them all. */
+const SHOWN_BREACHES = 30;
+const SHOWN_REMARKS = 10;
 
-const FLAG_UNITS: Partial<Record<Flag['kind'], string>> = {
-  clipping: 'dBFS', true_peak_over: 'dBTP', loud_short_term: 'LUFS', loud_momentary: 'LUFS', phase_problem: 'correlation',
-};
+const reading = (value: number | null, unit: string, none: string) => (value === null ? none : `${fmt(value)} ${unit}`);
 
-function flagLine(report: QcReport, f: Flag): string {
-  const channel = f.channel === null ? 'all' : `ch ${f.channel + 1} (${report.channels[f.channel]?.label ?? '?'})`;
-  const other = f.otherChannel !== undefined ? ` vs ch ${f.otherChannel + 1}` : '';
-  const unit = FLAG_UNITS[f.kind];
-  const peak = f.peakValue !== null && unit ? `  peak ${fmt(f.peakValue, unit === 'correlation' ? 2 : 1)} ${unit}` : '';
-  const merged = f.mergedEvents > 1 ? `  x${f.mergedEvents}` : '';
-  return `  ${f.startTimecode} - ${f.endTimecode}  ${f.severity.padEnd(4)}  ${f.kind}  ${channel}${other}${peak}${merged}  [${f.ruleId}]\n`;
+function flagLine(f: Flag): string {
+  const worst = f.worstValue !== null && f.unit ? `  worst ${fmt(f.worstValue, f.unit === 'correlation' ? 2 : 1)} ${f.unit}` : '';
+  const count = f.count > 1 ? `  x${f.count}` : '';
+  const other = f.otherChannelName ? ` / ${f.otherChannelName}` : '';
+  return `  #${String(f.number).padEnd(3)} ${f.startTimecode} - ${f.endTimecode}  ${f.severity.padEnd(6)}  ${f.title}  ch ${f.channelName}${other}${worst}${count}${f.ruleId ? `  [${f.ruleId}]` : ''}\n`;
 }
 
 export function formatReport(report: QcReport): string {
   const lines: string[] = [];
+  const s = report.summary;
   const failed = report.checks.filter((c) => !c.passed);
-  lines.push(`file     ${printableName(report.file?.name ?? '?')}  (${fmt(report.format.durationSeconds ?? 0, 2)} s, ${report.format.sampleRate} Hz, ${report.format.channels} ch)\n`);
+  // The headline comes first: a damaged file's problem is the first thing anyone reads.
+  lines.push(`${report.headline}\n`);
+  for (const p of report.integrity.problems) lines.push(`  ${report.integrity.severity.padEnd(6)}  damaged at ${p.atTimecode} (${fmt(p.atSeconds, 3)} s): ${p.message}\n`);
+  lines.push(`file     ${printableName(report.file?.name ?? '?')}  (${fmt(report.format.durationSeconds ?? 0, 2)} s, ${report.format.sampleRate} Hz, ${report.format.channels} ch ${report.format.channelLabels.join(' ')}${report.format.bitsPerSample ? `, ${report.format.bitsPerSample}-bit` : ''})\n`);
   lines.push(`profile  ${report.profile.id} ${report.profile.version}  (${report.profile.basis})\n`);
+  lines.push(`readings integrated ${reading(s.integratedLufs, 'LUFS', 'not measurable')}, LRA ${reading(s.loudnessRangeLu, 'LU', 'not measurable')}, `
+    + `true peak ${reading(s.truePeakDbtp, 'dBTP', 'none (silence)')} (reconstructed ${reading(s.reconstructedPeakDbtp, 'dBTP', 'none')}), sample peak ${reading(s.samplePeakDbfs, 'dBFS', 'none (silence)')}\n`);
   lines.push(`verdict  ${report.verdict.toUpperCase()}  (${report.checks.length - failed.length} of ${report.checks.length} checks met)\n`);
-  for (const c of failed) lines.push(`  ${c.severity.padEnd(4)}  ${c.ruleId}: ${c.explanation}${c.source ? `  [${c.source}]` : ''}\n`);
+  for (const c of failed) lines.push(`  ${c.severity.padEnd(6)}  ${c.ruleId}: ${c.explanation}${c.source ? `  [${c.source}]` : ''}\n`);
   const passed = report.checks.filter((c) => c.passed).map((c) => (c.outcome === 'not_measurable' ? `${c.ruleId} (not measurable)` : c.ruleId));
   if (passed.length > 0) lines.push(`  met: ${passed.join(', ')}\n`);
   const k = report.correction;
@@ -41,9 +45,13 @@ export function formatReport(report: QcReport): string {
     lines.push(`gain     ${k.gainDb > 0 ? '+' : ''}${fmt(k.gainDb, 2)} dB to ${k.targetLufs} LUFS; ${tp}${ceiling}\n`);
   }
   const tc = report.timecode;
-  lines.push(`flags    ${report.flagsTotal}${report.flagsTruncated ? ` (${report.flags.length} kept)` : ''}  timecode ${tc.frameRate} fps from ${tc.originTimecode}\n`);
-  for (const f of report.flags.slice(0, SHOWN_FLAGS)) lines.push(flagLine(report, f));
-  if (report.flagsTotal > SHOWN_FLAGS) lines.push(`  ... ${report.flagsTotal - SHOWN_FLAGS} more (see --json)\n`);
+  const n = report.flagCounts;
+  lines.push(`flags    ${report.flagsTotal} (${n.fail} fail, ${n.warn} warn, ${n.remark} remark)${report.flagsTruncated ? `, ${report.flags.length} kept` : ''}  timecode ${tc.frameRate} fps from ${tc.originTimecode}\n`);
+  const breaches = report.flags.filter((f) => f.severity !== 'remark').slice(0, SHOWN_BREACHES);
+  const remarks = report.flags.filter((f) => f.severity === 'remark').slice(0, SHOWN_REMARKS);
+  for (const f of [...breaches, ...remarks]) lines.push(flagLine(f));
+  const hidden = report.flagsTotal - breaches.length - remarks.length;
+  if (hidden > 0) lines.push(`  ... ${hidden} more (see --json)\n`);
   return lines.join('');
 }
 

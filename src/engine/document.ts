@@ -38,6 +38,20 @@ export interface ChannelSummary {
   dead: boolean;
 }
 
+/** What can be wrong with the file itself, whatever profile judges it. */
+export type IntegrityCode = 'data_ends_early' | 'unreadable_data' | 'non_finite_samples' | 'no_audio' | 'too_short';
+
+export interface DocumentIntegrityProblem {
+  code: IntegrityCode;
+  /** Where the audio stops, or the first bad sample: frames from the start. */
+  atSample: number;
+  atSeconds: number;
+  message: string;
+}
+
+/** One 400 ms gating block (ITU-R BS.1770-5 eq. (3)): audio shorter than this has no loudness at all. */
+export const MIN_MEASURABLE_SECONDS = 0.4;
+
 export interface AnalysisDocument {
   schemaVersion: number;
   engine: { name: string; version: string };
@@ -78,8 +92,36 @@ export interface AnalysisDocument {
     clipping: { thresholdDbfs: number; minRunSamples: number };
     silence: { thresholdDbfs: number; minDurationSeconds: number };
   };
+  /** Problems with the file itself (cut short, unreadable, non-finite, no audio); empty when intact. */
+  integrity: { intact: boolean; problems: DocumentIntegrityProblem[] };
   warnings: DecodeWarning[];
   analysisSeconds: number;
+}
+
+const seconds = (frames: number, rate: number) => `${(frames / rate).toFixed(3)} s`;
+
+/**
+ * Integrity from the decoder's warnings and the frame count. A declared length the stream does
+ * not reach is a cut file even when the decoder said nothing.
+ */
+export function integrityOf(format: AudioFormat, frames: number, warnings: readonly DecodeWarning[]): AnalysisDocument['integrity'] {
+  const rate = format.sampleRate;
+  const problems: DocumentIntegrityProblem[] = [];
+  const add = (code: IntegrityCode, atSample: number, message: string) => problems.push({ code, atSample, atSeconds: atSample / rate, message });
+  let endsEarly = false;
+  for (const w of warnings) {
+    const at = Math.min(w.atFrame ?? frames, frames);
+    if (w.code === 'truncated_data') { endsEarly = true; add('data_ends_early', at, `audio ends at ${seconds(at, rate)}: ${w.message}`); }
+    else if (w.code === 'trailing_garbage') add('unreadable_data', at, `unreadable data after ${seconds(at, rate)}: ${w.message}`);
+    else if (w.code === 'non_finite_samples') add('non_finite_samples', at, `non-finite samples from ${seconds(at, rate)}: ${w.message}`);
+  }
+  if (!endsEarly && format.frames !== null && frames < format.frames) {
+    add('data_ends_early', frames, `audio ends at ${seconds(frames, rate)} but the file declares ${seconds(format.frames, rate)} (${format.frames - frames} frames missing)`);
+  }
+  if (frames === 0) add('no_audio', 0, 'the file holds no audio frames');
+  else if (frames < MIN_MEASURABLE_SECONDS * rate) add('too_short', frames, `the audio is ${seconds(frames, rate)} long, shorter than one 400 ms loudness block: nothing can be measured`);
+  problems.sort((a, b) => a.atSample - b.atSample);
+  return { intact: problems.length === 0, problems };
 }
 
 /**
@@ -190,6 +232,7 @@ export function buildAnalysisDocument(
       clipping: { thresholdDbfs: 20 * Math.log10(m.clipping.thresholdLinear), minRunSamples: m.clipping.minRunSamples },
       silence: { thresholdDbfs: m.silence.thresholdDbfs, minDurationSeconds: m.silence.minDurationSeconds },
     },
+    integrity: integrityOf(format, m.frames, warnings),
     warnings,
     analysisSeconds,
   };

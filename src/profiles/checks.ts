@@ -5,9 +5,9 @@
 import type { AnalysisDocument } from '../engine/document.ts';
 import { fmt, fmtAgainst, fmtGap, fmtLimit } from './format.ts';
 import type { CheckLimit, CheckResult } from './report.ts';
-import { DEFAULT_MAX_CLIP_RUNS, type IntegratedLoudnessRule, type Rule } from './types.ts';
+import { DEFAULT_MAX_CLIP_RUNS, type DropoutRule, type IntegratedLoudnessRule, type IntegrityRule, type Profile, type Rule } from './types.ts';
 
-type Draft = Omit<CheckResult, 'ruleId' | 'type' | 'severity' | 'source'>;
+type Draft = Omit<CheckResult, 'ruleId' | 'type' | 'severity' | 'source'> & { severity?: CheckResult['severity'] };
 
 const notMeasurable = (what: string, unit: string, limit: CheckLimit, why: string, passed = true): Draft => ({
   measured: null, unit, limit, outcome: 'not_measurable', passed,
@@ -42,22 +42,69 @@ function within(what: string, value: number, min: number | undefined, max: numbe
   return { measured: value, unit, limit, outcome: verdictOf(passed), passed, explanation };
 }
 
-function integrated(rule: IntegratedLoudnessRule, value: number | null): Draft {
+/** Why there is no integrated loudness, in plain words. */
+export function whyNoLoudness(doc: AnalysisDocument): string {
+  const frames = doc.format.framesDecoded;
+  if (frames === 0) return 'the file holds no audio';
+  if (frames < 0.4 * doc.format.sampleRate) return `the audio is ${fmt(frames / doc.format.sampleRate, 3)} s long, shorter than one 400 ms gating block`;
+  if (doc.summary.samplePeakDbfs === null) return 'the file is digital silence throughout';
+  return 'no 400 ms block is above the -70 LUFS absolute gate';
+}
+
+function integrated(rule: IntegratedLoudnessRule, doc: AnalysisDocument): Draft {
+  const value = doc.summary.integratedLufs;
   const hasTarget = rule.targetLufs !== undefined && rule.toleranceLu !== undefined;
   const limit: CheckLimit = hasTarget ? { targetLufs: rule.targetLufs, toleranceLu: rule.toleranceLu } : { ...(rule.minLufs !== undefined ? { min: rule.minLufs } : {}), ...(rule.maxLufs !== undefined ? { max: rule.maxLufs } : {}), ...(rule.targetLufs !== undefined ? { targetLufs: rule.targetLufs } : {}) };
-  if (value === null) return notMeasurable('Integrated loudness', 'LUFS', limit, 'no 400 ms block above the -70 LUFS absolute gate', false);
+  if (value === null) return notMeasurable('Integrated loudness', 'LUFS', limit, whyNoLoudness(doc), false);
   if (!hasTarget) return { ...within('Integrated loudness', value, rule.minLufs, rule.maxLufs, 'LUFS', 'LU'), limit };
   const target = rule.targetLufs as number;
   const tolerance = rule.toleranceLu as number;
+  const measurementTolerance = rule.measurementToleranceLu ?? 0;
   const deviation = value - target;
-  const passed = Math.abs(deviation) <= tolerance;
-  const side = deviation > 0 ? 'above' : 'below';
   const gap = Math.abs(deviation);
+  const passed = gap <= tolerance;
+  const marginal = !passed && gap <= tolerance + measurementTolerance;
+  const side = deviation > 0 ? 'above' : 'below';
   const gapText = fmtAgainst(gap, tolerance);
-  const explanation = passed && fmt(gap) === '0.0'
-    ? `Integrated loudness ${fmt(value)} LUFS is on the ${fmtLimit(target)} LUFS target (tolerance ±${fmt(tolerance)} LU)`
-    : `Integrated loudness ${fmt(value)} LUFS is ${gapText} LU ${side} the ${fmtLimit(target)} LUFS target (tolerance ±${fmt(tolerance)} LU)`;
-  return { measured: value, unit: 'LUFS', limit, outcome: verdictOf(passed), passed, explanation };
+  const tol = `tolerance ±${fmt(tolerance)} LU${measurementTolerance > 0 ? `, measurement tolerance ±${fmt(measurementTolerance)} LU` : ''}`;
+  let explanation = passed && fmt(gap) === '0.0'
+    ? `Integrated loudness ${fmt(value)} LUFS is on the ${fmtLimit(target)} LUFS target (${tol})`
+    : `Integrated loudness ${fmt(value)} LUFS is ${gapText} LU ${side} the ${fmtLimit(target)} LUFS target (${tol})`;
+  if (marginal) explanation += ': outside the tolerance but inside the measurement tolerance, so a warning';
+  if (measurementTolerance > 0) limit.measurementToleranceLu = measurementTolerance;
+  return {
+    measured: value, unit: 'LUFS', limit, outcome: marginal ? 'marginal' : verdictOf(passed), passed, explanation,
+    ...(marginal ? { severity: 'warn' as const } : {}),
+  };
+}
+
+function dropouts(rule: DropoutRule, doc: AnalysisDocument): Draft {
+  const inScope = (c: number) => !rule.channels || rule.channels.some((l) => l === doc.format.channelLabels[c]);
+  const perChannel = doc.channels.filter((c) => inScope(c.index) && c.dropouts > 0);
+  const n = doc.summary.allChannelDropouts + perChannel.reduce((sum, c) => sum + c.dropouts, 0);
+  const scope = rule.channels ? ` in ${rule.channels.join(', ')}` : '';
+  const where = [
+    ...(doc.summary.allChannelDropouts > 0 ? [`${doc.summary.allChannelDropouts} in all channels`] : []),
+    ...perChannel.map((c) => `${c.dropouts} in ${label(doc, c.index)}`),
+  ];
+  return count(n === 1 ? `dropout${scope}` : `dropouts${scope}`, n, rule.maxCount ?? 0, 'dropouts', where.length > 0 ? ` (${where.join(', ')})` : '');
+}
+
+function integrityDraft(doc: AnalysisDocument): Draft {
+  const problems = doc.integrity.problems;
+  const passed = problems.length === 0;
+  return {
+    measured: problems.map((p) => p.code), unit: null, limit: { max: 0 }, outcome: verdictOf(passed), passed,
+    explanation: passed ? 'The file is complete and readable' : problems.map((p) => p.message).join('; '),
+  };
+}
+
+/** The file itself: always checked, fail unless the profile lowers it to warn. */
+export function integrityCheck(profile: Profile, doc: AnalysisDocument): CheckResult {
+  const rule = profile.rules.find((r): r is IntegrityRule => r.type === 'integrity');
+  if (rule) return runCheck(rule, doc);
+  const taken = profile.rules.some((r) => r.id === 'integrity');
+  return { ruleId: taken ? 'file-integrity' : 'integrity', type: 'integrity', severity: 'fail', source: 'every profile: the file must be complete and readable', ...integrityDraft(doc) };
 }
 
 const label = (doc: AnalysisDocument, c: number) => `${c + 1} (${doc.channels[c]?.label ?? 'unknown'})`;
@@ -78,8 +125,12 @@ function membership(what: string, value: number | string, allowed: Array<number 
 function draftFor(rule: Rule, doc: AnalysisDocument): Draft {
   const s = doc.summary;
   switch (rule.type) {
-    case 'integrated-loudness': return integrated(rule, s.integratedLufs);
-    case 'true-peak': return atMost('True peak', s.truePeakDbtp, rule.maxDbtp, 'dBTP', 'digital silence');
+    case 'integrated-loudness': return integrated(rule, doc);
+    case 'true-peak': return rule.reading === 'reconstructed'
+      ? atMost('Reconstructed true peak', s.reconstructedPeakDbtp, rule.maxDbtp, 'dBTP', 'digital silence')
+      : atMost('True peak (BS.1770 Annex 2)', s.truePeakDbtp, rule.maxDbtp, 'dBTP', 'digital silence');
+    case 'dropouts': return dropouts(rule, doc);
+    case 'integrity': return integrityDraft(doc);
     case 'sample-peak': return atMost('Sample peak', s.samplePeakDbfs, rule.maxDbfs, 'dBFS', 'digital silence');
     case 'momentary-max': return atMost('Maximum momentary loudness', s.maxMomentaryLufs, rule.maxLufs, 'LUFS', 'shorter than 400 ms or silent');
     case 'short-term-max': return atMost('Maximum short-term loudness', s.maxShortTermLufs, rule.maxLufs, 'LUFS', 'shorter than 3 s or silent');
@@ -137,5 +188,6 @@ function draftFor(rule: Rule, doc: AnalysisDocument): Draft {
 }
 
 export function runCheck(rule: Rule, doc: AnalysisDocument): CheckResult {
-  return { ruleId: rule.id, type: rule.type, severity: rule.severity, source: rule.source ?? null, ...draftFor(rule, doc) };
+  const { severity, ...draft } = draftFor(rule, doc);
+  return { ruleId: rule.id, type: rule.type, severity: severity ?? rule.severity, source: rule.source ?? null, ...draft };
 }

@@ -3,10 +3,11 @@
 
 import type { AnalysisDocument } from '../engine/document.ts';
 import { EarmarkError } from '../errors/index.ts';
-import { runCheck } from './checks.ts';
+import { integrityCheck, runCheck } from './checks.ts';
 import { buildFlags, type FlagOptions } from './flags.ts';
 import { analysisOptionsForProfile } from './options.ts';
-import { REPORT_VERSION, type CheckResult, type Correction, type QcReport, type Verdict } from './report.ts';
+import { REPORT_VERSION, type CheckResult, type Correction, type IntegrityProblem, type QcReport, type Verdict } from './report.ts';
+import { fmt } from './format.ts';
 import { FRAME_RATES, timecodeAtSample, type FrameRate } from './timecode.ts';
 import type { FrameRateId, IntegratedLoudnessRule, Profile } from './types.ts';
 
@@ -51,26 +52,54 @@ export function correctionFor(profile: Profile, doc: AnalysisDocument): Correcti
   const gainDb = Math.round((targetLufs - measured) * 100) / 100;
   const ceilings = profile.rules.flatMap((r) => (r.type === 'true-peak' ? [r.maxDbtp] : []));
   const ceilingDbtp = ceilings.length > 0 ? Math.min(...ceilings) : null;
-  const truePeak = doc.summary.truePeakDbtp;
+  const reconstructed = profile.rules.some((r) => r.type === 'true-peak' && r.reading === 'reconstructed');
+  const truePeak = reconstructed ? doc.summary.reconstructedPeakDbtp : doc.summary.truePeakDbtp;
   const truePeakAfterDbtp = truePeak === null ? null : truePeak + gainDb;
   return { targetLufs, gainDb, truePeakAfterDbtp, ceilingDbtp, exceedsCeiling: ceilingDbtp !== null && truePeakAfterDbtp !== null && truePeakAfterDbtp > ceilingDbtp };
+}
+
+/** One line, first everywhere: the verdict and its main reason in plain words. */
+export function headlineOf(verdict: Verdict, checks: CheckResult[], integrity: CheckResult, problems: IntegrityProblem[], doc: AnalysisDocument): string {
+  const head = verdict.toUpperCase();
+  if (problems.length > 0) {
+    const p = problems[0];
+    const more = problems.length > 1 ? ` (+${problems.length - 1} more file problem${problems.length > 2 ? 's' : ''})` : '';
+    return `${head}: damaged file at ${p.atTimecode}: ${p.message}${more}`;
+  }
+  if (doc.summary.allSilent) return `${head}: the file is digital silence throughout`;
+  const broken = checks.filter((c) => !c.passed && c !== integrity).sort((a, b) => (a.severity === b.severity ? 0 : a.severity === 'fail' ? -1 : 1));
+  if (broken.length === 0) {
+    const s = doc.summary;
+    const lufs = s.integratedLufs === null ? 'integrated not measurable' : `integrated ${fmt(s.integratedLufs)} LUFS`;
+    const tp = s.truePeakDbtp === null ? '' : `, true peak ${fmt(s.truePeakDbtp)} dBTP`;
+    return `${head}: all ${checks.length} checks met; ${lufs}${tp}`;
+  }
+  const more = broken.length > 1 ? ` (+${broken.length - 1} more)` : '';
+  return `${head}: ${broken[0].explanation}${more}`;
 }
 
 export function evaluate(profile: Profile, doc: AnalysisDocument, options: EvaluateOptions = {}): QcReport {
   assertSettings(profile, doc);
   const rate: FrameRate = FRAME_RATES[options.frameRate ?? profile.timecode?.frameRate ?? DEFAULT_FRAME_RATE];
-  const checks = profile.rules.map((rule) => runCheck(rule, doc));
-  const { flags, flagsTotal } = buildFlags(profile, doc, checks, rate, options);
+  // Integrity first: every profile judges it, whether or not it names it.
+  const integrity = integrityCheck(profile, doc);
+  const checks = [integrity, ...profile.rules.filter((r) => r.type !== 'integrity').map((rule) => runCheck(rule, doc))];
+  const { flags, flagsTotal, flagCounts } = buildFlags(profile, doc, checks, integrity, rate, options);
   const origin = doc.format.timeReferenceSamples;
+  const problems = doc.integrity.problems.map((p) => ({ ...p, atTimecode: timecodeAtSample(p.atSample, doc.format.sampleRate, rate, origin) }));
+  const verdict = verdictOf(checks);
   return {
     ...doc,
     reportVersion: REPORT_VERSION,
-    verdict: verdictOf(checks),
+    verdict,
+    headline: headlineOf(verdict, checks, integrity, problems, doc),
+    integrity: { intact: problems.length === 0, severity: integrity.severity, problems },
     profile: { id: profile.id, version: profile.version, name: profile.name, basis: profile.basis },
     checks,
     flags,
     flagsTotal,
     flagsTruncated: flags.length < flagsTotal,
+    flagCounts,
     correction: correctionFor(profile, doc),
     timecode: {
       frameRate: rate.id,

@@ -1,15 +1,19 @@
-// Time-located flags from the engine's events, kept only for rules whose check failed, with
-// the severity of the strictest such rule. Nearby flags of one kind, channel and rule merge
-// (a burst of overs is one flag, counted); the list is capped, fail flags kept first.
+// Every finding of the analysis becomes a time-located flag. A finding that breaks a broken rule
+// carries that rule's severity; any other finding is a remark: shown, never counted in the
+// verdict. Nearby flags of one kind, rule, severity and channel merge (a burst of clip runs is one
+// flag with its count, end and worst value); the list is capped, fail flags kept first.
 
 import type { AnalysisEvent, EventKind } from '../analysis/events.ts';
 import type { AnalysisDocument } from '../engine/document.ts';
-import type { CheckResult, Flag, FlagKind } from './report.ts';
+import { fmt } from './format.ts';
+import type { CheckResult, Flag, FlagKind, FlagSeverity } from './report.ts';
 import { timecodeAtSample, type FrameRate } from './timecode.ts';
-import type { Profile, Rule, RuleType } from './types.ts';
+import type { Profile, Rule, RuleType, Severity } from './types.ts';
 
 export const DEFAULT_FLAG_MERGE_SECONDS = 0.5;
 export const DEFAULT_MAX_FLAGS = 500;
+/** A DC offset at or above this is shown as a remark when no rule judges it (common practice, our default). */
+export const REMARK_DC_OFFSET_DBFS = -60;
 
 export interface FlagOptions {
   /** Flags of one kind closer than this merge. */
@@ -17,10 +21,38 @@ export interface FlagOptions {
   maxFlags?: number;
 }
 
-const EVENT_RULES: Partial<Record<EventKind, { kind: FlagKind; rule: RuleType }>> = {
+/** Words and unit of each kind, as printed everywhere. */
+export const FLAG_KINDS: Record<FlagKind, { title: string; unit: string | null }> = {
+  data_ends_early: { title: 'Audio ends early', unit: null },
+  unreadable_data: { title: 'Unreadable data', unit: null },
+  non_finite_samples: { title: 'Non-finite samples', unit: null },
+  no_audio: { title: 'No audio', unit: null },
+  too_short: { title: 'Too short to measure', unit: null },
+  clipping: { title: 'Clipping run', unit: 'dBFS' },
+  dropout: { title: 'Dropout', unit: 'dBFS' },
+  silence_gap: { title: 'Gap in programme', unit: 'dBFS' },
+  silence: { title: 'Silence', unit: 'dBFS' },
+  head_silence: { title: 'Silence at head', unit: null },
+  tail_silence: { title: 'Silence at tail', unit: null },
+  true_peak_over: { title: 'True-peak over', unit: 'dBTP' },
+  loud_short_term: { title: 'Short-term loudness over', unit: 'LUFS' },
+  loud_momentary: { title: 'Momentary loudness over', unit: 'LUFS' },
+  phase_problem: { title: 'Anti-phase passage', unit: 'correlation' },
+  dead_channel: { title: 'Dead channel', unit: null },
+  duplicate_channel: { title: 'Duplicate channel', unit: null },
+  inverted_channel: { title: 'Inverted channel', unit: null },
+  dc_offset: { title: 'DC offset', unit: 'dBFS' },
+};
+
+type Draft = Pick<Flag, 'kind' | 'ruleId' | 'severity' | 'channel' | 'otherChannel' | 'startSample' | 'endSample' | 'worstValue' | 'count' | 'detections'> & { message?: string };
+
+/** The rule types that judge an engine event, and the flag kind it becomes. */
+const EVENT_FLAGS: Record<EventKind, { kind: FlagKind; rule: RuleType | null }> = {
   clipping: { kind: 'clipping', rule: 'clipping' },
-  silence: { kind: 'silence_gap', rule: 'silence-gap' },
+  dropout: { kind: 'dropout', rule: 'dropouts' },
+  silence: { kind: 'silence', rule: null },
   true_peak_over: { kind: 'true_peak_over', rule: 'true-peak' },
+  reconstructed_over: { kind: 'true_peak_over', rule: 'true-peak' },
   loud_short_term: { kind: 'loud_short_term', rule: 'short-term-max' },
   loud_momentary: { kind: 'loud_momentary', rule: 'momentary-max' },
   phase_problem: { kind: 'phase_problem', rule: 'phase' },
@@ -29,106 +61,184 @@ const EVENT_RULES: Partial<Record<EventKind, { kind: FlagKind; rule: RuleType }>
   inverted_channel: { kind: 'inverted_channel', rule: 'inverted-channels' },
 };
 
-/** Does this event break this (failed) rule? Threshold kinds compare the event's own value. */
-function breaks(rule: Rule, e: AnalysisEvent): boolean {
+/** Does this finding break this rule? Threshold kinds compare the finding's own value. */
+function breaks(rule: Rule, e: AnalysisEvent, doc: AnalysisDocument): boolean {
   switch (rule.type) {
-    case 'true-peak': return (e.peakValue ?? Infinity) > rule.maxDbtp;
+    case 'true-peak': return (e.kind === 'reconstructed_over') === (rule.reading === 'reconstructed') && (e.peakValue ?? Infinity) > rule.maxDbtp;
     case 'short-term-max': case 'momentary-max': return (e.peakValue ?? Infinity) > rule.maxLufs;
-    case 'silence-gap': return e.endSeconds - e.startSeconds > rule.maxSeconds;
+    case 'silence-gap': return e.endFrame - e.startFrame > rule.maxSeconds * doc.format.sampleRate;
+    case 'dropouts': return e.channel === null || !rule.channels || rule.channels.some((l) => l === doc.format.channelLabels[e.channel ?? -1]);
     default: return true;
   }
 }
 
-type Draft = Omit<Flag, 'startTimecode' | 'endTimecode' | 'startSeconds' | 'endSeconds'>;
+const rank = (s: FlagSeverity) => (s === 'fail' ? 0 : s === 'warn' ? 1 : 2);
 
-const severityRank = (r: Rule) => (r.severity === 'fail' ? 0 : 1);
-
-function strictestBroken(rules: Rule[], e: AnalysisEvent): Rule | undefined {
-  return rules.filter((r) => breaks(r, e)).sort((a, b) => severityRank(a) - severityRank(b))[0];
+/** The severity and rule of a finding: the strictest broken rule that it breaks, else a remark (naming a met rule that judges it, if any). */
+function judge(rules: Rule[], checks: Map<string, CheckResult>, e: AnalysisEvent, doc: AnalysisDocument): { ruleId: string | null; severity: FlagSeverity } {
+  let best: { ruleId: string | null; severity: FlagSeverity } = { ruleId: null, severity: 'remark' };
+  for (const rule of rules) {
+    if (!breaks(rule, e, doc)) continue;
+    const check = checks.get(rule.id);
+    const severity: FlagSeverity = check && !check.passed ? check.severity : 'remark';
+    if (best.ruleId === null || rank(severity) < rank(best.severity)) best = { ruleId: rule.id, severity };
+  }
+  return best;
 }
 
-function draftsFromEvents(profile: Profile, doc: AnalysisDocument, failed: Set<string>): { drafts: Draft[]; unseen: number } {
-  const dead = new Set(doc.summary.deadChannels);
+/** True-peak overs come from the reading the profile judges: one list, not two of the same overs. */
+function judgedOverKind(profile: Profile): EventKind {
+  return profile.rules.some((r) => r.type === 'true-peak' && r.reading === 'reconstructed') ? 'reconstructed_over' : 'true_peak_over';
+}
+
+function eventDrafts(profile: Profile, doc: AnalysisDocument, checks: Map<string, CheckResult>): Draft[] {
   const frames = doc.format.framesDecoded;
+  const overKind = judgedOverKind(profile);
   const drafts: Draft[] = [];
-  const seenPerKind = new Map<EventKind, number>();
-  const attributed = new Set<EventKind>();
   for (const e of doc.events) {
-    seenPerKind.set(e.kind, (seenPerKind.get(e.kind) ?? 0) + 1);
-    const map = EVENT_RULES[e.kind];
-    if (!map) continue;
-    const rules = profile.rules.filter((r) => r.type === map.rule && failed.has(r.id));
-    if (rules.length === 0) continue;
-    attributed.add(e.kind);
-    // Only all-channel gaps with signal on both sides; head and tail have their own rules.
-    if (e.kind === 'silence' && (e.channel !== null || e.startFrame === 0 || e.endFrame >= frames)) continue;
-    if ((e.kind === 'duplicate_channel' || e.kind === 'inverted_channel') && (dead.has(e.channel ?? -1) || dead.has(e.otherChannel ?? -1))) continue;
-    const rule = strictestBroken(rules, e);
-    if (!rule) continue;
+    if ((e.kind === 'true_peak_over' || e.kind === 'reconstructed_over') && e.kind !== overKind) continue;
+    const map = EVENT_FLAGS[e.kind];
+    let kind = map.kind;
+    let rules = map.rule ? profile.rules.filter((r) => r.type === map.rule) : [];
+    if (e.kind === 'silence' && e.channel === null) {
+      // Head and tail silence come from the summary (edgeDrafts); the rest is a gap in the programme.
+      if (e.startFrame === 0 || e.endFrame >= frames) continue;
+      kind = 'silence_gap';
+      rules = profile.rules.filter((r) => r.type === 'silence-gap');
+    }
+    const { ruleId, severity } = judge(rules, checks, e, doc);
     drafts.push({
-      kind: map.kind, ruleId: rule.id, severity: rule.severity, channel: e.channel,
-      ...(e.otherChannel !== undefined ? { otherChannel: e.otherChannel } : {}),
-      startSample: e.startFrame, endSample: e.endFrame, peakValue: e.peakValue ?? null, mergedEvents: 1, detections: e.count ?? 1,
+      kind, ruleId, severity, channel: e.channel, ...(e.otherChannel !== undefined ? { otherChannel: e.otherChannel } : {}),
+      startSample: e.startFrame, endSample: e.endFrame, worstValue: e.peakValue ?? null, count: 1, detections: e.count ?? 1,
     });
   }
-  // Events the analysis counted but did not keep: not merged, but counted (silence counts mix channels, so not).
-  let unseen = 0;
-  for (const kind of attributed) if (kind !== 'silence') unseen += Math.max(0, (doc.eventCounts[kind] ?? 0) - (seenPerKind.get(kind) ?? 0));
-  return { drafts, unseen };
+  return drafts;
 }
 
-function edgeDrafts(profile: Profile, doc: AnalysisDocument, failed: Set<string>): Draft[] {
+/** The severity a broken check of this type gives, with its rule id; a remark when none is broken. */
+function ruleVerdict(profile: Profile, checks: Map<string, CheckResult>, type: RuleType, applies: (r: Rule) => boolean = () => true): { ruleId: string | null; severity: FlagSeverity } {
+  const rules = profile.rules.filter((r) => r.type === type && applies(r));
+  const broken = rules.map((r) => checks.get(r.id)).filter((c): c is CheckResult => c !== undefined && !c.passed)
+    .sort((a, b) => rank(a.severity) - rank(b.severity));
+  if (broken.length > 0) return { ruleId: broken[0].ruleId, severity: broken[0].severity };
+  return { ruleId: rules[0]?.id ?? null, severity: 'remark' };
+}
+
+function edgeDrafts(profile: Profile, doc: AnalysisDocument, checks: Map<string, CheckResult>): Draft[] {
   const frames = doc.format.framesDecoded;
   const rate = doc.format.sampleRate;
+  const notable = doc.settings.silence.minDurationSeconds;
   const out: Draft[] = [];
-  for (const rule of profile.rules) {
-    if (!failed.has(rule.id) || (rule.type !== 'head-silence' && rule.type !== 'tail-silence')) continue;
-    const head = rule.type === 'head-silence';
-    const length = Math.min(frames, Math.round((head ? doc.summary.headSilenceSeconds : doc.summary.tailSilenceSeconds) * rate));
+  const edges = doc.summary.allSilent ? (['head-silence'] as const) : (['head-silence', 'tail-silence'] as const);
+  for (const type of edges) {
+    const head = type === 'head-silence';
+    const seconds = head ? doc.summary.headSilenceSeconds : doc.summary.tailSilenceSeconds;
+    const judged = ruleVerdict(profile, checks, type);
+    if (seconds <= 0 || (judged.severity === 'remark' && seconds < notable)) continue;
+    const length = Math.min(frames, Math.round(seconds * rate));
     out.push({
-      kind: head ? 'head_silence' : 'tail_silence', ruleId: rule.id, severity: rule.severity, channel: null,
-      startSample: head ? 0 : frames - length, endSample: head ? length : frames, peakValue: null, mergedEvents: 1, detections: 1,
+      kind: head ? 'head_silence' : 'tail_silence', ...judged, channel: null,
+      startSample: head ? 0 : frames - length, endSample: head ? length : frames, worstValue: null, count: 1, detections: 1,
     });
   }
   return out;
 }
 
+function dcDrafts(profile: Profile, doc: AnalysisDocument, checks: Map<string, CheckResult>): Draft[] {
+  const out: Draft[] = [];
+  for (const c of doc.channels) {
+    if (c.dcOffsetDbfs === null) continue;
+    const judged = ruleVerdict(profile, checks, 'dc-offset', (r) => r.type === 'dc-offset' && (c.dcOffsetDbfs ?? -Infinity) > r.maxDbfs);
+    if (judged.severity === 'remark' && c.dcOffsetDbfs < REMARK_DC_OFFSET_DBFS) continue;
+    out.push({ kind: 'dc_offset', ...judged, channel: c.index, startSample: 0, endSample: doc.format.framesDecoded, worstValue: c.dcOffsetDbfs, count: 1, detections: 1 });
+  }
+  return out;
+}
+
+function integrityDrafts(doc: AnalysisDocument, integrity: CheckResult): Draft[] {
+  const frames = doc.format.framesDecoded;
+  return doc.integrity.problems.map((p) => ({
+    kind: p.code, ruleId: integrity.ruleId, severity: integrity.passed ? 'remark' : integrity.severity, channel: null,
+    startSample: p.atSample, endSample: Math.max(p.atSample, p.code === 'data_ends_early' ? p.atSample : frames), worstValue: null, count: 1, detections: 1, message: p.message,
+  }));
+}
+
 function merge(drafts: Draft[], gapSamples: number): Draft[] {
-  const key = (d: Draft) => `${d.kind}|${d.ruleId}|${d.channel}|${d.otherChannel ?? ''}`;
+  const key = (d: Draft) => `${d.kind}|${d.ruleId}|${d.severity}|${d.channel}|${d.otherChannel ?? ''}`;
   const sorted = [...drafts].sort((a, b) => key(a).localeCompare(key(b)) || a.startSample - b.startSample);
   const out: Draft[] = [];
   for (const d of sorted) {
     const last = out[out.length - 1];
-    if (last && key(last) === key(d) && d.startSample - last.endSample <= gapSamples) {
+    if (last && key(last) === key(d) && d.message === undefined && d.startSample - last.endSample <= gapSamples) {
       last.endSample = Math.max(last.endSample, d.endSample);
-      last.mergedEvents += d.mergedEvents;
+      last.count += d.count;
       last.detections += d.detections;
-      if (d.peakValue !== null) {
+      if (d.worstValue !== null) {
         const lower = d.kind === 'phase_problem'; // correlation: the lowest is the worst
-        last.peakValue = last.peakValue === null ? d.peakValue : lower ? Math.min(last.peakValue, d.peakValue) : Math.max(last.peakValue, d.peakValue);
+        last.worstValue = last.worstValue === null ? d.worstValue : lower ? Math.min(last.worstValue, d.worstValue) : Math.max(last.worstValue, d.worstValue);
       }
     } else out.push({ ...d });
   }
   return out;
 }
 
-export function buildFlags(profile: Profile, doc: AnalysisDocument, checks: CheckResult[], rate: FrameRate, options: FlagOptions = {}): { flags: Flag[]; flagsTotal: number } {
-  const failed = new Set(checks.filter((c) => !c.passed).map((c) => c.ruleId));
+/** "2 R": the 1-based channel number and its role, or "all". */
+export function channelName(doc: AnalysisDocument, channel: number | null): string {
+  return channel === null ? 'all' : `${channel + 1} ${doc.channels[channel]?.label ?? doc.format.channelLabels[channel] ?? 'unknown'}`;
+}
+
+function messageOf(f: Omit<Flag, 'message' | 'number'>): string {
+  const where = f.channel === null ? 'all channels' : `channel ${f.channelName}${f.otherChannelName ? ` and ${f.otherChannelName}` : ''}`;
+  const span = f.endSample > f.startSample ? `${f.startTimecode} to ${f.endTimecode} (${fmt(f.endSeconds - f.startSeconds, 3)} s)` : `at ${f.startTimecode}`;
+  const count = f.count > 1 ? `, ${f.count} merged` : '';
+  const worst = f.worstValue !== null && f.unit ? `, worst ${fmt(f.worstValue, f.unit === 'correlation' ? 2 : 1)} ${f.unit}` : '';
+  return `${f.title}, ${where}, ${span}${count}${worst}`;
+}
+
+export interface BuiltFlags {
+  flags: Flag[];
+  flagsTotal: number;
+  flagCounts: Record<FlagSeverity, number>;
+}
+
+export function buildFlags(profile: Profile, doc: AnalysisDocument, checks: CheckResult[], integrity: CheckResult, rate: FrameRate, options: FlagOptions = {}): BuiltFlags {
+  const byId = new Map(checks.map((c) => [c.ruleId, c]));
   const sampleRate = doc.format.sampleRate;
-  const { drafts, unseen } = draftsFromEvents(profile, doc, failed);
-  const merged = merge([...drafts, ...edgeDrafts(profile, doc, failed)], Math.round((options.mergeGapSeconds ?? DEFAULT_FLAG_MERGE_SECONDS) * sampleRate));
+  const drafts = [...integrityDrafts(doc, integrity), ...eventDrafts(profile, doc, byId), ...edgeDrafts(profile, doc, byId), ...dcDrafts(profile, doc, byId)];
+  const merged = merge(drafts, Math.round((options.mergeGapSeconds ?? DEFAULT_FLAG_MERGE_SECONDS) * sampleRate));
+  const flagCounts: Record<FlagSeverity, number> = { fail: 0, warn: 0, remark: 0 };
+  for (const d of merged) flagCounts[d.severity]++;
+  // Findings the analysis counted but did not keep (its event cap): counted, as remarks unless their rule is broken.
+  let unseen = 0;
+  const kept = new Map<EventKind, number>();
+  for (const e of doc.events) kept.set(e.kind, (kept.get(e.kind) ?? 0) + 1);
+  for (const [kind, total] of Object.entries(doc.eventCounts) as [EventKind, number][]) {
+    const missing = Math.max(0, total - (kept.get(kind) ?? 0));
+    const rule = EVENT_FLAGS[kind].rule;
+    if (missing === 0 || kind === 'silence') continue;
+    unseen += missing;
+    flagCounts[rule ? ruleVerdict(profile, byId, rule).severity : 'remark'] += missing;
+  }
   const maxFlags = options.maxFlags ?? DEFAULT_MAX_FLAGS;
-  const kept = [...merged]
-    .sort((a, b) => (a.severity === b.severity ? 0 : a.severity === 'fail' ? -1 : 1) || a.startSample - b.startSample)
+  const chosen = [...merged]
+    .sort((a, b) => rank(a.severity) - rank(b.severity) || a.startSample - b.startSample)
     .slice(0, maxFlags)
-    .sort((a, b) => a.startSample - b.startSample || (a.channel ?? -1) - (b.channel ?? -1));
+    .sort((a, b) => a.startSample - b.startSample || (a.channel ?? -1) - (b.channel ?? -1) || rank(a.severity) - rank(b.severity));
   const origin = doc.format.timeReferenceSamples;
-  const flags = kept.map((d) => ({
-    ...d,
-    startSeconds: d.startSample / sampleRate,
-    endSeconds: d.endSample / sampleRate,
-    startTimecode: timecodeAtSample(d.startSample, sampleRate, rate, origin),
-    endTimecode: timecodeAtSample(d.endSample, sampleRate, rate, origin),
-  }));
-  return { flags, flagsTotal: merged.length + unseen };
+  const flags = chosen.map((d, i): Flag => {
+    const { message, ...rest } = d;
+    const base = {
+      ...rest,
+      title: FLAG_KINDS[d.kind].title,
+      unit: d.worstValue === null ? null : FLAG_KINDS[d.kind].unit,
+      channelName: channelName(doc, d.channel),
+      ...(d.otherChannel !== undefined ? { otherChannelName: channelName(doc, d.otherChannel) } : {}),
+      startSeconds: d.startSample / sampleRate,
+      endSeconds: d.endSample / sampleRate,
+      startTimecode: timecodeAtSample(d.startSample, sampleRate, rate, origin),
+      endTimecode: timecodeAtSample(d.endSample, sampleRate, rate, origin),
+    };
+    return { number: i + 1, ...base, message: message ?? messageOf(base) };
+  });
+  return { flags, flagsTotal: merged.length + unseen, flagCounts };
 }

@@ -19,11 +19,16 @@ interface RuleBase {
 export interface IntegratedLoudnessRule extends RuleBase {
   type: 'integrated-loudness';
   targetLufs?: number;
+  /** Production tolerance (EBU R 128 item h). */
   toleranceLu?: number;
+  /** Measurement tolerance added for QC (EBU R 128 item i): inside it, outside toleranceLu, the check is marginal (warn). */
+  measurementToleranceLu?: number;
   minLufs?: number;
   maxLufs?: number;
 }
-export interface TruePeakRule extends RuleBase { type: 'true-peak'; maxDbtp: number }
+/** annex2: the BS.1770-5 Annex 2 example filter (conformance); reconstructed: our band-limited reading, which does not under-read. */
+export type TruePeakReading = 'annex2' | 'reconstructed';
+export interface TruePeakRule extends RuleBase { type: 'true-peak'; maxDbtp: number; reading?: TruePeakReading }
 export interface SamplePeakRule extends RuleBase { type: 'sample-peak'; maxDbfs: number }
 export interface LoudnessRangeRule extends RuleBase { type: 'loudness-range'; minLu?: number; maxLu?: number }
 export interface MomentaryMaxRule extends RuleBase { type: 'momentary-max'; maxLufs: number }
@@ -40,11 +45,16 @@ export interface BitDepthRule extends RuleBase { type: 'bit-depth'; minBits: num
 export interface ChannelsRule extends RuleBase { type: 'channels'; count?: number; layout?: ChannelLabel[] }
 export interface DurationRule extends RuleBase { type: 'duration'; minSeconds?: number; maxSeconds?: number }
 export interface ContainerRule extends RuleBase { type: 'container'; allowed: Container[] }
+/** Dropouts inside the programme; `channels` scopes the rule to channel roles (any channel when absent). */
+export interface DropoutRule extends RuleBase { type: 'dropouts'; maxCount?: number; channels?: ChannelLabel[] }
+/** The file itself: cut short, unreadable data, non-finite samples, no audio. Every profile has it
+ * (fail when the profile does not name it); a profile may only lower it to warn. */
+export interface IntegrityRule extends RuleBase { type: 'integrity' }
 
 export type Rule =
   | IntegratedLoudnessRule | TruePeakRule | SamplePeakRule | LoudnessRangeRule | MomentaryMaxRule | ShortTermMaxRule
   | ClippingRule | SilenceGapRule | EdgeSilenceRule | DeadChannelRule | ChannelCopyRule | PhaseRule | DcOffsetRule
-  | SampleRateRule | BitDepthRule | ChannelsRule | DurationRule | ContainerRule;
+  | SampleRateRule | BitDepthRule | ChannelsRule | DurationRule | ContainerRule | DropoutRule | IntegrityRule;
 
 export type RuleType = Rule['type'];
 

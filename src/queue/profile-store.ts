@@ -9,6 +9,16 @@ import { BUILTIN_PROFILES, parseProfile, type Profile } from '../profiles/index.
 
 export interface ProfileEntry { profile: Profile; builtin: boolean; versions: number }
 
+/** Equal apart from the version: compared as canonical JSON (keys sorted at every level). */
+function sameContent(a: Profile, b: Profile): boolean {
+  const canonical = (value: unknown): unknown => {
+    if (Array.isArray(value)) return value.map(canonical);
+    if (value && typeof value === 'object') return Object.fromEntries(Object.entries(value).sort(([x], [y]) => x.localeCompare(y)).map(([k, v]) => [k, canonical(v)]));
+    return value;
+  };
+  return JSON.stringify(canonical({ ...a, version: '' })) === JSON.stringify(canonical({ ...b, version: '' }));
+}
+
 export class ProfileStore {
   constructor(readonly redis: Redis, readonly prefix: string) {}
 
@@ -49,8 +59,17 @@ export class ProfileStore {
     const input = body as Record<string, unknown>;
     if (input.id !== undefined && input.id !== id) throw new EarmarkError('invalid_profile', `profile.id "${String(input.id)}" differs from the id in the path`, { field: 'id' });
     const key = this.versionsKey(tenant, id);
-    const next = (await this.redis.llen(key)) + 1;
+    const [last, stored] = await Promise.all([this.redis.lindex(key, -1), this.redis.llen(key)]);
+    const next = stored + 1;
     const profile = parseProfile({ ...input, id, version: `${next}.0.0` });
+    // Saving the same content again is not a new version: reports keep naming the one they used.
+    if (last !== null) {
+      const previous = JSON.parse(last) as Profile;
+      if (sameContent(previous, profile)) {
+        await this.redis.sadd(this.liveKey(tenant), id);
+        return { profile: previous, builtin: false, versions: stored };
+      }
+    }
     // RPUSH returns the new length: a concurrent PUT got the same number, so renumber ours.
     const length = await this.redis.rpush(key, JSON.stringify(profile));
     if (length !== next) {
