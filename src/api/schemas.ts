@@ -45,7 +45,7 @@ export const DeliveryAttempt: Schema = {
 
 export const Job: Schema = {
   type: 'object',
-  required: ['id', 'state', 'progressPercent', 'createdAt', 'startedAt', 'finishedAt', 'attemptsMade', 'profile', 'source', 'externalId', 'metadata', 'verdict', 'summary', 'error', 'callback', 'links'],
+  required: ['id', 'state', 'progressPercent', 'createdAt', 'startedAt', 'finishedAt', 'attemptsMade', 'profile', 'source', 'externalId', 'metadata', 'verdict', 'headline', 'summary', 'error', 'callback', 'links'],
   properties: {
     id: { type: 'string' },
     state: { type: 'string', enum: ['queued', 'active', 'completed', 'failed'] },
@@ -64,6 +64,7 @@ export const Job: Schema = {
     externalId: nullable('string'),
     metadata: { type: ['object', 'null'], additionalProperties: { type: 'string' } },
     verdict: { type: ['string', 'null'], enum: ['pass', 'warn', 'fail', null] },
+    headline: nullable('string', { description: 'The report\'s first line: the verdict and its main reason in plain words (null until completed, and for jobs from before report version 2).' }),
     summary: {
       type: ['object', 'null'], required: ['integratedLufs', 'truePeakDbtp'], additionalProperties: false,
       properties: { integratedLufs: { type: ['number', 'null'] }, truePeakDbtp: { type: ['number', 'null'] } },

@@ -37,6 +37,8 @@ export interface AnalyzeResultV1 {
   /** Headline readings, so listings need not load reports. */
   integratedLufs: number | null;
   truePeakDbtp: number | null;
+  /** The report's first line (report v2); absent in results written before it. */
+  headline?: string;
   /** Storage key of the analysed audio (upload or fetched copy), kept until retention for excerpts. */
   sourceKey: string;
 }

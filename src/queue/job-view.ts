@@ -20,6 +20,8 @@ export interface JobView {
   externalId: string | null;
   metadata: Record<string, string> | null;
   verdict: 'pass' | 'warn' | 'fail' | null;
+  /** The report's first line ("Damaged: audio ends at …"), so a listing shows why without the report. */
+  headline: string | null;
   /** Headline readings of a completed job. */
   summary: { integratedLufs: number | null; truePeakDbtp: number | null } | null;
   error: { code: string; message: string } | null;
@@ -55,6 +57,7 @@ export function jobView(job: Job<AnalyzeJobV1, AnalyzeResultV1>, rawState: strin
     externalId: data.externalId,
     metadata: data.metadata,
     verdict: result?.verdict ?? null,
+    headline: result?.headline ?? null,
     summary: result ? { integratedLufs: result.integratedLufs ?? null, truePeakDbtp: result.truePeakDbtp ?? null } : null,
     error: state === 'failed' ? decodeFailure(job.failedReason) : null,
     callback: data.callbackUrl ? { url: data.callbackUrl, deliveries } : null,

@@ -10,7 +10,8 @@ export interface PlotSeries {
 
 export interface PlotFlag {
   kind: string;
-  severity: 'fail' | 'warn';
+  /** A remark is shown but judged by no rule: drawn fainter, under the others. */
+  severity: 'fail' | 'warn' | 'remark';
   startSeconds: number;
   endSeconds: number;
   label: string;
@@ -103,7 +104,9 @@ export function renderLoudnessPlot(input: PlotInput): string {
   const y = (lufs: number) => plotTop + ((topLufs - Math.min(Math.max(lufs, bottomLufs), topLufs)) / (topLufs - bottomLufs)) * plotHeight;
   const parts: string[] = [];
   parts.push(`<svg xmlns="http://www.w3.org/2000/svg" class="em-plot" viewBox="0 0 ${width} ${height}" role="img" aria-labelledby="em-plot-title">`);
-  parts.push(`<title id="em-plot-title">Momentary and short-term loudness over ${escapeXml(input.formatTime(duration))}, with ${input.flags.length} flagged problem${input.flags.length === 1 ? '' : 's'}</title>`);
+  const remarks = input.flags.filter((f) => f.severity === 'remark').length;
+  const problems = input.flags.length - remarks;
+  parts.push(`<title id="em-plot-title">Momentary and short-term loudness over ${escapeXml(input.formatTime(duration))}, with ${problems} flagged problem${problems === 1 ? '' : 's'}${remarks ? ` and ${remarks} remark${remarks === 1 ? '' : 's'}` : ''}</title>`);
   parts.push(`<rect class="em-plot-bg" x="${plotLeft}" y="${plotTop}" width="${plotWidth}" height="${plotHeight}"/>`);
   if (input.targetBand) {
     const { lowLufs, highLufs, targetLufs } = input.targetBand;
@@ -125,16 +128,20 @@ export function renderLoudnessPlot(input: PlotInput): string {
   }
   for (const points of polyline(input.momentary, x, y)) parts.push(`<polyline class="em-momentary" points="${points}"/>`);
   for (const points of polyline(input.shortTerm, x, y)) parts.push(`<polyline class="em-short-term" points="${points}"/>`);
-  input.flags.forEach((flag, index) => {
+  // Remarks first, so a fail or warn marker is never painted over by one.
+  const order = input.flags.map((flag, index) => ({ flag, index }));
+  order.sort((a, b) => Number(b.flag.severity === 'remark') - Number(a.flag.severity === 'remark') || a.index - b.index);
+  for (const { flag, index } of order) {
     const left = x(flag.startSeconds);
     const markerWidth = Math.max(3, x(flag.endSeconds) - left);
+    // The opacity is an attribute, not only CSS, so the SVG fetched on its own shows it too.
     parts.push(
-      `<g class="em-flag em-flag-${escapeXml(flag.kind)} em-sev-${flag.severity}" data-flag-index="${index}">` +
+      `<g class="em-flag em-flag-${escapeXml(flag.kind)} em-sev-${flag.severity}" data-flag-index="${index}"${flag.severity === 'remark' ? ' opacity="0.45"' : ''}>` +
       `<rect x="${fmt(left)}" y="${plotTop - FLAG_LANE_PX - 4}" width="${fmt(markerWidth)}" height="${FLAG_LANE_PX}"/>` +
       `<rect class="em-flag-span" x="${fmt(left)}" y="${plotTop}" width="${fmt(markerWidth)}" height="${plotHeight}"/>` +
       `<title>${escapeXml(flag.label)}</title></g>`,
     );
-  });
+  }
   parts.push(`<line id="em-plot-cursor" class="em-cursor" x1="${plotLeft}" x2="${plotLeft}" y1="${plotTop - FLAG_LANE_PX - 4}" y2="${plotTop + plotHeight}" data-plot-left="${plotLeft}" data-plot-width="${plotWidth}" data-duration="${duration}" visibility="hidden"/>`);
   parts.push('</svg>');
   return parts.join('');

@@ -55,8 +55,25 @@ export function dashboardPage(): string {
 }
 
 export function reportPage(jobId: string): string {
+  // Order matters: the headline, then any integrity problem or job failure, come before the
+  // readings, so a damaged file or a failed job is the first thing read or heard.
   return shell('Report', `data-page="report" data-job-id="${escapeXml(jobId)}"`, `
+<h2 id="em-headline" class="em-headline" hidden></h2>
 <p id="em-load-status" class="em-status" role="status">Loading…</p>
+<section id="em-integrity" class="em-integrity" aria-labelledby="em-integrity-title" hidden>
+  <h2 id="em-integrity-title"></h2>
+  <p id="em-integrity-note"></p>
+  <ul id="em-integrity-problems" class="em-integrity-problems"></ul>
+</section>
+<section id="em-job-failed" class="em-card em-job-failed" aria-labelledby="em-job-failed-title" hidden>
+  <h2 id="em-job-failed-title">Why it failed and what to do</h2>
+  <dl class="em-failure">
+    <div><dt>Error code</dt><dd><code id="em-failure-code"></code></dd></div>
+    <div><dt>What happened</dt><dd id="em-failure-message"></dd></div>
+    <div><dt>What to do</dt><dd id="em-failure-hint"></dd></div>
+  </dl>
+</section>
+<div id="em-report-body" hidden>
 <section class="em-card" aria-labelledby="em-file">
   <div style="display:flex;flex-wrap:wrap;gap:1rem;align-items:center;justify-content:space-between">
     <div><h2 id="em-file" style="margin:0;word-break:break-all"></h2><div id="em-profile" class="em-status"></div></div>
@@ -67,12 +84,14 @@ export function reportPage(jobId: string): string {
 <div class="em-grid-2">
   <section class="em-card" aria-labelledby="em-plot-title">
     <h2 id="em-plot-title" style="margin-top:0">Loudness over time</h2>
-    <p class="em-status">Thin line: momentary (400 ms). Thick line: short-term (3 s). Band: the profile's target. Marks above the plot: flags.</p>
+    <p class="em-status">Thin line: momentary (400 ms). Thick line: short-term (3 s). Band: the profile's target. Marks above the plot: flags (remarks fainter).</p>
     <div id="em-plot"></div>
     <p id="em-cursor-status" class="em-status" aria-live="polite"></p>
   </section>
   <section class="em-card" aria-labelledby="em-flags-title">
     <h2 id="em-flags-title" style="margin-top:0">Flags</h2>
+    <p id="em-flag-counts" class="em-flag-counts"></p>
+    <p class="em-status">A remark is shown for your ears only: no rule of this profile judges it, so it never changes the verdict.</p>
     <ul id="em-flags" class="em-flags"></ul>
     <h3>Listen</h3>
     <p class="em-caution"><strong>Caution:</strong> turn your playback level down before you press play. Excerpts play at the file's own level, and a flagged passage may be clipped, far over the ceiling or suddenly loud. Protect your hearing: follow your workplace's rules on listening levels.</p>
@@ -85,5 +104,6 @@ export function reportPage(jobId: string): string {
   <div style="overflow-x:auto">
   <table><thead><tr><th scope="col">Rule</th><th scope="col">Finding</th><th scope="col">Severity</th><th scope="col">Outcome</th></tr></thead><tbody id="em-checks-body"></tbody></table>
   </div>
-</section>`, 'report.js');
+</section>
+</div>`, 'report.js');
 }

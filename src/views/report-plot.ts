@@ -2,6 +2,7 @@
 // limit, and one marker per flag, with the time axis in the report's own timecode.
 
 import { FRAME_RATES, timecodeAtSample, type QcReport } from '../profiles/index.ts';
+import { flagLabel, flagView } from './assets/format.js';
 import { renderLoudnessPlot, type PlotInput } from './loudness-plot.ts';
 
 function targetBand(report: QcReport): PlotInput['targetBand'] {
@@ -23,13 +24,11 @@ export function plotInputFor(report: QcReport, widthPx = 960, heightPx = 320): P
     shortTerm: report.series.shortTerm,
     targetBand: targetBand(report),
     ...(shortTermLimit !== undefined ? { shortTermLimitLufs: shortTermLimit } : {}),
-    flags: report.flags.map((flag) => ({
-      kind: flag.kind,
-      severity: flag.severity,
-      startSeconds: flag.startSeconds,
-      endSeconds: flag.endSeconds,
-      label: `${flag.kind.replace(/_/g, ' ')} (${flag.severity}) ${flag.startTimecode} to ${flag.endTimecode}${flag.channel === null ? '' : `, channel ${flag.channel + 1}`}`,
-    })),
+    // Same words as the page's flag list (format.js), so a marker's title matches its list entry.
+    flags: report.flags.map((raw, index) => {
+      const flag = flagView(raw, index);
+      return { kind: flag.kind, severity: flag.severity, startSeconds: flag.startSeconds, endSeconds: flag.endSeconds, label: flagLabel(flag) };
+    }),
     formatTime: (seconds) => timecodeAtSample(Math.round(seconds * sampleRate), sampleRate, rate, report.format.timeReferenceSamples),
     widthPx,
     heightPx,

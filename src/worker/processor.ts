@@ -65,7 +65,7 @@ export default async function analyzeJob(job: SandboxedJob<AnalyzeJobV1, Analyze
     fetchedKey = null;
     return {
       verdict: report.verdict, reportKey, analysisSeconds: (performance.now() - started) / 1000,
-      integratedLufs: report.summary.integratedLufs, truePeakDbtp: report.summary.truePeakDbtp, sourceKey,
+      integratedLufs: report.summary.integratedLufs, truePeakDbtp: report.summary.truePeakDbtp, headline: report.headline, sourceKey,
     };
   } catch (thrown) {
     const error = toEarmarkError(thrown);

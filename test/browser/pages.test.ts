@@ -2,7 +2,7 @@
 // (never a downloaded browser), against a running API and worker on real Redis.
 // Screenshots go to test-output/ (git-ignored).
 import { existsSync, mkdirSync, mkdtempSync } from 'node:fs';
-import { writeFile } from 'node:fs/promises';
+import { stat, truncate, writeFile } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { chromium, type Browser, type Page } from 'playwright-core';
@@ -13,10 +13,13 @@ import { programmeBlocks } from '../../src/selftest/signals.ts';
 import { client } from '../service/client.ts';
 import { KEYS, startService, until, type TestService } from '../service/harness.ts';
 import { writeSine } from '../service/audio.ts';
+import { flagCountsText } from '../../src/views/assets/format.js';
+import { renderReportPlot } from '../../src/views/report-plot.ts';
+import { sampleReport } from '../views/sample-report.ts';
 
 const CHROMIUM = '/usr/bin/chromium';
 /** The little of the page's DOM the tests touch (the Node tsconfig has no DOM types). */
-interface PageGlobals { document: { getElementById(id: string): { src: string } } }
+interface PageGlobals { document: { getElementById(id: string): { src: string } }; getComputedStyle(node: unknown): { getPropertyValue(name: string): string } }
 const OUTPUT_DIR = join(process.cwd(), 'test-output');
 const SAMPLE_RATE = 48000;
 const dir = mkdtempSync(join(tmpdir(), 'earmark-browser-'));
@@ -44,9 +47,10 @@ describe.skipIf(!existsSync(CHROMIUM))('pages in Chromium', () => {
   let browser: Browser;
   const external: string[] = [];
 
-  async function openPage(path: string, viewport = { width: 1280, height: 800 }): Promise<Page> {
+  async function openPage(path: string, viewport = { width: 1280, height: 800 }, prepare?: (page: Page) => Promise<void>): Promise<Page> {
     const page = await browser.newPage({ viewport });
     page.on('pageerror', (error) => console.error('pageerror', error.message));
+    await prepare?.(page);
     page.on('request', (request) => {
       const url = request.url();
       if (!url.startsWith(service.url) && !url.startsWith('blob:') && !url.startsWith('data:')) external.push(url);
@@ -82,6 +86,10 @@ describe.skipIf(!existsSync(CHROMIUM))('pages in Chromium', () => {
     await page.waitForSelector(row, { timeout: 60_000 });
     expect(await page.textContent(row)).toContain('PASS');
     expect(await page.textContent(row)).toContain('-23.0 LUFS');
+    // The report's first line rides along in the row.
+    const job = (await client(service.url).get(`/v1/jobs/${submitted.body.id}`, KEYS.alpha)).body;
+    expect(job.headline).toEqual(expect.any(String));
+    expect(await page.textContent(`${row} .em-row-headline`)).toBe(job.headline);
     // Same document: the marker set before the job existed is still there.
     expect(await page.evaluate('window.keptAcrossUpdates')).toBe(1);
     await page.screenshot({ path: join(OUTPUT_DIR, 'dashboard-1280x800.png'), fullPage: true });
@@ -108,6 +116,8 @@ describe.skipIf(!existsSync(CHROMIUM))('pages in Chromium', () => {
     expect(await page.locator('.em-plot .em-flag').count()).toBe(report.flags.length);
     expect(await page.locator('#em-flags .em-flag-go').count()).toBe(report.flags.length);
     expect(await page.locator('#em-checks-body tr').count()).toBe(report.checks.length);
+    expect(await page.textContent('#em-flag-counts')).toBe(flagCountsText(report));
+    expect(await page.textContent('#em-flags .em-flag-go >> nth=0')).toContain(`#${report.flags[0].number} ${report.flags[0].title}`);
 
     // Click the last flag: the cursor becomes visible at that flag's time.
     const last = report.flags.length - 1;
@@ -144,6 +154,133 @@ describe.skipIf(!existsSync(CHROMIUM))('pages in Chromium', () => {
     await writeFile(excerptPath, excerpt.body as Buffer);
     const decoded = await openAudioFile(excerptPath);
     expect(decoded.format).toMatchObject({ container: 'wav', sampleRate: SAMPLE_RATE, channels: 2, frames: 3 * SAMPLE_RATE });
+  });
+
+  it('report page of a damaged file (made-up v2 report): headline first, integrity panel next; remarks, counts and a marginal check', async () => {
+    const id = 'j_sampleversiontworeport00';
+    const report = sampleReport();
+    const job = { id, state: 'completed', progressPercent: 100, verdict: report.verdict, headline: report.headline, error: null };
+    // The API's answers for a made-up job, served inside the browser: every report-v2 field's
+    // rendering is checked without needing one file that produces all of them.
+    const page = await openPage(`/jobs/${id}`, undefined, async (p) => {
+      await p.route((url) => url.pathname.startsWith(`/v1/jobs/${id}`), (route) => {
+        const path = new URL(route.request().url()).pathname;
+        if (path.endsWith('/plot.svg')) return route.fulfill({ contentType: 'image/svg+xml', body: renderReportPlot(report) });
+        return route.fulfill({ contentType: 'application/json', body: JSON.stringify(path.endsWith('/report') ? report : job) });
+      });
+    });
+    await page.waitForSelector('#em-report-body:not([hidden]) .em-plot');
+
+    // The first line a reader sees is the headline, the next the integrity problem, both above the readings.
+    const lines = (await page.innerText('main')).split('\n').map((l) => l.trim()).filter(Boolean);
+    expect(lines[0]).toBe(`FAIL ${report.headline}`);
+    expect(lines[1]).toBe('Damaged file: this fails the report');
+    expect(await page.getAttribute('#em-headline', 'class')).toContain('em-headline-fail');
+    const top = async (selector: string) => (await page.locator(selector).boundingBox())?.y ?? Number.NaN;
+    expect(await top('#em-headline')).toBeLessThan(await top('#em-integrity'));
+    expect(await top('#em-integrity')).toBeLessThan(await top('#em-file'));
+    const problem = page.locator('#em-integrity-problems li');
+    expect(await problem.count()).toBe(1);
+    expect(await problem.textContent()).toContain('00:00:05:00');
+    expect(await problem.textContent()).toContain('720000 frames missing');
+
+    // Counts, then every flag with number, severity, title, span, channel, count and worst value.
+    expect(await page.textContent('#em-flag-counts')).toBe('1 fail · 1 warn · 2 remarks');
+    expect(await page.locator('#em-flags li[data-severity]').count()).toBe(4);
+    const remarks = page.locator('#em-flags li[data-severity="remark"]');
+    expect(await remarks.count()).toBe(2);
+    const dropout = await remarks.nth(1).innerText();
+    for (const part of ['#4', 'REMARK', 'Dropout', '00:00:03:00 – 00:00:04:05', 'ch 2 R', '× 37', '37 very short dropouts']) expect(dropout).toContain(part);
+    expect(await remarks.nth(0).innerText()).toContain('worst -38.1 dBFS');
+    expect(await page.innerText('#em-flags li[data-severity="warn"]')).toContain('ch 1 L · × 3 · worst -0.4 dBTP');
+    // A remark has its own, quieter look: a dotted edge where a fail has a solid one, an outlined label.
+    const style = (selector: string, property: string) => page.locator(selector).first().evaluate((node, name) => (globalThis as unknown as PageGlobals).getComputedStyle(node).getPropertyValue(name), property);
+    expect(await style('#em-flags li[data-severity="remark"]', 'border-left-style')).toBe('dotted');
+    expect(await style('#em-flags li[data-severity="fail"]', 'border-left-style')).toBe('solid');
+    expect(await style('.em-sev-badge-remark', 'background-color')).toBe('rgba(0, 0, 0, 0)');
+    expect(await style('.em-sev-badge-fail', 'background-color')).not.toBe('rgba(0, 0, 0, 0)');
+    // Text alternatives: the message describes the flag's button; Listen names its flag.
+    const go = page.locator('#em-flags li[data-severity="remark"] .em-flag-go').nth(1);
+    expect(await page.textContent(`#${await go.getAttribute('aria-describedby')}`)).toBe('37 very short dropouts on channel 2 R.');
+    expect(await page.getAttribute('#em-flags li[data-flag-index="3"] .em-listen', 'aria-label')).toBe('Listen to flag #4, Dropout, at 00:00:03:00');
+
+    // The plot: one marker per flag, the remarks fainter.
+    expect(await page.locator('.em-plot .em-flag').count()).toBe(4);
+    expect(await page.locator('.em-plot .em-flag[opacity="0.45"]').count()).toBe(2);
+    // Keyboard: a remark's button moves the cursor to it.
+    await go.focus();
+    await page.keyboard.press('Enter');
+    expect(await page.getAttribute('#em-plot-cursor', 'data-flag-index')).toBe('3');
+    expect(await page.textContent('#em-cursor-status')).toBe('Cursor at 00:00:03:00: #4 Dropout (remark)');
+
+    // A marginal check reads "marginal", in the warn style, not "not met".
+    const marginal = page.locator('#em-checks-body tr[data-rule-id="true-peak"] td').last();
+    expect(await marginal.textContent()).toBe('marginal');
+    expect(await marginal.getAttribute('class')).toContain('em-outcome-marginal');
+    expect(await page.textContent('.em-caution')).toMatch(/playback level down/);
+    expect(await page.locator('.em-caution').isVisible()).toBe(true);
+    await page.screenshot({ path: join(OUTPUT_DIR, 'report-damaged-1280x800.png'), fullPage: true });
+    await page.setViewportSize({ width: 390, height: 844 });
+    await page.screenshot({ path: join(OUTPUT_DIR, 'report-damaged-narrow.png'), fullPage: true });
+    await page.close();
+  });
+
+  it('a failed job: the report page says what failed and what to do; the dashboard row says why', async () => {
+    const junk = join(dir, 'meeting-notes.wav');
+    await writeFile(junk, 'Agenda: levels, deliveries, holidays.\n'.repeat(40));
+    const api = client(service.url);
+    const submitted = await api.upload(junk, { profile: 'podcast' }, KEYS.alpha);
+    expect(submitted.status).toBe(202);
+    const id = submitted.body.id as string;
+    const failed = await until(async () => { const job = (await api.get(`/v1/jobs/${id}`, KEYS.alpha)).body; return job.state === 'failed' ? job : null; });
+    expect(failed.error.code).toBe('unsupported_format');
+
+    const page = await openPage(`/jobs/${id}`);
+    await page.waitForSelector('#em-job-failed:not([hidden])');
+    expect(await page.textContent('#em-headline')).toContain(`Analysis failed: ${failed.error.message}`);
+    expect(await page.textContent('#em-failure-code')).toBe('unsupported_format');
+    expect(await page.textContent('#em-failure-message')).toContain('meeting-notes.wav');
+    expect(await page.textContent('#em-failure-hint')).toMatch(/^Send WAV .*FLAC/);
+    expect(await page.locator('#em-report-body').isHidden()).toBe(true);
+    await page.screenshot({ path: join(OUTPUT_DIR, 'report-failed-job.png'), fullPage: true });
+    await page.close();
+
+    const dashboard = await openPage('/');
+    const row = `tr[data-job-id="${id}"][data-state="failed"]`;
+    await dashboard.waitForSelector(row);
+    expect(await dashboard.textContent(`${row} .em-row-headline`)).toBe(failed.error.message);
+    await dashboard.close();
+  });
+
+  it('a file cut short: its dashboard row shows the headline, its report page opens with the integrity problem', async () => {
+    const wav = await writeSine(join(dir, 'interview-cut.wav'), -23, 20);
+    // 24-bit stereo: drop the last 15 s of sample bytes, leaving the header's declared length.
+    await truncate(wav, (await stat(wav)).size - 15 * SAMPLE_RATE * 2 * 3);
+    const api = client(service.url);
+    const submitted = await api.upload(wav, { profile: 'ebu-r128' }, KEYS.alpha);
+    expect(submitted.status).toBe(202);
+    const id = submitted.body.id as string;
+    const job = await until(async () => { const j = (await api.get(`/v1/jobs/${id}`, KEYS.alpha)).body; return j.state === 'completed' || j.state === 'failed' ? j : null; });
+    expect(job).toMatchObject({ state: 'completed', verdict: 'fail', headline: expect.any(String) });
+    const report = (await api.get(`/v1/jobs/${id}/report`, KEYS.alpha)).body;
+    expect(report.integrity.intact).toBe(false);
+
+    const dashboard = await openPage('/');
+    const row = `tr[data-job-id="${id}"][data-state="completed"]`;
+    await dashboard.waitForSelector(row);
+    expect(await dashboard.textContent(`${row} .em-row-headline`)).toBe(job.headline);
+    expect(await dashboard.locator(`${row} .em-row-headline`).isVisible()).toBe(true);
+    await dashboard.screenshot({ path: join(OUTPUT_DIR, 'dashboard-damaged-row.png'), fullPage: true });
+    await dashboard.close();
+
+    const page = await openPage(`/jobs/${id}`);
+    await page.waitForSelector('#em-report-body:not([hidden])');
+    const lines = (await page.innerText('main')).split('\n').map((l) => l.trim()).filter(Boolean);
+    expect(lines[0]).toBe(`FAIL ${report.headline}`);
+    expect(lines[1]).toMatch(/^Damaged file/);
+    const problems = await page.innerText('#em-integrity-problems');
+    for (const problem of report.integrity.problems) expect(problems).toContain(problem.atTimecode);
+    await page.close();
   });
 
   it('made no request outside the server', () => {

@@ -30,6 +30,18 @@ describe('renderLoudnessPlot', () => {
     expect(svg).not.toContain('<ch 1>');
   });
 
+  it('draws remarks fainter and beneath fail and warn markers, and counts them apart in the title', () => {
+    const svg = renderLoudnessPlot(input({ flags: [
+      ...input().flags,
+      { kind: 'dc_offset', severity: 'remark', startSeconds: 11, endSeconds: 14, label: '#3 DC offset (remark)' },
+    ] }));
+    expect(svg).toMatch(/<g class="em-flag em-flag-dc_offset em-sev-remark" data-flag-index="2" opacity="0.45">/);
+    expect(svg).not.toMatch(/em-sev-fail"[^>]*opacity/);
+    // Painted first, so the clipping marker at 12 s stays on top of it.
+    expect(svg.indexOf('data-flag-index="2"')).toBeLessThan(svg.indexOf('data-flag-index="0"'));
+    expect(svg).toContain('with 2 flagged problems and 1 remark</title>');
+  });
+
   it('places a flag at its time on the axis: 30 s of 60 s is half-way across the plot area', () => {
     const svg = renderLoudnessPlot(input({ widthPx: 1000 }));
     // plot area: x from 56 to 1000-16 = 984, width 928; 30 s -> 56 + 464 = 520.

@@ -15,6 +15,7 @@ const ASSET_TYPES: Record<string, string> = {
   'common.js': 'text/javascript; charset=utf-8',
   'dashboard.js': 'text/javascript; charset=utf-8',
   'report.js': 'text/javascript; charset=utf-8',
+  'format.js': 'text/javascript; charset=utf-8',
 };
 const html = { description: 'HTML page', schema: { type: 'string' }, contentType: 'text/html' };
 /** No inline script, no third-party origins: the pages load only from this server. */

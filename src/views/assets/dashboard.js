@@ -33,8 +33,13 @@ function renderJobs(list) {
   body.replaceChildren(...list.items.map((job) => {
     const name = job.source.kind === 'upload' ? job.source.fileName : job.source.url;
     const state = job.state === 'active' ? `active ${job.progressPercent}%` : job.state;
-    return el('tr', { 'data-job-id': job.id, 'data-state': job.state },
-      el('td', {}, el('a', { href: `/jobs/${encodeURIComponent(job.id)}` }, name)),
+    // The headline (or a failure's message) sits under the file name, so a damaged file or a
+    // failed job reads as such without opening the report.
+    const line = job.state === 'completed' ? job.headline : job.state === 'failed' ? job.error?.message : null;
+    const tone = job.state === 'failed' ? 'fail' : job.verdict ?? 'none';
+    return el('tr', { 'data-job-id': job.id, 'data-state': job.state, 'data-verdict': job.verdict ?? null },
+      el('td', {}, el('a', { href: `/jobs/${encodeURIComponent(job.id)}` }, name),
+        line ? el('div', { class: `em-row-headline em-row-headline-${tone}` }, line) : null),
       el('td', {}, `${job.profile.id} v${job.profile.version}`),
       el('td', {}, state, job.error ? el('div', { class: 'em-status' }, job.error.code) : null),
       el('td', {}, job.state === 'completed' ? verdictBadge(job.verdict) : '–'),

@@ -1,6 +1,8 @@
-// Report page: verdict, checks, the server-rendered loudness plot, flags that move the plot's
-// cursor when chosen, and a short listening excerpt per flag.
+// Report page: the headline and any integrity problem first, then verdict, readings, the
+// server-rendered loudness plot, flags that move the plot's cursor when chosen, a short
+// listening excerpt per flag, and the checks. A failed job shows its error and what to do.
 import { api, el, setupKeyForm, text, verdictBadge } from './common.js';
+import { failureHint, flagCountsText, flagDetails, flagView, outcomeText } from './format.js';
 
 const jobId = document.body.dataset.jobId;
 const EXCERPT_PAD_SECONDS = 1.5;
@@ -19,7 +21,7 @@ function moveCursor(flag, index) {
   cursor.setAttribute('visibility', 'visible');
   cursor.dataset.flagIndex = String(index);
   for (const item of document.querySelectorAll('.em-flags li')) item.classList.toggle('em-selected', item.dataset.flagIndex === String(index));
-  document.getElementById('em-cursor-status').textContent = `Cursor at ${flag.startTimecode}: ${flag.kind.replace(/_/g, ' ')}`;
+  document.getElementById('em-cursor-status').textContent = `Cursor at ${flag.startTimecode}: #${flag.number} ${flag.title} (${flag.severity})`;
 }
 
 async function listen(flag) {
@@ -35,19 +37,52 @@ async function listen(flag) {
     currentAudioUrl = URL.createObjectURL(blob);
     player.src = currentAudioUrl;
     player.dataset.startSeconds = start.toFixed(3);
-    status.textContent = `Excerpt ${flag.startTimecode}, ${(end - start).toFixed(1)} s. Press play when your level is set.`;
+    status.textContent = `Excerpt of flag #${flag.number} from ${flag.startTimecode}, ${(end - start).toFixed(1)} s. Press play when your level is set.`;
   } catch (error) {
     status.textContent = `Cannot load the excerpt: ${error.message}`;
   }
 }
 
+function showHeadline(words, verdict) {
+  const headline = document.getElementById('em-headline');
+  headline.className = `em-headline em-headline-${verdict ?? 'none'}`;
+  headline.replaceChildren(verdictBadge(verdict), ' ', words);
+  headline.hidden = false;
+}
+
+function renderIntegrity(report) {
+  const panel = document.getElementById('em-integrity');
+  const integrity = report.integrity;
+  if (!integrity || integrity.intact) { panel.hidden = true; return; }
+  const severity = integrity.severity ?? 'fail';
+  panel.className = `em-integrity em-integrity-${severity}`;
+  document.getElementById('em-integrity-title').textContent = severity === 'fail' ? 'Damaged file: this fails the report' : 'Damaged file: this profile counts it as a warning';
+  document.getElementById('em-integrity-note').textContent = 'The audio the file declares is not all there or not all readable. The readings, plot and flags below may not describe the whole file.';
+  document.getElementById('em-integrity-problems').replaceChildren(...integrity.problems.map((problem) =>
+    el('li', { 'data-code': problem.code },
+      el('span', { class: 'em-tc' }, problem.atTimecode ?? text(problem.atSeconds, 3, 's')), ' ',
+      el('span', {}, problem.message), ' ',
+      el('code', { class: 'em-status' }, problem.code))));
+  panel.hidden = false;
+}
+
+function renderFailure(job) {
+  const code = job.error?.code ?? 'internal_error';
+  const message = job.error?.message ?? 'the job failed without a reason';
+  showHeadline(`Analysis failed: ${message}`, 'fail');
+  document.getElementById('em-failure-code').textContent = code;
+  document.getElementById('em-failure-message').textContent = `${message}${job.attemptsMade > 1 ? ` (after ${job.attemptsMade} attempts)` : ''}`;
+  document.getElementById('em-failure-hint').textContent = failureHint(code);
+  document.getElementById('em-job-failed').hidden = false;
+}
+
 function renderChecks(report) {
   document.getElementById('em-checks-body').replaceChildren(...report.checks.map((check) =>
-    el('tr', { 'data-rule-id': check.ruleId },
+    el('tr', { 'data-rule-id': check.ruleId, 'data-outcome': check.outcome },
       el('td', {}, check.ruleId),
       el('td', {}, check.explanation),
       el('td', {}, check.severity),
-      el('td', { class: `em-outcome-${check.outcome}` }, check.passed ? 'met' : check.outcome === 'not_measurable' ? 'not measurable' : 'not met'))));
+      el('td', { class: `em-outcome-${check.outcome}${check.passed ? ' em-outcome-met' : ''}` }, outcomeText(check)))));
 }
 
 function renderSummary(report) {
@@ -62,14 +97,28 @@ function renderSummary(report) {
   document.getElementById('em-metrics').replaceChildren(...items.map(([label, value]) => el('div', {}, el('dt', {}, label), el('dd', {}, value))));
 }
 
+function flagItem(flag, index) {
+  const messageId = `em-flag-message-${index}`;
+  return el('li', { 'data-flag-index': String(index), 'data-severity': flag.severity, class: `em-flag-item em-flag-item-${flag.severity}` },
+    el('div', { class: 'em-flag-row' },
+      el('button', { type: 'button', class: 'em-flag-go', onclick: () => moveCursor(flag, index), 'aria-describedby': flag.message ? messageId : null },
+        el('span', { class: 'em-flag-head' },
+          el('span', { class: 'em-flag-number' }, `#${flag.number}`), ' ',
+          el('span', { class: `em-sev em-sev-badge-${flag.severity}` }, flag.severity), ' ',
+          el('span', { class: `em-swatch em-swatch-${flag.kind}`, 'aria-hidden': 'true' }), ' ',
+          el('span', { class: 'em-flag-title' }, flag.title)),
+        ' ',
+        el('span', { class: 'em-flag-facts' }, flagDetails(flag).join(' · ')),
+        el('span', { class: 'em-visually-hidden' }, ', show on the plot')),
+      el('button', { type: 'button', class: 'em-quiet em-listen', onclick: () => listen(flag), 'aria-label': `Listen to flag #${flag.number}, ${flag.title}, at ${flag.startTimecode}` }, 'Listen')),
+    flag.message ? el('p', { class: 'em-flag-message', id: messageId }, flag.message) : null);
+}
+
 function renderFlags(report) {
   const list = document.getElementById('em-flags');
-  if (report.flags.length === 0) { list.replaceChildren(el('li', { class: 'em-status' }, 'No time-located problems.')); return; }
-  list.replaceChildren(...report.flags.map((flag, index) => el('li', { 'data-flag-index': String(index) },
-    el('span', { class: `em-swatch em-swatch-${flag.kind}`, 'aria-hidden': 'true' }),
-    el('button', { type: 'button', class: 'em-flag-go', onclick: () => moveCursor(flag, index), 'aria-label': `Show ${flag.kind.replace(/_/g, ' ')} at ${flag.startTimecode} on the plot` },
-      `${flag.startTimecode} ${flag.kind.replace(/_/g, ' ')} · ${flag.severity}${flag.channel === null ? '' : ` · ch ${flag.channel + 1}`}`),
-    el('button', { type: 'button', class: 'em-quiet em-listen', onclick: () => listen(flag), 'aria-label': `Listen to ${flag.kind.replace(/_/g, ' ')} at ${flag.startTimecode}` }, 'Listen'))));
+  document.getElementById('em-flag-counts').textContent = `${flagCountsText(report)}${report.flagsTruncated ? ` (${report.flags.length} of ${report.flagsTotal} listed)` : ''}`;
+  if (report.flags.length === 0) { list.replaceChildren(el('li', { class: 'em-status' }, 'No time-located findings.')); return; }
+  list.replaceChildren(...report.flags.map((raw, index) => flagItem(flagView(raw, index), index)));
   if (report.flagsTruncated) list.append(el('li', { class: 'em-status' }, `${report.flagsTotal - report.flags.length} more flags not listed.`));
 }
 
@@ -78,11 +127,18 @@ async function load() {
   try {
     const job = await api(`/v1/jobs/${encodeURIComponent(jobId)}`).then((r) => r.json());
     if (job.state !== 'completed') {
-      status.textContent = job.state === 'failed' ? `Failed: ${job.error?.code} ${job.error?.message ?? ''}` : `Job is ${job.state}${job.state === 'active' ? ` (${job.progressPercent}%)` : ''}; this page updates when it completes.`;
-      if (job.state !== 'failed') setTimeout(load, 2000);
+      if (job.state === 'failed') {
+        renderFailure(job);
+        status.textContent = '';
+        return;
+      }
+      status.textContent = `Job is ${job.state}${job.state === 'active' ? ` (${job.progressPercent}%)` : ''}; this page updates when it completes.`;
+      setTimeout(load, 2000);
       return;
     }
     const [report, plot] = await Promise.all([api(`/v1/jobs/${encodeURIComponent(jobId)}/report`).then((r) => r.json()), api(`/v1/jobs/${encodeURIComponent(jobId)}/plot.svg`).then((r) => r.text())]);
+    if (report.headline) showHeadline(report.headline, report.verdict);
+    renderIntegrity(report);
     document.getElementById('em-file').textContent = report.file?.name ?? job.id;
     document.getElementById('em-profile').textContent = `${report.profile.name} (${report.profile.id} v${report.profile.version})`;
     document.getElementById('em-verdict').replaceChildren(verdictBadge(report.verdict, true));
@@ -90,6 +146,7 @@ async function load() {
     renderSummary(report);
     renderChecks(report);
     renderFlags(report);
+    document.getElementById('em-report-body').hidden = false;
     status.textContent = '';
   } catch (error) {
     status.textContent = `Cannot load: ${error.message}. Enter an API key with read scope.`;

@@ -1,0 +1,97 @@
+// Pure wording for the pages: no DOM, no fetch, so the server's plot labels and the unit tests
+// use the very same text as the browser.
+
+const words = (kind) => String(kind).replace(/_/g, ' ');
+const capitalised = (text) => text.charAt(0).toUpperCase() + text.slice(1);
+
+/**
+ * A flag with the report-v2 fields, also from a v1 report still within its retention period
+ * (peakValue, mergedEvents, no number, title or channel name).
+ */
+export function flagView(flag, index) {
+  const channelName = flag.channelName ?? (flag.channel === null || flag.channel === undefined ? 'all' : String(flag.channel + 1));
+  const otherChannelName = flag.otherChannelName ?? (flag.otherChannel === undefined ? undefined : String(flag.otherChannel + 1));
+  return {
+    ...flag,
+    number: flag.number ?? index + 1,
+    title: flag.title ?? capitalised(words(flag.kind)),
+    channelName,
+    ...(otherChannelName === undefined ? {} : { otherChannelName }),
+    worstValue: flag.worstValue !== undefined ? flag.worstValue : flag.peakValue ?? null,
+    unit: flag.unit ?? null,
+    count: flag.count ?? flag.mergedEvents ?? 1,
+    message: flag.message ?? '',
+  };
+}
+
+/** Level-like units read to 0.1; correlations and other ratios need two decimals. */
+const ONE_DECIMAL = new Set(['dBTP', 'dBFS', 'dB', 'LUFS', 'LU', 's']);
+
+export function worstValueText(flag) {
+  if (flag.worstValue === null || flag.worstValue === undefined || !Number.isFinite(flag.worstValue)) return null;
+  const digits = ONE_DECIMAL.has(flag.unit) ? 1 : 2;
+  return `${flag.worstValue.toFixed(digits)}${flag.unit ? ` ${flag.unit}` : ''}`;
+}
+
+export function channelText(flag) {
+  if (flag.channelName === 'all') return 'all channels';
+  return flag.otherChannelName ? `ch ${flag.channelName} with ${flag.otherChannelName}` : `ch ${flag.channelName}`;
+}
+
+export function spanText(flag) {
+  return flag.endTimecode && flag.endTimecode !== flag.startTimecode ? `${flag.startTimecode} – ${flag.endTimecode}` : flag.startTimecode;
+}
+
+/** "× 37" when the flag merges several events; nothing for one. */
+export function countText(flag) {
+  return flag.count > 1 ? `× ${flag.count}` : null;
+}
+
+/** The facts after the title, in reading order: where, which channel, how many, how bad. */
+export function flagDetails(flag) {
+  const worst = worstValueText(flag);
+  return [spanText(flag), channelText(flag), countText(flag), worst ? `worst ${worst}` : null].filter(Boolean);
+}
+
+/** One line for a plot marker's title or a screen reader: "#12 Clipping run (fail), 00:… – 00:…, ch 2 R, × 37, worst -0.1 dBTP". */
+export function flagLabel(flag) {
+  return [`#${flag.number} ${flag.title} (${flag.severity})`, ...flagDetails(flag)].join(', ');
+}
+
+const plural = (n, one, many) => `${n} ${n === 1 ? one : many}`;
+
+/** "3 fail · 1 warn · 12 remarks"; from the flags themselves when a v1 report has no counts. */
+export function flagCountsText(report) {
+  const counts = report.flagCounts ?? report.flags.reduce((acc, f) => ({ ...acc, [f.severity]: (acc[f.severity] ?? 0) + 1 }), {});
+  return `${counts.fail ?? 0} fail · ${counts.warn ?? 0} warn · ${plural(counts.remark ?? 0, 'remark', 'remarks')}`;
+}
+
+/** A check's outcome for people; marginal is its own word (it counts as a warn), never "not met". */
+export function outcomeText(check) {
+  if (check.outcome === 'marginal') return 'marginal';
+  if (check.outcome === 'not_measurable') return check.passed ? 'met (not measurable)' : 'not measurable';
+  return check.passed ? 'met' : 'not met';
+}
+
+const HINTS = {
+  empty_file: 'The file has no bytes. Export it again and submit the new file.',
+  unsupported_format: 'Send WAV (also RF64 and BW64), AIFF or AIFF-C, FLAC, MP3, AAC, M4A, Ogg Vorbis, Ogg Opus, WebM or CAF.',
+  unsupported_encoding: 'Export as PCM (8 to 32-bit integer) or 32/64-bit float WAV or AIFF, or as FLAC.',
+  corrupt_file: 'The file is damaged or inconsistent. Export it again from the source and resubmit.',
+  decoded_size_exceeded: 'The decoded audio is over this service\'s size cap. Send a shorter file, split it, or send a WAV or FLAC export.',
+  file_not_found: 'The stored upload is gone (its retention period may be over). Submit the file again.',
+  payload_too_large: 'The file is over the upload limit. Send a smaller file or split it.',
+  invalid_profile: 'The profile is not valid. Fix it (see GET /v1/profiles) and submit again.',
+  unknown_profile: 'No profile has this id. Choose one listed by GET /v1/profiles.',
+  invalid_argument: 'The request was not valid for this worker. Submit the job again.',
+  source_refused: 'The URL is not allowed: use an http(s) URL on a permitted public host, not an internal address.',
+  source_fetch_failed: 'The URL could not be fetched. Check that it answers with the file, then submit again.',
+  storage_full: 'The service ran out of storage. Submit again later, or tell the operator.',
+  storage_unavailable: 'The service\'s storage was not available. Submit again later, or tell the operator.',
+  service_unavailable: 'A part of the service was not available. Submit again later.',
+};
+
+/** What to do about a failed job, in plain words. */
+export function failureHint(code) {
+  return HINTS[code] ?? 'Submit the file again. If it fails again, tell the operator this job id and error code.';
+}
