@@ -5,6 +5,7 @@ import { EarmarkError } from '../errors/index.ts';
 import type { DecodeWarning } from './types.ts';
 import type { CodecOutput } from './compressed-codecs.ts';
 import type { Probe } from './compressed-probe.ts';
+import { NonFiniteSamples } from './finite.ts';
 
 /** +12 dBFS: lossy codecs overshoot 0 dBFS by a few dB at most; beyond this the decoder is reading garbage. */
 const GARBAGE_PEAK = 3.98;
@@ -15,6 +16,7 @@ export class OutputCheck {
   private filled = 0;
   private restoredWarned = false;
   private finalErrors: string[] = [];
+  private readonly nonFinite = new NonFiniteSamples();
 
   constructor(
     private readonly probe: Probe,
@@ -58,6 +60,8 @@ export class OutputCheck {
   /** Last partial block, then the frame-count verdict. */
   *finish(): Generator<PcmBlock> {
     if (this.filled) yield this.emit();
+    const nonFinite = this.nonFinite.warning();
+    if (nonFinite) this.warnings.push(nonFinite);
     const { frames: declared, framesSlack: slack } = this.probe;
     if (this.framesOut === 0) throw new EarmarkError('corrupt_file', `no audio could be decoded${this.finalErrors.length ? `: ${this.finalErrors[0]}` : ''}`);
     const errorNote = this.finalErrors.length ? ` (${this.finalErrors[0]})` : '';
@@ -128,13 +132,18 @@ export class OutputCheck {
     throw new EarmarkError('corrupt_file', `decoder output is ${rate} Hz, the container declares ${declared} Hz`);
   }
 
+  /** Non-finite samples become 0 and one warning (the document reports them); many finite values far above full scale are damage. */
   private checkLevels(channels: Float32Array[], frames: number): void {
     let over = 0;
-    for (const ch of channels) {
+    const at = this.framesOut + this.filled;
+    for (let c = 0; c < channels.length; c++) {
+      const ch = channels[c];
+      // A channel restored from the other is the same array: count its samples once.
+      if (channels.indexOf(ch) !== c) continue;
       for (let i = 0; i < frames; i++) {
         const a = Math.abs(ch[i]);
         if (a <= GARBAGE_PEAK) continue;
-        if (a !== a || a === Infinity) throw new EarmarkError('corrupt_file', 'decoder produced non-finite samples', { atFrame: this.framesOut + this.filled + i });
+        if (a !== a || a === Infinity) { ch[i] = 0; this.nonFinite.add(at + i); continue; }
         over++;
       }
     }

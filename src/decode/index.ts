@@ -6,7 +6,7 @@ import { parseAiff } from './aiff.ts';
 import { ByteReader } from './byte-reader.ts';
 import { openCompressed } from './compressed.ts';
 import { DETECT_HEAD_BYTES, detectAfterId3, detectContainer, id3v2Length } from './detect.ts';
-import { rejectNonFinite } from './finite.ts';
+import { replaceNonFinite } from './finite.ts';
 import { parseRiff, streamPcm, type PcmPlan } from './riff.ts';
 import { safeName } from './safe-name.ts';
 import type { Container, DecodedAudio, DecodeOptions } from './types.ts';
@@ -28,7 +28,7 @@ function parsePlan(reader: ByteReader, container: Container): Promise<PcmPlan> {
 }
 
 function checkedFloats(plan: PcmPlan, decoded: DecodedAudio): DecodedAudio {
-  return plan.layout.kind === 'float' ? rejectNonFinite(decoded) : decoded;
+  return plan.layout.kind === 'float' ? replaceNonFinite(decoded) : decoded;
 }
 
 async function readAt(handle: FileHandle, position: number, length: number): Promise<Uint8Array> {

@@ -21,13 +21,15 @@ export interface AudioFormat {
   timeReferenceSamples: number | null;
 }
 
-export type DecodeWarningCode = 'truncated_data' | 'trailing_garbage' | 'channels_restored' | 'frames_mismatch' | 'odd_chunk_padding_missing';
+export type DecodeWarningCode = 'truncated_data' | 'trailing_garbage' | 'channels_restored' | 'frames_mismatch' | 'odd_chunk_padding_missing' | 'non_finite_samples';
 
 export interface DecodeWarning {
   code: DecodeWarningCode;
   message: string;
-  /** Sample-frame position the warning applies from, when it has one. */
+  /** Sample-frame position the warning applies from; every warning of damage has one (where the audio stops or the first bad sample). */
   atFrame?: number;
+  /** How many samples the warning covers (non_finite_samples: all of them, every channel). */
+  count?: number;
 }
 
 /**
