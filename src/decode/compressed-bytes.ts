@@ -35,3 +35,31 @@ export function id3v2Length(b: Uint8Array, o = 0): number {
   const footer = b[o + 5] & 0x10 ? 10 : 0;
   return 10 + size + footer;
 }
+
+/**
+ * Whether a stream of self-delimiting frames (ADTS, MPEG audio) was cut, from the last bytes of
+ * the file: from the first place in `tail` where three frames follow one another, walk the
+ * frames. true: the last frame runs past the end (its header declares more bytes than are left);
+ * false: the frames end exactly at the end, or before a 128-byte ID3v1 tag; null: no such chain,
+ * or bytes that are no frame after the last one (left to the decoder). `frameBytesAt` returns a
+ * frame's declared length at `o`, 0 when no header is there (or it does not fit).
+ */
+export function frameChainCut(tail: Uint8Array, frameBytesAt: (b: Uint8Array, o: number) => number): boolean | null {
+  const end = tail.length;
+  for (let o = 0; o + 4 <= end; o++) {
+    let p = o;
+    let frames = 0;
+    for (let bytes = frameBytesAt(tail, p); bytes > 0; bytes = frameBytesAt(tail, p)) {
+      p += bytes;
+      frames++;
+      if (p >= end) break;
+    }
+    if (frames < 3) continue;
+    if (p > end) return true;
+    if (p === end) return false;
+    if (end - p === 128 && ascii(tail, p, 3) === 'TAG') return false;
+    // A header too short to read: the cut fell inside it.
+    return end - p < 8 && tail[p] === 0xff ? true : null;
+  }
+  return null;
+}

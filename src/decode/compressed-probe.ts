@@ -2,8 +2,8 @@
 // check the decoder's output (channel count, rate, frame count).
 import { EarmarkError } from '../errors/index.ts';
 import type { Container } from './types.ts';
-import { ascii, id3v2Length, readRange, u16be, u16le, u32be, u32le, u64be, u64le } from './compressed-bytes.ts';
-import { probeMp3 } from './compressed-mp3.ts';
+import { ascii, frameChainCut, id3v2Length, readRange, u16be, u16le, u32be, u32le, u64be, u64le } from './compressed-bytes.ts';
+import { parseMpegHeader, probeMp3 } from './compressed-mp3.ts';
 import { probeMp4 } from './compressed-mp4.ts';
 import { probeWebm } from './compressed-webm.ts';
 
@@ -37,24 +37,31 @@ export async function probe(path: string, container: Container, fileBytes: numbe
   switch (container) {
     case 'flac': {
       const f = probeFlac(head);
-      const tail = await readRange(path, Math.max(0, fileBytes - 65536), 65536);
-      return { ...f, endMissing: flacEndMissing(tail, f.frames, f.maxBlockFrames) };
+      return { ...f, endMissing: flacEndMissing(await readTail(path, fileBytes), f.frames, f.maxBlockFrames) };
     }
     case 'mp3': {
       // A large ID3v2 tag (cover art) can push the first frame beyond the head we read.
       const skip = id3v2Length(head);
       const m = probeMp3(skip + 65536 > head.length ? await readRange(path, skip, HEAD_BYTES) : head.subarray(skip), 0);
       const h = m.header;
+      // Without a Xing/Info/VBRI byte count, the last frame's own length tells a cut.
+      const endMissing = m.streamBytes !== null ? fileBytes - skip < m.streamBytes - h.frameBytes
+        : frameChainCut(await readTail(path, fileBytes), (b, o) => parseMpegHeader(b, o)?.frameBytes ?? 0);
       return { codec: 'mp3', encoding: h.layer === 3 ? 'mp3' : `mp${h.layer}`, sampleRate: h.sampleRate, channels: h.channels,
-        bitsPerSample: null, frames: m.frames, framesSlack: 2 * h.samplesPerFrame, wholeFile: false,
-        endMissing: m.streamBytes === null ? null : fileBytes - skip < m.streamBytes - h.frameBytes };
+        bitsPerSample: null, frames: m.frames, framesSlack: 2 * h.samplesPerFrame, wholeFile: false, endMissing };
     }
-    case 'aac': return probeAdts(head);
+    case 'aac': return { ...probeAdts(head), endMissing: frameChainCut(await readTail(path, fileBytes), adtsFrameBytes) };
     case 'ogg': return probeOgg(path, head, fileBytes);
     case 'webm': return { codec: 'webm', ...probeWebm(head), bitsPerSample: null, framesSlack: 4096, wholeFile: false, endMissing: null };
     case 'caf': return probeCaf(head, fileBytes);
     default: throw new EarmarkError('unsupported_format', `the compressed decoder does not read ${container} files`);
   }
+}
+
+const TAIL_BYTES = 65536;
+
+function readTail(path: string, fileBytes: number): Promise<Uint8Array> {
+  return readRange(path, Math.max(0, fileBytes - TAIL_BYTES), TAIL_BYTES);
 }
 
 function streamInfo(b: Uint8Array, o: number): { sampleRate: number; channels: number; bits: number; total: number } {
@@ -77,6 +84,13 @@ function probeFlac(head: Uint8Array): Probe & { maxBlockFrames: number } {
 }
 
 const ADTS_RATES = [96000, 88200, 64000, 48000, 44100, 32000, 24000, 22050, 16000, 12000, 11025, 8000, 7350];
+
+/** ADTS frame length (ISO/IEC 14496-3 1.A.2: 13 bits, header included) at `o`, 0 when no header is there. */
+function adtsFrameBytes(b: Uint8Array, o: number): number {
+  if (o + 7 > b.length || b[o] !== 0xff || (b[o + 1] & 0xf6) !== 0xf0 || ((b[o + 2] >> 2) & 15) >= ADTS_RATES.length) return 0;
+  const bytes = ((b[o + 3] & 3) << 11) | (b[o + 4] << 3) | (b[o + 5] >> 5);
+  return bytes >= 7 ? bytes : 0;
+}
 
 function probeAdts(head: Uint8Array): Probe {
   const o = id3v2Length(head);

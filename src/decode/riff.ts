@@ -398,7 +398,8 @@ export async function parseRiff(reader: ByteReader, container: Container): Promi
   if (!data) throw new EarmarkError('corrupt_file', 'no data chunk found');
   const frames = Math.floor(data.bytes / fmt.blockAlign);
   if (ds64 && ds64.sampleCount !== 0 && ds64.sampleCount !== frames) {
-    warnings.push({ code: 'frames_mismatch', message: `ds64 sample count ${ds64.sampleCount} differs from ${frames} frames of data` });
+    // Fewer frames than counted: the audio stops at the end of the data; more: the extra starts at the count.
+    warnings.push({ code: 'frames_mismatch', atFrame: Math.min(frames, ds64.sampleCount), message: `ds64 sample count ${ds64.sampleCount} differs from ${frames} frames of data` });
   }
   const format: AudioFormat = {
     container,
