@@ -6,15 +6,19 @@ import type { Meter, PcmBlock, StreamInfo } from './audio.ts';
 import { ChannelRelationMeter, type ChannelRelationOptions, type ChannelRelationResult } from './channel-relations.ts';
 import { EnvelopeBuilder } from './envelope.ts';
 import { ClippingMeter, type ClippingMeterOptions, type ClippingResult } from './clipping.ts';
+import { DropoutMeter, type DropoutOptions, type DropoutResult } from './dropouts.ts';
 import { LevelMeter, type LevelResult } from './levels.ts';
 import { LoudnessMeter, type LoudnessOptions, type LoudnessResult } from './loudness.ts';
 import { SilenceMeter, type SilenceMeterOptions, type SilenceResult } from './silence.ts';
 import { TimeWeightedLevelMeter, type TimeWeightedLevelResult } from './ballistics.ts';
 import { TruePeakMeter, type TruePeakOptions, type TruePeakResult } from './true-peak.ts';
+import { ReconstructedPeakMeter, type ReconstructedPeakOptions, type ReconstructedPeakResult } from './reconstructed-peak.ts';
 
 export interface AnalysisOptions {
   loudness?: LoudnessOptions;
   truePeak?: TruePeakOptions;
+  reconstructedPeak?: ReconstructedPeakOptions;
+  dropouts?: DropoutOptions;
   clipping?: ClippingMeterOptions;
   silence?: SilenceMeterOptions;
   channelRelations?: ChannelRelationOptions;
@@ -26,7 +30,9 @@ export interface Measurements {
   timeWeighted: TimeWeightedLevelResult;
   loudness: LoudnessResult;
   truePeak: TruePeakResult;
+  reconstructedPeak: ReconstructedPeakResult;
   clipping: ClippingResult;
+  dropouts: DropoutResult;
   silence: SilenceResult;
   channelRelations: ChannelRelationResult;
 }
@@ -38,14 +44,16 @@ const METERS: { [K in MeterName]: (info: StreamInfo, options: AnalysisOptions) =
   timeWeighted: (info) => new TimeWeightedLevelMeter(info),
   loudness: (info, o) => new LoudnessMeter(info, o.loudness),
   truePeak: (info, o) => new TruePeakMeter(info, o.truePeak),
+  reconstructedPeak: (info, o) => new ReconstructedPeakMeter(info, o.reconstructedPeak),
   clipping: (info, o) => new ClippingMeter(info, o.clipping),
+  dropouts: (info, o) => new DropoutMeter(info, o.dropouts),
   silence: (info, o) => new SilenceMeter(info, o.silence),
   channelRelations: (info, o) => new ChannelRelationMeter(info, o.channelRelations),
 };
 
 export const METER_NAMES = Object.keys(METERS) as MeterName[];
 /** Meters that read the block envelope (envelope.ts); a runner without them skips that pass. */
-export const ENVELOPE_METERS: readonly MeterName[] = ['levels', 'truePeak', 'clipping', 'silence'];
+export const ENVELOPE_METERS: readonly MeterName[] = ['levels', 'truePeak', 'reconstructedPeak', 'clipping', 'dropouts', 'silence'];
 
 export class AnalysisRunner implements Meter<Measurements> {
   private frames = 0;

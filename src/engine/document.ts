@@ -22,6 +22,8 @@ export interface ChannelSummary {
   label: string;
   samplePeakDbfs: number | null;
   truePeakDbtp: number | null;
+  /** Band-limited reconstruction (analysis/reconstructed-peak.ts): never under-reads as the Annex 2 filter can. */
+  reconstructedPeakDbtp: number | null;
   rmsDbfs: number | null;
   /** AES17 reading: RMS referenced to a full-scale sine (full-scale sine = 0 dB). */
   rmsAes17Db: number | null;
@@ -34,6 +36,9 @@ export interface ChannelSummary {
   maxVuDbfs: number | null;
   clippingRuns: number;
   clippedSamples: number;
+  /** Dropouts in this channel alone (all-channel ones are in the summary). */
+  dropouts: number;
+  droppedSeconds: number;
   silentSeconds: number;
   dead: boolean;
 }
@@ -66,6 +71,8 @@ export interface AnalysisDocument {
     maxShortTermAtSeconds: number | null;
     truePeakDbtp: number | null;
     truePeakAtSeconds: number | null;
+    reconstructedPeakDbtp: number | null;
+    reconstructedPeakAtSeconds: number | null;
     samplePeakDbfs: number | null;
     rmsDbfs: number | null;
     rmsAes17Db: number | null;
@@ -76,6 +83,10 @@ export interface AnalysisDocument {
     clippingRuns: number;
     clippedSamples: number;
     truePeakOvers: number;
+    reconstructedOvers: number;
+    /** Every dropout: per channel and all-channel together. */
+    dropouts: number;
+    allChannelDropouts: number;
     deadChannels: number[];
   };
   channels: ChannelSummary[];
@@ -91,6 +102,7 @@ export interface AnalysisDocument {
     overCeilingDbtp: number;
     clipping: { thresholdDbfs: number; minRunSamples: number };
     silence: { thresholdDbfs: number; minDurationSeconds: number };
+    dropouts: { minDurationSeconds: number };
   };
   /** Problems with the file itself (cut short, unreadable, non-finite, no audio); empty when intact. */
   integrity: { intact: boolean; problems: DocumentIntegrityProblem[] };
@@ -152,18 +164,23 @@ export function buildAnalysisDocument(
   analysisSeconds: number,
 ): AnalysisDocument {
   const rate = format.sampleRate;
-  const allEvents = [...m.loudness.events, ...m.truePeak.overs, ...m.clipping.events, ...m.silence.events, ...m.channelRelations.events]
+  const allEvents = [
+    ...m.loudness.events, ...m.truePeak.overs, ...m.reconstructedPeak.overs, ...m.clipping.events, ...m.dropouts.events,
+    ...m.silence.events, ...m.channelRelations.events,
+  ]
     .sort((a, b) => a.startFrame - b.startFrame || (a.channel ?? -1) - (b.channel ?? -1));
   const eventCounts: Partial<Record<EventKind, number>> = {};
   const countKind = (kind: EventKind, n: number) => { if (n > 0) eventCounts[kind] = (eventCounts[kind] ?? 0) + n; };
   countKind('true_peak_over', m.truePeak.oversTotal);
+  countKind('reconstructed_over', m.reconstructedPeak.oversTotal);
+  countKind('dropout', m.dropouts.eventsTotal);
   for (const e of m.loudness.events) countKind(e.kind, 1);
   countKind('clipping', m.clipping.eventsTotal);
   countKind('silence', m.silence.eventsTotal);
   for (const e of m.channelRelations.events) countKind(e.kind, 1);
   const relationsOverflow = m.channelRelations.eventsTotal - m.channelRelations.events.length;
   const truncated = allEvents.length > MAX_DOCUMENT_EVENTS || m.loudness.eventsTotal > m.loudness.events.length || m.truePeak.oversTotal > m.truePeak.overs.length
-    || m.clipping.eventsTruncated || m.silence.eventsTruncated || relationsOverflow > 0;
+    || m.reconstructedPeak.oversTotal > m.reconstructedPeak.overs.length || m.dropouts.eventsTruncated || m.clipping.eventsTruncated || m.silence.eventsTruncated || relationsOverflow > 0;
   const dead = new Set(m.channelRelations.deadChannels);
   return {
     schemaVersion: DOCUMENT_SCHEMA_VERSION,
@@ -184,6 +201,8 @@ export function buildAnalysisDocument(
       maxShortTermAtSeconds: m.loudness.maxShortTermAtSeconds,
       truePeakDbtp: m.truePeak.truePeakDbtp,
       truePeakAtSeconds: m.truePeak.truePeakAtSeconds,
+      reconstructedPeakDbtp: m.reconstructedPeak.peakDbtp,
+      reconstructedPeakAtSeconds: m.reconstructedPeak.peakAtSeconds,
       samplePeakDbfs: m.levels.all.samplePeakDbfs,
       rmsDbfs: m.levels.all.rmsDbfs,
       rmsAes17Db: m.levels.all.rmsAes17Db,
@@ -194,6 +213,9 @@ export function buildAnalysisDocument(
       clippingRuns: m.clipping.totalRuns,
       clippedSamples: m.clipping.totalClippedSamples,
       truePeakOvers: m.truePeak.oversTotal,
+      reconstructedOvers: m.reconstructedPeak.oversTotal,
+      dropouts: m.dropouts.eventsTotal,
+      allChannelDropouts: m.dropouts.all.dropouts,
       deadChannels: m.channelRelations.deadChannels,
     },
     channels: m.levels.channels.map((level, c) => {
@@ -204,6 +226,7 @@ export function buildAnalysisDocument(
         label: format.channelLabels[c] ?? 'unknown',
         samplePeakDbfs: level.samplePeakDbfs,
         truePeakDbtp: m.truePeak.channelTruePeakDbtp[c],
+        reconstructedPeakDbtp: m.reconstructedPeak.channelPeakDbtp[c],
         rmsDbfs: level.rmsDbfs,
         rmsAes17Db: level.rmsAes17Db,
         dcOffset: level.dcOffsetLinear,
@@ -214,6 +237,8 @@ export function buildAnalysisDocument(
         maxVuDbfs: timeWeighted.maxVuDbfs,
         clippingRuns: clipping.runs,
         clippedSamples: clipping.clippedSamples,
+        dropouts: m.dropouts.channels[c]?.dropouts ?? 0,
+        droppedSeconds: m.dropouts.channels[c]?.droppedSeconds ?? 0,
         silentSeconds: m.silence.channels[c]?.silentSeconds ?? 0,
         dead: dead.has(c),
       };
@@ -231,6 +256,7 @@ export function buildAnalysisDocument(
       overCeilingDbtp: m.truePeak.overCeilingDbtp,
       clipping: { thresholdDbfs: 20 * Math.log10(m.clipping.thresholdLinear), minRunSamples: m.clipping.minRunSamples },
       silence: { thresholdDbfs: m.silence.thresholdDbfs, minDurationSeconds: m.silence.minDurationSeconds },
+      dropouts: { minDurationSeconds: m.dropouts.minDurationSeconds },
     },
     integrity: integrityOf(format, m.frames, warnings),
     warnings,

@@ -16,7 +16,7 @@ const DEFAULT_RING_FRAMES = 65536;
 /** Cost per stereo audio minute (ms), each meter's time in a one-thread run of the 60-minute
  * benchmark file. */
 const COST: Record<MeterName, number> = {
-  loudness: 18, timeWeighted: 6, truePeak: 5.3, channelRelations: 4.5, levels: 2.6, silence: 2.3, clipping: 0.5,
+  loudness: 18, timeWeighted: 6, truePeak: 5.3, reconstructedPeak: 10, channelRelations: 4.5, levels: 2.6, silence: 2.3, dropouts: 2, clipping: 0.5,
 };
 /** The main thread decodes into the ring (10.5) and builds the shared envelope (2). */
 const MAIN_THREAD_COST = 12.5;
@@ -45,7 +45,7 @@ const MAX_METER_THREADS = 4;
 
 /**
  * The split of the meters into `threads` groups with the smallest largest load, found by trying
- * every assignment (7 meters: 128 for two threads, 16384 for four); group 0 is the main thread's.
+ * every assignment (9 meters: 512 for two threads, 262144 for four); group 0 is the main thread's.
  */
 export function meterGroups(threads: number): MeterName[][] {
   const n = Math.max(1, Math.min(Math.floor(threads), MAX_METER_THREADS));

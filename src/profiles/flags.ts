@@ -94,9 +94,13 @@ function judgedOverKind(profile: Profile): EventKind {
 function eventDrafts(profile: Profile, doc: AnalysisDocument, checks: Map<string, CheckResult>): Draft[] {
   const frames = doc.format.framesDecoded;
   const overKind = judgedOverKind(profile);
+  const together = doc.events.filter((e) => e.kind === 'silence' && e.channel === null);
+  // A channel's silence that is mostly the programme's own silence says nothing new.
+  const repeatsAll = (e: AnalysisEvent) => together.some((a) => Math.min(a.endFrame, e.endFrame) - Math.max(a.startFrame, e.startFrame) >= 0.9 * (e.endFrame - e.startFrame));
   const drafts: Draft[] = [];
   for (const e of doc.events) {
     if ((e.kind === 'true_peak_over' || e.kind === 'reconstructed_over') && e.kind !== overKind) continue;
+    if (e.kind === 'silence' && e.channel !== null && repeatsAll(e)) continue;
     const map = EVENT_FLAGS[e.kind];
     let kind = map.kind;
     let rules = map.rule ? profile.rules.filter((r) => r.type === map.rule) : [];

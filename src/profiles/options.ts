@@ -13,7 +13,10 @@ const lowest = (values: number[]) => (values.length > 0 ? Math.min(...values) : 
 export function analysisOptionsForProfile(profile: Profile): AnalysisOptions {
   const options: AnalysisOptions = {};
   const ceiling = lowest(rulesOf(profile, 'true-peak').map((r) => r.maxDbtp));
-  if (ceiling !== undefined) options.truePeak = { overCeilingDbtp: ceiling };
+  if (ceiling !== undefined) {
+    options.truePeak = { overCeilingDbtp: ceiling };
+    options.reconstructedPeak = { overCeilingDbtp: ceiling };
+  }
   const shortTerm = lowest(rulesOf(profile, 'short-term-max').map((r) => r.maxLufs));
   const momentary = lowest(rulesOf(profile, 'momentary-max').map((r) => r.maxLufs));
   if (shortTerm !== undefined || momentary !== undefined) {

@@ -12,6 +12,9 @@ const house = (rules: Rule[], frameRate: '25' | '29.97-df' = '25'): Profile => p
   id: 'test-house', name: 'Test house rules', version: '1.0.0', description: 'test', basis: 'house rule', timecode: { frameRate }, rules,
 });
 const clipRule: Rule = { id: 'no-clips', type: 'clipping', severity: 'fail', maxRuns: 0, minRunSamples: 3 };
+// A ceiling above full scale: the clip runs below make no true-peak overs, so the flags are the runs alone.
+const highCeiling: Rule = { id: 'tp-high', type: 'true-peak', severity: 'fail', maxDbtp: 3 };
+const clipHouse = (frameRate: '25' | '29.97-df' = '25') => house([clipRule, highCeiling], frameRate);
 
 /** Clip runs of 10 samples at full scale on channel 0 at the given sample positions. */
 const clipsAt = (starts: number[]) => (data: Float32Array[], startFrame: number) => {
@@ -21,15 +24,15 @@ const clipsAt = (starts: number[]) => (data: Float32Array[], startFrame: number)
 describe('flags', () => {
   it('a clip run at sample 600000 is at 12.5 s, 00:00:12:12 at 25 fps (SMPTE ST 12-1, 25 fps non-drop)', async () => {
     const path = await writeTone(dir, { segments: [{ seconds: 20, peakDbfs: -20 }], edit: clipsAt([600000]) });
-    const report = await checkFile(path, house([clipRule]));
+    const report = await checkFile(path, clipHouse());
     expect(report.verdict).toBe('fail');
     expect(report.flags).toHaveLength(1);
-    expect(report.flags[0]).toMatchObject({ kind: 'clipping', ruleId: 'no-clips', severity: 'fail', channel: 0, startSample: 600000, endSample: 600010, startSeconds: 12.5, startTimecode: '00:00:12:12', mergedEvents: 1, detections: 10 });
+    expect(report.flags[0]).toMatchObject({ kind: 'clipping', ruleId: 'no-clips', severity: 'fail', channel: 0, startSample: 600000, endSample: 600010, startSeconds: 12.5, startTimecode: '00:00:12:12', count: 1, detections: 10 });
   });
 
   it('counts from the BWF time reference: 10:00:00:00 + 12.5 s = 10:00:12:12 (EBU Tech 3285 TimeReference)', async () => {
     const path = await writeTone(dir, { segments: [{ seconds: 20, peakDbfs: -20 }], edit: clipsAt([600000]), timeReferenceSamples: 10 * 3600 * SAMPLE_RATE });
-    const report = await checkFile(path, house([clipRule]));
+    const report = await checkFile(path, clipHouse());
     expect(report.timecode).toMatchObject({ originSeconds: 36000, originTimecode: '10:00:00:00' });
     expect(report.flags[0].startTimecode).toBe('10:00:12:12');
     expect(report.flags[0].startSeconds).toBe(12.5); // seconds stay file-relative
@@ -38,14 +41,14 @@ describe('flags', () => {
   it('29.97 drop-frame across a minute: origin 00:00:59;20 + 30 frames = 00:01:00;22 (SMPTE ST 12-1 drop-frame rule)', async () => {
     const origin = 1790 * 1601.6; // frame 1790 at 48 kHz: 1601.6 samples per 30000/1001 fps frame (exact here)
     const path = await writeTone(dir, { segments: [{ seconds: 3, peakDbfs: -20 }], edit: clipsAt([48048]), timeReferenceSamples: origin });
-    const report = await checkFile(path, house([clipRule], '29.97-df'));
+    const report = await checkFile(path, clipHouse('29.97-df'));
     expect(report.timecode.originTimecode).toBe('00:00:59;20');
     expect(report.flags[0].startTimecode).toBe('00:01:00;22');
   });
 
   it('check --fps override: the same flag at 29.97 drop-frame instead of the profile rate', async () => {
     const path = await writeTone(dir, { segments: [{ seconds: 20, peakDbfs: -20 }], edit: clipsAt([600000]) });
-    const report = await checkFile(path, house([clipRule]), { frameRate: '29.97-df' });
+    const report = await checkFile(path, clipHouse(), { frameRate: '29.97-df' });
     // 600000 samples = 374.625 frames at 30000/1001 -> frame 374 -> 00:00:12;14 (no drop in minute 0)
     expect(report.flags[0].startTimecode).toBe('00:00:12;14');
   });
@@ -54,11 +57,11 @@ describe('flags', () => {
     const near = [100000, 104800, 109600]; // 0.1 s apart: one flag
     const far = Array.from({ length: 12 }, (_, i) => 200000 + i * 48000); // 1 s apart: twelve flags
     const path = await writeTone(dir, { segments: [{ seconds: 20, peakDbfs: -20 }], edit: clipsAt([...near, ...far]) });
-    const full = await checkFile(path, house([clipRule]));
+    const full = await checkFile(path, clipHouse());
     expect(full.flags).toHaveLength(13);
-    expect(full.flags[0]).toMatchObject({ startSample: 100000, endSample: 109610, mergedEvents: 3 });
+    expect(full.flags[0]).toMatchObject({ startSample: 100000, endSample: 109610, count: 3 });
     expect(full.flagsTruncated).toBe(false);
-    const capped = await checkFile(path, house([clipRule]), { maxFlags: 5 });
+    const capped = await checkFile(path, clipHouse(), { maxFlags: 5 });
     expect(capped.flags).toHaveLength(5);
     expect(capped.flagsTotal).toBe(13);
     expect(capped.flagsTruncated).toBe(true);
@@ -82,7 +85,7 @@ describe('flags', () => {
     for (const f of overs) {
       expect(f.startSeconds).toBeGreaterThanOrEqual(5);
       expect(f.endSeconds).toBeLessThanOrEqual(5.2);
-      expect(f.peakValue).toBeGreaterThan(-1);
+      expect(f.worstValue).toBeGreaterThan(-1);
       expect(f.detections).toBeGreaterThan(1); // the engine merged many over samples into one event
       expect(f.startTimecode).toBe('00:00:05:00');
     }
@@ -107,15 +110,16 @@ describe('flags', () => {
     const report = await checkFile(path, builtinProfile('ebu-r128-short-form'));
     const loud = report.flags.filter((f) => f.kind === 'loud_short_term');
     expect(loud).toHaveLength(1);
-    expect(loud[0].peakValue).toBeCloseTo(-16, 1);
+    expect(loud[0].worstValue).toBeCloseTo(-16, 1);
     expect(loud[0].endSeconds).toBeGreaterThan(10);
   });
 
-  it('a profile without a clipping rule gives no clipping flags', async () => {
+  it('a profile without a clipping rule shows clip runs as remarks', async () => {
     const path = await writeTone(dir, { segments: [{ seconds: 6, peakDbfs: -23 }], edit: clipsAt([100000]) });
     const report = await checkFile(path, builtinProfile('ebu-r128'));
-    expect(report.flags.filter((f) => f.kind === 'clipping')).toHaveLength(0);
-    expect(report.summary.clippingRuns).toBe(1); // still in the analysis
+    // Still visible, as a remark that does not touch the verdict.
+    expect(report.flags.filter((f) => f.kind === 'clipping').map((f) => [f.severity, f.ruleId])).toEqual([['remark', null]]);
+    expect(report.summary.clippingRuns).toBe(1);
   });
 });
 

@@ -42,7 +42,7 @@ const invalid: Array<[string, Edit, string]> = [
 describe('profile validation', () => {
   it('accepts the base profile and every built-in', () => {
     expect(parseProfile(base()).rules).toHaveLength(3);
-    expect(BUILTIN_PROFILES.map((p) => p.id)).toEqual(['ebu-r128', 'ebu-r128-short-form', 'atsc-a85', 'streaming-aes', 'podcast']);
+    expect(BUILTIN_PROFILES.map((p) => p.id)).toEqual(['ebu-r128', 'ebu-r128-short-form', 'atsc-a85', 'streaming-aes', 'podcast', 'delivery-broadcast-stereo', 'delivery-broadcast-5-1', 'delivery-online', 'delivery-podcast']);
   });
 
   it.each(invalid)('rejects %s (field named)', (_, edit, field) => {

@@ -38,8 +38,17 @@ describe('ProfileStore', () => {
     expect(await profiles.get('t1', 'house')).toBeNull();
     expect(await profiles.remove('t1', 'house')).toBe(false);
   });
+  it('saving identical content again keeps its version; a real change makes the next one', async () => {
+    const first = await profiles.put('t3', 'same', body);
+    // Same content, keys in another order: still the same profile.
+    const again = await profiles.put('t3', 'same', { rules: body.rules, basis: body.basis, description: body.description, name: body.name });
+    expect(again).toMatchObject({ versions: 1, profile: { version: first.profile.version } });
+    const changed = await profiles.put('t3', 'same', { ...body, name: 'Renamed' });
+    expect(changed).toMatchObject({ versions: 2, profile: { version: '2.0.0' } });
+  });
   it('refuses built-ins and a mismatched id; names the bad field', async () => {
     await expect(profiles.put('t1', 'ebu-r128', body)).rejects.toMatchObject({ code: 'forbidden' });
+    await expect(profiles.put('t1', 'delivery-podcast', body)).rejects.toMatchObject({ code: 'forbidden' });
     await expect(profiles.put('t1', 'house', { ...body, id: 'other' })).rejects.toMatchObject({ code: 'invalid_profile', details: { field: 'id' } });
     await expect(profiles.put('t1', 'house', { ...body, name: '' })).rejects.toMatchObject({ code: 'invalid_profile', details: { field: 'name' } });
   });
