@@ -23,24 +23,28 @@ export function formatAnalysis(doc: AnalysisDocument): string {
     `  Loudness range        ${orNone(s.loudnessRangeLu, 'LU')}`,
     `  Max momentary         ${orNone(s.maxMomentaryLufs, 'LUFS')}`,
     `  Max short-term        ${orNone(s.maxShortTermLufs, 'LUFS')}`,
-    `  True peak             ${fixed(s.truePeakDbtp, 'dBTP')}`,
+    `  True peak             ${fixed(s.truePeakDbtp, 'dBTP')} (BS.1770 Annex 2), ${fixed(s.reconstructedPeakDbtp, 'dBTP')} reconstructed`,
     `  Sample peak           ${fixed(s.samplePeakDbfs, 'dBFS')}`,
     `  RMS (all channels)    ${fixed(s.rmsDbfs, 'dBFS')}`,
     `  Head / tail silence   ${s.headSilenceSeconds.toFixed(2)} s / ${s.tailSilenceSeconds.toFixed(2)} s`,
     '',
-    '  ch  label  peak dBFS  TP dBTP   RMS dBFS  crest dB  DC          clip runs',
+    '  ch  label  peak dBFS  TP dBTP   RMS dBFS  crest dB  DC          clip runs  dropouts',
     ...doc.channels.map((c) =>
-      `  ${String(c.index).padEnd(3)} ${c.label.padEnd(6)} ${num(c.samplePeakDbfs)} ${num(c.truePeakDbtp)} ${num(c.rmsDbfs)} ${num(c.crestFactorDb)} ${c.dcOffset.toExponential(2).padStart(10)}  ${c.clippingRuns}${c.dead ? '  (dead)' : ''}`),
+      `  ${String(c.index + 1).padEnd(3)} ${c.label.padEnd(6)} ${num(c.samplePeakDbfs)} ${num(c.truePeakDbtp)} ${num(c.rmsDbfs)} ${num(c.crestFactorDb)} ${c.dcOffset.toExponential(2).padStart(10)}  ${String(c.clippingRuns).padStart(9)}  ${String(c.dropouts).padStart(8)}${c.dead ? '  (dead)' : ''}`),
   ];
+  if (!doc.integrity.intact) lines.unshift(...doc.integrity.problems.map((p) => `DAMAGED at ${formatTime(p.atSeconds)}: ${p.message}`));
   const counts = Object.entries(doc.eventCounts);
   lines.push('', counts.length === 0 ? '  No events.' : `  Events: ${counts.map(([k, n]) => `${k} ${n}`).join(', ')}${doc.eventsTruncated ? ' (list truncated)' : ''}`);
   for (const e of doc.events.slice(0, 20)) {
-    lines.push(`    ${formatTime(e.startSeconds)} - ${formatTime(e.endSeconds)}  ${e.kind}  ${e.channel === null ? 'all' : `ch ${e.channel}`}${e.otherChannel !== undefined ? ` / ch ${e.otherChannel}` : ''}${e.peakValue !== undefined ? `  ${e.peakValue.toFixed(2)}` : ''}`);
+    lines.push(`    ${formatTime(e.startSeconds)} - ${formatTime(e.endSeconds)}  ${e.kind}  ch ${name(doc, e.channel)}${e.otherChannel !== undefined ? ` / ${name(doc, e.otherChannel)}` : ''}${e.peakValue !== undefined ? `  ${e.peakValue.toFixed(2)}` : ''}`);
   }
   if (doc.events.length > 20) lines.push(`    ... ${doc.events.length - 20} more (use --json)`);
   for (const w of doc.warnings) lines.push(`  warning ${w.code}: ${w.message}`);
   return `${lines.join('\n')}\n`;
 }
+
+/** "2 R" (1-based, as in reports), or "all". */
+const name = (doc: AnalysisDocument, channel: number | null) => (channel === null ? 'all' : `${channel + 1} ${doc.channels[channel]?.label ?? '?'}`);
 
 function num(value: number | null): string {
   return (value === null ? '-inf' : value.toFixed(2)).padStart(9);
