@@ -42,9 +42,13 @@ export interface LoudnessResult {
   /** Time (s) of the end of the loudest momentary and short-term windows. */
   maxMomentaryAtSeconds: number | null;
   maxShortTermAtSeconds: number | null;
-  /** Momentary loudness every 100 ms (the 400 ms ending there); NaN before 400 ms and for digital silence. */
+  /**
+   * Momentary loudness every 100 ms (the 400 ms ending there); NaN before 400 ms and where the
+   * loudness does not pass the -70 LUFS absolute gate (silence, and the K filter's decaying tail
+   * after sound stops, which reads thousands of dB down) or is not finite.
+   */
   momentaryLufs: Float64Array;
-  /** Short-term loudness every 100 ms (the 3 s ending there); NaN before 3 s and for digital silence. */
+  /** Short-term loudness every 100 ms (the 3 s ending there); NaN before 3 s and as for momentaryLufs. */
   shortTermLufs: Float64Array;
   /** Gating blocks used: total and after both gates. */
   gatingBlocks: number;
@@ -231,9 +235,17 @@ export class LoudnessMeter implements Meter<LoudnessResult> {
   }
 }
 
-/** Powers to LUFS in place, NaN where there is no value (NaN in) or digital silence (0 in). */
+/**
+ * Powers to LUFS in place. NaN where there is no value (NaN in) and where the power does not pass
+ * the absolute gate of BS.1770-5 eq. (6) (l > -70 LKFS), the same test the gated readings apply,
+ * or is infinite: the document shows null there, never a value below -70.
+ */
 function toLufsInPlace(series: Float64Array): Float64Array {
-  for (let i = 0; i < series.length; i++) series[i] = powerToLufs(series[i]) ?? Number.NaN;
+  const gate = lufsToPower(ABSOLUTE_GATE_LUFS);
+  for (let i = 0; i < series.length; i++) {
+    const p = series[i];
+    series[i] = p > gate && p < Infinity ? LOUDNESS_OFFSET + 10 * Math.log10(p) : Number.NaN;
+  }
   return series;
 }
 

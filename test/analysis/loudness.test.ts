@@ -49,6 +49,26 @@ describe('LoudnessMeter (ITU-R BS.1770-5)', () => {
     expect(JSON.stringify(quiet)).not.toContain('Infinity');
   });
 
+  it('leaves the series empty (NaN, null in the document) once the windows hold only the silence after a tone, never a value at or below -70 LUFS (BS.1770-5 eq. (6))', () => {
+    // After sound stops the K filter's output decays through ever smaller powers (it read -3157.70 LUFS).
+    const r = measure(['L', 'R'], toneBlocks({ sampleRate: 48000, channels: 2, segments: [
+      { seconds: 5, frequencyHz: 997, peakDbfs: [-20, -20] },
+      { seconds: 10, peakDbfs: null },
+    ] }));
+    expect(r.momentaryLufs.length).toBe(150);
+    // Value k ends at (k + 1) / 10 s. The 5.0-5.4 s window (k = 53) still holds the filter's ring-down
+    // of the tone (-62.7 LUFS, a real reading); from 5.1-5.5 s on it read -250.8 falling to -3168.7.
+    // Short-term windows lie in the silence from k = 79 (5.0-8.0 s, which read -71.4).
+    expect([...r.momentaryLufs.subarray(54)].every(Number.isNaN)).toBe(true);
+    expect([...r.shortTermLufs.subarray(79)].every(Number.isNaN)).toBe(true);
+    for (const series of [r.momentaryLufs, r.shortTermLufs]) for (const v of series) if (!Number.isNaN(v)) expect(v).toBeGreaterThan(-70);
+    // Two channels of a -20 dBFS sine: -23.01 LKFS each, summed +3.01 dB (BS.1770-5 eqs. (2), (4)).
+    expect(r.momentaryLufs[45]).toBeCloseTo(-20, 1);
+    // The gated reading is what it was before series points were gated (-20.13: the fade's blocks
+    // at -21.3 to -26.0 pass the relative gate; the silence never passed the absolute one).
+    expect(r.integratedLufs).toBeCloseTo(-20.13, 2);
+  });
+
   it('uses only complete 400 ms blocks: a 300 ms file has no integrated or momentary value (BS.1770-5 eq. (3))', () => {
     const short = measure(['M'], toneBlocks({ sampleRate: 48000, channels: 1, segments: [{ seconds: 0.3, peakDbfs: -20 }] }));
     expect(short.integratedLufs).toBeNull();

@@ -40,9 +40,9 @@ export interface LoudnessResult {
   /** Time (s) of the end of the loudest momentary and short-term windows. */
   maxMomentaryAtSeconds: number | null;
   maxShortTermAtSeconds: number | null;
-  /** Momentary loudness every 100 ms (the 400 ms ending there); NaN before 400 ms and for digital silence. */
+  /** Momentary loudness every 100 ms (the 400 ms ending there); NaN before 400 ms and where it is not finite or not above -70 LUFS. */
   momentaryLufs: Float64Array;
-  /** Short-term loudness every 100 ms (the 3 s ending there); NaN before 3 s and for digital silence. */
+  /** Short-term loudness every 100 ms (the 3 s ending there); NaN before 3 s and where it is not finite or not above -70 LUFS. */
   shortTermLufs: Float64Array;
   /** Gating blocks used: total and after both gates. */
   gatingBlocks: number;
@@ -252,8 +252,8 @@ export class LoudnessMeter implements Meter<LoudnessResult> {
     const blocks = this.blockPowers.view();
     const { loudness: integratedLufs, kept } = gatedLoudness(blocks, RELATIVE_GATE_LU);
     const range = loudnessRange(this.shortTermPowers.view());
-    const momentaryLufs = Float64Array.from(this.momentarySeries.view(), (p) => (Number.isNaN(p) ? Number.NaN : powerToLufs(p) ?? Number.NaN));
-    const stValues = Array.from(this.shortTermPowers.view(), (p) => powerToLufs(p) ?? Number.NaN);
+    const momentaryLufs = Float64Array.from(this.momentarySeries.view(), (p) => (Number.isNaN(p) ? Number.NaN : seriesValue(p)));
+    const stValues = Array.from(this.shortTermPowers.view(), seriesValue);
     const shortTermLufs = Float64Array.from([
       ...new Array<number>(Math.min(SUBBLOCKS_PER_SHORT_TERM - 1, this.subblockIndex)).fill(Number.NaN),
       ...stValues,
@@ -277,6 +277,12 @@ export class LoudnessMeter implements Meter<LoudnessResult> {
       eventsTotal: this.log.total,
     };
   }
+}
+
+/** A series point: the loudness when it is finite and passes the absolute gate (BS.1770-5 eq. (6): l > -70 LKFS), else NaN. */
+function seriesValue(power: number): number {
+  const lufs = powerToLufs(power);
+  return lufs !== null && Number.isFinite(lufs) && lufs > ABSOLUTE_GATE_LUFS ? lufs : Number.NaN;
 }
 
 /** BS.1770-5 eqs. (4)-(7): absolute gate at -70 LKFS, then a relative gate. */
