@@ -1,6 +1,6 @@
 // The pages' wording (src/views/assets/format.js): pure functions, so checked here without a browser.
 import { describe, expect, it } from 'vitest';
-import { channelText, countText, failureHint, flagCountsText, flagDetails, flagLabel, flagView, outcomeText, spanText, worstValueText } from '../../src/views/assets/format.js';
+import { channelText, countText, failureHint, flagCountsText, flagDetails, flagLabel, flagView, headlineNamesVerdict, outcomeText, spanText, worstValueText } from '../../src/views/assets/format.js';
 import { sampleFlags } from './sample-report.ts';
 
 describe('flag wording', () => {
@@ -21,7 +21,8 @@ describe('flag wording', () => {
   });
 
   it('reads levels to 0.1 and correlations to 0.01; no value, no text', () => {
-    expect(worstValueText({ worstValue: -0.04, unit: 'dBTP' })).toBe('-0.0 dBTP');
+    expect(worstValueText({ worstValue: -0.04, unit: 'dBTP' })).toBe('0.0 dBTP');
+    expect(worstValueText({ worstValue: -0.05, unit: 'dBTP' })).toBe('-0.1 dBTP');
     expect(worstValueText({ worstValue: -38.06, unit: 'dBFS' })).toBe('-38.1 dBFS');
     expect(worstValueText({ worstValue: -0.934, unit: 'correlation' })).toBe('-0.93 correlation');
     expect(worstValueText({ worstValue: null, unit: 'dBTP' })).toBeNull();
@@ -41,6 +42,12 @@ describe('counts, outcomes and failure hints', () => {
     expect(flagCountsText({ flagCounts: { fail: 0, warn: 0, remark: 1 }, flags: [] })).toBe('0 fail · 0 warn · 1 remark');
     // A v1 report has no counts: they come from its flags.
     expect(flagCountsText({ flags: [{ severity: 'fail' }, { severity: 'fail' }, { severity: 'warn' }] })).toBe('2 fail · 1 warn · 0 remarks');
+  });
+
+  it('adds a verdict badge to the headline only when its words do not name the verdict', () => {
+    expect(headlineNamesVerdict('FAIL: damaged file at 00:00:05:00', 'fail')).toBe(true);
+    expect(headlineNamesVerdict('Damaged: audio ends at 00:00:05:00', 'fail')).toBe(false);
+    expect(headlineNamesVerdict('Analysis failed: not audio', null)).toBe(false);
   });
 
   it('names a marginal outcome "marginal", never "not met"', () => {

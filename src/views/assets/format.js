@@ -30,7 +30,9 @@ const ONE_DECIMAL = new Set(['dBTP', 'dBFS', 'dB', 'LUFS', 'LU', 's']);
 export function worstValueText(flag) {
   if (flag.worstValue === null || flag.worstValue === undefined || !Number.isFinite(flag.worstValue)) return null;
   const digits = ONE_DECIMAL.has(flag.unit) ? 1 : 2;
-  return `${flag.worstValue.toFixed(digits)}${flag.unit ? ` ${flag.unit}` : ''}`;
+  // -0.001 reads "0.0", as in the report's own messages, not "-0.0".
+  const value = flag.worstValue.toFixed(digits).replace(/^-(0\.0+)$/, '$1');
+  return `${value}${flag.unit ? ` ${flag.unit}` : ''}`;
 }
 
 export function channelText(flag) {
@@ -56,6 +58,11 @@ export function flagDetails(flag) {
 /** One line for a plot marker's title or a screen reader: "#12 Clipping run (fail), 00:… – 00:…, ch 2 R, × 37, worst -0.1 dBTP". */
 export function flagLabel(flag) {
   return [`#${flag.number} ${flag.title} (${flag.severity})`, ...flagDetails(flag)].join(', ');
+}
+
+/** The headline names its verdict ("FAIL: …") unless it is older or hand-made: only then add a badge. */
+export function headlineNamesVerdict(headline, verdict) {
+  return Boolean(verdict) && headline.toLowerCase().startsWith(String(verdict).toLowerCase());
 }
 
 const plural = (n, one, many) => `${n} ${n === 1 ? one : many}`;

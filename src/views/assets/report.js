@@ -2,7 +2,7 @@
 // server-rendered loudness plot, flags that move the plot's cursor when chosen, a short
 // listening excerpt per flag, and the checks. A failed job shows its error and what to do.
 import { api, el, setupKeyForm, text, verdictBadge } from './common.js';
-import { failureHint, flagCountsText, flagDetails, flagView, outcomeText } from './format.js';
+import { failureHint, flagCountsText, flagDetails, flagView, headlineNamesVerdict, outcomeText } from './format.js';
 
 const jobId = document.body.dataset.jobId;
 const EXCERPT_PAD_SECONDS = 1.5;
@@ -43,10 +43,11 @@ async function listen(flag) {
   }
 }
 
-function showHeadline(words, verdict) {
+/** tone: pass, warn or fail (the tint); badge: a verdict to show in front, when the words lack it. */
+function showHeadline(words, tone, badge) {
   const headline = document.getElementById('em-headline');
-  headline.className = `em-headline em-headline-${verdict ?? 'none'}`;
-  headline.replaceChildren(verdictBadge(verdict), ' ', words);
+  headline.className = `em-headline em-headline-${tone}`;
+  headline.replaceChildren(...(badge ? [verdictBadge(badge), ' '] : []), words);
   headline.hidden = false;
 }
 
@@ -69,7 +70,7 @@ function renderIntegrity(report) {
 function renderFailure(job) {
   const code = job.error?.code ?? 'internal_error';
   const message = job.error?.message ?? 'the job failed without a reason';
-  showHeadline(`Analysis failed: ${message}`, 'fail');
+  showHeadline(`Analysis failed: ${message}`, 'fail', null);
   document.getElementById('em-failure-code').textContent = code;
   document.getElementById('em-failure-message').textContent = `${message}${job.attemptsMade > 1 ? ` (after ${job.attemptsMade} attempts)` : ''}`;
   document.getElementById('em-failure-hint').textContent = failureHint(code);
@@ -137,7 +138,7 @@ async function load() {
       return;
     }
     const [report, plot] = await Promise.all([api(`/v1/jobs/${encodeURIComponent(jobId)}/report`).then((r) => r.json()), api(`/v1/jobs/${encodeURIComponent(jobId)}/plot.svg`).then((r) => r.text())]);
-    if (report.headline) showHeadline(report.headline, report.verdict);
+    if (report.headline) showHeadline(report.headline, report.verdict, headlineNamesVerdict(report.headline, report.verdict) ? null : report.verdict);
     renderIntegrity(report);
     document.getElementById('em-file').textContent = report.file?.name ?? job.id;
     document.getElementById('em-profile').textContent = `${report.profile.name} (${report.profile.id} v${report.profile.version})`;
