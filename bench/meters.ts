@@ -9,6 +9,7 @@ import { LoudnessMeter } from '../src/analysis/loudness.ts';
 import { TruePeakMeter } from '../src/analysis/true-peak.ts';
 import { ClippingMeter } from '../src/analysis/clipping.ts';
 import { SilenceMeter } from '../src/analysis/silence.ts';
+import { DropoutMeter } from '../src/analysis/dropouts.ts';
 import { ChannelRelationMeter } from '../src/analysis/channel-relations.ts';
 
 import { LevelMeter as RefLevels } from '../test/helpers/reference-meters/levels.ts';
@@ -17,6 +18,7 @@ import { LoudnessMeter as RefLoudness } from '../test/helpers/reference-meters/l
 import { TimeWeightedLevelMeter as RefBallistics } from '../test/helpers/reference-meters/ballistics.ts';
 import { ClippingMeter as RefClipping } from '../test/helpers/reference-meters/clipping.ts';
 import { SilenceMeter as RefSilence } from '../test/helpers/reference-meters/silence.ts';
+import { DropoutMeter as RefDropouts } from '../test/helpers/reference-meters/dropouts.ts';
 import { EnvelopeBuilder } from '../src/analysis/envelope.ts';
 
 const [file, secondsArg, only] = process.argv.slice(2);
@@ -41,6 +43,7 @@ const makers: Record<string, () => Meter<unknown>> = {
   truePeak: () => new TruePeakMeter(info),
   clipping: () => new ClippingMeter(info),
   silence: () => new SilenceMeter(info),
+  dropouts: () => new DropoutMeter(info),
   relations: () => new ChannelRelationMeter(info),
   runner: () => new AnalysisRunner(info),
   // The straightforward implementations the optimised meters replaced, for side-by-side ratios.
@@ -50,6 +53,7 @@ const makers: Record<string, () => Meter<unknown>> = {
   'ballistics ref': () => new RefBallistics(info),
   'clipping ref': () => new RefClipping(info),
   'silence ref': () => new RefSilence(info),
+  'dropouts ref': () => new RefDropouts(info),
   // The shared pass alone (each meter above computes its own when pushed alone; the runner computes it once).
   envelope: () => { const builder = new EnvelopeBuilder(); return { push: (b: PcmBlock) => { builder.build(b); }, result: () => null }; },
 };

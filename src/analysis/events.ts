@@ -3,6 +3,7 @@
 
 export type EventKind =
   | 'clipping'          // run of consecutive samples at or near full scale
+  | 'dropout'           // short abrupt loss inside programme: digital zero or a fall to a noise floor (dropouts.ts)
   | 'silence'           // below a level for at least a duration (one channel, or all together)
   | 'true_peak_over'    // true peak above the configured ceiling
   | 'dead_channel'      // digital silence for the whole stream
