@@ -60,7 +60,8 @@ describe('upload and report', () => {
     expect(report.body.file.name).toBe('pass.wav');
     // The hash the API took while storing the upload, carried to the worker: the bytes' own SHA-256.
     expect(report.body.file.sha256).toBe(createHash('sha256').update(readFileSync(files.pass)).digest('hex'));
-    expect(report.body.flags).toEqual([]);
+    // Identical L and R: dual mono, shown as a remark that leaves the verdict a pass.
+    expect(report.body.flags.map((f: { kind: string; severity: string }) => [f.kind, f.severity])).toEqual([['duplicate_channel', 'remark']]);
   });
 
   it('a loud FLAC fails loudness and true peak, with true-peak flags', async () => {
