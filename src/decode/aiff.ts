@@ -118,7 +118,8 @@ export async function parseAiff(reader: ByteReader, container: Container): Promi
   let frames = comm.frames;
   const chunkFrames = Math.floor(ssnd.availableBytes / blockAlign);
   if (chunkFrames < frames) {
-    warnings.push({ code: 'frames_mismatch', message: `COMM declares ${frames} frames but the SSND chunk holds ${chunkFrames}`, atFrame: chunkFrames });
+    // The declared length is not reached: the audio stops where the SSND chunk does.
+    warnings.push({ code: 'truncated_data', message: `audio data ends at frame ${chunkFrames}, COMM declares ${frames} frames`, atFrame: chunkFrames });
     frames = chunkFrames;
   }
   const format: AudioFormat = {

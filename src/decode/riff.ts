@@ -397,9 +397,11 @@ export async function parseRiff(reader: ByteReader, container: Container): Promi
   if (!fmt) throw new EarmarkError('corrupt_file', 'no fmt chunk found');
   if (!data) throw new EarmarkError('corrupt_file', 'no data chunk found');
   const frames = Math.floor(data.bytes / fmt.blockAlign);
-  if (ds64 && ds64.sampleCount !== 0 && ds64.sampleCount !== frames) {
-    // Fewer frames than counted: the audio stops at the end of the data; more: the extra starts at the count.
-    warnings.push({ code: 'frames_mismatch', atFrame: Math.min(frames, ds64.sampleCount), message: `ds64 sample count ${ds64.sampleCount} differs from ${frames} frames of data` });
+  if (ds64 && ds64.sampleCount !== 0 && ds64.sampleCount > frames) {
+    // The declared length is not reached: the audio stops where the data does.
+    warnings.push({ code: 'truncated_data', atFrame: frames, message: `audio data ends at frame ${frames}, the ds64 sample count declares ${ds64.sampleCount}` });
+  } else if (ds64 && ds64.sampleCount !== 0 && ds64.sampleCount < frames) {
+    warnings.push({ code: 'frames_mismatch', atFrame: ds64.sampleCount, message: `ds64 sample count ${ds64.sampleCount} is less than the ${frames} frames of data` });
   }
   const format: AudioFormat = {
     container,

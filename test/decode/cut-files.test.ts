@@ -68,7 +68,7 @@ describe('declared lengths and tiny WAVs', () => {
   beforeAll(() => { dir = mkdtempSync(join(tmpdir(), 'earmark-tiny-')); });
   afterAll(() => { if (dir) rmSync(dir, { recursive: true, force: true }); });
 
-  it('RF64 whose ds64 sample count is more than its data holds: frames_mismatch where the data ends', async () => {
+  it('RF64 whose ds64 sample count is more than its data holds: truncated_data where the data ends', async () => {
     const frames = 1000;
     const bytes = Buffer.concat([wavHeader({ sampleRate: 48000, channels: 2, bitsPerSample: 16, float: false, frames, rf64: true }), Buffer.alloc(frames * 4)]);
     // EBU Tech 3306 ds64: after its 8-byte header, riffSize (8), dataSize (8), sampleCount (8).
@@ -79,7 +79,7 @@ describe('declared lengths and tiny WAVs', () => {
     const d = await openAudioFile(path);
     await drain(d);
     expect(d.framesDecoded).toBe(frames);
-    expect(d.warnings).toEqual([expect.objectContaining({ code: 'frames_mismatch', atFrame: frames })]);
+    expect(d.warnings).toEqual([expect.objectContaining({ code: 'truncated_data', atFrame: frames })]);
   });
 
   it('a WAV with an empty data chunk decodes to zero frames, no error, no warning', async () => {
