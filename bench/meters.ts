@@ -7,6 +7,7 @@ import { LevelMeter } from '../src/analysis/levels.ts';
 import { TimeWeightedLevelMeter } from '../src/analysis/ballistics.ts';
 import { LoudnessMeter } from '../src/analysis/loudness.ts';
 import { TruePeakMeter } from '../src/analysis/true-peak.ts';
+import { ReconstructedPeakMeter } from '../src/analysis/reconstructed-peak.ts';
 import { ClippingMeter } from '../src/analysis/clipping.ts';
 import { SilenceMeter } from '../src/analysis/silence.ts';
 import { DropoutMeter } from '../src/analysis/dropouts.ts';
@@ -14,6 +15,7 @@ import { ChannelRelationMeter } from '../src/analysis/channel-relations.ts';
 
 import { LevelMeter as RefLevels } from '../test/helpers/reference-meters/levels.ts';
 import { TruePeakMeter as RefTruePeak } from '../test/helpers/reference-meters/true-peak.ts';
+import { ReconstructedPeakMeter as RefReconstructedPeak } from '../test/helpers/reference-meters/reconstructed-peak.ts';
 import { LoudnessMeter as RefLoudness } from '../test/helpers/reference-meters/loudness.ts';
 import { TimeWeightedLevelMeter as RefBallistics } from '../test/helpers/reference-meters/ballistics.ts';
 import { ClippingMeter as RefClipping } from '../test/helpers/reference-meters/clipping.ts';
@@ -41,6 +43,7 @@ const makers: Record<string, () => Meter<unknown>> = {
   ballistics: () => new TimeWeightedLevelMeter(info),
   loudness: () => new LoudnessMeter(info),
   truePeak: () => new TruePeakMeter(info),
+  reconstructedPeak: () => new ReconstructedPeakMeter(info),
   clipping: () => new ClippingMeter(info),
   silence: () => new SilenceMeter(info),
   dropouts: () => new DropoutMeter(info),
@@ -50,6 +53,7 @@ const makers: Record<string, () => Meter<unknown>> = {
   'levels ref': () => new RefLevels(info),
   'loudness ref': () => new RefLoudness(info),
   'truePeak ref': () => new RefTruePeak(info),
+  'reconstructedPeak ref': () => new RefReconstructedPeak(info),
   'ballistics ref': () => new RefBallistics(info),
   'clipping ref': () => new RefClipping(info),
   'silence ref': () => new RefSilence(info),

@@ -6,6 +6,7 @@ export type EventKind =
   | 'dropout'           // short abrupt loss inside programme: digital zero or a fall to a noise floor (dropouts.ts)
   | 'silence'           // below a level for at least a duration (one channel, or all together)
   | 'true_peak_over'    // true peak above the configured ceiling
+  | 'reconstructed_over' // reconstructed (band-limited) peak above the configured ceiling (reconstructed-peak.ts)
   | 'dead_channel'      // digital silence for the whole stream
   | 'duplicate_channel' // a channel that is an identical copy of another
   | 'inverted_channel'  // a channel that is a polarity-inverted copy of another
