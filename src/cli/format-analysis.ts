@@ -2,7 +2,8 @@
 import { printableName } from './printable.ts';
 import type { AnalysisDocument } from '../engine/document.ts';
 
-const fixed = (value: number | null, unit: string, digits = 1) => (value === null ? `-inf ${unit}`.replace('-inf LU', 'n/a') : `${value.toFixed(digits)} ${unit}`);
+/** A level of digital silence (null) in words, never -inf. */
+const fixed = (value: number | null, unit: string, digits = 1) => (value === null ? 'none (digital silence)' : `${value.toFixed(digits)} ${unit}`);
 const orNone = (value: number | null, unit: string) => (value === null ? 'none (below gate)' : `${value.toFixed(1)} ${unit}`);
 
 export function formatTime(seconds: number): string {
@@ -47,5 +48,5 @@ export function formatAnalysis(doc: AnalysisDocument): string {
 const name = (doc: AnalysisDocument, channel: number | null) => (channel === null ? 'all' : `${channel + 1} ${doc.channels[channel]?.label ?? '?'}`);
 
 function num(value: number | null): string {
-  return (value === null ? '-inf' : value.toFixed(2)).padStart(9);
+  return (value === null ? 'silent' : value.toFixed(2)).padStart(9);
 }
