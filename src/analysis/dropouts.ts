@@ -36,7 +36,9 @@
 // Streaming: with a minimum of a chunk (32 frames) or more, every run that can matter holds some
 // chunk's last frame, so outside runs only those frames are read; inside one, the envelope's
 // chunk maxima skip quiet chunks. Shorter minimums skip on the envelope's extremes as silence.ts
-// does. Rules 2-3 read a ring of the last 31 ms per channel, rule 4 the next block(s).
+// does. All channels are scanned together only in blocks where every channel has a run of at least
+// the minimum or one crossing a block edge. Rules 2-3 read a ring of the last 31 ms per channel,
+// rule 4 the next block(s).
 
 import type { Meter, PcmBlock, StreamInfo } from './audio.ts';
 import { ENVELOPE_CHUNK_FRAMES, EnvelopeBuilder } from './envelope.ts';
@@ -178,21 +180,26 @@ export class DropoutMeter implements Meter<DropoutResult> {
     const envelope = this.minFrames >= ENVELOPE_CHUNK_FRAMES ? block.envelope : this.envelopes.of(block);
     for (const candidate of this.candidates) this.readAfter(candidate, block, base);
     // Mono: the channel's runs are the all-channel runs, which rule 5 reports instead.
+    let allChannels = true;
     if (this.n > 1) {
       for (let c = 0; c < this.n; c++) {
-        this.scan(c, [block.channelData[c]], envelope && [envelope.maxAbs[c]], envelope && [envelope.minAbs[c]], block, base);
+        if (!this.scan(c, [block.channelData[c]], envelope && [envelope.maxAbs[c]], envelope && [envelope.minAbs[c]], block, base)) allChannels = false;
       }
     }
-    this.scan(this.n, block.channelData, envelope?.maxAbs, envelope?.minAbs, block, base);
+    // An all-channel run that can matter lies inside a long or block-crossing run of every channel.
+    if (allChannels) this.scan(this.n, block.channelData, envelope?.maxAbs, envelope?.minAbs, block, base);
     // Rules 2-3 read the frames before a run: judge open runs while the ring still holds them.
     for (let slot = 0; slot <= this.n; slot++) {
       if (this.runStart[slot] >= 0 && this.verdict[slot] === UNJUDGED) this.judgeStart(slot, this.runStart[slot], block, base);
     }
-    const keep = Math.min(frames, this.ringFrames);
+    // Keep the block's last frames: frame f at f % ringFrames, in at most two copies.
+    const from = frames - Math.min(frames, this.ringFrames);
+    const at = (base + from) % this.ringFrames;
+    const split = from + Math.min(frames - from, this.ringFrames - at);
     for (let c = 0; c < this.n; c++) {
       const x = block.channelData[c];
-      const r = this.ring[c];
-      for (let i = frames - keep; i < frames; i++) r[(base + i) % this.ringFrames] = x[i];
+      this.ring[c].set(x.subarray(from, split), at);
+      this.ring[c].set(x.subarray(split, frames), 0);
     }
     this.frames = base + frames;
     // Channel runs ending from now on lie an edge window or more past these.
@@ -225,16 +232,18 @@ export class DropoutMeter implements Meter<DropoutResult> {
   /**
    * One slot's runs through a block: a channel (xs holds its samples) or all channels (xs holds
    * every channel; a frame's level is its loudest sample, a chunk's bounds come from every channel).
+   * Returns whether a run of at least the minimum, or one open at either end of the block, was seen.
    */
   private scan(
     slot: number, xs: readonly Float32Array[], maxAbs: readonly Float32Array[] | undefined, minAbs: readonly Float32Array[] | undefined,
     block: PcmBlock, base: number,
-  ): void {
+  ): boolean {
     const frames = block.frames;
     const thr = this.threshold;
     const minFrames = this.minFrames;
     let start = this.runStart[slot];
     let peak = this.runPeak[slot];
+    let long = start >= 0;
     if (minFrames >= ENVELOPE_CHUNK_FRAMES) {
       const x0 = xs[0];
       const single = xs.length === 1;
@@ -255,7 +264,7 @@ export class DropoutMeter implements Meter<DropoutResult> {
             if (a > peak) peak = a;
           }
           if (i === to) continue; // a quiet chunk, read without an envelope
-          if (base + i - start >= minFrames) this.closeRun(slot, start, base + i, peak, block, base);
+          if (base + i - start >= minFrames) { this.closeRun(slot, start, base + i, peak, block, base); long = true; }
           start = -1;
           i++;
         }
@@ -288,7 +297,7 @@ export class DropoutMeter implements Meter<DropoutResult> {
             if (start < 0) { start = base + i; peak = 0; this.verdict[slot] = UNJUDGED; }
             if (a > peak) peak = a;
           } else if (start >= 0) {
-            if (base + i - start >= minFrames) this.closeRun(slot, start, base + i, peak, block, base);
+            if (base + i - start >= minFrames) { this.closeRun(slot, start, base + i, peak, block, base); long = true; }
             start = -1;
           }
         }
@@ -296,6 +305,7 @@ export class DropoutMeter implements Meter<DropoutResult> {
     }
     this.runStart[slot] = start;
     this.runPeak[slot] = peak;
+    return long || start >= 0;
   }
 
   private closeRun(slot: number, start: number, end: number, peak: number, block: PcmBlock, base: number): void {
