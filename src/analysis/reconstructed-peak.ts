@@ -31,7 +31,8 @@
 
 import type { Meter, PcmBlock, StreamInfo } from './audio.ts';
 import { ENVELOPE_CHUNK_FRAMES, EnvelopeBuilder } from './envelope.ts';
-import { EventLog, type AnalysisEvent } from './events.ts';
+import type { AnalysisEvent } from './events.ts';
+import { OverLog } from './overs.ts';
 
 /**
  * Stage 1: c[k] weighs x[n - k] + x[n + 1 + k] for the point half-way between x[n] and x[n + 1].
@@ -130,8 +131,6 @@ export interface ReconstructedPeakResult {
   prunedFrames: number;
 }
 
-interface OpenOver { startFrame: number; lastFrame: number; count: number; peak: number }
-
 function absMax(x: Float64Array, from: number, to: number): number {
   let m = 0;
   for (let i = from; i < to; i++) {
@@ -161,8 +160,7 @@ export class ReconstructedPeakMeter implements Meter<ReconstructedPeakResult> {
   /** Slow-path values of one frame: grid values -1..8 (the previous frame's last, the next sample). */
   private readonly scratch = new Float64Array(10);
   private readonly envelopes = new EnvelopeBuilder();
-  private readonly open: (OpenOver | null)[];
-  private readonly log: EventLog;
+  private readonly overLog: OverLog;
   private readonly s: Float64Array;
   private readonly d: Float64Array;
   private readonly h: Float64Array;
@@ -182,8 +180,7 @@ export class ReconstructedPeakMeter implements Meter<ReconstructedPeakResult> {
     this.samplePeaks = new Float64Array(info.channels);
     this.history = Array.from({ length: info.channels }, () => new Float64Array(HISTORY));
     this.historyMax = new Float64Array(info.channels);
-    this.open = new Array<OpenOver | null>(info.channels).fill(null);
-    this.log = new EventLog(info.sampleRate, options.maxEvents);
+    this.overLog = new OverLog('reconstructed_over', info.channels, info.sampleRate, this.mergeFrames, options.maxEvents);
     // Pair k joins z[j + 1 + k] and z[j - k]: halved sums and differences of the mirrored taps.
     const g1 = quarterPhaseTaps(1), g2 = quarterPhaseTaps(2);
     const w = STAGE2_HALF_WIDTH - 1;
@@ -373,29 +370,7 @@ export class ReconstructedPeakMeter implements Meter<ReconstructedPeakResult> {
       this.maxFrame[channel] = frame;
       this.gates[channel] = Math.min(peak, this.ceilingLinear);
     }
-    if (peak > this.ceilingLinear) this.recordOver(channel, frame, peak);
-  }
-
-  private recordOver(channel: number, frame: number, peak: number): void {
-    const open = this.open[channel];
-    if (open && frame - open.lastFrame <= this.mergeFrames + 1) {
-      open.lastFrame = frame;
-      open.count++;
-      if (peak > open.peak) open.peak = peak;
-      return;
-    }
-    this.closeOver(channel);
-    this.open[channel] = { startFrame: frame, lastFrame: frame, count: 1, peak };
-  }
-
-  private closeOver(channel: number): void {
-    const open = this.open[channel];
-    if (!open) return;
-    this.log.add({
-      kind: 'reconstructed_over', channel, startFrame: open.startFrame, endFrame: open.lastFrame + 1,
-      peakValue: 20 * Math.log10(open.peak), count: open.count,
-    });
-    this.open[channel] = null;
+    if (peak > this.ceilingLinear) this.overLog.record(channel, frame, peak);
   }
 
   /** Reads the last LATENCY_FRAMES grid frames (zeros follow the stream), then the result; once. */
@@ -403,19 +378,18 @@ export class ReconstructedPeakMeter implements Meter<ReconstructedPeakResult> {
     if (this.final) return this.final;
     const tail = Array.from({ length: this.channels }, () => new Float32Array(LATENCY_FRAMES));
     if (this.position > 0) this.consume({ channelData: tail, frames: LATENCY_FRAMES });
-    for (let c = 0; c < this.channels; c++) this.closeOver(c);
+    const { overs, oversTotal } = this.overLog.finish();
     const toDb = (v: number) => (v > 0 ? 20 * Math.log10(v) : null);
     let best = -1;
     for (let c = 0; c < this.channels; c++) if (best < 0 || this.maxima[c] > this.maxima[best]) best = c;
     const programme = best >= 0 ? this.maxima[best] : 0;
-    const overs = [...this.log.events].sort((a, b) => a.startFrame - b.startFrame || (a.channel ?? 0) - (b.channel ?? 0));
     this.final = {
       channelPeakDbtp: Array.from(this.maxima, toDb),
       peakDbtp: toDb(programme),
       peakAtSeconds: programme > 0 ? this.maxFrame[best] / this.sampleRate : null,
       overCeilingDbtp: this.ceilingDbtp,
       overs,
-      oversTotal: this.log.total,
+      oversTotal,
       prunedFrames: this.pruned,
     };
     return this.final;

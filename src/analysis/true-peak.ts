@@ -17,7 +17,8 @@
 
 import type { Meter, PcmBlock, StreamInfo } from './audio.ts';
 import { ENVELOPE_CHUNK_FRAMES, EnvelopeBuilder } from './envelope.ts';
-import { EventLog, type AnalysisEvent } from './events.ts';
+import type { AnalysisEvent } from './events.ts';
+import { OverLog } from './overs.ts';
 
 /** BS.1770-5 Annex 2, section 3: phase 0 and phase 1 of the example filter. */
 export const ANNEX2_PHASE0 = [
@@ -70,8 +71,6 @@ export interface TruePeakResult {
   prunedFrames: number;
 }
 
-interface OpenOver { startFrame: number; lastFrame: number; count: number; peak: number }
-
 export class TruePeakMeter implements Meter<TruePeakResult> {
   private readonly channels: number;
   private readonly sampleRate: number;
@@ -86,8 +85,7 @@ export class TruePeakMeter implements Meter<TruePeakResult> {
   /** The previous block's last HISTORY samples, then this block's first chunk. */
   private readonly head = new Float32Array(HISTORY + ENVELOPE_CHUNK_FRAMES);
   private readonly envelopes = new EnvelopeBuilder();
-  private readonly open: (OpenOver | null)[];
-  private readonly log: EventLog;
+  private readonly overLog: OverLog;
   private readonly s0: Float64Array;
   private readonly d0: Float64Array;
   private readonly s1: Float64Array;
@@ -105,8 +103,7 @@ export class TruePeakMeter implements Meter<TruePeakResult> {
     this.maxFrame = new Float64Array(info.channels);
     this.history = Array.from({ length: info.channels }, () => new Float32Array(HISTORY));
     this.historyMax = new Float64Array(info.channels);
-    this.open = new Array<OpenOver | null>(info.channels).fill(null);
-    this.log = new EventLog(info.sampleRate, options.maxEvents);
+    this.overLog = new OverLog('true_peak_over', info.channels, info.sampleRate, this.mergeFrames, options.maxEvents);
     // Halved (exact: a power of two), so |S| + |D| is already max(|y0|, |y3|).
     const pairs = (h: number[], sign: number) => Float64Array.from({ length: 6 }, (_, k) => 0.5 * (h[k] + sign * h[TAPS - 1 - k]));
     this.s0 = pairs(ANNEX2_PHASE0, 1); this.d0 = pairs(ANNEX2_PHASE0, -1);
@@ -201,42 +198,22 @@ export class TruePeakMeter implements Meter<TruePeakResult> {
   }
 
   private recordOver(channel: number, frame: number, peak: number): void {
-    const at = Math.max(0, frame - FILTER_DELAY_FRAMES);
-    const open = this.open[channel];
-    if (open && at - open.lastFrame <= this.mergeFrames + 1) {
-      open.lastFrame = at;
-      open.count++;
-      if (peak > open.peak) open.peak = peak;
-      return;
-    }
-    this.closeOver(channel);
-    this.open[channel] = { startFrame: at, lastFrame: at, count: 1, peak };
-  }
-
-  private closeOver(channel: number): void {
-    const open = this.open[channel];
-    if (!open) return;
-    this.log.add({
-      kind: 'true_peak_over', channel, startFrame: open.startFrame, endFrame: open.lastFrame + 1,
-      peakValue: 20 * Math.log10(open.peak), count: open.count,
-    });
-    this.open[channel] = null;
+    this.overLog.record(channel, Math.max(0, frame - FILTER_DELAY_FRAMES), peak);
   }
 
   result(): TruePeakResult {
-    for (let c = 0; c < this.channels; c++) this.closeOver(c);
+    const { overs, oversTotal } = this.overLog.finish();
     const toDb = (v: number) => (v > 0 ? 20 * Math.log10(v) : null);
     let best = -1;
     for (let c = 0; c < this.channels; c++) if (best < 0 || this.maxima[c] > this.maxima[best]) best = c;
     const programme = best >= 0 ? this.maxima[best] : 0;
-    const overs = [...this.log.events].sort((a, b) => a.startFrame - b.startFrame || (a.channel ?? 0) - (b.channel ?? 0));
     return {
       channelTruePeakDbtp: Array.from(this.maxima, toDb),
       truePeakDbtp: toDb(programme),
       truePeakAtSeconds: programme > 0 ? this.maxFrame[best] / this.sampleRate : null,
       overCeilingDbtp: this.ceilingDbtp,
       overs,
-      oversTotal: this.log.total,
+      oversTotal,
       prunedFrames: this.pruned,
     };
   }
