@@ -125,7 +125,7 @@ export function integrityOf(format: AudioFormat, frames: number, warnings: reado
     const at = Math.min(w.atFrame ?? frames, frames);
     if (w.code === 'truncated_data') { endsEarly = true; add('data_ends_early', at, `audio ends at ${seconds(at, rate)}: ${w.message}`); }
     else if (w.code === 'trailing_garbage') add('unreadable_data', at, `unreadable data after ${seconds(at, rate)}: ${w.message}`);
-    else if (w.code === 'non_finite_samples') add('non_finite_samples', at, `non-finite samples from ${seconds(at, rate)}: ${w.message}`);
+    else if (w.code === 'non_finite_samples') add('non_finite_samples', at, w.message);
   }
   if (!endsEarly && format.frames !== null && frames < format.frames) {
     add('data_ends_early', frames, `audio ends at ${seconds(frames, rate)} but the file declares ${seconds(format.frames, rate)} (${format.frames - frames} frames missing)`);

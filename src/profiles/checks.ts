@@ -107,7 +107,8 @@ export function integrityCheck(profile: Profile, doc: AnalysisDocument): CheckRe
   return { ruleId: taken ? 'file-integrity' : 'integrity', type: 'integrity', severity: 'fail', source: 'every profile: the file must be complete and readable', ...integrityDraft(doc) };
 }
 
-const label = (doc: AnalysisDocument, c: number) => `${c + 1} (${doc.channels[c]?.label ?? 'unknown'})`;
+/** "2 R": as flags and the pages name channels. */
+const label = (doc: AnalysisDocument, c: number) => `${c + 1} ${doc.channels[c]?.label ?? 'unknown'}`;
 
 function count(what: string, n: number, max: number, unit: string, detail = ''): Draft {
   const passed = n <= max;

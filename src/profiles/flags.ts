@@ -160,10 +160,10 @@ function dcDrafts(profile: Profile, doc: AnalysisDocument, checks: Map<string, C
 }
 
 function integrityDrafts(doc: AnalysisDocument, integrity: CheckResult): Draft[] {
-  const frames = doc.format.framesDecoded;
   return doc.integrity.problems.map((p) => ({
     kind: p.code, ruleId: integrity.ruleId, severity: integrity.passed ? 'remark' : integrity.severity, channel: null,
-    startSample: p.atSample, endSample: Math.max(p.atSample, p.code === 'data_ends_early' ? p.atSample : frames), worstValue: null, count: 1, detections: 1, message: p.message,
+    // A point: where the audio stops, or the first bad sample (how far damage reaches is unknown).
+    startSample: p.atSample, endSample: p.atSample, worstValue: null, count: 1, detections: 1, message: p.message,
   }));
 }
 

@@ -86,6 +86,22 @@ describe('integrity in every verdict', () => {
     expect(report.integrity.problems[0]).toMatchObject({ code: 'data_ends_early', atSample: 48000 });
   });
 
+  it('NaN samples in a float WAV fail every profile with a flag at the first one, and the readings stay finite', async () => {
+    const frames = 48000 * 3;
+    const x = new Float32Array(frames);
+    for (let i = 0; i < frames; i++) x[i] = 0.1 * Math.sin((2 * Math.PI * 997 * i) / 48000);
+    x.fill(Number.NaN, 48000, 48010);
+    const path = join(dir, 'nan.wav');
+    writeFileSync(path, Buffer.concat([wavHeader({ sampleRate: 48000, channels: 1, bitsPerSample: 32, float: true, frames }), encodePcmFrames([x], 32, true)]));
+    for (const profile of [builtinProfile('ebu-r128'), custom()]) {
+      const report = await checkFile(path, profile);
+      expect(report.verdict).toBe('fail');
+      expect(report.integrity.problems).toMatchObject([{ code: 'non_finite_samples', atSample: 48000 }]);
+      expect(report.flags[0]).toMatchObject({ kind: 'non_finite_samples', startSample: 48000, endSample: 48000, severity: 'fail' });
+      expect(JSON.stringify(report)).not.toMatch(/-?Infinity"|:NaN/);
+    }
+  });
+
   it('digital silence throughout fails R 128 and says so in plain words (BS.1770-5 eq. (6): nothing above -70 LUFS)', async () => {
     const path = await writeTone(dir, { segments: [{ seconds: 3, peakDbfs: null }] });
     const report = await checkFile(path, builtinProfile('ebu-r128'));
