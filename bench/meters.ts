@@ -16,6 +16,7 @@ import { ChannelRelationMeter } from '../src/analysis/channel-relations.ts';
 import { LevelMeter as RefLevels } from '../test/helpers/reference-meters/levels.ts';
 import { TruePeakMeter as RefTruePeak } from '../test/helpers/reference-meters/true-peak.ts';
 import { ReconstructedPeakMeter as RefReconstructedPeak } from '../test/helpers/reference-meters/reconstructed-peak.ts';
+import { ReconstructedPeakMeter as PreKernelReconstructedPeak } from '../test/helpers/reference-meters/reconstructed-peak-baseline.ts';
 import { LoudnessMeter as RefLoudness } from '../test/helpers/reference-meters/loudness.ts';
 import { TimeWeightedLevelMeter as RefBallistics } from '../test/helpers/reference-meters/ballistics.ts';
 import { ClippingMeter as RefClipping } from '../test/helpers/reference-meters/clipping.ts';
@@ -54,6 +55,8 @@ const makers: Record<string, () => Meter<unknown>> = {
   'loudness ref': () => new RefLoudness(info),
   'truePeak ref': () => new RefTruePeak(info),
   'reconstructedPeak ref': () => new RefReconstructedPeak(info),
+  // The JavaScript meter before its WebAssembly kernel (same readings, to the bit).
+  'reconstructedPeak js': () => new PreKernelReconstructedPeak(info),
   'ballistics ref': () => new RefBallistics(info),
   'clipping ref': () => new RefClipping(info),
   'silence ref': () => new RefSilence(info),
@@ -61,7 +64,8 @@ const makers: Record<string, () => Meter<unknown>> = {
   // The shared pass alone (each meter above computes its own when pushed alone; the runner computes it once).
   envelope: () => { const builder = new EnvelopeBuilder(); return { push: (b: PcmBlock) => { builder.build(b); }, result: () => null }; },
 };
-if (only) for (const name of Object.keys(makers)) if (!name.startsWith(only)) delete makers[name];
+// A name picks that meter alone, else every meter whose name starts with it.
+if (only) for (const name of Object.keys(makers)) if (only in makers ? name !== only : !name.startsWith(only)) delete makers[name];
 const times: Record<string, number[]> = {};
 for (let round = 0; round < 7; round++) {
   for (const [name, make] of Object.entries(makers)) {
@@ -74,5 +78,5 @@ for (let round = 0; round < 7; round++) {
 }
 for (const [name, t] of Object.entries(times)) {
   const ms = Math.min(...t); // the least disturbed round: other processes share the cores
-  console.log(`${name.padEnd(11)} ${(ms * 60 / audioSeconds).toFixed(0).padStart(6)} ms per audio minute  ${(audioSeconds * 1000 / ms).toFixed(0).padStart(6)}x realtime`);
+  console.log(`${name.padEnd(11)} ${(ms * 60 / audioSeconds).toFixed(1).padStart(6)} ms per audio minute  ${(audioSeconds * 1000 / ms).toFixed(0).padStart(6)}x realtime`);
 }

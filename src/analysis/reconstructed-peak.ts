@@ -21,18 +21,25 @@
 // The reading covers t in [0, N) for N frames, zeros outside: ringing after the last frame is
 // not read. Grid points at the samples are the samples, so it never reads below the sample peak.
 //
-// Speed (all exact): a 32-frame chunk is skipped when max|x over its taps| times the cascade's
-// largest per-phase sum |h| (times the cap) cannot beat both the running maximum and the over
-// ceiling, max|x| coming from the block envelope; after stage 1 the same test on max|z| with
-// stage 2's gain; inside a chunk a frame takes the slow path (parabolas) only when cap *
-// max|grid value| beats the gate. Samples are copied to Float64 once (one conversion per sample,
-// not per tap) and stage 1 makes four outputs per pass. On a hard-limited 48 kHz stereo master
-// this measured about twice the Annex 2 meter's time.
+// Speed (all exact): a WebAssembly SIMD kernel (kernels/reconstructed-peak.wat) runs the chunk
+// loop, both stages and the refinement; f64x2 lanes hold two neighbouring outputs, each with the
+// scalar loop's arithmetic in its order, so every reading equals the JavaScript meter's to the
+// bit (kept as test/helpers/reference-meters/reconstructed-peak-baseline.ts and compared in the
+// tests). A 32-frame chunk is skipped when max|x over its taps| times the cascade's largest
+// per-phase sum |h| (times the cap) cannot beat both the running maximum and the over ceiling,
+// max|x| coming from the block envelope; after stage 1 the same test on max|z| with stage 2's
+// gain; inside a chunk a frame is refined (parabolas) only when cap * max|grid value| beats the
+// gate. The first test over a whole 16384-frame piece skips the kernel call and the copy into
+// its memory; samples become Float64 only where stage 1 reads them. Measured, 48 kHz stereo, ms
+// per audio minute, pushed alone (own envelope), alternating runs: a hard-limited master 89
+// (the Annex 2 meter 79, the JavaScript meter 156); ordinary programme 12.0 (12.2, 26); inside
+// the runner on the 60-minute benchmark file 5.4 (4.9, 14).
 
 import type { Meter, PcmBlock, StreamInfo } from './audio.ts';
 import { ENVELOPE_CHUNK_FRAMES, EnvelopeBuilder } from './envelope.ts';
 import type { AnalysisEvent } from './events.ts';
 import { OverLog } from './overs.ts';
+import { CHANNEL_SLOTS, ReconstructionKernel, RECONSTRUCTION_HISTORY_FRAMES, RECONSTRUCTION_KERNEL_FRAMES, SLOT } from './kernels/reconstructed-peak.ts';
 
 /**
  * Stage 1: c[k] weighs x[n - k] + x[n + 1 + k] for the point half-way between x[n] and x[n + 1].
@@ -44,7 +51,6 @@ export const HALF_SAMPLE_TAPS: readonly number[] = [
   0.019959183494764873, -0.015062874735004048, 0.011193798388692028, -0.008139940008045179,
   0.005754555486991785, -0.003918347131691532, 0.0025325490286641013, -0.0022263561251580992,
 ];
-const STAGE1 = Float64Array.from(HALF_SAMPLE_TAPS);
 /** The same taps in input order, x[m - 15] .. x[m + 16]. */
 const STAGE1_FULL = Float64Array.from([...HALF_SAMPLE_TAPS].reverse().concat(HALF_SAMPLE_TAPS));
 const STAGE2_HALF_WIDTH = 4;
@@ -108,6 +114,10 @@ const LATENCY_FRAMES = 18;
 const HISTORY = 2 * LATENCY_FRAMES;
 // A chunk's taps lie in it, the chunk before and the one before that.
 if (ENVELOPE_CHUNK_FRAMES * 2 < HISTORY) throw new Error('envelope chunks are shorter than the filter history');
+// The kernel is written for these (and for 32-frame chunks).
+/** Frames per kernel call, and per test whether a call is needed at all (4096 and 2048 measured slower). */
+const PIECE_FRAMES = RECONSTRUCTION_KERNEL_FRAMES;
+if (HISTORY !== RECONSTRUCTION_HISTORY_FRAMES || ENVELOPE_CHUNK_FRAMES !== 32) throw new Error('the reconstruction kernel assumes a 36-frame history and 32-frame chunks');
 
 export interface ReconstructedPeakOptions {
   /** Reconstructed values above this ceiling become 'reconstructed_over' events. */
@@ -131,62 +141,44 @@ export interface ReconstructedPeakResult {
   prunedFrames: number;
 }
 
-function absMax(x: Float64Array, from: number, to: number): number {
-  let m = 0;
-  for (let i = from; i < to; i++) {
-    const a = Math.abs(x[i]);
-    if (a > m) m = a;
-  }
-  return m;
-}
-
 export class ReconstructedPeakMeter implements Meter<ReconstructedPeakResult> {
   private readonly channels: number;
   private readonly sampleRate: number;
-  private readonly ceilingLinear: number;
   private readonly ceilingDbtp: number;
-  private readonly mergeFrames: number;
-  /** Per channel: the largest reading so far, its frame, and the gate below which nothing matters. */
-  private readonly maxima: Float64Array;
-  private readonly maxFrame: Float64Array;
-  private readonly gates: Float64Array;
-  /** Largest |sample| seen (frames ahead of the readings): raises the pruning threshold early. */
-  private readonly samplePeaks: Float64Array;
-  private readonly history: Float64Array[];
-  private readonly historyMax: Float64Array;
-  /** HISTORY input frames, then the block; and the stage-1 points at the same indices. */
-  private ext = new Float64Array(0);
-  private mid = new Float64Array(0);
-  /** Slow-path values of one frame: grid values -1..8 (the previous frame's last, the next sample). */
-  private readonly scratch = new Float64Array(10);
+  /** Per channel, the kernel's slots between blocks: the largest reading, its frame, the gate, the
+   * largest |sample| seen (frames ahead of the readings: raises the pruning threshold early) and
+   * max |x| of the history. */
+  private readonly slots: Float64Array;
+  /** Per channel, the HISTORY input frames before the next block. */
+  private readonly histories: Float64Array;
+  private readonly kernel: ReconstructionKernel;
   private readonly envelopes = new EnvelopeBuilder();
   private readonly overLog: OverLog;
-  private readonly s: Float64Array;
-  private readonly d: Float64Array;
-  private readonly h: Float64Array;
   private position = 0;
-  private pruned = 0;
   private final: ReconstructedPeakResult | null = null;
 
   constructor(info: StreamInfo, options: ReconstructedPeakOptions = {}) {
     this.channels = info.channels;
     this.sampleRate = info.sampleRate;
     this.ceilingDbtp = options.overCeilingDbtp ?? -1;
-    this.ceilingLinear = Math.pow(10, this.ceilingDbtp / 20);
-    this.mergeFrames = Math.round((options.overMergeSeconds ?? 0.05) * info.sampleRate);
-    this.maxima = new Float64Array(info.channels);
-    this.maxFrame = new Float64Array(info.channels);
-    this.gates = new Float64Array(info.channels);
-    this.samplePeaks = new Float64Array(info.channels);
-    this.history = Array.from({ length: info.channels }, () => new Float64Array(HISTORY));
-    this.historyMax = new Float64Array(info.channels);
-    this.overLog = new OverLog('reconstructed_over', info.channels, info.sampleRate, this.mergeFrames, options.maxEvents);
+    const mergeFrames = Math.round((options.overMergeSeconds ?? 0.05) * info.sampleRate);
+    this.slots = new Float64Array(info.channels * CHANNEL_SLOTS);
+    this.histories = new Float64Array(info.channels * HISTORY);
+    this.overLog = new OverLog('reconstructed_over', info.channels, info.sampleRate, mergeFrames, options.maxEvents);
     // Pair k joins z[j + 1 + k] and z[j - k]: halved sums and differences of the mirrored taps.
     const g1 = quarterPhaseTaps(1), g2 = quarterPhaseTaps(2);
     const w = STAGE2_HALF_WIDTH - 1;
-    this.s = Float64Array.from({ length: 4 }, (_, k) => 0.5 * (g1[w + 1 + k] + g1[w - k]));
-    this.d = Float64Array.from({ length: 4 }, (_, k) => 0.5 * (g1[w + 1 + k] - g1[w - k]));
-    this.h = Float64Array.from({ length: 4 }, (_, k) => g2[w + 1 + k]);
+    this.kernel = new ReconstructionKernel({
+      stage1: STAGE1_FULL,
+      s: Float64Array.from({ length: 4 }, (_, k) => 0.5 * (g1[w + 1 + k] + g1[w - k])),
+      d: Float64Array.from({ length: 4 }, (_, k) => 0.5 * (g1[w + 1 + k] - g1[w - k])),
+      h: Float64Array.from({ length: 4 }, (_, k) => g2[w + 1 + k]),
+      ceiling: Math.pow(10, this.ceilingDbtp / 20),
+      pruneGain: PRUNE_GAIN,
+      stage2PruneGain: STAGE2_PRUNE_GAIN,
+      inverseCap: INVERSE_CAP,
+      cap: REFINEMENT_CAP,
+    });
   }
 
   push(block: PcmBlock): void {
@@ -198,179 +190,54 @@ export class ReconstructedPeakMeter implements Meter<ReconstructedPeakResult> {
     const frames = block.frames;
     if (frames === 0) return;
     const envelope = this.envelopes.of(block);
-    if (this.ext.length < HISTORY + frames) {
-      this.ext = new Float64Array(HISTORY + frames);
-      this.mid = new Float64Array(HISTORY + frames);
-    }
+    const kernel = this.kernel, state = kernel.state;
     for (let c = 0; c < this.channels; c++) {
-      const history = this.history[c];
-      this.ext.set(history, 0);
-      this.ext.set(block.channelData[c].subarray(0, frames), HISTORY);
-      this.scanChunks(c, envelope.maxAbs[c], frames);
-      history.set(this.ext.subarray(frames, frames + HISTORY));
-      this.historyMax[c] = absMax(history, 0, HISTORY);
+      const x = block.channelData[c], chunkMax = envelope.maxAbs[c];
+      const slots = this.slots.subarray(c * CHANNEL_SLOTS, (c + 1) * CHANNEL_SLOTS);
+      const history = this.histories.subarray(c * HISTORY, (c + 1) * HISTORY);
+      state.set(slots);
+      kernel.history.set(history);
+      // Pieces are whole chunks; the kernel carries the history from one to the next.
+      for (let from = 0; from < frames; from += PIECE_FRAMES) {
+        const n = Math.min(PIECE_FRAMES, frames - from);
+        const chunk0 = from / ENVELOPE_CHUNK_FRAMES, chunkEnd = chunk0 + Math.ceil(n / ENVELOPE_CHUNK_FRAMES);
+        let pieceMax = 0;
+        for (let k = chunk0; k < chunkEnd; k++) if (chunkMax[k] > pieceMax) pieceMax = chunkMax[k];
+        const at = this.position + from;
+        // Every chunk's taps lie in the piece and the history: if their joint bound cannot matter,
+        // no chunk's can, and only the state moves on (without copying the piece into the kernel).
+        if (at >= LATENCY_FRAMES && !this.mayExceed(Math.max(pieceMax, state[SLOT.historyMax]) * PRUNE_GAIN)) {
+          this.skip(x, from, n, pieceMax);
+          continue;
+        }
+        kernel.input.set(x.subarray(from, from + n));
+        kernel.chunkMax.set(chunkMax.subarray(chunk0, chunkEnd));
+        state[SLOT.position] = at;
+        const overs = kernel.scan(n);
+        for (let i = 0; i < overs; i++) this.overLog.record(c, at + kernel.overIndices[i] - HISTORY, kernel.overPeaks[i]);
+      }
+      slots.set(state.subarray(0, CHANNEL_SLOTS));
+      history.set(kernel.history);
     }
     this.position += frames;
   }
 
-  /**
-   * Chunk k holds block frames [32k, 32k + 32); frame r completes the grid frame at ext index
-   * r + HISTORY - LATENCY_FRAMES, whose taps are block frames r - 35 .. r.
-   */
-  private scanChunks(channel: number, chunkMax: Float32Array, frames: number): void {
-    let before1 = this.historyMax[channel], before2 = before1;
-    let uEnd = 0;
-    const first = Math.max(0, LATENCY_FRAMES - this.position); // grid frames before t = 0 are not read
-    for (let k = 0, from = 0; from < frames; k++, from += ENVELOPE_CHUNK_FRAMES) {
-      const to = Math.min(from + ENVELOPE_CHUNK_FRAMES, frames);
-      const sampleMax = chunkMax[k];
-      if (sampleMax > this.samplePeaks[channel]) this.samplePeaks[channel] = sampleMax;
-      const start = Math.max(from, first);
-      if (start < to) {
-        const tapMax = Math.max(sampleMax, before1, before2);
-        if (!this.mayExceed(tapMax * PRUNE_GAIN, channel)) this.pruned += to - start;
-        else {
-          const e0 = start + HISTORY - LATENCY_FRAMES, e1 = to + HISTORY - LATENCY_FRAMES;
-          // Stage-1 points e0 - 2 .. e1 + 1: the grid frames' and the previous frame's last value.
-          this.halfSamples(Math.max(uEnd, e0 - 2), e1 + 2);
-          uEnd = e1 + 2;
-          // Stage 2 reads x[e - 1 .. e + 2] (in this chunk and the one before) and u[e - 2 .. e + 2].
-          const zMax = Math.max(sampleMax, before1, absMax(this.mid, e0 - 2, e1 + 2));
-          if (!this.mayExceed(zMax * STAGE2_PRUNE_GAIN, channel)) this.pruned += to - start;
-          else this.interpolateSpan(channel, e0, e1);
-        }
-      }
-      before2 = before1;
-      before1 = sampleMax;
-    }
+  /** Whether a reading up to `bound` could matter, as the kernel decides it for each chunk. */
+  private mayExceed(bound: number): boolean {
+    const state = this.kernel.state;
+    return bound > state[SLOT.ceiling] || (bound > state[SLOT.maximum] && bound >= state[SLOT.samplePeak]);
   }
 
-  /**
-   * Whether a reading up to `bound` could matter. A bound below a sample still to be read (or read)
-   * cannot be the maximum nor its first frame; a bound at most the maximum read so far cannot either.
-   */
-  private mayExceed(bound: number, channel: number): boolean {
-    return bound > this.ceilingLinear || (bound > this.maxima[channel] && bound >= this.samplePeaks[channel]);
-  }
-
-  /**
-   * Stage 1 into mid[from .. to): the point half-way between ext[m] and ext[m + 1]. Four outputs
-   * per pass share each load (a third faster than one output from pre-added pairs); every output
-   * adds its 32 products in tap order on either path, so its value does not depend on the range.
-   */
-  private halfSamples(from: number, to: number): void {
-    const x = this.ext, u = this.mid, c = STAGE1;
-    const c0 = c[0], c1 = c[1], c2 = c[2], c3 = c[3], c4 = c[4], c5 = c[5], c6 = c[6], c7 = c[7];
-    const c8 = c[8], c9 = c[9], c10 = c[10], c11 = c[11], c12 = c[12], c13 = c[13], c14 = c[14], c15 = c[15];
-    let m = from;
-    for (; m + 3 < to; m += 4) {
-      let a0 = 0, a1 = 0, a2 = 0, a3 = 0, v = 0;
-      v = x[m - 15]; a0 += c15 * v;
-      v = x[m - 14]; a0 += c14 * v; a1 += c15 * v;
-      v = x[m - 13]; a0 += c13 * v; a1 += c14 * v; a2 += c15 * v;
-      v = x[m - 12]; a0 += c12 * v; a1 += c13 * v; a2 += c14 * v; a3 += c15 * v;
-      v = x[m - 11]; a0 += c11 * v; a1 += c12 * v; a2 += c13 * v; a3 += c14 * v;
-      v = x[m - 10]; a0 += c10 * v; a1 += c11 * v; a2 += c12 * v; a3 += c13 * v;
-      v = x[m - 9]; a0 += c9 * v; a1 += c10 * v; a2 += c11 * v; a3 += c12 * v;
-      v = x[m - 8]; a0 += c8 * v; a1 += c9 * v; a2 += c10 * v; a3 += c11 * v;
-      v = x[m - 7]; a0 += c7 * v; a1 += c8 * v; a2 += c9 * v; a3 += c10 * v;
-      v = x[m - 6]; a0 += c6 * v; a1 += c7 * v; a2 += c8 * v; a3 += c9 * v;
-      v = x[m - 5]; a0 += c5 * v; a1 += c6 * v; a2 += c7 * v; a3 += c8 * v;
-      v = x[m - 4]; a0 += c4 * v; a1 += c5 * v; a2 += c6 * v; a3 += c7 * v;
-      v = x[m - 3]; a0 += c3 * v; a1 += c4 * v; a2 += c5 * v; a3 += c6 * v;
-      v = x[m - 2]; a0 += c2 * v; a1 += c3 * v; a2 += c4 * v; a3 += c5 * v;
-      v = x[m - 1]; a0 += c1 * v; a1 += c2 * v; a2 += c3 * v; a3 += c4 * v;
-      v = x[m]; a0 += c0 * v; a1 += c1 * v; a2 += c2 * v; a3 += c3 * v;
-      v = x[m + 1]; a0 += c0 * v; a1 += c0 * v; a2 += c1 * v; a3 += c2 * v;
-      v = x[m + 2]; a0 += c1 * v; a1 += c0 * v; a2 += c0 * v; a3 += c1 * v;
-      v = x[m + 3]; a0 += c2 * v; a1 += c1 * v; a2 += c0 * v; a3 += c0 * v;
-      v = x[m + 4]; a0 += c3 * v; a1 += c2 * v; a2 += c1 * v; a3 += c0 * v;
-      v = x[m + 5]; a0 += c4 * v; a1 += c3 * v; a2 += c2 * v; a3 += c1 * v;
-      v = x[m + 6]; a0 += c5 * v; a1 += c4 * v; a2 += c3 * v; a3 += c2 * v;
-      v = x[m + 7]; a0 += c6 * v; a1 += c5 * v; a2 += c4 * v; a3 += c3 * v;
-      v = x[m + 8]; a0 += c7 * v; a1 += c6 * v; a2 += c5 * v; a3 += c4 * v;
-      v = x[m + 9]; a0 += c8 * v; a1 += c7 * v; a2 += c6 * v; a3 += c5 * v;
-      v = x[m + 10]; a0 += c9 * v; a1 += c8 * v; a2 += c7 * v; a3 += c6 * v;
-      v = x[m + 11]; a0 += c10 * v; a1 += c9 * v; a2 += c8 * v; a3 += c7 * v;
-      v = x[m + 12]; a0 += c11 * v; a1 += c10 * v; a2 += c9 * v; a3 += c8 * v;
-      v = x[m + 13]; a0 += c12 * v; a1 += c11 * v; a2 += c10 * v; a3 += c9 * v;
-      v = x[m + 14]; a0 += c13 * v; a1 += c12 * v; a2 += c11 * v; a3 += c10 * v;
-      v = x[m + 15]; a0 += c14 * v; a1 += c13 * v; a2 += c12 * v; a3 += c11 * v;
-      v = x[m + 16]; a0 += c15 * v; a1 += c14 * v; a2 += c13 * v; a3 += c12 * v;
-      v = x[m + 17]; a1 += c15 * v; a2 += c14 * v; a3 += c13 * v;
-      v = x[m + 18]; a2 += c15 * v; a3 += c14 * v;
-      v = x[m + 19]; a3 += c15 * v;
-      u[m] = a0; u[m + 1] = a1; u[m + 2] = a2; u[m + 3] = a3;
-    }
-    for (; m < to; m++) {
-      let a = 0;
-      for (let t = 0; t < 32; t++) a += STAGE1_FULL[t] * x[m - 15 + t];
-      u[m] = a;
-    }
-  }
-
-  /** The grid value at 7/8 of frame e (S - D of its second half), as the span loop computes it. */
-  private lastGridValue(e: number): number {
-    const x = this.ext, u = this.mid, s = this.s, d = this.d;
-    const x0 = x[e - 1], x1 = x[e], x2 = x[e + 1], x3 = x[e + 2];
-    const ub = u[e - 1], uc = u[e], ud = u[e + 1], ue = u[e + 2];
-    const sb = s[0] * (x2 + uc) + s[1] * (ud + x1) + s[2] * (x3 + ub) + s[3] * (ue + x0);
-    const db = d[0] * (x2 - uc) + d[1] * (ud - x1) + d[2] * (x3 - ub) + d[3] * (ue - x0);
-    return sb - db;
-  }
-
-  /**
-   * Grid frames at ext indices [e0, e1). Frame e's two halves interpolate z from x[e] to u[e] and
-   * from u[e] to x[e + 1]; pair k of each half joins z[j + 1 + k] and z[j - k].
-   */
-  private interpolateSpan(channel: number, e0: number, e1: number): void {
-    const x = this.ext, u = this.mid;
-    const s0 = this.s[0], s1 = this.s[1], s2 = this.s[2], s3 = this.s[3];
-    const d0 = this.d[0], d1 = this.d[1], d2 = this.d[2], d3 = this.d[3];
-    const h0 = this.h[0], h1 = this.h[1], h2 = this.h[2], h3 = this.h[3];
-    const scratch = this.scratch;
-    let gate = this.gates[channel] * INVERSE_CAP;
-    let previous = this.lastGridValue(e0 - 1);
-    for (let e = e0; e < e1; e++) {
-      const x0 = x[e - 1], x1 = x[e], x2 = x[e + 1], x3 = x[e + 2];
-      const ua = u[e - 2], ub = u[e - 1], uc = u[e], ud = u[e + 1], ue = u[e + 2];
-      const sa = s0 * (uc + x1) + s1 * (x2 + ub) + s2 * (ud + x0) + s3 * (x3 + ua);
-      const da = d0 * (uc - x1) + d1 * (x2 - ub) + d2 * (ud - x0) + d3 * (x3 - ua);
-      const ya = h0 * (uc + x1) + h1 * (x2 + ub) + h2 * (ud + x0) + h3 * (x3 + ua);
-      const sb = s0 * (x2 + uc) + s1 * (ud + x1) + s2 * (x3 + ub) + s3 * (ue + x0);
-      const db = d0 * (x2 - uc) + d1 * (ud - x1) + d2 * (x3 - ub) + d3 * (ue - x0);
-      const yb = h0 * (x2 + uc) + h1 * (ud + x1) + h2 * (x3 + ub) + h3 * (ue + x0);
-      // Rare conditions tested one by one predict well (see true-peak.ts).
-      if (Math.abs(sa) + Math.abs(da) > gate || Math.abs(sb) + Math.abs(db) > gate || Math.abs(ya) > gate
-        || Math.abs(yb) > gate || Math.abs(uc) > gate || Math.abs(x1) > gate) {
-        scratch[0] = previous; scratch[1] = x1; scratch[2] = sa + da; scratch[3] = ya; scratch[4] = sa - da;
-        scratch[5] = uc; scratch[6] = sb + db; scratch[7] = yb; scratch[8] = sb - db; scratch[9] = x2;
-        this.settle(channel, this.position + e - HISTORY);
-        gate = this.gates[channel] * INVERSE_CAP;
-      }
-      previous = sb - db;
-    }
-  }
-
-  /** The frame's reading from its grid values in `scratch`: each local maximum refined by a parabola. */
-  private settle(channel: number, frame: number): void {
-    const g = this.scratch;
-    let peak = 0;
-    for (let q = 1; q <= RECONSTRUCTION_OVERSAMPLING; q++) {
-      const a = Math.abs(g[q - 1]), b = Math.abs(g[q]), c = Math.abs(g[q + 1]);
-      let value = b;
-      if (b >= a && b >= c) {
-        const curvature = 2 * b - a - c;
-        if (curvature > 0) value = Math.min(b + ((a - c) * (a - c)) / (8 * curvature), b * REFINEMENT_CAP);
-      }
-      if (value > peak) peak = value;
-    }
-    if (peak > this.maxima[channel]) {
-      this.maxima[channel] = peak;
-      this.maxFrame[channel] = frame;
-      this.gates[channel] = Math.min(peak, this.ceilingLinear);
-    }
-    if (peak > this.ceilingLinear) this.overLog.record(channel, frame, peak);
+  /** What the kernel leaves behind for a piece whose every chunk it would prune. */
+  private skip(x: Float32Array, from: number, n: number, pieceMax: number): void {
+    const state = this.kernel.state, history = this.kernel.history;
+    if (pieceMax > state[SLOT.samplePeak]) state[SLOT.samplePeak] = pieceMax;
+    state[SLOT.pruned] += n;
+    if (n >= HISTORY) history.set(x.subarray(from + n - HISTORY, from + n));
+    else { history.copyWithin(0, n); history.set(x.subarray(from, from + n), HISTORY - n); }
+    let m = 0;
+    for (let i = 0; i < HISTORY; i++) { const a = Math.abs(history[i]); if (a > m) m = a; }
+    state[SLOT.historyMax] = m;
   }
 
   /** Reads the last LATENCY_FRAMES grid frames (zeros follow the stream), then the result; once. */
@@ -380,17 +247,18 @@ export class ReconstructedPeakMeter implements Meter<ReconstructedPeakResult> {
     if (this.position > 0) this.consume({ channelData: tail, frames: LATENCY_FRAMES });
     const { overs, oversTotal } = this.overLog.finish();
     const toDb = (v: number) => (v > 0 ? 20 * Math.log10(v) : null);
+    const maxima = Array.from({ length: this.channels }, (_, c) => this.slots[c * CHANNEL_SLOTS + SLOT.maximum]);
     let best = -1;
-    for (let c = 0; c < this.channels; c++) if (best < 0 || this.maxima[c] > this.maxima[best]) best = c;
-    const programme = best >= 0 ? this.maxima[best] : 0;
+    for (let c = 0; c < this.channels; c++) if (best < 0 || maxima[c] > maxima[best]) best = c;
+    const programme = best >= 0 ? maxima[best] : 0;
     this.final = {
-      channelPeakDbtp: Array.from(this.maxima, toDb),
+      channelPeakDbtp: maxima.map(toDb),
       peakDbtp: toDb(programme),
-      peakAtSeconds: programme > 0 ? this.maxFrame[best] / this.sampleRate : null,
+      peakAtSeconds: programme > 0 ? this.slots[best * CHANNEL_SLOTS + SLOT.maximumFrame] / this.sampleRate : null,
       overCeilingDbtp: this.ceilingDbtp,
       overs,
       oversTotal,
-      prunedFrames: this.pruned,
+      prunedFrames: this.kernel.state[SLOT.pruned],
     };
     return this.final;
   }

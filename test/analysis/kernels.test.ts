@@ -8,6 +8,9 @@ import { seededRandom } from '../../src/selftest/signals.ts';
 import { KERNEL_DIRS, kernelModuleText } from '../../bin/build-kernels.js';
 import { convertS24Stereo } from '../../src/decode/kernels/s24-stereo.ts';
 import { BALLISTICS_CHUNK_FRAMES, BallisticsKernel, type BallisticsPoles } from '../../src/analysis/kernels/ballistics.ts';
+import { RECONSTRUCTION_KERNEL_FRAMES } from '../../src/analysis/kernels/reconstructed-peak.ts';
+import { ReconstructedPeakMeter } from '../../src/analysis/reconstructed-peak.ts';
+import { ReconstructedPeakMeter as PreKernelMeter } from '../helpers/reference-meters/reconstructed-peak-baseline.ts';
 
 /** The JavaScript loop the ballistics kernel replaced: one chunk's four sums, two frames a step. */
 function scalarChunkSums(p: BallisticsPoles, x: Float32Array, from: number): number[] {
@@ -72,7 +75,8 @@ describe('WebAssembly kernels', () => {
   it('are committed as `npm run kernels` writes them from their .wat sources', async () => {
     const sources = KERNEL_DIRS.flatMap((dir) => readdirSync(dir).filter((f) => f.endsWith('.wat')).map((f) => join(dir, f)));
     expect(sources.map((p) => p.split('/').slice(-3).join('/')).sort()).toEqual([
-      'analysis/kernels/ballistics.wat', 'analysis/kernels/envelope.wat', 'analysis/kernels/k-weighting.wat', 'analysis/kernels/pair-sums.wat', 'analysis/kernels/sums.wat',
+      'analysis/kernels/ballistics.wat', 'analysis/kernels/envelope.wat', 'analysis/kernels/k-weighting.wat', 'analysis/kernels/pair-sums.wat',
+      'analysis/kernels/reconstructed-peak.wat', 'analysis/kernels/sums.wat',
       'decode/kernels/s24-stereo.wat',
     ]);
     for (const wat of sources) expect(readFileSync(wat.replace(/\.wat$/, '.wasm.ts'), 'utf8')).toBe(await kernelModuleText(wat));
@@ -138,5 +142,31 @@ describe('WebAssembly kernels', () => {
     const power = new KWeightingKernel(loop, [], 144_000).filter([], 0, 100);
     expect(power.length).toBe(100);
     expect(power.every((p) => p === 0)).toBe(true);
+  });
+
+  it('reconstructed peak: every frame\'s reading equals the JavaScript loop it replaced bit for bit (across kernel pieces, 3 channels, extremes)', () => {
+    const random = seededRandom(31);
+    const frames = 2 * RECONSTRUCTION_KERNEL_FRAMES + 777;
+    const smooth = (scale: number) => { let y = 0; return Float32Array.from({ length: frames }, () => (y = 0.95 * y + scale * (random() - 0.5))); };
+    const channels = [smooth(0.6), Float32Array.from({ length: frames }, () => random() * 2 - 1), smooth(1e-30)];
+    channels[1].set([1, -1, 1, -1, 0, 1, 1, 1, -1], 5000); // full-scale steps
+    channels[2].fill(0, 100, 3000); // digital silence inside a channel
+    // A ceiling far below the signal and a negative merge window: each frame's reading is an event
+    // of its own (its value the reading), and the bound prunes nothing.
+    const info = { sampleRate: 44_100, channels: 3, channelLabels: ['L', 'R', 'C'] as ('L' | 'R' | 'C')[] };
+    const options = { overCeilingDbtp: -900, overMergeSeconds: -1, maxEvents: 1e7 };
+    for (const pieces of [[frames], [RECONSTRUCTION_KERNEL_FRAMES + 1, 5, 64]]) {
+      const kernel = new ReconstructedPeakMeter(info, options);
+      const loop = new PreKernelMeter(info, options);
+      for (let from = 0, p = 0; from < frames; p++) {
+        const to = Math.min(frames, from + pieces[p % pieces.length]);
+        const block = { channelData: channels.map((x) => x.subarray(from, to)), frames: to - from };
+        kernel.push(block); loop.push(block);
+        from = to;
+      }
+      const [a, b] = [kernel.result(), loop.result()];
+      expect(a.oversTotal).toBeGreaterThan(2 * frames);
+      expect({ ...a, prunedFrames: 0 }).toEqual({ ...b, prunedFrames: 0 });
+    }
   });
 });

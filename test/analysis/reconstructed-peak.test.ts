@@ -9,9 +9,10 @@ import {
 } from '../../src/analysis/reconstructed-peak.ts';
 import { TruePeakMeter } from '../../src/analysis/true-peak.ts';
 import { complianceCases } from '../../src/selftest/cases.ts';
-import { seededRandom } from '../../src/selftest/signals.ts';
+import { programmeBlocks, seededRandom } from '../../src/selftest/signals.ts';
 import { writeWavFile } from '../../src/encode/wav.ts';
 import { bandLimitedPeak, frameReadings, ReconstructedPeakMeter as PlainMeter } from '../helpers/reference-meters/reconstructed-peak.ts';
+import { ReconstructedPeakMeter as PreKernelMeter } from '../helpers/reference-meters/reconstructed-peak-baseline.ts';
 import { BLOCK_CUTS, cut, expectClose, testSignals } from '../helpers/test-signals.ts';
 
 const RATES = [32000, 44100, 48000, 88200, 96000, 176400, 192000];
@@ -264,3 +265,68 @@ describe('ReconstructedPeakMeter: behaviour', () => {
     expect(measure([x], 48000, { overCeilingDbtp: 2 }).overs).toEqual([]);
   });
 });
+
+describe('ReconstructedPeakMeter: the WebAssembly kernel changes no reading', () => {
+  /** Both meters over the same blocks: every field but the pruning count, to the bit. */
+  function expectSameAsPreKernel(channels: Float32Array[], sampleRate: number, options: ReconstructedPeakOptions, sizes: number[], name: string): ReconstructedPeakResult {
+    const stream = info(channels.length, sampleRate);
+    const optimised = new ReconstructedPeakMeter(stream, options), before = new PreKernelMeter(stream, options);
+    for (const block of cut(channels, sizes)) { optimised.push(block); before.push(block); }
+    const result = optimised.result();
+    expect({ ...result, prunedFrames: 0 }, name).toEqual({ ...before.result(), prunedFrames: 0 });
+    return result;
+  }
+
+  it('equals the pre-kernel meter on limited, clipped, quiet and full-band material, every ceiling and block cut', () => {
+    const random = seededRandom(17);
+    const ceiling = 10 ** (-1 / 20);
+    // The benchmark's brick-wall master: programme +12 dB into a hard limit at -1 dBFS.
+    const hot = [...programmeBlocks({ sampleRate: 48000, channels: 2, seconds: 3, seed: 7, levelDbfs: -16, blockFrames: 1 << 20 })][0]
+      .channelData.map((x) => x.map((v) => Math.max(-ceiling, Math.min(ceiling, v * 4))));
+    const signals: Record<string, [Float32Array[], number]> = {
+      ...Object.fromEntries(Object.entries(testSignals(2, 3)).map(([name, channels]) => [name, [channels, 48000]])),
+      hot: [hot, 48000],
+      'limited 44.1k mono': [[limitedMaster(40000, 5)], 44100],
+      'limited 96k, three channels': [[limitedMaster(30000, 6), limitedMaster(30000, 7).map((v) => -v / 3), new Float32Array(30000)], 96000],
+      'full-band noise': [[Float32Array.from({ length: 20000 }, () => random() * 2 - 1), Float32Array.from({ length: 20000 }, () => (random() - 0.5) * 1e-3)], 48000],
+      'fs/2 and fs/4 at 1.41': [[Float32Array.from({ length: 5000 }, (_, n) => (n % 2 ? 0.9 : -0.9)), sine(48000, 12000, 1.41, Math.PI / 4, 5000, 100)], 48000],
+    };
+    for (const [name, [channels, rate]] of Object.entries(signals)) {
+      for (const overCeilingDbtp of [-1, -6, 0.5]) {
+        for (const sizes of [[1 << 20], [16384], [16385, 31, 1, 40000], [1000], [1, 3, 35, 36, 37, 500]]) {
+          expectSameAsPreKernel(channels, rate, { overCeilingDbtp, maxEvents: 1e6 }, sizes, `${name} ${overCeilingDbtp} dBTP ${sizes.join(',')}`);
+        }
+      }
+    }
+  });
+
+  it('equals the pre-kernel meter where a loud onset follows a stretch skipped whole (readings whose taps reach into it)', () => {
+    const random = seededRandom(29);
+    // A burst sets the maximum, quiet noise fills whole kernel pieces and blocks (skipped: its bound
+    // is below the ceiling and the maximum), then a tone and two clicks start pieces and blocks of
+    // every cut below (16384 k, 20 k, 612 k). Every over is an event of its own, and the ceiling is
+    // low enough that the readings whose taps reach back into the skipped stretch are overs.
+    const x = Float32Array.from({ length: 90000 }, (_, n) => (n < 2000 ? 0.9 : 1e-6) * (random() - 0.5));
+    x.set(sine(48000, 3000, 0.5, 0.3, 3000, 10), 32768);
+    x[61200] = 0.9;
+    x[81920] = -0.9;
+    const options = { overCeilingDbtp: -100, overMergeSeconds: -1, maxEvents: 1e6 };
+    for (const sizes of [[1 << 20], [16384], [1, 3, 35, 36, 37, 500], [20]]) {
+      const result = expectSameAsPreKernel([x, x.map((v) => -v)], 48000, options, sizes, `onsets ${sizes.join(',')}`);
+      expect(result.prunedFrames).toBeGreaterThan(40000);
+    }
+  });
+
+  it('every frame\'s reading equals the pre-kernel one to the bit (a ceiling far below the signal makes each frame an event of its own)', () => {
+    const random = seededRandom(23);
+    const x = Float32Array.from(limitedMaster(20000, 8), (v, n) => (n > 15000 ? (random() - 0.5) * 2 : v));
+    // A negative merge window keeps every over apart; nothing can be pruned below this ceiling.
+    const options = { overCeilingDbtp: -200, overMergeSeconds: -1, maxEvents: 1e6 };
+    for (const sizes of [[1 << 20], [16383, 7]]) {
+      const result = expectSameAsPreKernel([x, x.map((v) => v / 8)], 48000, options, sizes, `per frame ${sizes.join(',')}`);
+      expect(result.oversTotal).toBe(2 * 20000);
+      expect(result.prunedFrames).toBe(0);
+    }
+  });
+});
+
