@@ -18,6 +18,27 @@ export interface DeliveryAttempt {
 
 export type Outcome = 'completed' | 'failed';
 
+// KEYS: outcome marker, finished log, job counters, analysis counters.
+// ARGV: job id, outcome, now (ms), marker TTL (s), analysis seconds or ''.
+const RECORD_FINISHED = `
+local prev = redis.call('GET', KEYS[1])
+if prev ~= ARGV[2] then
+  if prev then
+    redis.call('HINCRBY', KEYS[3], prev, -1)
+    redis.call('ZREM', KEYS[2], ARGV[1] .. ':' .. prev)
+  end
+  redis.call('HINCRBY', KEYS[3], ARGV[2], 1)
+  if ARGV[5] ~= '' then
+    redis.call('HINCRBYFLOAT', KEYS[4], 'sumSeconds', ARGV[5])
+    redis.call('HINCRBY', KEYS[4], 'count', 1)
+  end
+end
+redis.call('SET', KEYS[1], ARGV[2], 'EX', ARGV[4])
+redis.call('ZADD', KEYS[2], ARGV[3], ARGV[1] .. ':' .. ARGV[2])
+redis.call('ZREMRANGEBYSCORE', KEYS[2], '-inf', tonumber(ARGV[3]) - 3600000)
+return 1
+`;
+
 export class ServiceStore {
   constructor(readonly redis: Redis, readonly prefix: string, readonly retentionSeconds: number) {}
 
@@ -77,16 +98,20 @@ export class ServiceStore {
     return raw.map((r) => JSON.parse(r) as DeliveryAttempt);
   }
 
+  /**
+   * Idempotent: a job's outcome is counted once however often it is recorded (a stalled job is
+   * re-run and records again). A later, different outcome (a re-run that ended otherwise) moves
+   * the count; analysis time is added whenever the outcome changes, as that work was done.
+   */
   async recordFinished(jobId: string, outcome: Outcome, analysisSeconds: number | null): Promise<void> {
-    const now = Date.now();
-    const multi = this.redis.multi()
-      .zadd(this.key('finished'), now, `${jobId}:${outcome}`)
-      .zremrangebyscore(this.key('finished'), '-inf', now - 3_600_000)
-      .hincrby(this.key('metrics', 'jobs'), outcome, 1);
-    if (analysisSeconds !== null) {
-      multi.hincrbyfloat(this.key('metrics', 'analysis'), 'sumSeconds', analysisSeconds).hincrby(this.key('metrics', 'analysis'), 'count', 1);
-    }
-    await multi.exec();
+    await this.redis.eval(RECORD_FINISHED, 4,
+      this.key('outcome', jobId), this.key('finished'), this.key('metrics', 'jobs'), this.key('metrics', 'analysis'),
+      jobId, outcome, Date.now(), this.retentionSeconds, analysisSeconds === null ? '' : String(analysisSeconds));
+  }
+
+  /** The recorded outcome of a job, or null before it finished (or after retention). */
+  async finishedOutcome(jobId: string): Promise<Outcome | null> {
+    return (await this.redis.get(this.key('outcome', jobId))) as Outcome | null;
   }
 
   async finishedSince(sinceMs: number): Promise<number> {

@@ -1,7 +1,14 @@
 // The worker process: the analysis Worker (sandboxed processor), the webhook Worker (in
 // process: it only waits on the network), the retention sweep, and a time-bounded drain.
+//
+// Completion side effects (the report copy in Redis, the finished record, the webhook job) are
+// written by the parent before BullMQ commits the outcome, not in the `completed`/`failed`
+// listeners: a crash between the commit and a listener would lose them. A crash before the commit
+// leaves the job active; it stalls and is re-run, so every write is idempotent (same keys, the
+// webhook job's id is its delivery id) and the webhook worker sends only once the outcome it
+// announces is committed.
 
-import { Job, UnrecoverableError, Worker } from 'bullmq';
+import { DelayedError, Job, UnrecoverableError, Worker, type WorkerOptions } from 'bullmq';
 import type { Redis } from 'ioredis';
 import type { Logger } from 'pino';
 import type { Config } from '../config/index.ts';
@@ -9,7 +16,7 @@ import { toEarmarkError } from '../errors/index.ts';
 import { UrlPolicy } from '../net/url-guard.ts';
 import { ANALYSIS_QUEUE, ANALYZE_JOB_V1, DELIVER_WEBHOOK_V1, WEBHOOK_QUEUE, type AnalyzeJobV1, type AnalyzeResultV1, type DeliverWebhookV1, type JobEvent } from '../queue/contract.ts';
 import { createRedis, waitReady } from '../queue/connection.ts';
-import { jobView } from '../queue/job-view.ts';
+import { jobView, type JobView } from '../queue/job-view.ts';
 import { createAnalysisQueue, createWebhookQueue } from '../queue/queues.ts';
 import { ServiceStore } from '../queue/store.ts';
 import { openStorage } from '../storage/index.ts';
@@ -21,6 +28,62 @@ import { deliver } from './webhooks.ts';
 // file URL keeps it independent of the working directory.
 const TSX_LOADER = import.meta.resolve('tsx');
 const PROCESSOR_FILE = new URL('./processor.ts', import.meta.url);
+
+/** Fault tests only: the worker SIGKILLs itself at this point (see durable-completion.test.ts). */
+export const KILL_AT_ENV = 'EARMARK_TEST_SIGKILL_AT';
+type KillPoint = 'before-complete' | 'after-complete' | 'before-fail' | 'after-fail';
+const killAt = process.env[KILL_AT_ENV] as KillPoint | undefined;
+function killPoint(point: KillPoint): void {
+  if (killAt === point) process.kill(process.pid, 'SIGKILL');
+}
+
+type AnalysisJob = Job<AnalyzeJobV1, AnalyzeResultV1>;
+
+export interface Settlement {
+  completed(job: AnalysisJob, result: AnalyzeResultV1): Promise<void>;
+  failed(job: AnalysisJob, error: Error): Promise<void>;
+}
+
+/** BullMQ fails the job for good on this error (mirrors Job.shouldRetryJob). */
+export function isFinalFailure(job: AnalysisJob, error: Error): boolean {
+  if (error.name === 'UnrecoverableError') return true;
+  return !(job.attemptsMade + 1 < (job.opts.attempts ?? 1));
+}
+
+/**
+ * The sandboxed Worker with a parent-side wrapper: the child has no Redis connection (the job
+ * carries its frozen profile), and the parent still holds the job's lock here, so the durable
+ * writes run in the parent after the child answers and before BullMQ moves the job.
+ */
+class AnalysisWorker extends Worker<AnalyzeJobV1, AnalyzeResultV1> {
+  constructor(file: URL, opts: WorkerOptions, private readonly settle: Settlement) {
+    super(ANALYSIS_QUEUE, file, opts);
+  }
+
+  protected override async callProcessJob(job: AnalysisJob, token: string, signal?: AbortSignal): Promise<AnalyzeResultV1> {
+    let result: AnalyzeResultV1;
+    try {
+      result = await super.callProcessJob(job, token, signal);
+    } catch (thrown) {
+      const error = thrown instanceof Error ? thrown : new Error(String(thrown));
+      if (isFinalFailure(job, error)) {
+        // Best effort: if this throws, the `failed` listener retries it after the commit.
+        await this.settle.failed(job, error).catch(() => undefined);
+        killPoint('before-fail');
+      }
+      throw thrown;
+    }
+    // A throw here fails this attempt (retried): better than a completion without its effects.
+    await this.settle.completed(job, result);
+    killPoint('before-complete');
+    return result;
+  }
+}
+
+/** Stable per job and outcome: the webhook job's id and the `Earmark-Delivery` header. */
+export function deliveryIdOf(jobId: string, event: JobEvent): string {
+  return `dlv_${jobId}_${event === 'job.completed' ? 'c' : 'f'}`;
+}
 
 export interface WorkerRuntime {
   /** Stops taking jobs; waits up to shutdownTimeoutMs for active ones, then hands them back. */
@@ -38,8 +101,38 @@ export async function startWorker(config: Config, log: Logger): Promise<WorkerRu
   const webhookQueue = createWebhookQueue(redis, config, onError);
   const analysisQueue = createAnalysisQueue(redis, config, onError);
 
+  async function enqueueWebhook(job: AnalysisJob, event: JobEvent, view: JobView): Promise<void> {
+    if (!job.data.callbackUrl) return;
+    const jobId = String(job.id);
+    const deliveryId = deliveryIdOf(jobId, event);
+    const body = JSON.stringify({ event, deliveryId, job: { ...view, callback: { url: job.data.callbackUrl, deliveries: [] } } });
+    // jobId = deliveryId: a re-run (or the listener's backstop) adding it again is dropped by BullMQ.
+    await webhookQueue.add(DELIVER_WEBHOOK_V1, { jobId, tenant: job.data.tenant, url: job.data.callbackUrl, event, deliveryId, body }, { jobId: deliveryId });
+  }
+
+  // The job as it will read once committed (BullMQ sets these fields in moveToCompleted/moveToFailed).
+  const asFinished = (job: AnalysisJob, fields: Partial<AnalysisJob>): AnalysisJob =>
+    Object.assign(Object.create(job) as AnalysisJob, { finishedOn: Date.now(), ...fields });
+
+  const settlement: Settlement = {
+    async completed(job, result) {
+      const jobId = String(job.id);
+      const json = await storage.readReport(jobId);
+      if (!json) throw new Error('the report the analysis wrote is missing');
+      await store.putReport(jobId, json);
+      await store.recordFinished(jobId, 'completed', result.analysisSeconds);
+      await enqueueWebhook(job, 'job.completed', jobView(asFinished(job, { returnvalue: result }), 'completed', []));
+    },
+    async failed(job, error) {
+      const jobId = String(job.id);
+      await store.recordFinished(jobId, 'failed', null);
+      const view = jobView(asFinished(job, { failedReason: error.message, attemptsMade: job.attemptsMade + 1 }), 'failed', []);
+      await enqueueWebhook(job, 'job.failed', view);
+    },
+  };
+
   const childSettings: ChildSettings = { storageDir: config.storageDir, urlAllowlist: config.urlAllowlist, fetchLimitBytes: config.fetchLimitBytes, fetchTimeoutMs: config.fetchTimeoutMs };
-  const analysis = new Worker<AnalyzeJobV1, AnalyzeResultV1>(ANALYSIS_QUEUE, PROCESSOR_FILE, {
+  const analysis = new AnalysisWorker(PROCESSOR_FILE, {
     connection: redis,
     prefix: config.queuePrefix,
     concurrency: config.workerConcurrency,
@@ -52,50 +145,52 @@ export async function startWorker(config: Config, log: Logger): Promise<WorkerRu
     maxStalledCount: 2,
     lockDuration: config.lockDurationMs,
     stalledInterval: config.stalledIntervalMs,
-  });
-  const active = new Map<string, Job<AnalyzeJobV1, AnalyzeResultV1>>();
+  }, settlement);
+  const active = new Map<string, AnalysisJob>();
   analysis.on('error', (error) => onError(error, 'analysis worker'));
   analysis.on('active', (job) => {
     active.set(String(job.id), job);
     log.info({ jobId: job.id, attempt: job.attemptsMade + 1 }, 'job started');
   });
 
-  async function notify(jobId: string, event: JobEvent): Promise<void> {
-    const job = await Job.fromId<AnalyzeJobV1, AnalyzeResultV1>(analysisQueue, jobId);
-    if (!job?.data.callbackUrl) return;
-    const view = jobView(job, event === 'job.completed' ? 'completed' : 'failed', []);
-    const deliveryId = `dlv_${jobId}_${event === 'job.completed' ? 'c' : 'f'}`;
-    const body = JSON.stringify({ event, deliveryId, job: { ...view, callback: { url: job.data.callbackUrl, deliveries: [] } } });
-    // jobId = deliveryId: a second notify for the same outcome is dropped by BullMQ.
-    await webhookQueue.add(DELIVER_WEBHOOK_V1, { jobId, tenant: job.data.tenant, url: job.data.callbackUrl, event, deliveryId, body }, { jobId: deliveryId });
-  }
-
   analysis.on('completed', (job, result) => {
     active.delete(String(job.id));
     log.info({ jobId: job.id, verdict: result.verdict }, 'job completed');
-    void (async () => {
-      const json = await storage.readReport(String(job.id));
-      if (json) await store.putReport(String(job.id), json);
-      await store.recordFinished(String(job.id), 'completed', result.analysisSeconds);
-      await notify(String(job.id), 'job.completed');
-    })().catch((error: unknown) => log.error({ jobId: job.id, err: { message: toEarmarkError(error).message } }, 'after-completion step failed'));
+    killPoint('after-complete');
   });
 
   analysis.on('failed', (job, error) => {
     if (!job) return;
     active.delete(String(job.id));
+    killPoint('after-fail');
     void (async () => {
       const state = await job.getState();
       log.warn({ jobId: job.id, reason: error.message, state }, state === 'failed' ? 'job failed' : 'job attempt failed, will retry');
       if (state !== 'failed') return;
+      // Backstop, idempotent: a job failed by the stall check never ran the wrapper above.
+      const committed = await Job.fromId<AnalyzeJobV1, AnalyzeResultV1>(analysisQueue, String(job.id));
+      if (!committed) return;
       await store.recordFinished(String(job.id), 'failed', null);
-      await notify(String(job.id), 'job.failed');
+      await enqueueWebhook(committed, 'job.failed', jobView(committed, 'failed', []));
     })().catch((e: unknown) => log.error({ jobId: job.id, err: { message: toEarmarkError(e).message } }, 'after-failure step failed'));
   });
 
-  const webhooks = new Worker<DeliverWebhookV1>(WEBHOOK_QUEUE, async (job) => {
+  const webhooks = new Worker<DeliverWebhookV1>(WEBHOOK_QUEUE, async (job, token) => {
     if (job.name !== DELIVER_WEBHOOK_V1) throw new UnrecoverableError(`unknown job name ${job.name}`);
     const d = job.data;
+    // Added before the analysis outcome is committed: send only once it is, and never an outcome
+    // a re-run replaced (a crash before the commit re-runs the job, which may end otherwise).
+    const state = await analysisQueue.getJobState(d.jobId);
+    if (state !== (d.event === 'job.completed' ? 'completed' : 'failed')) {
+      if (state === 'completed' || state === 'failed' || state === 'unknown') {
+        log.info({ jobId: d.jobId, deliveryId: d.deliveryId, state }, 'webhook dropped: the job ended otherwise');
+        return;
+      }
+      // Still active (committing, or stalled and awaiting its re-run): look again soon, without using an attempt.
+      const waits = Math.max(0, job.attemptsStarted - job.attemptsMade - 1);
+      await job.moveToDelayed(Date.now() + Math.min(2_000, 50 * 2 ** Math.min(waits, 6)), token);
+      throw new DelayedError();
+    }
     const secret = config.webhookSecrets[d.tenant] ?? config.webhookDefaultSecret;
     const attempt = job.attemptsMade + 1;
     const record = (outcome: 'delivered' | 'retrying' | 'failed', statusCode: number | null, error: string | null) =>
@@ -117,7 +212,11 @@ export async function startWorker(config: Config, log: Logger): Promise<WorkerRu
       if (final) throw new UnrecoverableError(error.message);
       throw new Error(error.message);
     }
-  }, { connection: redis, prefix: config.queuePrefix, concurrency: 4 });
+  }, {
+    connection: redis, prefix: config.queuePrefix, concurrency: 4,
+    // A delivery in flight on a killed worker is re-run after the same stall bounds as analysis.
+    lockDuration: config.lockDurationMs, stalledInterval: config.stalledIntervalMs,
+  });
   webhooks.on('error', (error) => onError(error, 'webhook worker'));
 
   const sweepMs = config.retentionHours * 3_600_000;

@@ -1,0 +1,110 @@
+// Durable completion: a worker process SIGKILLs itself at the edges of a job's outcome (its
+// durable writes done but the outcome not yet committed, or committed but its listeners not yet
+// run). A second worker must then deliver the webhook at least once, every post under one
+// `Earmark-Delivery` id, with the report readable and the outcome recorded exactly once.
+// EARMARK_DURABLE_TRIALS repeats each case (default 1).
+
+import { writeFileSync } from 'node:fs';
+import { createServer, type Server } from 'node:http';
+import { join } from 'node:path';
+import { afterEach, describe, expect, it } from 'vitest';
+import { alive, childPids, spawnService, stopProcess, waitFor, type ServiceProcess } from '../../fixtures/procs.ts';
+import { KILL_AT_ENV, deliveryIdOf } from '../../src/worker/runtime.ts';
+import { writeSine } from '../service/audio.ts';
+import { client, type Client } from '../service/client.ts';
+import { KEYS, startService } from '../service/harness.ts';
+
+const cleanups: Array<() => Promise<void> | void> = [];
+afterEach(async () => {
+  for (const c of cleanups.splice(0).reverse()) await c();
+});
+
+interface Receiver { url: string; posts: Array<{ delivery: string; event: string }>; close(): Promise<void> }
+
+async function startReceiver(): Promise<Receiver> {
+  const posts: Receiver['posts'] = [];
+  const server: Server = createServer((req, res) => {
+    req.resume();
+    req.on('end', () => {
+      posts.push({ delivery: String(req.headers['earmark-delivery']), event: String(req.headers['earmark-event']) });
+      res.writeHead(204).end();
+    });
+  });
+  await new Promise<void>((resolve) => server.listen(0, '127.0.0.1', resolve));
+  const { port } = server.address() as { port: number };
+  return { url: `http://127.0.0.1:${port}/hook`, posts, close: () => new Promise((resolve) => server.close(() => resolve())) };
+}
+
+function worker(env: Record<string, string>): ServiceProcess {
+  const p = spawnService('worker', { ...env, EARMARK_LOG_LEVEL: 'info' });
+  cleanups.push(() => stopProcess(p));
+  return p;
+}
+
+type JobBody = { state: string; callback?: { deliveries: Array<{ deliveryId: string; outcome: string }> }; error?: { code: string } };
+const jobState = async (api: Client, id: string) => (await api.get(`/v1/jobs/${id}`, KEYS.alpha)).body as JobBody;
+
+const TRIALS = Number(process.env.EARMARK_DURABLE_TRIALS ?? 1);
+
+const CASES = [
+  // The reported fault: finishedOn set, the process gone before any listener work.
+  { killAt: 'after-complete', input: 'good', outcome: 'completed' },
+  // Effects written, outcome not committed: the job stalls and a second worker re-runs it.
+  { killAt: 'before-complete', input: 'good', outcome: 'completed' },
+  { killAt: 'after-fail', input: 'bad', outcome: 'failed' },
+  { killAt: 'before-fail', input: 'bad', outcome: 'failed' },
+] as const;
+
+describe('durable completion', () => {
+  for (const c of CASES) {
+    it(`worker SIGKILLed ${c.killAt}: the ${c.outcome} webhook still arrives under one delivery id, report and record kept`, async () => {
+      const receiver = await startReceiver();
+      cleanups.push(() => receiver.close());
+      const svc = await startService({ worker: false, env: { EARMARK_RATE_LIMIT_PER_MINUTE: '0', EARMARK_LOCK_DURATION_MS: '2000', EARMARK_STALLED_INTERVAL_MS: '1000' } });
+      cleanups.push(() => svc.close());
+      const api = client(svc.url);
+      const store = svc.api.deps.store;
+      const file = c.input === 'good' ? await writeSine(join(svc.dir, 'good.wav'), -23, 2) : join(svc.dir, 'bad.wav');
+      if (c.input === 'bad') writeFileSync(file, Buffer.concat([Buffer.from('RIFF\x24\x00\x00\x00WAVEjunk'), Buffer.alloc(64, 7)]));
+      const event = c.outcome === 'completed' ? 'job.completed' : 'job.failed';
+      const lines: string[] = [];
+      for (let trial = 1; trial <= TRIALS; trial++) {
+        const submitted = await api.upload(file, { profile: 'ebu-r128', callbackUrl: receiver.url }, KEYS.alpha);
+        expect(submitted.status).toBe(202);
+        const id = submitted.body.id as string;
+        const first = worker({ ...svc.env, [KILL_AT_ENV]: c.killAt });
+        // Collect its analysis children while it lives (it may kill itself within a second).
+        const children = new Set<number>();
+        let gone = false;
+        void first.exited.then(() => { gone = true; });
+        while (!gone) { for (const pid of childPids(first.pid)) children.add(pid); await new Promise((r) => setTimeout(r, 20)); }
+        const signal = first.child.signalCode;
+        expect(signal).toBe('SIGKILL');
+        const stateAtKill = (await jobState(api, id)).state;
+        expect(stateAtKill).toBe(c.killAt.startsWith('after') ? c.outcome : 'active');
+        const postsAtKill = receiver.posts.length;
+        await waitFor('the killed worker\'s analysis children to exit', async () => [...children].every((pid) => !alive(pid)), 15_000);
+
+        const second = worker(svc.env);
+        const delivered = await waitFor('the webhook', async () => { const s = await jobState(api, id); return s.callback?.deliveries.some((d) => d.outcome === 'delivered') ? s : null; }, 60_000, 100);
+        expect(delivered.state).toBe(c.outcome);
+        const posts = receiver.posts.filter((p) => p.delivery.startsWith(`dlv_${id}_`));
+        expect(posts.length).toBeGreaterThanOrEqual(1);
+        expect(new Set(posts.map((p) => p.delivery))).toEqual(new Set([deliveryIdOf(id, event)]));
+        expect(posts.every((p) => p.event === event)).toBe(true);
+        expect(await store.finishedOutcome(id)).toBe(c.outcome);
+        if (c.outcome === 'completed') {
+          expect(await store.getReport(id)).toBeTruthy();
+          expect((await api.get(`/v1/jobs/${id}/report`, KEYS.alpha)).status).toBe(200);
+        } else {
+          expect(delivered.error?.code).toBeTruthy();
+        }
+        await stopProcess(second);
+        lines.push(`trial ${trial}: state at kill ${stateAtKill}, posts at kill ${postsAtKill}, posts ${posts.length}, delivery ids 1`);
+      }
+      // Counted once per job however often the outcome was written (a re-run writes it again).
+      expect((await store.counters()).jobs[c.outcome]).toBe(TRIALS);
+      console.log(`[durable ${c.killAt}] ${lines.join('; ')}; ${c.outcome} counted ${TRIALS}/${TRIALS}`);
+    }, 60_000 + TRIALS * 90_000);
+  }
+});
