@@ -12,7 +12,14 @@ export interface Mp4Probe {
   moovFirst: boolean;
   /** A top-level box runs past the end of the file: the file was cut. */
   cut: boolean;
+  /** Output frames the sample table (stts) spans, null without one: what the stream holds, whatever mdhd says. */
+  tableFrames: number | null;
+  /** Where the top-level boxes are, for feeding an index-at-the-end file index first (faststartInput). */
+  layout: Mp4Layout;
 }
+
+/** Byte ranges of the boxes that move when the index is fed first. */
+export interface Mp4Layout { firstMdat: number; moovStart: number; moovEnd: number }
 
 /** moov holds only tables; anything bigger than this is not a plausible audio file. */
 const MAX_MOOV_BYTES = 64 * 1024 * 1024;
@@ -40,6 +47,7 @@ const child = (b: Uint8Array, parent: Box, type: string): Box | undefined => {
 export async function probeMp4(path: string, fileBytes: number): Promise<Mp4Probe> {
   let moov: Uint8Array | null = null;
   let mdatSeen = false;
+  const layout: Mp4Layout = { firstMdat: -1, moovStart: -1, moovEnd: -1 };
   let moovFirst = false;
   let cut = false;
   for (let o = 0; o + 8 <= fileBytes;) {
@@ -48,20 +56,68 @@ export async function probeMp4(path: string, fileBytes: number): Promise<Mp4Prob
     const type = ascii(h, 4, 4);
     if (size === 1) size = u64be(h, 8); else if (size === 0) size = fileBytes - o;
     if (size < 8) throw new EarmarkError('corrupt_file', `MP4 box ${JSON.stringify(type)} has an invalid size`);
-    if (type === 'mdat') mdatSeen = true;
+    if (type === 'mdat' && !mdatSeen) { mdatSeen = true; layout.firstMdat = o; }
     if (o + size > fileBytes) { cut = true; break; }
     if (type === 'moov') {
       if (size > MAX_MOOV_BYTES) throw new EarmarkError('corrupt_file', `MP4 moov box of ${size} bytes is implausibly large`);
       moov = await readRange(path, o, size);
       moovFirst = !mdatSeen;
+      layout.moovStart = o;
+      layout.moovEnd = o + size;
     }
     o += size;
   }
   if (!moov) throw new EarmarkError('corrupt_file', 'MP4 file has no moov box (truncated or not finished)');
-  return { ...soundTrack(moov), moovFirst, cut };
+  return { ...soundTrack(moov), moovFirst, cut, layout };
 }
 
-function soundTrack(b: Uint8Array): Omit<Mp4Probe, 'moovFirst' | 'cut'> {
+/**
+ * The moov of an index-at-the-end file, its chunk offsets (stco/co64) moved as if it sat just
+ * before the first mdat (as qt-faststart moves it). Fed that moov first and then the rest of the
+ * file in order (the bytes from the first mdat up to the old moov, then those after it), the
+ * streaming decoder reads the file in small pieces instead of holding and decoding it whole.
+ */
+export async function faststartMoov(path: string, layout: Mp4Layout): Promise<Uint8Array> {
+  const moov = await readRange(path, layout.moovStart, layout.moovEnd - layout.moovStart);
+  const shift = moov.length;
+  const moved = (x: number) => (x >= layout.firstMdat && x < layout.moovStart ? x + shift : x);
+  const view = new DataView(moov.buffer, moov.byteOffset, moov.byteLength);
+  const patch = (parent: Box): void => {
+    for (const c of boxes(moov, parent.body, parent.end)) {
+      if (OFFSET_PARENTS.has(c.type)) patch(c);
+      else if (c.type === 'stco' || c.type === 'co64') {
+        const wide = c.type === 'co64';
+        const count = u32be(moov, c.body + 4);
+        const step = wide ? 8 : 4;
+        if (c.body + 8 + count * step > c.end) throw new EarmarkError('corrupt_file', `MP4 ${c.type} declares more entries than it holds`);
+        for (let i = 0, o = c.body + 8; i < count; i++, o += step) {
+          const x = moved(wide ? u64be(moov, o) : u32be(moov, o));
+          if (wide) { view.setUint32(o, Math.floor(x / 2 ** 32)); view.setUint32(o + 4, x >>> 0); }
+          else if (x > 0xffffffff) throw new EarmarkError('unsupported_format', 'MP4 with its index after 4 GiB of audio and 32-bit chunk offsets is not supported');
+          else view.setUint32(o, x);
+        }
+      }
+    }
+  };
+  const [top] = boxes(moov, 0, moov.length);
+  patch(top);
+  return moov;
+}
+
+const OFFSET_PARENTS = new Set(['trak', 'mdia', 'minf', 'stbl']);
+
+/** Sum of stts sample deltas (media timescale units), null without an stts. */
+function sttsDuration(b: Uint8Array, stbl: Box): number | null {
+  const stts = child(b, stbl, 'stts');
+  if (!stts) return null;
+  const count = u32be(b, stts.body + 4);
+  if (stts.body + 8 + count * 8 > stts.end) throw new EarmarkError('corrupt_file', 'MP4 stts declares more entries than it holds');
+  let total = 0;
+  for (let i = 0, o = stts.body + 8; i < count; i++, o += 8) total += u32be(b, o) * u32be(b, o + 4);
+  return total;
+}
+
+function soundTrack(b: Uint8Array): Omit<Mp4Probe, 'moovFirst' | 'cut' | 'layout'> {
   const [moov] = boxes(b, 0, b.length);
   for (const trak of boxes(b, moov.body, moov.end)) {
     if (trak.type !== 'trak') continue;
@@ -88,7 +144,9 @@ function soundTrack(b: Uint8Array): Omit<Mp4Probe, 'moovFirst' | 'cut'> {
     if (encoding === 'opus') sampleRate = 48000;
     if (!channels || !sampleRate) throw new EarmarkError('corrupt_file', 'MP4 sound track declares no channels or sample rate');
     const known = timescale > 0 && duration > 0 && duration !== 0xffffffff;
-    return { encoding, sampleRate, channels, frames: known ? Math.round((duration * sampleRate) / timescale) : null };
+    const table = stbl && timescale > 0 ? sttsDuration(b, stbl) : null;
+    return { encoding, sampleRate, channels, frames: known ? Math.round((duration * sampleRate) / timescale) : null,
+      tableFrames: table === null ? null : Math.round((table * sampleRate) / timescale) };
   }
   throw new EarmarkError('unsupported_format', 'MP4 file has no sound track');
 }

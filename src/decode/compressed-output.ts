@@ -24,6 +24,8 @@ export class OutputCheck {
     private readonly warnings: DecodeWarning[],
     /** Decoded-bytes cap for whole-file decoding; Infinity when streaming. */
     private readonly maxDecodedBytes: number,
+    /** Cap on decoded frames for every file, checked before each output is taken. */
+    private readonly maxFrames = Infinity,
   ) {
     this.flacScale = probe.encoding === 'flac' && probe.bitsPerSample ? 2 ** (probe.bitsPerSample - 1) : 0;
     this.fresh();
@@ -44,6 +46,10 @@ export class OutputCheck {
     this.checkLevels(channels, frames);
     if ((this.framesOut + this.filled + frames) * this.probe.channels * 4 > this.maxDecodedBytes) {
       throw new EarmarkError('decoded_size_exceeded', `decoded audio exceeds the cap of ${this.maxDecodedBytes} bytes`);
+    }
+    if (this.framesOut + this.filled + frames > this.maxFrames) {
+      throw new EarmarkError('decoded_size_exceeded', `decoded audio exceeds the cap of ${this.maxFrames} frames (${(this.maxFrames / this.probe.sampleRate).toFixed(0)} s)`,
+        { atFrame: this.framesOut + this.filled, maxDecodedFrames: this.maxFrames });
     }
     for (let at = 0; at < frames;) {
       const n = Math.min(frames - at, this.blockFrames - this.filled);

@@ -4,7 +4,7 @@ import { EarmarkError } from '../errors/index.ts';
 import type { Container } from './types.ts';
 import { ascii, frameChainCut, id3v2Length, readRange, u16be, u16le, u32be, u32le, u64be, u64le } from './compressed-bytes.ts';
 import { parseMpegHeader, probeMp3 } from './compressed-mp3.ts';
-import { probeMp4 } from './compressed-mp4.ts';
+import { probeMp4, type Mp4Layout } from './compressed-mp4.ts';
 import { probeWebm } from './compressed-webm.ts';
 
 export type CodecPackage = 'flac' | 'mp3' | 'mp4' | 'aac' | 'vorbis' | 'opus' | 'webm' | 'caf';
@@ -23,15 +23,26 @@ export interface Probe {
   wholeFile: boolean;
   /** true: the container shows the file was cut; false: it shows the file is whole; null: it cannot tell. */
   endMissing: boolean | null;
+  /** MP4 with its index after the audio: where its boxes are, to feed the index first. */
+  mp4Layout?: Mp4Layout;
+  /** MP4: frames its sample table spans (bounds the decoded size when mdhd is unset). */
+  tableFrames?: number | null;
 }
 
 const HEAD_BYTES = 1024 * 1024;
 
 export async function probe(path: string, container: Container, fileBytes: number): Promise<Probe> {
   if (container === 'm4a') {
-    const m = await probeMp4(path, fileBytes);
+    const { tableFrames, layout, moovFirst, cut, ...m } = await probeMp4(path, fileBytes);
     const slack = m.encoding === 'flac' || m.encoding === 'alac' ? 0 : 4096;
-    return { codec: 'mp4', ...m, bitsPerSample: null, framesSlack: slack, wholeFile: !m.moovFirst, endMissing: m.cut };
+    // mdhd is one patchable number; the sample table is what the decoder will actually produce.
+    if (m.frames !== null && tableFrames !== null && tableFrames > m.frames + Math.max(slack, m.frames / 100)) {
+      throw new EarmarkError('corrupt_file',
+        `MP4 sample table holds ${(tableFrames / m.sampleRate).toFixed(1)} s of audio but mdhd declares ${(m.frames / m.sampleRate).toFixed(1)} s`,
+        { declaredFrames: m.frames, tableFrames });
+    }
+    return { codec: 'mp4', ...m, tableFrames, bitsPerSample: null, framesSlack: slack, wholeFile: !moovFirst, endMissing: cut,
+      ...(moovFirst ? {} : { mp4Layout: layout }) };
   }
   const head = await readRange(path, 0, HEAD_BYTES);
   switch (container) {

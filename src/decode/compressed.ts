@@ -1,17 +1,19 @@
 // Compressed formats (FLAC, MP3, AAC/M4A, Ogg Vorbis/Opus/FLAC, WebM, CAF) through the per-format
-// audio-decode packages. Streams in fixed-size input chunks; only MP4 with its index (moov)
-// after the audio is decoded whole, under the decoded-size cap.
+// audio-decode packages. Streams in fixed-size input chunks; MP4 with its index (moov) after the
+// audio is fed index first (faststartMoov) and streamed too, under the decoded-size cap.
 import { createReadStream } from 'node:fs';
-import { readFile, stat } from 'node:fs/promises';
+import { stat } from 'node:fs/promises';
 import { defaultChannelLabels, type PcmBlock } from '../analysis/audio.ts';
 import { EarmarkError } from '../errors/index.ts';
 import {
-  DEFAULT_MAX_BLOCK_FRAMES, DEFAULT_MAX_DECODED_BYTES,
+  DEFAULT_MAX_BLOCK_FRAMES, DEFAULT_MAX_DECODED_BYTES, DEFAULT_MAX_DECODED_SECONDS,
   type AudioFormat, type Container, type DecodeOptions, type DecodedAudio, type DecodeWarning,
 } from './types.ts';
 import { loadCodec } from './compressed-codecs.ts';
 import { FlacInputSlicer } from './compressed-flac.ts';
+import { faststartMoov } from './compressed-mp4.ts';
 import { OutputCheck } from './compressed-output.ts';
+import { readRange } from './compressed-bytes.ts';
 import { probe, type Probe } from './compressed-probe.ts';
 import { checkStreamNumbers } from './riff.ts';
 import { safeName } from './safe-name.ts';
@@ -22,8 +24,10 @@ export const INPUT_CHUNK_BYTES = 256 * 1024;
 export async function openCompressed(path: string, container: Container, options: DecodeOptions = {}): Promise<DecodedAudio> {
   const blockFrames = options.maxBlockFrames ?? DEFAULT_MAX_BLOCK_FRAMES;
   const maxDecodedBytes = options.maxDecodedBytes ?? DEFAULT_MAX_DECODED_BYTES;
+  const maxDecodedSeconds = options.maxDecodedSeconds ?? DEFAULT_MAX_DECODED_SECONDS;
   if (!Number.isSafeInteger(blockFrames) || blockFrames < 1) throw new EarmarkError('invalid_argument', 'maxBlockFrames must be a positive integer', { field: 'maxBlockFrames' });
   if (!(maxDecodedBytes > 0)) throw new EarmarkError('invalid_argument', 'maxDecodedBytes must be positive', { field: 'maxDecodedBytes' });
+  if (!(maxDecodedSeconds > 0)) throw new EarmarkError('invalid_argument', 'maxDecodedSeconds must be positive', { field: 'maxDecodedSeconds' });
 
   const fileBytes = await fileSize(path);
   const p = await probe(path, container, fileBytes);
@@ -36,25 +40,41 @@ export async function openCompressed(path: string, container: Container, options
     channelLabels: defaultChannelLabels(p.channels), channelMask: null, timeReferenceSamples: null,
   };
   const warnings: DecodeWarning[] = [];
-  const check = new OutputCheck(p, blockFrames, warnings, p.wholeFile ? maxDecodedBytes : Infinity);
+  const check = new OutputCheck(p, blockFrames, warnings, p.wholeFile ? maxDecodedBytes : Infinity, Math.floor(maxDecodedSeconds * p.sampleRate));
   return { format, blocks: decodeBlocks(path, container, p, fileBytes, check), warnings, get framesDecoded() { return check.framesOut; } };
 }
 
 async function* decodeBlocks(path: string, container: Container, p: Probe, fileBytes: number, check: OutputCheck): AsyncGenerator<PcmBlock> {
   const codec = await loadCodec(p.codec);
-  const stream = p.wholeFile ? null : createReadStream(path, { highWaterMark: INPUT_CHUNK_BYTES });
   const slicer = inputSlicer(container, p.channels);
+  const layout = p.mp4Layout;
+  // Byte ranges of the file in the order the decoder reads them; an index-at-the-end MP4 sends
+  // everything before its first mdat and the moved moov first, then the rest without the old moov.
+  const ranges: [number, number][] = layout ? [[layout.firstMdat, layout.moovStart], [layout.moovEnd, fileBytes]] : [[0, fileBytes]];
+  const total = ranges.reduce((n, [from, to]) => n + to - from, 0);
   try {
-    if (stream) {
-      let read = 0;
-      for await (const chunk of stream as AsyncIterable<Buffer>) {
-        read += chunk.byteLength;
-        const last = read >= fileBytes;
-        // Copy: fs Buffers may sit at any offset of a shared pool; decoders want a plain, own buffer.
-        for (const slice of slicer.push(new Uint8Array(chunk), last)) yield* check.take(await codec.decode(slice), last);
+    let fed = 0;
+    if (layout) {
+      const head = await readRange(path, 0, layout.firstMdat);
+      const moov = await faststartMoov(path, layout);
+      const first = new Uint8Array(head.length + moov.length);
+      first.set(head);
+      first.set(moov, head.length);
+      yield* check.take(await codec.decode(first), total === 0);
+    }
+    for (const [from, to] of ranges) {
+      if (to <= from) continue;
+      const stream = createReadStream(path, { start: from, end: to - 1, highWaterMark: INPUT_CHUNK_BYTES });
+      try {
+        for await (const chunk of stream as AsyncIterable<Buffer>) {
+          fed += chunk.byteLength;
+          const last = fed >= total;
+          // Copy: fs Buffers may sit at any offset of a shared pool; decoders want a plain, own buffer.
+          for (const slice of slicer.push(new Uint8Array(chunk), last)) yield* check.take(await codec.decode(slice), last);
+        }
+      } finally {
+        stream.destroy();
       }
-    } else {
-      yield* check.take(await codec.decode(new Uint8Array(await readFile(path))), true);
     }
     if (codec.flush) yield* check.take(await codec.flush(), true);
     yield* check.finish();
@@ -62,7 +82,6 @@ async function* decodeBlocks(path: string, container: Container, p: Probe, fileB
     throw asDecodeError(e, path);
   } finally {
     codec.free();
-    stream?.destroy();
   }
 }
 
@@ -86,7 +105,9 @@ function inputSlicer(container: Container, channels: number): InputSlicer {
 }
 
 function checkWholeFileCap(p: Probe, fileBytes: number, cap: number): void {
-  const estimate = p.frames === null ? null : p.frames * p.channels * 4;
+  // The larger of what mdhd declares and what the sample table holds: either may be the lie.
+  const frames = Math.max(p.frames ?? -1, p.tableFrames ?? -1);
+  const estimate = frames < 0 ? null : frames * p.channels * 4;
   if (fileBytes > cap || (estimate !== null && estimate > cap)) {
     throw new EarmarkError('decoded_size_exceeded',
       `this ${p.encoding} file must be decoded whole (index after the audio) and needs about ${estimate ?? fileBytes} bytes, over the cap of ${cap}`,

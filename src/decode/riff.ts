@@ -5,7 +5,7 @@ import { defaultChannelLabels } from '../analysis/audio.ts';
 import { EarmarkError } from '../errors/index.ts';
 import { ByteReader } from './byte-reader.ts';
 import type { AudioFormat, Container, DecodedAudio, DecodeOptions, DecodeWarning } from './types.ts';
-import { DEFAULT_MAX_BLOCK_FRAMES } from './types.ts';
+import { DEFAULT_MAX_BLOCK_FRAMES, DEFAULT_MAX_DECODED_SECONDS } from './types.ts';
 import { convertS24Stereo } from './kernels/s24-stereo.ts';
 
 export const MAX_SAMPLE_RATE = 1_536_000;
@@ -146,6 +146,8 @@ export function streamPcm(plan: PcmPlan, openReader: () => Promise<ByteReader>, 
   const { blockAlign, layout } = plan;
   const warnings = [...plan.warnings];
   const declaredFrames = Math.floor(plan.dataBytes / blockAlign);
+  const maxFrames = Math.floor((options.maxDecodedSeconds ?? DEFAULT_MAX_DECODED_SECONDS) * plan.format.sampleRate);
+  if (!(maxFrames > 0)) throw new EarmarkError('invalid_argument', 'maxDecodedSeconds must be positive', { field: 'maxDecodedSeconds' });
   let framesDecoded = 0;
 
   async function* blocks(): AsyncGenerator<PcmBlock> {
@@ -181,6 +183,11 @@ export function streamPcm(plan: PcmPlan, openReader: () => Promise<ByteReader>, 
         }
         framesLeft -= filled;
         framesDecoded += filled;
+        // Checked on frames read, not on the header's claim: a cut file that claims days is still read.
+        if (framesDecoded > maxFrames) {
+          throw new EarmarkError('decoded_size_exceeded', `decoded audio exceeds the cap of ${maxFrames} frames (${(maxFrames / plan.format.sampleRate).toFixed(0)} s)`,
+            { atFrame: framesDecoded - filled, maxDecodedFrames: maxFrames });
+        }
         if (filled > 0) yield { channelData: filled === channelData[0].length ? channelData : channelData.map((a) => a.subarray(0, filled)), frames: filled };
       }
     } finally {

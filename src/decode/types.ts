@@ -57,7 +57,14 @@ export interface DecodeOptions {
   blockArrays?: () => readonly Float32Array[] | null;
   /** Cap on decoded PCM bytes (as float32) for decoders that cannot stream. Default 2 GiB. */
   maxDecodedBytes?: number;
+  /**
+   * Cap on the audio decoded from any file, checked as frames come out (a few KiB of silence can
+   * declare or decode to days). Default DEFAULT_MAX_DECODED_SECONDS.
+   */
+  maxDecodedSeconds?: number;
 }
 
 export const DEFAULT_MAX_BLOCK_FRAMES = 65536;
 export const DEFAULT_MAX_DECODED_BYTES = 2 * 1024 ** 3;
+/** A day: the loudness series are presized up to a day too (src/analysis/loudness.ts). */
+export const DEFAULT_MAX_DECODED_SECONDS = 86_400;
