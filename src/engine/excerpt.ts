@@ -1,13 +1,19 @@
-// A short listening excerpt as a WAV: decode from the start, skip to the span, copy it out.
-// Blocks may be reused by the decoder, so the span is copied as it passes. Skipping is a decode
-// pass over the audio before the span (about a second per hour of stereo PCM).
+// A short listening excerpt as a WAV: open the file at (or just before) the span, skip to it,
+// copy it out. PCM opens at the span's byte offset and FLAC at a frame before it
+// (decode/seek.ts); other formats decode from the start. Blocks may be reused by the decoder, so
+// the span is copied as it passes. The service runs this on a thread of its own (excerpt-runner.ts).
 
 import { setImmediate as nextTurn } from 'node:timers/promises';
-import { openAudioFile } from '../decode/index.ts';
+import { openAudioFileAt, type SeekedAudio } from '../decode/seek.ts';
 import { encodePcmFrames, wavHeader } from '../encode/wav.ts';
 import { EarmarkError } from '../errors/index.ts';
 
 export const MAX_EXCERPT_SECONDS = 12;
+
+/** Cap on the excerpt's samples as float32 (12 s of 8 channels at 192 kHz is 74 MB). */
+export const MAX_EXCERPT_BYTES = 96 * 1024 * 1024;
+/** Cap for decoders that must hold the whole file (MP4 with its index last). */
+export const EXCERPT_MAX_DECODED_BYTES = 256 * 1024 * 1024;
 
 export interface Excerpt {
   wav: Uint8Array;
@@ -18,21 +24,27 @@ export interface Excerpt {
 }
 
 /** The span [startSeconds, endSeconds) clamped to the file and to MAX_EXCERPT_SECONDS, as 24-bit PCM WAV. */
-export async function cutExcerpt(path: string, startSeconds: number, endSeconds: number): Promise<Excerpt> {
+export async function cutExcerpt(path: string, startSeconds: number, endSeconds: number, options: { seek?: boolean } = {}): Promise<Excerpt> {
   if (!Number.isFinite(startSeconds) || !Number.isFinite(endSeconds) || startSeconds < 0 || endSeconds <= startSeconds) {
     throw new EarmarkError('invalid_argument', 'the excerpt needs 0 <= startSeconds < endSeconds', { field: 'startSeconds' });
   }
   if (endSeconds - startSeconds > MAX_EXCERPT_SECONDS) {
     throw new EarmarkError('invalid_argument', `an excerpt is at most ${MAX_EXCERPT_SECONDS} s long`, { field: 'endSeconds' });
   }
-  const decoded = await openAudioFile(path);
-  const { sampleRate, channels } = decoded.format;
+  const opened: SeekedAudio = await openAudioFileAt(path, 0, { maxDecodedBytes: EXCERPT_MAX_DECODED_BYTES });
+  const { sampleRate, channels } = opened.audio.format;
   const startFrame = Math.floor(startSeconds * sampleRate);
   const wantedFrames = Math.ceil((endSeconds - startSeconds) * sampleRate);
+  if (wantedFrames * channels * 4 > MAX_EXCERPT_BYTES) {
+    throw new EarmarkError('invalid_argument', `at ${sampleRate} Hz and ${channels} channels an excerpt is at most ${Math.floor(MAX_EXCERPT_BYTES / (channels * 4 * sampleRate))} s long`, { field: 'endSeconds' });
+  }
+  // `seek: false` decodes from the start: the reference the seeking paths are tested against.
+  const decoded = options.seek === false || startFrame === 0 ? opened
+    : await openAudioFileAt(path, startFrame, { maxDecodedBytes: EXCERPT_MAX_DECODED_BYTES });
   const out = Array.from({ length: channels }, () => new Float32Array(wantedFrames));
-  let position = 0;
+  let position = decoded.firstFrame;
   let copied = 0;
-  for await (const block of decoded.blocks) {
+  for await (const block of decoded.audio.blocks) {
     const blockEnd = position + block.frames;
     if (blockEnd > startFrame) {
       const from = Math.max(0, startFrame - position);
@@ -42,7 +54,7 @@ export async function cutExcerpt(path: string, startSeconds: number, endSeconds:
     }
     position = blockEnd;
     if (copied >= wantedFrames) break;
-    // This runs in the API process and decoding reads synchronously: let other requests in.
+    // Lets a caller on this thread (tests, the command) interleave; the service runs this on a thread of its own.
     await nextTurn();
   }
   if (copied === 0) throw new EarmarkError('invalid_argument', 'the excerpt starts after the end of the audio', { field: 'startSeconds' });
