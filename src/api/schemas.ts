@@ -101,10 +101,18 @@ export const JobList: Schema = {
   additionalProperties: false,
 };
 
+/** view=all (every tenant) needs the operator scope; the default is the key's own tenant. */
+export const ViewQuery: Schema = {
+  type: 'object',
+  properties: { view: { type: 'string', enum: ['tenant', 'all'], default: 'tenant', description: 'tenant: the API key\'s tenant only; all: every tenant (operator scope)' } },
+  additionalProperties: false,
+};
+
 export const QueueStatus: Schema = {
   type: 'object',
-  required: ['waiting', 'active', 'delayed', 'completed', 'failed', 'workers', 'finishedLastMinute'],
+  required: ['view', 'waiting', 'active', 'delayed', 'completed', 'failed', 'workers', 'finishedLastMinute'],
   properties: {
+    view: { type: 'string', enum: ['tenant', 'all'], description: 'Whose jobs the counts cover' },
     waiting: { type: 'integer' }, active: { type: 'integer' }, delayed: { type: 'integer' },
     completed: { type: 'integer' }, failed: { type: 'integer' }, workers: { type: 'integer' },
     finishedLastMinute: { type: 'integer' },

@@ -4,8 +4,10 @@
 import { tmpdir } from 'node:os';
 import { join, resolve } from 'node:path';
 
-export type Scope = 'submit' | 'read' | 'admin';
-export const SCOPES: readonly Scope[] = ['submit', 'read', 'admin'];
+// admin (profile edits) implies submit and read only: metrics and the all-tenant view
+// (operator) are granted separately, so a tenant's admin key sees only its own tenant.
+export type Scope = 'submit' | 'read' | 'admin' | 'metrics' | 'operator';
+export const SCOPES: readonly Scope[] = ['submit', 'read', 'admin', 'metrics', 'operator'];
 
 export interface ApiKey { key: string; tenant: string; scopes: Scope[] }
 

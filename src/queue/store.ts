@@ -127,6 +127,19 @@ export class ServiceStore {
     };
   }
 
+  /**
+   * One tenant's jobs by BullMQ state, and how many finished since sinceMs, in one script: cost
+   * grows with the tenant's own index (O(1) lookups per job), never with other tenants' jobs.
+   * Index entries whose job BullMQ already removed are dropped on the way.
+   */
+  async tenantCounts(tenant: string, bull: BullKeys, sinceMs: number): Promise<TenantCounts> {
+    const raw = await this.redis.eval(TENANT_COUNTS, 7,
+      this.key('jobs', tenant), bull.active, bull.completed, bull.failed, bull.delayed, bull.prioritized, this.key('finished'),
+      bull.jobPrefix, sinceMs) as number[];
+    const [waiting, prioritized, active, delayed, completed, failed, finishedSince] = raw.map(Number);
+    return { waiting, prioritized, active, delayed, completed, failed, finishedSince };
+  }
+
   /** For tests: remove every service key under this prefix. */
   async purge(): Promise<void> {
     let cursor = '0';
@@ -137,3 +150,41 @@ export class ServiceStore {
     } while (cursor !== '0');
   }
 }
+
+/** BullMQ's keys for the analysis queue (queue.keys), and the prefix of its job hashes. */
+export interface BullKeys { active: string; completed: string; failed: string; delayed: string; prioritized: string; jobPrefix: string }
+
+export function bullKeys(queue: { keys: Record<string, string>; toKey(type: string): string }): BullKeys {
+  const k = queue.keys;
+  return { active: k.active, completed: k.completed, failed: k.failed, delayed: k.delayed, prioritized: k.prioritized, jobPrefix: queue.toKey('') };
+}
+
+export interface TenantCounts { waiting: number; prioritized: number; active: number; delayed: number; completed: number; failed: number; finishedSince: number }
+
+// KEYS: tenant index, active list, completed, failed, delayed, prioritized (zsets), finished log.
+// ARGV: job hash prefix (existence checks only), since (ms). The active list is short: one
+// entry per running analysis. A job in none of the sets but with a hash is waiting (wait list,
+// paused or waiting-children).
+const TENANT_COUNTS = `
+local active = {}
+for _, id in ipairs(redis.call('LRANGE', KEYS[2], 0, -1)) do active[id] = true end
+local c = {0, 0, 0, 0, 0, 0, 0}
+local gone = {}
+local mine = {}
+for _, id in ipairs(redis.call('ZRANGE', KEYS[1], 0, -1)) do
+  mine[id] = true
+  if redis.call('ZSCORE', KEYS[3], id) then c[5] = c[5] + 1
+  elseif redis.call('ZSCORE', KEYS[4], id) then c[6] = c[6] + 1
+  elseif active[id] then c[3] = c[3] + 1
+  elseif redis.call('ZSCORE', KEYS[5], id) then c[4] = c[4] + 1
+  elseif redis.call('ZSCORE', KEYS[6], id) then c[2] = c[2] + 1
+  elseif redis.call('EXISTS', ARGV[1] .. id) == 1 then c[1] = c[1] + 1
+  else gone[#gone + 1] = id end
+end
+for i = 1, #gone, 500 do redis.call('ZREM', KEYS[1], unpack(gone, i, math.min(i + 499, #gone))) end
+-- The finished log holds the last hour as "<jobId>:<outcome>".
+for _, entry in ipairs(redis.call('ZRANGEBYSCORE', KEYS[7], ARGV[2], '+inf')) do
+  if mine[string.match(entry, '^(.*):[^:]*$')] then c[7] = c[7] + 1 end
+end
+return c
+`;

@@ -296,10 +296,8 @@ describe('listing, queue, health, metrics', () => {
     expect(queue.body.finishedLastMinute).toBeGreaterThan(0);
     expect((await api.get('/healthz')).body.status).toBe('ok');
     expect((await api.get('/readyz')).body).toEqual({ status: 'ok', redis: true, storage: true });
-    const metrics = await api.get('/metrics', KEYS.alphaAdmin);
-    expect(metrics.text).toMatch(/^earmark_jobs_total\{outcome="completed"\} [1-9]/m);
-    expect(metrics.text).toMatch(/^earmark_http_requests_total\{method="POST",route="\/v1\/jobs",status="202"\} \d+/m);
-    expect(metrics.text).toMatch(/^earmark_analysis_seconds_count [1-9]/m);
+    // /metrics needs the metrics scope, which admin does not include (contents: tenant-visibility.test.ts).
+    expect((await api.get('/metrics', KEYS.alphaAdmin)).status).toBe(403);
     expect((await api.get('/openapi.json')).body.openapi).toBe('3.1.0');
     // An unknown route is not in the document, so it is checked by hand: still problem+json.
     const { default: request } = await import('supertest');

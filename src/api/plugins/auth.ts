@@ -22,6 +22,17 @@ export function findKey(keys: Array<{ digest: Buffer; entry: ApiKey }>, presente
   return found;
 }
 
+/** admin implies submit and read; metrics and operator are only ever granted by name. */
+const IMPLIED_BY_ADMIN: readonly Scope[] = ['submit', 'read'];
+
+export function hasScope(principal: Principal, scope: Scope): boolean {
+  return principal.scopes.includes(scope) || (IMPLIED_BY_ADMIN.includes(scope) && principal.scopes.includes('admin'));
+}
+
+export function requireScope(principal: Principal, scope: Scope): void {
+  if (!hasScope(principal, scope)) throw new EarmarkError('forbidden', `this API key lacks the "${scope}" scope`);
+}
+
 export function principalOf(request: FastifyRequest): Principal {
   if (!request.principal) throw new EarmarkError('unauthorized', 'a valid API key is required');
   return request.principal;
@@ -41,9 +52,7 @@ export function authPlugin(apiKeys: ApiKey[]) {
       const { entry, keyId } = found;
       request.principal = { tenant: entry.tenant, keyId, scopes: entry.scopes };
       request.log = request.log.child({ tenant: entry.tenant });
-      if (!entry.scopes.includes(scope) && !entry.scopes.includes('admin')) {
-        throw new EarmarkError('forbidden', `this API key lacks the "${scope}" scope`);
-      }
+      requireScope(request.principal, scope);
     });
   };
   return Object.assign(plugin, { [Symbol.for('skip-override')]: true });

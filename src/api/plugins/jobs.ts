@@ -6,13 +6,14 @@ import type { FastifyInstance, FastifyRequest } from 'fastify';
 import type { Job } from 'bullmq';
 import { EarmarkError } from '../../errors/index.ts';
 import type { AnalyzeJobV1, AnalyzeResultV1 } from '../../queue/contract.ts';
+import { bullKeys } from '../../queue/store.ts';
 import { jobView, stateOf, type JobView } from '../../queue/job-view.ts';
 import type { StoredFile } from '../../storage/index.ts';
 import type { AppDeps } from '../deps.ts';
 import { route, type RouteSpec } from '../route-spec.ts';
 import * as S from '../schemas.ts';
 import { submitJob, type SubmitInput } from '../submit.ts';
-import { principalOf } from './auth.ts';
+import { principalOf, requireScope } from './auth.ts';
 
 const idempotencyHeader = { 'Idempotency-Key': { description: 'Repeat a submission safely: the same key returns the job made the first time.', schema: { type: 'string', maxLength: 200 } } };
 
@@ -41,8 +42,9 @@ export const jobSpecs = {
     querystring: S.ListJobsQuery, responses: { 200: { description: 'A page of jobs', schema: S.JobList }, ...S.problems(400, 401, 403, 503) },
   },
   queue: {
-    method: 'GET', url: '/v1/queue', operationId: 'getQueue', tag: 'jobs', scope: 'read', summary: 'Queue counts, workers seen and jobs finished in the last minute',
-    responses: { 200: { description: 'Queue status', schema: S.QueueStatus }, ...S.problems(401, 403, 503) },
+    method: 'GET', url: '/v1/queue', operationId: 'getQueue', tag: 'jobs', scope: 'read',
+    summary: 'The tenant\'s queue counts (every tenant\'s with view=all and the operator scope), workers seen and jobs finished in the last minute',
+    querystring: S.ViewQuery, responses: { 200: { description: 'Queue status', schema: S.QueueStatus }, ...S.problems(400, 401, 403, 503) },
   },
 } satisfies Record<string, RouteSpec>;
 
@@ -197,13 +199,23 @@ export function jobsPlugin(deps: AppDeps, uploadLimitBytes: number) {
       return { items, nextCursor: more && cursor ? encodeCursor(cursor) : null };
     });
 
-    route(app, jobSpecs.queue, async () => {
-      const counts = await deps.queue.getJobCounts('waiting', 'active', 'delayed', 'completed', 'failed', 'prioritized');
-      const workers = await deps.queue.getWorkers();
+    route(app, jobSpecs.queue, async (request) => {
+      const principal = principalOf(request);
+      const { view } = request.query as { view: 'tenant' | 'all' };
+      const workers = (await deps.queue.getWorkers()).length;
+      const since = Date.now() - 60_000;
+      if (view === 'all') {
+        requireScope(principal, 'operator');
+        const counts = await deps.queue.getJobCounts('waiting', 'active', 'delayed', 'completed', 'failed', 'prioritized');
+        return {
+          view, waiting: (counts.waiting ?? 0) + (counts.prioritized ?? 0), active: counts.active ?? 0, delayed: counts.delayed ?? 0,
+          completed: counts.completed ?? 0, failed: counts.failed ?? 0, workers, finishedLastMinute: await deps.store.finishedSince(since),
+        };
+      }
+      const c = await deps.store.tenantCounts(principal.tenant, bullKeys(deps.queue), since);
       return {
-        waiting: (counts.waiting ?? 0) + (counts.prioritized ?? 0), active: counts.active ?? 0, delayed: counts.delayed ?? 0,
-        completed: counts.completed ?? 0, failed: counts.failed ?? 0, workers: workers.length,
-        finishedLastMinute: await deps.store.finishedSince(Date.now() - 60_000),
+        view, waiting: c.waiting + c.prioritized, active: c.active, delayed: c.delayed,
+        completed: c.completed, failed: c.failed, workers, finishedLastMinute: c.finishedSince,
       };
     });
   };
