@@ -128,14 +128,15 @@ export class ServiceStore {
   }
 
   /**
-   * One tenant's jobs by BullMQ state, and how many finished since sinceMs, in one script: cost
-   * grows with the tenant's own index (O(1) lookups per job), never with other tenants' jobs.
-   * Index entries whose job BullMQ already removed are dropped on the way.
+   * One tenant's jobs by BullMQ state, and how many finished since sinceMs, in one script. Cost:
+   * set intersections with the tenant's index (in Redis's C code), never a look at other tenants'
+   * jobs. Index entries older than the retention are checked one by one and dropped once BullMQ
+   * has removed their job (younger ones cannot be gone: removal counts from the finish time).
    */
   async tenantCounts(tenant: string, bull: BullKeys, sinceMs: number): Promise<TenantCounts> {
     const raw = await this.redis.eval(TENANT_COUNTS, 7,
       this.key('jobs', tenant), bull.active, bull.completed, bull.failed, bull.delayed, bull.prioritized, this.key('finished'),
-      bull.jobPrefix, sinceMs) as number[];
+      bull.jobPrefix, sinceMs, Date.now() - this.retentionSeconds * 1000) as number[];
     const [waiting, prioritized, active, delayed, completed, failed, finishedSince] = raw.map(Number);
     return { waiting, prioritized, active, delayed, completed, failed, finishedSince };
   }
@@ -162,29 +163,37 @@ export function bullKeys(queue: { keys: Record<string, string>; toKey(type: stri
 export interface TenantCounts { waiting: number; prioritized: number; active: number; delayed: number; completed: number; failed: number; finishedSince: number }
 
 // KEYS: tenant index, active list, completed, failed, delayed, prioritized (zsets), finished log.
-// ARGV: job hash prefix (existence checks only), since (ms). The active list is short: one
-// entry per running analysis. A job in none of the sets but with a hash is waiting (wait list,
-// paused or waiting-children).
+// ARGV: job hash prefix (existence checks only), since (ms), retention cut (ms). The active list
+// is short: one entry per running analysis. Waiting is the rest: wait list, paused, children.
 const TENANT_COUNTS = `
-local active = {}
-for _, id in ipairs(redis.call('LRANGE', KEYS[2], 0, -1)) do active[id] = true end
-local c = {0, 0, 0, 0, 0, 0, 0}
-local gone = {}
-local mine = {}
-for _, id in ipairs(redis.call('ZRANGE', KEYS[1], 0, -1)) do
-  mine[id] = true
-  if redis.call('ZSCORE', KEYS[3], id) then c[5] = c[5] + 1
-  elseif redis.call('ZSCORE', KEYS[4], id) then c[6] = c[6] + 1
-  elseif active[id] then c[3] = c[3] + 1
-  elseif redis.call('ZSCORE', KEYS[5], id) then c[4] = c[4] + 1
-  elseif redis.call('ZSCORE', KEYS[6], id) then c[2] = c[2] + 1
-  elseif redis.call('EXISTS', ARGV[1] .. id) == 1 then c[1] = c[1] + 1
-  else gone[#gone + 1] = id end
+local idx = KEYS[1]
+local function inter(other)
+  local n = redis.pcall('ZINTERCARD', 2, idx, other)
+  if type(n) == 'number' then return n end
+  -- Redis before 7 has no ZINTERCARD: look each of the tenant's jobs up instead.
+  local c = 0
+  for _, id in ipairs(redis.call('ZRANGE', idx, 0, -1)) do
+    if redis.call('ZSCORE', other, id) then c = c + 1 end
+  end
+  return c
 end
-for i = 1, #gone, 500 do redis.call('ZREM', KEYS[1], unpack(gone, i, math.min(i + 499, #gone))) end
+for _, id in ipairs(redis.call('ZRANGEBYSCORE', idx, '-inf', '(' .. ARGV[3])) do
+  if redis.call('EXISTS', ARGV[1] .. id) == 0 then redis.call('ZREM', idx, id) end
+end
+local total = redis.call('ZCARD', idx)
+local completed = inter(KEYS[3])
+local failed = inter(KEYS[4])
+local delayed = inter(KEYS[5])
+local prioritized = inter(KEYS[6])
+local active = 0
+for _, id in ipairs(redis.call('LRANGE', KEYS[2], 0, -1)) do
+  if redis.call('ZSCORE', idx, id) then active = active + 1 end
+end
+local waiting = total - completed - failed - delayed - prioritized - active
 -- The finished log holds the last hour as "<jobId>:<outcome>".
+local finished = 0
 for _, entry in ipairs(redis.call('ZRANGEBYSCORE', KEYS[7], ARGV[2], '+inf')) do
-  if mine[string.match(entry, '^(.*):[^:]*$')] then c[7] = c[7] + 1 end
+  if redis.call('ZSCORE', idx, string.match(entry, '^(.*):[^:]*$')) then finished = finished + 1 end
 end
-return c
+return {math.max(waiting, 0), prioritized, active, delayed, completed, failed, finished}
 `;

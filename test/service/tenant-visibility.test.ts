@@ -62,12 +62,12 @@ describe('without a worker: queued jobs per tenant', () => {
     expect(value((await api.get('/metrics', K.betaMetrics)).text, 'earmark_tenant_jobs{state="waiting"}')).toBe(1);
     expect(value((await api.get('/metrics?view=all', K.ops)).text, 'earmark_queue_jobs{state="waiting"}')).toBe(4);
 
-    // A job BullMQ removed (retention) no longer counts, and its index entry is dropped.
+    // A job BullMQ removed after the retention no longer counts, and its index entry is dropped.
     const redis = createRedis(svc.config.redisUrl, 'worker');
     try {
-      const store = new ServiceStore(redis, svc.config.queuePrefix, 60);
+      const store = new ServiceStore(redis, svc.config.queuePrefix, svc.config.retentionHours * 3600);
       const queue = createAnalysisQueue(redis, svc.config, () => undefined);
-      await store.indexJob('beta', 'j_removedremovedremoved00', Date.now());
+      await store.indexJob('beta', 'j_removedremovedremoved00', Date.now() - (svc.config.retentionHours + 1) * 3_600_000);
       expect(await store.tenantCounts('beta', bullKeys(queue), 0)).toMatchObject({ waiting: 1, completed: 0 });
       expect(await redis.zscore(`${svc.config.queuePrefix}:svc:jobs:beta`, 'j_removedremovedremoved00')).toBeNull();
       await queue.close();
