@@ -1,5 +1,5 @@
 #!/usr/bin/env node
-// `npm run build`: bundles the CLI, the analysis thread and the benchmark child into dist/*.mjs
+// `npm run build`: bundles the CLI, the analysis and excerpt threads and the benchmark child into dist/*.mjs
 // (`node bin/build.js <folder>` for another folder). Packages stay external: node_modules is
 // resolved at run time as usual.
 import { build } from 'esbuild';
@@ -9,7 +9,8 @@ import { DIST, ENTRIES, ROOT } from './bundles.js';
 
 const outdir = process.argv[2] ? resolve(process.argv[2]) : DIST;
 // The image ships without bench/: bundle what is there.
-const entries = Object.entries(ENTRIES).filter(([, source]) => existsSync(join(ROOT, source)));
+// The excerpt thread is started by path from whatever bundle holds excerpt-runner.ts.
+const entries = Object.entries({ ...ENTRIES, 'excerpt-thread': 'src/engine/excerpt-thread.ts' }).filter(([, source]) => existsSync(join(ROOT, source)));
 await build({
   entryPoints: Object.fromEntries(entries.map(([name, source]) => [name, join(ROOT, source)])),
   outdir,

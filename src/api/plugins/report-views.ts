@@ -4,7 +4,8 @@
 import type { FastifyInstance } from 'fastify';
 import type { Job } from 'bullmq';
 import { EarmarkError } from '../../errors/index.ts';
-import { cutExcerpt, MAX_EXCERPT_SECONDS } from '../../engine/excerpt.ts';
+import { MAX_EXCERPT_SECONDS } from '../../engine/excerpt.ts';
+import { ExcerptRunner } from '../../engine/excerpt-runner.ts';
 import type { QcReport } from '../../profiles/index.ts';
 import type { AnalyzeJobV1, AnalyzeResultV1 } from '../../queue/contract.ts';
 import { stateOf } from '../../queue/job-view.ts';
@@ -44,6 +45,10 @@ async function completedJob(deps: AppDeps, tenant: string, id: string): Promise<
 
 export function reportViewsPlugin(deps: AppDeps) {
   return async (app: FastifyInstance) => {
+    // Excerpts decode on threads of their own, a few at a time: never on this event loop.
+    const excerpts = new ExcerptRunner();
+    app.addHook('onClose', async () => { await excerpts.close(); });
+
     route(app, reportViewSpecs.plot, async (request, reply) => {
       const { id } = request.params as { id: string };
       await completedJob(deps, principalOf(request).tenant, id);
@@ -58,10 +63,14 @@ export function reportViewsPlugin(deps: AppDeps) {
       const job = await completedJob(deps, principalOf(request).tenant, id);
       const sourceKey = job.returnvalue?.sourceKey ?? (job.data.source.kind === 'upload' ? job.data.source.storageKey : null);
       if (!sourceKey) throw new EarmarkError('not_found', `the audio of job ${id} was not kept`);
+      // A client that goes away ends its thread.
+      const gone = new AbortController();
+      reply.raw.on('close', () => { if (!reply.raw.writableEnded) gone.abort(); });
       let excerpt;
       try {
-        excerpt = await cutExcerpt(deps.storage.pathOf(sourceKey), startSeconds, endSeconds);
+        excerpt = await excerpts.cut(deps.storage.pathOf(sourceKey), startSeconds, endSeconds, gone.signal);
       } catch (error) {
+        if (gone.signal.aborted) return reply;
         // The stored audio is gone after the retention period; never leak its path.
         if (error instanceof EarmarkError && error.code === 'file_not_found') throw new EarmarkError('not_found', `the audio of job ${id} is past its retention period`);
         throw error;
