@@ -40,6 +40,10 @@ export interface Config {
   /** Requests per minute per API key (0: no limit). */
   rateLimitPerMinute: number;
   logLevel: string;
+  /** An analysis child whose RSS is above this after a job exits and is replaced. */
+  childRssLimitMb: number;
+  /** Longest audio any file may decode to; longer is decoded_size_exceeded, checked while decoding. */
+  maxDecodedSeconds: number;
 }
 
 export class ConfigError extends Error {
@@ -91,6 +95,14 @@ function secrets(env: Env): Record<string, string> {
   return value as Record<string, string>;
 }
 
+/** Exported alone: the sandboxed analysis child reads these from its inherited environment. */
+export function childRssLimitMb(env: Env = process.env): number {
+  return int(env, 'EARMARK_CHILD_RSS_LIMIT_MB', 512, 64);
+}
+export function maxDecodedSeconds(env: Env = process.env): number {
+  return int(env, 'EARMARK_MAX_DECODED_SECONDS', 86_400, 1);
+}
+
 export function loadConfig(env: Env = process.env): Config {
   const redisUrl = env.REDIS_URL || 'redis://127.0.0.1:6379';
   if (!/^rediss?:\/\//.test(redisUrl)) throw new ConfigError('REDIS_URL', 'must start with redis:// or rediss://');
@@ -127,5 +139,7 @@ export function loadConfig(env: Env = process.env): Config {
     stalledIntervalMs: int(env, 'EARMARK_STALLED_INTERVAL_MS', 30_000, 200),
     rateLimitPerMinute: int(env, 'EARMARK_RATE_LIMIT_PER_MINUTE', 1200, 0),
     logLevel,
+    childRssLimitMb: childRssLimitMb(env),
+    maxDecodedSeconds: maxDecodedSeconds(env),
   };
 }
