@@ -8,7 +8,7 @@
 // webhook job's id is its delivery id) and the webhook worker sends only once the outcome it
 // announces is committed.
 
-import { DelayedError, Job, UnrecoverableError, Worker, type WorkerOptions } from 'bullmq';
+import { DelayedError, Job, UnrecoverableError, Worker, type Span, type WorkerOptions } from 'bullmq';
 import type { Redis } from 'ioredis';
 import type { Logger } from 'pino';
 import type { Config } from '../config/index.ts';
@@ -44,6 +44,9 @@ export interface Settlement {
   failed(job: AnalysisJob, error: Error): Promise<void>;
 }
 
+/** Errors BullMQ treats as "move the job", not as a failed attempt. */
+const NOT_FAILURES = new Set(['DelayedError', 'WaitingError', 'WaitingChildrenError', 'RateLimitError']);
+
 /** BullMQ fails the job for good on this error (mirrors Job.shouldRetryJob). */
 export function isFinalFailure(job: AnalysisJob, error: Error): boolean {
   if (error.name === 'UnrecoverableError') return true;
@@ -61,22 +64,22 @@ class AnalysisWorker extends Worker<AnalyzeJobV1, AnalyzeResultV1> {
   }
 
   protected override async callProcessJob(job: AnalysisJob, token: string, signal?: AbortSignal): Promise<AnalyzeResultV1> {
-    let result: AnalyzeResultV1;
-    try {
-      result = await super.callProcessJob(job, token, signal);
-    } catch (thrown) {
-      const error = thrown instanceof Error ? thrown : new Error(String(thrown));
-      if (isFinalFailure(job, error)) {
-        // Best effort: if this throws, the `failed` listener retries it after the commit.
-        await this.settle.failed(job, error).catch(() => undefined);
-        killPoint('before-fail');
-      }
-      throw thrown;
-    }
+    const result = await super.callProcessJob(job, token, signal);
     // A throw here fails this attempt (retried): better than a completion without its effects.
     await this.settle.completed(job, result);
     killPoint('before-complete');
     return result;
+  }
+
+  // Every failure passes here before moveToFailed, including a job failed for stalling too often
+  // (BullMQ fails it on its next pick-up without calling the processor).
+  protected override async handleFailed(err: Error, job: AnalysisJob, token: string, fetchNextCallback?: () => boolean, span?: Span): Promise<AnalysisJob> {
+    if (!NOT_FAILURES.has(err.name) && isFinalFailure(job, err)) {
+      // Best effort: if this throws, the `failed` listener retries it after the commit.
+      await this.settle.failed(job, err).catch(() => undefined);
+      killPoint('before-fail');
+    }
+    return super.handleFailed(err, job, token, fetchNextCallback, span);
   }
 }
 
@@ -167,7 +170,7 @@ export async function startWorker(config: Config, log: Logger): Promise<WorkerRu
       const state = await job.getState();
       log.warn({ jobId: job.id, reason: error.message, state }, state === 'failed' ? 'job failed' : 'job attempt failed, will retry');
       if (state !== 'failed') return;
-      // Backstop, idempotent: a job failed by the stall check never ran the wrapper above.
+      // Backstop, idempotent: handleFailed above could not write (Redis refused); dropped as duplicates otherwise.
       const committed = await Job.fromId<AnalyzeJobV1, AnalyzeResultV1>(analysisQueue, String(job.id));
       if (!committed) return;
       await store.recordFinished(String(job.id), 'failed', null);

@@ -13,6 +13,7 @@ import { KILL_AT_ENV, deliveryIdOf } from '../../src/worker/runtime.ts';
 import { writeSine } from '../service/audio.ts';
 import { client, type Client } from '../service/client.ts';
 import { KEYS, startService } from '../service/harness.ts';
+import { writeLongWav } from '../../fixtures/long-audio.ts';
 
 const cleanups: Array<() => Promise<void> | void> = [];
 afterEach(async () => {
@@ -41,7 +42,7 @@ function worker(env: Record<string, string>): ServiceProcess {
   return p;
 }
 
-type JobBody = { state: string; callback?: { deliveries: Array<{ deliveryId: string; outcome: string }> }; error?: { code: string } };
+type JobBody = { state: string; progressPercent?: number; callback?: { deliveries: Array<{ deliveryId: string; outcome: string }> }; error?: { code: string } };
 const jobState = async (api: Client, id: string) => (await api.get(`/v1/jobs/${id}`, KEYS.alpha)).body as JobBody;
 
 const TRIALS = Number(process.env.EARMARK_DURABLE_TRIALS ?? 1);
@@ -82,7 +83,7 @@ describe('durable completion', () => {
         expect(signal).toBe('SIGKILL');
         const stateAtKill = (await jobState(api, id)).state;
         expect(stateAtKill).toBe(c.killAt.startsWith('after') ? c.outcome : 'active');
-        const postsAtKill = receiver.posts.length;
+        const postsAtKill = receiver.posts.filter((p) => p.delivery.startsWith(`dlv_${id}_`)).length;
         await waitFor('the killed worker\'s analysis children to exit', async () => [...children].every((pid) => !alive(pid)), 15_000);
 
         const second = worker(svc.env);
@@ -107,4 +108,36 @@ describe('durable completion', () => {
       console.log(`[durable ${c.killAt}] ${lines.join('; ')}; ${c.outcome} counted ${TRIALS}/${TRIALS}`);
     }, 60_000 + TRIALS * 90_000);
   }
+
+  it('a job that stalls more than maxStalledCount: the worker that fails it writes the job.failed effects first, even if it is killed before the commit', async () => {
+    const receiver = await startReceiver();
+    cleanups.push(() => receiver.close());
+    const svc = await startService({ worker: false, env: { EARMARK_RATE_LIMIT_PER_MINUTE: '0', EARMARK_LOCK_DURATION_MS: '2000', EARMARK_STALLED_INTERVAL_MS: '1000', EARMARK_UPLOAD_LIMIT_BYTES: String(128 * 1024 * 1024) } });
+    cleanups.push(() => svc.close());
+    const api = client(svc.url);
+    // An hour at 8 kHz mono: a few seconds of analysis, so each kill lands mid-file.
+    const wav = await writeLongWav(join(svc.dir, 'long.wav'), 8000, 3600);
+    const submitted = await api.upload(wav, { profile: 'ebu-r128', callbackUrl: receiver.url }, KEYS.alpha);
+    const id = submitted.body.id as string;
+    // maxStalledCount is 2: the third stall marks the job to fail on its next pick-up.
+    for (let kill = 1; kill <= 3; kill++) {
+      const w = worker(svc.env);
+      await waitFor(`worker ${kill} to start the job`, async () => w.lines.some((l) => l.includes(id) && l.includes('job started')), 60_000, 50);
+      w.child.kill('SIGKILL');
+      await w.exited;
+    }
+    // The worker that fails it dies between its writes and moveToFailed; the job stalls once more.
+    const failer = worker({ ...svc.env, [KILL_AT_ENV]: 'before-fail' });
+    await waitFor('the failing worker to kill itself', async () => failer.child.signalCode !== null || failer.child.exitCode !== null, 60_000, 50);
+    expect(failer.child.signalCode).toBe('SIGKILL');
+    const last = worker(svc.env);
+    const delivered = await waitFor('the job.failed webhook', async () => { const s = await jobState(api, id); return s.callback?.deliveries.some((d) => d.outcome === 'delivered') ? s : null; }, 60_000, 100);
+    expect(delivered.state).toBe('failed');
+    const posts = receiver.posts.filter((p) => p.delivery.startsWith(`dlv_${id}_`));
+    expect(new Set(posts.map((p) => p.delivery))).toEqual(new Set([deliveryIdOf(id, 'job.failed')]));
+    expect(await svc.api.deps.store.finishedOutcome(id)).toBe('failed');
+    expect((await svc.api.deps.store.counters()).jobs.failed).toBe(1);
+    await stopProcess(last);
+    console.log(`[durable stalled] killed mid-analysis 3 times, the failing worker killed before its commit; ${delivered.error?.code}: posts ${posts.length}, delivery ids 1, failed counted 1`);
+  }, 180_000);
 });
