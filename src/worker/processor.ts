@@ -25,6 +25,18 @@ const config = readChildSettings();
 if (process.send) process.once('disconnect', () => process.exit(1));
 const policy = new UrlPolicy(config.urlAllowlist);
 
+/**
+ * BullMQ reuses a sandboxed child for job after job, and memory a child took (V8 heap, decoder
+ * WebAssembly memories, the C heap) is rarely handed back. A child above the limit after its job
+ * asks to be replaced with SIGTERM to itself: BullMQ's handler in the child awaits the job's
+ * result message (written to the IPC pipe) and then exits, and the pool forks a fresh child for
+ * the next job. Exiting here directly could drop that message.
+ */
+function retireIfGrown(): void {
+  const rssMb = process.memoryUsage.rss() / 1024 ** 2;
+  if (rssMb > config.childRssLimitMb) process.kill(process.pid, 'SIGTERM');
+}
+
 export default async function analyzeJob(job: SandboxedJob<AnalyzeJobV1, AnalyzeResultV1>): Promise<AnalyzeResultV1> {
   if (job.name !== ANALYZE_JOB_V1) throw new UnrecoverableError(encodeFailure('invalid_argument', `this worker does not know job name ${job.name}`));
   const started = performance.now();
@@ -53,6 +65,7 @@ export default async function analyzeJob(job: SandboxedJob<AnalyzeJobV1, Analyze
     const doc = await analyzeFile(path, {
       analysis: analysisOptionsForProfile(data.profile),
       displayName: fileName,
+      decode: { maxDecodedSeconds: config.maxDecodedSeconds },
       ...(knownSha256 ? { knownSha256 } : {}),
       onProgress: (fraction) => {
         const percent = Math.floor(fraction * 100);
@@ -78,5 +91,6 @@ export default async function analyzeJob(job: SandboxedJob<AnalyzeJobV1, Analyze
   } finally {
     // A fetched copy of a failed job is ours alone; an upload stays until the retention sweep.
     if (fetchedKey) await storage.remove(fetchedKey).catch(() => undefined);
+    retireIfGrown();
   }
 }

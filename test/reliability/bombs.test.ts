@@ -9,8 +9,11 @@ import { fileURLToPath } from 'node:url';
 import { promisify } from 'node:util';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { makeBombs, type BombCase, type BombOutcome } from '../../fixtures/bombs.ts';
+import { childPids } from '../../fixtures/procs.ts';
+import { seedSamples, wavBytes } from '../../fixtures/seeds.ts';
 import { openAudioFile } from '../../src/decode/index.ts';
 import { errorCatalogue } from '../../src/errors/index.ts';
+import { KEYS, startService, until } from '../service/harness.ts';
 
 const ROOT = fileURLToPath(new URL('../..', import.meta.url));
 const RSS_BOUND_MIB = 256;
@@ -64,4 +67,42 @@ describe.skipIf(!hasFfmpeg)('bombs', () => {
       expect(frames, id).toBeLessThan(48000 * 60);
     }
   }, 60_000);
+});
+
+// Needs Redis on 127.0.0.1:6379, as the service tests do. The limit's floor (64 MiB) is below any
+// child's RSS, so every job retires its child: the result must still arrive, from a fresh child each time.
+describe('an analysis child above its RSS limit after a job', () => {
+  it('delivers the job result, then exits and is replaced for the next job', async () => {
+    process.env.EARMARK_CHILD_RSS_LIMIT_MB = '64';
+    const service = await startService({ worker: true });
+    try {
+      const file = new Blob([wavBytes(seedSamples(1))], { type: 'audio/wav' });
+      const seen: number[] = [];
+      for (let i = 0; i < 2; i++) {
+        const form = new FormData();
+        form.set('profile', 'ebu-r128');
+        form.set('file', file, `short-${i}.wav`);
+        const auth = { authorization: `Bearer ${KEYS.alpha}` };
+        const res = await fetch(`${service.url}/v1/jobs`, { method: 'POST', headers: auth, body: form });
+        expect(res.status).toBe(202);
+        const { id } = (await res.json()) as { id: string };
+        let child: number[] = [];
+        const view = await until(async () => {
+          child = child.length ? child : childPids(process.pid);
+          const body = (await (await fetch(`${service.url}/v1/jobs/${id}`, { headers: auth })).json()) as { state: string; verdict: string | null; attempts?: unknown };
+          return body.state === 'completed' || body.state === 'failed' ? body : null;
+        }, 50);
+        expect(view.state).toBe('completed');
+        expect(view.verdict).not.toBeNull();
+        seen.push(...child);
+        // The child that ran the job goes away once its result is delivered.
+        await until(async () => childPids(process.pid).length === 0, 50);
+      }
+      expect(seen.length).toBe(2);
+      expect(new Set(seen).size).toBe(2);
+    } finally {
+      await service.close();
+      delete process.env.EARMARK_CHILD_RSS_LIMIT_MB;
+    }
+  }, 120_000);
 });
