@@ -1,6 +1,7 @@
 // Opening a file part-way through, for excerpts: PCM containers by byte offset, native FLAC from
-// a frame found by the seek table and a search over frame headers. Everything else decodes from
-// the start (the caller skips to its span).
+// a frame found by the seek table and a search over frame headers, MP3 (with a LAME/Info header,
+// so the decoder's trim is known) from a few frames before the span, found by walking the frame
+// headers. Everything else decodes from the start (the caller skips to its span).
 import { createReadStream } from 'node:fs';
 import { open, stat } from 'node:fs/promises';
 import type { PcmBlock } from '../analysis/audio.ts';
@@ -10,6 +11,7 @@ import { ByteReader } from './byte-reader.ts';
 import { id3v2Length, readRange, u16be, u24be, u32be } from './compressed-bytes.ts';
 import { loadCodec } from './compressed-codecs.ts';
 import { flacHeaderBlockSize, FlacInputSlicer } from './compressed-flac.ts';
+import { parseMpegHeader } from './compressed-mp3.ts';
 import { OutputCheck } from './compressed-output.ts';
 import type { Probe } from './compressed-probe.ts';
 import { INPUT_CHUNK_BYTES } from './compressed.ts';
@@ -23,7 +25,7 @@ export interface SeekedAudio {
   /** Frame of the first sample the blocks hold: at or before the frame asked for. */
   firstFrame: number;
   /** How the start was reached. */
-  method: 'pcm_offset' | 'flac_frame' | 'from_start';
+  method: 'pcm_offset' | 'flac_frame' | 'mp3_frame' | 'from_start';
 }
 
 /** Decodes `path` from `startFrame` or the nearest frame before it the format allows. */
@@ -37,6 +39,10 @@ export async function openAudioFileAt(path: string, startFrame: number, options:
   }
   if (container === 'flac') {
     const seeked = await openFlacAt(path, frame, options, whole.format);
+    if (seeked) return seeked;
+  }
+  if (container === 'mp3') {
+    const seeked = await openMp3At(path, frame, options, whole.format);
     if (seeked) return seeked;
   }
   return { audio: whole, firstFrame: 0, method: 'from_start' };
@@ -216,31 +222,113 @@ async function openFlacAt(path: string, frame: number, options: DecodeOptions, f
   const check = new OutputCheck(probe, blockFrames, [], Infinity);
   const header = s.streamInfo.slice();
   header[0] |= 0x80; // STREAMINFO becomes the last metadata block: the frames follow it
-  async function* blocks(): AsyncGenerator<PcmBlock> {
-    const codec = await loadCodec('flac');
-    const stream = createReadStream(path, { start: start!.offset, highWaterMark: INPUT_CHUNK_BYTES });
-    const slicer = new FlacInputSlicer(s!.channels);
-    try {
-      const marker = new Uint8Array([0x66, 0x4c, 0x61, 0x43]);
-      yield* check.take(await codec.decode(concat(marker, header)), false);
-      let read = start!.offset;
-      for await (const chunk of stream as AsyncIterable<Buffer>) {
-        read += chunk.byteLength;
-        const last = read >= fileBytes;
-        for (const slice of slicer.push(new Uint8Array(chunk), last)) yield* check.take(await codec.decode(slice), last);
-      }
-      if (codec.flush) yield* check.take(await codec.flush(), true);
-      yield* check.finish();
-    } catch (e) {
-      if (e instanceof EarmarkError) throw e;
-      throw new EarmarkError('corrupt_file', `decoder failed: ${e instanceof Error ? e.message : String(e)}`, {}, { cause: e });
-    } finally {
-      codec.free();
-      stream.destroy();
-    }
-  }
-  const audio: DecodedAudio = { format, blocks: blocks(), warnings: [], get framesDecoded() { return check.framesOut; } };
+  const marker = new Uint8Array([0x66, 0x4c, 0x61, 0x43]);
+  const blocks = decodeFrom(path, 'flac', concat(marker, header), start.offset, fileBytes, new FlacInputSlicer(s.channels), check);
+  const audio: DecodedAudio = { format, blocks, warnings: [], get framesDecoded() { return check.framesOut; } };
   return { audio, firstFrame: start.sample, method: 'flac_frame' };
+}
+
+/** Decodes `prefix`, then the file from `offset` on, through `slicer` and `check`. */
+async function* decodeFrom(path: string, codecName: 'flac' | 'mp3', prefix: Uint8Array | null, offset: number, fileBytes: number,
+  slicer: { push(chunk: Uint8Array, last: boolean): Iterable<Uint8Array> }, check: OutputCheck): AsyncGenerator<PcmBlock> {
+  const codec = await loadCodec(codecName);
+  const stream = createReadStream(path, { start: offset, highWaterMark: INPUT_CHUNK_BYTES });
+  try {
+    if (prefix) yield* check.take(await codec.decode(prefix), false);
+    let read = offset;
+    for await (const chunk of stream as AsyncIterable<Buffer>) {
+      read += chunk.byteLength;
+      const last = read >= fileBytes;
+      for (const slice of slicer.push(new Uint8Array(chunk), last)) yield* check.take(await codec.decode(slice), last);
+    }
+    if (codec.flush) yield* check.take(await codec.flush(), true);
+    yield* check.finish();
+  } catch (e) {
+    if (e instanceof EarmarkError) throw e;
+    throw new EarmarkError('corrupt_file', `decoder failed: ${e instanceof Error ? e.message : String(e)}`, {}, { cause: e });
+  } finally {
+    codec.free();
+    stream.destroy();
+  }
+}
+
+// ---- MP3 ----
+
+/** Frames decoded before the span and thrown away: the bit reservoir reaches back up to 511 bytes and the filterbanks overlap. */
+const MP3_PREROLL_FRAMES = 10;
+const MAX_ID3_TAGS = 4;
+
+/**
+ * From the frame MP3_PREROLL_FRAMES before the one holding `frame`. Only for a stream that opens
+ * with an Info/Xing frame carrying the LAME delay: the decoder then trims that delay from the
+ * start, so sample n of the whole decode is sample n + delay of the frames after the Info frame.
+ * The output differs from decoding from the start by about one float32 step (the decoder's
+ * arithmetic is not quite position-independent).
+ */
+async function openMp3At(path: string, frame: number, options: DecodeOptions, format: AudioFormat): Promise<SeekedAudio | null> {
+  const fileBytes = (await stat(path)).size;
+  let first = 0;
+  for (let i = 0; i < MAX_ID3_TAGS; i++) {
+    const tag = id3v2Length(await readRange(path, first, 10));
+    if (tag === 0) break;
+    first += tag;
+  }
+  const head = await readRange(path, first, 4096);
+  const info = parseMpegHeader(head, 0);
+  if (!info || info.layer !== 3 || format.frames === null || frame >= format.frames) return null;
+  const x = 4 + (info.mpeg1 ? (info.channels === 1 ? 17 : 32) : info.channels === 1 ? 9 : 17);
+  const tag = String.fromCharCode(...head.subarray(x, x + 4));
+  if (tag !== 'Xing' && tag !== 'Info') return null;
+  const flags = u32be(head, x + 4);
+  const lame = x + 8 + (flags & 1 ? 4 : 0) + (flags & 2 ? 4 : 0) + (flags & 4 ? 100 : 0) + (flags & 8 ? 4 : 0);
+  if (lame + 24 > head.length || !/^[A-Za-z]{4}$/.test(String.fromCharCode(...head.subarray(lame, lame + 4)))) return null;
+  // The tag's encoder delay plus the layer III decoder's own 529 samples (528 + 1, the usual gapless convention; checked against the whole decode in the tests).
+  const delay = (u24be(head, lame + 21) >> 12) + 529;
+  const spf = info.samplesPerFrame;
+  // Audio frame k (1-based after the Info frame) holds samples from (k - 1) * spf - delay of the whole decode.
+  const holding = Math.floor((frame + delay) / spf) + 1;
+  const from = holding - MP3_PREROLL_FRAMES;
+  if (from < 2) return null;
+  const offset = await mp3FrameOffset(path, first + info.frameBytes, from - 1, fileBytes);
+  if (offset === null) return null;
+  const probe: Probe = { codec: 'mp3', encoding: format.encoding, sampleRate: format.sampleRate, channels: format.channels, bitsPerSample: null,
+    frames: null, framesSlack: 0, wholeFile: false, endMissing: null };
+  const check = new OutputCheck(probe, options.maxBlockFrames ?? DEFAULT_MAX_BLOCK_FRAMES, [], Infinity);
+  const firstFrame = (from - 1) * spf - delay;
+  // From the middle the decoder cannot know the end padding the whole decode drops: stop at the declared length.
+  const blocks = upTo(decodeFrom(path, 'mp3', null, offset, fileBytes, { push: (chunk) => [chunk] }, check), format.frames! - firstFrame);
+  const audio: DecodedAudio = { format, blocks, warnings: [], get framesDecoded() { return check.framesOut; } };
+  return { audio, firstFrame, method: 'mp3_frame' };
+}
+
+async function* upTo(blocks: AsyncIterable<PcmBlock>, frames: number): AsyncGenerator<PcmBlock> {
+  let left = frames;
+  for await (const block of blocks) {
+    if (left <= 0) return;
+    if (block.frames <= left) yield block;
+    else yield { ...block, channelData: block.channelData.map((c) => c.subarray(0, left)), frames: left };
+    left -= block.frames;
+  }
+}
+
+/** Byte offset of the `skip`-th frame after the one at `at`, walking header to header; null if the chain breaks or ends first. */
+async function mp3FrameOffset(path: string, at: number, skip: number, fileBytes: number): Promise<number | null> {
+  const WINDOW = 1024 * 1024;
+  let offset = at;
+  let left = skip;
+  while (left > 0) {
+    const b = await readRange(path, offset, WINDOW);
+    let o = 0;
+    while (left > 0 && o + 4 <= b.length) {
+      const h = parseMpegHeader(b, o);
+      if (!h || h.frameBytes <= 4) return null;
+      o += h.frameBytes;
+      left--;
+    }
+    offset += o;
+    if (left > 0 && (b.length < WINDOW || o === 0)) return null;
+  }
+  return offset + 4 <= fileBytes ? offset : null;
 }
 
 function concat(a: Uint8Array, b: Uint8Array): Uint8Array {

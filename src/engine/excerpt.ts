@@ -1,6 +1,6 @@
 // A short listening excerpt as a WAV: open the file at (or just before) the span, skip to it,
-// copy it out. PCM opens at the span's byte offset and FLAC at a frame before it
-// (decode/seek.ts); other formats decode from the start. Blocks may be reused by the decoder, so
+// copy it out. PCM opens at the span's byte offset, FLAC at a frame before it and MP3 a few
+// frames before it (decode/seek.ts); other formats decode from the start. Blocks may be reused by the decoder, so
 // the span is copied as it passes. The service runs this on a thread of its own (excerpt-runner.ts).
 
 import { setImmediate as nextTurn } from 'node:timers/promises';
