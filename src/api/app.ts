@@ -4,12 +4,15 @@
 import multipart from '@fastify/multipart';
 import Fastify, { type FastifyBaseLogger, type FastifyInstance } from 'fastify';
 import { randomUUID } from 'node:crypto';
+import type { ServerResponse } from 'node:http';
+import type { Socket } from 'node:net';
 import pino, { type Logger } from 'pino';
 import type { Config } from '../config/index.ts';
 import type { AppDeps } from './deps.ts';
 import { openapiPlugin } from './openapi.ts';
 import { authPlugin } from './plugins/auth.ts';
-import { errorsPlugin } from './plugins/errors.ts';
+import { EarmarkError } from '../errors/index.ts';
+import { clientProblem, errorsPlugin, frameworkProblem, rawProblem } from './plugins/errors.ts';
 import { healthPlugin } from './plugins/health.ts';
 import { jobsPlugin } from './plugins/jobs.ts';
 import { jsonBodyPlugin } from './plugins/json-body.ts';
@@ -33,7 +36,29 @@ export async function buildApp(config: Config, deps: AppDeps, logger?: Logger): 
     requestIdHeader: false,
     bodyLimit: 1024 * 1024,
     return503OnClosing: true,
+    // A whole request must arrive within requestTimeoutMs (generous: multi-GB uploads on slow
+    // links); the idle bound below is what stops stalled ones.
+    requestTimeout: config.requestTimeoutMs,
+    connectionTimeout: config.bodyTimeoutMs,
+    keepAliveTimeout: Math.min(72_000, config.bodyTimeoutMs),
+    frameworkErrors: frameworkProblem,
+    clientErrorHandler: (error: NodeJS.ErrnoException, socket) => {
+      if (error.code === 'ECONNRESET' || socket.destroyed) return;
+      if (socket.writable && socket.bytesWritten === 0) socket.write(rawProblem(clientProblem(error)));
+      socket.destroy();
+    },
   });
+  // Idle connection (connectionTimeout): with a request still open (a stalled upload) it gets a
+  // 408 and the socket is closed, which ends the upload and removes its temp file.
+  app.server.on('timeout', (socket: Socket) => {
+    const open = openResponses.get(socket);
+    openResponses.delete(socket);
+    if (open && !open.headersSent && socket.writable) socket.end(rawProblem(new EarmarkError('request_timeout', `nothing arrived for ${config.bodyTimeoutMs} ms`)), () => socket.destroy());
+    else socket.destroy();
+  });
+  const openResponses = new WeakMap<Socket, ServerResponse>();
+  app.addHook('onRequest', async (request, reply) => { openResponses.set(request.raw.socket, reply.raw); });
+  app.addHook('onResponse', async (request) => { openResponses.delete(request.raw.socket); });
   app.addHook('onSend', async (request, reply) => { reply.header('x-request-id', request.id); });
   await app.register(Object.assign(errorsPlugin, { [Symbol.for('skip-override')]: true }));
   await app.register(jsonBodyPlugin());
@@ -44,7 +69,7 @@ export async function buildApp(config: Config, deps: AppDeps, logger?: Logger): 
   await app.register(metricsPlugin(deps));
   await app.register(healthPlugin(deps));
   await app.register(openapiPlugin());
-  await app.register(jobsPlugin(deps, config.uploadLimitBytes));
+  await app.register(jobsPlugin(deps, config.uploadLimitBytes, config.bodyTimeoutMs));
   await app.register(profilesPlugin(deps));
   await app.register(reportViewsPlugin(deps));
   await app.register(pagesPlugin());

@@ -22,6 +22,13 @@ export async function startApi(config: Config, logger?: Logger): Promise<Running
   redis.on('error', (error) => log('redis connection error', error));
   await waitReady(redis, 5_000);
   const storage = await openStorage(config.storageDir);
+  // Partial uploads of a killed process, then of requests that died without cleaning up: no live
+  // upload goes a body timeout without a write (the connection would have been closed).
+  const partialAgeMs = config.bodyTimeoutMs * 2;
+  const sweepPartials = () => storage.sweepPartials(partialAgeMs).then((n) => { if (n > 0) app?.log.info({ removed: n }, 'partial uploads removed'); }, () => undefined);
+  await sweepPartials();
+  const sweeper = setInterval(sweepPartials, Math.max(1_000, Math.min(partialAgeMs, 10 * 60_000)));
+  sweeper.unref();
   const queue = createAnalysisQueue(redis, config, (error) => log('analysis queue error', error));
   const deps: AppDeps = {
     redis, queue, storage,
@@ -35,6 +42,7 @@ export async function startApi(config: Config, logger?: Logger): Promise<Running
   return {
     app: running, deps, url: address.replace('0.0.0.0', '127.0.0.1'),
     async close() {
+      clearInterval(sweeper);
       let timer: NodeJS.Timeout | undefined;
       await Promise.race([running.close(), new Promise((resolve) => { timer = setTimeout(resolve, config.shutdownTimeoutMs); })]);
       clearTimeout(timer);

@@ -23,6 +23,12 @@ export interface Config {
   uploadLimitBytes: number;
   fetchLimitBytes: number;
   fetchTimeoutMs: number;
+  /** Whole-fetch bound of a sourceUrl, however steadily it drips. */
+  fetchDeadlineMs: number;
+  /** API: whole request (headers and body) must arrive within this. */
+  requestTimeoutMs: number;
+  /** API: a connection that sends or receives nothing for this long is closed (408 if a request is open). */
+  bodyTimeoutMs: number;
   urlAllowlist: string[];
   workerConcurrency: number;
   retentionHours: number;
@@ -95,6 +101,11 @@ function secrets(env: Env): Record<string, string> {
   return value as Record<string, string>;
 }
 
+/** Exported alone: the sandboxed fetch reads it from its inherited environment. */
+export function fetchDeadlineMs(env: Env = process.env): number {
+  return int(env, 'EARMARK_FETCH_DEADLINE_MS', 10 * 60_000, 100);
+}
+
 /** Exported alone: the sandboxed analysis child reads these from its inherited environment. */
 export function childRssLimitMb(env: Env = process.env): number {
   return int(env, 'EARMARK_CHILD_RSS_LIMIT_MB', 512, 64);
@@ -124,6 +135,9 @@ export function loadConfig(env: Env = process.env): Config {
     uploadLimitBytes,
     fetchLimitBytes: int(env, 'EARMARK_FETCH_LIMIT_BYTES', uploadLimitBytes, 1),
     fetchTimeoutMs: int(env, 'EARMARK_FETCH_TIMEOUT_MS', 60_000, 100),
+    fetchDeadlineMs: fetchDeadlineMs(env),
+    requestTimeoutMs: int(env, 'EARMARK_REQUEST_TIMEOUT_MS', 4 * 3600_000, 1_000),
+    bodyTimeoutMs: int(env, 'EARMARK_BODY_TIMEOUT_MS', 60_000, 200),
     urlAllowlist: (env.EARMARK_URL_ALLOWLIST ?? '').split(',').map((s) => s.trim()).filter(Boolean),
     workerConcurrency: int(env, 'EARMARK_WORKER_CONCURRENCY', 1, 1, 64),
     retentionHours: int(env, 'EARMARK_RETENTION_HOURS', 24, 1, 24 * 365),

@@ -21,6 +21,8 @@ export interface Storage {
   remove(key: string): Promise<void>;
   /** Deletes uploads and reports older than maxAgeMs; returns how many went. */
   sweep(maxAgeMs: number): Promise<number>;
+  /** Deletes partial files (uploads in progress, reports being written) untouched for maxAgeMs. */
+  sweepPartials(maxAgeMs: number): Promise<number>;
   checkWritable(): Promise<boolean>;
 }
 
@@ -58,17 +60,22 @@ export class LocalStorage implements Storage {
     // Through a PassThrough: a failed write destroys it, not the client's stream, which is then
     // drained so the client can read the answer instead of a reset connection.
     const input = source.pipe(new PassThrough());
-    // pipe() does not pass on a source destroyed mid-file (client gone, multipart limit hit).
-    const aborted = () => { if (!source.readableEnded) input.destroy(new SourceAborted()); };
-    source.once('close', aborted).once('error', aborted);
+    // pipe() does not pass on a source destroyed mid-file (client gone, multipart limit hit);
+    // a typed reason (a fetch deadline) is kept.
+    const aborted = (reason?: unknown) => { if (!source.readableEnded) input.destroy(reason instanceof EarmarkError ? reason : new SourceAborted()); };
+    // A multipart file stream cut at its size limit emits 'limit' and then nothing until the
+    // part ends in the body, which an abandoned or endless body never does: stop at once.
+    const overLimit = () => input.destroy(new LimitError());
+    source.once('close', aborted).once('error', aborted).once('limit', overLimit);
     if (source.destroyed) aborted();
     try {
       await pipeline(input, counter, (chunks) => writeChunksToNewFile(tmp, chunks));
       if (isTruncated?.()) throw new LimitError();
+      source.off('close', aborted).off('error', aborted).off('limit', overLimit);
       await rename(tmp, this.pathOf(key));
       return { key, sizeBytes, sha256: hash.digest('hex') };
     } catch (error) {
-      source.off('close', aborted).off('error', aborted);
+      source.off('close', aborted).off('error', aborted).off('limit', overLimit);
       source.unpipe(input);
       source.resume();
       // A broken temp folder (ENOTDIR, EACCES) must not stop the answer.
@@ -104,10 +111,20 @@ export class LocalStorage implements Storage {
     await rm(this.pathOf(key), { force: true });
   }
 
-  async sweep(maxAgeMs: number): Promise<number> {
+  sweep(maxAgeMs: number): Promise<number> {
+    return this.sweepDirs(['uploads', 'reports', 'tmp'], maxAgeMs);
+  }
+
+  /** An upload's temp file is written to at least once per body timeout while it lives (mtime),
+   * so one older than that belongs to a dead request or a killed process. */
+  sweepPartials(maxAgeMs: number): Promise<number> {
+    return this.sweepDirs(['tmp'], maxAgeMs);
+  }
+
+  private async sweepDirs(dirs: string[], maxAgeMs: number): Promise<number> {
     const cutoff = Date.now() - maxAgeMs;
     let removed = 0;
-    for (const dir of ['uploads', 'reports', 'tmp']) {
+    for (const dir of dirs) {
       const names = await readdir(join(this.rootDir, dir)).catch(() => [] as string[]);
       for (const name of names) {
         const path = join(this.rootDir, dir, name);

@@ -3,6 +3,7 @@
 import type { MultipartFile } from '@fastify/multipart';
 import { Ajv } from 'ajv';
 import type { FastifyInstance, FastifyRequest } from 'fastify';
+import type { IncomingMessage } from 'node:http';
 import type { Job } from 'bullmq';
 import { EarmarkError } from '../../errors/index.ts';
 import type { AnalyzeJobV1, AnalyzeResultV1 } from '../../queue/contract.ts';
@@ -63,13 +64,69 @@ const MAX_FIELDS = 10;
 
 const cleanName = (name: string | undefined) => (name ?? 'upload').replace(/[^\w .()-]/g, '_').slice(0, 200) || 'upload';
 
-async function readMultipart(deps: AppDeps, request: FastifyRequest, limitBytes: number): Promise<{ stored: StoredFile; fileName: string; input: SubmitInput }> {
+/** Room for the form's other parts and boundaries on top of the file's limit. */
+const FORM_SLACK_BYTES = 1024 * 1024;
+
+/** The whole multipart body is bounded too: an endless one (chunked, never terminated) whose
+ * bytes are not a file part (a huge preamble or field) would otherwise be read for ever. */
+function bodyBudget(request: FastifyRequest, maxBytes: number): { exceeded: Promise<never>; stop(): void } {
+  let received = 0;
+  let fail: (error: EarmarkError) => void = () => undefined;
+  const exceeded = new Promise<never>((_resolve, reject) => { fail = reject; });
+  exceeded.catch(() => undefined);
+  const onData = (chunk: Buffer) => {
+    received += chunk.length;
+    if (received > maxBytes) {
+      request.raw.off('data', onData);
+      fail(new EarmarkError('payload_too_large', `the request body is larger than ${maxBytes} bytes`, { limitBytes: maxBytes }));
+    }
+  };
+  // Added after parts() has piped the body into the parser, so no byte is missed by either.
+  request.raw.on('data', onData);
+  return { exceeded, stop: () => request.raw.off('data', onData) };
+}
+
+const DRAIN_BEFORE_ANSWER_BYTES = 8 * 1024 * 1024;
+
+/** Reads and drops the rest of a refused body, up to maxBytes and while it keeps coming: a
+ * client that stalls gets its answer after idleMs all the same. */
+function drainBeforeAnswer(raw: IncomingMessage, maxBytes: number, idleMs: number): Promise<void> {
+  return new Promise((resolve) => {
+    if (raw.complete || raw.destroyed) { resolve(); return; }
+    let drained = 0;
+    const done = () => {
+      clearTimeout(timer);
+      raw.off('data', onData).off('end', done).off('close', done);
+      raw.pause();
+      resolve();
+    };
+    const onData = (chunk: Buffer) => {
+      drained += chunk.length;
+      if (drained > maxBytes) done();
+      else timer.refresh();
+    };
+    const timer = setTimeout(done, idleMs);
+    raw.on('data', onData).once('end', done).once('close', done);
+    raw.resume();
+  });
+}
+
+async function readMultipart(deps: AppDeps, request: FastifyRequest, limitBytes: number, drainIdleMs: number): Promise<{ stored: StoredFile; fileName: string; input: SubmitInput }> {
   let stored: StoredFile | null = null;
   let fileName = 'upload';
   let problem: EarmarkError | null = null;
   const fields: Record<string, string> = {};
+  // Without a boundary the parser cannot start; say so instead of a parser error.
+  if (!/;\s*boundary=/i.test(String(request.headers['content-type'] ?? ''))) {
+    throw new EarmarkError('validation_failed', 'multipart/form-data needs a boundary parameter', { field: 'content-type' });
+  }
+  const parts = request.parts()[Symbol.asyncIterator]();
+  const budget = bodyBudget(request, limitBytes + FORM_SLACK_BYTES);
   try {
-    for await (const part of request.parts()) {
+    for (;;) {
+      const next = await Promise.race([parts.next(), budget.exceeded]);
+      if (next.done) break;
+      const part = next.value;
       if (part.type === 'file') {
         const file = part as MultipartFile;
         if (file.fieldname !== 'file' || stored || problem) {
@@ -82,6 +139,9 @@ async function readMultipart(deps: AppDeps, request: FastifyRequest, limitBytes:
           problem ??= error instanceof EarmarkError ? error : new EarmarkError('storage_unavailable', 'the upload could not be stored');
           return null;
         });
+        // Over the limit: answer now rather than read a body that may never end.
+        const refused = problem as EarmarkError | null;
+        if (refused?.code === 'payload_too_large') throw refused;
         fileName = cleanName(file.filename);
       } else if (Object.keys(fields).length >= MAX_FIELDS) {
         problem ??= new EarmarkError('validation_failed', `the form has more than ${MAX_FIELDS} fields`, { field: part.fieldname });
@@ -102,10 +162,20 @@ async function readMultipart(deps: AppDeps, request: FastifyRequest, limitBytes:
     return { stored, fileName, input: input as unknown as SubmitInput };
   } catch (error) {
     if (stored) await deps.storage.remove(stored.key).catch(() => undefined);
-    // A multipart limit stops the parser mid-body: read the rest (bounded by the server's
-    // request timeout) so the client gets the answer instead of a broken pipe.
-    request.raw.resume();
+    if (error instanceof EarmarkError && error.code === 'payload_too_large') {
+      request.raw.unpipe();
+      // A declared body a little over the limit is read to its end first: most clients read the
+      // answer only once they have sent everything. An endless or far larger one is answered now.
+      const declared = Number(request.headers['content-length'] ?? NaN);
+      if (declared <= limitBytes + FORM_SLACK_BYTES + DRAIN_BEFORE_ANSWER_BYTES) await drainBeforeAnswer(request.raw, DRAIN_BEFORE_ANSWER_BYTES, drainIdleMs);
+    } else {
+      // A multipart limit stops the parser mid-body: read the rest (bounded by the idle and
+      // request timeouts) so the client gets the answer instead of a broken pipe.
+      request.raw.resume();
+    }
     throw error;
+  } finally {
+    budget.stop();
   }
 }
 
@@ -132,14 +202,16 @@ function decodeCursor(raw: string): { scoreMs: number; id: string } {
   return { scoreMs: Number(match[1]), id: match[2] };
 }
 
-export function jobsPlugin(deps: AppDeps, uploadLimitBytes: number) {
+export function jobsPlugin(deps: AppDeps, uploadLimitBytes: number, bodyTimeoutMs = 60_000) {
+  // Shorter than the idle timeout, so a stalled over-limit upload hears 413, not 408.
+  const drainIdleMs = Math.min(5_000, Math.floor(bodyTimeoutMs / 2));
   return async (app: FastifyInstance) => {
     route(app, jobSpecs.submit, async (request, reply) => {
       const { tenant } = principalOf(request);
       const idempotencyKey = typeof request.headers['idempotency-key'] === 'string' ? request.headers['idempotency-key'].slice(0, 200) : undefined;
       let result;
       if (request.isMultipart()) {
-        const { stored, fileName, input } = await readMultipart(deps, request, uploadLimitBytes);
+        const { stored, fileName, input } = await readMultipart(deps, request, uploadLimitBytes, drainIdleMs);
         try {
           result = await submitJob(deps, tenant, input, { kind: 'upload', storageKey: stored.key, fileName, sizeBytes: stored.sizeBytes, sha256: stored.sha256 }, idempotencyKey);
         } catch (error) {
