@@ -113,9 +113,9 @@ export async function startWorker(config: Config, log: Logger): Promise<WorkerRu
     await webhookQueue.add(DELIVER_WEBHOOK_V1, { jobId, tenant: job.data.tenant, url: job.data.callbackUrl, event, deliveryId, body }, { jobId: deliveryId });
   }
 
-  // The job as it will read once committed (BullMQ sets these fields in moveToCompleted/moveToFailed).
+  // The job as it will read once committed (moveToCompleted/moveToFailed set these and count the attempt).
   const asFinished = (job: AnalysisJob, fields: Partial<AnalysisJob>): AnalysisJob =>
-    Object.assign(Object.create(job) as AnalysisJob, { finishedOn: Date.now(), ...fields });
+    Object.assign(Object.create(job) as AnalysisJob, { finishedOn: Date.now(), attemptsMade: job.attemptsMade + 1, ...fields });
 
   const settlement: Settlement = {
     async completed(job, result) {
@@ -129,7 +129,7 @@ export async function startWorker(config: Config, log: Logger): Promise<WorkerRu
     async failed(job, error) {
       const jobId = String(job.id);
       await store.recordFinished(jobId, 'failed', null);
-      const view = jobView(asFinished(job, { failedReason: error.message, attemptsMade: job.attemptsMade + 1 }), 'failed', []);
+      const view = jobView(asFinished(job, { failedReason: error.message }), 'failed', []);
       await enqueueWebhook(job, 'job.failed', view);
     },
   };

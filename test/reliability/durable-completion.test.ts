@@ -20,14 +20,17 @@ afterEach(async () => {
   for (const c of cleanups.splice(0).reverse()) await c();
 });
 
-interface Receiver { url: string; posts: Array<{ delivery: string; event: string }>; close(): Promise<void> }
+interface Post { delivery: string; event: string; job: { id: string; state: string; attemptsMade: number; finishedAt: string | null } }
+interface Receiver { url: string; posts: Post[]; close(): Promise<void> }
 
 async function startReceiver(): Promise<Receiver> {
   const posts: Receiver['posts'] = [];
   const server: Server = createServer((req, res) => {
-    req.resume();
+    const chunks: Buffer[] = [];
+    req.on('data', (chunk: Buffer) => chunks.push(chunk));
     req.on('end', () => {
-      posts.push({ delivery: String(req.headers['earmark-delivery']), event: String(req.headers['earmark-event']) });
+      const body = JSON.parse(Buffer.concat(chunks).toString('utf8')) as { job: Post['job'] };
+      posts.push({ delivery: String(req.headers['earmark-delivery']), event: String(req.headers['earmark-event']), job: body.job });
       res.writeHead(204).end();
     });
   });
@@ -42,7 +45,7 @@ function worker(env: Record<string, string>): ServiceProcess {
   return p;
 }
 
-type JobBody = { state: string; progressPercent?: number; callback?: { deliveries: Array<{ deliveryId: string; outcome: string }> }; error?: { code: string } };
+type JobBody = { state: string; attemptsMade: number; progressPercent?: number; callback?: { deliveries: Array<{ deliveryId: string; outcome: string }> }; error?: { code: string } };
 const jobState = async (api: Client, id: string) => (await api.get(`/v1/jobs/${id}`, KEYS.alpha)).body as JobBody;
 
 const TRIALS = Number(process.env.EARMARK_DURABLE_TRIALS ?? 1);
@@ -93,6 +96,9 @@ describe('durable completion', () => {
         expect(posts.length).toBeGreaterThanOrEqual(1);
         expect(new Set(posts.map((p) => p.delivery))).toEqual(new Set([deliveryIdOf(id, event)]));
         expect(posts.every((p) => p.event === event)).toBe(true);
+        // The body reads as the committed job does (it is written just before the commit).
+        expect(posts[0].job).toMatchObject({ id, state: c.outcome, attemptsMade: delivered.attemptsMade });
+        expect(posts[0].job.finishedAt).toBeTruthy();
         expect(await store.finishedOutcome(id)).toBe(c.outcome);
         if (c.outcome === 'completed') {
           expect(await store.getReport(id)).toBeTruthy();
