@@ -34,6 +34,8 @@ beforeAll(async () => {
       // 1 KiB every 0.2 s: never idle long enough for the idle timeout.
       const timer = setInterval(() => res.write(Buffer.alloc(1024)), 200);
       res.on('close', () => clearInterval(timer));
+    } else if (req.url === '/cut.wav') {
+      res.write(Buffer.alloc(100), () => res.destroy()); // the connection drops mid-file
     } else {
       res.write(Buffer.alloc(100)); // then nothing
     }
@@ -120,6 +122,13 @@ describe('sourceUrl deadlines', () => {
     expect(hits.get('/stall.wav')).toBe(2);
   }, 30_000);
 
+  it('a source whose connection drops mid-file fails as source_fetch_failed, retried (the network, not the client)', async () => {
+    const submit = await api.postJson('/v1/jobs', { sourceUrl: `${originUrl}/cut.wav`, profile: 'ebu-r128' }, KEYS.alpha);
+    const job = await jobOutcome(submit.body.id);
+    expect(job.error?.code).toBe('source_fetch_failed');
+    expect(job.attemptsMade).toBe(2);
+  }, 30_000);
+
   it('a sourceUrl with a malformed percent escape is refused at submit (400), never queued', async () => {
     for (const path of ['/a%zz.wav', '/%E0%A4.wav']) {
       const res = await api.postJson('/v1/jobs', { sourceUrl: `${originUrl}${path}`, profile: 'ebu-r128' }, KEYS.alpha);
@@ -177,6 +186,34 @@ describe('upload deadlines and limits', () => {
     expect(c.received()).toMatch(/content-type: application\/problem\+json/i);
     expect(bodyOf(c.received()).code).toBe('request_timeout');
     await until(async () => tmpFiles().length === 0, 50);
+  });
+
+  it('100 stalled uploads: every one closed with 408 after the body timeout; temp files and descriptors back to where they were', async () => {
+    const fds = () => readdirSync('/proc/self/fd').length;
+    const before = fds();
+    const conns = await Promise.all(Array.from({ length: 100 }, async () => {
+      const c = await rawConnection();
+      await write(c.socket, multipartHead(LIMIT - 1024));
+      await write(c.socket, partsBefore);
+      await write(c.socket, Buffer.alloc(16 * 1024, 1));
+      return c;
+    }));
+    const peakTmp = await until(async () => { const n = tmpFiles().length; return n >= 100 ? n : null; }, 20);
+    const peakFds = fds();
+    await Promise.all(conns.map((c) => c.closed));
+    expect(conns.map((c) => statusOf(c.received())).filter((st) => st !== 408)).toEqual([]);
+    await until(async () => tmpFiles().length === 0, 50);
+    const after = await until(async () => { const n = fds(); return n <= before + 5 ? n : null; }, 50);
+    console.log(`[deadlines stalled uploads] 100 stalled: peak ${peakTmp} temp files, descriptors ${before} -> ${peakFds} -> ${after} (this process holds both ends); after the body timeout: 100 x 408, 0 temp files`);
+  });
+
+  it('headers larger than the parser allows: 431 problem+json', async () => {
+    const c = await rawConnection();
+    c.socket.write(`GET /healthz HTTP/1.1\r\nHost: 127.0.0.1\r\nX-Big: ${'h'.repeat(20_000)}\r\n\r\n`);
+    await c.closed;
+    expect(statusOf(c.received())).toBe(431);
+    expect(bodyOf(c.received()).code).toBe('headers_too_large');
+    expect(c.received().split('h'.repeat(10)).length).toBe(1);
   });
 
   it.each([

@@ -47,7 +47,12 @@ export function clientProblem(error: NodeJS.ErrnoException): EarmarkError {
 export function sendProblem(reply: FastifyReply, request: FastifyRequest, error: EarmarkError): FastifyReply {
   const body = problemBody(error, request);
   if (error.code === 'service_unavailable' || error.code === 'storage_unavailable' || error.code === 'storage_full') reply.header('retry-after', '5');
-  if (error.code === 'payload_too_large') drainThenClose(request, reply);
+  if (error.code === 'payload_too_large') {
+    // Fastify's body parser asks to close at once, which can reset the connection before the
+    // client reads the 413: the bounded drain closes it instead.
+    reply.removeHeader('connection');
+    drainThenClose(request, reply);
+  }
   return reply.code(body.status as number).type('application/problem+json').send(JSON.stringify(body));
 }
 
