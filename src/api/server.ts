@@ -21,10 +21,11 @@ export async function startApi(config: Config, logger?: Logger): Promise<Running
   const log = (message: string, error: Error) => app?.log.warn({ err: { message: error.message } }, message);
   redis.on('error', (error) => log('redis connection error', error));
   await waitReady(redis, 5_000);
-  const storage = await openStorage(config.storageDir);
-  // Partial uploads of a killed process, then of requests that died without cleaning up: no live
-  // upload goes a body timeout without a write (the connection would have been closed).
-  const partialAgeMs = config.bodyTimeoutMs * 2;
+  const storage = await openStorage(config.storageDir, { partialTouchMs: Math.min(10_000, Math.floor(config.bodyTimeoutMs / 2)) });
+  // Partial uploads of a killed process, then of requests that died without cleaning up: a live
+  // transfer's temp file is touched while bytes arrive, and they arrive at least once per body
+  // (upload) or fetch (sourceUrl, in a worker) idle timeout, or the transfer is ended.
+  const partialAgeMs = 2 * Math.max(config.bodyTimeoutMs, config.fetchTimeoutMs);
   const sweepPartials = () => storage.sweepPartials(partialAgeMs).then((n) => { if (n > 0) app?.log.info({ removed: n }, 'partial uploads removed'); }, () => undefined);
   await sweepPartials();
   const sweeper = setInterval(sweepPartials, Math.max(1_000, Math.min(partialAgeMs, 10 * 60_000)));

@@ -3,7 +3,7 @@
 // never taken from a client, so a key can always be mapped to a path safely.
 
 import { createHash, randomUUID } from 'node:crypto';
-import { access, constants, mkdir, readdir, readFile, rename, rm, stat, writeFile } from 'node:fs/promises';
+import { access, constants, mkdir, readdir, readFile, rename, rm, stat, utimes, writeFile } from 'node:fs/promises';
 import { join } from 'node:path';
 import { PassThrough, type Readable } from 'node:stream';
 import { pipeline } from 'node:stream/promises';
@@ -31,8 +31,18 @@ const KEY = /^(uploads|reports)\/[A-Za-z0-9_-]+(\.json)?$/;
 class LimitError extends Error {}
 class SourceAborted extends Error {}
 
+export interface StorageOptions {
+  /** A temp file being written is touched (mtime) at least this often while bytes arrive, even
+   * between the writer's 1 MiB blocks, so the partial-file sweep can tell live from dead. */
+  partialTouchMs?: number;
+}
+
 export class LocalStorage implements Storage {
-  constructor(readonly rootDir: string) {}
+  private readonly partialTouchMs: number;
+
+  constructor(readonly rootDir: string, options: StorageOptions = {}) {
+    this.partialTouchMs = options.partialTouchMs ?? 10_000;
+  }
 
   async init(): Promise<this> {
     for (const dir of ['uploads', 'reports', 'tmp']) await mkdir(join(this.rootDir, dir), { recursive: true });
@@ -49,11 +59,18 @@ export class LocalStorage implements Storage {
     const tmp = join(this.rootDir, 'tmp', randomUUID());
     let sizeBytes = 0;
     const hash = createHash('sha256');
+    const touchMs = this.partialTouchMs;
+    let touchedAt = Date.now();
     const counter = async function* (chunks: AsyncIterable<Buffer>) {
       for await (const chunk of chunks) {
         sizeBytes += chunk.length;
         hash.update(chunk);
         if (sizeBytes > limitBytes) throw new LimitError();
+        if (Date.now() - touchedAt >= touchMs) {
+          touchedAt = Date.now();
+          const now = new Date(touchedAt);
+          await utimes(tmp, now, now).catch(() => undefined);
+        }
         yield chunk;
       }
     };
@@ -115,8 +132,9 @@ export class LocalStorage implements Storage {
     return this.sweepDirs(['uploads', 'reports', 'tmp'], maxAgeMs);
   }
 
-  /** An upload's temp file is written to at least once per body timeout while it lives (mtime),
-   * so one older than that belongs to a dead request or a killed process. */
+  /** A live upload's temp file is touched while bytes arrive, and bytes arrive at least once per
+   * body (or fetch) timeout or the transfer is ended: an older one is a dead request's or a
+   * killed process's. */
   sweepPartials(maxAgeMs: number): Promise<number> {
     return this.sweepDirs(['tmp'], maxAgeMs);
   }
@@ -148,9 +166,9 @@ export class LocalStorage implements Storage {
   }
 }
 
-export async function openStorage(rootDir: string): Promise<LocalStorage> {
+export async function openStorage(rootDir: string, options: StorageOptions = {}): Promise<LocalStorage> {
   try {
-    return await new LocalStorage(rootDir).init();
+    return await new LocalStorage(rootDir, options).init();
   } catch (error) {
     throw new EarmarkError('storage_unavailable', 'the storage directory cannot be created', {}, { cause: error });
   }

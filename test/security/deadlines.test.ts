@@ -188,6 +188,23 @@ describe('upload deadlines and limits', () => {
     await until(async () => tmpFiles().length === 0, 50);
   });
 
+  it('a slow but live upload outlasts the partial-file sweep (its temp file is touched while bytes arrive)', async () => {
+    // 24 x 1 KiB, one every 0.3 s: 7 s, past the sweep's age (2 x 1.5 s) and well under one 1 MiB write block.
+    const tail = Buffer.from(`\r\n--${BOUNDARY}--\r\n`);
+    const fileBytes = 24 * 1024;
+    const c = await rawConnection();
+    await write(c.socket, multipartHead(partsBefore.length + fileBytes + tail.length));
+    await write(c.socket, partsBefore);
+    for (let i = 0; i < 24; i++) {
+      await write(c.socket, Buffer.alloc(1024, 1));
+      await sleep(300);
+    }
+    await write(c.socket, tail);
+    await until(async () => statusOf(c.received()) !== 0 && c.received().trimEnd().endsWith('}'), 20);
+    expect(statusOf(c.received())).toBe(202);
+    c.socket.destroy();
+  }, 30_000);
+
   it('100 stalled uploads: every one closed with 408 after the body timeout; temp files and descriptors back to where they were', async () => {
     const fds = () => readdirSync('/proc/self/fd').length;
     const before = fds();
@@ -321,7 +338,7 @@ describe('partial uploads left by a killed process', () => {
     writeFileSync(join(dir, 'tmp', 'old-partial'), Buffer.alloc(1024));
     utimesSync(join(dir, 'tmp', 'old-partial'), old, old);
     writeFileSync(join(dir, 'tmp', 'fresh-partial'), Buffer.alloc(1024));
-    const config = loadConfig(testEnv(dir, { EARMARK_BODY_TIMEOUT_MS: '500' }));
+    const config = loadConfig(testEnv(dir, { EARMARK_BODY_TIMEOUT_MS: '500', EARMARK_FETCH_TIMEOUT_MS: '500' }));
     const running = await startApi(config, pino({ level: 'silent' }));
     try {
       expect(readdirSync(join(dir, 'tmp'))).toEqual(['fresh-partial']);
