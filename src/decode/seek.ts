@@ -148,6 +148,9 @@ function frameSample(b: Uint8Array, o: number, s: FlacStream): number {
 
 interface FoundFrame { offset: number; sample: number }
 
+/** A frame is at most this long (STREAMINFO's largest frame, else 8 channels of 65535 32-bit samples). */
+const frameReach = (s: FlacStream): number => (s.maxFrameBytes || 4 * 1024 * 1024) + 16;
+
 const SCAN_WINDOW_BYTES = 256 * 1024;
 
 /**
@@ -156,8 +159,7 @@ const SCAN_WINDOW_BYTES = 256 * 1024;
  * CRC-8 one time in 256, two consecutive ones practically never.
  */
 async function findFrame(path: string, s: FlacStream, from: number, limit: number): Promise<FoundFrame | null> {
-  // A frame is at most this long; no header found that far means none is there.
-  const reach = (s.maxFrameBytes || 4 * 1024 * 1024) + 16;
+  const reach = frameReach(s);
   let candidateFloor = from;
   while (candidateFloor < limit) {
     const windowBytes = Math.min(SCAN_WINDOW_BYTES, limit - candidateFloor) + reach;
@@ -201,7 +203,8 @@ async function flacStartFrame(path: string, s: FlacStream, target: number, fileB
     // Interpolate by samples, every other step bisect by bytes: silence packs long spans into few bytes.
     const share = step % 2 === 0 && hiSample < Infinity ? (target - lo.sample) / (hiSample - lo.sample) : 0.5;
     const pos = Math.min(hiOffset - 1, Math.max(lo.offset + 1, Math.floor(lo.offset + share * (hiOffset - lo.offset))));
-    const found = await findFrame(path, s, pos, hiOffset);
+    // Every byte of the stream is inside a frame, so a real header follows `pos` within one frame's length: look no further.
+    const found = await findFrame(path, s, pos, Math.min(hiOffset, pos + frameReach(s)));
     if (found && found.sample <= target && found.sample > lo.sample) lo = found;
     else if (found && found.sample > target) { hiOffset = found.offset; hiSample = Math.min(hiSample, found.sample); }
     else hiOffset = pos; // no frame starts in [pos, hiOffset)
