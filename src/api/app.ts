@@ -39,6 +39,8 @@ export async function buildApp(config: Config, deps: AppDeps, logger?: Logger): 
     // A whole request must arrive within requestTimeoutMs (generous: multi-GB uploads on slow
     // links); the idle bound below is what stops stalled ones.
     requestTimeout: config.requestTimeoutMs,
+    // Node checks both bounds on this interval (30 s by default: too coarse for short settings).
+    http: { connectionsCheckingInterval: Math.min(30_000, Math.max(250, Math.floor(config.requestTimeoutMs / 4))), headersTimeout: Math.min(60_000, config.requestTimeoutMs) },
     connectionTimeout: config.bodyTimeoutMs,
     keepAliveTimeout: Math.min(72_000, config.bodyTimeoutMs),
     frameworkErrors: frameworkProblem,

@@ -272,6 +272,30 @@ describe('upload deadlines and limits', () => {
   });
 });
 
+describe('the whole-request timeout', () => {
+  it('an upload that keeps dripping past EARMARK_REQUEST_TIMEOUT_MS gets 408 problem+json and its temp file goes', async () => {
+    const slow = await startService({ worker: false, env: { EARMARK_RATE_LIMIT_PER_MINUTE: '0', EARMARK_REQUEST_TIMEOUT_MS: '1500', EARMARK_BODY_TIMEOUT_MS: '10000' } });
+    try {
+      const socket = connect(Number(new URL(slow.url).port), '127.0.0.1');
+      let text = '';
+      socket.on('data', (d) => { text += d.toString('latin1'); });
+      socket.on('error', () => undefined);
+      const closed = new Promise<void>((done) => socket.once('close', () => done()));
+      socket.write(multipartHead(LIMIT));
+      socket.write(partsBefore);
+      // 1 KiB every 0.2 s: never idle, never done.
+      const timer = setInterval(() => { if (!socket.destroyed) socket.write(Buffer.alloc(1024, 1)); }, 200);
+      await closed;
+      clearInterval(timer);
+      expect(statusOf(text)).toBe(408);
+      expect(bodyOf(text).code).toBe('request_timeout');
+      await until(async () => readdirSync(join(slow.dir, 'tmp')).length === 0, 50);
+    } finally {
+      await slow.close();
+    }
+  });
+});
+
 describe('typed errors for what the parser and router refuse', () => {
   it('multipart without a boundary: 400 problem+json', async () => {
     const res = await api.postJson('/v1/jobs', 'x', KEYS.alpha, { 'content-type': 'multipart/form-data' });
