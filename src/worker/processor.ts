@@ -54,7 +54,7 @@ export default async function analyzeJob(job: SandboxedJob<AnalyzeJobV1, Analyze
       fileName = data.source.fileName;
       knownSha256 = data.source.sha256;
     } else {
-      const fetched = await fetchSource(policy, storage, data.source.url, config.fetchLimitBytes, config.fetchTimeoutMs);
+      const fetched = await fetchSource(policy, storage, data.source.url, config.fetchLimitBytes, config.fetchTimeoutMs, config.fetchDeadlineMs);
       fetchedKey = fetched.key;
       sourceKey = fetched.key;
       path = storage.pathOf(fetched.key);

@@ -134,7 +134,8 @@ export async function startWorker(config: Config, log: Logger): Promise<WorkerRu
     },
   };
 
-  const childSettings: ChildSettings = { storageDir: config.storageDir, urlAllowlist: config.urlAllowlist, fetchLimitBytes: config.fetchLimitBytes, fetchTimeoutMs: config.fetchTimeoutMs };
+  const childSettings: ChildSettings = { storageDir: config.storageDir, urlAllowlist: config.urlAllowlist, fetchLimitBytes: config.fetchLimitBytes, fetchTimeoutMs: config.fetchTimeoutMs,
+    fetchDeadlineMs: config.fetchDeadlineMs, childRssLimitMb: config.childRssLimitMb, maxDecodedSeconds: config.maxDecodedSeconds };
   const analysis = new AnalysisWorker(PROCESSOR_FILE, {
     connection: redis,
     prefix: config.queuePrefix,

@@ -25,8 +25,6 @@ let originUrl: string;
 const hits = new Map<string, number>();
 
 beforeAll(async () => {
-  // The sandboxed fetch inherits the worker's environment; the deadline is read there.
-  process.env.EARMARK_FETCH_DEADLINE_MS = '2500';
   origin = createServer((req, res) => {
     hits.set(req.url ?? '', (hits.get(req.url ?? '') ?? 0) + 1);
     res.writeHead(200, { 'content-type': 'audio/wav', 'content-length': String(64 * 1024 * 1024) });
@@ -55,7 +53,6 @@ afterAll(async () => {
   await svc?.close();
   origin?.closeAllConnections();
   await new Promise((resolve) => origin?.close(resolve));
-  delete process.env.EARMARK_FETCH_DEADLINE_MS;
 });
 
 const port = () => Number(new URL(svc.url).port);
