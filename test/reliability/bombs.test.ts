@@ -43,10 +43,10 @@ describe.skipIf(!hasFfmpeg)('bombs', () => {
   });
 
   it('covers every kind of bomb', () => {
-    expect(cases.map((c) => c.id)).toEqual(['flac-max-frames', 'm4a-falsified-duration', 'm4a-index-last', 'opus-silence', 'vorbis-silence', 'wav-4gib-claim', 'rf64-4tib-claim', 'aiff-huge-claim']);
+    expect(cases.map((c) => c.id)).toEqual(['flac-max-frames', 'm4a-falsified-duration', 'm4a-index-last', 'opus-silence', 'vorbis-silence', 'webm-opus-silence', 'mp3-silence', 'adts-silence', 'wav-4gib-claim', 'rf64-4tib-claim', 'aiff-huge-claim']);
   });
 
-  for (const id of ['flac-max-frames', 'm4a-falsified-duration', 'm4a-index-last', 'opus-silence', 'vorbis-silence', 'wav-4gib-claim', 'rf64-4tib-claim', 'aiff-huge-claim']) {
+  for (const id of ['flac-max-frames', 'm4a-falsified-duration', 'm4a-index-last', 'opus-silence', 'vorbis-silence', 'webm-opus-silence', 'mp3-silence', 'adts-silence', 'wav-4gib-claim', 'rf64-4tib-claim', 'aiff-huge-claim']) {
     it(`${id}: peak RSS within the bound, a report or a typed error`, async () => {
       const c = cases.find((k) => k.id === id)!;
       const o = await analyzeInChild(c.path);
@@ -73,8 +73,7 @@ describe.skipIf(!hasFfmpeg)('bombs', () => {
 // child's RSS, so every job retires its child: the result must still arrive, from a fresh child each time.
 describe('an analysis child above its RSS limit after a job', () => {
   it('delivers the job result, then exits and is replaced for the next job', async () => {
-    process.env.EARMARK_CHILD_RSS_LIMIT_MB = '64';
-    const service = await startService({ worker: true });
+    const service = await startService({ worker: true, env: { EARMARK_CHILD_RSS_LIMIT_MB: '64' } });
     try {
       const file = new Blob([wavBytes(seedSamples(1))], { type: 'audio/wav' });
       const seen: number[] = [];
@@ -102,7 +101,6 @@ describe('an analysis child above its RSS limit after a job', () => {
       expect(new Set(seen).size).toBe(2);
     } finally {
       await service.close();
-      delete process.env.EARMARK_CHILD_RSS_LIMIT_MB;
     }
   }, 120_000);
 });
