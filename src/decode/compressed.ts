@@ -122,7 +122,7 @@ function checkWholeFileCap(p: Probe, fileBytes: number, cap: number): void {
   const estimate = frames < 0 ? null : frames * p.channels * 4;
   if (fileBytes > cap || (estimate !== null && estimate > cap)) {
     throw new EarmarkError('decoded_size_exceeded',
-      `this ${p.encoding} file must be decoded whole (index after the audio) and needs about ${estimate ?? fileBytes} bytes, over the cap of ${cap}`,
+      `this ${p.encoding} file has its index after the audio and would decode to about ${estimate ?? fileBytes} bytes, over the cap of ${cap}`,
       { estimatedBytes: estimate, maxDecodedBytes: cap });
   }
 }
