@@ -53,7 +53,7 @@ export const HALF_SAMPLE_TAPS: readonly number[] = [
 ];
 /** The same taps in input order, x[m - 15] .. x[m + 16]. */
 const STAGE1_FULL = Float64Array.from([...HALF_SAMPLE_TAPS].reverse().concat(HALF_SAMPLE_TAPS));
-const STAGE2_HALF_WIDTH = 4;
+export const STAGE2_HALF_WIDTH = 4;
 const STAGE2_BETA = 6.5;
 /** Grid points per input sample. */
 export const RECONSTRUCTION_OVERSAMPLING = 8;

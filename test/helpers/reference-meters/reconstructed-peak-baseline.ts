@@ -1,102 +1,19 @@
-// The reconstructed peak meter as it was before its WebAssembly kernel (reconstructed-peak.ts),
-// kept verbatim as the baseline the optimised meter must equal to the bit (readings, overs).
-// Reconstructed peak: the peak of the band-limited waveform the samples describe, within 0.05 dB
-// for content below 0.45 fs at any sample rate (the design is in units of fs). The Annex 2
-// example filter (true-peak.ts, kept as the conformance reading) reads up to ~0.3 dB low there.
-//
-// Design: an 8x grid from two interpolation stages, then a parabola at each grid maximum.
-// - Stage 1 (to 2x): the half-sample point u[n], a 32-tap equiripple filter (Parks-McClellan,
-//   unit gain over 0-0.45 fs). The samples themselves pass unchanged.
-// - Stage 2 (to 8x): quarter points of the 2x stream z, a Kaiser-windowed sinc (8 taps per phase,
-//   beta 6.5). Phases 1/4 and 3/4 mirror each other: from pre-added and pre-subtracted tap pairs
-//   they are S + D and S - D, and max(|S + D|, |S - D|) = |S| + |D| exactly.
-// - Refinement: a grid value at least as large as both neighbours becomes the vertex of the
-//   parabola through the three, capped at sec(pi/16) times the value (the most a signal
-//   band-limited to fs/2 rises between 8x grid points), so the cap bounds what it can add.
-// Error budget (measured; the tests check each):
-// - interpolation, max |F(f) - 1| over 0-0.45 fs at any grid phase: 0.00258 (0.022 dB), of which
-//   stage 1's passband ripple is 0.00253;
-// - grid loss left by the parabola, a tone at 0.45 fs: 0.0031 dB (without it 0.136 dB);
-// - in all 0.025 dB. Sines at 32-192 kHz read -0.021..+0.022 dB from their amplitude.
-// Content above 0.45 fs reads low (stage 1 has gain 0.5 at fs/2): hard-clipped full-band noise
-// read 0.23-0.33 dB below a 64x sinc reference (the Annex 2 filter 0.48-0.75 dB).
-// The reading covers t in [0, N) for N frames, zeros outside: ringing after the last frame is
-// not read. Grid points at the samples are the samples, so it never reads below the sample peak.
-//
-// Speed (all exact): a 32-frame chunk is skipped when max|x over its taps| times the cascade's
-// largest per-phase sum |h| (times the cap) cannot beat both the running maximum and the over
-// ceiling, max|x| coming from the block envelope; after stage 1 the same test on max|z| with
-// stage 2's gain; inside a chunk a frame takes the slow path (parabolas) only when cap *
-// max|grid value| beats the gate. Samples are copied to Float64 once (one conversion per sample,
-// not per tap) and stage 1 makes four outputs per pass. On a hard-limited 48 kHz stereo master
-// this measured about twice the Annex 2 meter's time.
+// The reconstructed peak meter's JavaScript loops as they were before its WebAssembly kernel,
+// kept as the baseline the optimised meter must equal to the bit (readings, overs). The design,
+// its error budget and the pruning bounds are described in src/analysis/reconstructed-peak.ts.
 
 import type { Meter, PcmBlock, StreamInfo } from '../../../src/analysis/audio.ts';
 import { ENVELOPE_CHUNK_FRAMES, EnvelopeBuilder } from '../../../src/analysis/envelope.ts';
-import type { AnalysisEvent } from '../../../src/analysis/events.ts';
 import { OverLog } from '../../../src/analysis/overs.ts';
+import {
+  HALF_SAMPLE_TAPS, RECONSTRUCTION_GAIN_BOUND, RECONSTRUCTION_OVERSAMPLING, REFINEMENT_CAP, STAGE2_HALF_WIDTH, quarterPhaseTaps,
+  type ReconstructedPeakOptions, type ReconstructedPeakResult,
+} from '../../../src/analysis/reconstructed-peak.ts';
 
-/**
- * Stage 1: c[k] weighs x[n - k] + x[n + 1 + k] for the point half-way between x[n] and x[n + 1].
- * scipy.signal.remez(32, [0, 0.45], [1], fs=1), second half: |1 - H(f)| <= 0.00253 to 0.45 fs.
- */
-export const HALF_SAMPLE_TAPS: readonly number[] = [
-  0.6353145420735684, -0.20831774972170608, 0.12092928441540912, -0.08217169829470033,
-  0.05975106117058665, -0.04488661207306316, 0.0342172949413829, -0.02618244764463183,
-  0.019959183494764873, -0.015062874735004048, 0.011193798388692028, -0.008139940008045179,
-  0.005754555486991785, -0.003918347131691532, 0.0025325490286641013, -0.0022263561251580992,
-];
+// The filter design is the meter's own (unchanged by the kernel); only the loops are the old ones.
 const STAGE1 = Float64Array.from(HALF_SAMPLE_TAPS);
 /** The same taps in input order, x[m - 15] .. x[m + 16]. */
 const STAGE1_FULL = Float64Array.from([...HALF_SAMPLE_TAPS].reverse().concat(HALF_SAMPLE_TAPS));
-const STAGE2_HALF_WIDTH = 4;
-const STAGE2_BETA = 6.5;
-/** Grid points per input sample. */
-export const RECONSTRUCTION_OVERSAMPLING = 8;
-/** The refinement cap: a signal band-limited to fs/2 rises at most this much between 8x grid points. */
-export const REFINEMENT_CAP = 1 / Math.cos(Math.PI / 16);
-
-function besselI0(x: number): number {
-  let sum = 1, term = 1;
-  for (let k = 1; k < 50; k++) { term *= (x / (2 * k)) ** 2; sum += term; }
-  return sum;
-}
-
-/**
- * Stage 2, phase q (1..3) of 4: weights on the 2x stream's z[j + m], m = -3..4, for the point
- * q/4 of the way from z[j] to z[j + 1]. Kaiser-windowed sinc, normalised to unit DC gain.
- */
-export function quarterPhaseTaps(q: number): Float64Array {
-  const taps = Float64Array.from({ length: 2 * STAGE2_HALF_WIDTH }, (_, i) => {
-    const t = q / 4 - (i - STAGE2_HALF_WIDTH + 1);
-    const r = t / STAGE2_HALF_WIDTH;
-    const sinc = t === 0 ? 1 : Math.sin(Math.PI * t) / (Math.PI * t);
-    return sinc * besselI0(STAGE2_BETA * Math.sqrt(Math.max(0, 1 - r * r))) / besselI0(STAGE2_BETA);
-  });
-  const sum = taps.reduce((s, v) => s + v, 0);
-  return taps.map((v) => v / sum);
-}
-
-/** Per grid phase q (0..7), the weights of x[n + k], k = -17..18, that give the value at n + q/8. */
-export function gridPhaseKernels(): Float64Array[] {
-  const offset = 17;
-  const kernels = Array.from({ length: RECONSTRUCTION_OVERSAMPLING }, () => new Float64Array(36));
-  // z[j] of the 2x stream as weights on x: even j is x[j/2], odd j is the stage-1 point.
-  const addZ = (out: Float64Array, j: number, w: number) => {
-    const n = Math.floor(j / 2);
-    if (j % 2 === 0) { out[n + offset] += w; return; }
-    HALF_SAMPLE_TAPS.forEach((c, k) => { out[n - k + offset] += w * c; out[n + 1 + k + offset] += w * c; });
-  };
-  for (let q = 0; q < RECONSTRUCTION_OVERSAMPLING; q++) {
-    const j = q >> 2, r = q & 3;
-    if (r === 0) addZ(kernels[q], j, 1);
-    else quarterPhaseTaps(r).forEach((g, i) => addZ(kernels[q], j + i - STAGE2_HALF_WIDTH + 1, g));
-  }
-  return kernels;
-}
-
-/** Largest possible |grid value| per unit of max|x| over its taps. */
-export const RECONSTRUCTION_GAIN_BOUND = Math.max(...gridPhaseKernels().map((h) => h.reduce((s, v) => s + Math.abs(v), 0)));
 /** Bound on a frame's reading per unit max|x|; the margin covers rounding in the sums. */
 const PRUNE_GAIN = RECONSTRUCTION_GAIN_BOUND * REFINEMENT_CAP * (1 + 1e-9);
 /** The same bound from max |z| over stage 2's taps, once stage 1 is known. */
@@ -110,28 +27,6 @@ const LATENCY_FRAMES = 18;
 const HISTORY = 2 * LATENCY_FRAMES;
 // A chunk's taps lie in it, the chunk before and the one before that.
 if (ENVELOPE_CHUNK_FRAMES * 2 < HISTORY) throw new Error('envelope chunks are shorter than the filter history');
-
-export interface ReconstructedPeakOptions {
-  /** Reconstructed values above this ceiling become 'reconstructed_over' events. */
-  overCeilingDbtp?: number;
-  /** Overs closer than this merge into one event. */
-  overMergeSeconds?: number;
-  maxEvents?: number;
-}
-
-export interface ReconstructedPeakResult {
-  /** Per channel, dBTP; null for digital silence. */
-  channelPeakDbtp: (number | null)[];
-  peakDbtp: number | null;
-  /** Time (s) of the programme's peak, to the input sample. */
-  peakAtSeconds: number | null;
-  overCeilingDbtp: number;
-  overs: AnalysisEvent[];
-  /** Merged over events, including those past maxEvents. */
-  oversTotal: number;
-  /** Frames whose interpolation was skipped by the exact bound (for benchmarks). */
-  prunedFrames: number;
-}
 
 function absMax(x: Float64Array, from: number, to: number): number {
   let m = 0;
