@@ -1,6 +1,6 @@
 // Plain-text summary of an analysis document for people at a terminal.
 import { printableName } from './printable.ts';
-import type { AnalysisDocument } from '../engine/document.ts';
+import { channelName, type AnalysisDocument } from '../engine/document.ts';
 
 /** A level of digital silence (null) in words, never -inf. */
 const fixed = (value: number | null, unit: string, digits = 1) => (value === null ? 'none (digital silence)' : `${value.toFixed(digits)} ${unit}`);
@@ -37,15 +37,12 @@ export function formatAnalysis(doc: AnalysisDocument): string {
   const counts = Object.entries(doc.eventCounts);
   lines.push('', counts.length === 0 ? '  No events.' : `  Events: ${counts.map(([k, n]) => `${k} ${n}`).join(', ')}${doc.eventsTruncated ? ' (list truncated)' : ''}`);
   for (const e of doc.events.slice(0, 20)) {
-    lines.push(`    ${formatTime(e.startSeconds)} - ${formatTime(e.endSeconds)}  ${e.kind}  ch ${name(doc, e.channel)}${e.otherChannel !== undefined ? ` / ${name(doc, e.otherChannel)}` : ''}${e.peakValue !== undefined ? `  ${e.peakValue.toFixed(2)}` : ''}`);
+    lines.push(`    ${formatTime(e.startSeconds)} - ${formatTime(e.endSeconds)}  ${e.kind}  ch ${channelName(doc, e.channel)}${e.otherChannel !== undefined ? ` / ${channelName(doc, e.otherChannel)}` : ''}${e.peakValue !== undefined ? `  ${e.peakValue.toFixed(2)}` : ''}`);
   }
   if (doc.events.length > 20) lines.push(`    ... ${doc.events.length - 20} more (use --json)`);
   for (const w of doc.warnings) lines.push(`  warning ${w.code}: ${w.message}`);
   return `${lines.join('\n')}\n`;
 }
-
-/** "2 R" (1-based, as in reports), or "all". */
-const name = (doc: AnalysisDocument, channel: number | null) => (channel === null ? 'all' : `${channel + 1} ${doc.channels[channel]?.label ?? '?'}`);
 
 function num(value: number | null): string {
   return (value === null ? 'silent' : value.toFixed(2)).padStart(9);

@@ -110,6 +110,11 @@ export interface AnalysisDocument {
   analysisSeconds: number;
 }
 
+/** "2 R": the 1-based channel number and its role, or "all"; how reports, pages and the CLI name channels. */
+export function channelName(doc: Pick<AnalysisDocument, 'channels'>, channel: number | null): string {
+  return channel === null ? 'all' : `${channel + 1} ${doc.channels[channel]?.label ?? 'unknown'}`;
+}
+
 const seconds = (frames: number, rate: number) => `${(frames / rate).toFixed(3)} s`;
 
 /**

@@ -2,7 +2,7 @@
 // loudness that cannot be measured fails its rule (a delivery must have a measurable programme);
 // every other rule passes with a "not measurable" note (no short-term max in a 2 s file is not a breach).
 
-import type { AnalysisDocument } from '../engine/document.ts';
+import { channelName, type AnalysisDocument } from '../engine/document.ts';
 import { fmt, fmtAgainst, fmtGap, fmtLimit } from './format.ts';
 import type { CheckLimit, CheckResult } from './report.ts';
 import { DEFAULT_MAX_CLIP_RUNS, type DropoutRule, type IntegratedLoudnessRule, type IntegrityRule, type Profile, type Rule } from './types.ts';
@@ -85,7 +85,7 @@ function dropouts(rule: DropoutRule, doc: AnalysisDocument): Draft {
   const scope = rule.channels ? ` in ${rule.channels.join(', ')}` : '';
   const where = [
     ...(doc.summary.allChannelDropouts > 0 ? [`${doc.summary.allChannelDropouts} in all channels`] : []),
-    ...perChannel.map((c) => `${c.dropouts} in ${label(doc, c.index)}`),
+    ...perChannel.map((c) => `${c.dropouts} in ${channelName(doc, c.index)}`),
   ];
   return count(n === 1 ? `dropout${scope}` : `dropouts${scope}`, n, rule.maxCount ?? 0, 'dropouts', where.length > 0 ? ` (${where.join(', ')})` : '');
 }
@@ -107,8 +107,6 @@ export function integrityCheck(profile: Profile, doc: AnalysisDocument): CheckRe
   return { ruleId: taken ? 'file-integrity' : 'integrity', type: 'integrity', severity: 'fail', source: 'every profile: the file must be complete and readable', ...integrityDraft(doc) };
 }
 
-/** "2 R": as flags and the pages name channels. */
-const label = (doc: AnalysisDocument, c: number) => `${c + 1} ${doc.channels[c]?.label ?? 'unknown'}`;
 
 function count(what: string, n: number, max: number, unit: string, detail = ''): Draft {
   const passed = n <= max;
@@ -147,13 +145,13 @@ function draftFor(rule: Rule, doc: AnalysisDocument): Draft {
     case 'dead-channel': {
       const dead = s.deadChannels;
       const passed = dead.length === 0;
-      return { measured: dead, unit: 'channels', limit: { max: 0 }, outcome: verdictOf(passed), passed, explanation: passed ? 'No channel is digital silence throughout' : `Channel ${dead.map((c) => label(doc, c)).join(', ')} is digital silence throughout` };
+      return { measured: dead, unit: 'channels', limit: { max: 0 }, outcome: verdictOf(passed), passed, explanation: passed ? 'No channel is digital silence throughout' : `Channel ${dead.map((c) => channelName(doc, c)).join(', ')} is digital silence throughout` };
     }
     case 'duplicate-channels': case 'inverted-channels': {
       const dead = new Set(s.deadChannels);
       const inverted = rule.type === 'inverted-channels';
       const hits = doc.channelPairs.filter((p) => !dead.has(p.channel) && !dead.has(p.otherChannel) && (inverted ? p.inverted || p.nearInverted : p.identical || p.nearIdentical));
-      const names = hits.map((p) => `${label(doc, p.otherChannel)}${inverted ? ' = -' : ' = '}${label(doc, p.channel)}`);
+      const names = hits.map((p) => `${channelName(doc, p.otherChannel)}${inverted ? ' = -' : ' = '}${channelName(doc, p.channel)}`);
       const passed = hits.length === 0;
       const what = inverted ? 'polarity-inverted copy' : 'duplicate';
       return { measured: names, unit: 'pairs', limit: { max: 0 }, outcome: verdictOf(passed), passed, explanation: passed ? `No channel is a ${what} of another` : `${hits.length} channel pair${hits.length > 1 ? 's are' : ' is a'} ${what}${hits.length > 1 ? 's' : ''}: ${names.join('; ')}` };

@@ -4,11 +4,11 @@
 // flag with its count, end and worst value); the list is capped, fail flags kept first.
 
 import type { AnalysisEvent, EventKind } from '../analysis/events.ts';
-import type { AnalysisDocument } from '../engine/document.ts';
+import { channelName, type AnalysisDocument } from '../engine/document.ts';
 import { fmt } from './format.ts';
 import type { CheckResult, Flag, FlagKind, FlagSeverity } from './report.ts';
 import { timecodeAtSample, type FrameRate } from './timecode.ts';
-import type { Profile, Rule, RuleType, Severity } from './types.ts';
+import type { Profile, Rule, RuleType } from './types.ts';
 
 export const DEFAULT_FLAG_MERGE_SECONDS = 0.5;
 export const DEFAULT_MAX_FLAGS = 500;
@@ -72,11 +72,14 @@ function breaks(rule: Rule, e: AnalysisEvent, doc: AnalysisDocument): boolean {
   }
 }
 
+/** The rule that judges a finding (null when none does) and the severity it gives. */
+type Judged = { ruleId: string | null; severity: FlagSeverity };
+
 const rank = (s: FlagSeverity) => (s === 'fail' ? 0 : s === 'warn' ? 1 : 2);
 
 /** The severity and rule of a finding: the strictest broken rule that it breaks, else a remark (naming a met rule that judges it, if any). */
-function judge(rules: Rule[], checks: Map<string, CheckResult>, e: AnalysisEvent, doc: AnalysisDocument): { ruleId: string | null; severity: FlagSeverity } {
-  let best: { ruleId: string | null; severity: FlagSeverity } = { ruleId: null, severity: 'remark' };
+function judge(rules: Rule[], checks: Map<string, CheckResult>, e: AnalysisEvent, doc: AnalysisDocument): Judged {
+  let best: Judged = { ruleId: null, severity: 'remark' };
   for (const rule of rules) {
     if (!breaks(rule, e, doc)) continue;
     const check = checks.get(rule.id);
@@ -120,7 +123,7 @@ function eventDrafts(profile: Profile, doc: AnalysisDocument, checks: Map<string
 }
 
 /** The severity a broken check of this type gives, with its rule id; a remark when none is broken. */
-function ruleVerdict(profile: Profile, checks: Map<string, CheckResult>, type: RuleType, applies: (r: Rule) => boolean = () => true): { ruleId: string | null; severity: FlagSeverity } {
+function ruleVerdict(profile: Profile, checks: Map<string, CheckResult>, type: RuleType, applies: (r: Rule) => boolean = () => true): Judged {
   const rules = profile.rules.filter((r) => r.type === type && applies(r));
   const broken = rules.map((r) => checks.get(r.id)).filter((c): c is CheckResult => c !== undefined && !c.passed)
     .sort((a, b) => rank(a.severity) - rank(b.severity));
@@ -184,11 +187,6 @@ function merge(drafts: Draft[], gapSamples: number): Draft[] {
     } else out.push({ ...d });
   }
   return out;
-}
-
-/** "2 R": the 1-based channel number and its role, or "all". */
-export function channelName(doc: AnalysisDocument, channel: number | null): string {
-  return channel === null ? 'all' : `${channel + 1} ${doc.channels[channel]?.label ?? doc.format.channelLabels[channel] ?? 'unknown'}`;
 }
 
 function messageOf(f: Omit<Flag, 'message' | 'number'>): string {
