@@ -75,7 +75,8 @@ function readTail(path: string, fileBytes: number): Promise<Uint8Array> {
   return readRange(path, Math.max(0, fileBytes - TAIL_BYTES), TAIL_BYTES);
 }
 
-function streamInfo(b: Uint8Array, o: number): { sampleRate: number; channels: number; bits: number; total: number } {
+/** FLAC STREAMINFO's rate, channels, depth and total samples (0 = unknown), its body starting at `o`. */
+export function flacStreamInfo(b: Uint8Array, o: number): { sampleRate: number; channels: number; bits: number; total: number } {
   if (o + 18 > b.length) throw new EarmarkError('corrupt_file', 'FLAC STREAMINFO is cut off');
   const sampleRate = (b[o + 10] << 12) | (b[o + 11] << 4) | (b[o + 12] >> 4);
   const channels = ((b[o + 12] >> 1) & 7) + 1;
@@ -89,7 +90,7 @@ function probeFlac(head: Uint8Array): Probe & { maxBlockFrames: number } {
   const o = id3v2Length(head);
   if (ascii(head, o, 4) !== 'fLaC') throw new EarmarkError('corrupt_file', 'FLAC signature not found');
   if ((head[o + 4] & 0x7f) !== 0 || (u32be(head, o + 4) & 0xffffff) !== 34) throw new EarmarkError('corrupt_file', 'FLAC stream does not start with STREAMINFO');
-  const s = streamInfo(head, o + 8);
+  const s = flacStreamInfo(head, o + 8);
   return { codec: 'flac', encoding: 'flac', sampleRate: s.sampleRate, channels: s.channels, bitsPerSample: s.bits,
     frames: s.total || null, framesSlack: 0, wholeFile: false, endMissing: null, maxBlockFrames: u16be(head, o + 10) };
 }
@@ -126,7 +127,7 @@ async function probeOgg(path: string, head: Uint8Array, fileBytes: number): Prom
     info = { codec: 'opus', encoding: 'opus', channels: head[p + 9], sampleRate: 48000, bitsPerSample: null,
       framesSlack: 1920, wholeFile: false, preSkip: u16le(head, p + 10), total: null };
   } else if (ascii(head, p, 5) === '\x7fFLAC' && ascii(head, p + 9, 4) === 'fLaC') {
-    const s = streamInfo(head, p + 17);
+    const s = flacStreamInfo(head, p + 17);
     info = { codec: 'flac', encoding: 'flac', channels: s.channels, sampleRate: s.sampleRate, bitsPerSample: s.bits,
       framesSlack: 0, wholeFile: false, preSkip: 0, total: s.total || null };
   } else throw new EarmarkError('unsupported_encoding', 'Ogg stream is not Vorbis, Opus or FLAC');

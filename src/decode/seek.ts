@@ -13,7 +13,7 @@ import { loadCodec } from './compressed-codecs.ts';
 import { flacHeaderBlockSize, FlacInputSlicer } from './compressed-flac.ts';
 import { parseMpegHeader } from './compressed-mp3.ts';
 import { OutputCheck } from './compressed-output.ts';
-import type { Probe } from './compressed-probe.ts';
+import { flacStreamInfo, type Probe } from './compressed-probe.ts';
 import { INPUT_CHUNK_BYTES } from './compressed.ts';
 import { replaceNonFinite } from './finite.ts';
 import { openAudioFile } from './index.ts';
@@ -97,11 +97,9 @@ async function readFlacStream(path: string): Promise<FlacStream | null> {
   const minBlock = u16be(b, 0);
   const maxBlock = u16be(b, 2);
   const maxFrameBytes = u24be(b, 7);
-  const sampleRate = (b[10] << 12) | (b[11] << 4) | (b[12] >> 4);
-  const channels = ((b[12] >> 1) & 7) + 1;
-  const bits = (((b[12] & 1) << 4) | (b[13] >> 4)) + 1;
+  const { sampleRate, channels, bits, total: declared } = flacStreamInfo(si, 4);
   // 0 when the encoder could not go back to write it (a piped encode): unknown, bisect by bytes.
-  const total = (b[13] & 15) * 2 ** 32 + u32be(b, 14) || Infinity;
+  const total = declared || Infinity;
   const points: { sample: number; offset: number }[] = [];
   let at = start + 4;
   let audioStart = 0;
