@@ -1,42 +1,55 @@
 // One catalogue of error codes. Every layer throws EarmarkError with one of these codes;
 // the CLI maps them to exit codes and stderr lines, the API to problem+json (RFC 9457).
 
+/**
+ * `retryable`: a queued job that fails with this code is tried again with backoff (the fault may
+ * pass); otherwise it fails at once. `retryAfterSeconds`: the API sends Retry-After with it.
+ */
+export interface CatalogueEntry { status: number; title: string; retryable: boolean; retryAfterSeconds?: number }
+
 export const errorCatalogue = {
   // Input files
-  empty_file: { status: 422, title: 'The file is empty' },
-  unsupported_format: { status: 415, title: 'The file is not in an audio format Earmark reads' },
-  unsupported_encoding: { status: 415, title: 'The container is known but its sample encoding is not supported' },
-  corrupt_file: { status: 422, title: 'The file is damaged or inconsistent' },
-  decoded_size_exceeded: { status: 413, title: 'The decoded audio is larger than the configured cap' },
-  file_not_found: { status: 404, title: 'The file does not exist or cannot be read' },
+  empty_file: { status: 422, title: 'The file is empty', retryable: false },
+  unsupported_format: { status: 415, title: 'The file is not in an audio format Earmark reads', retryable: false },
+  unsupported_encoding: { status: 415, title: 'The container is known but its sample encoding is not supported', retryable: false },
+  corrupt_file: { status: 422, title: 'The file is damaged or inconsistent', retryable: false },
+  decoded_size_exceeded: { status: 413, title: 'The decoded audio is larger than the configured cap', retryable: false },
+  file_not_found: { status: 404, title: 'The file does not exist or cannot be read', retryable: false },
   // Arguments and profiles
-  invalid_argument: { status: 400, title: 'An argument is invalid' },
-  invalid_profile: { status: 400, title: 'The delivery profile is invalid' },
-  unknown_profile: { status: 422, title: 'No delivery profile has this id' },
+  invalid_argument: { status: 400, title: 'An argument is invalid', retryable: false },
+  invalid_profile: { status: 400, title: 'The delivery profile is invalid', retryable: false },
+  unknown_profile: { status: 422, title: 'No delivery profile has this id', retryable: false },
   // Service (HTTP API, queue, workers)
-  validation_failed: { status: 400, title: 'The request does not match its schema' },
-  unauthorized: { status: 401, title: 'A valid API key is required' },
-  forbidden: { status: 403, title: 'The API key lacks the scope for this operation' },
-  not_found: { status: 404, title: 'No such resource' },
-  idempotency_conflict: { status: 409, title: 'The Idempotency-Key was used with a different request' },
-  report_not_ready: { status: 409, title: 'The job has not completed, so it has no report yet' },
-  payload_too_large: { status: 413, title: 'The upload is larger than the configured limit' },
-  unsupported_media_type: { status: 415, title: 'The request body type is not accepted here' },
-  source_refused: { status: 422, title: 'The URL is not allowed (scheme or address refused)' },
-  source_fetch_failed: { status: 422, title: 'The source URL could not be fetched' },
-  source_stalled: { status: 504, title: 'The source URL did not deliver the file in time' },
-  request_timeout: { status: 408, title: 'The request did not arrive in time' },
-  uri_too_long: { status: 414, title: 'The request path is too long' },
-  headers_too_large: { status: 431, title: 'The request headers are too large' },
-  rate_limited: { status: 429, title: 'Too many requests for this API key; retry after the given time' },
-  storage_full: { status: 507, title: 'Storage is full' },
-  storage_unavailable: { status: 503, title: 'Storage is not available' },
-  service_unavailable: { status: 503, title: 'A dependency (Redis) is not available' },
+  validation_failed: { status: 400, title: 'The request does not match its schema', retryable: false },
+  unauthorized: { status: 401, title: 'A valid API key is required', retryable: false },
+  forbidden: { status: 403, title: 'The API key lacks the scope for this operation', retryable: false },
+  not_found: { status: 404, title: 'No such resource', retryable: false },
+  idempotency_conflict: { status: 409, title: 'The Idempotency-Key was used with a different request', retryable: false },
+  report_not_ready: { status: 409, title: 'The job has not completed, so it has no report yet', retryable: false },
+  payload_too_large: { status: 413, title: 'The upload is larger than the configured limit', retryable: false },
+  unsupported_media_type: { status: 415, title: 'The request body type is not accepted here', retryable: false },
+  source_refused: { status: 422, title: 'The URL is not allowed (scheme or address refused)', retryable: false },
+  source_fetch_failed: { status: 422, title: 'The source URL could not be fetched', retryable: true },
+  source_stalled: { status: 504, title: 'The source URL did not deliver the file in time', retryable: true },
+  request_timeout: { status: 408, title: 'The request did not arrive in time', retryable: false },
+  uri_too_long: { status: 414, title: 'The request path is too long', retryable: false },
+  headers_too_large: { status: 431, title: 'The request headers are too large', retryable: false },
+  rate_limited: { status: 429, title: 'Too many requests for this API key; retry after the given time', retryable: false },
+  cancelled: { status: 499, title: 'The work was cancelled before it finished', retryable: false },
+  webhook_failed: { status: 502, title: 'The callback URL did not accept the notification', retryable: true },
+  storage_full: { status: 507, title: 'Storage is full', retryable: true, retryAfterSeconds: 5 },
+  storage_unavailable: { status: 503, title: 'Storage is not available', retryable: true, retryAfterSeconds: 5 },
+  service_unavailable: { status: 503, title: 'A service Earmark depends on is not available', retryable: true, retryAfterSeconds: 5 },
   // Catch-all
-  internal_error: { status: 500, title: 'Internal error' },
-} as const satisfies Record<string, { status: number; title: string }>;
+  internal_error: { status: 500, title: 'Internal error', retryable: true },
+} as const satisfies Record<string, CatalogueEntry>;
 
 export type ErrorCode = keyof typeof errorCatalogue;
+
+/** One entry, widened so optional fields read uniformly. */
+export function catalogueEntry(code: ErrorCode): CatalogueEntry {
+  return errorCatalogue[code];
+}
 
 export interface ErrorDetails {
   /** Field or path the error is about (profile field, CLI option). */
@@ -69,4 +82,31 @@ export function toEarmarkError(value: unknown): EarmarkError {
   if (value instanceof EarmarkError) return value;
   const message = value instanceof Error ? value.message : String(value);
   return new EarmarkError('internal_error', message, {}, { cause: value });
+}
+
+export function isErrorCode(value: unknown): value is ErrorCode {
+  return typeof value === 'string' && Object.hasOwn(errorCatalogue, value);
+}
+
+/** What crosses a thread or process boundary: structured, never a "code: message" string. */
+export interface WireError { code: ErrorCode; message: string; details: ErrorDetails }
+
+export function toWireError(value: unknown): WireError {
+  const error = toEarmarkError(value);
+  return { code: error.code, message: error.message, details: error.details };
+}
+
+/** Reads a WireError back; anything that is not one becomes internal_error with its text. */
+export function fromWireError(value: unknown): EarmarkError {
+  if (value && typeof value === 'object' && 'code' in value && 'message' in value) {
+    const { code, message } = value;
+    const details = 'details' in value && value.details && typeof value.details === 'object' ? { ...value.details } : {};
+    if (isErrorCode(code) && typeof message === 'string') return new EarmarkError(code, message, details);
+  }
+  return new EarmarkError('internal_error', typeof value === 'string' ? value : 'an error arrived in an unknown shape');
+}
+
+/** Whether a job failing with this error may succeed on another try. */
+export function isRetryable(error: EarmarkError): boolean {
+  return typeof error.details.transient === 'boolean' ? error.details.transient : errorCatalogue[error.code].retryable;
 }

@@ -1,23 +1,17 @@
 // The sandboxed processor: BullMQ runs this file in a child process, so a decoder crash or an
 // out-of-memory ends the child, not the worker, and the worker's lock renewal never waits on
-// the CPU-bound analysis. Bad input fails at once (UnrecoverableError with the catalogue code);
-// anything else is retried with backoff.
+// the CPU-bound analysis. Codes the catalogue marks not retryable fail at once (UnrecoverableError);
+// the rest are retried with backoff.
 
 import { UnrecoverableError, type SandboxedJob } from 'bullmq';
 import { analyzeFile } from '../engine/analyze-file.ts';
-import { toEarmarkError, type ErrorCode } from '../errors/index.ts';
+import { isRetryable, toEarmarkError } from '../errors/index.ts';
 import { UrlPolicy } from '../net/url-guard.ts';
 import { analysisOptionsForProfile, evaluate } from '../profiles/index.ts';
 import { ANALYZE_JOB_V1, encodeFailure, type AnalyzeJobV1, type AnalyzeResultV1 } from '../queue/contract.ts';
 import { openStorage } from '../storage/index.ts';
 import { readChildSettings } from './child-settings.ts';
 import { fetchSource } from './fetch-source.ts';
-
-/** Codes that mean "this input will never work": retrying cannot help. */
-const PERMANENT: ReadonlySet<ErrorCode> = new Set<ErrorCode>([
-  'empty_file', 'unsupported_format', 'unsupported_encoding', 'corrupt_file', 'decoded_size_exceeded',
-  'invalid_profile', 'unknown_profile', 'invalid_argument', 'payload_too_large', 'source_refused', 'file_not_found',
-]);
 
 const config = readChildSettings();
 // A worker killed with SIGKILL leaves this child behind: without it the analysis would go on
@@ -82,7 +76,7 @@ export default async function analyzeJob(job: SandboxedJob<AnalyzeJobV1, Analyze
     };
   } catch (thrown) {
     const error = toEarmarkError(thrown);
-    const transient = typeof error.details.transient === 'boolean' ? error.details.transient : !PERMANENT.has(error.code);
+    const transient = isRetryable(error);
     // Decoder messages name the file by path: clients and logs get the client's file name instead.
     const message = path ? error.message.split(`"${path}"`).join(fileName).split(path).join(fileName).split(config.storageDir).join('storage') : error.message;
     const reason = encodeFailure(error.code, error.code === 'internal_error' ? 'the analysis failed unexpectedly' : message);

@@ -3,7 +3,7 @@
 // file paths leaking into the response.
 
 import type { FastifyError, FastifyInstance, FastifyReply, FastifyRequest } from 'fastify';
-import { EarmarkError, errorCatalogue, isEarmarkError, type ErrorCode } from '../../errors/index.ts';
+import { catalogueEntry, EarmarkError, errorCatalogue, isEarmarkError, type ErrorCode } from '../../errors/index.ts';
 
 /** Client input (a field name, a path) is echoed clipped: a body never carries more than a few
  * dozen characters of it, whatever the client sent. */
@@ -46,7 +46,8 @@ export function clientProblem(error: NodeJS.ErrnoException): EarmarkError {
 
 export function sendProblem(reply: FastifyReply, request: FastifyRequest, error: EarmarkError): FastifyReply {
   const body = problemBody(error, request);
-  if (error.code === 'service_unavailable' || error.code === 'storage_unavailable' || error.code === 'storage_full') reply.header('retry-after', '5');
+  const { retryAfterSeconds } = catalogueEntry(error.code);
+  if (retryAfterSeconds !== undefined) reply.header('retry-after', String(retryAfterSeconds));
   if (error.code === 'payload_too_large') {
     // Fastify's body parser asks to close at once, which can reset the connection before the
     // client reads the 413: the bounded drain closes it instead.
