@@ -1,10 +1,11 @@
 import { describe, expect, it } from 'vitest';
 import { spawnSync } from 'node:child_process';
-import { existsSync, mkdtempSync, rmSync, writeFileSync } from 'node:fs';
+import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { defaultChannelLabels, type StreamInfo } from '../../src/analysis/audio.ts';
 import { LevelMeter, type LevelResult } from '../../src/analysis/levels.ts';
+import { hasTool } from '../helpers/tools.ts';
 
 const fs = 48_000;
 const stereo: StreamInfo = { sampleRate: fs, channels: 2, channelLabels: defaultChannelLabels(2) };
@@ -128,7 +129,7 @@ describe('LevelMeter', () => {
     expect(measure(stereo, chans, 1)).toEqual(whole);
   });
 
-  it.skipIf(!existsSync('/usr/bin/sox'))('agrees with sox stats on peak, RMS and DC of a 16-bit file', () => {
+  it.skipIf(!hasTool('sox'))('agrees with sox stats on peak, RMS and DC of a 16-bit file', () => {
     const frames = fs * 2;
     const pcm = new Int16Array(frames);
     for (let i = 0; i < frames; i++) pcm[i] = Math.round(8000 + 16000 * Math.sin((2 * Math.PI * 440 * i) / fs));

@@ -1,7 +1,7 @@
 // The dashboard and report pages in a real browser: Debian's Chromium driven by playwright-core
 // (never a downloaded browser), against a running API and worker on real Redis.
 // Screenshots go to test-output/ (git-ignored).
-import { existsSync, mkdirSync, mkdtempSync } from 'node:fs';
+import { mkdirSync, mkdtempSync } from 'node:fs';
 import { stat, truncate, writeFile } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
@@ -16,6 +16,7 @@ import { writeSine } from '../service/audio.ts';
 import { flagCountsText } from '../../src/views/assets/format.js';
 import { renderReportPlot } from '../../src/views/report-plot.ts';
 import { sampleReport } from '../views/sample-report.ts';
+import { hasTool } from '../helpers/tools.ts';
 
 const CHROMIUM = '/usr/bin/chromium';
 /** The little of the page's DOM the tests touch (the Node tsconfig has no DOM types). */
@@ -42,7 +43,7 @@ async function writeClippedProgramme(path: string): Promise<void> {
   await writeWavFile(path, { sampleRate: SAMPLE_RATE, channels: 2, bitsPerSample: 16, float: false }, blocks);
 }
 
-describe.skipIf(!existsSync(CHROMIUM))('pages in Chromium', () => {
+describe.skipIf(!hasTool('chromium'))('pages in Chromium', () => {
   let service: TestService;
   let browser: Browser;
   const external: string[] = [];

@@ -1,6 +1,6 @@
 // Checks the compressed decoder against ffmpeg (Debian /usr/bin/ffmpeg) as the reference decoder.
 // Signals are generated here; nothing third-party is committed.
-import { execFileSync, spawnSync } from 'node:child_process';
+import { execFileSync } from 'node:child_process';
 import { mkdtempSync, readFileSync, rmSync, statSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
@@ -8,8 +8,9 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { openCompressed } from '../../src/decode/compressed.ts';
 import type { Container, DecodedAudio } from '../../src/decode/types.ts';
 import { EarmarkError } from '../../src/errors/index.ts';
+import { hasTool } from '../helpers/tools.ts';
 
-const hasFfmpeg = spawnSync('ffmpeg', ['-version']).status === 0;
+const hasFfmpeg = hasTool('ffmpeg');
 // Different content per channel so swapped or folded channels show up.
 const STEREO = 'aevalsrc=0.5*sin(2*PI*1000*t)|0.3*sin(2*PI*440*t):s=48000:d=5';
 const DUAL = 'sine=frequency=1000:sample_rate=48000:duration=5';

@@ -2,15 +2,16 @@
 // the frame ffmpeg (Debian /usr/bin/ffmpeg, ffprobe) also decodes up to. Files are ffmpeg's own
 // output cut at half their bytes; lossy decoders may differ from ffmpeg by their priming and the
 // partial last frame (common practice: one codec frame).
-import { execFileSync, spawnSync } from 'node:child_process';
+import { execFileSync } from 'node:child_process';
 import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { openAudioFile, type DecodedAudio } from '../../src/decode/index.ts';
 import { encodePcmFrames, wavHeader } from '../../src/encode/wav.ts';
+import { hasTool } from '../helpers/tools.ts';
 
-const hasFfmpeg = spawnSync('ffmpeg', ['-version']).status === 0;
+const hasFfmpeg = hasTool('ffmpeg');
 const SOURCE = 'aevalsrc=0.5*sin(2*PI*1000*t)|0.3*sin(2*PI*440*t):s=48000:d=5';
 let dir = '';
 

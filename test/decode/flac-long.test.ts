@@ -1,6 +1,6 @@
 // Long and highly compressed FLAC: every declared frame decodes (ffprobe, Debian /usr/bin/ffprobe,
 // is the reference count) and memory stays bounded however little input a minute of audio takes.
-import { execFileSync, spawnSync } from 'node:child_process';
+import { execFileSync } from 'node:child_process';
 import { mkdtempSync, readFileSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
@@ -9,8 +9,9 @@ import { decoder } from '@audio/decode-flac';
 import { openCompressed } from '../../src/decode/compressed.ts';
 import { FLAC_MAX_HEADER_BYTES, FlacInputSlicer, flacHeaderBlockSize } from '../../src/decode/compressed-flac.ts';
 import type { DecodedAudio } from '../../src/decode/types.ts';
+import { hasTool } from '../helpers/tools.ts';
 
-const hasFfmpeg = spawnSync('ffmpeg', ['-version']).status === 0;
+const hasFfmpeg = hasTool('ffmpeg');
 let dir = '';
 
 function encode(name: string, source: string, args: string[]): string {

@@ -1,7 +1,7 @@
 // M4A with its index (moov) after the audio: fed to the decoder moov first, with its chunk
 // offsets moved, and streamed; the same samples as the file rewritten with the index first
 // (ffmpeg -movflags +faststart, Debian /usr/bin/ffmpeg). A patched mdhd duration is refused before decoding.
-import { execFileSync, spawnSync } from 'node:child_process';
+import { execFileSync } from 'node:child_process';
 import { createHash } from 'node:crypto';
 import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
@@ -9,8 +9,9 @@ import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { openCompressed } from '../../src/decode/compressed.ts';
 import { probeMp4 } from '../../src/decode/compressed-mp4.ts';
+import { hasTool } from '../helpers/tools.ts';
 
-const hasFfmpeg = spawnSync('ffmpeg', ['-version']).status === 0;
+const hasFfmpeg = hasTool('ffmpeg');
 let dir = '';
 
 async function digest(path: string): Promise<{ frames: number; sha1: string; warnings: string[] }> {

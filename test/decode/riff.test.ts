@@ -10,6 +10,7 @@ import { openAudioFile, openPcmStream, type DecodedAudio } from '../../src/decod
 import { convertInterleaved } from '../../src/decode/riff.ts';
 import { encodePcmFrames, wavHeader, writeWavFile } from '../../src/encode/wav.ts';
 import { EarmarkError } from '../../src/errors/index.ts';
+import { hasTool } from '../helpers/tools.ts';
 
 const dir = mkdtempSync(join(tmpdir(), 'earmark-riff-'));
 afterAll(() => rmSync(dir, { recursive: true, force: true }));
@@ -80,8 +81,6 @@ function ffmpegPlanar(path: string, channels: number): Float32Array[] {
   const all = new Float32Array(raw.buffer, raw.byteOffset, raw.length / 4);
   return Array.from({ length: channels }, (_, c) => all.filter((_, i) => i % channels === c));
 }
-
-const hasTool = (p: string): boolean => existsSync(p);
 
 describe('PCM encodings round-trip exactly (Microsoft WAVE PCM: 8-bit unsigned offset 128, wider signed LE two\'s complement; from memory)', () => {
   it('8-bit unsigned: (x - 128) / 128', async () => {
@@ -363,7 +362,7 @@ describe('files from other writers decode to the samples ffmpeg decodes', () => 
       }
     });
   }
-  it.runIf(hasTool('/usr/bin/sox'))('sox 16/24/32-bit and float WAVs', async () => {
+  it.runIf(hasTool('sox'))('sox 16/24/32-bit and float WAVs', async () => {
     for (const args of [['-b', '16'], ['-b', '24'], ['-b', '32'], ['-e', 'floating-point', '-b', '32']]) {
       const path = tmpFile();
       execFileSync('/usr/bin/sox', ['-n', '-r', '44100', '-c', '2', ...args, path, 'synth', '0.1', 'sine', '1000', 'gain', '-1']);

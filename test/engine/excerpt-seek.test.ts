@@ -8,9 +8,10 @@ import { describe, expect, it } from 'vitest';
 import { openAudioFileAt } from '../../src/decode/seek.ts';
 import { writeAiffFile, writeWavFile } from '../../src/encode/wav.ts';
 import { cutExcerpt } from '../../src/engine/excerpt.ts';
+import { hasTool } from '../helpers/tools.ts';
 
 const dir = mkdtempSync(join(tmpdir(), 'earmark-excerpt-seek-'));
-const hasFfmpeg = spawnSync('ffmpeg', ['-version']).status === 0;
+const hasFfmpeg = hasTool('ffmpeg');
 const RATE = 44100;
 const SECONDS = 30;
 

@@ -10,8 +10,9 @@ import { describe, expect, it } from 'vitest';
 import { writeWavFile } from '../../src/encode/wav.ts';
 import { analyzeFile } from '../../src/engine/analyze-file.ts';
 import { programmeBlocks } from '../../src/selftest/signals.ts';
+import { hasTool } from '../helpers/tools.ts';
 
-const hasFfmpeg = spawnSync('ffmpeg', ['-version']).status === 0;
+const hasFfmpeg = hasTool('ffmpeg');
 
 function ffmpegEbur128(path: string): { integrated: number; lra: number; truePeak: number } {
   const result = spawnSync('ffmpeg', ['-nostdin', '-hide_banner', '-i', path, '-af', 'ebur128=peak=true', '-f', 'null', '-'], { encoding: 'utf8' });

@@ -1,4 +1,4 @@
-// Redis-backed stores against the real Redis at 127.0.0.1:6379, under a unique prefix.
+// Redis-backed stores against the tests' real Redis (testRedisUrl), under a unique prefix.
 import { randomBytes } from 'node:crypto';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { Redis } from 'ioredis';
@@ -8,6 +8,7 @@ import { ProfileStore } from '../../src/queue/profile-store.ts';
 import { ServiceStore } from '../../src/queue/store.ts';
 import { sign, verify } from '../../src/worker/webhooks.ts';
 import { createHmac } from 'node:crypto';
+import { testRedisUrl } from '../helpers/redis.ts';
 
 let redis: Redis;
 let store: ServiceStore;
@@ -15,7 +16,7 @@ let profiles: ProfileStore;
 const prefix = `tq${randomBytes(6).toString('hex')}`;
 
 beforeAll(() => {
-  redis = createRedis('redis://127.0.0.1:6379', 'worker');
+  redis = createRedis(testRedisUrl(), 'worker');
   store = new ServiceStore(redis, prefix, 60);
   profiles = new ProfileStore(redis, prefix);
 });

@@ -1,7 +1,7 @@
 // Decompression and size bombs (fixtures/bombs.ts): each analysed in a child process of its own,
 // whose peak RSS (process.resourceUsage().maxRSS, printed by the child) stays within 256 MiB,
 // ending as a report or a typed error. Memory is asserted; time never is.
-import { execFile, spawnSync } from 'node:child_process';
+import { execFile } from 'node:child_process';
 import { mkdtempSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
@@ -14,13 +14,14 @@ import { seedSamples, wavBytes } from '../../fixtures/seeds.ts';
 import { openAudioFile } from '../../src/decode/index.ts';
 import { errorCatalogue } from '../../src/errors/index.ts';
 import { KEYS, startService, until } from '../service/harness.ts';
+import { hasTool } from '../helpers/tools.ts';
 
 const ROOT = fileURLToPath(new URL('../..', import.meta.url));
 const RSS_BOUND_MIB = 256;
 // 15 minutes is the shortest that still shows every bomb: decoded whole, the 15-minute M4A alone
 // is 346 MB of float; the 2-hour files of the report took 94 s to encode and up to 59 s to analyse.
 const SECONDS = 900;
-const hasFfmpeg = spawnSync('ffmpeg', ['-version']).status === 0;
+const hasFfmpeg = hasTool('ffmpeg');
 const run = promisify(execFile);
 
 let dir = '';
@@ -69,7 +70,7 @@ describe.skipIf(!hasFfmpeg)('bombs', () => {
   }, 60_000);
 });
 
-// Needs Redis on 127.0.0.1:6379, as the service tests do. The limit's floor (64 MiB) is below any
+// Needs the tests' Redis, as the service tests do. The limit's floor (64 MiB) is below any
 // child's RSS, so every job retires its child: the result must still arrive, from a fresh child each time.
 describe('an analysis child above its RSS limit after a job', () => {
   it('delivers the job result, then exits and is replaced for the next job', async () => {

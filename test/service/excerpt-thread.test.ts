@@ -9,8 +9,9 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { cutExcerpt } from '../../src/engine/excerpt.ts';
 import { client, type Client } from './client.ts';
 import { KEYS, startService, until, type TestService } from './harness.ts';
+import { hasTool } from '../helpers/tools.ts';
 
-const hasFfmpeg = spawnSync('ffmpeg', ['-version']).status === 0;
+const hasFfmpeg = hasTool('ffmpeg');
 const BOMB_SECONDS = Number(process.env.EARMARK_EXCERPT_BOMB_SECONDS ?? 3600);
 
 let service: TestService;

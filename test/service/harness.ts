@@ -1,5 +1,5 @@
 // A real service for tests: the API listening on a random port and (optionally) a worker, both
-// against the real Redis at 127.0.0.1:6379 under a unique prefix, storage in a temp folder.
+// against the tests' real Redis (testRedisUrl) under a unique prefix, storage in a temp folder.
 // close() stops both and removes every key under the prefix and the folder.
 
 import { randomBytes } from 'node:crypto';
@@ -11,6 +11,7 @@ import { startApi, type RunningApi } from '../../src/api/server.ts';
 import { loadConfig, type Config } from '../../src/config/index.ts';
 import { ServiceStore } from '../../src/queue/store.ts';
 import { startWorker, type WorkerRuntime } from '../../src/worker/runtime.ts';
+import { testRedisUrl } from '../helpers/redis.ts';
 
 export const KEYS = {
   alpha: 'alpha-submit-read-key-0001',
@@ -29,7 +30,7 @@ export const API_KEYS = JSON.stringify([
 
 export function testEnv(dir: string, extra: Record<string, string> = {}): Record<string, string> {
   return {
-    REDIS_URL: 'redis://127.0.0.1:6379',
+    REDIS_URL: testRedisUrl(),
     PORT: '0',
     HOST: '127.0.0.1',
     EARMARK_QUEUE_PREFIX: `t${randomBytes(6).toString('hex')}`,

@@ -1,6 +1,6 @@
 // Per-tenant visibility: /v1/queue and /metrics count only the key's tenant; the all-tenant view
 // needs the operator scope; /metrics needs the metrics scope, which admin does not imply.
-// Real Redis at 127.0.0.1:6379 under a unique prefix (harness), two tenants.
+// The tests' real Redis under a unique prefix (harness), two tenants.
 
 import { writeFileSync } from 'node:fs';
 import { join } from 'node:path';
