@@ -55,7 +55,7 @@ const makers: Record<string, () => Meter<unknown>> = {
   'loudness ref': () => new RefLoudness(info),
   'truePeak ref': () => new RefTruePeak(info),
   'reconstructedPeak ref': () => new RefReconstructedPeak(info),
-  // The JavaScript meter before its WebAssembly kernel (same readings, to the bit).
+  // The meter's JavaScript loops, without its WebAssembly kernel (same readings, to the bit).
   'reconstructedPeak js': () => new PreKernelReconstructedPeak(info),
   'ballistics ref': () => new RefBallistics(info),
   'clipping ref': () => new RefClipping(info),
