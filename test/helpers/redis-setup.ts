@@ -58,8 +58,11 @@ async function startPrivate(): Promise<{ url: string; child: ChildProcess }> {
       if (await answers('127.0.0.1', port)) return { url: `redis://127.0.0.1:${port}`, child };
       await new Promise((resolve) => setTimeout(resolve, 50));
     }
-    child.kill('SIGKILL');
-    await exited(child);
+    // Without a pid the spawn itself failed, and there is no process to wait for.
+    if (child.pid !== undefined) {
+      child.kill('SIGKILL');
+      await exited(child);
+    }
   }
   throw new Error('a private redis-server was started three times but never answered');
 }
@@ -67,6 +70,7 @@ async function startPrivate(): Promise<{ url: string; child: ChildProcess }> {
 async function choose(): Promise<{ redis: TestRedis; child: ChildProcess | null }> {
   const given = process.env.REDIS_URL;
   if (given) {
+    if (!URL.canParse(given)) throw new Error(`REDIS_URL is ${given}, which is not a URL (redis://host:port)`);
     const url = new URL(given);
     const port = Number(url.port || 6379);
     if (!(await answers(url.hostname, port))) {
