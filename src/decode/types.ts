@@ -1,7 +1,8 @@
 import type { ChannelLabel, PcmBlock } from '../analysis/audio.ts';
 import type { DECODERS } from './registry.ts';
 
-/** A container we decode: a key of the decoder registry. */
+// One per entry of the decoder registry (registry.ts).
+/** The audio container, named from the file's bytes. */
 export type Container = keyof typeof DECODERS;
 
 /** Everything known about the file's audio before (and, for `frames`, after) decoding. */
