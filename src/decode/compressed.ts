@@ -46,9 +46,9 @@ export function compressedDecoder(spec: CompressedDecoderSpec): Decoder {
   };
 }
 
-async function probeFile(path: string, container: Container, format: CompressedFormat): Promise<{ fileBytes: number; p: Probe; format: AudioFormat }> {
+async function probeFile(path: string, container: Container, compressed: CompressedFormat): Promise<{ fileBytes: number; p: Probe; format: AudioFormat }> {
   const fileBytes = await fileSize(path);
-  const p = await format.probe(path, fileBytes);
+  const p = await compressed.probe(path, fileBytes);
   checkStreamNumbers(`the ${container} header`, p.channels, p.sampleRate);
   return {
     fileBytes, p, format: {

@@ -1,7 +1,7 @@
 // MP3 from part-way through: for a stream with a LAME/Info header (so the decoder's trim is
 // known), from a few frames before the span, found by walking the frame headers.
-import type { PcmBlock } from '../analysis/audio.ts';
 import { stat } from 'node:fs/promises';
+import type { PcmBlock } from '../analysis/audio.ts';
 import { readRange } from './byte-reader.ts';
 import { ascii, id3v2Length, u24be, u32be } from './bytes.ts';
 import { decodeFrom, WHOLE_CHUNKS } from './compressed.ts';
@@ -52,7 +52,7 @@ export async function openMp3At(path: string, frame: number, options: DecodeOpti
   const check = new OutputCheck(probe, options.maxBlockFrames ?? DEFAULT_MAX_BLOCK_FRAMES, [], Infinity);
   const firstFrame = (from - 1) * spf - delay;
   // From the middle the decoder cannot know the end padding the whole decode drops: stop at the declared length.
-  const blocks = upTo(decodeFrom(path, 'mp3', null, offset, fileBytes, WHOLE_CHUNKS, check), format.frames! - firstFrame);
+  const blocks = upTo(decodeFrom(path, 'mp3', null, offset, fileBytes, WHOLE_CHUNKS, check), format.frames - firstFrame);
   const audio: DecodedAudio = { format, blocks, warnings: [], get framesDecoded() { return check.framesOut; } };
   return { audio, firstFrame, method: 'mp3_frame' };
 }
