@@ -1,7 +1,7 @@
-// Compressed formats (FLAC, MP3, AAC/M4A, Ogg Vorbis/Opus/FLAC, WebM, CAF) through the per-format
-// audio-decode packages. Streams in fixed-size input chunks; MP4 with its index (moov) after the
-// audio is fed index first (faststartMoov) and streamed too, under the decoded-size cap.
-// Each format's file in formats/ supplies its probe and input slicing; this is the shared loop.
+// The decode loop every compressed format shares, through the per-format audio-decode packages;
+// each format's file in formats/ supplies its probe and input slicing. Streams in fixed-size
+// input chunks; MP4 with its index (moov) after the audio is fed index first (faststartMoov) and
+// streamed too, under the decoded-size cap.
 import { createReadStream } from 'node:fs';
 import { stat } from 'node:fs/promises';
 import { defaultChannelLabels, type PcmBlock } from '../analysis/audio.ts';
@@ -59,7 +59,7 @@ async function probeFile(path: string, container: Container, compressed: Compres
   };
 }
 
-export async function openCompressed(path: string, container: Container, compressed: CompressedFormat, options: DecodeOptions = {}): Promise<DecodedAudio> {
+async function openCompressed(path: string, container: Container, compressed: CompressedFormat, options: DecodeOptions = {}): Promise<DecodedAudio> {
   const blockFrames = options.maxBlockFrames ?? DEFAULT_MAX_BLOCK_FRAMES;
   const maxDecodedBytes = options.maxDecodedBytes ?? DEFAULT_MAX_DECODED_BYTES;
   const maxDecodedSeconds = options.maxDecodedSeconds ?? DEFAULT_MAX_DECODED_SECONDS;
