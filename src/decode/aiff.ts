@@ -1,12 +1,12 @@
-// AIFF and AIFF-C reader (big-endian chunks; COMM + SSND). Sample streaming is shared with riff.ts.
+// AIFF and AIFF-C chunk parsing (big-endian chunks; COMM + SSND). Sample streaming is in pcm/.
 import { defaultChannelLabels } from '../analysis/audio.ts';
 import { EarmarkError } from '../errors/index.ts';
 import type { ByteReader } from './byte-reader.ts';
-import { checkStreamNumbers, fourcc, type PcmPlan, type SampleLayout } from './riff.ts';
+import { fourcc, u16be, u32be } from './bytes.ts';
+import { checkStreamNumbers } from './limits.ts';
+import type { SampleLayout } from './pcm/convert.ts';
+import type { PcmPlan } from './pcm/stream.ts';
 import type { AudioFormat, Container, DecodeWarning } from './types.ts';
-
-const u16 = (b: Uint8Array, o: number): number => (b[o] << 8) | b[o + 1];
-const u32 = (b: Uint8Array, o: number): number => ((b[o] << 24) | (b[o + 1] << 16) | (b[o + 2] << 8) | b[o + 3]) >>> 0;
 
 /**
  * 80-bit IEEE 754 extended (1 sign, 15 exponent bits biased by 16383, 64-bit mantissa with an
@@ -14,9 +14,9 @@ const u32 = (b: Uint8Array, o: number): number => ((b[o] << 24) | (b[o + 1] << 1
  */
 export function readExtended80(b: Uint8Array, o: number): number {
   const sign = b[o] & 0x80 ? -1 : 1;
-  const exponent = u16(b, o) & 0x7fff;
-  const hi = u32(b, o + 2);
-  const lo = u32(b, o + 6);
+  const exponent = u16be(b, o) & 0x7fff;
+  const hi = u32be(b, o + 2);
+  const lo = u32be(b, o + 6);
   if (exponent === 0x7fff) return (hi & 0x7fffffff) === 0 && lo === 0 ? sign * Infinity : NaN;
   if (exponent === 0 && hi === 0 && lo === 0) return 0;
   // Scale in two steps so denormal-range exponents do not underflow the intermediate.
@@ -36,9 +36,9 @@ interface Comm {
 
 function parseComm(b: Uint8Array, aifc: boolean): Comm {
   if (b.length < 18) throw new EarmarkError('corrupt_file', `COMM chunk is ${b.length} bytes, shorter than 18`);
-  const channels = u16(b, 0);
-  const frames = u32(b, 2);
-  const sampleSizeBits = u16(b, 6);
+  const channels = u16be(b, 0);
+  const frames = u32be(b, 2);
+  const sampleSizeBits = u16be(b, 6);
   const sampleRate = readExtended80(b, 8);
   checkStreamNumbers('COMM chunk', channels, sampleRate);
   let compression = 'NONE';
@@ -87,7 +87,7 @@ export async function parseAiff(reader: ByteReader, container: Container): Promi
       break;
     }
     const id = fourcc(header, 0);
-    const size = u32(header, 4);
+    const size = u32be(header, 4);
     const chunkOffset = reader.position;
     if (id === 'COMM') {
       if (size > MAX_COMM_BYTES) throw new EarmarkError('corrupt_file', `COMM chunk of ${size} bytes is implausible`);
@@ -95,7 +95,7 @@ export async function parseAiff(reader: ByteReader, container: Container): Promi
     } else if (id === 'SSND') {
       if (size < 8) throw new EarmarkError('corrupt_file', `SSND chunk of ${size} bytes has no room for its offset fields`);
       const fields = await reader.readExactly(8, 'the SSND chunk');
-      const offsetBytes = u32(fields, 0);
+      const offsetBytes = u32be(fields, 0);
       if (offsetBytes > size - 8) throw new EarmarkError('corrupt_file', `SSND offset ${offsetBytes} is past the end of the chunk`);
       ssnd = { dataOffset: chunkOffset + 8 + offsetBytes, availableBytes: size - 8 - offsetBytes };
       if (!comm && !reader.seekable) throw new EarmarkError('corrupt_file', 'SSND comes before COMM, which a non-seekable stream cannot read');

@@ -1,7 +1,7 @@
 // Sequential reader over a file handle or an async byte stream, with one reused buffer so
 // memory stays bounded whatever the file size.
 import { readSync } from 'node:fs';
-import type { FileHandle } from 'node:fs/promises';
+import { open, type FileHandle } from 'node:fs/promises';
 import { EarmarkError } from '../errors/index.ts';
 
 export const DEFAULT_READ_BYTES = 1024 * 1024;
@@ -178,5 +178,22 @@ export class ByteReader {
     const to = Math.min(source.pending.length, from + max);
     source.pendingOffset = to;
     return source.pending.subarray(from, to);
+  }
+}
+
+/** Reads up to `length` bytes at `position` (fewer at end of file) into a fresh Uint8Array. */
+export async function readRange(path: string, position: number, length: number): Promise<Uint8Array> {
+  const handle = await open(path, 'r');
+  try {
+    const out = new Uint8Array(Math.max(0, length));
+    let filled = 0;
+    while (filled < out.length) {
+      const { bytesRead } = await handle.read(out, filled, out.length - filled, position + filled);
+      if (bytesRead === 0) break;
+      filled += bytesRead;
+    }
+    return out.subarray(0, filled);
+  } finally {
+    await handle.close();
   }
 }

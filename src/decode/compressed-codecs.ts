@@ -1,7 +1,6 @@
 // Loads one per-format decoder package behind one minimal local interface. We use the
 // per-format packages (not the audio-decode front door) because only they return the codec's
 // error list, and they do not fold identical stereo channels to mono.
-import type { CodecPackage } from './compressed-probe.ts';
 
 export interface CodecOutput {
   channelData: Float32Array[];
@@ -17,15 +16,20 @@ export interface Codec {
   free(): void;
 }
 
-export async function loadCodec(name: CodecPackage): Promise<Codec> {
-  switch (name) {
-    case 'flac': return (await import('@audio/decode-flac')).decoder();
-    case 'mp3': return (await import('@audio/decode-mp3')).decoder();
-    case 'mp4': return (await import('@audio/decode-mp4')).decoder();
-    case 'aac': return (await import('@audio/decode-aac')).decoder();
-    case 'vorbis': return (await import('@audio/decode-vorbis')).decoder();
-    case 'opus': return (await import('@audio/decode-opus')).decoder();
-    case 'webm': return (await import('@audio/decode-webm')).decoder();
-    case 'caf': return (await import('@audio/decode-caf')).decoder();
-  }
+/** The decoder packages by the name a probe gives (Probe.codec). */
+const CODECS = {
+  flac: async () => (await import('@audio/decode-flac')).decoder(),
+  mp3: async () => (await import('@audio/decode-mp3')).decoder(),
+  mp4: async () => (await import('@audio/decode-mp4')).decoder(),
+  aac: async () => (await import('@audio/decode-aac')).decoder(),
+  vorbis: async () => (await import('@audio/decode-vorbis')).decoder(),
+  opus: async () => (await import('@audio/decode-opus')).decoder(),
+  webm: async () => (await import('@audio/decode-webm')).decoder(),
+  caf: async () => (await import('@audio/decode-caf')).decoder(),
+} satisfies Record<string, () => Promise<Codec>>;
+
+export type CodecPackage = keyof typeof CODECS;
+
+export function loadCodec(name: CodecPackage): Promise<Codec> {
+  return CODECS[name]();
 }

@@ -1,6 +1,6 @@
 // MPEG audio probe: first frame header (rate, channel mode) and the Xing/Info/VBRI frame count.
 import { EarmarkError } from '../errors/index.ts';
-import { ascii, id3v2Length, u16be, u32be, u24be } from './compressed-bytes.ts';
+import { ascii, id3v2Length, u16be, u32be, u24be } from './bytes.ts';
 
 export interface MpegFrameHeader {
   layer: 1 | 2 | 3;

@@ -1,6 +1,7 @@
 // MP4/M4A probe: walks top-level boxes by seeking (no full read), then the first sound track in moov.
 import { EarmarkError } from '../errors/index.ts';
-import { ascii, readRange, u16be, u32be, u64be } from './compressed-bytes.ts';
+import { readRange } from './byte-reader.ts';
+import { ascii, u16be, u32be, u64be } from './bytes.ts';
 
 export interface Mp4Probe {
   encoding: string;

@@ -1,6 +1,6 @@
 // WebM/Matroska probe: the first audio TrackEntry and Segment Info duration, read from the file head.
 import { EarmarkError } from '../errors/index.ts';
-import { ascii } from './compressed-bytes.ts';
+import { ascii, f32be, f64be, uintbe } from './bytes.ts';
 
 export interface WebmProbe { encoding: string; sampleRate: number; channels: number; frames: number | null }
 
@@ -20,11 +20,7 @@ function vint(b: Uint8Array, o: number, keepMarker: boolean): { value: number; l
   return { value, length, unknown: !keepMarker && allOnes };
 }
 
-const uint = (b: Uint8Array, o: number, n: number): number => { let v = 0; for (let i = 0; i < n; i++) v = v * 256 + b[o + i]; return v; };
-const float = (b: Uint8Array, o: number, n: number): number => {
-  const view = new DataView(b.buffer, b.byteOffset + o, n);
-  return n === 4 ? view.getFloat32(0) : n === 8 ? view.getFloat64(0) : NaN;
-};
+const float = (b: Uint8Array, o: number, n: number): number => (n === 4 ? f32be(b, o) : n === 8 ? f64be(b, o) : NaN);
 
 interface Track { type?: number; codec?: string; rate?: number; channels?: number }
 
@@ -44,12 +40,12 @@ export function probeWebm(head: Uint8Array): WebmProbe {
       if (id.value === ID.trackEntry) track = {};
       if (MASTERS.has(id.value)) { if (walk(body, end)) return true; }
       else if (end <= head.length) {
-        if (id.value === ID.timecodeScale) scale = uint(head, body, end - body);
+        if (id.value === ID.timecodeScale) scale = uintbe(head, body, end - body);
         else if (id.value === ID.duration) found.duration = float(head, body, end - body);
-        else if (id.value === ID.trackType) track.type = uint(head, body, end - body);
+        else if (id.value === ID.trackType) track.type = uintbe(head, body, end - body);
         else if (id.value === ID.codecId) track.codec = ascii(head, body, end - body).replace(/\0+$/, '');
         else if (id.value === ID.samplingFrequency) track.rate = float(head, body, end - body);
-        else if (id.value === ID.channels) track.channels = uint(head, body, end - body);
+        else if (id.value === ID.channels) track.channels = uintbe(head, body, end - body);
       }
       if (id.value === ID.trackEntry && track.type === 2 && !found.audio) found.audio = track;
       o = end;

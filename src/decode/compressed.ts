@@ -1,6 +1,7 @@
-// Compressed formats (FLAC, MP3, AAC/M4A, Ogg Vorbis/Opus/FLAC, WebM, CAF) through the per-format
-// audio-decode packages. Streams in fixed-size input chunks; MP4 with its index (moov) after the
-// audio is fed index first (faststartMoov) and streamed too, under the decoded-size cap.
+// The decode loop every compressed format shares, through the per-format audio-decode packages;
+// each format's file in formats/ supplies its probe and input slicing. Streams in fixed-size
+// input chunks; MP4 with its index (moov) after the audio is fed index first (faststartMoov) and
+// streamed too, under the decoded-size cap.
 import { createReadStream } from 'node:fs';
 import { stat } from 'node:fs/promises';
 import { defaultChannelLabels, type PcmBlock } from '../analysis/audio.ts';
@@ -9,19 +10,56 @@ import {
   DEFAULT_MAX_BLOCK_FRAMES, DEFAULT_MAX_DECODED_BYTES, DEFAULT_MAX_DECODED_SECONDS,
   type AudioFormat, type Container, type DecodeOptions, type DecodedAudio, type DecodeWarning,
 } from './types.ts';
-import { loadCodec } from './compressed-codecs.ts';
-import { FlacInputSlicer } from './compressed-flac.ts';
+import { readRange } from './byte-reader.ts';
+import { loadCodec, type CodecPackage } from './compressed-codecs.ts';
 import { faststartMoov } from './compressed-mp4.ts';
 import { OutputCheck } from './compressed-output.ts';
-import { readRange } from './compressed-bytes.ts';
-import { probe, type Probe } from './compressed-probe.ts';
-import { checkStreamNumbers } from './riff.ts';
+import type { Probe } from './compressed-probe.ts';
+import type { Decoder } from './decoder.ts';
+import { checkStreamNumbers } from './limits.ts';
 import { safeName } from './safe-name.ts';
 
 /** Input chunk size read from the file; native FLAC is cut further (compressed-flac.ts). */
 export const INPUT_CHUNK_BYTES = 256 * 1024;
 
-export async function openCompressed(path: string, container: Container, options: DecodeOptions = {}): Promise<DecodedAudio> {
+export interface InputSlicer { push(chunk: Uint8Array, last: boolean): Iterable<Uint8Array> }
+
+/** What a compressed format adds to the shared decode loop. */
+export interface CompressedFormat {
+  /** What the container declares, read from its headers (and tail) without decoding. */
+  probe(path: string, fileBytes: number): Promise<Probe>;
+  /** How the file's bytes are cut into decode() calls. */
+  slicer(channels: number): InputSlicer;
+}
+
+type CompressedDecoderSpec = CompressedFormat & Pick<Decoder, 'detect' | 'detectAfterId3' | 'seek'>;
+
+/** A registry entry for a compressed format: `open` and `probe` run the shared loop with the format's parts. */
+export function compressedDecoder(spec: CompressedDecoderSpec): Decoder {
+  const { detect, detectAfterId3, seek } = spec;
+  return {
+    detect,
+    ...(detectAfterId3 ? { detectAfterId3 } : {}),
+    ...(seek ? { seek } : {}),
+    probe: async (file) => (await probeFile(file.path, file.container, spec)).format,
+    open: (file, _handle, options) => openCompressed(file.path, file.container, spec, options),
+  };
+}
+
+async function probeFile(path: string, container: Container, compressed: CompressedFormat): Promise<{ fileBytes: number; p: Probe; format: AudioFormat }> {
+  const fileBytes = await fileSize(path);
+  const p = await compressed.probe(path, fileBytes);
+  checkStreamNumbers(`the ${container} header`, p.channels, p.sampleRate);
+  return {
+    fileBytes, p, format: {
+      container, encoding: p.encoding, sampleRate: p.sampleRate, channels: p.channels, bitsPerSample: p.bitsPerSample,
+      frames: p.frames, durationSeconds: p.frames === null ? null : p.frames / p.sampleRate,
+      channelLabels: defaultChannelLabels(p.channels), channelMask: null, timeReferenceSamples: null,
+    },
+  };
+}
+
+async function openCompressed(path: string, container: Container, compressed: CompressedFormat, options: DecodeOptions = {}): Promise<DecodedAudio> {
   const blockFrames = options.maxBlockFrames ?? DEFAULT_MAX_BLOCK_FRAMES;
   const maxDecodedBytes = options.maxDecodedBytes ?? DEFAULT_MAX_DECODED_BYTES;
   const maxDecodedSeconds = options.maxDecodedSeconds ?? DEFAULT_MAX_DECODED_SECONDS;
@@ -29,24 +67,15 @@ export async function openCompressed(path: string, container: Container, options
   if (!(maxDecodedBytes > 0)) throw new EarmarkError('invalid_argument', 'maxDecodedBytes must be positive', { field: 'maxDecodedBytes' });
   if (!(maxDecodedSeconds > 0)) throw new EarmarkError('invalid_argument', 'maxDecodedSeconds must be positive', { field: 'maxDecodedSeconds' });
 
-  const fileBytes = await fileSize(path);
-  const p = await probe(path, container, fileBytes);
-  checkStreamNumbers(`the ${container} header`, p.channels, p.sampleRate);
+  const { fileBytes, p, format } = await probeFile(path, container, compressed);
   if (p.wholeFile) checkWholeFileCap(p, fileBytes, maxDecodedBytes);
-
-  const format: AudioFormat = {
-    container, encoding: p.encoding, sampleRate: p.sampleRate, channels: p.channels, bitsPerSample: p.bitsPerSample,
-    frames: p.frames, durationSeconds: p.frames === null ? null : p.frames / p.sampleRate,
-    channelLabels: defaultChannelLabels(p.channels), channelMask: null, timeReferenceSamples: null,
-  };
   const warnings: DecodeWarning[] = [];
   const check = new OutputCheck(p, blockFrames, warnings, p.wholeFile ? maxDecodedBytes : Infinity, Math.floor(maxDecodedSeconds * p.sampleRate));
-  return { format, blocks: decodeBlocks(path, container, p, fileBytes, check), warnings, get framesDecoded() { return check.framesOut; } };
+  return { format, blocks: decodeBlocks(path, compressed.slicer(p.channels), p, fileBytes, check), warnings, get framesDecoded() { return check.framesOut; } };
 }
 
-async function* decodeBlocks(path: string, container: Container, p: Probe, fileBytes: number, check: OutputCheck): AsyncGenerator<PcmBlock> {
+async function* decodeBlocks(path: string, slicer: InputSlicer, p: Probe, fileBytes: number, check: OutputCheck): AsyncGenerator<PcmBlock> {
   const codec = await loadCodec(p.codec);
-  const slicer = inputSlicer(container, p.channels);
   const layout = p.mp4Layout;
   // Byte ranges of the file in the order the decoder reads them; an index-at-the-end MP4 sends
   // everything before its first mdat and the moved moov first, then the rest without the old moov.
@@ -100,20 +129,43 @@ export const SMALL_SLICE_BYTES = 1024;
  */
 export const MP3_SLICE_BYTES = 16 * 1024;
 
-interface InputSlicer { push(chunk: Uint8Array, last: boolean): Iterable<Uint8Array> }
-
-function inputSlicer(container: Container, channels: number): InputSlicer {
-  if (container === 'flac') return new FlacInputSlicer(channels);
-  // WebM too: besides its output, its decoder slows down more than in proportion to the input one
-  // call is given (2 minutes of Opus silence, 400 KB, in one call: over a minute; in 1 KiB slices: 1 s).
-  const sliceBytes = container === 'mp3' ? MP3_SLICE_BYTES
-    : container === 'ogg' || container === 'aac' || container === 'm4a' || container === 'webm' ? SMALL_SLICE_BYTES : 0;
-  if (!sliceBytes) return { push: (chunk) => [chunk] };
+/** Cuts each chunk into slices of at most `sliceBytes`. */
+export function fixedSlices(sliceBytes: number): InputSlicer {
   return {
     *push(chunk) {
       for (let at = 0; at < chunk.length; at += sliceBytes) yield chunk.subarray(at, at + sliceBytes);
     },
   };
+}
+
+/** Each chunk whole, as read. */
+export const WHOLE_CHUNKS: InputSlicer = { push: (chunk) => [chunk] };
+
+/**
+ * Decodes `prefix`, then the file from `offset` on, through `slicer` and `check`: the loop of a
+ * decode that starts part-way through (seeking).
+ */
+export async function* decodeFrom(path: string, codecName: CodecPackage, prefix: Uint8Array | null, offset: number, fileBytes: number,
+  slicer: InputSlicer, check: OutputCheck): AsyncGenerator<PcmBlock> {
+  const codec = await loadCodec(codecName);
+  const stream = createReadStream(path, { start: offset, highWaterMark: INPUT_CHUNK_BYTES });
+  try {
+    if (prefix) yield* check.take(await codec.decode(prefix), false);
+    let read = offset;
+    for await (const chunk of stream as AsyncIterable<Buffer>) {
+      read += chunk.byteLength;
+      const last = read >= fileBytes;
+      for (const slice of slicer.push(new Uint8Array(chunk), last)) yield* check.take(await codec.decode(slice), last);
+    }
+    if (codec.flush) yield* check.take(await codec.flush(), true);
+    yield* check.finish();
+  } catch (e) {
+    if (e instanceof EarmarkError) throw e;
+    throw new EarmarkError('corrupt_file', `decoder failed: ${e instanceof Error ? e.message : String(e)}`, {}, { cause: e });
+  } finally {
+    codec.free();
+    stream.destroy();
+  }
 }
 
 function checkWholeFileCap(p: Probe, fileBytes: number, cap: number): void {

@@ -1,35 +1,26 @@
-// Entry point: open any audio file by its bytes, streaming PCM containers here and handing
-// everything else to the compressed decoder.
+// Entry point: open any audio file by its bytes. Detection names the container; its registry
+// entry (registry.ts) decodes it.
 import { open, stat, type FileHandle } from 'node:fs/promises';
 import { EarmarkError } from '../errors/index.ts';
-import { parseAiff } from './aiff.ts';
 import { ByteReader } from './byte-reader.ts';
-import { openCompressed } from './compressed.ts';
-import { DETECT_HEAD_BYTES, detectAfterId3, detectContainer, id3v2Length } from './detect.ts';
-import { replaceNonFinite } from './finite.ts';
-import { parseRiff, streamPcm, type PcmPlan } from './riff.ts';
+import { DETECT_HEAD_BYTES, detectAfterId3, detectContainer } from './detect.ts';
+import { id3v2Length } from './bytes.ts';
+import { DECODERS } from './registry.ts';
 import { safeName } from './safe-name.ts';
 import type { Container, DecodedAudio, DecodeOptions } from './types.ts';
 
 export * from './types.ts';
-export { detectContainer, detectAfterId3, id3v2Length } from './detect.ts';
+export { detectContainer, detectAfterId3 } from './detect.ts';
+export { id3v2Length } from './bytes.ts';
 export { ByteReader } from './byte-reader.ts';
-export { parseRiff, streamPcm, labelsFromChannelMask, convertInterleaved, type PcmPlan, type SampleLayout } from './riff.ts';
+export { DECODERS } from './registry.ts';
+export type { AudioFile, Decoder } from './decoder.ts';
+export { parseRiff, labelsFromChannelMask } from './riff.ts';
+export { streamPcm, type PcmPlan } from './pcm/stream.ts';
+export { convertInterleaved, type SampleLayout } from './pcm/convert.ts';
 export { parseAiff, readExtended80 } from './aiff.ts';
 
 const MAX_ID3_TAGS = 4;
-
-function isPcmContainer(container: Container): boolean {
-  return container === 'wav' || container === 'rf64' || container === 'bw64' || container === 'aiff' || container === 'aifc';
-}
-
-function parsePlan(reader: ByteReader, container: Container): Promise<PcmPlan> {
-  return container === 'aiff' || container === 'aifc' ? parseAiff(reader, container) : parseRiff(reader, container);
-}
-
-function checkedFloats(plan: PcmPlan, decoded: DecodedAudio): DecodedAudio {
-  return plan.layout.kind === 'float' ? replaceNonFinite(decoded) : decoded;
-}
 
 async function readAt(handle: FileHandle, position: number, length: number): Promise<Uint8Array> {
   const buffer = new Uint8Array(length);
@@ -57,7 +48,16 @@ async function detectFile(handle: FileHandle): Promise<Container | null> {
  * Opens `path` for streaming decode. File handles are opened again when `blocks` is first
  * iterated and closed when iteration ends or stops early, so an unread result holds no handle.
  */
-export async function openAudioFile(path: string, options: DecodeOptions = {}): Promise<DecodedAudio> {
+export function openAudioFile(path: string, options: DecodeOptions = {}): Promise<DecodedAudio> {
+  return openWith(path, null, options);
+}
+
+/** Opens `path` with the decoder of `container`, without detection (tests, and callers that know better). */
+export function openAudioFileAs(path: string, container: Container, options: DecodeOptions = {}): Promise<DecodedAudio> {
+  return openWith(path, container, options);
+}
+
+async function openWith(path: string, knownContainer: Container | null, options: DecodeOptions): Promise<DecodedAudio> {
   let sizeBytes: number;
   try {
     const info = await stat(path);
@@ -75,18 +75,13 @@ export async function openAudioFile(path: string, options: DecodeOptions = {}): 
   } catch (error) {
     throw new EarmarkError('file_not_found', `cannot open ${safeName(path)}: ${(error as NodeJS.ErrnoException).code ?? String(error)}`, {}, { cause: error });
   }
-  let plan: PcmPlan;
-  let container: Container | null;
   try {
-    container = await detectFile(handle);
+    const container = knownContainer ?? (await detectFile(handle));
     if (container === null) throw new EarmarkError('unsupported_format', `${safeName(path)} is not in a recognised audio format`);
-    if (!isPcmContainer(container)) return await openCompressed(path, container, options);
-    plan = await parsePlan(ByteReader.fromFile(handle, sizeBytes), container);
+    return await DECODERS[container].open({ path, container, sizeBytes }, handle, options);
   } finally {
     await handle.close();
   }
-  const dataOffset = plan.dataOffset;
-  return checkedFloats(plan, streamPcm(plan, async () => ByteReader.fromFile(await open(path, 'r'), sizeBytes, dataOffset), options));
 }
 
 /**
@@ -99,11 +94,11 @@ export async function openPcmStream(stream: AsyncIterable<Uint8Array>, options: 
     const head = await reader.peek(12);
     if (head.length === 0) throw new EarmarkError('empty_file', 'the stream is empty');
     const container = detectContainer(head);
-    if (container === null || !isPcmContainer(container)) {
+    const decoder = container === null ? null : DECODERS[container];
+    if (container === null || !decoder?.openStream) {
       throw new EarmarkError('unsupported_format', container ? `${container} streams need a file path` : 'the stream is not in a recognised PCM format');
     }
-    const plan = await parsePlan(reader, container);
-    return checkedFloats(plan, streamPcm(plan, async () => reader, options));
+    return await decoder.openStream(reader, container, options);
   } catch (error) {
     await reader.close();
     throw error;

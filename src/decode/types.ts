@@ -1,6 +1,9 @@
 import type { ChannelLabel, PcmBlock } from '../analysis/audio.ts';
+import type { DECODERS } from './registry.ts';
 
-export type Container = 'wav' | 'rf64' | 'bw64' | 'aiff' | 'aifc' | 'flac' | 'mp3' | 'm4a' | 'aac' | 'ogg' | 'webm' | 'caf' | 'other';
+// One per entry of the decoder registry (registry.ts).
+/** The audio container, named from the file's bytes. */
+export type Container = keyof typeof DECODERS;
 
 /** Everything known about the file's audio before (and, for `frames`, after) decoding. */
 export interface AudioFormat {
@@ -44,6 +47,15 @@ export interface DecodedAudio {
   blocks: AsyncIterable<PcmBlock>;
   readonly warnings: DecodeWarning[];
   readonly framesDecoded: number;
+}
+
+/** A decode that starts part-way through a file (excerpts). */
+export interface SeekedAudio {
+  audio: DecodedAudio;
+  /** Frame of the first sample the blocks hold: at or before the frame asked for. */
+  firstFrame: number;
+  /** How the start was reached. */
+  method: 'pcm_offset' | 'flac_frame' | 'mp3_frame' | 'from_start';
 }
 
 export interface DecodeOptions {

@@ -5,7 +5,7 @@ import { mkdtempSync, readFileSync, rmSync, statSync, writeFileSync } from 'node
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { openCompressed } from '../../src/decode/compressed.ts';
+import { openAudioFileAs } from '../../src/decode/index.ts';
 import type { Container, DecodedAudio } from '../../src/decode/types.ts';
 import { EarmarkError } from '../../src/errors/index.ts';
 import { hasTool } from '../helpers/tools.ts';
@@ -45,7 +45,7 @@ const rmsDb = (x: Float32Array): number => 10 * Math.log10(x.reduce((s, v) => s 
 
 async function expectTypedOrTruncated(path: string, container: Container): Promise<void> {
   try {
-    const d = await openCompressed(path, container);
+    const d = await openAudioFileAs(path, container);
     await decodeAll(d);
     expect(d.warnings.map((w) => w.code)).toContain('truncated_data');
   } catch (e) {
@@ -54,7 +54,7 @@ async function expectTypedOrTruncated(path: string, container: Container): Promi
   }
 }
 async function expectTypedError(path: string, container: Container, code?: string): Promise<void> {
-  const run = async () => { const d = await openCompressed(path, container); await decodeAll(d); };
+  const run = async () => { const d = await openAudioFileAs(path, container); await decodeAll(d); };
   await expect(run()).rejects.toBeInstanceOf(EarmarkError);
   if (code) await expect(run()).rejects.toMatchObject({ code });
 }
@@ -65,13 +65,13 @@ function cut(path: string, fraction: number): string {
   return out;
 }
 
-describe.skipIf(!hasFfmpeg)('openCompressed against ffmpeg', () => {
+describe.skipIf(!hasFfmpeg)('compressed decoders against ffmpeg', () => {
   beforeAll(() => { dir = mkdtempSync(join(tmpdir(), 'earmark-compressed-')); });
   afterAll(() => { if (dir) rmSync(dir, { recursive: true, force: true }); });
 
   it.each([[16, 's16'], [24, 's32']])('FLAC %i-bit is bit-exact', async (bits, fmt) => {
     const f = encode(`f${bits}.flac`, STEREO, ['-c:a', 'flac', '-sample_fmt', fmt, ...(bits === 24 ? ['-bits_per_raw_sample', '24'] : [])]);
-    const d = await openCompressed(f, 'flac', { maxBlockFrames: 4096 });
+    const d = await openAudioFileAs(f, 'flac', { maxBlockFrames: 4096 });
     expect(d.format).toMatchObject({ encoding: 'flac', sampleRate: 48000, channels: 2, bitsPerSample: bits, frames: 240000, durationSeconds: 5 });
     const ours = await decodeAll(d);
     const ref = reference(f, 2);
@@ -93,7 +93,7 @@ describe.skipIf(!hasFfmpeg)('openCompressed against ffmpeg', () => {
   ];
   it.each(lossy)('%s: rate, channels, frame count and level match ffmpeg', async (name, src, container, args, channels, encoding, slack) => {
     const f = encode(name, src, args, channels);
-    const d = await openCompressed(f, container);
+    const d = await openAudioFileAs(f, container);
     expect(d.format).toMatchObject({ container, encoding, sampleRate: 48000, channels, bitsPerSample: null });
     const ours = await decodeAll(d);
     const ref = reference(f, channels);
@@ -104,14 +104,14 @@ describe.skipIf(!hasFfmpeg)('openCompressed against ffmpeg', () => {
   });
 
   it('keeps identical-channel stereo MP3 as two channels', async () => {
-    const d = await openCompressed(join(dir, 'dual.mp3'), 'mp3');
+    const d = await openAudioFileAs(join(dir, 'dual.mp3'), 'mp3');
     const [l, r] = await decodeAll(d);
     expect(d.format.channels).toBe(2);
     expect(r).toEqual(l);
   });
 
   it('yields blocks no longer than maxBlockFrames and frees on early stop', async () => {
-    const d = await openCompressed(join(dir, 'cbr.mp3'), 'mp3', { maxBlockFrames: 1000 });
+    const d = await openAudioFileAs(join(dir, 'cbr.mp3'), 'mp3', { maxBlockFrames: 1000 });
     let n = 0;
     for await (const b of d.blocks) { expect(b.frames).toBeLessThanOrEqual(1000); if (++n === 3) break; }
     expect(d.framesDecoded).toBe(3000);
@@ -123,7 +123,7 @@ describe.skipIf(!hasFfmpeg)('openCompressed against ffmpeg', () => {
     });
 
   it('a cut FLAC reports truncated_data at the frame it stopped', async () => {
-    const d = await openCompressed(cut(join(dir, 'f16.flac'), 0.5), 'flac');
+    const d = await openAudioFileAs(cut(join(dir, 'f16.flac'), 0.5), 'flac');
     await decodeAll(d);
     expect(d.warnings).toEqual([expect.objectContaining({ code: 'truncated_data', atFrame: d.framesDecoded })]);
   });
@@ -150,6 +150,6 @@ describe.skipIf(!hasFfmpeg)('openCompressed against ffmpeg', () => {
   it('refuses a whole-file M4A over the decoded-size cap before decoding', async () => {
     const f = join(dir, 'end.m4a');
     expect(statSync(f).size).toBeGreaterThan(0);
-    await expect(openCompressed(f, 'm4a', { maxDecodedBytes: 1_000_000 })).rejects.toMatchObject({ code: 'decoded_size_exceeded' });
+    await expect(openAudioFileAs(f, 'm4a', { maxDecodedBytes: 1_000_000 })).rejects.toMatchObject({ code: 'decoded_size_exceeded' });
   });
 });

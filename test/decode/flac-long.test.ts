@@ -6,7 +6,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { decoder } from '@audio/decode-flac';
-import { openCompressed } from '../../src/decode/compressed.ts';
+import { openAudioFileAs } from '../../src/decode/index.ts';
 import { FLAC_MAX_HEADER_BYTES, FlacInputSlicer, flacHeaderBlockSize } from '../../src/decode/compressed-flac.ts';
 import type { DecodedAudio } from '../../src/decode/types.ts';
 import { hasTool } from '../helpers/tools.ts';
@@ -100,7 +100,7 @@ describe.skipIf(!hasFfmpeg)('long FLAC', () => {
     const path = encode('silence-600s.flac', 'anullsrc=r=48000:cl=stereo', ['-t', '600', '-c:a', 'flac', '-frame_size', '256']);
     const declared = ffprobeDeclaredFrames(path);
     expect(declared).toBe(600 * 48000);
-    const d = await openCompressed(path, 'flac');
+    const d = await openAudioFileAs(path, 'flac');
     expect(d.format.frames).toBe(declared);
     await drain(d);
     expect(d.framesDecoded).toBe(declared);
@@ -115,7 +115,7 @@ describe.skipIf(!hasFfmpeg)('long FLAC', () => {
     ['silence-1800s.oga', 'ogg', ['-c:a', 'flac', '-f', 'ogg']],
   ] as const)('%s decodes with bounded memory', async (name, container, args) => {
     const path = encode(name, 'anullsrc=r=48000:cl=stereo', ['-t', '1800', ...args]);
-    const d = await openCompressed(path, container);
+    const d = await openAudioFileAs(path, container);
     const used = () => { const m = process.memoryUsage(); return m.heapUsed + m.arrayBuffers; };
     const before = used();
     let peak = before;

@@ -7,7 +7,7 @@ import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { openCompressed } from '../../src/decode/compressed.ts';
+import { openAudioFileAs } from '../../src/decode/index.ts';
 import { probeMp4 } from '../../src/decode/compressed-mp4.ts';
 import { hasTool } from '../helpers/tools.ts';
 
@@ -15,7 +15,7 @@ const hasFfmpeg = hasTool('ffmpeg');
 let dir = '';
 
 async function digest(path: string): Promise<{ frames: number; sha1: string; warnings: string[] }> {
-  const d = await openCompressed(path, 'm4a');
+  const d = await openAudioFileAs(path, 'm4a');
   const h = createHash('sha1');
   for await (const b of d.blocks) for (const c of b.channelData) h.update(new Uint8Array(c.buffer, c.byteOffset, b.frames * 4));
   return { frames: d.framesDecoded, sha1: h.digest('hex'), warnings: d.warnings.map((w) => w.code) };
@@ -47,6 +47,6 @@ describe.skipIf(!hasFfmpeg)('M4A with the index at the end', () => {
     expect(b[mdhd + 8]).toBe(0); // version 0: timescale at +20, duration at +24
     v.setUint32(mdhd + 24, 2 * v.getUint32(mdhd + 20));
     writeFileSync(path, b);
-    await expect(openCompressed(path, 'm4a')).rejects.toMatchObject({ code: 'corrupt_file' });
+    await expect(openAudioFileAs(path, 'm4a')).rejects.toMatchObject({ code: 'corrupt_file' });
   });
 });

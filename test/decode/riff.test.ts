@@ -7,7 +7,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
 import { openAudioFile, openPcmStream, type DecodedAudio } from '../../src/decode/index.ts';
-import { convertInterleaved } from '../../src/decode/riff.ts';
+import { convertInterleaved } from '../../src/decode/pcm/convert.ts';
 import { encodePcmFrames, wavHeader, writeWavFile } from '../../src/encode/wav.ts';
 import { EarmarkError } from '../../src/errors/index.ts';
 import { hasTool } from '../helpers/tools.ts';
