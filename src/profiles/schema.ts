@@ -1,5 +1,6 @@
-// Profile validation: the JSON Schema (openapi/profile.schema.json) first, then the few rules
-// a schema cannot say cleanly (either-or limits, min <= max, unique ids, one analysis setting).
+// Profile validation: the JSON Schema (openapi/profile.schema.json, generated from types.ts by
+// profile-schema.ts) first, then the few rules a schema cannot say cleanly (either-or limits,
+// min <= max, unique ids, one analysis setting).
 // Every failure is an EarmarkError('invalid_profile') whose details.field is a JSON path.
 
 import { readFileSync } from 'node:fs';
