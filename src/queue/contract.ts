@@ -65,17 +65,18 @@ function parseJson(text: string): unknown {
   try { return JSON.parse(text); } catch { return null; }
 }
 
-const LEGACY_REASON = /^([a-z][a-z_]*): ([\s\S]*)$/;
+/** The plain "code: message" form, which failed jobs kept in Redis may hold. */
+const PLAIN_REASON = /^([a-z][a-z_]*): ([\s\S]*)$/;
 
-/** The WireError in a failedReason; "code: message" reasons of jobs failed before JSON still read. */
+/** The WireError in a failedReason, JSON or the plain form; anything else is internal_error. */
 export function decodeFailureError(reason: string | undefined): WireError {
   const text = reason ?? '';
   if (text.startsWith('{')) {
     const wire = parseWireError(parseJson(text));
     if (wire) return wire;
   }
-  const legacy = LEGACY_REASON.exec(text);
-  if (legacy && isErrorCode(legacy[1])) return { code: legacy[1], message: legacy[2], details: {} };
+  const plain = PLAIN_REASON.exec(text);
+  if (plain && isErrorCode(plain[1])) return { code: plain[1], message: plain[2], details: {} };
   // A crash of the child (OOM, signal) or a stall has no code of ours; keep BullMQ's words, minus anything path-like.
   const said = text.replace(/\S*[\/\\]\S*/g, '…').slice(0, 200);
   return { code: 'internal_error', message: `the analysis process ended unexpectedly${said ? ` (${said})` : ''}`, details: {} };

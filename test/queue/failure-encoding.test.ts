@@ -1,5 +1,5 @@
-// A failed job's reason crosses the process boundary as a WireError in JSON; reasons written as
-// "code: message" before that still read, and anything else is internal_error.
+// A failed job's reason crosses the process boundary as a WireError in JSON; the plain
+// "code: message" form (failed jobs kept in Redis may hold it) reads too, anything else is internal_error.
 import { describe, expect, it } from 'vitest';
 import { decodeFailure, decodeFailureError, encodeFailure } from '../../src/queue/contract.ts';
 
@@ -11,7 +11,7 @@ describe('failure encoding', () => {
     expect(decodeFailure(reason)).toEqual({ code: 'invalid_argument', message: 'channelRelations.windowSeconds: must be > 0' });
   });
 
-  it('reads "code: message" reasons of older jobs', () => {
+  it('reads the plain "code: message" form', () => {
     expect(decodeFailure('corrupt_file: bad: header')).toEqual({ code: 'corrupt_file', message: 'bad: header' });
     expect(decodeFailure('cancelled: analysis was cancelled')).toEqual({ code: 'cancelled', message: 'analysis was cancelled' });
   });
