@@ -4,12 +4,12 @@
 // of one kind: the strictest limit wins.
 
 import type { AnalysisOptions } from '../analysis/runner.ts';
-import { RULES, ruleSpec } from './rules/index.ts';
+import { RULE_TYPES, ruleSpec } from './rules/index.ts';
 import type { Profile } from './types.ts';
 
 export function analysisOptionsForProfile(profile: Profile): AnalysisOptions {
   const options: AnalysisOptions = {};
-  for (const type of Object.keys(RULES)) {
+  for (const type of RULE_TYPES) {
     const rules = profile.rules.filter((r) => r.type === type);
     if (rules.length > 0) ruleSpec(rules[0]).analysis?.(rules, options);
   }
