@@ -21,6 +21,19 @@ function typeFirst(def: Schema): Schema {
   return { ...def, properties: { type, ...rest }, required: ordered };
 }
 
+/**
+ * An enum or const of strings says the type already: without the generator's `type: string` beside
+ * it, a wrong value gets one problem (not one of the allowed values), not two.
+ */
+function withoutRedundantType(value: unknown): unknown {
+  if (Array.isArray(value)) return value.map(withoutRedundantType);
+  if (!isSchema(value)) return value;
+  const { type, ...rest } = value;
+  const strings = (Array.isArray(rest.enum) && rest.enum.every((v) => typeof v === 'string')) || typeof rest.const === 'string';
+  const kept = type === 'string' && strings ? rest : value;
+  return Object.fromEntries(Object.entries(kept).map(([key, v]) => [key, key === 'properties' && isSchema(v) ? Object.fromEntries(Object.entries(v).map(([name, p]) => [name, withoutRedundantType(p)])) : withoutRedundantType(v)]));
+}
+
 /** ajv's strict mode wants the discriminator's tag declared beside it, as a string. */
 function tagDeclared(def: Schema): Schema {
   const { discriminator } = def;
@@ -29,7 +42,7 @@ function tagDeclared(def: Schema): Schema {
 }
 
 export function generateProfileSchema(): Schema {
-  const generated = toDraft2020(createGenerator({
+  const generated = withoutRedundantType(toDraft2020(createGenerator({
     path: new URL('./types.ts', import.meta.url).pathname,
     tsconfig: new URL('../../tsconfig.json', import.meta.url).pathname,
     type: 'Profile',
@@ -39,7 +52,7 @@ export function generateProfileSchema(): Schema {
     // oneOf with discriminator: ajv then checks a rule against its own type's schema only.
     discriminatorType: 'open-api',
     extraTags: ['dependentRequired'],
-  }).createSchema('Profile'));
+  }).createSchema('Profile')));
   if (!isSchema(generated) || !isSchema(generated.$defs) || !isSchema(generated.$defs.Profile)) throw new Error('the generator gave no Profile definition');
   const { Profile: profile, ...defs } = generated.$defs;
   return {
