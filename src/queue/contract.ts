@@ -58,7 +58,12 @@ export interface DeliverWebhookV1 {
 
 /** failedReason (BullMQ keeps only a string) carries the WireError as JSON, so the API shows a stable code. */
 export function encodeFailure(code: ErrorCode, message: string, details: ErrorDetails = {}): string {
-  return JSON.stringify({ code, message, details } satisfies WireError);
+  try {
+    return JSON.stringify({ code, message, details } satisfies WireError);
+  } catch {
+    // Details JSON cannot hold (a BigInt, a cycle) are dropped, never the code.
+    return JSON.stringify({ code, message, details: {} } satisfies WireError);
+  }
 }
 
 function parseJson(text: string): unknown {

@@ -11,6 +11,10 @@ describe('failure encoding', () => {
     expect(decodeFailure(reason)).toEqual({ code: 'invalid_argument', message: 'channelRelations.windowSeconds: must be > 0' });
   });
 
+  it('keeps the code when the details cannot be JSON', () => {
+    expect(decodeFailureError(encodeFailure('corrupt_file', 'bad', { offset: 10n }))).toEqual({ code: 'corrupt_file', message: 'bad', details: {} });
+  });
+
   it('reads the plain "code: message" form', () => {
     expect(decodeFailure('corrupt_file: bad: header')).toEqual({ code: 'corrupt_file', message: 'bad: header' });
     expect(decodeFailure('cancelled: analysis was cancelled')).toEqual({ code: 'cancelled', message: 'analysis was cancelled' });
