@@ -55,7 +55,7 @@ export async function analyzeFile(path: string, options: AnalyzeFileOptions = {}
     const expectedFrames = format.frames ?? 0;
     let nextProgress = 0.05;
     for await (const block of decoded.blocks) {
-      if (options.signal?.aborted) throw new EarmarkError('internal_error', 'analysis was cancelled');
+      if (options.signal?.aborted) throw new EarmarkError('cancelled', 'analysis was cancelled');
       await runner.push(block);
       // Decoding reads synchronously, so without a turn per block (about 1.5 ms of work) no abort,
       // IPC disconnect, progress message or timer would run until the file ends.

@@ -4,7 +4,7 @@
 // or its deadline passes, and ends by itself after one excerpt, so the decoders' WebAssembly
 // memory (which never shrinks) goes back with it.
 import { Worker } from 'node:worker_threads';
-import { EarmarkError, errorCatalogue, type ErrorCode } from '../errors/index.ts';
+import { EarmarkError, fromWireError } from '../errors/index.ts';
 import type { Excerpt } from './excerpt.ts';
 import type { ExcerptThreadData, FromExcerptThread } from './excerpt-thread.ts';
 
@@ -92,7 +92,7 @@ export class ExcerptRunner {
       signal?.addEventListener('abort', onAbort, { once: true });
       worker.on('message', (m: FromExcerptThread) => {
         if (m.type === 'done') finish(null, { wav: m.wav, startSeconds: m.startSeconds, endSeconds: m.endSeconds, sampleRate: m.sampleRate, channels: m.channels });
-        else finish(new EarmarkError(m.code in errorCatalogue ? (m.code as ErrorCode) : 'internal_error', m.message, m.details));
+        else finish(fromWireError(m.error));
       });
       // ERR_WORKER_OUT_OF_MEMORY lands here: the heap cap was hit.
       worker.on('error', (error) => finish(new EarmarkError('internal_error', `the excerpt thread failed: ${error.message}`)));
@@ -107,6 +107,6 @@ export class ExcerptRunner {
   }
 }
 
-function aborted(): Error {
-  return Object.assign(new Error('the client went away'), { name: 'AbortError' });
+function aborted(): EarmarkError {
+  return new EarmarkError('cancelled', 'the client went away');
 }

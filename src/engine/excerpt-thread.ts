@@ -1,14 +1,14 @@
 // Worker-thread entry for one excerpt (excerpt-runner.ts starts it): cuts the span, posts the WAV
 // (its buffer transferred, not copied) or the typed error, and ends.
 import { parentPort, workerData } from 'node:worker_threads';
-import { EarmarkError } from '../errors/index.ts';
+import { toWireError, type WireError } from '../errors/index.ts';
 import { cutExcerpt } from './excerpt.ts';
 
 export interface ExcerptThreadData { path: string; startSeconds: number; endSeconds: number }
 
 export type FromExcerptThread =
   | { type: 'done'; wav: Uint8Array; startSeconds: number; endSeconds: number; sampleRate: number; channels: number }
-  | { type: 'error'; code: string; message: string; details: Record<string, unknown> };
+  | { type: 'error'; error: WireError };
 
 const { path, startSeconds, endSeconds } = workerData as ExcerptThreadData;
 try {
@@ -16,8 +16,6 @@ try {
   const message: FromExcerptThread = { type: 'done', ...excerpt };
   parentPort!.postMessage(message, [excerpt.wav.buffer as ArrayBuffer]);
 } catch (error) {
-  const message: FromExcerptThread = error instanceof EarmarkError
-    ? { type: 'error', code: error.code, message: error.message, details: { ...error.details } }
-    : { type: 'error', code: 'internal_error', message: error instanceof Error ? error.message : String(error), details: {} };
+  const message: FromExcerptThread = { type: 'error', error: toWireError(error) };
   parentPort!.postMessage(message);
 }

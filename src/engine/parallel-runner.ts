@@ -6,7 +6,7 @@
 import { Worker } from 'node:worker_threads';
 import type { PcmBlock, StreamInfo } from '../analysis/audio.ts';
 import { AnalysisRunner, METER_NAMES, type AnalysisOptions, type Measurements, type MeterName } from '../analysis/runner.ts';
-import { EarmarkError } from '../errors/index.ts';
+import { EarmarkError, fromWireError } from '../errors/index.ts';
 import { EnvelopeBuilder } from '../analysis/envelope.ts';
 import { BlockRing, createRing } from './block-ring.ts';
 import type { FromWorker, MeterThreadData } from './parallel-worker.ts';
@@ -72,7 +72,7 @@ class MeterThread {
     const wake = () => { ring.wakeWriter(reader); this.settled?.(); };
     this.worker.on('message', (message: FromWorker) => {
       if (message.type === 'result') this.posted = message.result;
-      else this.fail(new Error(message.message));
+      else this.fail(fromWireError(message.error));
       wake();
     });
     this.worker.on('error', (error) => { this.fail(error); wake(); });
@@ -83,6 +83,8 @@ class MeterThread {
 
   /** Throws if the thread failed. */
   readonly check = (): void => {
+    // A meter's own error keeps its code, as on one thread; a crashed thread is internal.
+    if (this.failure instanceof EarmarkError) throw this.failure;
     if (this.failure) throw new EarmarkError('internal_error', `an analysis thread failed: ${this.failure.message}`);
   };
 

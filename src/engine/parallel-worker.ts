@@ -4,6 +4,7 @@
 import { parentPort, workerData } from 'node:worker_threads';
 import type { StreamInfo } from '../analysis/audio.ts';
 import { AnalysisRunner, type AnalysisOptions, type MeterName } from '../analysis/runner.ts';
+import { toWireError, type WireError } from '../errors/index.ts';
 import { BlockRing, type RingShape } from './block-ring.ts';
 
 export interface MeterThreadData {
@@ -17,7 +18,7 @@ export interface MeterThreadData {
 
 export type FromWorker =
   | { type: 'result'; result: Record<string, unknown> }
-  | { type: 'error'; message: string };
+  | { type: 'error'; error: WireError };
 
 /** Every published block through this thread's meters; null when the run was cancelled. */
 function meterAll({ info, options, meters, ring: shape, reader }: MeterThreadData): Record<string, unknown> | null {
@@ -35,5 +36,5 @@ try {
   const result = meterAll(workerData as MeterThreadData);
   if (result) port.postMessage({ type: 'result', result } satisfies FromWorker);
 } catch (error) {
-  port.postMessage({ type: 'error', message: error instanceof Error ? error.message : String(error) } satisfies FromWorker);
+  port.postMessage({ type: 'error', error: toWireError(error) } satisfies FromWorker);
 }

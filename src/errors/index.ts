@@ -96,13 +96,19 @@ export function toWireError(value: unknown): WireError {
   return { code: error.code, message: error.message, details: error.details };
 }
 
+/** The WireError in a value that came across a boundary, or null when it is not one. */
+export function parseWireError(value: unknown): WireError | null {
+  if (!value || typeof value !== 'object' || !('code' in value) || !('message' in value)) return null;
+  const { code, message } = value;
+  if (!isErrorCode(code) || typeof message !== 'string') return null;
+  const details = 'details' in value && value.details && typeof value.details === 'object' ? { ...value.details } : {};
+  return { code, message, details };
+}
+
 /** Reads a WireError back; anything that is not one becomes internal_error with its text. */
 export function fromWireError(value: unknown): EarmarkError {
-  if (value && typeof value === 'object' && 'code' in value && 'message' in value) {
-    const { code, message } = value;
-    const details = 'details' in value && value.details && typeof value.details === 'object' ? { ...value.details } : {};
-    if (isErrorCode(code) && typeof message === 'string') return new EarmarkError(code, message, details);
-  }
+  const wire = parseWireError(value);
+  if (wire) return new EarmarkError(wire.code, wire.message, wire.details);
   return new EarmarkError('internal_error', typeof value === 'string' ? value : 'an error arrived in an unknown shape');
 }
 

@@ -4,7 +4,7 @@
 
 import { EarmarkError } from '../errors/index.ts';
 import { loadProfileFile, parseProfile } from './schema.ts';
-import type { Profile } from './types.ts';
+import { DEFAULT_PHASE_MIN_CORRELATION, type Profile } from './types.ts';
 
 const R128 = 'EBU R 128 V5 (2023)';
 
@@ -81,7 +81,7 @@ function deliveryProfiles(): Profile[] {
     { id: 'no-dead-channel', type: 'dead-channel', severity: layout === 'stereo' ? 'fail' : 'warn', source: CP },
     { id: 'no-inverted-channel', type: 'inverted-channels', severity: 'fail', source: CP },
     { id: 'no-duplicate-channel', type: 'duplicate-channels', severity: 'warn', source: `${CP} (dual mono may be intended: warn)` },
-    { id: 'phase', type: 'phase', severity: 'warn', minCorrelation: -0.5, maxWindows: 0, source: `${CP} (3 s windows below -0.5 correlation)` },
+    { id: 'phase', type: 'phase', severity: 'warn', minCorrelation: DEFAULT_PHASE_MIN_CORRELATION, maxWindows: 0, source: `${CP} (3 s windows below ${DEFAULT_PHASE_MIN_CORRELATION} correlation)` },
     { id: 'dc-offset', type: 'dc-offset', severity: 'warn', maxDbfs: -50, source: `${CP} (from memory)` },
   ];
   const broadcastLoudness: Profile['rules'] = [
@@ -140,7 +140,7 @@ function deliveryProfiles(): Profile[] {
         { id: 'no-dead-air', type: 'silence-gap', severity: 'warn', maxSeconds: 5, source: CP },
         { id: 'no-dead-channel', type: 'dead-channel', severity: 'fail', source: CP },
         { id: 'no-inverted-channel', type: 'inverted-channels', severity: 'fail', source: CP },
-        { id: 'phase', type: 'phase', severity: 'warn', minCorrelation: -0.5, maxWindows: 0, source: CP },
+        { id: 'phase', type: 'phase', severity: 'warn', minCorrelation: DEFAULT_PHASE_MIN_CORRELATION, maxWindows: 0, source: CP },
         { id: 'dc-offset', type: 'dc-offset', severity: 'warn', maxDbfs: -50, source: `${CP} (from memory)` },
       ],
     },

@@ -7,6 +7,7 @@ import type { AnalysisEvent, EventKind } from '../analysis/events.ts';
 import { channelName, type AnalysisDocument } from '../engine/document.ts';
 import { fmt } from './format.ts';
 import type { CheckResult, Flag, FlagKind, FlagSeverity } from './report.ts';
+import { RULES, RULE_TYPES, ruleSpec } from './rules/index.ts';
 import { timecodeAtSample, type FrameRate } from './timecode.ts';
 import type { Profile, Rule, RuleType } from './types.ts';
 
@@ -46,30 +47,34 @@ export const FLAG_KINDS: Record<FlagKind, { title: string; unit: string | null }
 
 type Draft = Pick<Flag, 'kind' | 'ruleId' | 'severity' | 'channel' | 'otherChannel' | 'startSample' | 'endSample' | 'worstValue' | 'count' | 'detections'> & { message?: string };
 
-/** The rule types that judge an engine event, and the flag kind it becomes. */
-const EVENT_FLAGS: Record<EventKind, { kind: FlagKind; rule: RuleType | null }> = {
-  clipping: { kind: 'clipping', rule: 'clipping' },
-  dropout: { kind: 'dropout', rule: 'dropouts' },
-  silence: { kind: 'silence', rule: null },
-  true_peak_over: { kind: 'true_peak_over', rule: 'true-peak' },
-  reconstructed_over: { kind: 'true_peak_over', rule: 'true-peak' },
-  loud_short_term: { kind: 'loud_short_term', rule: 'short-term-max' },
-  loud_momentary: { kind: 'loud_momentary', rule: 'momentary-max' },
-  phase_problem: { kind: 'phase_problem', rule: 'phase' },
-  dead_channel: { kind: 'dead_channel', rule: 'dead-channel' },
-  duplicate_channel: { kind: 'duplicate_channel', rule: 'duplicate-channels' },
-  inverted_channel: { kind: 'inverted_channel', rule: 'inverted-channels' },
+/** The flag kind each engine event becomes. */
+const EVENT_FLAGS: Record<EventKind, FlagKind> = {
+  clipping: 'clipping',
+  dropout: 'dropout',
+  silence: 'silence',
+  true_peak_over: 'true_peak_over',
+  reconstructed_over: 'true_peak_over',
+  loud_short_term: 'loud_short_term',
+  loud_momentary: 'loud_momentary',
+  phase_problem: 'phase_problem',
+  dead_channel: 'dead_channel',
+  duplicate_channel: 'duplicate_channel',
+  inverted_channel: 'inverted_channel',
 };
+
+/** The rule type that judges each event kind, from the rule registry's `events`. */
+const JUDGED_BY = new Map<EventKind, RuleType>();
+for (const type of RULE_TYPES) {
+  for (const kind of RULES[type].events ?? []) {
+    const other = JUDGED_BY.get(kind);
+    if (other !== undefined) throw new Error(`event ${kind} is judged by both ${other} and ${type} rules`);
+    JUDGED_BY.set(kind, type);
+  }
+}
 
 /** Does this finding break this rule? Threshold kinds compare the finding's own value. */
 function breaks(rule: Rule, e: AnalysisEvent, doc: AnalysisDocument): boolean {
-  switch (rule.type) {
-    case 'true-peak': return (e.kind === 'reconstructed_over') === (rule.reading === 'reconstructed') && (e.peakValue ?? Infinity) > rule.maxDbtp;
-    case 'short-term-max': case 'momentary-max': return (e.peakValue ?? Infinity) > rule.maxLufs;
-    case 'silence-gap': return e.endFrame - e.startFrame > rule.maxSeconds * doc.format.sampleRate;
-    case 'dropouts': return e.channel === null || !rule.channels || rule.channels.some((l) => l === doc.format.channelLabels[e.channel ?? -1]);
-    default: return true;
-  }
+  return ruleSpec(rule).breaks?.(rule, e, doc) ?? true;
 }
 
 /** The rule that judges a finding (null when none does) and the severity it gives. */
@@ -104,9 +109,9 @@ function eventDrafts(profile: Profile, doc: AnalysisDocument, checks: Map<string
   for (const e of doc.events) {
     if ((e.kind === 'true_peak_over' || e.kind === 'reconstructed_over') && e.kind !== overKind) continue;
     if (e.kind === 'silence' && e.channel !== null && repeatsAll(e)) continue;
-    const map = EVENT_FLAGS[e.kind];
-    let kind = map.kind;
-    let rules = map.rule ? profile.rules.filter((r) => r.type === map.rule) : [];
+    let kind = EVENT_FLAGS[e.kind];
+    const judgedBy = JUDGED_BY.get(e.kind);
+    let rules = judgedBy ? profile.rules.filter((r) => r.type === judgedBy) : [];
     if (e.kind === 'silence' && e.channel === null) {
       // Head and tail silence come from the summary (edgeDrafts); the rest is a gap in the programme.
       if (e.startFrame === 0 || e.endFrame >= frames) continue;
@@ -216,7 +221,7 @@ export function buildFlags(profile: Profile, doc: AnalysisDocument, checks: Chec
   for (const e of doc.events) kept.set(e.kind, (kept.get(e.kind) ?? 0) + 1);
   for (const [kind, total] of Object.entries(doc.eventCounts) as [EventKind, number][]) {
     const missing = Math.max(0, total - (kept.get(kind) ?? 0));
-    const rule = EVENT_FLAGS[kind].rule;
+    const rule = JUDGED_BY.get(kind);
     if (missing === 0 || kind === 'silence') continue;
     unseen += missing;
     flagCounts[rule ? ruleVerdict(profile, byId, rule).severity : 'remark'] += missing;

@@ -5,8 +5,8 @@ import { createGenerator } from 'ts-json-schema-generator';
 
 type Schema = Record<string, unknown>;
 
-/** Draft-07 `definitions` become 2020-12 `$defs`, and refs follow. */
-function toDraft2020(value: unknown): unknown {
+/** Draft-07 `definitions` become 2020-12 `$defs`, and refs follow (the profile schema uses it too). */
+export function toDraft2020(value: unknown): unknown {
   if (Array.isArray(value)) return value.map(toDraft2020);
   if (!value || typeof value !== 'object') return value;
   return Object.fromEntries(Object.entries(value).map(([key, v]) => {

@@ -1,5 +1,7 @@
-// Delivery profile shape (mirrors openapi/profile.schema.json; the schema is the authority on
-// input, these types describe what parseProfile returns).
+// Delivery profile shape: the one source of the profile's JSON Schema. `npm run openapi` generates
+// openapi/profile.schema.json from these declarations (profile-schema.ts; JSDoc tags become schema
+// keywords, comments become descriptions), parseProfile validates with it, and a test checks the file
+// is current.
 
 import type { ChannelLabel } from '../analysis/audio.ts';
 import type { Container } from '../decode/types.ts';
@@ -9,48 +11,150 @@ export type Severity = 'fail' | 'warn';
 export const FRAME_RATE_IDS = ['23.976', '24', '25', '29.97-df', '29.97-ndf', '30', '50', '59.94-df', '59.94-ndf', '60'] as const;
 export type FrameRateId = (typeof FRAME_RATE_IDS)[number];
 
+/** @pattern ^[a-z0-9][a-z0-9-]{0,63}$ */
+type Slug = string;
+
 interface RuleBase {
-  id: string;
+  /** Unique within the profile; names the check in the report. */
+  id: Slug;
   severity: Severity;
-  /** Published clause or "house rule" / "common practice": shown beside the check. */
+  /**
+   * Published clause, or "house rule" / "common practice".
+   * @maxLength 200
+   */
   source?: string;
 }
 
+/** @minimum -70 @maximum 0 */
+type Lufs = number;
+/** @minimum -140 @maximum 0 */
+type Dbfs = number;
+/** @minimum -140 @maximum -20 */
+type SilenceThresholdDbfs = number;
+/** @minimum 0 @maximum 86400 */
+type Seconds = number;
+/** @minimum 0 @maximum 40 */
+type LoudnessRangeLu = number;
+/** @asType integer @minimum 0 */
+type Count = number;
+
+/**
+ * Gated integrated loudness (ITU-R BS.1770): targetLufs with toleranceLu, or minLufs and/or maxLufs (targetLufs then only sets the correction).
+ * @dependentRequired {"toleranceLu": ["targetLufs"], "measurementToleranceLu": ["toleranceLu"]}
+ */
 export interface IntegratedLoudnessRule extends RuleBase {
   type: 'integrated-loudness';
-  targetLufs?: number;
-  /** Production tolerance (EBU R 128 item h). */
+  targetLufs?: Lufs;
+  /**
+   * Production tolerance (EBU R 128 item h).
+   * @minimum 0 @maximum 10
+   */
   toleranceLu?: number;
-  /** Measurement tolerance added for QC (EBU R 128 item i): inside it, outside toleranceLu, the check is marginal (warn). */
+  minLufs?: Lufs;
+  maxLufs?: Lufs;
+  /**
+   * QC measurement tolerance added to toleranceLu (EBU R 128 item i): a reading inside it but outside toleranceLu is marginal (warn).
+   * @minimum 0 @maximum 2
+   */
   measurementToleranceLu?: number;
-  minLufs?: number;
-  maxLufs?: number;
 }
 /** annex2: the BS.1770-5 Annex 2 example filter (conformance); reconstructed: our band-limited reading, which does not under-read. */
 export type TruePeakReading = 'annex2' | 'reconstructed';
-export interface TruePeakRule extends RuleBase { type: 'true-peak'; maxDbtp: number; reading?: TruePeakReading }
-export interface SamplePeakRule extends RuleBase { type: 'sample-peak'; maxDbfs: number }
-export interface LoudnessRangeRule extends RuleBase { type: 'loudness-range'; minLu?: number; maxLu?: number }
-export interface MomentaryMaxRule extends RuleBase { type: 'momentary-max'; maxLufs: number }
-export interface ShortTermMaxRule extends RuleBase { type: 'short-term-max'; maxLufs: number }
-export interface ClippingRule extends RuleBase { type: 'clipping'; maxRuns?: number; minRunSamples?: number; thresholdDbfs?: number }
-export interface SilenceGapRule extends RuleBase { type: 'silence-gap'; maxSeconds: number; thresholdDbfs?: number }
-export interface EdgeSilenceRule extends RuleBase { type: 'head-silence' | 'tail-silence'; minSeconds?: number; maxSeconds?: number; thresholdDbfs?: number }
+/** Maximum true peak: the BS.1770-5 Annex 2 reading, or the reconstructed (band-limited) peak. */
+export interface TruePeakRule extends RuleBase {
+  type: 'true-peak';
+  /** @minimum -60 @maximum 6 */
+  maxDbtp: number;
+  /** Which reading is judged: annex2 (BS.1770-5 Annex 2 example filter, default) or reconstructed (band-limited reconstruction, within 0.05 dB). */
+  reading?: TruePeakReading;
+}
+/** Maximum sample peak. */
+export interface SamplePeakRule extends RuleBase { type: 'sample-peak'; maxDbfs: Dbfs }
+/** Loudness range (EBU Tech 3342), minLu and/or maxLu. */
+export interface LoudnessRangeRule extends RuleBase { type: 'loudness-range'; minLu?: LoudnessRangeLu; maxLu?: LoudnessRangeLu }
+/** Maximum momentary loudness (400 ms). */
+export interface MomentaryMaxRule extends RuleBase { type: 'momentary-max'; maxLufs: Lufs }
+/** Maximum short-term loudness (3 s). */
+export interface ShortTermMaxRule extends RuleBase { type: 'short-term-max'; maxLufs: Lufs }
+/** Clipping runs: at most maxRuns (default 0) runs of minRunSamples (default 3) samples at or above thresholdDbfs (default -0.01). */
+export interface ClippingRule extends RuleBase {
+  type: 'clipping';
+  maxRuns?: Count;
+  /** @asType integer @minimum 1 @maximum 1000 */
+  minRunSamples?: number;
+  /** @minimum -6 @maximum 0 */
+  thresholdDbfs?: number;
+}
+/** Longest all-channel silence inside the programme (signal on both sides). Below 0.1 s a gap is a pause, not a drop-out. */
+export interface SilenceGapRule extends RuleBase {
+  type: 'silence-gap';
+  /** @minimum 0.1 @maximum 86400 */
+  maxSeconds: number;
+  thresholdDbfs?: SilenceThresholdDbfs;
+}
+/** Silence before the first / after the last signal: minSeconds (a required lead-in) and/or maxSeconds. */
+export interface EdgeSilenceRule extends RuleBase { type: 'head-silence' | 'tail-silence'; minSeconds?: Seconds; maxSeconds?: Seconds; thresholdDbfs?: SilenceThresholdDbfs }
+/** No channel may be digital silence throughout. */
 export interface DeadChannelRule extends RuleBase { type: 'dead-channel' }
+/** No channel may be an exact or near copy (duplicate) or polarity-inverted copy (inverted) of another. */
 export interface ChannelCopyRule extends RuleBase { type: 'duplicate-channels' | 'inverted-channels' }
-export interface PhaseRule extends RuleBase { type: 'phase'; minCorrelation?: number; maxWindows?: number }
-export interface DcOffsetRule extends RuleBase { type: 'dc-offset'; maxDbfs: number }
-export interface SampleRateRule extends RuleBase { type: 'sample-rate'; allowedHz: number[] }
-export interface BitDepthRule extends RuleBase { type: 'bit-depth'; minBits: number }
-export interface ChannelsRule extends RuleBase { type: 'channels'; count?: number; layout?: ChannelLabel[] }
-export interface DurationRule extends RuleBase { type: 'duration'; minSeconds?: number; maxSeconds?: number }
-export interface ContainerRule extends RuleBase { type: 'container'; allowed: Container[] }
-/** Dropouts inside the programme; `channels` scopes the rule to channel roles (any channel when absent). */
-export interface DropoutRule extends RuleBase { type: 'dropouts'; maxCount?: number; channels?: ChannelLabel[] }
-/** The file itself: cut short, unreadable data, non-finite samples, no audio. Every profile has it
- * (fail when the profile does not name it); a profile may only lower it to warn. */
+/** Windows (3 s) with inter-channel correlation below minCorrelation (default -0.5): at most maxWindows (default 0). */
+export interface PhaseRule extends RuleBase {
+  type: 'phase';
+  /** @minimum -1 @maximum 1 */
+  minCorrelation?: number;
+  maxWindows?: Count;
+}
+/** Largest per-channel DC offset (mean sample value) in dBFS. */
+export interface DcOffsetRule extends RuleBase { type: 'dc-offset'; maxDbfs: Dbfs }
+/** @asType integer @minimum 1 @maximum 768000 */
+type SampleRateHz = number;
+/** Allowed sample rates. */
+export interface SampleRateRule extends RuleBase {
+  type: 'sample-rate';
+  /** @minItems 1 @uniqueItems true */
+  allowedHz: SampleRateHz[];
+}
+/** Minimum stored bits per sample; lossy encodings have none and fail. */
+export interface BitDepthRule extends RuleBase {
+  type: 'bit-depth';
+  /** @asType integer @minimum 8 @maximum 64 */
+  minBits: number;
+}
+/** Channel count and/or exact channel layout (labels in order). */
+export interface ChannelsRule extends RuleBase {
+  type: 'channels';
+  /** @asType integer @minimum 1 @maximum 64 */
+  count?: number;
+  /** @minItems 1 @maxItems 64 */
+  layout?: ChannelLabel[];
+}
+/** Programme duration, minSeconds and/or maxSeconds. */
+export interface DurationRule extends RuleBase { type: 'duration'; minSeconds?: Seconds; maxSeconds?: Seconds }
+/** Allowed containers. */
+export interface ContainerRule extends RuleBase {
+  type: 'container';
+  /** @minItems 1 @uniqueItems true */
+  allowed: Container[];
+}
+/** Dropouts inside the programme: digital-zero runs and sudden drops to near silence, per channel or in all channels. */
+export interface DropoutRule extends RuleBase {
+  type: 'dropouts';
+  /**
+   * Dropouts allowed (default 0).
+   * @asType integer @minimum 0 @maximum 100000
+   */
+  maxCount?: number;
+  /**
+   * Channel roles the rule judges; all channels when absent. All-channel dropouts always count.
+   * @minItems 1 @maxItems 32 @uniqueItems true
+   */
+  channels?: ChannelLabel[];
+}
+/** The file itself: cut short, unreadable data, a declared length not reached, non-finite samples, no audio. Fails under every profile; name this rule only to lower it to warn. */
 export interface IntegrityRule extends RuleBase { type: 'integrity' }
 
+/** @discriminator type */
 export type Rule =
   | IntegratedLoudnessRule | TruePeakRule | SamplePeakRule | LoudnessRangeRule | MomentaryMaxRule | ShortTermMaxRule
   | ClippingRule | SilenceGapRule | EdgeSilenceRule | DeadChannelRule | ChannelCopyRule | PhaseRule | DcOffsetRule
@@ -59,16 +163,24 @@ export type Rule =
 export type RuleType = Rule['type'];
 
 export interface Profile {
-  id: string;
+  id: Slug;
+  /** @minLength 1 @maxLength 120 */
   name: string;
+  /** @pattern ^[0-9]+\.[0-9]+\.[0-9]+$ */
   version: string;
+  /** @maxLength 2000 */
   description: string;
-  /** The published specification the profile follows, or "house rule". */
+  /**
+   * The published specification followed, or "house rule".
+   * @minLength 1 @maxLength 300
+   */
   basis: string;
   timecode?: { frameRate: FrameRateId };
+  /** @minItems 1 @maxItems 200 */
   rules: Rule[];
 }
 
 /** Clipping defaults: 3 samples within 0.01 dB of full scale (common practice, see analysis/clipping.ts). */
 export const DEFAULT_MAX_CLIP_RUNS = 0;
+/** Phase rule default: the same -0.5 as the analysis's own default (analysis/channel-relations.ts). */
 export const DEFAULT_PHASE_MIN_CORRELATION = -0.5;

@@ -2,6 +2,7 @@
 // a worker only takes names it knows, so an old worker never misreads a new payload.
 // Job data holds a storage key or URL, never audio.
 
+import { isErrorCode, parseWireError, type ErrorCode, type ErrorDetails, type WireError } from '../errors/index.ts';
 import type { Profile } from '../profiles/index.ts';
 
 export const ANALYSIS_QUEUE = 'analysis';
@@ -55,15 +56,39 @@ export interface DeliverWebhookV1 {
   body: string;
 }
 
-/** failedReason carries "code: message" so the API can show a stable code. */
-export function encodeFailure(code: string, message: string): string {
-  return `${code}: ${message}`;
+/** failedReason (BullMQ keeps only a string) carries the WireError as JSON, so the API shows a stable code. */
+export function encodeFailure(code: ErrorCode, message: string, details: ErrorDetails = {}): string {
+  try {
+    return JSON.stringify({ code, message, details } satisfies WireError);
+  } catch {
+    // Details JSON cannot hold (a BigInt, a cycle) are dropped, never the code.
+    return JSON.stringify({ code, message, details: {} } satisfies WireError);
+  }
 }
 
-export function decodeFailure(reason: string | undefined): { code: string; message: string } {
-  const match = /^([a-z][a-z_]*): ([\s\S]*)$/.exec(reason ?? '');
-  if (match) return { code: match[1], message: match[2] };
+function parseJson(text: string): unknown {
+  try { return JSON.parse(text); } catch { return null; }
+}
+
+/** The plain "code: message" form, which failed jobs kept in Redis may hold. */
+const PLAIN_REASON = /^([a-z][a-z_]*): ([\s\S]*)$/;
+
+/** The WireError in a failedReason, JSON or the plain form; anything else is internal_error. */
+export function decodeFailureError(reason: string | undefined): WireError {
+  const text = reason ?? '';
+  if (text.startsWith('{')) {
+    const wire = parseWireError(parseJson(text));
+    if (wire) return wire;
+  }
+  const plain = PLAIN_REASON.exec(text);
+  if (plain && isErrorCode(plain[1])) return { code: plain[1], message: plain[2], details: {} };
   // A crash of the child (OOM, signal) or a stall has no code of ours; keep BullMQ's words, minus anything path-like.
-  const said = (reason ?? '').replace(/\S*[\/\\]\S*/g, '…').slice(0, 200);
-  return { code: 'internal_error', message: `the analysis process ended unexpectedly${said ? ` (${said})` : ''}` };
+  const said = text.replace(/\S*[\/\\]\S*/g, '…').slice(0, 200);
+  return { code: 'internal_error', message: `the analysis process ended unexpectedly${said ? ` (${said})` : ''}`, details: {} };
+}
+
+/** What the job view shows of a failure: its code and words. */
+export function decodeFailure(reason: string | undefined): { code: string; message: string } {
+  const { code, message } = decodeFailureError(reason);
+  return { code, message };
 }

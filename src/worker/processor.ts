@@ -78,8 +78,11 @@ export default async function analyzeJob(job: SandboxedJob<AnalyzeJobV1, Analyze
     const error = toEarmarkError(thrown);
     const transient = isRetryable(error);
     // Decoder messages name the file by path: clients and logs get the client's file name instead.
-    const message = path ? error.message.split(`"${path}"`).join(fileName).split(path).join(fileName).split(config.storageDir).join('storage') : error.message;
-    const reason = encodeFailure(error.code, error.code === 'internal_error' ? 'the analysis failed unexpectedly' : message);
+    const scrub = (text: string) => (path ? text.split(`"${path}"`).join(fileName).split(path).join(fileName).split(config.storageDir).join('storage') : text);
+    const details = Object.fromEntries(Object.entries(error.details).map(([key, value]) => [key, typeof value === 'string' ? scrub(value) : value]));
+    const reason = error.code === 'internal_error'
+      ? encodeFailure(error.code, 'the analysis failed unexpectedly')
+      : encodeFailure(error.code, scrub(error.message), details);
     if (!transient) throw new UnrecoverableError(reason);
     throw new Error(reason);
   } finally {

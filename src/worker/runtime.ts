@@ -12,7 +12,7 @@ import { DelayedError, Job, UnrecoverableError, Worker, type Span, type WorkerOp
 import type { Redis } from 'ioredis';
 import type { Logger } from 'pino';
 import type { Config } from '../config/index.ts';
-import { toEarmarkError } from '../errors/index.ts';
+import { isRetryable, toEarmarkError } from '../errors/index.ts';
 import { UrlPolicy } from '../net/url-guard.ts';
 import { ANALYSIS_QUEUE, ANALYZE_JOB_V1, DELIVER_WEBHOOK_V1, WEBHOOK_QUEUE, type AnalyzeJobV1, type AnalyzeResultV1, type DeliverWebhookV1, type JobEvent } from '../queue/contract.ts';
 import { createRedis, waitReady } from '../queue/connection.ts';
@@ -209,7 +209,7 @@ export async function startWorker(config: Config, log: Logger): Promise<WorkerRu
       log.info({ jobId: d.jobId, deliveryId: d.deliveryId, attempt }, 'webhook delivered');
     } catch (thrown) {
       const error = toEarmarkError(thrown);
-      const final = error.code === 'source_refused' || attempt >= (job.opts.attempts ?? 1);
+      const final = !isRetryable(error) || attempt >= (job.opts.attempts ?? 1);
       const statusCode = typeof error.details.statusCode === 'number' ? error.details.statusCode : null;
       await record(final ? 'failed' : 'retrying', statusCode, error.message);
       log.warn({ jobId: d.jobId, deliveryId: d.deliveryId, attempt, final }, 'webhook delivery failed');

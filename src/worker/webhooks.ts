@@ -4,7 +4,7 @@
 // retries so a receiver can drop duplicates.
 
 import { createHmac, timingSafeEqual } from 'node:crypto';
-import { EarmarkError } from '../errors/index.ts';
+import { EarmarkError, isEarmarkError } from '../errors/index.ts';
 import { send } from '../net/http-request.ts';
 import type { UrlPolicy } from '../net/url-guard.ts';
 
@@ -35,11 +35,17 @@ export async function deliver(policy: UrlPolicy, args: { url: string; secret: st
   const response = await send(policy, {
     url, field: 'callbackUrl', method: 'POST', timeoutMs: args.timeoutMs, body: args.body,
     headers: { 'content-type': 'application/json', [SIGNATURE_HEADER]: signature, [DELIVERY_HEADER]: args.deliveryId, [EVENT_HEADER]: args.event },
-  });
+  }).catch((error: unknown) => { throw asWebhookFailure(error); });
   response.resume();
   const statusCode = response.statusCode ?? 0;
   if (statusCode < 200 || statusCode >= 300) {
-    throw new EarmarkError('source_fetch_failed', `callbackUrl answered HTTP ${statusCode}`, { field: 'callbackUrl', statusCode });
+    throw new EarmarkError('webhook_failed', `callbackUrl answered HTTP ${statusCode}`, { field: 'callbackUrl', statusCode });
   }
   return { statusCode };
+}
+
+/** The shared HTTP client speaks of sources; a callback that cannot be reached or stalls is a webhook failure (a refused URL stays refused). */
+function asWebhookFailure(error: unknown): unknown {
+  if (!isEarmarkError(error) || (error.code !== 'source_fetch_failed' && error.code !== 'source_stalled')) return error;
+  return new EarmarkError('webhook_failed', error.message, error.details, { cause: error });
 }

@@ -24,7 +24,7 @@ describe('analyzeFile and the event loop', () => {
     // Scheduled from inside the block loop (the first progress report), not before it starts.
     const onProgress = () => { if (!scheduled) { scheduled = true; setImmediate(() => controller.abort()); } };
     await expect(analyzeFile(path, { hash: false, signal: controller.signal, onProgress, decode: { maxBlockFrames: 4000 } }))
-      .rejects.toMatchObject({ code: 'internal_error', message: 'analysis was cancelled' });
+      .rejects.toMatchObject({ code: 'cancelled', message: 'analysis was cancelled' });
     expect(scheduled).toBe(true);
   });
 

@@ -56,8 +56,8 @@ describe('ExcerptRunner', () => {
     // A thread needs far longer than this turn to start, so both are still pending.
     running.abort();
     waiting.abort();
-    await expect(first).rejects.toMatchObject({ name: 'AbortError' });
-    await expect(second).rejects.toMatchObject({ name: 'AbortError' });
+    await expect(first).rejects.toMatchObject({ code: 'cancelled' });
+    await expect(second).rejects.toMatchObject({ code: 'cancelled' });
     expect(r.active).toBe(0);
     await expect(runner({ deadlineMs: 1 }).cut(path, 0, 1)).rejects.toMatchObject({ code: 'service_unavailable' });
     // Nothing is left waiting: the runner serves the next excerpt.

@@ -1,0 +1,64 @@
+// One entry per rule type; the compiler insists on every type of the Rule union (types.ts).
+// A new rule: its interface in types.ts, its file here, its entry below, then `npm run openapi`.
+import type { Rule, RuleType } from '../types.ts';
+import { bitDepth } from './bit-depth.ts';
+import { duplicateChannels, invertedChannels } from './channel-copies.ts';
+import { channels } from './channels.ts';
+import { clipping } from './clipping.ts';
+import { container } from './container.ts';
+import { dcOffset } from './dc-offset.ts';
+import { deadChannel } from './dead-channel.ts';
+import { dropouts } from './dropouts.ts';
+import { duration } from './duration.ts';
+import { headSilence, tailSilence } from './edge-silence.ts';
+import { integratedLoudness } from './integrated-loudness.ts';
+import { integrity } from './integrity.ts';
+import { loudnessRange } from './loudness-range.ts';
+import { momentaryMax } from './momentary-max.ts';
+import { phase } from './phase.ts';
+import type { RuleRegistry, RuleSpec } from './rule-spec.ts';
+import { samplePeak } from './sample-peak.ts';
+import { sampleRate } from './sample-rate.ts';
+import { shortTermMax } from './short-term-max.ts';
+import { silenceGap } from './silence-gap.ts';
+import { truePeak } from './true-peak.ts';
+
+/** In the order analysis settings are gathered (options.ts). */
+export const RULES: RuleRegistry = {
+  'integrated-loudness': integratedLoudness,
+  'true-peak': truePeak,
+  'sample-peak': samplePeak,
+  'loudness-range': loudnessRange,
+  'short-term-max': shortTermMax,
+  'momentary-max': momentaryMax,
+  clipping,
+  'silence-gap': silenceGap,
+  'head-silence': headSilence,
+  'tail-silence': tailSilence,
+  'dead-channel': deadChannel,
+  'duplicate-channels': duplicateChannels,
+  'inverted-channels': invertedChannels,
+  phase,
+  'dc-offset': dcOffset,
+  'sample-rate': sampleRate,
+  'bit-depth': bitDepth,
+  channels,
+  duration,
+  container,
+  dropouts,
+  integrity,
+};
+
+export function isRuleType(value: string): value is RuleType {
+  return Object.hasOwn(RULES, value);
+}
+
+/** Every rule type, in registry order. */
+export const RULE_TYPES: readonly RuleType[] = Object.keys(RULES).filter(isRuleType);
+
+/** The spec of a rule's own type (each entry takes the rule interface its key names). */
+export function ruleSpec(rule: Rule): RuleSpec<Rule> {
+  return RULES[rule.type];
+}
+
+export type { Draft, ProfileIssue, RuleSpec } from './rule-spec.ts';
