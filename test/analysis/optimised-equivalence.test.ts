@@ -6,11 +6,12 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { EventKind } from '../../src/analysis/events.ts';
+import { defaultChannelLabels } from '../../src/analysis/audio.ts';
 import { analyzeFile } from '../../src/engine/analyze-file.ts';
 import { openAudioFile } from '../../src/decode/index.ts';
 import { writeWavFile } from '../../src/encode/wav.ts';
 import { programmeBlocks, seededRandom } from '../../src/selftest/signals.ts';
-import { expectDocumentMatchesReferences, type ReferenceSettings } from '../helpers/reference-meters/document-reference.ts';
+import { expectDocumentMatchesReferences, referenceReadings, type ReferenceSettings } from '../helpers/reference-meters/document-reference.ts';
 
 const SETTINGS: ReferenceSettings = {
   loudness: { momentaryLimitLufs: -20, shortTermLimitLufs: -23 },
@@ -71,22 +72,34 @@ const cases: Record<string, () => Case> = {
     return { rate, bits: 24, channelMask: 0x3f, channels: [l, r, new Float32Array(l.length), lfe, l.slice(), r.map((v) => -v)],
       kinds: ['clipping', 'dead_channel', 'duplicate_channel', 'inverted_channel', 'silence'] };
   },
+  // Quad at 44.1 kHz: R antiphase to L but below the -50 dBFS floor (never judged), Ls L inverted
+  // (a phase problem and an inverted copy), Rs a near copy of L (1 % noise added).
+  'quad with quiet antiphase and near copies (44.1 kHz float)': () => {
+    const rate = 44_100;
+    const random = seededRandom(9);
+    const [l] = programme(rate, 1, 3.1, -18, 23);
+    return {
+      rate, bits: 32, channels: [l, l.map((v) => -0.003 * v), l.map((v) => -v), l.map((v) => v + 0.01 * v * (random() - 0.5))],
+      kinds: ['phase_problem', 'inverted_channel', 'duplicate_channel'],
+    };
+  },
 };
 
 let dir = '';
 beforeAll(async () => { dir = await mkdtemp(join(tmpdir(), 'earmark-references-')); });
 afterAll(async () => { await rm(dir, { recursive: true, force: true }); });
 
-/** The samples as the decoder delivers them (16- and 24-bit files are quantised). */
-async function decodedSamples(path: string): Promise<Float32Array[]> {
-  const decoded = await openAudioFile(path);
-  const parts: Float32Array[][] = Array.from({ length: decoded.format.channels }, () => []);
-  for await (const block of decoded.blocks) block.channelData.forEach((x, c) => parts[c].push(x.slice(0, block.frames)));
-  return parts.map((chunks) => {
+/** The samples and channel roles as the decoder delivers them (16- and 24-bit files are quantised). */
+async function decoded(path: string): Promise<{ samples: Float32Array[]; labels: readonly string[] }> {
+  const audio = await openAudioFile(path);
+  const parts: Float32Array[][] = Array.from({ length: audio.format.channels }, () => []);
+  for await (const block of audio.blocks) block.channelData.forEach((x, c) => parts[c].push(x.slice(0, block.frames)));
+  const samples = parts.map((chunks) => {
     const out = new Float32Array(chunks.reduce((n, x) => n + x.length, 0));
     chunks.reduce((at, x) => { out.set(x, at); return at + x.length; }, 0);
     return out;
   });
+  return { samples, labels: audio.format.channelLabels };
 }
 
 describe('analysis documents equal the independent references', () => {
@@ -95,10 +108,13 @@ describe('analysis documents equal the independent references', () => {
       const { rate, bits, channelMask, channels, kinds } = make();
       const path = join(dir, `${name.replace(/\W+/g, '-')}.wav`);
       await writeWavFile(path, { sampleRate: rate, channels: channels.length, bitsPerSample: bits, float: bits === 32, ...(channelMask ? { channelMask } : {}) }, [channels]);
-      const samples = await decodedSamples(path);
+      const { samples, labels } = await decoded(path);
+      // The weights and the LFE exclusion follow the roles: the layouts are the usual ones.
+      expect(labels).toEqual(defaultChannelLabels(channels.length));
+      const reference = referenceReadings(samples, labels, rate, SETTINGS);
       for (const options of [{ threads: 1, decode: { maxBlockFrames: 4_097 } }, { threads: 2 }]) {
         const doc = await analyzeFile(path, { ...options, analysis: ANALYSIS });
-        expectDocumentMatchesReferences(doc, samples, SETTINGS);
+        expectDocumentMatchesReferences(doc, reference, SETTINGS);
         for (const kind of kinds) expect(doc.eventCounts[kind], kind).toBeGreaterThan(0);
       }
     }, 60_000);

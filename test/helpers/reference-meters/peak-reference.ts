@@ -1,7 +1,8 @@
 // Peak readings by definition: true peak per ITU-R BS.1770-5 Annex 2 (4x oversampling, the 48-tap
-// example filter, every phase at every sample) and the reconstructed peak's per-frame readings
-// (reconstructed-peak.ts here), with over events merged by the meters' documented rule.
-import { frameReadings } from './reconstructed-peak.ts';
+// example filter, every phase at every sample) and the reconstructed peak as its header in
+// src/analysis/reconstructed-peak.ts describes it (an 8x grid, each value from its effective taps,
+// a capped parabola at each local maximum), with over events merged by the meters' documented rule.
+import { gridPhaseKernels, REFINEMENT_CAP } from '../../../src/analysis/reconstructed-peak.ts';
 
 /**
  * BS.1770-5 Annex 2, the 48-tap interpolation filter as its four polyphase columns (row k of
@@ -88,10 +89,46 @@ export function referenceTruePeak(channels: Float32Array[], sampleRate: number, 
   };
 }
 
+/**
+ * The reconstructed peak's reading of each frame n: the largest grid value at n + q/8, q = 0..7, each
+ * local maximum (of |value| against its grid neighbours) raised to the vertex of the parabola
+ * through the three, at most REFINEMENT_CAP times the value. The grid values are the meter's
+ * filter design (its two stages as one 36-tap kernel per phase, weights of x[n - 17 .. n + 18]);
+ * zeros lie outside the stream.
+ */
+export function reconstructedReadings(x: Float32Array): Float64Array {
+  const kernels = gridPhaseKernels();
+  const frames = x.length, pad = 18;
+  const padded = new Float64Array(frames + 2 * pad + 2);
+  padded.set(x, pad);
+  // grid[8 (n + 1) + q] holds the value at n + q/8, for n = -1 .. frames.
+  const grid = new Float64Array(8 * (frames + 2));
+  for (let n = -1; n <= frames; n++) {
+    for (let q = 0; q < 8; q++) {
+      const h = kernels[q];
+      let y = 0;
+      for (let k = 0; k < 36; k++) y += h[k] * padded[n - 17 + k + pad];
+      grid[8 * (n + 1) + q] = y;
+    }
+  }
+  const readings = new Float64Array(frames);
+  for (let n = 0; n < frames; n++) {
+    let peak = 0;
+    for (let i = 8 * (n + 1); i < 8 * (n + 2); i++) {
+      const [a, b, c] = [Math.abs(grid[i - 1]), Math.abs(grid[i]), Math.abs(grid[i + 1])];
+      const curvature = 2 * b - a - c;
+      const value = b >= a && b >= c && curvature > 0 ? Math.min(b + (a - c) ** 2 / (8 * curvature), b * REFINEMENT_CAP) : b;
+      peak = Math.max(peak, value);
+    }
+    readings[n] = peak;
+  }
+  return readings;
+}
+
 /** The reconstructed peak: frame n reads the band-limited waveform over [n, n + 1). */
 export function referenceReconstructedPeak(channels: Float32Array[], sampleRate: number, ceilingDbtp: number, mergeSeconds = 0.05): PeakReading {
   const ceiling = 10 ** (ceilingDbtp / 20);
-  const readings = channels.map(frameReadings);
+  const readings = channels.map(reconstructedReadings);
   const mergeFrames = Math.round(mergeSeconds * sampleRate);
   return {
     channelPeaks: readings.map((r) => r.reduce((m, v) => Math.max(m, v), 0)),
