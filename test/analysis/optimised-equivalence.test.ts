@@ -49,11 +49,13 @@ const cases: Record<string, () => Case> = {
     for (const x of [l, r]) paint(x, rate, 2.5, 2.503, () => 0);
     return { rate, bits: 32, channels: [l, r], kinds: ['phase_problem', 'dropout', 'true_peak_over', 'reconstructed_over', 'loud_momentary', 'loud_short_term'] };
   },
-  // Mono 16-bit at 44.1 kHz: a tone with silent head, gap and tail, a quiet stretch, short clip runs.
+  // Mono 16-bit at 44.1 kHz: a tone with silent head, gap and tail, a quiet stretch, short clip
+  // runs, and a last stretch 11 dB down: about 9.5 LU under the blocks' mean, so the -10 LU
+  // relative gate keeps it and any gate 1 LU tighter would not.
   'mono tone with gaps and clips (44.1 kHz, 16-bit)': () => {
     const rate = 44_100;
     const random = seededRandom(5);
-    const x = Float32Array.from({ length: 4 * rate }, (_, i) => 0.125 * Math.sin((2 * Math.PI * 997 * i) / rate));
+    const x = Float32Array.from({ length: 4 * rate }, (_, i) => (i < 2.7 * rate ? 0.125 : 0.125 * 10 ** (-11 / 20)) * Math.sin((2 * Math.PI * 997 * i) / rate));
     paint(x, rate, 0, 0.5, () => 0);
     paint(x, rate, 1.5, 1.9, () => 0);
     paint(x, rate, 2.2, 2.202, () => 0);
