@@ -14,7 +14,6 @@ import { DropoutMeter } from '../src/analysis/dropouts.ts';
 import { ChannelRelationMeter } from '../src/analysis/channel-relations.ts';
 
 import { ReconstructedPeakMeter as RefReconstructedPeak } from '../test/helpers/reference-meters/reconstructed-peak.ts';
-import { ReconstructedPeakMeter as PreKernelReconstructedPeak } from '../test/helpers/reference-meters/reconstructed-peak-baseline.ts';
 import { DropoutMeter as RefDropouts } from '../test/helpers/reference-meters/dropouts.ts';
 import { EnvelopeBuilder } from '../src/analysis/envelope.ts';
 
@@ -46,8 +45,6 @@ const makers: Record<string, () => Meter<unknown>> = {
   runner: () => new AnalysisRunner(info),
   // The straightforward implementations the optimised meters replaced, for side-by-side ratios.
   'reconstructedPeak ref': () => new RefReconstructedPeak(info),
-  // The JavaScript meter before its WebAssembly kernel (same readings, to the bit).
-  'reconstructedPeak js': () => new PreKernelReconstructedPeak(info),
   'dropouts ref': () => new RefDropouts(info),
   // The shared pass alone (each meter above computes its own when pushed alone; the runner computes it once).
   envelope: () => { const builder = new EnvelopeBuilder(); return { push: (b: PcmBlock) => { builder.build(b); }, result: () => null }; },
