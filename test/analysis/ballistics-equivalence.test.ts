@@ -52,7 +52,7 @@ afterAll(async () => { await rm(dir, { recursive: true, force: true }); });
 
 async function decodedSamples(path: string): Promise<Float32Array[]> {
   const decoded = await openAudioFile(path);
-  const out = Array.from({ length: decoded.format.channels }, () => [] as number[]);
+  const out = Array.from({ length: decoded.format.channels }, (): number[] => []);
   for await (const block of decoded.blocks) block.channelData.forEach((x, c) => { for (let i = 0; i < block.frames; i++) out[c].push(x[i]); });
   return out.map((x) => Float32Array.from(x));
 }

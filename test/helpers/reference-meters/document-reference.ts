@@ -158,10 +158,19 @@ export function expectDocumentMatchesReferences(doc: AnalysisDocument, reference
   doc.channels.forEach((ch, c) => {
     const l = levels[c];
     const path = `channel ${c}`;
-    for (const [key, value] of Object.entries({
-      samplePeakDbfs: l.samplePeakDbfs, truePeakDbtp: toDb(truePeak.channelPeaks[c]), reconstructedPeakDbtp: toDb(reconstructed.channelPeaks[c]),
-      rmsDbfs: l.rmsDbfs, rmsAes17Db: l.rmsAes17Db, dcOffsetDbfs: l.dcOffsetDbfs, crestFactorDb: l.crestFactorDb, ...reference.timeWeighted[c],
-    })) near(ch[key as keyof typeof ch] as number | null, value, LEVEL_TOLERANCE, `${path} ${key}`);
+    const readings: [string, number | null, number | null][] = [
+      ['samplePeakDbfs', ch.samplePeakDbfs, l.samplePeakDbfs],
+      ['truePeakDbtp', ch.truePeakDbtp, toDb(truePeak.channelPeaks[c])],
+      ['reconstructedPeakDbtp', ch.reconstructedPeakDbtp, toDb(reconstructed.channelPeaks[c])],
+      ['rmsDbfs', ch.rmsDbfs, l.rmsDbfs],
+      ['rmsAes17Db', ch.rmsAes17Db, l.rmsAes17Db],
+      ['dcOffsetDbfs', ch.dcOffsetDbfs, l.dcOffsetDbfs],
+      ['crestFactorDb', ch.crestFactorDb, l.crestFactorDb],
+      ['maxFastDbfs', ch.maxFastDbfs, reference.timeWeighted[c].maxFastDbfs],
+      ['maxSlowDbfs', ch.maxSlowDbfs, reference.timeWeighted[c].maxSlowDbfs],
+      ['maxVuDbfs', ch.maxVuDbfs, reference.timeWeighted[c].maxVuDbfs],
+    ];
+    for (const [key, actual, value] of readings) near(actual, value, LEVEL_TOLERANCE, `${path} ${key}`);
     // The mean of up to a few million samples, summed in another order: rounding near 1e-16 each.
     near(ch.dcOffset, l.dcOffset, 1e-12, `${path} dcOffset`);
     const mine = (events: RunEvent[]) => events.filter((e) => e.channel === c);

@@ -34,7 +34,7 @@ export function referenceRelations(channels: Float32Array[], labels: readonly st
       const [xa, xb] = [channels[a], channels[b]];
       const phaseChecked = labels[a] !== 'LFE' && labels[b] !== 'LFE';
       let minWindowCorrelation: number | null = null, phaseProblemWindows = 0;
-      let open: RelationEvent | null = null;
+      let open: (RelationEvent & { peakValue: number; count: number }) | null = null;
       for (let start = 0; start < frames; start += windowFrames) {
         const end = Math.min(frames, start + windowFrames);
         if (!phaseChecked || 2 * (end - start) < windowFrames) continue;
@@ -44,7 +44,7 @@ export function referenceRelations(channels: Float32Array[], labels: readonly st
         if (judged) minWindowCorrelation = Math.min(minWindowCorrelation ?? Infinity, r);
         if (judged && r < -0.5) {
           phaseProblemWindows++;
-          if (open) { open.endFrame = end; open.count! += 1; open.peakValue = Math.min(open.peakValue!, r); }
+          if (open) { open.endFrame = end; open.count++; open.peakValue = Math.min(open.peakValue, r); }
           else open = { kind: 'phase_problem', channel: a, otherChannel: b, startFrame: start, endFrame: end, peakValue: r, count: 1 };
         } else if (open) { events.push(open); open = null; }
       }
