@@ -19,22 +19,28 @@ describe('K-weighting', () => {
     }
   });
 
-  it.each([48_000, 44_100])('a 0 dBFS 1 kHz sine in one front channel reads -3.01 LKFS (BS.1770-5 Annex 1), %i Hz', (rate) => {
-    const left = sine(rate, 1000, 1, 2);
+  it.each([48_000, 44_100])('a 0 dBFS 997 Hz sine in one front channel reads -3.01 LKFS (BS.1770-5 Annex 1, after eq. (7)), %i Hz', (rate) => {
+    const left = sine(rate, 997, 1, 2);
     const { integratedLufs } = referenceLoudness([left, new Float32Array(left.length)], ['L', 'R'], rate);
     expect(Math.abs((integratedLufs ?? Number.NaN) - -3.01)).toBeLessThan(0.01);
   });
 
-  it('stereo 1 kHz at -23 dBFS reads -23 LUFS momentary, short-term and integrated (EBU Tech 3341 case 1, from memory: +-0.1 LU)', () => {
+  it('stereo 1 kHz at -23 dBFS reads -23 LUFS momentary, short-term and integrated (EBU Tech 3341 Table 1 case 1, +-0.1 LU)', () => {
     const x = sine(48_000, 1000, 10 ** (-23 / 20), 20);
     const r = referenceLoudness([x, x], ['L', 'R'], 48_000);
     for (const value of [r.integratedLufs, r.maxMomentaryLufs, r.maxShortTermLufs]) expect(Math.abs((value ?? Number.NaN) - -23)).toBeLessThan(0.1);
   });
 
-  it('20 s at -20 dBFS then 20 s at -30 dBFS has a 10 LU loudness range (EBU Tech 3342 case 1, from memory: +-1 LU)', () => {
+  it('20 s at -20 dBFS then 20 s at -30 dBFS has a 10 LU loudness range (EBU Tech 3342 Table 1 case 1, +-1 LU)', () => {
     const x = Float32Array.from([...sine(48_000, 1000, 0.1, 20), ...sine(48_000, 1000, 10 ** (-30 / 20), 20)]);
     const { loudnessRangeLu } = referenceLoudness([x, x], ['L', 'R'], 48_000);
     expect(Math.abs((loudnessRangeLu ?? Number.NaN) - 10)).toBeLessThan(1);
+  });
+
+  it('5.0 at L, R -28, C -24, Ls, Rs -30 dBFS reads -23 LUFS: the surround weights (EBU Tech 3341 Table 1 case 6, +-0.1 LU)', () => {
+    const at = (dbfs: number) => sine(48_000, 1000, 10 ** (dbfs / 20), 20);
+    const { integratedLufs } = referenceLoudness([at(-28), at(-28), at(-24), at(-30), at(-30)], ['L', 'R', 'C', 'Ls', 'Rs'], 48_000);
+    expect(Math.abs((integratedLufs ?? Number.NaN) - -23)).toBeLessThan(0.1);
   });
 
   it('gates: digital silence has no loudness; LFE is left out (BS.1770-5 Table 3)', () => {
@@ -53,13 +59,15 @@ describe('true peak', () => {
     expect(ANNEX2_PHASES[3]).toEqual([...ANNEX2_PHASE0].reverse());
   });
 
-  it('a full-scale sine at fs/4 sampled 45 degrees off its peaks reads 0 dBTP (EBU Tech 3341 tolerance +0.2/-0.4 dB, from memory)', () => {
-    const x = sine(48_000, 12_000, 1, 0.1, Math.PI / 4);
-    const { channelPeaks } = referenceTruePeak([x], 48_000, 0);
-    const dbtp = 20 * Math.log10(channelPeaks[0]);
-    expect(dbtp).toBeGreaterThan(-0.4);
-    expect(dbtp).toBeLessThan(0.2);
-    expect(Math.max(...x)).toBeLessThan(0.71); // the samples alone read -3 dB
+  // EBU Tech 3341 Table 1 cases 16 and 19: fs/4 sampled 45 degrees off its peaks (no sample at
+  // the peak), 0.50 and 1.41 of full scale, read -6.0 and +3.0 dBTP within +0.2/-0.4 dB.
+  it.each([[0.5, -6], [1.41, 3]])('a sine at fs/4, 45 degrees, %f of full scale reads %f dBTP (EBU Tech 3341 cases 16, 19)', (amplitude, expectedDbtp) => {
+    const x = sine(48_000, 12_000, amplitude, 0.1, Math.PI / 4);
+    const { channelPeaks } = referenceTruePeak([x, x], 48_000, 0);
+    const dbtp = 20 * Math.log10(Math.max(...channelPeaks));
+    expect(dbtp - expectedDbtp).toBeGreaterThan(-0.4);
+    expect(dbtp - expectedDbtp).toBeLessThan(0.2);
+    expect(20 * Math.log10(Math.max(...x))).toBeLessThan(expectedDbtp - 2.9); // the samples alone read 3 dB low
   });
 });
 

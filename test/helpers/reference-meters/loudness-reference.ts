@@ -1,6 +1,7 @@
 // ITU-R BS.1770-5 loudness and EBU Tech 3342 loudness range by definition, for short test signals:
-// K-weighting as two biquads per sample, 400 ms gating blocks every 100 ms, the two gates, and a
-// plain search over every 400 ms and 3 s window for the maxima.
+// K-weighting as two biquads per sample (Annex 1), loudness per eq. (2), 400 ms gating blocks with
+// 75 % overlap (eq. (3)), the absolute and relative gates (eqs. (4)-(7)), and a plain search over
+// every 400 ms and 3 s window for the maxima (EBU Tech 3341 2.2: sliding rectangular windows).
 
 export interface Biquad { b0: number; b1: number; b2: number; a1: number; a2: number }
 
@@ -10,10 +11,11 @@ export const TABLE1_48K: Biquad = { b0: 1.53512485958697, b1: -2.69169618940638,
 export const TABLE2_48K: Biquad = { b0: 1, b1: -2, b2: 1, a1: -1.99004745483398, a2: 0.99007225036621 };
 
 /**
- * Both stages for any rate. BS.1770-5 publishes 48 kHz only; other rates use the bilinear
- * transform of the analog shelf and high-pass with pre-warping, with the prototype parameters of
- * libebur128 (the widely used open reference implementation; values from memory), which give
- * Table 1 and 2 back at 48 kHz (checked in test/analysis/reference-standards.test.ts).
+ * Both stages for any rate. BS.1770-5 Annex 1 publishes 48 kHz only and asks other rates for the
+ * same frequency response; as libebur128 (the open reference implementation, ebur128_init_filter)
+ * does, other rates use the bilinear transform with pre-warping of an analog shelf and high-pass
+ * whose parameters are fitted to Tables 1 and 2. At 48 kHz the derivation gives the tables back
+ * (checked in test/analysis/reference-standards.test.ts).
  */
 export function kWeightingStages(sampleRate: number): [Biquad, Biquad] {
   if (sampleRate === 48_000) return [TABLE1_48K, TABLE2_48K];
@@ -35,7 +37,7 @@ export function derivedStages(sampleRate: number): [Biquad, Biquad] {
   return [shelf, { b0: 1, b1: -2, b2: 1, a1: (2 * (k * k - 1)) / a0, a2: (1 - k / highpassQ + k * k) / a0 }];
 }
 
-/** BS.1770-5 Table 3 weights by speaker role: surrounds 1.41, LFE left out, the rest 1.0. */
+/** BS.1770-5 Table 3 weights by speaker role (Annex 3: 1.41 at 60-120 deg azimuth): surrounds 1.41, LFE left out, the rest 1.0. */
 export function channelWeight(label: string): number {
   if (label === 'LFE') return 0;
   return ['Ls', 'Rs', 'Lss', 'Rss'].includes(label) ? 1.41 : 1;
@@ -110,7 +112,7 @@ export function referenceLoudness(channels: Float32Array[], labels: readonly str
   };
 }
 
-/** BS.1770-5 clause 2.8, eqs. (4)-(7): blocks above -70 LUFS, then above their mean minus 10 LU. */
+/** BS.1770-5 eqs. (4)-(7): blocks above -70 LKFS (eq. (6)), then above their loudness minus 10 LU. */
 function gated(blockPowers: number[], relativeLu: number): number | null {
   const absolute = blockPowers.filter((p) => p > 0 && lufsOf(p) > -70);
   if (absolute.length === 0) return null;
@@ -119,15 +121,15 @@ function gated(blockPowers: number[], relativeLu: number): number | null {
   return kept.length === 0 ? null : lufsOf(mean(kept));
 }
 
-/** EBU Tech 3342: short-term values above -70 LUFS and above their power mean minus 20 LU; P95 - P10. */
+/** EBU Tech 3342 s.5: short-term values above -70 LUFS and above their power mean minus 20 LU; P95 - P10. */
 function loudnessRange(shortTermPowers: number[]): number | null {
   const absolute = shortTermPowers.filter((p) => p > 0 && lufsOf(p) > -70);
   if (absolute.length === 0) return null;
   const relativeGate = lufsOf(mean(absolute)) - 20;
   const kept = absolute.map(lufsOf).filter((l) => l > relativeGate).sort((a, b) => a - b);
   if (kept.length === 0) return null;
-  // Nearest rank on the sorted values, as the meter documents it.
-  const percentile = (p: number) => kept[Math.round(((kept.length - 1) * p) / 100)];
+  // Tech 3342 s.5: value number round((n - 1) p / 100 + 1) of the ascending sort, counted from 1.
+  const percentile = (p: number) => kept[Math.round(((kept.length - 1) * p) / 100 + 1) - 1];
   return percentile(95) - percentile(10);
 }
 
