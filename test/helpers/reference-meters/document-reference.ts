@@ -17,7 +17,7 @@ export interface ReferenceSettings {
 
 // Tolerances. Readings from sums, filters and logarithms in another order of operations differ
 // from the meters' by rounding: about 1e-13 relative over a few million samples. 1e-9 (dB, LU,
-// correlation) leaves room for that and for nothing a changed rule would do.
+// correlation) leaves room for that and is far below what a changed rule moves.
 const LEVEL_TOLERANCE = 1e-9;
 /** The document rounds series points to 0.01 LU: a point lies within half of that of the exact value. */
 const SERIES_TOLERANCE = 0.005 + 1e-9;
@@ -61,6 +61,8 @@ function peakPlace(reading: PeakReading, atSeconds: number | null, rate: number,
   near(best / peak, 1, LEVEL_TOLERANCE, `${path} (frame ${frame})`);
 }
 
+export type ReferenceReadings = ReturnType<typeof referenceReadings>;
+
 /** Every reference reading of a stream, computed once for the documents that read it. */
 export function referenceReadings(channels: Float32Array[], labels: readonly string[], rate: number, settings: ReferenceSettings) {
   return {
@@ -77,13 +79,14 @@ export function referenceReadings(channels: Float32Array[], labels: readonly str
   };
 }
 
-export function expectDocumentMatchesReferences(doc: AnalysisDocument, reference: ReturnType<typeof referenceReadings>, settings: ReferenceSettings): void {
+export function expectDocumentMatchesReferences(doc: AnalysisDocument, reference: ReferenceReadings, settings: ReferenceSettings): void {
   const rate = doc.format.sampleRate;
   const labels = doc.format.channelLabels;
   const { frames, loudness, truePeak, reconstructed, levels, clipping, silence, dropouts, relations } = reference;
   expect(doc.format.framesDecoded, 'framesDecoded').toBe(frames);
   expect(doc.integrity.intact, 'integrity').toBe(true);
   expect(doc.eventsTruncated, 'eventsTruncated').toBe(false);
+  expect(doc.warnings, 'warnings').toEqual([]);
 
   // Loudness: BS.1770-5 and EBU Tech 3342.
   const s = doc.summary;
@@ -192,7 +195,7 @@ export function expectDocumentMatchesReferences(doc: AnalysisDocument, reference
     silence: settings.silence,
     dropouts: { minDurationSeconds: 0.001 },
   });
-  // Every kind the document counts was compared above.
+  // Every kind the document counts is among those compared above.
   const checked = new Set(['loud_momentary', 'loud_short_term', 'true_peak_over', 'reconstructed_over', 'clipping', 'silence', 'dropout',
     'dead_channel', 'duplicate_channel', 'inverted_channel', 'phase_problem']);
   for (const kind of Object.keys(doc.eventCounts)) expect(checked.has(kind), `event kind ${kind}`).toBe(true);

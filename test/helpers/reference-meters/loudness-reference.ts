@@ -64,7 +64,7 @@ export interface ReferenceLoudness {
   loudnessRangeLu: number | null;
   maxMomentaryLufs: number | null;
   maxShortTermLufs: number | null;
-  /** Loudness of the window of `frames` ending at `endFrame` (to check where a maximum was found). */
+  /** Loudness of the window of `frames` ending at `endFrame` (to check where a maximum lies). */
   windowLufs(endFrame: number, frames: number): number;
   /** Every 100 ms from 0.1 s: the 400 ms / 3 s ending there, NaN before the window fills or at or below -70 LUFS. */
   momentary: number[];
