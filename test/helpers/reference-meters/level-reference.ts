@@ -44,10 +44,20 @@ export function programmeRmsDbfs(levels: ChannelLevels[]): number | null {
 
 export interface TimeWeightedMaxima { maxFastDbfs: number | null; maxSlowDbfs: number | null; maxVuDbfs: number | null }
 
+/** t / tau where the critically damped step response 1 - (1 + t/tau) e^(-t/tau) reaches 99 %, by bisection. */
+function ninetyNinePercentRatio(): number {
+  let low = 1, high = 20;
+  for (let i = 0; i < 200; i++) {
+    const middle = (low + high) / 2;
+    if (1 - (1 + middle) * Math.exp(-middle) < 0.99) low = middle;
+    else high = middle;
+  }
+  return low;
+}
+
 export function referenceTimeWeighted(x: Float32Array, sampleRate: number): TimeWeightedMaxima {
   const gain = (tauSeconds: number) => 1 - Math.exp(-1 / (tauSeconds * sampleRate));
-  // t / tau where a critically damped step 1 - (1 + t/tau) e^(-t/tau) reaches 99 %.
-  const bf = gain(0.125), bs = gain(1), bv = gain(0.3 / 6.638352067993813);
+  const bf = gain(0.125), bs = gain(1), bv = gain(0.3 / ninetyNinePercentRatio());
   let fast = 0, slow = 0, vu1 = 0, vu2 = 0, maxFast = 0, maxSlow = 0, maxVu = 0;
   for (const v of x) {
     fast += bf * (v * v - fast);
