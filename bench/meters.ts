@@ -13,14 +13,7 @@ import { SilenceMeter } from '../src/analysis/silence.ts';
 import { DropoutMeter } from '../src/analysis/dropouts.ts';
 import { ChannelRelationMeter } from '../src/analysis/channel-relations.ts';
 
-import { LevelMeter as RefLevels } from '../test/helpers/reference-meters/levels.ts';
-import { TruePeakMeter as RefTruePeak } from '../test/helpers/reference-meters/true-peak.ts';
 import { ReconstructedPeakMeter as RefReconstructedPeak } from '../test/helpers/reference-meters/reconstructed-peak.ts';
-import { ReconstructedPeakMeter as PreKernelReconstructedPeak } from '../test/helpers/reference-meters/reconstructed-peak-baseline.ts';
-import { LoudnessMeter as RefLoudness } from '../test/helpers/reference-meters/loudness.ts';
-import { TimeWeightedLevelMeter as RefBallistics } from '../test/helpers/reference-meters/ballistics.ts';
-import { ClippingMeter as RefClipping } from '../test/helpers/reference-meters/clipping.ts';
-import { SilenceMeter as RefSilence } from '../test/helpers/reference-meters/silence.ts';
 import { DropoutMeter as RefDropouts } from '../test/helpers/reference-meters/dropouts.ts';
 import { EnvelopeBuilder } from '../src/analysis/envelope.ts';
 
@@ -51,15 +44,7 @@ const makers: Record<string, () => Meter<unknown>> = {
   relations: () => new ChannelRelationMeter(info),
   runner: () => new AnalysisRunner(info),
   // The straightforward implementations the optimised meters replaced, for side-by-side ratios.
-  'levels ref': () => new RefLevels(info),
-  'loudness ref': () => new RefLoudness(info),
-  'truePeak ref': () => new RefTruePeak(info),
   'reconstructedPeak ref': () => new RefReconstructedPeak(info),
-  // The meter's JavaScript loops, without its WebAssembly kernel (same readings, to the bit).
-  'reconstructedPeak js': () => new PreKernelReconstructedPeak(info),
-  'ballistics ref': () => new RefBallistics(info),
-  'clipping ref': () => new RefClipping(info),
-  'silence ref': () => new RefSilence(info),
   'dropouts ref': () => new RefDropouts(info),
   // The shared pass alone (each meter above computes its own when pushed alone; the runner computes it once).
   envelope: () => { const builder = new EnvelopeBuilder(); return { push: (b: PcmBlock) => { builder.build(b); }, result: () => null }; },

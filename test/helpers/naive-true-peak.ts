@@ -1,8 +1,7 @@
 // Straightforward reference for the optimised true-peak meter: all four phases of the
 // BS.1770-5 Annex 2 filter evaluated directly at every sample, no pruning, no symmetry tricks.
-import { ANNEX2_PHASE0, ANNEX2_PHASE1 } from '../../src/analysis/true-peak.ts';
-
-const PHASES = [ANNEX2_PHASE0, ANNEX2_PHASE1, [...ANNEX2_PHASE1].reverse(), [...ANNEX2_PHASE0].reverse()];
+// The table is the standard's, written out in reference-meters/peak-reference.ts.
+import { ANNEX2_PHASES as PHASES } from './reference-meters/peak-reference.ts';
 
 /** Returns the linear peak over all interpolated values and samples, and every interpolated value per input index. */
 export function naiveTruePeak(samples: Float32Array): { peak: number; perSample: Float64Array } {
