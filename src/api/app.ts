@@ -62,8 +62,8 @@ export async function buildApp(config: Config, deps: AppDeps, logger?: Logger): 
   app.addHook('onRequest', async (request, reply) => { openResponses.set(request.raw.socket, reply.raw); });
   app.addHook('onResponse', async (request) => { openResponses.delete(request.raw.socket); });
   app.addHook('onSend', async (request, reply) => { reply.header('x-request-id', request.id); });
-  await app.register(Object.assign(errorsPlugin, { [Symbol.for('skip-override')]: true }));
-  await app.register(jsonBodyPlugin());
+  await app.register(errorsPlugin);
+  await app.register(jsonBodyPlugin);
   await app.register(authPlugin(config.apiKeys));
   await app.register(rateLimitPlugin(config.rateLimitPerMinute));
   // Generous parser limits: past them the parser stops reading mid-body; jobs.ts allows 10 fields.

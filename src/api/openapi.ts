@@ -37,9 +37,8 @@ function parameters(spec: RouteSpec): Schema[] {
   const out: Schema[] = [];
   for (const [where, schema] of [['path', spec.params], ['query', spec.querystring]] as const) {
     if (!schema) continue;
-    const props = (schema.properties ?? {}) as Record<string, Schema>;
-    const required = (schema.required ?? []) as string[];
-    for (const [name, s] of Object.entries(props)) out.push({ name, in: where, required: where === 'path' || required.includes(name), schema: withRefs(s, false) });
+    const required: readonly string[] = schema.required ?? [];
+    for (const [name, s] of Object.entries(schema.properties)) out.push({ name, in: where, required: where === 'path' || required.includes(name), schema: withRefs(s, false) });
   }
   for (const [name, h] of Object.entries(spec.headers ?? {})) out.push({ name, in: 'header', required: false, description: h.description, schema: h.schema });
   return out;

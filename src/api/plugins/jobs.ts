@@ -1,8 +1,8 @@
 // Job routes: submit (multipart upload or JSON sourceUrl), status, report, listing, queue.
 
-import type { MultipartFile } from '@fastify/multipart';
 import { Ajv } from 'ajv';
 import type { FastifyInstance, FastifyRequest } from 'fastify';
+import type { FromSchema } from 'json-schema-to-ts';
 import type { IncomingMessage } from 'node:http';
 import type { Job } from 'bullmq';
 import { EarmarkError } from '../../errors/index.ts';
@@ -14,6 +14,7 @@ import type { AppDeps } from '../deps.ts';
 import { route, type RouteSpec } from '../route-spec.ts';
 import * as S from '../schemas.ts';
 import { submitJob, type SubmitInput } from '../submit.ts';
+import { validationProblem, poisonKeyOf } from '../validation.ts';
 import { principalOf, requireScope } from './auth.ts';
 
 const idempotencyHeader = { 'Idempotency-Key': { description: 'Repeat a submission safely: the same key returns the job made the first time.', schema: { type: 'string', maxLength: 200 } } };
@@ -50,15 +51,11 @@ export const jobSpecs = {
 } satisfies Record<string, RouteSpec>;
 
 const ajv = new Ajv({ allErrors: false });
-const validateJson = ajv.compile(S.SubmitJson);
-const validateFields = ajv.compile({ ...S.SubmitJson, required: ['profile'], properties: { ...(S.SubmitJson.properties as object), sourceUrl: false } });
-
-function fieldError(errors: typeof validateFields.errors): EarmarkError {
-  const e = errors?.[0];
-  const missing = (e?.params as { missingProperty?: string; additionalProperty?: string } | undefined);
-  const field = missing?.missingProperty ?? missing?.additionalProperty ?? (e?.instancePath.replace(/^\//, '').replace(/\//g, '.') || 'body');
-  return new EarmarkError('validation_failed', `${field} ${e?.keyword === 'additionalProperties' ? 'is not a known field' : e?.message ?? 'is invalid'}`, { field });
-}
+const validateJson = ajv.compile<FromSchema<typeof S.SubmitJson>>(S.SubmitJson);
+/** A form's fields: the JSON body's rules, with the file in place of sourceUrl. */
+const { sourceUrl: _sourceUrl, ...formProperties } = S.SubmitJson.properties;
+const SubmitFields = { ...S.SubmitJson, required: ['profile'], properties: formProperties } as const;
+const validateFields = ajv.compile<FromSchema<typeof SubmitFields>>({ ...SubmitFields, properties: { ...formProperties, sourceUrl: false } });
 
 const MAX_FIELDS = 10;
 
@@ -128,7 +125,7 @@ async function readMultipart(deps: AppDeps, request: FastifyRequest, limitBytes:
       if (next.done) break;
       const part = next.value;
       if (part.type === 'file') {
-        const file = part as MultipartFile;
+        const file = part;
         if (file.fieldname !== 'file' || stored || problem) {
           file.file.resume();
           problem ??= new EarmarkError('validation_failed', 'send exactly one file part, named "file"', { field: file.fieldname });
@@ -154,12 +151,12 @@ async function readMultipart(deps: AppDeps, request: FastifyRequest, limitBytes:
     const input: Record<string, unknown> = { ...fields };
     if (fields.metadata !== undefined) {
       try { input.metadata = JSON.parse(fields.metadata); } catch { throw new EarmarkError('validation_failed', 'metadata is not valid JSON', { field: 'metadata' }); }
-      // Same rule as the JSON body parser: no prototype-poisoning keys.
-      const poison = Object.keys(input.metadata ?? {}).find((k) => k === '__proto__' || k === 'constructor' || k === 'prototype');
+      // The JSON body parser's rule, stricter: metadata is a flat map of strings.
+      const poison = poisonKeyOf(input.metadata, true);
       if (poison) throw new EarmarkError('validation_failed', `metadata has a "${poison}" key, which is not allowed`, { field: `metadata.${poison}` });
     }
-    if (!validateFields(input)) throw fieldError(validateFields.errors);
-    return { stored, fileName, input: input as unknown as SubmitInput };
+    if (!validateFields(input)) throw validationProblem(validateFields.errors, 'body');
+    return { stored, fileName, input };
   } catch (error) {
     if (stored) await deps.storage.remove(stored.key).catch(() => undefined);
     if (error instanceof EarmarkError && error.code === 'payload_too_large') {
@@ -220,8 +217,8 @@ export function jobsPlugin(deps: AppDeps, uploadLimitBytes: number, bodyTimeoutM
         }
         if (result.duplicate) await deps.storage.remove(stored.key).catch(() => undefined);
       } else {
-        const body = request.body as { sourceUrl: string } & SubmitInput;
-        if (!validateJson(body)) throw fieldError(validateJson.errors);
+        const body = request.body;
+        if (!validateJson(body)) throw validationProblem(validateJson.errors, 'body');
         const { sourceUrl, ...input } = body;
         result = await submitJob(deps, tenant, input, { kind: 'url', url: sourceUrl }, idempotencyKey);
       }
@@ -233,12 +230,12 @@ export function jobsPlugin(deps: AppDeps, uploadLimitBytes: number, bodyTimeoutM
     });
 
     route(app, jobSpecs.get, async (request) => {
-      const { id } = request.params as { id: string };
+      const { id } = request.params;
       return viewOf(deps, await loadJob(deps, principalOf(request).tenant, id));
     });
 
     route(app, jobSpecs.report, async (request, reply) => {
-      const { id } = request.params as { id: string };
+      const { id } = request.params;
       const job = await loadJob(deps, principalOf(request).tenant, id);
       const state = stateOf(await job.getState());
       if (state !== 'completed') throw new EarmarkError('report_not_ready', `job ${id} is ${state}`);
@@ -248,7 +245,7 @@ export function jobsPlugin(deps: AppDeps, uploadLimitBytes: number, bodyTimeoutM
     });
 
     route(app, jobSpecs.list, async (request) => {
-      const q = request.query as { state?: string; verdict?: string; profile?: string; limit: number; cursor?: string };
+      const q = request.query;
       const { tenant } = principalOf(request);
       let cursor = q.cursor ? decodeCursor(q.cursor) : null;
       const items: JobView[] = [];
@@ -273,7 +270,7 @@ export function jobsPlugin(deps: AppDeps, uploadLimitBytes: number, bodyTimeoutM
 
     route(app, jobSpecs.queue, async (request) => {
       const principal = principalOf(request);
-      const { view } = request.query as { view: 'tenant' | 'all' };
+      const { view } = request.query;
       const workers = (await deps.queue.getWorkers()).length;
       const since = Date.now() - 60_000;
       if (view === 'all') {

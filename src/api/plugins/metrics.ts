@@ -34,7 +34,7 @@ export function metricsPlugin(deps: AppDeps) {
     });
     route(app, metricsSpecs.metrics, async (request, reply) => {
       const principal = principalOf(request);
-      const { view } = request.query as { view: 'tenant' | 'all' };
+      const { view } = request.query;
       if (view === 'all') requireScope(principal, 'operator');
       const lines = ['# HELP earmark_http_requests_total HTTP requests answered by this API process.', '# TYPE earmark_http_requests_total counter'];
       for (const [key, count] of requests) {

@@ -35,19 +35,19 @@ export function profilesPlugin(deps: AppDeps) {
   return async (app: FastifyInstance) => {
     route(app, profileSpecs.list, async (request) => ({ items: await deps.profiles.list(principalOf(request).tenant) }));
     route(app, profileSpecs.get, async (request) => {
-      const { id } = request.params as { id: string };
+      const { id } = request.params;
       const entry = await deps.profiles.get(principalOf(request).tenant, id);
       if (!entry) throw new EarmarkError('not_found', `no profile ${id}`);
       return entry;
     });
     route(app, profileSpecs.put, async (request) => {
-      const { id } = request.params as { id: string };
+      const { id } = request.params;
       const entry = await deps.profiles.put(principalOf(request).tenant, id, request.body);
       request.log.info({ profileId: id, version: entry.profile.version }, 'profile stored');
       return entry;
     });
     route(app, profileSpecs.remove, async (request, reply) => {
-      const { id } = request.params as { id: string };
+      const { id } = request.params;
       if (!(await deps.profiles.remove(principalOf(request).tenant, id))) throw new EarmarkError('not_found', `no profile ${id}`);
       return reply.code(204).send();
     });

@@ -30,7 +30,7 @@ export const reportViewSpecs = {
     querystring: {
       type: 'object', required: ['startSeconds', 'endSeconds'], additionalProperties: false,
       properties: { startSeconds: { type: 'number', minimum: 0 }, endSeconds: { type: 'number', exclusiveMinimum: 0 } },
-    },
+    } as const,
     responses: { 200: { description: 'WAV audio', schema: { type: 'string', format: 'binary' }, contentType: 'audio/wav' }, ...S.problems(400, 401, 403, 404, 409, 503) },
   },
 } satisfies Record<string, RouteSpec>;
@@ -50,7 +50,7 @@ export function reportViewsPlugin(deps: AppDeps) {
     app.addHook('onClose', async () => { await excerpts.close(); });
 
     route(app, reportViewSpecs.plot, async (request, reply) => {
-      const { id } = request.params as { id: string };
+      const { id } = request.params;
       await completedJob(deps, principalOf(request).tenant, id);
       const json = (await deps.store.getReport(id)) ?? (await deps.storage.readReport(id));
       if (!json) throw new EarmarkError('not_found', `the report of job ${id} is past its retention period`);
@@ -58,8 +58,8 @@ export function reportViewsPlugin(deps: AppDeps) {
     });
 
     route(app, reportViewSpecs.excerpt, async (request, reply) => {
-      const { id } = request.params as { id: string };
-      const { startSeconds, endSeconds } = request.query as { startSeconds: number; endSeconds: number };
+      const { id } = request.params;
+      const { startSeconds, endSeconds } = request.query;
       const job = await completedJob(deps, principalOf(request).tenant, id);
       const sourceKey = job.returnvalue?.sourceKey ?? (job.data.source.kind === 'upload' ? job.data.source.storageKey : null);
       if (!sourceKey) throw new EarmarkError('not_found', `the audio of job ${id} was not kept`);
