@@ -6,7 +6,7 @@ import { writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { createRedis } from '../../src/queue/connection.ts';
-import { bullKeys, ServiceStore } from '../../src/queue/store.ts';
+import { bullKeys, JobIndex } from '../../src/queue/job-index.ts';
 import { createAnalysisQueue } from '../../src/queue/queues.ts';
 import { writeSine } from './audio.ts';
 import { client, type Client } from './client.ts';
@@ -65,10 +65,10 @@ describe('without a worker: queued jobs per tenant', () => {
     // A job BullMQ removed after the retention no longer counts, and its index entry is dropped.
     const redis = createRedis(svc.config.redisUrl, 'worker');
     try {
-      const store = new ServiceStore(redis, svc.config.queuePrefix, svc.config.retentionHours * 3600);
+      const index = new JobIndex(redis, svc.config.queuePrefix, svc.config.retentionHours * 3600);
       const queue = createAnalysisQueue(redis, svc.config, () => undefined);
-      await store.indexJob('beta', 'j_removedremovedremoved00', Date.now() - (svc.config.retentionHours + 1) * 3_600_000);
-      expect(await store.tenantCounts('beta', bullKeys(queue), 0)).toMatchObject({ waiting: 1, completed: 0 });
+      await index.add('beta', 'j_removedremovedremoved00', Date.now() - (svc.config.retentionHours + 1) * 3_600_000);
+      expect(await index.counts('beta', bullKeys(queue), 0)).toMatchObject({ waiting: 1, completed: 0 });
       expect(await redis.zscore(`${svc.config.queuePrefix}:svc:jobs:beta`, 'j_removedremovedremoved00')).toBeNull();
       await queue.close();
     } finally {

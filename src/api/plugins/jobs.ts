@@ -4,11 +4,8 @@ import { Ajv } from 'ajv';
 import type { FastifyInstance, FastifyRequest } from 'fastify';
 import type { FromSchema } from 'json-schema-to-ts';
 import type { IncomingMessage } from 'node:http';
-import type { Job } from 'bullmq';
 import { EarmarkError } from '../../errors/index.ts';
-import type { AnalyzeJobV1, AnalyzeResultV1 } from '../../queue/contract.ts';
-import { bullKeys } from '../../queue/store.ts';
-import { jobView, stateOf, type JobView } from '../../queue/job-view.ts';
+import { bullKeys, type IndexCursor } from '../../queue/job-index.ts';
 import type { StoredFile } from '../../storage/index.ts';
 import type { AppDeps } from '../deps.ts';
 import { route, type RouteSpec } from '../route-spec.ts';
@@ -176,24 +173,8 @@ async function readMultipart(deps: AppDeps, request: FastifyRequest, limitBytes:
   }
 }
 
-async function loadJob(deps: AppDeps, tenant: string, id: string): Promise<Job<AnalyzeJobV1, AnalyzeResultV1>> {
-  const job = await deps.queue.getJob(id);
-  // Another tenant's job answers exactly like a missing one.
-  if (!job || job.data.tenant !== tenant) throw new EarmarkError('not_found', `no job ${id}`);
-  return job;
-}
-
-async function viewOf(deps: AppDeps, loaded: Job<AnalyzeJobV1, AnalyzeResultV1>): Promise<JobView> {
-  const [state, deliveries] = await Promise.all([loaded.getState(), deps.store.deliveries(String(loaded.id))]);
-  // The job may have finished between reading its hash and its state: read it again, or a
-  // failed job would show no reason (and a completed one no result).
-  const finishedSinceLoaded = (state === 'completed' || state === 'failed') && !loaded.finishedOn;
-  const job = finishedSinceLoaded ? (await deps.queue.getJob(String(loaded.id))) ?? loaded : loaded;
-  return jobView(job, state, deliveries);
-}
-
-const encodeCursor = (c: { scoreMs: number; id: string }) => Buffer.from(`${c.scoreMs}:${c.id}`).toString('base64url');
-function decodeCursor(raw: string): { scoreMs: number; id: string } {
+const encodeCursor = (c: IndexCursor) => Buffer.from(`${c.scoreMs}:${c.id}`).toString('base64url');
+function decodeCursor(raw: string): IndexCursor {
   const match = /^(\d+):(j_[a-z0-9]+)$/.exec(Buffer.from(raw, 'base64url').toString());
   if (!match) throw new EarmarkError('validation_failed', 'cursor is not one this API gave out', { field: 'cursor' });
   return { scoreMs: Number(match[1]), id: match[2] };
@@ -224,48 +205,19 @@ export function jobsPlugin(deps: AppDeps, uploadLimitBytes: number, bodyTimeoutM
       }
       request.log.info({ jobId: result.id, duplicate: result.duplicate }, 'job submitted');
       const statusUrl = `/v1/jobs/${result.id}`;
-      const job = result.duplicate ? await deps.queue.getJob(result.id) : null;
-      const state = job ? stateOf(await job.getState()) : 'queued';
+      const state = result.duplicate ? (await deps.jobs.stateOf(tenant, result.id)) ?? 'queued' : 'queued';
       return reply.code(result.duplicate ? 200 : 202).header('location', statusUrl).send({ id: result.id, state, statusUrl, duplicate: result.duplicate });
     });
 
-    route(app, jobSpecs.get, async (request) => {
-      const { id } = request.params;
-      return viewOf(deps, await loadJob(deps, principalOf(request).tenant, id));
-    });
+    route(app, jobSpecs.get, async (request) => deps.jobs.view(principalOf(request).tenant, request.params.id));
 
-    route(app, jobSpecs.report, async (request, reply) => {
-      const { id } = request.params;
-      const job = await loadJob(deps, principalOf(request).tenant, id);
-      const state = stateOf(await job.getState());
-      if (state !== 'completed') throw new EarmarkError('report_not_ready', `job ${id} is ${state}`);
-      const json = (await deps.store.getReport(id)) ?? (await deps.storage.readReport(id));
-      if (!json) throw new EarmarkError('not_found', `the report of job ${id} is past its retention period`);
-      return reply.type('application/json').send(json);
-    });
+    route(app, jobSpecs.report, async (request, reply) =>
+      reply.type('application/json').send(await deps.jobs.report(principalOf(request).tenant, request.params.id)));
 
     route(app, jobSpecs.list, async (request) => {
-      const q = request.query;
-      const { tenant } = principalOf(request);
-      let cursor = q.cursor ? decodeCursor(q.cursor) : null;
-      const items: JobView[] = [];
-      // Filters are applied while scanning the tenant's index; one request examines at most 1000 jobs.
-      for (let examined = 0; items.length < q.limit && examined < 1000;) {
-        const page = await deps.store.jobPage(tenant, cursor, Math.min(100, q.limit * 2));
-        if (page.length === 0) { cursor = null; break; }
-        for (const row of page) {
-          examined += 1;
-          cursor = row;
-          const job = await deps.queue.getJob(row.id);
-          if (!job) { await deps.store.unindexJob(tenant, row.id); continue; }
-          const view = await viewOf(deps, job);
-          if ((q.state && view.state !== q.state) || (q.verdict && view.verdict !== q.verdict) || (q.profile && view.profile.id !== q.profile)) continue;
-          items.push(view);
-          if (items.length === q.limit) break;
-        }
-      }
-      const more = cursor !== null && (await deps.store.jobPage(tenant, cursor, 1)).length > 0;
-      return { items, nextCursor: more && cursor ? encodeCursor(cursor) : null };
+      const { cursor, ...filters } = request.query;
+      const page = await deps.jobs.list(principalOf(request).tenant, { ...filters, cursor: cursor ? decodeCursor(cursor) : null });
+      return { items: page.items, nextCursor: page.next ? encodeCursor(page.next) : null };
     });
 
     route(app, jobSpecs.queue, async (request) => {
@@ -278,10 +230,10 @@ export function jobsPlugin(deps: AppDeps, uploadLimitBytes: number, bodyTimeoutM
         const counts = await deps.queue.getJobCounts('waiting', 'active', 'delayed', 'completed', 'failed', 'prioritized');
         return {
           view, waiting: (counts.waiting ?? 0) + (counts.prioritized ?? 0), active: counts.active ?? 0, delayed: counts.delayed ?? 0,
-          completed: counts.completed ?? 0, failed: counts.failed ?? 0, workers, finishedLastMinute: await deps.store.finishedSince(since),
+          completed: counts.completed ?? 0, failed: counts.failed ?? 0, workers, finishedLastMinute: await deps.store.outcomes.finishedSince(since),
         };
       }
-      const c = await deps.store.tenantCounts(principal.tenant, bullKeys(deps.queue), since);
+      const c = await deps.store.index.counts(principal.tenant, bullKeys(deps.queue), since);
       return {
         view, waiting: c.waiting + c.prioritized, active: c.active, delayed: c.delayed,
         completed: c.completed, failed: c.failed, workers, finishedLastMinute: c.finishedSince,

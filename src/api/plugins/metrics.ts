@@ -4,7 +4,7 @@
 // tenant), job outcomes and analysis seconds from the workers' counters, queue depth from BullMQ.
 
 import type { FastifyInstance } from 'fastify';
-import { bullKeys } from '../../queue/store.ts';
+import { bullKeys } from '../../queue/job-index.ts';
 import type { AppDeps } from '../deps.ts';
 import { route, type RouteSpec } from '../route-spec.ts';
 import * as S from '../schemas.ts';
@@ -44,7 +44,7 @@ export function metricsPlugin(deps: AppDeps) {
         else if (tenant === principal.tenant) lines.push(`earmark_http_requests_total{${series}} ${count}`);
       }
       if (view === 'all') {
-        const [counters, depth] = await Promise.all([deps.store.counters(), deps.queue.getJobCounts('waiting', 'active', 'delayed', 'prioritized')]);
+        const [counters, depth] = await Promise.all([deps.store.outcomes.counters(), deps.queue.getJobCounts('waiting', 'active', 'delayed', 'prioritized')]);
         lines.push('# HELP earmark_jobs_total Analysis jobs finished, by outcome.', '# TYPE earmark_jobs_total counter');
         for (const outcome of ['completed', 'failed']) lines.push(`earmark_jobs_total{outcome="${outcome}"} ${counters.jobs[outcome] ?? 0}`);
         lines.push('# HELP earmark_analysis_seconds Time spent analysing completed jobs.', '# TYPE earmark_analysis_seconds summary');
@@ -53,7 +53,7 @@ export function metricsPlugin(deps: AppDeps) {
         for (const state of ['waiting', 'active', 'delayed', 'prioritized']) lines.push(`earmark_queue_jobs{state="${state}"} ${depth[state] ?? 0}`);
       } else {
         // Counted from the tenant's retained jobs: gauges, as they drop when retention removes jobs.
-        const c = await deps.store.tenantCounts(principal.tenant, bullKeys(deps.queue), Date.now() - 60_000);
+        const c = await deps.store.index.counts(principal.tenant, bullKeys(deps.queue), Date.now() - 60_000);
         lines.push('# HELP earmark_tenant_jobs This tenant\'s retained jobs, by state.', '# TYPE earmark_tenant_jobs gauge');
         for (const state of ['waiting', 'prioritized', 'active', 'delayed', 'completed', 'failed'] as const) lines.push(`earmark_tenant_jobs{state="${state}"} ${c[state]}`);
         lines.push('# HELP earmark_tenant_jobs_finished_last_minute This tenant\'s jobs finished in the last minute.', '# TYPE earmark_tenant_jobs_finished_last_minute gauge');

@@ -2,13 +2,10 @@
 // the same pure function the tests check) and short listening excerpts cut from the stored audio.
 
 import type { FastifyInstance } from 'fastify';
-import type { Job } from 'bullmq';
 import { EarmarkError } from '../../errors/index.ts';
 import { MAX_EXCERPT_SECONDS } from '../../engine/excerpt.ts';
 import { ExcerptRunner } from '../../engine/excerpt-runner.ts';
 import type { QcReport } from '../../profiles/index.ts';
-import type { AnalyzeJobV1, AnalyzeResultV1 } from '../../queue/contract.ts';
-import { stateOf } from '../../queue/job-view.ts';
 import { renderReportPlot } from '../../views/report-plot.ts';
 import { principalOf } from './auth.ts';
 import type { AppDeps } from '../deps.ts';
@@ -35,14 +32,6 @@ export const reportViewSpecs = {
   },
 } satisfies Record<string, RouteSpec>;
 
-async function completedJob(deps: AppDeps, tenant: string, id: string): Promise<Job<AnalyzeJobV1, AnalyzeResultV1>> {
-  const job = await deps.queue.getJob(id);
-  if (!job || job.data.tenant !== tenant) throw new EarmarkError('not_found', `no job ${id}`);
-  const state = stateOf(await job.getState());
-  if (state !== 'completed') throw new EarmarkError('report_not_ready', `job ${id} is ${state}`);
-  return job as Job<AnalyzeJobV1, AnalyzeResultV1>;
-}
-
 export function reportViewsPlugin(deps: AppDeps) {
   return async (app: FastifyInstance) => {
     // Excerpts decode on threads of their own, a few at a time: never on this event loop.
@@ -50,17 +39,14 @@ export function reportViewsPlugin(deps: AppDeps) {
     app.addHook('onClose', async () => { await excerpts.close(); });
 
     route(app, reportViewSpecs.plot, async (request, reply) => {
-      const { id } = request.params;
-      await completedJob(deps, principalOf(request).tenant, id);
-      const json = (await deps.store.getReport(id)) ?? (await deps.storage.readReport(id));
-      if (!json) throw new EarmarkError('not_found', `the report of job ${id} is past its retention period`);
+      const json = await deps.jobs.report(principalOf(request).tenant, request.params.id);
       return reply.type('image/svg+xml').send(renderReportPlot(JSON.parse(json) as QcReport));
     });
 
     route(app, reportViewSpecs.excerpt, async (request, reply) => {
       const { id } = request.params;
       const { startSeconds, endSeconds } = request.query;
-      const job = await completedJob(deps, principalOf(request).tenant, id);
+      const job = await deps.jobs.completed(principalOf(request).tenant, id);
       const sourceKey = job.returnvalue?.sourceKey ?? (job.data.source.kind === 'upload' ? job.data.source.storageKey : null);
       if (!sourceKey) throw new EarmarkError('not_found', `the audio of job ${id} was not kept`);
       // A client that goes away ends its thread.
