@@ -2,6 +2,7 @@
 
 import type { Redis } from 'ioredis';
 import type { UrlPolicy } from '../net/url-guard.ts';
+import type { ApiMetrics } from './metrics.ts';
 import type { ProfileStore } from '../queue/profile-store.ts';
 import type { AnalysisQueue } from '../queue/queues.ts';
 import type { JobsRepository } from '../queue/jobs-repository.ts';
@@ -16,4 +17,6 @@ export interface AppDeps {
   profiles: ProfileStore;
   storage: Storage;
   policy: UrlPolicy;
+  /** This API process's Prometheus figures. */
+  metrics: ApiMetrics;
 }

@@ -46,15 +46,18 @@ export type RouteHandler<S extends RouteSpec> = RouteHandlerMethod<
 
 export function route<const S extends RouteSpec>(app: FastifyInstance, spec: S, handler: RouteHandler<S>): void {
   const jsonBody = spec.body?.['application/json'];
+  const schema: RequestSchemas<S> & { body?: unknown } = {
+    params: spec.params,
+    querystring: spec.querystring,
+    ...(jsonBody ? { body: { content: { 'application/json': { schema: jsonBody } } } } : {}),
+  };
+  // Fastify warns about a schema key that is present but undefined.
+  for (const key of ['params', 'querystring'] as const) if (schema[key] === undefined) Reflect.deleteProperty(schema, key);
   app.withTypeProvider<JsonSchemaToTsProvider>().route<RouteGenericInterface, ContextConfigDefault, RequestSchemas<S>>({
     method: spec.method,
     url: spec.url,
     config: { scope: spec.scope },
-    schema: {
-      params: spec.params,
-      querystring: spec.querystring,
-      ...(jsonBody ? { body: { content: { 'application/json': { schema: jsonBody } } } } : {}),
-    },
+    schema,
     handler,
   });
 }

@@ -12,6 +12,7 @@ import { createAnalysisQueue } from '../queue/queues.ts';
 import { openServiceStores } from '../queue/store.ts';
 import { openStorage } from '../storage/index.ts';
 import { buildApp } from './app.ts';
+import { ApiMetrics } from './metrics.ts';
 import type { AppDeps } from './deps.ts';
 
 export interface RunningApi { app: FastifyInstance; deps: AppDeps; url: string; close(): Promise<void> }
@@ -38,6 +39,7 @@ export async function startApi(config: Config, logger?: Logger): Promise<Running
     jobs: new JobsRepository(redis, queue, store.index, store.reports, config.queuePrefix, (jobId) => storage.readReport(jobId)),
     profiles: new ProfileStore(redis, config.queuePrefix),
     policy: new UrlPolicy(config.urlAllowlist),
+    metrics: new ApiMetrics(),
   };
   app = await buildApp(config, deps, logger);
   const address = await app.listen({ port: config.port, host: config.host });

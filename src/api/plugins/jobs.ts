@@ -204,6 +204,7 @@ export function jobsPlugin(deps: AppDeps, uploadLimitBytes: number, bodyTimeoutM
         result = await submitJob(deps, tenant, input, { kind: 'url', url: sourceUrl }, idempotencyKey);
       }
       request.log.info({ jobId: result.id, duplicate: result.duplicate }, 'job submitted');
+      if (!result.duplicate) deps.metrics.jobSubmitted(tenant);
       const statusUrl = `/v1/jobs/${result.id}`;
       const state = result.duplicate ? (await deps.jobs.stateOf(tenant, result.id)) ?? 'queued' : 'queued';
       return reply.code(result.duplicate ? 200 : 202).header('location', statusUrl).send({ id: result.id, state, statusUrl, duplicate: result.duplicate });
