@@ -5,9 +5,12 @@
 // which would silently drop fields that do not fit.
 
 import type { JsonSchemaToTsProvider } from '@fastify/type-provider-json-schema-to-ts';
-import type { ContextConfigDefault, FastifyInstance, RawReplyDefaultExpression, RawRequestDefaultExpression, RawServerDefault, RouteGenericInterface, RouteHandlerMethod } from 'fastify';
+import type { ContextConfigDefault, FastifyInstance, FastifyPluginAsync, RawReplyDefaultExpression, RawRequestDefaultExpression, RawServerDefault, RouteGenericInterface, RouteHandlerMethod } from 'fastify';
+import fp from 'fastify-plugin';
 import type { JSONSchema } from 'json-schema-to-ts';
 import type { Scope } from '../config/index.ts';
+import { AUTH_PLUGIN } from './plugins/auth.ts';
+import { ERRORS_PLUGIN } from './plugins/errors.ts';
 
 type Schema = Record<string, unknown>;
 
@@ -60,4 +63,10 @@ export function route<const S extends RouteSpec>(app: FastifyInstance, spec: S, 
     schema,
     handler,
   });
+}
+
+/** A plugin of routes: named, kept encapsulated, and refused at startup unless the error handler,
+ * auth (the scope check every route relies on) and any other plugin it names are registered. */
+export function routesPlugin(name: string, register: FastifyPluginAsync, dependencies: string[] = []): FastifyPluginAsync {
+  return fp(register, { name, fastify: '5.x', encapsulate: true, dependencies: [ERRORS_PLUGIN, AUTH_PLUGIN, ...dependencies] });
 }

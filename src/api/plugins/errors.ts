@@ -128,6 +128,8 @@ export function frameworkProblem(thrown: FastifyError, request: FastifyRequest, 
   void sendProblem(reply, request, error);
 }
 
+export const ERRORS_PLUGIN = 'earmark-errors';
+
 export const errorsPlugin = fp(async (app) => {
   app.setErrorHandler((thrown: FastifyError, request, reply) => {
     const error = toProblem(thrown);
@@ -136,4 +138,4 @@ export const errorsPlugin = fp(async (app) => {
     return sendProblem(reply, request, error);
   });
   app.setNotFoundHandler((request, reply) => sendProblem(reply, request, new EarmarkError('not_found', `no route ${request.method} ${request.url.split('?')[0]}`)));
-}, { name: 'earmark-errors', fastify: '5.x' });
+}, { name: ERRORS_PLUGIN, fastify: '5.x' });

@@ -1,14 +1,14 @@
 // Job routes: submit (multipart upload or JSON sourceUrl), status, report, listing, queue.
 
 import { Ajv } from 'ajv';
-import type { FastifyInstance, FastifyRequest } from 'fastify';
+import type { FastifyRequest } from 'fastify';
 import type { FromSchema } from 'json-schema-to-ts';
 import type { IncomingMessage } from 'node:http';
 import { EarmarkError } from '../../errors/index.ts';
 import { bullKeys, type IndexCursor } from '../../queue/job-index.ts';
 import type { StoredFile } from '../../storage/index.ts';
 import type { AppDeps } from '../deps.ts';
-import { route, type RouteSpec } from '../route-spec.ts';
+import { route, routesPlugin, type RouteSpec } from '../route-spec.ts';
 import * as S from '../schemas.ts';
 import { submitJob, type SubmitInput } from '../submit.ts';
 import { validationProblem, poisonKeyOf } from '../validation.ts';
@@ -183,7 +183,7 @@ function decodeCursor(raw: string): IndexCursor {
 export function jobsPlugin(deps: AppDeps, uploadLimitBytes: number, bodyTimeoutMs = 60_000) {
   // Shorter than the idle timeout, so a stalled over-limit upload hears 413, not 408.
   const drainIdleMs = Math.min(5_000, Math.floor(bodyTimeoutMs / 2));
-  return async (app: FastifyInstance) => {
+  return routesPlugin('earmark-jobs', async (app) => {
     route(app, jobSpecs.submit, async (request, reply) => {
       const { tenant } = principalOf(request);
       const idempotencyKey = typeof request.headers['idempotency-key'] === 'string' ? request.headers['idempotency-key'].slice(0, 200) : undefined;
@@ -240,5 +240,5 @@ export function jobsPlugin(deps: AppDeps, uploadLimitBytes: number, bodyTimeoutM
         completed: c.completed, failed: c.failed, workers, finishedLastMinute: c.finishedSince,
       };
     });
-  };
+  }, ['@fastify/multipart']);
 }

@@ -3,10 +3,9 @@
 
 import { readFile } from 'node:fs/promises';
 import { fileURLToPath } from 'node:url';
-import type { FastifyInstance } from 'fastify';
 import { EarmarkError } from '../../errors/index.ts';
 import { dashboardPage, reportPage } from '../../views/pages.ts';
-import { route, type RouteSpec } from '../route-spec.ts';
+import { route, routesPlugin, type RouteSpec } from '../route-spec.ts';
 import * as S from '../schemas.ts';
 
 const ASSET_DIR = fileURLToPath(new URL('../../views/assets/', import.meta.url));
@@ -45,7 +44,7 @@ export function pagesPlugin() {
     if (!assets.has(name)) assets.set(name, readFile(`${ASSET_DIR}${name}`, 'utf8'));
     return assets.get(name) as Promise<string>;
   };
-  return async (app: FastifyInstance) => {
+  return routesPlugin('earmark-pages', async (app) => {
     route(app, pageSpecs.dashboard, async (_request, reply) =>
       reply.type('text/html; charset=utf-8').header('content-security-policy', CONTENT_SECURITY_POLICY).send(dashboardPage()));
     route(app, pageSpecs.report, async (request, reply) => {
@@ -56,5 +55,5 @@ export function pagesPlugin() {
       const { name } = request.params;
       return reply.type(ASSET_TYPES[name]).header('cache-control', 'no-cache').send(await asset(name));
     });
-  };
+  });
 }

@@ -1,7 +1,6 @@
 // Views of a completed job for the report page: the loudness plot (SVG, drawn on the server by
 // the same pure function the tests check) and short listening excerpts cut from the stored audio.
 
-import type { FastifyInstance } from 'fastify';
 import { EarmarkError } from '../../errors/index.ts';
 import { MAX_EXCERPT_SECONDS } from '../../engine/excerpt.ts';
 import { ExcerptRunner } from '../../engine/excerpt-runner.ts';
@@ -9,7 +8,7 @@ import type { QcReport } from '../../profiles/index.ts';
 import { renderReportPlot } from '../../views/report-plot.ts';
 import { principalOf } from './auth.ts';
 import type { AppDeps } from '../deps.ts';
-import { route, type RouteSpec } from '../route-spec.ts';
+import { route, routesPlugin, type RouteSpec } from '../route-spec.ts';
 import * as S from '../schemas.ts';
 
 
@@ -33,7 +32,7 @@ export const reportViewSpecs = {
 } satisfies Record<string, RouteSpec>;
 
 export function reportViewsPlugin(deps: AppDeps) {
-  return async (app: FastifyInstance) => {
+  return routesPlugin('earmark-report-views', async (app) => {
     // Excerpts decode on threads of their own, a few at a time: never on this event loop.
     const excerpts = new ExcerptRunner();
     app.addHook('onClose', async () => { await excerpts.close(); });
@@ -67,5 +66,5 @@ export function reportViewsPlugin(deps: AppDeps) {
         .header('x-excerpt-end-seconds', excerpt.endSeconds.toFixed(6))
         .send(Buffer.from(excerpt.wav.buffer, excerpt.wav.byteOffset, excerpt.wav.byteLength));
     });
-  };
+  });
 }
