@@ -62,7 +62,7 @@ export async function buildApp(config: Config, deps: AppDeps, logger?: Logger): 
   await app.register(jsonBodyPlugin);
   await app.register(authPlugin(config.apiKeys));
   await app.register(rateLimitPlugin(config.rateLimitPerMinute));
-  // Generous parser limits: past them the parser stops reading mid-body; jobs.ts allows 10 fields.
+  // Generous parser limits: past them the parser stops reading mid-body; upload-form.ts allows 10 fields.
   await app.register(multipart, { limits: { fileSize: config.uploadLimitBytes, files: 1, fields: 100, fieldSize: 64 * 1024, parts: 110 } });
   // Before the routes: its onResponse hook counts every request.
   await app.register(metricsPlugin(deps));
