@@ -28,6 +28,9 @@ const MAX_EXAMINED = 1000;
 // ARGV: job hash prefix, deliveries key prefix, job ids. Per id: {} when the job is gone (its
 // index entry is dropped), else {BullMQ state folded as job-view.ts does, hash fields, deliveries}.
 const READ_JOBS = script(`
+-- The active list is short: one entry per running analysis.
+local active = {}
+for _, id in ipairs(redis.call('LRANGE', KEYS[3], 0, -1)) do active[id] = true end
 local out = {}
 for i = 3, #ARGV do
   local id = ARGV[i]
@@ -39,7 +42,7 @@ for i = 3, #ARGV do
     local state = 'waiting'
     if redis.call('ZSCORE', KEYS[1], id) then state = 'completed'
     elseif redis.call('ZSCORE', KEYS[2], id) then state = 'failed'
-    elseif redis.call('LPOS', KEYS[3], id) then state = 'active' end
+    elseif active[id] then state = 'active' end
     out[#out + 1] = {state, fields, redis.call('LRANGE', ARGV[2] .. id, 0, -1)}
   end
 end
