@@ -13,14 +13,10 @@ import { openapiPlugin } from './openapi.ts';
 import { authPlugin } from './plugins/auth.ts';
 import { EarmarkError } from '../errors/index.ts';
 import { clientProblem, errorsPlugin, frameworkProblem, rawProblem } from './plugins/errors.ts';
-import { healthPlugin } from './plugins/health.ts';
-import { jobsPlugin } from './plugins/jobs.ts';
 import { jsonBodyPlugin } from './plugins/json-body.ts';
 import { metricsPlugin } from './plugins/metrics.ts';
-import { pagesPlugin } from './plugins/pages.ts';
-import { profilesPlugin } from './plugins/profiles.ts';
 import { rateLimitPlugin } from './plugins/rate-limit.ts';
-import { reportViewsPlugin } from './plugins/report-views.ts';
+import { routeModules } from './routes.ts';
 
 /** Requests are logged as method and path only: no headers (keys), no query strings. */
 const serializers = { req: (req: { method: string; url: string }) => ({ method: req.method, url: req.url.split('?')[0] }) };
@@ -62,18 +58,15 @@ export async function buildApp(config: Config, deps: AppDeps, logger?: Logger): 
   app.addHook('onRequest', async (request, reply) => { openResponses.set(request.raw.socket, reply.raw); });
   app.addHook('onResponse', async (request) => { openResponses.delete(request.raw.socket); });
   app.addHook('onSend', async (request, reply) => { reply.header('x-request-id', request.id); });
-  await app.register(Object.assign(errorsPlugin, { [Symbol.for('skip-override')]: true }));
-  await app.register(jsonBodyPlugin());
+  await app.register(errorsPlugin);
+  await app.register(jsonBodyPlugin);
   await app.register(authPlugin(config.apiKeys));
   await app.register(rateLimitPlugin(config.rateLimitPerMinute));
-  // Generous parser limits: past them the parser stops reading mid-body; jobs.ts allows 10 fields.
+  // Generous parser limits: past them the parser stops reading mid-body; upload-form.ts allows 10 fields.
   await app.register(multipart, { limits: { fileSize: config.uploadLimitBytes, files: 1, fields: 100, fieldSize: 64 * 1024, parts: 110 } });
+  // Before the routes: its onResponse hook counts every request.
   await app.register(metricsPlugin(deps));
-  await app.register(healthPlugin(deps));
   await app.register(openapiPlugin());
-  await app.register(jobsPlugin(deps, config.uploadLimitBytes, config.bodyTimeoutMs));
-  await app.register(profilesPlugin(deps));
-  await app.register(reportViewsPlugin(deps));
-  await app.register(pagesPlugin());
+  for (const module of routeModules) await app.register(module.plugin(deps, config));
   return app;
 }

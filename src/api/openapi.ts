@@ -1,15 +1,10 @@
 // The OpenAPI 3.1 document, built from the route specs and schemas the app itself uses, so the
 // document cannot drift from the routes. openapi/openapi.yaml is this, written by `npm run openapi`.
 
-import type { FastifyInstance } from 'fastify';
 import { ENGINE_VERSION } from '../engine/document.ts';
-import { healthSpecs } from './plugins/health.ts';
-import { jobSpecs } from './plugins/jobs.ts';
 import { metricsSpecs } from './plugins/metrics.ts';
-import { pageSpecs } from './plugins/pages.ts';
-import { profileSpecs } from './plugins/profiles.ts';
-import { reportViewSpecs } from './plugins/report-views.ts';
-import { route, type RouteSpec } from './route-spec.ts';
+import { route, routesPlugin, type RouteSpec } from './route-spec.ts';
+import { routeModules } from './routes.ts';
 import { components } from './schemas.ts';
 
 type Schema = Record<string, unknown>;
@@ -19,7 +14,8 @@ const openapiSpec: RouteSpec = {
   responses: { 200: { description: 'OpenAPI 3.1 document', schema: { type: 'object' } } },
 };
 
-export const allSpecs: RouteSpec[] = [...Object.values(jobSpecs), ...Object.values(reportViewSpecs), ...Object.values(profileSpecs), ...Object.values(pageSpecs), ...Object.values(healthSpecs), ...Object.values(metricsSpecs), openapiSpec];
+/** Every route: the route modules', then /metrics (registered with its hook) and this document's. */
+export const allSpecs: RouteSpec[] = [...routeModules.flatMap((m) => Object.values(m.specs)), ...Object.values(metricsSpecs), openapiSpec];
 
 const byIdentity = new Map<unknown, string>(Object.entries(components).map(([name, schema]) => [schema, name]));
 
@@ -37,9 +33,8 @@ function parameters(spec: RouteSpec): Schema[] {
   const out: Schema[] = [];
   for (const [where, schema] of [['path', spec.params], ['query', spec.querystring]] as const) {
     if (!schema) continue;
-    const props = (schema.properties ?? {}) as Record<string, Schema>;
-    const required = (schema.required ?? []) as string[];
-    for (const [name, s] of Object.entries(props)) out.push({ name, in: where, required: where === 'path' || required.includes(name), schema: withRefs(s, false) });
+    const required: readonly string[] = schema.required ?? [];
+    for (const [name, s] of Object.entries(schema.properties)) out.push({ name, in: where, required: where === 'path' || required.includes(name), schema: withRefs(s, false) });
   }
   for (const [name, h] of Object.entries(spec.headers ?? {})) out.push({ name, in: 'header', required: false, description: h.description, schema: h.schema });
   return out;
@@ -91,7 +86,7 @@ export function buildOpenApiDocument(): Schema {
 
 export function openapiPlugin() {
   const doc = buildOpenApiDocument();
-  return async (app: FastifyInstance) => {
+  return routesPlugin('earmark-openapi', async (app) => {
     route(app, openapiSpec, async () => doc);
-  };
+  });
 }

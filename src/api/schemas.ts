@@ -4,6 +4,7 @@
 import { readFileSync } from 'node:fs';
 import { profileSchema } from '../profiles/index.ts';
 import { projectFileUrl } from '../config/paths.ts';
+import type { ObjectSchema } from './route-spec.ts';
 
 type Schema = Record<string, unknown>;
 
@@ -102,11 +103,11 @@ export const JobList: Schema = {
 };
 
 /** view=all (every tenant) needs the operator scope; the default is the key's own tenant. */
-export const ViewQuery: Schema = {
+export const ViewQuery = {
   type: 'object',
   properties: { view: { type: 'string', enum: ['tenant', 'all'], default: 'tenant', description: 'tenant: the API key\'s tenant only; all: every tenant (operator scope)' } },
   additionalProperties: false,
-};
+} as const satisfies ObjectSchema;
 
 export const QueueStatus: Schema = {
   type: 'object',
@@ -162,15 +163,15 @@ export const Health: Schema = {
 
 export const components: Record<string, Schema> = { Problem, DeliveryAttempt, Job, JobAccepted, JobList, QueueStatus, Profile, ProfileEntry, ProfileList, Health, ...reportDefinitions };
 
-export const JobIdParams: Schema = {
+export const JobIdParams = {
   type: 'object', required: ['id'], properties: { id: { type: 'string', pattern: '^j_[a-z0-9]{20,40}$' } },
-};
+} as const satisfies ObjectSchema;
 
-export const ProfileIdParams: Schema = {
+export const ProfileIdParams = {
   type: 'object', required: ['id'], properties: { id: { type: 'string', pattern: '^[a-z0-9][a-z0-9-]{0,63}$' } },
-};
+} as const satisfies ObjectSchema;
 
-export const ListJobsQuery: Schema = {
+export const ListJobsQuery = {
   type: 'object',
   properties: {
     state: { type: 'string', enum: ['queued', 'active', 'completed', 'failed'] },
@@ -180,15 +181,15 @@ export const ListJobsQuery: Schema = {
     cursor: { type: 'string', maxLength: 200 },
   },
   additionalProperties: false,
-};
+} as const satisfies ObjectSchema;
 
 const submitFields = {
   profile: { type: 'string', pattern: '^[a-z0-9][a-z0-9-]{0,63}$', description: 'Profile id (built-in or the tenant\'s own); its current version is used.' },
   callbackUrl: { type: 'string', maxLength: 2000, description: 'Receives a signed POST when the job completes or fails.' },
   externalId: { type: 'string', maxLength: 200 },
-};
+} as const;
 
-export const SubmitJson: Schema = {
+export const SubmitJson = {
   type: 'object',
   required: ['sourceUrl', 'profile'],
   properties: {
@@ -197,7 +198,7 @@ export const SubmitJson: Schema = {
     metadata: { type: 'object', maxProperties: 20, additionalProperties: { type: 'string', maxLength: 500 } },
   },
   additionalProperties: false,
-};
+} as const satisfies ObjectSchema;
 
 export const SubmitMultipart: Schema = {
   type: 'object',

@@ -6,11 +6,13 @@ import type { Logger } from 'pino';
 import type { Config } from '../config/index.ts';
 import { UrlPolicy } from '../net/url-guard.ts';
 import { createRedis, waitReady } from '../queue/connection.ts';
+import { JobsRepository } from '../queue/jobs-repository.ts';
 import { ProfileStore } from '../queue/profile-store.ts';
 import { createAnalysisQueue } from '../queue/queues.ts';
-import { ServiceStore } from '../queue/store.ts';
+import { openServiceStores } from '../queue/store.ts';
 import { openStorage } from '../storage/index.ts';
 import { buildApp } from './app.ts';
+import { ApiMetrics } from './metrics.ts';
 import type { AppDeps } from './deps.ts';
 
 export interface RunningApi { app: FastifyInstance; deps: AppDeps; url: string; close(): Promise<void> }
@@ -31,11 +33,13 @@ export async function startApi(config: Config, logger?: Logger): Promise<Running
   const sweeper = setInterval(sweepPartials, Math.max(1_000, Math.min(partialAgeMs, 10 * 60_000)));
   sweeper.unref();
   const queue = createAnalysisQueue(redis, config, (error) => log('analysis queue error', error));
+  const store = openServiceStores(redis, config.queuePrefix, config.retentionHours * 3600);
   const deps: AppDeps = {
-    redis, queue, storage,
-    store: new ServiceStore(redis, config.queuePrefix, config.retentionHours * 3600),
+    redis, queue, storage, store,
+    jobs: new JobsRepository(redis, queue, store.index, store.reports, config.queuePrefix, (jobId) => storage.readReport(jobId)),
     profiles: new ProfileStore(redis, config.queuePrefix),
     policy: new UrlPolicy(config.urlAllowlist),
+    metrics: new ApiMetrics(),
   };
   app = await buildApp(config, deps, logger);
   const address = await app.listen({ port: config.port, host: config.host });

@@ -39,7 +39,7 @@ export async function submitJob(deps: AppDeps, tenant: string, input: SubmitInpu
   const id = newJobId();
   const fingerprint = createHash('sha256').update(JSON.stringify([input.profile, input.callbackUrl ?? null, input.externalId ?? null, input.metadata ?? null, source.kind === 'url' ? source.url : source.sha256])).digest('hex');
   if (idempotencyKey) {
-    const existing = await deps.store.claimIdempotency(tenant, idempotencyKey, id, fingerprint);
+    const existing = await deps.store.idempotency.claim(tenant, idempotencyKey, id, fingerprint);
     if (existing) {
       if (existing.fingerprint !== fingerprint) throw new EarmarkError('idempotency_conflict', 'this Idempotency-Key was used for a different request', { field: 'Idempotency-Key' });
       return { id: existing.jobId, duplicate: true };
@@ -58,9 +58,9 @@ export async function submitJob(deps: AppDeps, tenant: string, input: SubmitInpu
   };
   try {
     await deps.queue.add(ANALYZE_JOB_V1, data, { jobId: id });
-    await deps.store.indexJob(tenant, id, Date.now());
+    await deps.store.index.add(tenant, id, Date.now());
   } catch (error) {
-    if (idempotencyKey) await deps.store.releaseIdempotency(tenant, idempotencyKey).catch(() => undefined);
+    if (idempotencyKey) await deps.store.idempotency.release(tenant, idempotencyKey).catch(() => undefined);
     throw error;
   }
   return { id, duplicate: false };

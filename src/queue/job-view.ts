@@ -3,7 +3,7 @@
 
 import type { Job } from 'bullmq';
 import { decodeFailure, type AnalyzeJobV1, type AnalyzeResultV1 } from './contract.ts';
-import type { DeliveryAttempt } from './store.ts';
+import type { DeliveryAttempt } from './deliveries.ts';
 
 export type JobState = 'queued' | 'active' | 'completed' | 'failed';
 

@@ -18,7 +18,7 @@ import { ANALYSIS_QUEUE, ANALYZE_JOB_V1, DELIVER_WEBHOOK_V1, WEBHOOK_QUEUE, type
 import { createRedis, waitReady } from '../queue/connection.ts';
 import { jobView, type JobView } from '../queue/job-view.ts';
 import { createAnalysisQueue, createWebhookQueue } from '../queue/queues.ts';
-import { ServiceStore } from '../queue/store.ts';
+import { openServiceStores } from '../queue/store.ts';
 import { openStorage } from '../storage/index.ts';
 import { CHILD_SETTINGS_ENV, type ChildSettings } from './child-settings.ts';
 import { deliver } from './webhooks.ts';
@@ -98,7 +98,7 @@ export async function startWorker(config: Config, log: Logger): Promise<WorkerRu
   redis.on('error', (error) => log.warn({ err: { message: error.message } }, 'redis connection error'));
   await waitReady(redis, 10_000);
   const storage = await openStorage(config.storageDir);
-  const store = new ServiceStore(redis, config.queuePrefix, config.retentionHours * 3600);
+  const store = openServiceStores(redis, config.queuePrefix, config.retentionHours * 3600);
   const policy = new UrlPolicy(config.urlAllowlist);
   const onError = (error: Error, where: string) => log.error({ err: { message: error.message }, where }, 'queue error');
   const webhookQueue = createWebhookQueue(redis, config, onError);
@@ -122,13 +122,13 @@ export async function startWorker(config: Config, log: Logger): Promise<WorkerRu
       const jobId = String(job.id);
       const json = await storage.readReport(jobId);
       if (!json) throw new Error('the report the analysis wrote is missing');
-      await store.putReport(jobId, json);
-      await store.recordFinished(jobId, 'completed', result.analysisSeconds);
+      await store.reports.put(jobId, json);
+      await store.outcomes.record(jobId, 'completed', result.analysisSeconds);
       await enqueueWebhook(job, 'job.completed', jobView(asFinished(job, { returnvalue: result }), 'completed', []));
     },
     async failed(job, error) {
       const jobId = String(job.id);
-      await store.recordFinished(jobId, 'failed', null);
+      await store.outcomes.record(jobId, 'failed', null);
       const view = jobView(asFinished(job, { failedReason: error.message }), 'failed', []);
       await enqueueWebhook(job, 'job.failed', view);
     },
@@ -174,7 +174,7 @@ export async function startWorker(config: Config, log: Logger): Promise<WorkerRu
       // Backstop, idempotent: handleFailed above could not write (Redis refused); dropped as duplicates otherwise.
       const committed = await Job.fromId<AnalyzeJobV1, AnalyzeResultV1>(analysisQueue, String(job.id));
       if (!committed) return;
-      await store.recordFinished(String(job.id), 'failed', null);
+      await store.outcomes.record(String(job.id), 'failed', null);
       await enqueueWebhook(committed, 'job.failed', jobView(committed, 'failed', []));
     })().catch((e: unknown) => log.error({ jobId: job.id, err: { message: toEarmarkError(e).message } }, 'after-failure step failed'));
   });
@@ -198,7 +198,7 @@ export async function startWorker(config: Config, log: Logger): Promise<WorkerRu
     const secret = config.webhookSecrets[d.tenant] ?? config.webhookDefaultSecret;
     const attempt = job.attemptsMade + 1;
     const record = (outcome: 'delivered' | 'retrying' | 'failed', statusCode: number | null, error: string | null) =>
-      store.addDelivery(d.jobId, { deliveryId: d.deliveryId, event: d.event, attempt, at: new Date().toISOString(), statusCode, outcome, error });
+      store.deliveries.add(d.jobId, { deliveryId: d.deliveryId, event: d.event, attempt, at: new Date().toISOString(), statusCode, outcome, error });
     if (!secret) {
       await record('failed', null, 'no webhook secret is configured for this tenant');
       throw new UnrecoverableError('no webhook secret');

@@ -5,23 +5,24 @@ import type { Redis } from 'ioredis';
 import { createRedis } from '../../src/queue/connection.ts';
 import { decodeFailure, encodeFailure } from '../../src/queue/contract.ts';
 import { ProfileStore } from '../../src/queue/profile-store.ts';
-import { ServiceStore } from '../../src/queue/store.ts';
+import { purgePrefix } from '../../src/queue/service-keys.ts';
+import { openServiceStores, type ServiceStores } from '../../src/queue/store.ts';
 import { sign, verify } from '../../src/worker/webhooks.ts';
 import { createHmac } from 'node:crypto';
 import { testRedisUrl } from '../helpers/redis.ts';
 
 let redis: Redis;
-let store: ServiceStore;
+let store: ServiceStores;
 let profiles: ProfileStore;
 const prefix = `tq${randomBytes(6).toString('hex')}`;
 
 beforeAll(() => {
   redis = createRedis(testRedisUrl(), 'worker');
-  store = new ServiceStore(redis, prefix, 60);
+  store = openServiceStores(redis, prefix, 60);
   profiles = new ProfileStore(redis, prefix);
 });
 afterAll(async () => {
-  await store.purge();
+  await purgePrefix(redis, prefix);
   expect(await redis.keys(`${prefix}:*`)).toEqual([]);
   await redis.quit();
 });
@@ -55,13 +56,13 @@ describe('ProfileStore', () => {
   });
 });
 
-describe('ServiceStore', () => {
+describe('service stores', () => {
   it('pages newest first, with ties in one millisecond kept in order across pages', async () => {
-    for (const [id, ms] of [['j_a1', 1000], ['j_a2', 2000], ['j_a3', 2000], ['j_a4', 2000], ['j_a5', 3000]] as const) await store.indexJob('t1', id, ms);
+    for (const [id, ms] of [['j_a1', 1000], ['j_a2', 2000], ['j_a3', 2000], ['j_a4', 2000], ['j_a5', 3000]] as const) await store.index.add('t1', id, ms);
     const seen: string[] = [];
     let cursor: { id: string; scoreMs: number } | null = null;
     for (;;) {
-      const page = await store.jobPage('t1', cursor, 2);
+      const page = await store.index.page('t1', cursor, 2);
       if (page.length === 0) break;
       seen.push(...page.map((r) => r.id));
       cursor = page[page.length - 1];
@@ -69,9 +70,9 @@ describe('ServiceStore', () => {
     expect(seen).toEqual(['j_a5', 'j_a4', 'j_a3', 'j_a2', 'j_a1']);
   });
   it('an idempotency key is claimed once per tenant', async () => {
-    expect(await store.claimIdempotency('t1', 'k', 'j_1', 'f1')).toBeNull();
-    expect(await store.claimIdempotency('t1', 'k', 'j_2', 'f1')).toEqual({ jobId: 'j_1', fingerprint: 'f1' });
-    expect(await store.claimIdempotency('t2', 'k', 'j_3', 'f1')).toBeNull();
+    expect(await store.idempotency.claim('t1', 'k', 'j_1', 'f1')).toBeNull();
+    expect(await store.idempotency.claim('t1', 'k', 'j_2', 'f1')).toEqual({ jobId: 'j_1', fingerprint: 'f1' });
+    expect(await store.idempotency.claim('t2', 'k', 'j_3', 'f1')).toBeNull();
   });
 });
 

@@ -99,9 +99,9 @@ describe('durable completion', () => {
         // The body reads as the committed job does (it is written just before the commit).
         expect(posts[0].job).toMatchObject({ id, state: c.outcome, attemptsMade: delivered.attemptsMade });
         expect(posts[0].job.finishedAt).toBeTruthy();
-        expect(await store.finishedOutcome(id)).toBe(c.outcome);
+        expect(await store.outcomes.outcomeOf(id)).toBe(c.outcome);
         if (c.outcome === 'completed') {
-          expect(await store.getReport(id)).toBeTruthy();
+          expect(await store.reports.get(id)).toBeTruthy();
           expect((await api.get(`/v1/jobs/${id}/report`, KEYS.alpha)).status).toBe(200);
         } else {
           expect(delivered.error?.code).toBeTruthy();
@@ -110,7 +110,7 @@ describe('durable completion', () => {
         lines.push(`trial ${trial}: state at kill ${stateAtKill}, posts at kill ${postsAtKill}, posts ${posts.length}, delivery ids 1`);
       }
       // Counted once per job however often the outcome was written (a re-run writes it again).
-      expect((await store.counters()).jobs[c.outcome]).toBe(TRIALS);
+      expect((await store.outcomes.counters()).jobs[c.outcome]).toBe(TRIALS);
       console.log(`[durable ${c.killAt}] ${lines.join('; ')}; ${c.outcome} counted ${TRIALS}/${TRIALS}`);
     }, 60_000 + TRIALS * 90_000);
   }
@@ -141,8 +141,8 @@ describe('durable completion', () => {
     expect(delivered.state).toBe('failed');
     const posts = receiver.posts.filter((p) => p.delivery.startsWith(`dlv_${id}_`));
     expect(new Set(posts.map((p) => p.delivery))).toEqual(new Set([deliveryIdOf(id, 'job.failed')]));
-    expect(await svc.api.deps.store.finishedOutcome(id)).toBe('failed');
-    expect((await svc.api.deps.store.counters()).jobs.failed).toBe(1);
+    expect(await svc.api.deps.store.outcomes.outcomeOf(id)).toBe('failed');
+    expect((await svc.api.deps.store.outcomes.counters()).jobs.failed).toBe(1);
     await stopProcess(last);
     console.log(`[durable stalled] killed mid-analysis 3 times, the failing worker killed before its commit; ${delivered.error?.code}: posts ${posts.length}, delivery ids 1, failed counted 1`);
   }, 180_000);

@@ -74,7 +74,7 @@ describe('faults', () => {
     expect(done.state).toBe('completed');
     expect(second.lines.some((l) => l.includes(id) && l.includes('job completed'))).toBe(true);
     expect(readdirSync(join(svc.dir, 'reports'))).toEqual([`${id}.json`]);
-    expect(await svc.api.deps.store.getReport(id)).toBeTruthy();
+    expect(await svc.api.deps.store.reports.get(id)).toBeTruthy();
     const delivered = await waitFor('the webhook', async () => { const s = await jobState(api, id); return s.callback?.deliveries.some((d) => d.outcome === 'delivered') ? s : null; }, 30_000);
     const ids = new Set(receiver.posts.map((p) => p.delivery));
     expect(ids.size).toBe(1);

@@ -12,7 +12,7 @@ import { spawnService, stopProcess, waitFor, type ServiceProcess } from '../../f
 import { startApi } from '../../src/api/server.ts';
 import { loadConfig } from '../../src/config/index.ts';
 import { createRedis } from '../../src/queue/connection.ts';
-import { ServiceStore } from '../../src/queue/store.ts';
+import { purgePrefix } from '../../src/queue/service-keys.ts';
 import { writeSine } from '../service/audio.ts';
 import { client } from '../service/client.ts';
 import { KEYS, startService, testEnv, WEBHOOK_SECRET, type TestService } from '../service/harness.ts';
@@ -92,7 +92,7 @@ describe('error bodies and logs', () => {
       await stopProcess(worker);
       await running.close();
       const redis = createRedis(config.redisUrl, 'worker');
-      await new ServiceStore(redis, config.queuePrefix, 60).purge();
+      await purgePrefix(redis, config.queuePrefix);
       await redis.quit();
       rmSync(dir, { recursive: true, force: true });
     }

@@ -9,7 +9,7 @@ import { join } from 'node:path';
 import pino from 'pino';
 import { startApi, type RunningApi } from '../../src/api/server.ts';
 import { loadConfig, type Config } from '../../src/config/index.ts';
-import { ServiceStore } from '../../src/queue/store.ts';
+import { purgePrefix } from '../../src/queue/service-keys.ts';
 import { startWorker, type WorkerRuntime } from '../../src/worker/runtime.ts';
 import { testRedisUrl } from '../helpers/redis.ts';
 
@@ -63,7 +63,7 @@ export async function startService(options: { worker?: boolean; env?: Record<str
       await worker?.close();
       const { createRedis } = await import('../../src/queue/connection.ts');
       const redis = createRedis(config.redisUrl, 'worker');
-      await new ServiceStore(redis, config.queuePrefix, 60).purge();
+      await purgePrefix(redis, config.queuePrefix);
       await redis.quit();
       rmSync(dir, { recursive: true, force: true });
     },

@@ -6,7 +6,7 @@ import { writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { createRedis } from '../../src/queue/connection.ts';
-import { bullKeys, ServiceStore } from '../../src/queue/store.ts';
+import { bullKeys, JobIndex } from '../../src/queue/job-index.ts';
 import { createAnalysisQueue } from '../../src/queue/queues.ts';
 import { writeSine } from './audio.ts';
 import { client, type Client } from './client.ts';
@@ -57,18 +57,25 @@ describe('without a worker: queued jobs per tenant', () => {
     expect((await api.get('/v1/queue?view=all', K.alphaAdmin)).status).toBe(403);
     expect((await api.get('/v1/queue?view=everyone', K.alpha)).status).toBe(400);
 
+    // A repeated Idempotency-Key answers 200 with the first job: not a new submission.
+    for (let i = 0; i < 2; i++) expect((await api.upload(wav, { profile: 'ebu-r128' }, K.beta, { 'idempotency-key': 'vis-once' })).status).toBe(i === 0 ? 202 : 200);
     const alphaMetrics = (await api.get('/metrics', K.alphaMetrics)).text;
     expect(value(alphaMetrics, 'earmark_tenant_jobs{state="waiting"}')).toBe(3);
-    expect(value((await api.get('/metrics', K.betaMetrics)).text, 'earmark_tenant_jobs{state="waiting"}')).toBe(1);
-    expect(value((await api.get('/metrics?view=all', K.ops)).text, 'earmark_queue_jobs{state="waiting"}')).toBe(4);
+    expect(value(alphaMetrics, 'earmark_jobs_submitted_total')).toBe(3);
+    expect(value((await api.get('/metrics', K.betaMetrics)).text, 'earmark_jobs_submitted_total')).toBe(2);
+    expect(value((await api.get('/metrics', K.betaMetrics)).text, 'earmark_tenant_jobs{state="waiting"}')).toBe(2);
+    const all = (await api.get('/metrics?view=all', K.ops)).text;
+    expect(value(all, 'earmark_queue_jobs{state="waiting"}')).toBe(5);
+    expect(value(all, 'earmark_jobs_submitted_total{tenant="alpha"}')).toBe(3);
+    expect(value(all, 'earmark_jobs_submitted_total{tenant="beta"}')).toBe(2);
 
     // A job BullMQ removed after the retention no longer counts, and its index entry is dropped.
     const redis = createRedis(svc.config.redisUrl, 'worker');
     try {
-      const store = new ServiceStore(redis, svc.config.queuePrefix, svc.config.retentionHours * 3600);
+      const index = new JobIndex(redis, svc.config.queuePrefix, svc.config.retentionHours * 3600);
       const queue = createAnalysisQueue(redis, svc.config, () => undefined);
-      await store.indexJob('beta', 'j_removedremovedremoved00', Date.now() - (svc.config.retentionHours + 1) * 3_600_000);
-      expect(await store.tenantCounts('beta', bullKeys(queue), 0)).toMatchObject({ waiting: 1, completed: 0 });
+      await index.add('beta', 'j_removedremovedremoved00', Date.now() - (svc.config.retentionHours + 1) * 3_600_000);
+      expect(await index.counts('beta', bullKeys(queue), 0)).toMatchObject({ waiting: 2, completed: 0 });
       expect(await redis.zscore(`${svc.config.queuePrefix}:svc:jobs:beta`, 'j_removedremovedremoved00')).toBeNull();
       await queue.close();
     } finally {
@@ -123,9 +130,13 @@ describe('with a worker: finished jobs, requests and the operator view', () => {
     expect(value(beta, 'earmark_tenant_jobs_finished_last_minute')).toBe(1);
     // Beta's own submissions only: one 202 on POST /v1/jobs, none of alpha's three.
     expect(value(beta, 'earmark_http_requests_total{method="POST",route="/v1/jobs",status="202"}')).toBe(1);
+    expect(value(beta, 'earmark_http_request_duration_seconds_count{method="POST",route="/v1/jobs",status="202"}')).toBe(1);
+    expect(value(beta, 'earmark_jobs_submitted_total')).toBe(1);
     expect(beta).not.toMatch(/tenant="/);
     expect(series(beta, 'earmark_jobs_total')).toEqual([]);
     expect(series(beta, 'earmark_analysis_seconds')).toEqual([]);
+    // The process's own figures are the operator's.
+    expect(series(beta, 'process_')).toEqual([]);
 
     const alphaText = (await api.get('/metrics', K.alphaMetrics)).text;
     expect(value(alphaText, 'earmark_tenant_jobs{state="completed"}')).toBe(2);
@@ -136,6 +147,14 @@ describe('with a worker: finished jobs, requests and the operator view', () => {
     expect(value(all, 'earmark_jobs_total{outcome="completed"}')).toBe(3);
     expect(value(all, 'earmark_jobs_total{outcome="failed"}')).toBe(1);
     expect(value(all, 'earmark_analysis_seconds_count')).toBe(3);
+    expect(value(all, 'earmark_analysis_seconds_bucket{le="+Inf"}')).toBe(3);
+    // Cumulative buckets: never decreasing, never above the count.
+    const buckets = series(all, 'earmark_analysis_seconds_bucket').map((l) => Number(l.split(' ').pop()));
+    expect(buckets.length).toBeGreaterThan(2);
+    expect(buckets).toEqual([...buckets].sort((a, b) => a - b));
+    expect(value(all, 'earmark_http_request_duration_seconds_count{method="POST",route="/v1/jobs",status="202"}')).toBe(4);
+    expect(value(all, 'earmark_jobs_submitted_total{tenant="beta"}')).toBe(1);
+    expect(series(all, 'process_cpu_user_seconds_total').length).toBe(1);
     expect(value(all, 'earmark_http_requests_total{tenant="alpha",method="POST",route="/v1/jobs",status="202"}')).toBe(3);
     expect(value(all, 'earmark_http_requests_total{tenant="beta",method="POST",route="/v1/jobs",status="202"}')).toBe(1);
   });

@@ -2,7 +2,8 @@
 // configured key, so neither the length nor the position of a match shows in the timing.
 
 import { createHash, timingSafeEqual } from 'node:crypto';
-import type { FastifyInstance, FastifyRequest } from 'fastify';
+import type { FastifyRequest } from 'fastify';
+import fp from 'fastify-plugin';
 import type { ApiKey, Scope } from '../../config/index.ts';
 import { EarmarkError } from '../../errors/index.ts';
 
@@ -38,9 +39,12 @@ export function principalOf(request: FastifyRequest): Principal {
   return request.principal;
 }
 
+/** Plugins that read `request.principal` declare this name as a dependency. */
+export const AUTH_PLUGIN = 'earmark-auth';
+
 export function authPlugin(apiKeys: ApiKey[]) {
   const keys = apiKeys.map((entry) => ({ digest: digest(entry.key), entry }));
-  const plugin = async (app: FastifyInstance) => {
+  return fp(async (app) => {
     app.decorateRequest('principal', null);
     app.addHook('onRequest', async (request) => {
       const scope = request.routeOptions.config?.scope;
@@ -54,6 +58,5 @@ export function authPlugin(apiKeys: ApiKey[]) {
       request.log = request.log.child({ tenant: entry.tenant });
       requireScope(request.principal, scope);
     });
-  };
-  return Object.assign(plugin, { [Symbol.for('skip-override')]: true });
+  }, { name: AUTH_PLUGIN, fastify: '5.x' });
 }

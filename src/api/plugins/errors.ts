@@ -2,8 +2,10 @@
 // Nothing internal (stack, path, cause) reaches the body; 5xx are logged without the stack's
 // file paths leaking into the response.
 
-import type { FastifyError, FastifyInstance, FastifyReply, FastifyRequest } from 'fastify';
+import type { FastifyError, FastifyReply, FastifyRequest } from 'fastify';
+import fp from 'fastify-plugin';
 import { catalogueEntry, EarmarkError, errorCatalogue, isEarmarkError, type ErrorCode } from '../../errors/index.ts';
+import { validationProblem } from '../validation.ts';
 
 /** Client input (a field name, a path) is echoed clipped: a body never carries more than a few
  * dozen characters of it, whatever the client sent. */
@@ -78,16 +80,7 @@ function drainThenClose(request: FastifyRequest, reply: FastifyReply): void {
 
 /** Fastify's and plugins' own errors, mapped onto catalogue codes. */
 function fromFastify(error: FastifyError): EarmarkError {
-  if (error.validation) {
-    const first = error.validation[0];
-    // Field names as the client wrote them: "sourceUrl", "limit", "metadata.desk".
-    const parts = (first?.instancePath ?? '').split('/').filter(Boolean);
-    const params = first?.params as { missingProperty?: string; additionalProperty?: string } | undefined;
-    const named = params?.missingProperty ?? params?.additionalProperty;
-    if (named) parts.push(named);
-    const field = parts.join('.') || (error.validationContext ?? 'request');
-    return new EarmarkError('validation_failed', `${field} ${params?.additionalProperty ? 'is not a known field' : first?.message ?? 'is invalid'}`, { field });
-  }
+  if (error.validation) return validationProblem(error.validation, error.validationContext ?? 'request');
   const byFastifyCode: Record<string, ErrorCode> = {
     FST_REQ_FILE_TOO_LARGE: 'payload_too_large',
     FST_ERR_CTP_BODY_TOO_LARGE: 'payload_too_large',
@@ -135,7 +128,9 @@ export function frameworkProblem(thrown: FastifyError, request: FastifyRequest, 
   void sendProblem(reply, request, error);
 }
 
-export async function errorsPlugin(app: FastifyInstance): Promise<void> {
+export const ERRORS_PLUGIN = 'earmark-errors';
+
+export const errorsPlugin = fp(async (app) => {
   app.setErrorHandler((thrown: FastifyError, request, reply) => {
     const error = toProblem(thrown);
     if (error.status >= 500) request.log.error({ code: error.code, err: { message: thrown.message, name: thrown.name } }, 'request failed');
@@ -143,4 +138,4 @@ export async function errorsPlugin(app: FastifyInstance): Promise<void> {
     return sendProblem(reply, request, error);
   });
   app.setNotFoundHandler((request, reply) => sendProblem(reply, request, new EarmarkError('not_found', `no route ${request.method} ${request.url.split('?')[0]}`)));
-}
+}, { name: ERRORS_PLUGIN, fastify: '5.x' });

@@ -1,8 +1,7 @@
 // Liveness (the process answers) and readiness (Redis answers and storage is writable).
 
-import type { FastifyInstance } from 'fastify';
 import type { AppDeps } from '../deps.ts';
-import { route, type RouteSpec } from '../route-spec.ts';
+import { route, routesPlugin, type RouteSpec } from '../route-spec.ts';
 import * as S from '../schemas.ts';
 
 export const healthSpecs = {
@@ -31,7 +30,7 @@ async function redisAnswers(deps: AppDeps): Promise<boolean> {
 }
 
 export function healthPlugin(deps: AppDeps) {
-  return async (app: FastifyInstance) => {
+  return routesPlugin('earmark-health', async (app) => {
     route(app, healthSpecs.live, async () => ({ status: 'ok' }));
     route(app, healthSpecs.ready, async (_request, reply) => {
       const [redis, storage] = await Promise.all([redisAnswers(deps), deps.storage.checkWritable()]);
@@ -39,5 +38,5 @@ export function healthPlugin(deps: AppDeps) {
       if (!ok) reply.code(503).header('retry-after', '5');
       return { status: ok ? 'ok' : 'unavailable', redis, storage };
     });
-  };
+  });
 }

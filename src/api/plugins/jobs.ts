@@ -1,19 +1,15 @@
 // Job routes: submit (multipart upload or JSON sourceUrl), status, report, listing, queue.
 
-import type { MultipartFile } from '@fastify/multipart';
 import { Ajv } from 'ajv';
-import type { FastifyInstance, FastifyRequest } from 'fastify';
-import type { IncomingMessage } from 'node:http';
-import type { Job } from 'bullmq';
+import type { FromSchema } from 'json-schema-to-ts';
 import { EarmarkError } from '../../errors/index.ts';
-import type { AnalyzeJobV1, AnalyzeResultV1 } from '../../queue/contract.ts';
-import { bullKeys } from '../../queue/store.ts';
-import { jobView, stateOf, type JobView } from '../../queue/job-view.ts';
-import type { StoredFile } from '../../storage/index.ts';
+import { bullKeys, type IndexCursor } from '../../queue/job-index.ts';
 import type { AppDeps } from '../deps.ts';
-import { route, type RouteSpec } from '../route-spec.ts';
+import { route, routesPlugin, type RouteSpec } from '../route-spec.ts';
 import * as S from '../schemas.ts';
-import { submitJob, type SubmitInput } from '../submit.ts';
+import { submitJob } from '../submit.ts';
+import { readMultipart } from '../upload-form.ts';
+import { validationProblem } from '../validation.ts';
 import { principalOf, requireScope } from './auth.ts';
 
 const idempotencyHeader = { 'Idempotency-Key': { description: 'Repeat a submission safely: the same key returns the job made the first time.', schema: { type: 'string', maxLength: 200 } } };
@@ -49,154 +45,10 @@ export const jobSpecs = {
   },
 } satisfies Record<string, RouteSpec>;
 
-const ajv = new Ajv({ allErrors: false });
-const validateJson = ajv.compile(S.SubmitJson);
-const validateFields = ajv.compile({ ...S.SubmitJson, required: ['profile'], properties: { ...(S.SubmitJson.properties as object), sourceUrl: false } });
+const validateJson = new Ajv({ allErrors: false }).compile<FromSchema<typeof S.SubmitJson>>(S.SubmitJson);
 
-function fieldError(errors: typeof validateFields.errors): EarmarkError {
-  const e = errors?.[0];
-  const missing = (e?.params as { missingProperty?: string; additionalProperty?: string } | undefined);
-  const field = missing?.missingProperty ?? missing?.additionalProperty ?? (e?.instancePath.replace(/^\//, '').replace(/\//g, '.') || 'body');
-  return new EarmarkError('validation_failed', `${field} ${e?.keyword === 'additionalProperties' ? 'is not a known field' : e?.message ?? 'is invalid'}`, { field });
-}
-
-const MAX_FIELDS = 10;
-
-const cleanName = (name: string | undefined) => (name ?? 'upload').replace(/[^\w .()-]/g, '_').slice(0, 200) || 'upload';
-
-/** Room for the form's other parts and boundaries on top of the file's limit. */
-const FORM_SLACK_BYTES = 1024 * 1024;
-
-/** The whole multipart body is bounded too: an endless one (chunked, never terminated) whose
- * bytes are not a file part (a huge preamble or field) would otherwise be read for ever. */
-function bodyBudget(request: FastifyRequest, maxBytes: number): { exceeded: Promise<never>; stop(): void } {
-  let received = 0;
-  let fail: (error: EarmarkError) => void = () => undefined;
-  const exceeded = new Promise<never>((_resolve, reject) => { fail = reject; });
-  exceeded.catch(() => undefined);
-  const onData = (chunk: Buffer) => {
-    received += chunk.length;
-    if (received > maxBytes) {
-      request.raw.off('data', onData);
-      fail(new EarmarkError('payload_too_large', `the request body is larger than ${maxBytes} bytes`, { limitBytes: maxBytes }));
-    }
-  };
-  // Added after parts() has piped the body into the parser, so no byte is missed by either.
-  request.raw.on('data', onData);
-  return { exceeded, stop: () => request.raw.off('data', onData) };
-}
-
-const DRAIN_BEFORE_ANSWER_BYTES = 8 * 1024 * 1024;
-
-/** Reads and drops the rest of a refused body, up to maxBytes and while it keeps coming: a
- * client that stalls gets its answer after idleMs all the same. */
-function drainBeforeAnswer(raw: IncomingMessage, maxBytes: number, idleMs: number): Promise<void> {
-  return new Promise((resolve) => {
-    if (raw.complete || raw.destroyed) { resolve(); return; }
-    let drained = 0;
-    const done = () => {
-      clearTimeout(timer);
-      raw.off('data', onData).off('end', done).off('close', done);
-      raw.pause();
-      resolve();
-    };
-    const onData = (chunk: Buffer) => {
-      drained += chunk.length;
-      if (drained > maxBytes) done();
-      else timer.refresh();
-    };
-    const timer = setTimeout(done, idleMs);
-    raw.on('data', onData).once('end', done).once('close', done);
-    raw.resume();
-  });
-}
-
-async function readMultipart(deps: AppDeps, request: FastifyRequest, limitBytes: number, drainIdleMs: number): Promise<{ stored: StoredFile; fileName: string; input: SubmitInput }> {
-  let stored: StoredFile | null = null;
-  let fileName = 'upload';
-  let problem: EarmarkError | null = null;
-  const fields: Record<string, string> = {};
-  // Without a boundary the parser cannot start; say so instead of a parser error.
-  if (!/;\s*boundary=/i.test(String(request.headers['content-type'] ?? ''))) {
-    throw new EarmarkError('validation_failed', 'multipart/form-data needs a boundary parameter', { field: 'content-type' });
-  }
-  const parts = request.parts()[Symbol.asyncIterator]();
-  const budget = bodyBudget(request, limitBytes + FORM_SLACK_BYTES);
-  try {
-    for (;;) {
-      const next = await Promise.race([parts.next(), budget.exceeded]);
-      if (next.done) break;
-      const part = next.value;
-      if (part.type === 'file') {
-        const file = part as MultipartFile;
-        if (file.fieldname !== 'file' || stored || problem) {
-          file.file.resume();
-          problem ??= new EarmarkError('validation_failed', 'send exactly one file part, named "file"', { field: file.fieldname });
-          continue;
-        }
-        // A refused or failed store is answered after the rest of the body is read (no reset).
-        stored = await deps.storage.saveUpload(file.file, limitBytes, () => file.file.truncated).catch((error: unknown) => {
-          problem ??= error instanceof EarmarkError ? error : new EarmarkError('storage_unavailable', 'the upload could not be stored');
-          return null;
-        });
-        // Over the limit: answer now rather than read a body that may never end.
-        const refused = problem as EarmarkError | null;
-        if (refused?.code === 'payload_too_large') throw refused;
-        fileName = cleanName(file.filename);
-      } else if (Object.keys(fields).length >= MAX_FIELDS) {
-        problem ??= new EarmarkError('validation_failed', `the form has more than ${MAX_FIELDS} fields`, { field: part.fieldname });
-      } else {
-        fields[part.fieldname] = String(part.value);
-      }
-    }
-    if (problem) throw problem;
-    if (!stored) throw new EarmarkError('validation_failed', 'the multipart body has no "file" part', { field: 'file' });
-    const input: Record<string, unknown> = { ...fields };
-    if (fields.metadata !== undefined) {
-      try { input.metadata = JSON.parse(fields.metadata); } catch { throw new EarmarkError('validation_failed', 'metadata is not valid JSON', { field: 'metadata' }); }
-      // Same rule as the JSON body parser: no prototype-poisoning keys.
-      const poison = Object.keys(input.metadata ?? {}).find((k) => k === '__proto__' || k === 'constructor' || k === 'prototype');
-      if (poison) throw new EarmarkError('validation_failed', `metadata has a "${poison}" key, which is not allowed`, { field: `metadata.${poison}` });
-    }
-    if (!validateFields(input)) throw fieldError(validateFields.errors);
-    return { stored, fileName, input: input as unknown as SubmitInput };
-  } catch (error) {
-    if (stored) await deps.storage.remove(stored.key).catch(() => undefined);
-    if (error instanceof EarmarkError && error.code === 'payload_too_large') {
-      request.raw.unpipe();
-      // A declared body a little over the limit is read to its end first: most clients read the
-      // answer only once they have sent everything. An endless or far larger one is answered now.
-      const declared = Number(request.headers['content-length'] ?? NaN);
-      if (declared <= limitBytes + FORM_SLACK_BYTES + DRAIN_BEFORE_ANSWER_BYTES) await drainBeforeAnswer(request.raw, DRAIN_BEFORE_ANSWER_BYTES, drainIdleMs);
-    } else {
-      // A multipart limit stops the parser mid-body: read the rest (bounded by the idle and
-      // request timeouts) so the client gets the answer instead of a broken pipe.
-      request.raw.resume();
-    }
-    throw error;
-  } finally {
-    budget.stop();
-  }
-}
-
-async function loadJob(deps: AppDeps, tenant: string, id: string): Promise<Job<AnalyzeJobV1, AnalyzeResultV1>> {
-  const job = await deps.queue.getJob(id);
-  // Another tenant's job answers exactly like a missing one.
-  if (!job || job.data.tenant !== tenant) throw new EarmarkError('not_found', `no job ${id}`);
-  return job;
-}
-
-async function viewOf(deps: AppDeps, loaded: Job<AnalyzeJobV1, AnalyzeResultV1>): Promise<JobView> {
-  const [state, deliveries] = await Promise.all([loaded.getState(), deps.store.deliveries(String(loaded.id))]);
-  // The job may have finished between reading its hash and its state: read it again, or a
-  // failed job would show no reason (and a completed one no result).
-  const finishedSinceLoaded = (state === 'completed' || state === 'failed') && !loaded.finishedOn;
-  const job = finishedSinceLoaded ? (await deps.queue.getJob(String(loaded.id))) ?? loaded : loaded;
-  return jobView(job, state, deliveries);
-}
-
-const encodeCursor = (c: { scoreMs: number; id: string }) => Buffer.from(`${c.scoreMs}:${c.id}`).toString('base64url');
-function decodeCursor(raw: string): { scoreMs: number; id: string } {
+const encodeCursor = (c: IndexCursor) => Buffer.from(`${c.scoreMs}:${c.id}`).toString('base64url');
+function decodeCursor(raw: string): IndexCursor {
   const match = /^(\d+):(j_[a-z0-9]+)$/.exec(Buffer.from(raw, 'base64url').toString());
   if (!match) throw new EarmarkError('validation_failed', 'cursor is not one this API gave out', { field: 'cursor' });
   return { scoreMs: Number(match[1]), id: match[2] };
@@ -205,7 +57,7 @@ function decodeCursor(raw: string): { scoreMs: number; id: string } {
 export function jobsPlugin(deps: AppDeps, uploadLimitBytes: number, bodyTimeoutMs = 60_000) {
   // Shorter than the idle timeout, so a stalled over-limit upload hears 413, not 408.
   const drainIdleMs = Math.min(5_000, Math.floor(bodyTimeoutMs / 2));
-  return async (app: FastifyInstance) => {
+  return routesPlugin('earmark-jobs', async (app) => {
     route(app, jobSpecs.submit, async (request, reply) => {
       const { tenant } = principalOf(request);
       const idempotencyKey = typeof request.headers['idempotency-key'] === 'string' ? request.headers['idempotency-key'].slice(0, 200) : undefined;
@@ -220,60 +72,32 @@ export function jobsPlugin(deps: AppDeps, uploadLimitBytes: number, bodyTimeoutM
         }
         if (result.duplicate) await deps.storage.remove(stored.key).catch(() => undefined);
       } else {
-        const body = request.body as { sourceUrl: string } & SubmitInput;
-        if (!validateJson(body)) throw fieldError(validateJson.errors);
+        const body = request.body;
+        if (!validateJson(body)) throw validationProblem(validateJson.errors, 'body');
         const { sourceUrl, ...input } = body;
         result = await submitJob(deps, tenant, input, { kind: 'url', url: sourceUrl }, idempotencyKey);
       }
       request.log.info({ jobId: result.id, duplicate: result.duplicate }, 'job submitted');
+      if (!result.duplicate) deps.metrics.jobSubmitted(tenant);
       const statusUrl = `/v1/jobs/${result.id}`;
-      const job = result.duplicate ? await deps.queue.getJob(result.id) : null;
-      const state = job ? stateOf(await job.getState()) : 'queued';
+      const state = result.duplicate ? (await deps.jobs.stateOf(tenant, result.id)) ?? 'queued' : 'queued';
       return reply.code(result.duplicate ? 200 : 202).header('location', statusUrl).send({ id: result.id, state, statusUrl, duplicate: result.duplicate });
     });
 
-    route(app, jobSpecs.get, async (request) => {
-      const { id } = request.params as { id: string };
-      return viewOf(deps, await loadJob(deps, principalOf(request).tenant, id));
-    });
+    route(app, jobSpecs.get, async (request) => deps.jobs.view(principalOf(request).tenant, request.params.id));
 
-    route(app, jobSpecs.report, async (request, reply) => {
-      const { id } = request.params as { id: string };
-      const job = await loadJob(deps, principalOf(request).tenant, id);
-      const state = stateOf(await job.getState());
-      if (state !== 'completed') throw new EarmarkError('report_not_ready', `job ${id} is ${state}`);
-      const json = (await deps.store.getReport(id)) ?? (await deps.storage.readReport(id));
-      if (!json) throw new EarmarkError('not_found', `the report of job ${id} is past its retention period`);
-      return reply.type('application/json').send(json);
-    });
+    route(app, jobSpecs.report, async (request, reply) =>
+      reply.type('application/json').send(await deps.jobs.report(principalOf(request).tenant, request.params.id)));
 
     route(app, jobSpecs.list, async (request) => {
-      const q = request.query as { state?: string; verdict?: string; profile?: string; limit: number; cursor?: string };
-      const { tenant } = principalOf(request);
-      let cursor = q.cursor ? decodeCursor(q.cursor) : null;
-      const items: JobView[] = [];
-      // Filters are applied while scanning the tenant's index; one request examines at most 1000 jobs.
-      for (let examined = 0; items.length < q.limit && examined < 1000;) {
-        const page = await deps.store.jobPage(tenant, cursor, Math.min(100, q.limit * 2));
-        if (page.length === 0) { cursor = null; break; }
-        for (const row of page) {
-          examined += 1;
-          cursor = row;
-          const job = await deps.queue.getJob(row.id);
-          if (!job) { await deps.store.unindexJob(tenant, row.id); continue; }
-          const view = await viewOf(deps, job);
-          if ((q.state && view.state !== q.state) || (q.verdict && view.verdict !== q.verdict) || (q.profile && view.profile.id !== q.profile)) continue;
-          items.push(view);
-          if (items.length === q.limit) break;
-        }
-      }
-      const more = cursor !== null && (await deps.store.jobPage(tenant, cursor, 1)).length > 0;
-      return { items, nextCursor: more && cursor ? encodeCursor(cursor) : null };
+      const { cursor, ...filters } = request.query;
+      const page = await deps.jobs.list(principalOf(request).tenant, { ...filters, cursor: cursor ? decodeCursor(cursor) : null });
+      return { items: page.items, nextCursor: page.next ? encodeCursor(page.next) : null };
     });
 
     route(app, jobSpecs.queue, async (request) => {
       const principal = principalOf(request);
-      const { view } = request.query as { view: 'tenant' | 'all' };
+      const { view } = request.query;
       const workers = (await deps.queue.getWorkers()).length;
       const since = Date.now() - 60_000;
       if (view === 'all') {
@@ -281,14 +105,14 @@ export function jobsPlugin(deps: AppDeps, uploadLimitBytes: number, bodyTimeoutM
         const counts = await deps.queue.getJobCounts('waiting', 'active', 'delayed', 'completed', 'failed', 'prioritized');
         return {
           view, waiting: (counts.waiting ?? 0) + (counts.prioritized ?? 0), active: counts.active ?? 0, delayed: counts.delayed ?? 0,
-          completed: counts.completed ?? 0, failed: counts.failed ?? 0, workers, finishedLastMinute: await deps.store.finishedSince(since),
+          completed: counts.completed ?? 0, failed: counts.failed ?? 0, workers, finishedLastMinute: await deps.store.outcomes.finishedSince(since),
         };
       }
-      const c = await deps.store.tenantCounts(principal.tenant, bullKeys(deps.queue), since);
+      const c = await deps.store.index.counts(principal.tenant, bullKeys(deps.queue), since);
       return {
         view, waiting: c.waiting + c.prioritized, active: c.active, delayed: c.delayed,
         completed: c.completed, failed: c.failed, workers, finishedLastMinute: c.finishedSince,
       };
     });
-  };
+  }, ['@fastify/multipart']);
 }

@@ -3,16 +3,17 @@
 // the reviver refuses it, and a constructor.prototype pair, anywhere in the body. Plain
 // "constructor" or "prototype" keys are left to the route schemas, which refuse unknown keys.
 
-import type { FastifyInstance } from 'fastify';
+import fp from 'fastify-plugin';
 import { EarmarkError } from '../../errors/index.ts';
+import { poisonKeyOf } from '../validation.ts';
 
 class PoisonKey extends Error {
   constructor(readonly key: string) { super(key); }
 }
 
-function revive(key: string, value: unknown): unknown {
-  if (key === '__proto__') throw new PoisonKey('__proto__');
-  if (key === 'constructor' && value !== null && typeof value === 'object' && Object.hasOwn(value, 'prototype')) throw new PoisonKey('constructor');
+function revive(_key: string, value: unknown): unknown {
+  const poison = poisonKeyOf(value);
+  if (poison) throw new PoisonKey(poison);
   return value;
 }
 
@@ -26,16 +27,13 @@ export function parseJsonBody(body: string): unknown {
   }
 }
 
-export function jsonBodyPlugin() {
-  const plugin = async (app: FastifyInstance) => {
-    app.removeContentTypeParser('application/json');
-    app.addContentTypeParser('application/json', { parseAs: 'string' }, (_request, body, done) => {
-      try {
-        done(null, parseJsonBody(body as string));
-      } catch (error) {
-        done(error as EarmarkError, undefined);
-      }
-    });
-  };
-  return Object.assign(plugin, { [Symbol.for('skip-override')]: true });
-}
+export const jsonBodyPlugin = fp(async (app) => {
+  app.removeContentTypeParser('application/json');
+  app.addContentTypeParser('application/json', { parseAs: 'string' }, (_request, body, done) => {
+    try {
+      done(null, parseJsonBody(String(body)));
+    } catch (error) {
+      done(error instanceof Error ? error : new EarmarkError('validation_failed', 'the body is not valid JSON'), undefined);
+    }
+  });
+}, { name: 'earmark-json-body', fastify: '5.x' });

@@ -3,10 +3,9 @@
 
 import { readFile } from 'node:fs/promises';
 import { fileURLToPath } from 'node:url';
-import type { FastifyInstance } from 'fastify';
 import { EarmarkError } from '../../errors/index.ts';
 import { dashboardPage, reportPage } from '../../views/pages.ts';
-import { route, type RouteSpec } from '../route-spec.ts';
+import { route, routesPlugin, type RouteSpec } from '../route-spec.ts';
 import * as S from '../schemas.ts';
 
 const ASSET_DIR = fileURLToPath(new URL('../../views/assets/', import.meta.url));
@@ -17,6 +16,7 @@ const ASSET_TYPES: Record<string, string> = {
   'report.js': 'text/javascript; charset=utf-8',
   'format.js': 'text/javascript; charset=utf-8',
 };
+const ASSET_NAMES = Object.keys(ASSET_TYPES);
 const html = { description: 'HTML page', schema: { type: 'string' }, contentType: 'text/html' };
 /** No inline script, no third-party origins: the pages load only from this server. */
 const CONTENT_SECURITY_POLICY = "default-src 'self'; img-src 'self' data:; media-src 'self' blob:; style-src 'self' 'unsafe-inline'; object-src 'none'; base-uri 'none'; frame-ancestors 'none'";
@@ -32,7 +32,7 @@ export const pageSpecs = {
   },
   asset: {
     method: 'GET', url: '/assets/:name', operationId: 'pageAsset', tag: 'pages', scope: null, summary: 'Stylesheet and scripts of the pages',
-    params: { type: 'object', required: ['name'], properties: { name: { type: 'string', enum: Object.keys(ASSET_TYPES) } } },
+    params: { type: 'object', required: ['name'], properties: { name: { type: 'string', enum: ASSET_NAMES } } } as const,
     responses: { 200: { description: 'Asset', schema: { type: 'string' }, contentType: 'text/plain' }, 400: { description: 'Problem', schema: S.Problem, contentType: 'application/problem+json' } },
   },
 } satisfies Record<string, RouteSpec>;
@@ -44,16 +44,16 @@ export function pagesPlugin() {
     if (!assets.has(name)) assets.set(name, readFile(`${ASSET_DIR}${name}`, 'utf8'));
     return assets.get(name) as Promise<string>;
   };
-  return async (app: FastifyInstance) => {
+  return routesPlugin('earmark-pages', async (app) => {
     route(app, pageSpecs.dashboard, async (_request, reply) =>
       reply.type('text/html; charset=utf-8').header('content-security-policy', CONTENT_SECURITY_POLICY).send(dashboardPage()));
     route(app, pageSpecs.report, async (request, reply) => {
-      const { id } = request.params as { id: string };
+      const { id } = request.params;
       return reply.type('text/html; charset=utf-8').header('content-security-policy', CONTENT_SECURITY_POLICY).send(reportPage(id));
     });
     route(app, pageSpecs.asset, async (request, reply) => {
-      const { name } = request.params as { name: string };
+      const { name } = request.params;
       return reply.type(ASSET_TYPES[name]).header('cache-control', 'no-cache').send(await asset(name));
     });
-  };
+  });
 }

@@ -1,9 +1,8 @@
 // Profile routes: built-ins plus the tenant's own, versioned on every PUT.
 
-import type { FastifyInstance } from 'fastify';
 import { EarmarkError } from '../../errors/index.ts';
 import type { AppDeps } from '../deps.ts';
-import { route, type RouteSpec } from '../route-spec.ts';
+import { route, routesPlugin, type RouteSpec } from '../route-spec.ts';
 import * as S from '../schemas.ts';
 import { principalOf } from './auth.ts';
 
@@ -32,24 +31,24 @@ export const profileSpecs = {
 } satisfies Record<string, RouteSpec>;
 
 export function profilesPlugin(deps: AppDeps) {
-  return async (app: FastifyInstance) => {
+  return routesPlugin('earmark-profiles', async (app) => {
     route(app, profileSpecs.list, async (request) => ({ items: await deps.profiles.list(principalOf(request).tenant) }));
     route(app, profileSpecs.get, async (request) => {
-      const { id } = request.params as { id: string };
+      const { id } = request.params;
       const entry = await deps.profiles.get(principalOf(request).tenant, id);
       if (!entry) throw new EarmarkError('not_found', `no profile ${id}`);
       return entry;
     });
     route(app, profileSpecs.put, async (request) => {
-      const { id } = request.params as { id: string };
+      const { id } = request.params;
       const entry = await deps.profiles.put(principalOf(request).tenant, id, request.body);
       request.log.info({ profileId: id, version: entry.profile.version }, 'profile stored');
       return entry;
     });
     route(app, profileSpecs.remove, async (request, reply) => {
-      const { id } = request.params as { id: string };
+      const { id } = request.params;
       if (!(await deps.profiles.remove(principalOf(request).tenant, id))) throw new EarmarkError('not_found', `no profile ${id}`);
       return reply.code(204).send();
     });
-  };
+  });
 }

@@ -1,16 +1,18 @@
 // Per-key rate limit: keyed by tenant and key id (never the IP, so clients behind one NAT do not
 // share a budget and one key cannot dodge it from many hosts). Counts live in this API process;
 // open routes (health, pages, the OpenAPI document) have no principal and are not limited.
-// Requests without a valid key stop at auth (401) before they get here.
+// Requests without a valid key stop at auth (401) before they get here: the plugin declares auth
+// as a dependency, so registering it first is checked at startup.
 
 import rateLimit from '@fastify/rate-limit';
-import type { FastifyInstance } from 'fastify';
+import fp from 'fastify-plugin';
 import { EarmarkError } from '../../errors/index.ts';
+import { AUTH_PLUGIN } from './auth.ts';
 
 const WINDOW_MS = 60_000;
 
 export function rateLimitPlugin(perMinute: number) {
-  const plugin = async (app: FastifyInstance) => {
+  return fp(async (app) => {
     if (perMinute === 0) return;
     await app.register(rateLimit, {
       global: true,
@@ -23,6 +25,5 @@ export function rateLimitPlugin(perMinute: number) {
       errorResponseBuilder: (_request, context) =>
         new EarmarkError('rate_limited', `at most ${context.max} requests per minute for this API key; retry in ${context.after}`),
     });
-  };
-  return Object.assign(plugin, { [Symbol.for('skip-override')]: true });
+  }, { name: 'earmark-rate-limit', fastify: '5.x', dependencies: [AUTH_PLUGIN] });
 }

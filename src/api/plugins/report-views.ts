@@ -1,18 +1,14 @@
 // Views of a completed job for the report page: the loudness plot (SVG, drawn on the server by
 // the same pure function the tests check) and short listening excerpts cut from the stored audio.
 
-import type { FastifyInstance } from 'fastify';
-import type { Job } from 'bullmq';
 import { EarmarkError } from '../../errors/index.ts';
 import { MAX_EXCERPT_SECONDS } from '../../engine/excerpt.ts';
 import { ExcerptRunner } from '../../engine/excerpt-runner.ts';
 import type { QcReport } from '../../profiles/index.ts';
-import type { AnalyzeJobV1, AnalyzeResultV1 } from '../../queue/contract.ts';
-import { stateOf } from '../../queue/job-view.ts';
 import { renderReportPlot } from '../../views/report-plot.ts';
 import { principalOf } from './auth.ts';
 import type { AppDeps } from '../deps.ts';
-import { route, type RouteSpec } from '../route-spec.ts';
+import { route, routesPlugin, type RouteSpec } from '../route-spec.ts';
 import * as S from '../schemas.ts';
 
 
@@ -30,37 +26,26 @@ export const reportViewSpecs = {
     querystring: {
       type: 'object', required: ['startSeconds', 'endSeconds'], additionalProperties: false,
       properties: { startSeconds: { type: 'number', minimum: 0 }, endSeconds: { type: 'number', exclusiveMinimum: 0 } },
-    },
+    } as const,
     responses: { 200: { description: 'WAV audio', schema: { type: 'string', format: 'binary' }, contentType: 'audio/wav' }, ...S.problems(400, 401, 403, 404, 409, 503) },
   },
 } satisfies Record<string, RouteSpec>;
 
-async function completedJob(deps: AppDeps, tenant: string, id: string): Promise<Job<AnalyzeJobV1, AnalyzeResultV1>> {
-  const job = await deps.queue.getJob(id);
-  if (!job || job.data.tenant !== tenant) throw new EarmarkError('not_found', `no job ${id}`);
-  const state = stateOf(await job.getState());
-  if (state !== 'completed') throw new EarmarkError('report_not_ready', `job ${id} is ${state}`);
-  return job as Job<AnalyzeJobV1, AnalyzeResultV1>;
-}
-
 export function reportViewsPlugin(deps: AppDeps) {
-  return async (app: FastifyInstance) => {
+  return routesPlugin('earmark-report-views', async (app) => {
     // Excerpts decode on threads of their own, a few at a time: never on this event loop.
     const excerpts = new ExcerptRunner();
     app.addHook('onClose', async () => { await excerpts.close(); });
 
     route(app, reportViewSpecs.plot, async (request, reply) => {
-      const { id } = request.params as { id: string };
-      await completedJob(deps, principalOf(request).tenant, id);
-      const json = (await deps.store.getReport(id)) ?? (await deps.storage.readReport(id));
-      if (!json) throw new EarmarkError('not_found', `the report of job ${id} is past its retention period`);
+      const json = await deps.jobs.report(principalOf(request).tenant, request.params.id);
       return reply.type('image/svg+xml').send(renderReportPlot(JSON.parse(json) as QcReport));
     });
 
     route(app, reportViewSpecs.excerpt, async (request, reply) => {
-      const { id } = request.params as { id: string };
-      const { startSeconds, endSeconds } = request.query as { startSeconds: number; endSeconds: number };
-      const job = await completedJob(deps, principalOf(request).tenant, id);
+      const { id } = request.params;
+      const { startSeconds, endSeconds } = request.query;
+      const job = await deps.jobs.completed(principalOf(request).tenant, id);
       const sourceKey = job.returnvalue?.sourceKey ?? (job.data.source.kind === 'upload' ? job.data.source.storageKey : null);
       if (!sourceKey) throw new EarmarkError('not_found', `the audio of job ${id} was not kept`);
       // A client that goes away ends its thread.
@@ -81,5 +66,5 @@ export function reportViewsPlugin(deps: AppDeps) {
         .header('x-excerpt-end-seconds', excerpt.endSeconds.toFixed(6))
         .send(Buffer.from(excerpt.wav.buffer, excerpt.wav.byteOffset, excerpt.wav.byteLength));
     });
-  };
+  });
 }
