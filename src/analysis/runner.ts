@@ -5,6 +5,7 @@
 import type { Meter, PcmBlock, StreamInfo } from './audio.ts';
 import { ChannelRelationMeter, type ChannelRelationOptions, type ChannelRelationResult } from './channel-relations.ts';
 import { EnvelopeBuilder } from './envelope.ts';
+import type { EventKind, EventList } from './events.ts';
 import { ClippingMeter, type ClippingMeterOptions, type ClippingResult } from './clipping.ts';
 import { DropoutMeter, type DropoutOptions, type DropoutResult } from './dropouts.ts';
 import { LevelMeter, type LevelResult } from './levels.ts';
@@ -39,21 +40,64 @@ export interface Measurements {
 
 export type MeterName = Exclude<keyof Measurements, 'frames'>;
 
-const METERS: { [K in MeterName]: (info: StreamInfo, options: AnalysisOptions) => Meter<Measurements[K]> } = {
-  levels: (info) => new LevelMeter(info),
-  timeWeighted: (info) => new TimeWeightedLevelMeter(info),
-  loudness: (info, o) => new LoudnessMeter(info, o.loudness),
-  truePeak: (info, o) => new TruePeakMeter(info, o.truePeak),
-  reconstructedPeak: (info, o) => new ReconstructedPeakMeter(info, o.reconstructedPeak),
-  clipping: (info, o) => new ClippingMeter(info, o.clipping),
-  dropouts: (info, o) => new DropoutMeter(info, o.dropouts),
-  silence: (info, o) => new SilenceMeter(info, o.silence),
-  channelRelations: (info, o) => new ChannelRelationMeter(info, o.channelRelations),
+/**
+ * What the runner, the thread planner and the analysis document know of a meter. Each meter runs
+ * whole on one thread, so results are never combined across threads.
+ */
+export interface MeterDescriptor<R> {
+  create: (info: StreamInfo, options: AnalysisOptions) => Meter<R>;
+  /** Relative thread cost: ms per stereo audio minute, the meter's time in a one-thread run of the
+   * 60-minute benchmark file (bench/meters.ts); the parallel runner balances threads by it. */
+  threadCost: number;
+  /** Reads the block envelope (envelope.ts); a runner without such meters skips that pass. */
+  readsEnvelope: boolean;
+  /** The kinds a result that lists events (EventList) holds; the document collects every such list. */
+  eventKinds: R extends EventList ? readonly [EventKind, ...EventKind[]] : readonly [];
+}
+
+/** Every meter, in the order the runner feeds them and the document lists their events. */
+export const METERS: { readonly [K in MeterName]: MeterDescriptor<Measurements[K]> } = {
+  levels: { create: (info) => new LevelMeter(info), threadCost: 2.6, readsEnvelope: true, eventKinds: [] },
+  timeWeighted: { create: (info) => new TimeWeightedLevelMeter(info), threadCost: 6, readsEnvelope: false, eventKinds: [] },
+  loudness: {
+    create: (info, o) => new LoudnessMeter(info, o.loudness), threadCost: 18, readsEnvelope: false,
+    eventKinds: ['loud_momentary', 'loud_short_term'],
+  },
+  truePeak: {
+    create: (info, o) => new TruePeakMeter(info, o.truePeak), threadCost: 5.3, readsEnvelope: true,
+    eventKinds: ['true_peak_over'],
+  },
+  reconstructedPeak: {
+    create: (info, o) => new ReconstructedPeakMeter(info, o.reconstructedPeak), threadCost: 5.4, readsEnvelope: true,
+    eventKinds: ['reconstructed_over'],
+  },
+  clipping: { create: (info, o) => new ClippingMeter(info, o.clipping), threadCost: 0.5, readsEnvelope: true, eventKinds: ['clipping'] },
+  dropouts: { create: (info, o) => new DropoutMeter(info, o.dropouts), threadCost: 2, readsEnvelope: true, eventKinds: ['dropout'] },
+  silence: { create: (info, o) => new SilenceMeter(info, o.silence), threadCost: 2.3, readsEnvelope: true, eventKinds: ['silence'] },
+  channelRelations: {
+    create: (info, o) => new ChannelRelationMeter(info, o.channelRelations), threadCost: 4.5, readsEnvelope: false,
+    eventKinds: ['dead_channel', 'duplicate_channel', 'inverted_channel', 'phase_problem'],
+  },
 };
 
 export const METER_NAMES = Object.keys(METERS) as MeterName[];
-/** Meters that read the block envelope (envelope.ts); a runner without them skips that pass. */
-export const ENVELOPE_METERS: readonly MeterName[] = ['levels', 'truePeak', 'reconstructedPeak', 'clipping', 'dropouts', 'silence'];
+/** Meters that read the block envelope; a runner without them skips that pass. */
+export const ENVELOPE_METERS: readonly MeterName[] = METER_NAMES.filter((name) => METERS[name].readsEnvelope);
+
+/** The meters whose result lists events. */
+export type EventMeterName = { [K in MeterName]: Measurements[K] extends EventList ? K : never }[MeterName];
+
+/** `names` as given; the compiler rejects a list that leaves out a meter whose result lists events. */
+export function everyEventMeter<const T extends readonly EventMeterName[]>(
+  names: T & ([Exclude<EventMeterName, T[number]>] extends [never] ? unknown : { missing: Exclude<EventMeterName, T[number]> }),
+): T {
+  return names;
+}
+
+/** A meter result that lists events: checked, so a consumer needs no per-meter code. */
+export function isEventList(result: Measurements[MeterName]): result is Extract<Measurements[MeterName], EventList> {
+  return 'events' in result && 'eventsTotal' in result && 'eventsTruncated' in result;
+}
 
 export class AnalysisRunner implements Meter<Measurements> {
   private frames = 0;
@@ -61,7 +105,7 @@ export class AnalysisRunner implements Meter<Measurements> {
   private readonly envelopes: EnvelopeBuilder | null;
 
   constructor(readonly info: StreamInfo, options: AnalysisOptions = {}, only: readonly MeterName[] = METER_NAMES) {
-    this.meters = METER_NAMES.filter((name) => only.includes(name)).map((name) => [name, METERS[name](info, options)]);
+    this.meters = METER_NAMES.filter((name) => only.includes(name)).map((name) => [name, METERS[name].create(info, options)]);
     this.envelopes = this.meters.some(([name]) => ENVELOPE_METERS.includes(name)) ? new EnvelopeBuilder() : null;
   }
 

@@ -165,7 +165,7 @@ describe('WebAssembly kernels', () => {
         from = to;
       }
       const [a, b] = [kernel.result(), loop.result()];
-      expect(a.oversTotal).toBeGreaterThan(2 * frames);
+      expect(a.eventsTotal).toBeGreaterThan(2 * frames);
       expect({ ...a, prunedFrames: 0 }).toEqual({ ...b, prunedFrames: 0 });
     }
   });

@@ -275,7 +275,7 @@ export class ReconstructedPeakMeter implements Meter<ReconstructedPeakResult> {
     if (this.final) return this.final;
     const tail = Array.from({ length: this.channels }, () => new Float32Array(LATENCY_FRAMES));
     if (this.position > 0) this.consume({ channelData: tail, frames: LATENCY_FRAMES });
-    const { overs, oversTotal } = this.overLog.finish();
+    const overs = this.overLog.finish();
     const toDb = (v: number) => (v > 0 ? 20 * Math.log10(v) : null);
     let best = -1;
     for (let c = 0; c < this.channels; c++) if (best < 0 || this.maxima[c] > this.maxima[best]) best = c;
@@ -285,8 +285,7 @@ export class ReconstructedPeakMeter implements Meter<ReconstructedPeakResult> {
       peakDbtp: toDb(programme),
       peakAtSeconds: programme > 0 ? this.maxFrame[best] / this.sampleRate : null,
       overCeilingDbtp: this.ceilingDbtp,
-      overs,
-      oversTotal,
+      ...overs,
       prunedFrames: this.pruned,
     };
     return this.final;
