@@ -99,14 +99,29 @@ export function isEventList(result: Measurements[MeterName]): result is Extract<
   return 'events' in result && 'eventsTotal' in result && 'eventsTruncated' in result;
 }
 
+/** Whether every meter's field (and frames) is present: a runner of all the meters gives such a result. */
+export function isCompleteMeasurements(m: Partial<Measurements>): m is Measurements {
+  return m.frames !== undefined && METER_NAMES.every((name) => m[name] !== undefined);
+}
+
 export class AnalysisRunner implements Meter<Measurements> {
   private frames = 0;
-  private readonly meters: [MeterName, Meter<unknown>][];
+  /** The meters run, in registry order. */
+  private readonly meters: Meter<unknown>[] = [];
+  /** Per meter run: puts its result in a partial Measurements. */
+  private readonly collectors: ((out: Partial<Measurements>) => void)[] = [];
   private readonly envelopes: EnvelopeBuilder | null;
 
   constructor(readonly info: StreamInfo, options: AnalysisOptions = {}, only: readonly MeterName[] = METER_NAMES) {
-    this.meters = METER_NAMES.filter((name) => only.includes(name)).map((name) => [name, METERS[name].create(info, options)]);
-    this.envelopes = this.meters.some(([name]) => ENVELOPE_METERS.includes(name)) ? new EnvelopeBuilder() : null;
+    const names = METER_NAMES.filter((name) => only.includes(name));
+    for (const name of names) this.start(name, options);
+    this.envelopes = names.some((name) => ENVELOPE_METERS.includes(name)) ? new EnvelopeBuilder() : null;
+  }
+
+  private start<K extends MeterName>(name: K, options: AnalysisOptions): void {
+    const meter: Meter<Measurements[K]> = METERS[name].create(this.info, options);
+    this.meters.push(meter);
+    this.collectors.push((out) => { out[name] = meter.result(); });
   }
 
   push(block: PcmBlock): void {
@@ -115,18 +130,21 @@ export class AnalysisRunner implements Meter<Measurements> {
     }
     // One envelope pass for every meter that reads it.
     const shared: PcmBlock = block.envelope || !this.envelopes ? block : { ...block, envelope: this.envelopes.build(block) };
-    for (const [, meter] of this.meters) meter.push(shared);
+    for (const meter of this.meters) meter.push(shared);
     this.frames += block.frames;
   }
 
-  /** Every meter's result; with `only`, the other fields are absent (see partialResult). */
+  /** Every meter's result; only a runner of all the meters has one (see partialResult). */
   result(): Measurements {
-    return this.partialResult() as Measurements;
+    const m = this.partialResult();
+    if (!isCompleteMeasurements(m)) throw new Error('result() needs every meter; a runner of some meters gives partialResult()');
+    return m;
   }
 
+  /** Frames and the result of each meter run, in registry order; the other fields are absent. */
   partialResult(): Partial<Measurements> {
     const out: Partial<Measurements> = { frames: this.frames };
-    for (const [name, meter] of this.meters) (out as Record<string, unknown>)[name] = meter.result();
+    for (const collect of this.collectors) collect(out);
     return out;
   }
 }

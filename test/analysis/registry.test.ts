@@ -3,7 +3,7 @@
 import { describe, expect, it } from 'vitest';
 import type { PcmBlock, StreamInfo } from '../../src/analysis/audio.ts';
 import { EnvelopeBuilder } from '../../src/analysis/envelope.ts';
-import { ENVELOPE_METERS, isEventList, METER_NAMES, METERS, type AnalysisOptions } from '../../src/analysis/runner.ts';
+import { isEventList, METER_NAMES, METERS, type AnalysisOptions } from '../../src/analysis/runner.ts';
 import { cut, SAMPLE_RATE, testSignals } from '../helpers/test-signals.ts';
 
 const info: StreamInfo = { sampleRate: SAMPLE_RATE, channels: 2, channelLabels: ['L', 'R'] };
@@ -22,10 +22,6 @@ function eventfulOptions(maxEvents: number): AnalysisOptions {
 }
 
 describe('meter registry', () => {
-  it('derives the envelope meters from the descriptors', () => {
-    expect(ENVELOPE_METERS).toEqual(METER_NAMES.filter((name) => METERS[name].readsEnvelope));
-  });
-
   it('each descriptor says whether its meter reads the block envelope', () => {
     const { programme } = testSignals(2, 1);
     const builder = new EnvelopeBuilder();
