@@ -50,6 +50,7 @@ export interface LoudnessResult {
   /** Stretches of the 10 Hz momentary / short-term series above the configured limits. */
   events: AnalysisEvent[];
   eventsTotal: number;
+  eventsTruncated: boolean;
 }
 
 export function powerToLufs(meanPower: number): number | null {
@@ -275,6 +276,7 @@ export class LoudnessMeter implements Meter<LoudnessResult> {
       gatedBlocks: kept,
       events: [...this.log.events].sort((a, b) => a.startFrame - b.startFrame),
       eventsTotal: this.log.total,
+      eventsTruncated: this.log.truncated,
     };
   }
 }

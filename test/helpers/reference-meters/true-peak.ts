@@ -48,8 +48,9 @@ export interface TruePeakResult {
   /** Time (s) of the programme's true peak, to the input sample. */
   truePeakAtSeconds: number | null;
   overCeilingDbtp: number;
-  overs: AnalysisEvent[];
-  oversTotal: number;
+  events: AnalysisEvent[];
+  eventsTotal: number;
+  eventsTruncated: boolean;
   /** Input samples whose interpolation was skipped by the exact bound (for benchmarks). */
   prunedFrames: number;
 }
@@ -190,8 +191,9 @@ export class TruePeakMeter implements Meter<TruePeakResult> {
       truePeakDbtp: toDb(programme),
       truePeakAtSeconds: programme > 0 ? this.maxFrame[best] / this.sampleRate : null,
       overCeilingDbtp: this.ceilingDbtp,
-      overs,
-      oversTotal: this.log.total,
+      events: overs,
+      eventsTotal: this.log.total,
+      eventsTruncated: this.log.truncated,
       prunedFrames: this.pruned,
     };
   }
