@@ -12,7 +12,7 @@
 import type { Meter, PcmBlock, StreamInfo } from './audio.ts';
 import { EventLog, type EventList } from './events.ts';
 import { PairSumsKernel } from './kernels/pair-sums.ts';
-import { powerToDb } from './units.ts';
+import { dbToPower, powerToDb } from './units.ts';
 import { EarmarkError } from '../errors/index.ts';
 
 /** Window correlation below this flags a phase problem (common practice; no standard fixes it). */
@@ -91,7 +91,7 @@ export class ChannelRelationMeter implements Meter<ChannelRelationResult> {
       throw new EarmarkError('invalid_argument', 'windowSeconds must span at least 2 frames', { field: 'windowSeconds' });
     }
     this.phaseThreshold = options.phaseThreshold ?? DEFAULT_PHASE_THRESHOLD;
-    this.floorPower = 10 ** ((options.signalFloorDbfs ?? -50) / 10);
+    this.floorPower = dbToPower(options.signalFloorDbfs ?? -50);
     this.nearCorrelation = options.nearCorrelation ?? 0.9999;
     this.nearRmsDb = options.nearRmsDb ?? 0.01;
     this.log = new EventLog(info.sampleRate, options.maxEvents);

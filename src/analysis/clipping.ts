@@ -5,7 +5,7 @@
 import type { Meter, PcmBlock, StreamInfo } from './audio.ts';
 import { ENVELOPE_CHUNK_FRAMES, EnvelopeBuilder } from './envelope.ts';
 import { byEndThenChannel, EventLog, type EventList, type FoundEvent } from './events.ts';
-import { amplitudeToDb } from './units.ts';
+import { amplitudeToDb, dbToAmplitude } from './units.ts';
 import { EarmarkError } from '../errors/index.ts';
 
 /** Within 0.01 dB of full scale (common practice). */
@@ -56,7 +56,7 @@ export class ClippingMeter implements Meter<ClippingResult> {
 
   constructor(private readonly info: StreamInfo, options: ClippingMeterOptions = {}) {
     this.threshold = options.thresholdLinear
-      ?? 10 ** ((options.thresholdDbfs ?? DEFAULT_CLIP_THRESHOLD_DBFS) / 20);
+      ?? dbToAmplitude(options.thresholdDbfs ?? DEFAULT_CLIP_THRESHOLD_DBFS);
     this.minRun = options.minRunSamples ?? DEFAULT_MIN_RUN_SAMPLES;
     if (!(this.threshold > 0) || !Number.isInteger(this.minRun) || this.minRun < 1) {
       throw new EarmarkError('invalid_argument', 'Clipping threshold must be > 0 and minRunSamples an integer >= 1', {

@@ -43,7 +43,7 @@
 import type { Meter, PcmBlock, StreamInfo } from './audio.ts';
 import { ENVELOPE_CHUNK_FRAMES, EnvelopeBuilder } from './envelope.ts';
 import { byStartThenChannel, EventLog, type EventList, type FoundEvent } from './events.ts';
-import { amplitudeToDb } from './units.ts';
+import { amplitudeToDb, dbToAmplitude } from './units.ts';
 import { EarmarkError } from '../errors/index.ts';
 
 /** The silence meter's level (ffmpeg silencedetect's, common practice). */
@@ -145,9 +145,9 @@ export class DropoutMeter implements Meter<DropoutResult> {
     }
     const fs = info.sampleRate;
     this.n = info.channels;
-    this.threshold = 10 ** (thresholdDbfs / 20);
-    this.sounding = 10 ** ((thresholdDbfs + minDropDb) / 20);
-    this.fadeRatio = 10 ** (maxFadeDb / 20);
+    this.threshold = dbToAmplitude(thresholdDbfs);
+    this.sounding = dbToAmplitude(thresholdDbfs + minDropDb);
+    this.fadeRatio = dbToAmplitude(maxFadeDb);
     this.minFrames = Math.max(1, Math.round(this.minDurationSeconds * fs));
     this.maxFrames = Math.round(maxSeconds * fs);
     this.edgeFrames = Math.max(1, Math.round(DROPOUT_EDGE_SECONDS * fs));

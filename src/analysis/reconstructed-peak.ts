@@ -39,7 +39,7 @@ import type { Meter, PcmBlock, StreamInfo } from './audio.ts';
 import { ENVELOPE_CHUNK_FRAMES, EnvelopeBuilder } from './envelope.ts';
 import type { EventList } from './events.ts';
 import { OverLog } from './overs.ts';
-import { amplitudeToDb } from './units.ts';
+import { amplitudeToDb, dbToAmplitude } from './units.ts';
 import { CHANNEL_SLOTS, ReconstructionKernel, RECONSTRUCTION_HISTORY_FRAMES, RECONSTRUCTION_KERNEL_FRAMES, SLOT } from './kernels/reconstructed-peak.ts';
 
 /**
@@ -172,7 +172,7 @@ export class ReconstructedPeakMeter implements Meter<ReconstructedPeakResult> {
       s: Float64Array.from({ length: 4 }, (_, k) => 0.5 * (g1[w + 1 + k] + g1[w - k])),
       d: Float64Array.from({ length: 4 }, (_, k) => 0.5 * (g1[w + 1 + k] - g1[w - k])),
       h: Float64Array.from({ length: 4 }, (_, k) => g2[w + 1 + k]),
-      ceiling: Math.pow(10, this.ceilingDbtp / 20),
+      ceiling: dbToAmplitude(this.ceilingDbtp),
       pruneGain: PRUNE_GAIN,
       stage2PruneGain: STAGE2_PRUNE_GAIN,
       inverseCap: INVERSE_CAP,

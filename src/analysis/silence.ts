@@ -8,7 +8,7 @@
 import type { Meter, PcmBlock, StreamInfo } from './audio.ts';
 import { ENVELOPE_CHUNK_FRAMES, EnvelopeBuilder } from './envelope.ts';
 import { byEndThenChannel, EventLog, type EventList, type FoundEvent } from './events.ts';
-import { amplitudeToDb } from './units.ts';
+import { amplitudeToDb, dbToAmplitude } from './units.ts';
 import { EarmarkError } from '../errors/index.ts';
 
 /** ffmpeg silencedetect defaults (common practice): -60 dB for 2 s. */
@@ -80,7 +80,7 @@ export class SilenceMeter implements Meter<SilenceResult> {
 
   constructor(private readonly info: StreamInfo, options: SilenceMeterOptions = {}) {
     this.thresholdDbfs = options.thresholdDbfs ?? DEFAULT_SILENCE_THRESHOLD_DBFS;
-    this.threshold = 10 ** (this.thresholdDbfs / 20);
+    this.threshold = dbToAmplitude(this.thresholdDbfs);
     this.minDurationSeconds = options.minDurationSeconds ?? DEFAULT_SILENCE_MIN_SECONDS;
     if (!Number.isFinite(this.thresholdDbfs) || !(this.minDurationSeconds >= 0)) {
       throw new EarmarkError('invalid_argument', 'Silence threshold must be finite and minDurationSeconds >= 0', {

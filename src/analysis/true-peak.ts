@@ -19,7 +19,7 @@ import type { Meter, PcmBlock, StreamInfo } from './audio.ts';
 import { ENVELOPE_CHUNK_FRAMES, EnvelopeBuilder } from './envelope.ts';
 import type { EventList } from './events.ts';
 import { OverLog } from './overs.ts';
-import { amplitudeToDb } from './units.ts';
+import { amplitudeToDb, dbToAmplitude } from './units.ts';
 
 /** BS.1770-5 Annex 2, section 3: phase 0 and phase 1 of the example filter. */
 export const ANNEX2_PHASE0 = [
@@ -97,7 +97,7 @@ export class TruePeakMeter implements Meter<TruePeakResult> {
     this.channels = info.channels;
     this.sampleRate = info.sampleRate;
     this.ceilingDbtp = options.overCeilingDbtp ?? -1;
-    this.ceilingLinear = Math.pow(10, this.ceilingDbtp / 20);
+    this.ceilingLinear = dbToAmplitude(this.ceilingDbtp);
     this.mergeFrames = Math.round((options.overMergeSeconds ?? 0.05) * info.sampleRate);
     this.maxima = new Float64Array(info.channels);
     this.maxFrame = new Float64Array(info.channels);

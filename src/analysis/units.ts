@@ -9,3 +9,13 @@ export function amplitudeToDb(linear: number): number | null {
 export function powerToDb(meanSquare: number): number | null {
   return meanSquare > 0 ? 10 * Math.log10(meanSquare) : null;
 }
+
+/** dB (20 log10) to amplitude. */
+export function dbToAmplitude(db: number): number {
+  return 10 ** (db / 20);
+}
+
+/** dB (10 log10) to power (mean square). */
+export function dbToPower(db: number): number {
+  return 10 ** (db / 10);
+}
