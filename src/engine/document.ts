@@ -162,8 +162,8 @@ function seriesPoints(lufs: Float64Array, first: number, step: number): (number 
 }
 
 /**
- * The order of eventCounts' keys (part of the JSON): each meter's kinds, a meter of one kind first
- * at its place here. The compiler asks for every meter that lists events.
+ * The meters in the order their counts enter eventCounts (its key order is part of the JSON).
+ * The compiler asks for every meter whose result lists events.
  */
 const EVENT_COUNT_ORDER = everyEventMeter(['truePeak', 'reconstructedPeak', 'dropouts', 'loudness', 'clipping', 'silence', 'channelRelations']);
 
