@@ -51,48 +51,50 @@ export interface MeterDescriptor<R> {
   threadCost: number;
   /** Reads the block envelope (envelope.ts); a runner without such meters skips that pass. */
   readsEnvelope: boolean;
-  /** The kinds a result that lists events (EventList) holds; the document collects every such list. */
-  eventKinds: R extends EventList ? readonly [EventKind, ...EventKind[]] : readonly [];
+  /**
+   * For a result that lists events (EventList): the kinds it holds, and where its counts go among
+   * the analysis document's eventCounts keys (lowest first; the JSON's key order). Null otherwise.
+   */
+  events: R extends EventList ? { kinds: readonly [EventKind, ...EventKind[]]; countOrder: number } : null;
 }
 
 /** Every meter, in the order the runner feeds them and the document lists their events. */
 export const METERS: { readonly [K in MeterName]: MeterDescriptor<Measurements[K]> } = {
-  levels: { create: (info) => new LevelMeter(info), threadCost: 2.6, readsEnvelope: true, eventKinds: [] },
-  timeWeighted: { create: (info) => new TimeWeightedLevelMeter(info), threadCost: 6, readsEnvelope: false, eventKinds: [] },
+  levels: { create: (info) => new LevelMeter(info), threadCost: 2.6, readsEnvelope: true, events: null },
+  timeWeighted: { create: (info) => new TimeWeightedLevelMeter(info), threadCost: 6, readsEnvelope: false, events: null },
   loudness: {
     create: (info, o) => new LoudnessMeter(info, o.loudness), threadCost: 18, readsEnvelope: false,
-    eventKinds: ['loud_momentary', 'loud_short_term'],
+    events: { kinds: ['loud_momentary', 'loud_short_term'], countOrder: 3 },
   },
   truePeak: {
     create: (info, o) => new TruePeakMeter(info, o.truePeak), threadCost: 5.3, readsEnvelope: true,
-    eventKinds: ['true_peak_over'],
+    events: { kinds: ['true_peak_over'], countOrder: 0 },
   },
   reconstructedPeak: {
     create: (info, o) => new ReconstructedPeakMeter(info, o.reconstructedPeak), threadCost: 5.4, readsEnvelope: true,
-    eventKinds: ['reconstructed_over'],
+    events: { kinds: ['reconstructed_over'], countOrder: 1 },
   },
-  clipping: { create: (info, o) => new ClippingMeter(info, o.clipping), threadCost: 0.5, readsEnvelope: true, eventKinds: ['clipping'] },
-  dropouts: { create: (info, o) => new DropoutMeter(info, o.dropouts), threadCost: 2, readsEnvelope: true, eventKinds: ['dropout'] },
-  silence: { create: (info, o) => new SilenceMeter(info, o.silence), threadCost: 2.3, readsEnvelope: true, eventKinds: ['silence'] },
+  clipping: {
+    create: (info, o) => new ClippingMeter(info, o.clipping), threadCost: 0.5, readsEnvelope: true,
+    events: { kinds: ['clipping'], countOrder: 4 },
+  },
+  dropouts: {
+    create: (info, o) => new DropoutMeter(info, o.dropouts), threadCost: 2, readsEnvelope: true,
+    events: { kinds: ['dropout'], countOrder: 2 },
+  },
+  silence: {
+    create: (info, o) => new SilenceMeter(info, o.silence), threadCost: 2.3, readsEnvelope: true,
+    events: { kinds: ['silence'], countOrder: 5 },
+  },
   channelRelations: {
     create: (info, o) => new ChannelRelationMeter(info, o.channelRelations), threadCost: 4.5, readsEnvelope: false,
-    eventKinds: ['dead_channel', 'duplicate_channel', 'inverted_channel', 'phase_problem'],
+    events: { kinds: ['dead_channel', 'duplicate_channel', 'inverted_channel', 'phase_problem'], countOrder: 6 },
   },
 };
 
 export const METER_NAMES = Object.keys(METERS) as MeterName[];
 /** Meters that read the block envelope; a runner without them skips that pass. */
 export const ENVELOPE_METERS: readonly MeterName[] = METER_NAMES.filter((name) => METERS[name].readsEnvelope);
-
-/** The meters whose result lists events. */
-export type EventMeterName = { [K in MeterName]: Measurements[K] extends EventList ? K : never }[MeterName];
-
-/** `names` as given; the compiler rejects a list that leaves out a meter whose result lists events. */
-export function everyEventMeter<const T extends readonly EventMeterName[]>(
-  names: T & ([Exclude<EventMeterName, T[number]>] extends [never] ? unknown : { missing: Exclude<EventMeterName, T[number]> }),
-): T {
-  return names;
-}
 
 /** A meter result that lists events: checked, so a consumer needs no per-meter code. */
 export function isEventList(result: Measurements[MeterName]): result is Extract<Measurements[MeterName], EventList> {

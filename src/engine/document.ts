@@ -2,7 +2,7 @@
 // carry their unit. A level of digital silence is null (JSON has no -Infinity).
 
 import type { AnalysisEvent, EventKind } from '../analysis/events.ts';
-import { everyEventMeter, isEventList, METER_NAMES, METERS, type Measurements } from '../analysis/runner.ts';
+import { isEventList, METER_NAMES, METERS, type Measurements } from '../analysis/runner.ts';
 import type { AudioFormat, DecodeWarning } from '../decode/types.ts';
 
 export const ENGINE_NAME = 'earmark';
@@ -162,31 +162,26 @@ function seriesPoints(lufs: Float64Array, first: number, step: number): (number 
 }
 
 /**
- * The meters in the order their counts enter eventCounts (its key order is part of the JSON).
- * The compiler asks for every meter whose result lists events.
- */
-const EVENT_COUNT_ORDER = everyEventMeter(['truePeak', 'reconstructedPeak', 'dropouts', 'loudness', 'clipping', 'silence', 'channelRelations']);
-
-/**
  * Every meter's events in one list by start, then channel (ties keep the registry's meter order),
- * cut at MAX_DOCUMENT_EVENTS. A meter of one kind counts every event it found; a meter of several
- * counts the kinds of those it kept (its eventsTruncated says when that is short).
+ * cut at MAX_DOCUMENT_EVENTS. Counts go in each meter's countOrder (runner.ts METERS): a meter of
+ * one kind counts every event it found; a meter of several counts the kinds of those it kept (its
+ * eventsTruncated says when that is short).
  */
 function collectEvents(m: Measurements): Pick<AnalysisDocument, 'events' | 'eventCounts' | 'eventsTruncated'> {
-  const all = METER_NAMES.flatMap((name) => {
+  const lists = METER_NAMES.flatMap((name) => {
     const result = m[name];
-    return isEventList(result) ? result.events : [];
-  }).sort((a, b) => a.startFrame - b.startFrame || (a.channel ?? -1) - (b.channel ?? -1));
+    const contract = METERS[name].events;
+    return contract && isEventList(result) ? [{ ...contract, list: result }] : [];
+  });
+  const all = lists.flatMap(({ list }) => list.events)
+    .sort((a, b) => a.startFrame - b.startFrame || (a.channel ?? -1) - (b.channel ?? -1));
   const eventCounts: Partial<Record<EventKind, number>> = {};
   const countKind = (kind: EventKind, n: number) => { if (n > 0) eventCounts[kind] = (eventCounts[kind] ?? 0) + n; };
-  let truncated = all.length > MAX_DOCUMENT_EVENTS;
-  for (const name of EVENT_COUNT_ORDER) {
-    const list = m[name];
-    const kinds: readonly EventKind[] = METERS[name].eventKinds;
+  for (const { kinds, list } of [...lists].sort((a, b) => a.countOrder - b.countOrder)) {
     if (kinds.length === 1) countKind(kinds[0], list.eventsTotal);
     else for (const e of list.events) countKind(e.kind, 1);
-    truncated ||= list.eventsTruncated;
   }
+  const truncated = all.length > MAX_DOCUMENT_EVENTS || lists.some(({ list }) => list.eventsTruncated);
   return { events: all.slice(0, MAX_DOCUMENT_EVENTS), eventCounts, eventsTruncated: truncated };
 }
 

@@ -22,6 +22,11 @@ function eventfulOptions(maxEvents: number): AnalysisOptions {
 }
 
 describe('meter registry', () => {
+  it('gives each meter that lists events its own place among the document\'s counts', () => {
+    const orders = METER_NAMES.flatMap((name) => METERS[name].events?.countOrder ?? []);
+    expect(new Set(orders).size).toBe(orders.length);
+  });
+
   it('each descriptor says whether its meter reads the block envelope', () => {
     const { programme } = testSignals(2, 1);
     const builder = new EnvelopeBuilder();
@@ -47,7 +52,7 @@ describe('meter registry', () => {
         const meter = METERS[name].create(info, eventfulOptions(maxEvents));
         for (const block of cut(channels, [65_536])) meter.push(block);
         const result = meter.result();
-        const kinds: readonly string[] = METERS[name].eventKinds;
+        const kinds: readonly string[] = METERS[name].events?.kinds ?? [];
         expect(isEventList(result), name).toBe(kinds.length > 0);
         if (!isEventList(result)) continue;
         for (const event of result.events) {
@@ -60,7 +65,8 @@ describe('meter registry', () => {
     }
     // Every meter that lists events found some, so the kind checks above were not vacuous.
     for (const name of METER_NAMES) {
-      if (METERS[name].eventKinds.length > 0) expect(METERS[name].eventKinds.some((k) => found.has(k)), name).toBe(true);
+      const kinds: readonly string[] = METERS[name].events?.kinds ?? [];
+      if (kinds.length > 0) expect(kinds.some((k) => found.has(k)), name).toBe(true);
     }
   });
 });
