@@ -5,7 +5,7 @@
 // has a fixed number of slots, so memory stays flat with duration.
 import { Worker } from 'node:worker_threads';
 import type { PcmBlock, StreamInfo } from '../analysis/audio.ts';
-import { AnalysisRunner, METER_NAMES, METERS, type AnalysisOptions, type Measurements, type MeterName } from '../analysis/runner.ts';
+import { AnalysisRunner, isCompleteMeasurements, METER_NAMES, METERS, type AnalysisOptions, type Measurements, type MeterName } from '../analysis/runner.ts';
 import { EarmarkError } from '../errors/index.ts';
 import { EnvelopeBuilder } from '../analysis/envelope.ts';
 import { BlockRing, createRing } from './block-ring.ts';
@@ -92,6 +92,12 @@ class MeterThread {
   close(): Promise<number> { return this.worker.terminate(); }
 }
 
+/** The one thread's result for a meter (each meter runs on exactly one thread). */
+function take<K extends MeterName>(into: Partial<Measurements>, name: K, parts: readonly Partial<Measurements>[]): void {
+  const result = parts.find((p) => p[name] !== undefined)?.[name];
+  if (result !== undefined) into[name] = result;
+}
+
 export interface ParallelRunnerOptions {
   /** Largest block that will be pushed (the decoder's maxBlockFrames); sizes the shared ring. */
   maxBlockFrames?: number;
@@ -137,10 +143,11 @@ export class ParallelAnalysisRunner {
   async result(): Promise<Measurements> {
     this.ring?.finish();
     const parts = [this.main.partialResult(), ...(await Promise.all(this.threads.map((t) => t.result())))] as Partial<Measurements>[];
-    const merged: Record<string, unknown> = { frames: parts[0].frames };
-    // Fields in the serial runner's order, so documents serialise identically.
-    for (const name of METER_NAMES) merged[name] = parts.find((p) => name in p)?.[name];
-    return merged as unknown as Measurements;
+    const merged: Partial<Measurements> = { frames: parts[0].frames };
+    // Fields in the serial runner's order, so the two serialise identically.
+    for (const name of METER_NAMES) take(merged, name, parts);
+    if (!isCompleteMeasurements(merged)) throw new EarmarkError('internal_error', 'the analysis threads returned no result for some meter');
+    return merged;
   }
 
   async close(): Promise<void> {
