@@ -63,7 +63,7 @@ for (let round = 0; round < 7; round++) {
 // A registered meter's line ends with its registry thread cost, which a stereo file's reading updates.
 function registryCost(name: string): string {
   const meter = METER_NAMES.find((n) => n === name);
-  return meter ? `  (registry ${METERS[meter].threadCost})` : '';
+  return meter ? `  (registry ${METERS[meter].costMsPerMinute})` : '';
 }
 for (const [name, t] of Object.entries(times)) {
   const ms = Math.min(...t); // the least disturbed round: other processes share the cores

@@ -48,7 +48,7 @@ export interface MeterDescriptor<R> {
   create: (info: StreamInfo, options: AnalysisOptions) => Meter<R>;
   /** Relative thread cost: ms per stereo audio minute, the meter's time in a one-thread run of the
    * 60-minute benchmark file (bench/meters.ts); the parallel runner balances threads by it. */
-  threadCost: number;
+  costMsPerMinute: number;
   /** Reads the block envelope (envelope.ts); a runner without such meters skips that pass. */
   readsEnvelope: boolean;
   /**
@@ -60,34 +60,34 @@ export interface MeterDescriptor<R> {
 
 /** Every meter, in the order the runner feeds them and the document lists their events. */
 export const METERS: { readonly [K in MeterName]: MeterDescriptor<Measurements[K]> } = {
-  levels: { create: (info) => new LevelMeter(info), threadCost: 2.6, readsEnvelope: true, events: null },
-  timeWeighted: { create: (info) => new TimeWeightedLevelMeter(info), threadCost: 6, readsEnvelope: false, events: null },
+  levels: { create: (info) => new LevelMeter(info), costMsPerMinute: 2.6, readsEnvelope: true, events: null },
+  timeWeighted: { create: (info) => new TimeWeightedLevelMeter(info), costMsPerMinute: 6, readsEnvelope: false, events: null },
   loudness: {
-    create: (info, o) => new LoudnessMeter(info, o.loudness), threadCost: 18, readsEnvelope: false,
+    create: (info, o) => new LoudnessMeter(info, o.loudness), costMsPerMinute: 18, readsEnvelope: false,
     events: { kinds: ['loud_momentary', 'loud_short_term'], countOrder: 3 },
   },
   truePeak: {
-    create: (info, o) => new TruePeakMeter(info, o.truePeak), threadCost: 5.3, readsEnvelope: true,
+    create: (info, o) => new TruePeakMeter(info, o.truePeak), costMsPerMinute: 5.3, readsEnvelope: true,
     events: { kinds: ['true_peak_over'], countOrder: 0 },
   },
   reconstructedPeak: {
-    create: (info, o) => new ReconstructedPeakMeter(info, o.reconstructedPeak), threadCost: 5.4, readsEnvelope: true,
+    create: (info, o) => new ReconstructedPeakMeter(info, o.reconstructedPeak), costMsPerMinute: 5.4, readsEnvelope: true,
     events: { kinds: ['reconstructed_over'], countOrder: 1 },
   },
   clipping: {
-    create: (info, o) => new ClippingMeter(info, o.clipping), threadCost: 0.5, readsEnvelope: true,
+    create: (info, o) => new ClippingMeter(info, o.clipping), costMsPerMinute: 0.5, readsEnvelope: true,
     events: { kinds: ['clipping'], countOrder: 4 },
   },
   dropouts: {
-    create: (info, o) => new DropoutMeter(info, o.dropouts), threadCost: 2, readsEnvelope: true,
+    create: (info, o) => new DropoutMeter(info, o.dropouts), costMsPerMinute: 2, readsEnvelope: true,
     events: { kinds: ['dropout'], countOrder: 2 },
   },
   silence: {
-    create: (info, o) => new SilenceMeter(info, o.silence), threadCost: 2.3, readsEnvelope: true,
+    create: (info, o) => new SilenceMeter(info, o.silence), costMsPerMinute: 2.3, readsEnvelope: true,
     events: { kinds: ['silence'], countOrder: 5 },
   },
   channelRelations: {
-    create: (info, o) => new ChannelRelationMeter(info, o.channelRelations), threadCost: 4.5, readsEnvelope: false,
+    create: (info, o) => new ChannelRelationMeter(info, o.channelRelations), costMsPerMinute: 4.5, readsEnvelope: false,
     events: { kinds: ['dead_channel', 'duplicate_channel', 'inverted_channel', 'phase_problem'], countOrder: 6 },
   },
 };

@@ -13,8 +13,8 @@ import type { FromWorker, MeterThreadData } from './parallel-worker.ts';
 
 /** The decoders' default largest block (decode/types.ts DEFAULT_MAX_BLOCK_FRAMES). */
 const DEFAULT_RING_FRAMES = 65536;
-/** In the unit of the meters' thread costs (runner.ts METERS): the main thread decodes into the
- * ring (10.5) and builds the shared envelope (2). */
+/** In ms per stereo audio minute, as each meter's costMsPerMinute (runner.ts METERS): the main
+ * thread decodes into the ring (10.5) and builds the shared envelope (2). */
 const MAIN_THREAD_COST = 12.5;
 /** A worker's first meter reads each block from the other core's cache: measured as about 1.5. */
 const WORKER_THREAD_COST = 1.5;
@@ -31,7 +31,7 @@ function startWorker(workerData: MeterThreadData): Worker {
 /** Load of each thread for an assignment of meters to threads (thread 0 is the main thread). */
 function loads(assignment: number[], threads: number): number[] {
   const load = Array.from({ length: threads }, (_, i) => (i === 0 ? MAIN_THREAD_COST : 0));
-  METER_NAMES.forEach((name, m) => { load[assignment[m]] += METERS[name].threadCost; });
+  METER_NAMES.forEach((name, m) => { load[assignment[m]] += METERS[name].costMsPerMinute; });
   // A worker thread with no meters is not started (meterGroups drops it).
   return load.map((l, t) => (t > 0 && l > 0 ? l + WORKER_THREAD_COST : l));
 }
