@@ -2,16 +2,7 @@
 // memory once (so decode is timed separately). Medians of alternating rounds; a benchmark, not a test.
 import { openAudioFile } from '../src/decode/index.ts';
 import type { PcmBlock, StreamInfo, Meter } from '../src/analysis/audio.ts';
-import { AnalysisRunner } from '../src/analysis/runner.ts';
-import { LevelMeter } from '../src/analysis/levels.ts';
-import { TimeWeightedLevelMeter } from '../src/analysis/ballistics.ts';
-import { LoudnessMeter } from '../src/analysis/loudness.ts';
-import { TruePeakMeter } from '../src/analysis/true-peak.ts';
-import { ReconstructedPeakMeter } from '../src/analysis/reconstructed-peak.ts';
-import { ClippingMeter } from '../src/analysis/clipping.ts';
-import { SilenceMeter } from '../src/analysis/silence.ts';
-import { DropoutMeter } from '../src/analysis/dropouts.ts';
-import { ChannelRelationMeter } from '../src/analysis/channel-relations.ts';
+import { AnalysisRunner, METER_NAMES, METERS } from '../src/analysis/runner.ts';
 
 import { ReconstructedPeakMeter as RefReconstructedPeak } from '../test/helpers/reference-meters/reconstructed-peak.ts';
 import { DropoutMeter as RefDropouts } from '../test/helpers/reference-meters/dropouts.ts';
@@ -32,16 +23,9 @@ for await (const block of decoded.blocks) {
 const audioSeconds = frames / info.sampleRate;
 console.log(`${audioSeconds.toFixed(0)} s of audio decoded+copied in ${((performance.now() - decodeStarted) / 1000).toFixed(2)} s`);
 
+// Every registered meter by its registry name (runner.ts METERS), then the runner of them all.
 const makers: Record<string, () => Meter<unknown>> = {
-  levels: () => new LevelMeter(info),
-  ballistics: () => new TimeWeightedLevelMeter(info),
-  loudness: () => new LoudnessMeter(info),
-  truePeak: () => new TruePeakMeter(info),
-  reconstructedPeak: () => new ReconstructedPeakMeter(info),
-  clipping: () => new ClippingMeter(info),
-  silence: () => new SilenceMeter(info),
-  dropouts: () => new DropoutMeter(info),
-  relations: () => new ChannelRelationMeter(info),
+  ...Object.fromEntries(METER_NAMES.map((name) => [name, () => METERS[name].create(info, {})])),
   runner: () => new AnalysisRunner(info),
   // The straightforward implementations the optimised meters replaced, for side-by-side ratios.
   'reconstructedPeak ref': () => new RefReconstructedPeak(info),
@@ -61,7 +45,12 @@ for (let round = 0; round < 7; round++) {
     (times[name] ??= []).push(performance.now() - t0);
   }
 }
+// A registered meter's line ends with its registry thread cost, which a stereo file's reading updates.
+function registryCost(name: string): string {
+  const meter = METER_NAMES.find((n) => n === name);
+  return meter ? `  (registry ${METERS[meter].costMsPerMinute})` : '';
+}
 for (const [name, t] of Object.entries(times)) {
   const ms = Math.min(...t); // the least disturbed round: other processes share the cores
-  console.log(`${name.padEnd(11)} ${(ms * 60 / audioSeconds).toFixed(1).padStart(6)} ms per audio minute  ${(audioSeconds * 1000 / ms).toFixed(0).padStart(6)}x realtime`);
+  console.log(`${name.padEnd(11)} ${(ms * 60 / audioSeconds).toFixed(1).padStart(6)} ms per audio minute  ${(audioSeconds * 1000 / ms).toFixed(0).padStart(6)}x realtime${registryCost(name)}`);
 }

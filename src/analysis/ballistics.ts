@@ -8,7 +8,7 @@
 // All meters start at rest (zero) and report the maximum reached over the stream.
 
 import type { Meter, PcmBlock, StreamInfo } from './audio.ts';
-import { amplitudeToDb, powerToDb } from './levels.ts';
+import { amplitudeToDb, powerToDb } from './units.ts';
 import { BALLISTICS_CHUNK_FRAMES, BALLISTICS_KERNEL_FRAMES, BallisticsKernel, type BallisticsPoles } from './kernels/ballistics.ts';
 
 export const FAST_TIME_CONSTANT_SECONDS = 0.125;

@@ -10,14 +10,17 @@
 // nearRmsDb, e.g. after a lossy codec); both produce 'duplicate_channel' / 'inverted_channel' events.
 
 import type { Meter, PcmBlock, StreamInfo } from './audio.ts';
-import { EventLog, type AnalysisEvent } from './events.ts';
+import { EventLog, type EventList } from './events.ts';
 import { PairSumsKernel } from './kernels/pair-sums.ts';
-import { powerToDb } from './levels.ts';
+import { dbToPower, powerToDb } from './units.ts';
 import { EarmarkError } from '../errors/index.ts';
+
+/** Window correlation below this flags a phase problem (common practice; no standard fixes it). */
+export const DEFAULT_PHASE_THRESHOLD = -0.5;
 
 export interface ChannelRelationOptions {
   windowSeconds?: number;
-  /** Window correlation below this flags a phase problem. Default -0.5. */
+  /** Window correlation below this flags a phase problem. Default DEFAULT_PHASE_THRESHOLD. */
   phaseThreshold?: number;
   /** Both channels need at least this RMS in a window for it to be judged. Default -50 dBFS. */
   signalFloorDbfs?: number;
@@ -44,13 +47,11 @@ export interface ChannelPairRelation {
   phaseProblemWindows: number;
 }
 
-export interface ChannelRelationResult {
+/** Events: 'dead_channel', 'duplicate_channel', 'inverted_channel' and 'phase_problem'. */
+export interface ChannelRelationResult extends EventList {
   windowSeconds: number;
   deadChannels: number[];
   pairs: ChannelPairRelation[];
-  events: AnalysisEvent[];
-  eventsTotal: number;
-  eventsTruncated: boolean;
 }
 
 export class ChannelRelationMeter implements Meter<ChannelRelationResult> {
@@ -89,8 +90,8 @@ export class ChannelRelationMeter implements Meter<ChannelRelationResult> {
     if (!(this.windowFrames >= 2)) {
       throw new EarmarkError('invalid_argument', 'windowSeconds must span at least 2 frames', { field: 'windowSeconds' });
     }
-    this.phaseThreshold = options.phaseThreshold ?? -0.5;
-    this.floorPower = 10 ** ((options.signalFloorDbfs ?? -50) / 10);
+    this.phaseThreshold = options.phaseThreshold ?? DEFAULT_PHASE_THRESHOLD;
+    this.floorPower = dbToPower(options.signalFloorDbfs ?? -50);
     this.nearCorrelation = options.nearCorrelation ?? 0.9999;
     this.nearRmsDb = options.nearRmsDb ?? 0.01;
     this.log = new EventLog(info.sampleRate, options.maxEvents);
@@ -290,9 +291,7 @@ export class ChannelRelationMeter implements Meter<ChannelRelationResult> {
       windowSeconds: this.windowSeconds,
       deadChannels,
       pairs,
-      events: this.log.events,
-      eventsTotal: this.log.total,
-      eventsTruncated: this.log.truncated,
+      ...this.log.list(),
     };
     return this.finished;
   }

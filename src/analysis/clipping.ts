@@ -4,8 +4,8 @@
 
 import type { Meter, PcmBlock, StreamInfo } from './audio.ts';
 import { ENVELOPE_CHUNK_FRAMES, EnvelopeBuilder } from './envelope.ts';
-import { EventLog, type AnalysisEvent } from './events.ts';
-import { amplitudeToDb } from './levels.ts';
+import { byEndThenChannel, EventLog, type EventList, type FoundEvent } from './events.ts';
+import { amplitudeToDb, dbToAmplitude } from './units.ts';
 import { EarmarkError } from '../errors/index.ts';
 
 /** Within 0.01 dB of full scale (common practice). */
@@ -29,19 +29,14 @@ export interface ChannelClipping {
   longestRunSamples: number;
 }
 
-export interface ClippingResult {
+/** Events: one 'clipping' per run, peakValue in dBFS; ordered by end, then channel. */
+export interface ClippingResult extends EventList {
   thresholdLinear: number;
   minRunSamples: number;
   channels: ChannelClipping[];
   totalRuns: number;
   totalClippedSamples: number;
-  /** One 'clipping' event per run, peakValue in dBFS; ordered by end, then channel. */
-  events: AnalysisEvent[];
-  eventsTotal: number;
-  eventsTruncated: boolean;
 }
-
-type PendingEvent = Omit<AnalysisEvent, 'startSeconds' | 'endSeconds'>;
 
 export class ClippingMeter implements Meter<ClippingResult> {
   private readonly threshold: number;
@@ -54,14 +49,14 @@ export class ClippingMeter implements Meter<ClippingResult> {
   private readonly runs: Float64Array;
   private readonly clipped: Float64Array;
   private readonly longest: Float64Array;
-  private readonly pending: PendingEvent[] = [];
+  private readonly pending: FoundEvent[] = [];
   private frames = 0;
   private finished: ClippingResult | null = null;
   private readonly envelopes = new EnvelopeBuilder();
 
   constructor(private readonly info: StreamInfo, options: ClippingMeterOptions = {}) {
     this.threshold = options.thresholdLinear
-      ?? 10 ** ((options.thresholdDbfs ?? DEFAULT_CLIP_THRESHOLD_DBFS) / 20);
+      ?? dbToAmplitude(options.thresholdDbfs ?? DEFAULT_CLIP_THRESHOLD_DBFS);
     this.minRun = options.minRunSamples ?? DEFAULT_MIN_RUN_SAMPLES;
     if (!(this.threshold > 0) || !Number.isInteger(this.minRun) || this.minRun < 1) {
       throw new EarmarkError('invalid_argument', 'Clipping threshold must be > 0 and minRunSamples an integer >= 1', {
@@ -148,9 +143,7 @@ export class ClippingMeter implements Meter<ClippingResult> {
       channels,
       totalRuns,
       totalClippedSamples: totalClipped,
-      events: this.log.events,
-      eventsTotal: this.log.total,
-      eventsTruncated: this.log.truncated,
+      ...this.log.list(),
     };
     return this.finished;
   }
@@ -179,8 +172,4 @@ export class ClippingMeter implements Meter<ClippingResult> {
     for (const event of this.pending) this.log.add(event);
     this.pending.length = 0;
   }
-}
-
-export function byEndThenChannel(a: PendingEvent, b: PendingEvent): number {
-  return a.endFrame - b.endFrame || (a.channel ?? -1) - (b.channel ?? -1);
 }

@@ -42,8 +42,8 @@
 
 import type { Meter, PcmBlock, StreamInfo } from './audio.ts';
 import { ENVELOPE_CHUNK_FRAMES, EnvelopeBuilder } from './envelope.ts';
-import { EventLog, type AnalysisEvent } from './events.ts';
-import { amplitudeToDb } from './levels.ts';
+import { byStartThenChannel, EventLog, type EventList, type FoundEvent } from './events.ts';
+import { amplitudeToDb, dbToAmplitude } from './units.ts';
 import { EarmarkError } from '../errors/index.ts';
 
 /** The silence meter's level (ffmpeg silencedetect's, common practice). */
@@ -71,18 +71,13 @@ export interface DropoutOptions {
   maxEvents?: number;
 }
 
-export interface DropoutResult {
+/** Events: 'dropout', channel null for all channels; peakValue = loudest sample in dBFS, absent for digital zero; by start, then channel. */
+export interface DropoutResult extends EventList {
   minDurationSeconds: number;
   channels: Array<{ channel: number; dropouts: number; droppedSeconds: number }>;
   /** all-channel dropouts */
   all: { dropouts: number; droppedSeconds: number };
-  /** 'dropout' events, channel null for all channels; peakValue = loudest sample in dBFS, absent for digital zero; by start, then channel. */
-  events: AnalysisEvent[];
-  eventsTotal: number;
-  eventsTruncated: boolean;
 }
-
-type PendingEvent = Omit<AnalysisEvent, 'startSeconds' | 'endSeconds'>;
 
 /** A run that passed rules 1-3, waiting for the frames after it (rule 4). */
 interface Candidate {
@@ -108,10 +103,6 @@ const UNJUDGED = 0;
 const ABRUPT = 1;
 const GRADUAL = 2;
 
-export function byStartThenChannel(a: PendingEvent, b: PendingEvent): number {
-  return a.startFrame - b.startFrame || (a.channel ?? -1) - (b.channel ?? -1);
-}
-
 export class DropoutMeter implements Meter<DropoutResult> {
   private readonly n: number;
   private readonly threshold: number;
@@ -135,7 +126,7 @@ export class DropoutMeter implements Meter<DropoutResult> {
   /** All-channel runs of at least the minimum that channel runs ending now could still match (rule 5). */
   private recentAll: Span[] = [];
   /** Finished events whose place in the start order is not settled yet. */
-  private held: PendingEvent[] = [];
+  private held: FoundEvent[] = [];
   private frames = 0;
   private finished: DropoutResult | null = null;
   private readonly envelopes = new EnvelopeBuilder();
@@ -154,9 +145,9 @@ export class DropoutMeter implements Meter<DropoutResult> {
     }
     const fs = info.sampleRate;
     this.n = info.channels;
-    this.threshold = 10 ** (thresholdDbfs / 20);
-    this.sounding = 10 ** ((thresholdDbfs + minDropDb) / 20);
-    this.fadeRatio = 10 ** (maxFadeDb / 20);
+    this.threshold = dbToAmplitude(thresholdDbfs);
+    this.sounding = dbToAmplitude(thresholdDbfs + minDropDb);
+    this.fadeRatio = dbToAmplitude(maxFadeDb);
     this.minFrames = Math.max(1, Math.round(this.minDurationSeconds * fs));
     this.maxFrames = Math.round(maxSeconds * fs);
     this.edgeFrames = Math.max(1, Math.round(DROPOUT_EDGE_SECONDS * fs));
@@ -222,9 +213,7 @@ export class DropoutMeter implements Meter<DropoutResult> {
       minDurationSeconds: this.minDurationSeconds,
       channels,
       all: { dropouts: this.dropouts[this.n], droppedSeconds: this.droppedFrames[this.n] / fs },
-      events: this.log.events,
-      eventsTotal: this.log.total,
-      eventsTruncated: this.log.truncated,
+      ...this.log.list(),
     };
     return this.finished;
   }
@@ -372,7 +361,7 @@ export class DropoutMeter implements Meter<DropoutResult> {
       if (c.covered || !(c.resumeMax >= this.sounding)) continue;
       this.dropouts[c.slot]++;
       this.droppedFrames[c.slot] += c.endFrame - c.startFrame;
-      const event: PendingEvent = {
+      const event: FoundEvent = {
         kind: 'dropout',
         channel: c.slot === this.n ? null : c.slot,
         startFrame: c.startFrame,

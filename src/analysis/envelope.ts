@@ -7,6 +7,7 @@
 
 import type { PcmBlock } from './audio.ts';
 import { instantiateKernel } from './kernels/instantiate.ts';
+import { KERNEL_MEMORY } from './kernels/memory.ts';
 import { WASM_BASE64 } from './kernels/envelope.wasm.ts';
 
 /** Frames per chunk (chunk k covers block frames [32k, 32k + 32)); the last chunk may be shorter. */
@@ -25,8 +26,7 @@ export interface BlockEnvelope {
 
 /** Frames per kernel call (kernels/envelope.wat); a whole number of chunks. */
 const KERNEL_FRAMES = 16384;
-const KERNEL_MAX = 65536;
-const KERNEL_MIN = 67584;
+const MEMORY = KERNEL_MEMORY.envelope;
 
 interface EnvelopeKernel {
   extremes(frames: number): void;
@@ -45,9 +45,9 @@ function envelopeKernel(): EnvelopeKernel {
   const buffer = exports.memory.buffer;
   return {
     extremes: exports.extremes,
-    input: new Float32Array(buffer, 0, KERNEL_FRAMES),
-    max: new Int32Array(buffer, KERNEL_MAX, KERNEL_FRAMES / ENVELOPE_CHUNK_FRAMES),
-    min: new Int32Array(buffer, KERNEL_MIN, KERNEL_FRAMES / ENVELOPE_CHUNK_FRAMES),
+    input: new Float32Array(buffer, MEMORY.IN, KERNEL_FRAMES),
+    max: new Int32Array(buffer, MEMORY.MAX, KERNEL_FRAMES / ENVELOPE_CHUNK_FRAMES),
+    min: new Int32Array(buffer, MEMORY.MIN, KERNEL_FRAMES / ENVELOPE_CHUNK_FRAMES),
   };
 }
 

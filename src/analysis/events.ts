@@ -31,14 +31,33 @@ export interface AnalysisEvent {
   count?: number;
 }
 
+/**
+ * How every meter result lists its events: at most the meter's cap of them kept, every one found
+ * counted. `E` narrows the kind where a meter has one.
+ */
+export interface EventList<E extends AnalysisEvent = AnalysisEvent> {
+  /** The kept events, in the order the meter documents. */
+  events: E[];
+  /** Every event found, kept or not. */
+  eventsTotal: number;
+  /** True when some found events were not kept (eventsTotal > events.length). */
+  eventsTruncated: boolean;
+}
+
+/** Meters keep at most this many events unless told otherwise. */
+export const DEFAULT_MAX_EVENTS = 10_000;
+
+/** An event as a meter finds it; the log adds the seconds. */
+export type FoundEvent = Omit<AnalysisEvent, 'startSeconds' | 'endSeconds'>;
+
 /** Caps the events a meter keeps; counts continue past the cap so reports stay honest. */
 export class EventLog {
   readonly events: AnalysisEvent[] = [];
   total = 0;
 
-  constructor(private readonly sampleRate: number, private readonly maxEvents = 10_000) {}
+  constructor(private readonly sampleRate: number, private readonly maxEvents = DEFAULT_MAX_EVENTS) {}
 
-  add(event: Omit<AnalysisEvent, 'startSeconds' | 'endSeconds'>): void {
+  add(event: FoundEvent): void {
     this.total++;
     if (this.events.length >= this.maxEvents) return;
     this.events.push({
@@ -51,4 +70,25 @@ export class EventLog {
   get truncated(): boolean {
     return this.total > this.events.length;
   }
+
+  /** The kept events (in the order given, else as added) with the count of all found. */
+  list(order?: (a: AnalysisEvent, b: AnalysisEvent) => number): EventList {
+    const events = order ? [...this.events].sort(order) : this.events;
+    return { events, eventsTotal: this.total, eventsTruncated: this.truncated };
+  }
+}
+
+/** By start frame. */
+export function byStart(a: FoundEvent, b: FoundEvent): number {
+  return a.startFrame - b.startFrame;
+}
+
+/** By start frame, then channel (all-channel events first). */
+export function byStartThenChannel(a: FoundEvent, b: FoundEvent): number {
+  return a.startFrame - b.startFrame || (a.channel ?? -1) - (b.channel ?? -1);
+}
+
+/** By end frame, then channel (all-channel events first). */
+export function byEndThenChannel(a: FoundEvent, b: FoundEvent): number {
+  return a.endFrame - b.endFrame || (a.channel ?? -1) - (b.channel ?? -1);
 }

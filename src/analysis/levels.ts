@@ -4,19 +4,13 @@
 import type { Meter, PcmBlock, StreamInfo } from './audio.ts';
 import { EnvelopeBuilder } from './envelope.ts';
 import { SUMS_KERNEL_FRAMES, SumsKernel } from './kernels/sums.ts';
+import { amplitudeToDb, powerToDb } from './units.ts';
+
+// For the reference meters in test/helpers, which import the conversions from here.
+export { amplitudeToDb, powerToDb } from './units.ts';
 
 /** 20 log10(2^0.5): AES17 references RMS to a full-scale sine, so it reads this much higher. */
 export const AES17_OFFSET_DB = 10 * Math.log10(2);
-
-/** Amplitude to dBFS; digital silence is null (JSON has no -Infinity). */
-export function amplitudeToDb(linear: number): number | null {
-  return linear > 0 ? 20 * Math.log10(linear) : null;
-}
-
-/** Mean square to dBFS (same reference as amplitudeToDb(rms)). */
-export function powerToDb(meanSquare: number): number | null {
-  return meanSquare > 0 ? 10 * Math.log10(meanSquare) : null;
-}
 
 export interface LevelMeterOptions {
   /** |x| at or above this counts as a full-scale sample. Default 1.0. */

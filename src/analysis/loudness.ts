@@ -11,7 +11,7 @@ import type { Meter, PcmBlock, StreamInfo } from './audio.ts';
 import { channelWeight, highpassCoefficients, shelfCoefficients } from './k-weighting.ts';
 import { KERNEL_FRAMES, KWeightingKernel, kWeightingLoop } from './kernels/k-weighting.ts';
 import { GrowableFloat64 } from './growable.ts';
-import { EventLog, type AnalysisEvent } from './events.ts';
+import { byStart, EventLog, type EventList } from './events.ts';
 
 const LOUDNESS_OFFSET = -0.691;
 const ABSOLUTE_GATE_LUFS = -70;
@@ -29,7 +29,8 @@ export interface LoudnessOptions {
   maxEvents?: number;
 }
 
-export interface LoudnessResult {
+/** Events: stretches of the 10 Hz momentary ('loud_momentary') and short-term ('loud_short_term') series above the configured limits, by start. */
+export interface LoudnessResult extends EventList {
   /** Gated integrated loudness; null when no block passes the absolute gate. */
   integratedLufs: number | null;
   /** EBU Tech 3342 loudness range; null when no short-term value passes the gates. */
@@ -53,9 +54,6 @@ export interface LoudnessResult {
   /** Gating blocks used: total and after both gates. */
   gatingBlocks: number;
   gatedBlocks: number;
-  /** Stretches of the 10 Hz momentary / short-term series above the configured limits. */
-  events: AnalysisEvent[];
-  eventsTotal: number;
 }
 
 export function powerToLufs(meanPower: number): number | null {
@@ -228,8 +226,7 @@ export class LoudnessMeter implements Meter<LoudnessResult> {
       shortTermLufs: toLufsInPlace(this.shortTermPowers.view()),
       gatingBlocks: blocks.length,
       gatedBlocks: kept,
-      events: [...this.log.events].sort((a, b) => a.startFrame - b.startFrame),
-      eventsTotal: this.log.total,
+      ...this.log.list(byStart),
     };
     return this.finished;
   }

@@ -1,7 +1,7 @@
 // Peak overs per channel, merged: overs closer than `mergeFrames` are one event with their count
 // and the largest value. Shared by the Annex 2 and the reconstructed peak meters.
 
-import { EventLog, type AnalysisEvent } from './events.ts';
+import { byStartThenChannel, EventLog, type EventList } from './events.ts';
 
 interface OpenOver { startFrame: number; lastFrame: number; count: number; peak: number }
 
@@ -44,9 +44,8 @@ export class OverLog {
   }
 
   /** Closes every open over; the kept events by start, then channel, and the total counted. */
-  finish(): { overs: AnalysisEvent[]; oversTotal: number } {
+  finish(): EventList {
     for (let c = 0; c < this.open.length; c++) this.close(c);
-    const overs = [...this.log.events].sort((a, b) => a.startFrame - b.startFrame || (a.channel ?? 0) - (b.channel ?? 0));
-    return { overs, oversTotal: this.log.total };
+    return this.log.list(byStartThenChannel);
   }
 }

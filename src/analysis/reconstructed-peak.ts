@@ -37,8 +37,9 @@
 
 import type { Meter, PcmBlock, StreamInfo } from './audio.ts';
 import { ENVELOPE_CHUNK_FRAMES, EnvelopeBuilder } from './envelope.ts';
-import type { AnalysisEvent } from './events.ts';
+import type { EventList } from './events.ts';
 import { OverLog } from './overs.ts';
+import { amplitudeToDb, dbToAmplitude } from './units.ts';
 import { CHANNEL_SLOTS, ReconstructionKernel, RECONSTRUCTION_HISTORY_FRAMES, RECONSTRUCTION_KERNEL_FRAMES, SLOT } from './kernels/reconstructed-peak.ts';
 
 /**
@@ -127,16 +128,14 @@ export interface ReconstructedPeakOptions {
   maxEvents?: number;
 }
 
-export interface ReconstructedPeakResult {
+/** Over events ('reconstructed_over', merged; by start, then channel) in `events`. */
+export interface ReconstructedPeakResult extends EventList {
   /** Per channel, dBTP; null for digital silence. */
   channelPeakDbtp: (number | null)[];
   peakDbtp: number | null;
   /** Time (s) of the programme's peak, to the input sample. */
   peakAtSeconds: number | null;
   overCeilingDbtp: number;
-  overs: AnalysisEvent[];
-  /** Merged over events, including those past maxEvents. */
-  oversTotal: number;
   /** Frames whose interpolation was skipped by the exact bound (for benchmarks). */
   prunedFrames: number;
 }
@@ -173,7 +172,7 @@ export class ReconstructedPeakMeter implements Meter<ReconstructedPeakResult> {
       s: Float64Array.from({ length: 4 }, (_, k) => 0.5 * (g1[w + 1 + k] + g1[w - k])),
       d: Float64Array.from({ length: 4 }, (_, k) => 0.5 * (g1[w + 1 + k] - g1[w - k])),
       h: Float64Array.from({ length: 4 }, (_, k) => g2[w + 1 + k]),
-      ceiling: Math.pow(10, this.ceilingDbtp / 20),
+      ceiling: dbToAmplitude(this.ceilingDbtp),
       pruneGain: PRUNE_GAIN,
       stage2PruneGain: STAGE2_PRUNE_GAIN,
       inverseCap: INVERSE_CAP,
@@ -245,19 +244,17 @@ export class ReconstructedPeakMeter implements Meter<ReconstructedPeakResult> {
     if (this.final) return this.final;
     const tail = Array.from({ length: this.channels }, () => new Float32Array(LATENCY_FRAMES));
     if (this.position > 0) this.consume({ channelData: tail, frames: LATENCY_FRAMES });
-    const { overs, oversTotal } = this.overLog.finish();
-    const toDb = (v: number) => (v > 0 ? 20 * Math.log10(v) : null);
+    const overs = this.overLog.finish();
     const maxima = Array.from({ length: this.channels }, (_, c) => this.slots[c * CHANNEL_SLOTS + SLOT.maximum]);
     let best = -1;
     for (let c = 0; c < this.channels; c++) if (best < 0 || maxima[c] > maxima[best]) best = c;
     const programme = best >= 0 ? maxima[best] : 0;
     this.final = {
-      channelPeakDbtp: maxima.map(toDb),
-      peakDbtp: toDb(programme),
+      channelPeakDbtp: maxima.map(amplitudeToDb),
+      peakDbtp: amplitudeToDb(programme),
       peakAtSeconds: programme > 0 ? this.slots[best * CHANNEL_SLOTS + SLOT.maximumFrame] / this.sampleRate : null,
       overCeilingDbtp: this.ceilingDbtp,
-      overs,
-      oversTotal,
+      ...overs,
       prunedFrames: this.kernel.state[SLOT.pruned],
     };
     return this.final;

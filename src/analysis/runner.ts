@@ -5,6 +5,7 @@
 import type { Meter, PcmBlock, StreamInfo } from './audio.ts';
 import { ChannelRelationMeter, type ChannelRelationOptions, type ChannelRelationResult } from './channel-relations.ts';
 import { EnvelopeBuilder } from './envelope.ts';
+import type { EventKind, EventList } from './events.ts';
 import { ClippingMeter, type ClippingMeterOptions, type ClippingResult } from './clipping.ts';
 import { DropoutMeter, type DropoutOptions, type DropoutResult } from './dropouts.ts';
 import { LevelMeter, type LevelResult } from './levels.ts';
@@ -39,30 +40,90 @@ export interface Measurements {
 
 export type MeterName = Exclude<keyof Measurements, 'frames'>;
 
-const METERS: { [K in MeterName]: (info: StreamInfo, options: AnalysisOptions) => Meter<Measurements[K]> } = {
-  levels: (info) => new LevelMeter(info),
-  timeWeighted: (info) => new TimeWeightedLevelMeter(info),
-  loudness: (info, o) => new LoudnessMeter(info, o.loudness),
-  truePeak: (info, o) => new TruePeakMeter(info, o.truePeak),
-  reconstructedPeak: (info, o) => new ReconstructedPeakMeter(info, o.reconstructedPeak),
-  clipping: (info, o) => new ClippingMeter(info, o.clipping),
-  dropouts: (info, o) => new DropoutMeter(info, o.dropouts),
-  silence: (info, o) => new SilenceMeter(info, o.silence),
-  channelRelations: (info, o) => new ChannelRelationMeter(info, o.channelRelations),
+/**
+ * What the runner, the thread planner and the analysis document know of a meter. Each meter runs
+ * whole on one thread, so results are never combined across threads.
+ */
+export interface MeterDescriptor<R> {
+  create: (info: StreamInfo, options: AnalysisOptions) => Meter<R>;
+  /** Relative thread cost: ms per stereo audio minute, the meter's time in a one-thread run of the
+   * 60-minute benchmark file (bench/meters.ts); the parallel runner balances threads by it. */
+  costMsPerMinute: number;
+  /** Reads the block envelope (envelope.ts); a runner without such meters skips that pass. */
+  readsEnvelope: boolean;
+  /**
+   * For a result that lists events (EventList): the kinds it holds, and where its counts go among
+   * the analysis document's eventCounts keys (lowest first; the JSON's key order). Null otherwise.
+   */
+  events: R extends EventList ? { kinds: readonly [EventKind, ...EventKind[]]; countOrder: number } : null;
+}
+
+/** Every meter, in the order the runner feeds them and the document lists their events. */
+export const METERS: { readonly [K in MeterName]: MeterDescriptor<Measurements[K]> } = {
+  levels: { create: (info) => new LevelMeter(info), costMsPerMinute: 2.6, readsEnvelope: true, events: null },
+  timeWeighted: { create: (info) => new TimeWeightedLevelMeter(info), costMsPerMinute: 6, readsEnvelope: false, events: null },
+  loudness: {
+    create: (info, o) => new LoudnessMeter(info, o.loudness), costMsPerMinute: 18, readsEnvelope: false,
+    events: { kinds: ['loud_momentary', 'loud_short_term'], countOrder: 3 },
+  },
+  truePeak: {
+    create: (info, o) => new TruePeakMeter(info, o.truePeak), costMsPerMinute: 5.3, readsEnvelope: true,
+    events: { kinds: ['true_peak_over'], countOrder: 0 },
+  },
+  reconstructedPeak: {
+    create: (info, o) => new ReconstructedPeakMeter(info, o.reconstructedPeak), costMsPerMinute: 5.4, readsEnvelope: true,
+    events: { kinds: ['reconstructed_over'], countOrder: 1 },
+  },
+  clipping: {
+    create: (info, o) => new ClippingMeter(info, o.clipping), costMsPerMinute: 0.5, readsEnvelope: true,
+    events: { kinds: ['clipping'], countOrder: 4 },
+  },
+  dropouts: {
+    create: (info, o) => new DropoutMeter(info, o.dropouts), costMsPerMinute: 2, readsEnvelope: true,
+    events: { kinds: ['dropout'], countOrder: 2 },
+  },
+  silence: {
+    create: (info, o) => new SilenceMeter(info, o.silence), costMsPerMinute: 2.3, readsEnvelope: true,
+    events: { kinds: ['silence'], countOrder: 5 },
+  },
+  channelRelations: {
+    create: (info, o) => new ChannelRelationMeter(info, o.channelRelations), costMsPerMinute: 4.5, readsEnvelope: false,
+    events: { kinds: ['dead_channel', 'duplicate_channel', 'inverted_channel', 'phase_problem'], countOrder: 6 },
+  },
 };
 
 export const METER_NAMES = Object.keys(METERS) as MeterName[];
-/** Meters that read the block envelope (envelope.ts); a runner without them skips that pass. */
-export const ENVELOPE_METERS: readonly MeterName[] = ['levels', 'truePeak', 'reconstructedPeak', 'clipping', 'dropouts', 'silence'];
+/** Meters that read the block envelope; a runner without them skips that pass. */
+export const ENVELOPE_METERS: readonly MeterName[] = METER_NAMES.filter((name) => METERS[name].readsEnvelope);
+
+/** A meter result that lists events: checked, so a consumer needs no per-meter code. */
+export function isEventList(result: Measurements[MeterName]): result is Extract<Measurements[MeterName], EventList> {
+  return 'events' in result && 'eventsTotal' in result && 'eventsTruncated' in result;
+}
+
+/** Whether every meter's field (and frames) is present: a runner of all the meters gives such a result. */
+export function isCompleteMeasurements(m: Partial<Measurements>): m is Measurements {
+  return m.frames !== undefined && METER_NAMES.every((name) => m[name] !== undefined);
+}
 
 export class AnalysisRunner implements Meter<Measurements> {
   private frames = 0;
-  private readonly meters: [MeterName, Meter<unknown>][];
+  /** The meters run, in registry order. */
+  private readonly meters: Meter<unknown>[] = [];
+  /** Per meter run: puts its result in a partial Measurements. */
+  private readonly collectors: ((out: Partial<Measurements>) => void)[] = [];
   private readonly envelopes: EnvelopeBuilder | null;
 
   constructor(readonly info: StreamInfo, options: AnalysisOptions = {}, only: readonly MeterName[] = METER_NAMES) {
-    this.meters = METER_NAMES.filter((name) => only.includes(name)).map((name) => [name, METERS[name](info, options)]);
-    this.envelopes = this.meters.some(([name]) => ENVELOPE_METERS.includes(name)) ? new EnvelopeBuilder() : null;
+    const names = METER_NAMES.filter((name) => only.includes(name));
+    for (const name of names) this.start(name, options);
+    this.envelopes = names.some((name) => ENVELOPE_METERS.includes(name)) ? new EnvelopeBuilder() : null;
+  }
+
+  private start<K extends MeterName>(name: K, options: AnalysisOptions): void {
+    const meter: Meter<Measurements[K]> = METERS[name].create(this.info, options);
+    this.meters.push(meter);
+    this.collectors.push((out) => { out[name] = meter.result(); });
   }
 
   push(block: PcmBlock): void {
@@ -71,18 +132,21 @@ export class AnalysisRunner implements Meter<Measurements> {
     }
     // One envelope pass for every meter that reads it.
     const shared: PcmBlock = block.envelope || !this.envelopes ? block : { ...block, envelope: this.envelopes.build(block) };
-    for (const [, meter] of this.meters) meter.push(shared);
+    for (const meter of this.meters) meter.push(shared);
     this.frames += block.frames;
   }
 
-  /** Every meter's result; with `only`, the other fields are absent (see partialResult). */
+  /** Every meter's result; only a runner of all the meters has one (see partialResult). */
   result(): Measurements {
-    return this.partialResult() as Measurements;
+    const m = this.partialResult();
+    if (!isCompleteMeasurements(m)) throw new Error('result() needs every meter; a runner of some meters gives partialResult()');
+    return m;
   }
 
+  /** Frames and the result of each meter run, in registry order; the other fields are absent. */
   partialResult(): Partial<Measurements> {
     const out: Partial<Measurements> = { frames: this.frames };
-    for (const [name, meter] of this.meters) (out as Record<string, unknown>)[name] = meter.result();
+    for (const collect of this.collectors) collect(out);
     return out;
   }
 }

@@ -7,9 +7,8 @@
 
 import type { Meter, PcmBlock, StreamInfo } from './audio.ts';
 import { ENVELOPE_CHUNK_FRAMES, EnvelopeBuilder } from './envelope.ts';
-import { EventLog, type AnalysisEvent } from './events.ts';
-import { amplitudeToDb } from './levels.ts';
-import { byEndThenChannel } from './clipping.ts';
+import { byEndThenChannel, EventLog, type EventList, type FoundEvent } from './events.ts';
+import { amplitudeToDb, dbToAmplitude } from './units.ts';
 import { EarmarkError } from '../errors/index.ts';
 
 /** ffmpeg silencedetect defaults (common practice): -60 dB for 2 s. */
@@ -32,7 +31,8 @@ export interface SilenceTotals {
   silentSeconds: number;
 }
 
-export interface SilenceResult {
+/** Events: 'silence', channel null for all channels; peakValue = loudest sample in dBFS, absent if digital silence. */
+export interface SilenceResult extends EventList {
   thresholdDbfs: number;
   minDurationSeconds: number;
   /** All channels silent from the first frame on (any length, 0 when the first frame carries signal). */
@@ -46,13 +46,7 @@ export interface SilenceResult {
   longestInternalGapStartFrame: number | null;
   channels: Array<SilenceTotals & { channel: number }>;
   all: SilenceTotals;
-  /** 'silence' events, channel null for all channels; peakValue = loudest sample in dBFS, absent if digital silence. */
-  events: AnalysisEvent[];
-  eventsTotal: number;
-  eventsTruncated: boolean;
 }
-
-type PendingEvent = Omit<AnalysisEvent, 'startSeconds' | 'endSeconds'>;
 
 export class SilenceMeter implements Meter<SilenceResult> {
   private readonly thresholdDbfs: number;
@@ -66,7 +60,7 @@ export class SilenceMeter implements Meter<SilenceResult> {
   private readonly runPeak: Float64Array;
   private readonly regions: Float64Array;
   private readonly silentFrames: Float64Array;
-  private readonly pending: PendingEvent[] = [];
+  private readonly pending: FoundEvent[] = [];
   // This block's silent runs per channel (channel c at c * runCap) and their intersection;
   // sized for the largest block seen, once.
   private runCap = 0;
@@ -86,7 +80,7 @@ export class SilenceMeter implements Meter<SilenceResult> {
 
   constructor(private readonly info: StreamInfo, options: SilenceMeterOptions = {}) {
     this.thresholdDbfs = options.thresholdDbfs ?? DEFAULT_SILENCE_THRESHOLD_DBFS;
-    this.threshold = 10 ** (this.thresholdDbfs / 20);
+    this.threshold = dbToAmplitude(this.thresholdDbfs);
     this.minDurationSeconds = options.minDurationSeconds ?? DEFAULT_SILENCE_MIN_SECONDS;
     if (!Number.isFinite(this.thresholdDbfs) || !(this.minDurationSeconds >= 0)) {
       throw new EarmarkError('invalid_argument', 'Silence threshold must be finite and minDurationSeconds >= 0', {
@@ -293,7 +287,7 @@ export class SilenceMeter implements Meter<SilenceResult> {
     if (length < this.minFrames) return;
     this.regions[slot]++;
     this.silentFrames[slot] += length;
-    const event: PendingEvent = {
+    const event: FoundEvent = {
       kind: 'silence',
       channel: slot === this.info.channels ? null : slot,
       startFrame,
@@ -343,9 +337,7 @@ export class SilenceMeter implements Meter<SilenceResult> {
       longestInternalGapStartFrame: this.longestGapStart,
       channels,
       all: totals(n),
-      events: this.log.events,
-      eventsTotal: this.log.total,
-      eventsTruncated: this.log.truncated,
+      ...this.log.list(),
     };
     return this.finished;
   }

@@ -17,8 +17,9 @@
 
 import type { Meter, PcmBlock, StreamInfo } from './audio.ts';
 import { ENVELOPE_CHUNK_FRAMES, EnvelopeBuilder } from './envelope.ts';
-import type { AnalysisEvent } from './events.ts';
+import type { EventList } from './events.ts';
 import { OverLog } from './overs.ts';
+import { amplitudeToDb, dbToAmplitude } from './units.ts';
 
 /** BS.1770-5 Annex 2, section 3: phase 0 and phase 1 of the example filter. */
 export const ANNEX2_PHASE0 = [
@@ -58,15 +59,14 @@ export interface TruePeakOptions {
   maxEvents?: number;
 }
 
-export interface TruePeakResult {
+/** Over events ('true_peak_over', merged; by start, then channel) in `events`. */
+export interface TruePeakResult extends EventList {
   /** Per channel, dBTP; null for digital silence. */
   channelTruePeakDbtp: (number | null)[];
   truePeakDbtp: number | null;
   /** Time (s) of the programme's true peak, to the input sample. */
   truePeakAtSeconds: number | null;
   overCeilingDbtp: number;
-  overs: AnalysisEvent[];
-  oversTotal: number;
   /** Input samples whose interpolation was skipped by the exact bound (for benchmarks). */
   prunedFrames: number;
 }
@@ -97,7 +97,7 @@ export class TruePeakMeter implements Meter<TruePeakResult> {
     this.channels = info.channels;
     this.sampleRate = info.sampleRate;
     this.ceilingDbtp = options.overCeilingDbtp ?? -1;
-    this.ceilingLinear = Math.pow(10, this.ceilingDbtp / 20);
+    this.ceilingLinear = dbToAmplitude(this.ceilingDbtp);
     this.mergeFrames = Math.round((options.overMergeSeconds ?? 0.05) * info.sampleRate);
     this.maxima = new Float64Array(info.channels);
     this.maxFrame = new Float64Array(info.channels);
@@ -202,18 +202,16 @@ export class TruePeakMeter implements Meter<TruePeakResult> {
   }
 
   result(): TruePeakResult {
-    const { overs, oversTotal } = this.overLog.finish();
-    const toDb = (v: number) => (v > 0 ? 20 * Math.log10(v) : null);
+    const overs = this.overLog.finish();
     let best = -1;
     for (let c = 0; c < this.channels; c++) if (best < 0 || this.maxima[c] > this.maxima[best]) best = c;
     const programme = best >= 0 ? this.maxima[best] : 0;
     return {
-      channelTruePeakDbtp: Array.from(this.maxima, toDb),
-      truePeakDbtp: toDb(programme),
+      channelTruePeakDbtp: Array.from(this.maxima, amplitudeToDb),
+      truePeakDbtp: amplitudeToDb(programme),
       truePeakAtSeconds: programme > 0 ? this.maxFrame[best] / this.sampleRate : null,
       overCeilingDbtp: this.ceilingDbtp,
-      overs,
-      oversTotal,
+      ...overs,
       prunedFrames: this.pruned,
     };
   }

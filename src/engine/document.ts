@@ -2,7 +2,7 @@
 // carry their unit. A level of digital silence is null (JSON has no -Infinity).
 
 import type { AnalysisEvent, EventKind } from '../analysis/events.ts';
-import type { Measurements } from '../analysis/runner.ts';
+import { isEventList, METER_NAMES, METERS, type Measurements } from '../analysis/runner.ts';
 import type { AudioFormat, DecodeWarning } from '../decode/types.ts';
 
 export const ENGINE_NAME = 'earmark';
@@ -161,6 +161,30 @@ function seriesPoints(lufs: Float64Array, first: number, step: number): (number 
   return points;
 }
 
+/**
+ * Every meter's events in one list by start, then channel (ties keep the registry's meter order),
+ * cut at MAX_DOCUMENT_EVENTS. Counts go in each meter's countOrder (runner.ts METERS): a meter of
+ * one kind counts every event it found; a meter of several counts the kinds of those it kept (its
+ * eventsTruncated says when that is short).
+ */
+function collectEvents(m: Measurements): Pick<AnalysisDocument, 'events' | 'eventCounts' | 'eventsTruncated'> {
+  const lists = METER_NAMES.flatMap((name) => {
+    const result = m[name];
+    const contract = METERS[name].events;
+    return contract && isEventList(result) ? [{ ...contract, list: result }] : [];
+  });
+  const all = lists.flatMap(({ list }) => list.events)
+    .sort((a, b) => a.startFrame - b.startFrame || (a.channel ?? -1) - (b.channel ?? -1));
+  const eventCounts: Partial<Record<EventKind, number>> = {};
+  const countKind = (kind: EventKind, n: number) => { if (n > 0) eventCounts[kind] = (eventCounts[kind] ?? 0) + n; };
+  for (const { kinds, list } of [...lists].sort((a, b) => a.countOrder - b.countOrder)) {
+    if (kinds.length === 1) countKind(kinds[0], list.eventsTotal);
+    else for (const e of list.events) countKind(e.kind, 1);
+  }
+  const truncated = all.length > MAX_DOCUMENT_EVENTS || lists.some(({ list }) => list.eventsTruncated);
+  return { events: all.slice(0, MAX_DOCUMENT_EVENTS), eventCounts, eventsTruncated: truncated };
+}
+
 export function buildAnalysisDocument(
   format: AudioFormat,
   m: Measurements,
@@ -169,23 +193,7 @@ export function buildAnalysisDocument(
   analysisSeconds: number,
 ): AnalysisDocument {
   const rate = format.sampleRate;
-  const allEvents = [
-    ...m.loudness.events, ...m.truePeak.overs, ...m.reconstructedPeak.overs, ...m.clipping.events, ...m.dropouts.events,
-    ...m.silence.events, ...m.channelRelations.events,
-  ]
-    .sort((a, b) => a.startFrame - b.startFrame || (a.channel ?? -1) - (b.channel ?? -1));
-  const eventCounts: Partial<Record<EventKind, number>> = {};
-  const countKind = (kind: EventKind, n: number) => { if (n > 0) eventCounts[kind] = (eventCounts[kind] ?? 0) + n; };
-  countKind('true_peak_over', m.truePeak.oversTotal);
-  countKind('reconstructed_over', m.reconstructedPeak.oversTotal);
-  countKind('dropout', m.dropouts.eventsTotal);
-  for (const e of m.loudness.events) countKind(e.kind, 1);
-  countKind('clipping', m.clipping.eventsTotal);
-  countKind('silence', m.silence.eventsTotal);
-  for (const e of m.channelRelations.events) countKind(e.kind, 1);
-  const relationsOverflow = m.channelRelations.eventsTotal - m.channelRelations.events.length;
-  const truncated = allEvents.length > MAX_DOCUMENT_EVENTS || m.loudness.eventsTotal > m.loudness.events.length || m.truePeak.oversTotal > m.truePeak.overs.length
-    || m.reconstructedPeak.oversTotal > m.reconstructedPeak.overs.length || m.dropouts.eventsTruncated || m.clipping.eventsTruncated || m.silence.eventsTruncated || relationsOverflow > 0;
+  const { events, eventCounts, eventsTruncated } = collectEvents(m);
   const dead = new Set(m.channelRelations.deadChannels);
   return {
     schemaVersion: DOCUMENT_SCHEMA_VERSION,
@@ -217,8 +225,8 @@ export function buildAnalysisDocument(
       allSilent: m.silence.allSilent,
       clippingRuns: m.clipping.totalRuns,
       clippedSamples: m.clipping.totalClippedSamples,
-      truePeakOvers: m.truePeak.oversTotal,
-      reconstructedOvers: m.reconstructedPeak.oversTotal,
+      truePeakOvers: m.truePeak.eventsTotal,
+      reconstructedOvers: m.reconstructedPeak.eventsTotal,
       dropouts: m.dropouts.eventsTotal,
       allChannelDropouts: m.dropouts.all.dropouts,
       deadChannels: m.channelRelations.deadChannels,
@@ -249,9 +257,9 @@ export function buildAnalysisDocument(
       };
     }),
     channelPairs: m.channelRelations.pairs,
-    events: allEvents.slice(0, MAX_DOCUMENT_EVENTS),
+    events,
     eventCounts,
-    eventsTruncated: truncated,
+    eventsTruncated,
     series: {
       momentary: { pointsPerSecond: 10, firstAtSeconds: 0.1, lufs: seriesPoints(m.loudness.momentaryLufs, 0, 1) },
       // The 10 Hz short-term series at whole seconds (its 10th value ends at 1 s).

@@ -5,7 +5,7 @@
 // has a fixed number of slots, so memory stays flat with duration.
 import { Worker } from 'node:worker_threads';
 import type { PcmBlock, StreamInfo } from '../analysis/audio.ts';
-import { AnalysisRunner, METER_NAMES, type AnalysisOptions, type Measurements, type MeterName } from '../analysis/runner.ts';
+import { AnalysisRunner, isCompleteMeasurements, METER_NAMES, METERS, type AnalysisOptions, type Measurements, type MeterName } from '../analysis/runner.ts';
 import { EarmarkError, fromWireError } from '../errors/index.ts';
 import { EnvelopeBuilder } from '../analysis/envelope.ts';
 import { BlockRing, createRing } from './block-ring.ts';
@@ -13,12 +13,8 @@ import type { FromWorker, MeterThreadData } from './parallel-worker.ts';
 
 /** The decoders' default largest block (decode/types.ts DEFAULT_MAX_BLOCK_FRAMES). */
 const DEFAULT_RING_FRAMES = 65536;
-/** Cost per stereo audio minute (ms), each meter's time in a one-thread run of the 60-minute
- * benchmark file. */
-const COST: Record<MeterName, number> = {
-  loudness: 18, timeWeighted: 6, truePeak: 5.3, reconstructedPeak: 5.4, channelRelations: 4.5, levels: 2.6, silence: 2.3, dropouts: 2, clipping: 0.5,
-};
-/** The main thread decodes into the ring (10.5) and builds the shared envelope (2). */
+/** In ms per stereo audio minute, as each meter's costMsPerMinute (runner.ts METERS): the main
+ * thread decodes into the ring (10.5) and builds the shared envelope (2). */
 const MAIN_THREAD_COST = 12.5;
 /** A worker's first meter reads each block from the other core's cache: measured as about 1.5. */
 const WORKER_THREAD_COST = 1.5;
@@ -35,7 +31,7 @@ function startWorker(workerData: MeterThreadData): Worker {
 /** Load of each thread for an assignment of meters to threads (thread 0 is the main thread). */
 function loads(assignment: number[], threads: number): number[] {
   const load = Array.from({ length: threads }, (_, i) => (i === 0 ? MAIN_THREAD_COST : 0));
-  METER_NAMES.forEach((name, m) => { load[assignment[m]] += COST[name]; });
+  METER_NAMES.forEach((name, m) => { load[assignment[m]] += METERS[name].costMsPerMinute; });
   // A worker thread with no meters is not started (meterGroups drops it).
   return load.map((l, t) => (t > 0 && l > 0 ? l + WORKER_THREAD_COST : l));
 }
@@ -98,6 +94,12 @@ class MeterThread {
   close(): Promise<number> { return this.worker.terminate(); }
 }
 
+/** The one thread's result for a meter (each meter runs on exactly one thread). */
+function take<K extends MeterName>(into: Partial<Measurements>, name: K, parts: readonly Partial<Measurements>[]): void {
+  const result = parts.find((p) => p[name] !== undefined)?.[name];
+  if (result !== undefined) into[name] = result;
+}
+
 export interface ParallelRunnerOptions {
   /** Largest block that will be pushed (the decoder's maxBlockFrames); sizes the shared ring. */
   maxBlockFrames?: number;
@@ -143,10 +145,11 @@ export class ParallelAnalysisRunner {
   async result(): Promise<Measurements> {
     this.ring?.finish();
     const parts = [this.main.partialResult(), ...(await Promise.all(this.threads.map((t) => t.result())))] as Partial<Measurements>[];
-    const merged: Record<string, unknown> = { frames: parts[0].frames };
-    // Fields in the serial runner's order, so documents serialise identically.
-    for (const name of METER_NAMES) merged[name] = parts.find((p) => name in p)?.[name];
-    return merged as unknown as Measurements;
+    const merged: Partial<Measurements> = { frames: parts[0].frames };
+    // Fields in the serial runner's order, so the two serialise identically.
+    for (const name of METER_NAMES) take(merged, name, parts);
+    if (!isCompleteMeasurements(merged)) throw new EarmarkError('internal_error', 'the analysis threads returned no result for some meter');
+    return merged;
   }
 
   async close(): Promise<void> {

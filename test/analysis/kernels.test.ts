@@ -11,6 +11,7 @@ import { BALLISTICS_CHUNK_FRAMES, BallisticsKernel, type BallisticsPoles } from 
 import { RECONSTRUCTION_KERNEL_FRAMES } from '../../src/analysis/kernels/reconstructed-peak.ts';
 import { ReconstructedPeakMeter } from '../../src/analysis/reconstructed-peak.ts';
 import { ReconstructedPeakMeter as PreKernelMeter } from '../helpers/reference-meters/reconstructed-peak-baseline.ts';
+import { KERNEL_MEMORY } from '../../src/analysis/kernels/memory.ts';
 
 /** The JavaScript loop the ballistics kernel replaced: one chunk's four sums, two frames a step. */
 function scalarChunkSums(p: BallisticsPoles, x: Float32Array, from: number): number[] {
@@ -80,6 +81,26 @@ describe('WebAssembly kernels', () => {
       'decode/kernels/s24-stereo.wat',
     ]);
     for (const wat of sources) expect(readFileSync(wat.replace(/\.wat$/, '.wasm.ts'), 'utf8')).toBe(await kernelModuleText(wat));
+  });
+
+  it('lay out their memory as the loaders\' table says (the .wat comment names each region, the code addresses it)', () => {
+    const dir = KERNEL_DIRS.find((d) => d.endsWith(join('analysis', 'kernels')))!;
+    const wats = readdirSync(dir).filter((f) => f.endsWith('.wat')).map((f) => f.replace(/\.wat$/, ''));
+    expect(wats.sort()).toEqual(Object.keys(KERNEL_MEMORY).sort());
+    for (const [name, regions] of Object.entries(KERNEL_MEMORY)) {
+      const lines = readFileSync(join(dir, `${name}.wat`), 'utf8').split('\n');
+      const comment = lines.filter((l) => l.startsWith(';;'));
+      const memoryAt = comment.findIndex((l) => l.includes('Memory (bytes'));
+      // The comment's regions: NAME offset pairs from the Memory line up to the blank comment line after it.
+      const end = comment.findIndex((l, i) => i > memoryAt && l.trim() === ';;');
+      const commented = Object.fromEntries([...comment.slice(memoryAt, end < 0 ? undefined : end).join(' ')
+        .matchAll(/\b([A-Z][A-Z0-9_]*) +(\d+)\b/g)].map(([, region, offset]) => [region, Number(offset)]));
+      expect(commented, name).toEqual(regions);
+      const code = lines.filter((l) => !l.trimStart().startsWith(';;')).join('\n');
+      for (const [region, offset] of Object.entries(regions)) {
+        if (offset > 0) expect(code, `${name} ${region}`).toMatch(new RegExp(`(i32\\.const |offset=)${offset}\\b`));
+      }
+    }
   });
 
   it('24-bit stereo conversion equals the scalar formula for every sample (extremes, odd counts, several calls)', () => {
@@ -165,7 +186,7 @@ describe('WebAssembly kernels', () => {
         from = to;
       }
       const [a, b] = [kernel.result(), loop.result()];
-      expect(a.oversTotal).toBeGreaterThan(2 * frames);
+      expect(a.eventsTotal).toBeGreaterThan(2 * frames);
       expect({ ...a, prunedFrames: 0 }).toEqual({ ...b, prunedFrames: 0 });
     }
   });

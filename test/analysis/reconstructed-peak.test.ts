@@ -250,19 +250,19 @@ describe('ReconstructedPeakMeter: behaviour', () => {
     for (const start of [4800, 6240, 19200]) x.set(sine(48000, 12000, 1.2, Math.PI / 4, 480, 100), start);
     const overFrames = frameReadings(x).filter((v) => db(v) > -1).length;
     const merged = measure([x], 48000, { overCeilingDbtp: -1 });
-    expect(merged.overs.map((e) => [e.kind, e.channel])).toEqual([['reconstructed_over', 0], ['reconstructed_over', 0]]);
-    expect(merged.overs[0].startSeconds).toBeGreaterThan(0.1);
-    expect(merged.overs[0].endSeconds).toBeLessThan(0.141);
-    expect(merged.overs[1].startSeconds).toBeGreaterThan(0.4);
-    expect(merged.overs.reduce((s, e) => s + e.count!, 0)).toBe(overFrames);
-    for (const e of merged.overs) expect(Math.abs(e.peakValue! - db(1.2))).toBeLessThan(0.05);
-    expect(merged.oversTotal).toBe(2);
+    expect(merged.events.map((e) => [e.kind, e.channel])).toEqual([['reconstructed_over', 0], ['reconstructed_over', 0]]);
+    expect(merged.events[0].startSeconds).toBeGreaterThan(0.1);
+    expect(merged.events[0].endSeconds).toBeLessThan(0.141);
+    expect(merged.events[1].startSeconds).toBeGreaterThan(0.4);
+    expect(merged.events.reduce((s, e) => s + e.count!, 0)).toBe(overFrames);
+    for (const e of merged.events) expect(Math.abs(e.peakValue! - db(1.2))).toBeLessThan(0.05);
+    expect(merged.eventsTotal).toBe(2);
     expect(merged.peakAtSeconds!).toBeGreaterThan(0.1);
     const apart = measure([x], 48000, { overCeilingDbtp: -1, overMergeSeconds: 0.01 });
-    expect(apart.overs).toHaveLength(3);
+    expect(apart.events).toHaveLength(3);
     const capped = measure([x], 48000, { overCeilingDbtp: -1, overMergeSeconds: 0.01, maxEvents: 1 });
-    expect([capped.overs.length, capped.oversTotal]).toEqual([1, 3]);
-    expect(measure([x], 48000, { overCeilingDbtp: 2 }).overs).toEqual([]);
+    expect([capped.events.length, capped.eventsTotal]).toEqual([1, 3]);
+    expect(measure([x], 48000, { overCeilingDbtp: 2 }).events).toEqual([]);
   });
 });
 
@@ -324,7 +324,7 @@ describe('ReconstructedPeakMeter: the WebAssembly kernel changes no reading', ()
     const options = { overCeilingDbtp: -200, overMergeSeconds: -1, maxEvents: 1e6 };
     for (const sizes of [[1 << 20], [16383, 7]]) {
       const result = expectSameAsPreKernel([x, x.map((v) => v / 8)], 48000, options, sizes, `per frame ${sizes.join(',')}`);
-      expect(result.oversTotal).toBe(2 * 20000);
+      expect(result.eventsTotal).toBe(2 * 20000);
       expect(result.prunedFrames).toBe(0);
     }
   });

@@ -40,10 +40,10 @@ describe('TruePeakMeter (ITU-R BS.1770-5 Annex 2)', () => {
     const meter = new TruePeakMeter(info(1), { overCeilingDbtp: ceilingDbtp, overMergeSeconds: 0, maxEvents: 1e6 });
     meter.push(block);
     const result = meter.result();
-    const counted = result.overs.reduce((s, e) => s + (e.count ?? 0), 0);
+    const counted = result.events.reduce((s, e) => s + (e.count ?? 0), 0);
     expect(overSamples).toBeGreaterThan(0);
     expect(counted).toBe(overSamples);
-    expect(result.overs.every((e) => e.kind === 'true_peak_over' && e.peakValue! > ceilingDbtp)).toBe(true);
+    expect(result.events.every((e) => e.kind === 'true_peak_over' && e.peakValue! > ceilingDbtp)).toBe(true);
   });
 
   it('never reads below the sample peak, and reads an intersample over above 0 dBTP (BS.1770-5 Annex 2)', () => {

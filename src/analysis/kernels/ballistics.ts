@@ -1,7 +1,10 @@
 // The time-weighted level meter's per-chunk sums by the WebAssembly kernel in ballistics.wat: two
 // sequences (lanes A and B) per call, each lane the JavaScript two-frames-a-step loop to the bit.
 import { instantiateKernel } from './instantiate.ts';
+import { KERNEL_MEMORY } from './memory.ts';
 import { WASM_BASE64 } from './ballistics.wasm.ts';
+
+const MEMORY = KERNEL_MEMORY.ballistics;
 
 /** Frames the closed form takes at once (ballistics.ts CHUNK). */
 export const BALLISTICS_CHUNK_FRAMES = 64;
@@ -24,9 +27,9 @@ export class BallisticsKernel {
   constructor(private readonly poles: BallisticsPoles) {
     const exports = instantiateKernel<{ chunkSums: (chunks: number, ...poles: number[]) => void }>(WASM_BASE64);
     const buffer = exports.memory.buffer;
-    this.laneA = new Float32Array(buffer, 0, BALLISTICS_KERNEL_FRAMES);
-    this.laneB = new Float32Array(buffer, 65536, BALLISTICS_KERNEL_FRAMES);
-    this.sums = new Float64Array(buffer, 131072, 8 * (BALLISTICS_KERNEL_FRAMES / BALLISTICS_CHUNK_FRAMES));
+    this.laneA = new Float32Array(buffer, MEMORY.A, BALLISTICS_KERNEL_FRAMES);
+    this.laneB = new Float32Array(buffer, MEMORY.B, BALLISTICS_KERNEL_FRAMES);
+    this.sums = new Float64Array(buffer, MEMORY.OUT, 8 * (BALLISTICS_KERNEL_FRAMES / BALLISTICS_CHUNK_FRAMES));
     this.chunkSums = exports.chunkSums;
   }
 

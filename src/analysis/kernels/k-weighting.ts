@@ -5,16 +5,12 @@
 
 import type { Biquad } from '../k-weighting.ts';
 import { instantiateKernel } from './instantiate.ts';
+import { KERNEL_MEMORY } from './memory.ts';
 import { WASM_BASE64 } from './k-weighting.wasm.ts';
 
 /** Frames per kernel call; a block is filtered in pieces of at most this many. */
 export const KERNEL_FRAMES = 16384;
-const IN_A = 0;
-const IN_B = 65536;
-const POWER = 131072;
-const COEF = 262144;
-const WINDOW = 262208;
-const PAIRS = 262272;
+const { IN_A, IN_B, POWER, COEF, WINDOW, PAIRS } = KERNEL_MEMORY['k-weighting'];
 const PAIR_BYTES = 80;
 const PAGE_BYTES = 65536;
 

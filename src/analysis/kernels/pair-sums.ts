@@ -1,7 +1,10 @@
 // The first channel pair's window sums (a*a, b*b, a*b) by the WebAssembly kernel in
 // pair-sums.wat: the scalar loop's sums to the bit, the squares two per instruction.
 import { instantiateKernel } from './instantiate.ts';
+import { KERNEL_MEMORY } from './memory.ts';
 import { WASM_BASE64 } from './pair-sums.wasm.ts';
+
+const MEMORY = KERNEL_MEMORY['pair-sums'];
 
 /** Frames per kernel call. */
 export const PAIR_SUMS_FRAMES = 16384;
@@ -15,9 +18,9 @@ export class PairSumsKernel {
 
   constructor() {
     const exports = instantiateKernel<{ pairSums: (frames: number) => void }>(WASM_BASE64);
-    this.a = new Float32Array(exports.memory.buffer, 0, PAIR_SUMS_FRAMES);
-    this.b = new Float32Array(exports.memory.buffer, 65536, PAIR_SUMS_FRAMES);
-    this.sums = new Float64Array(exports.memory.buffer, 131072, 3);
+    this.a = new Float32Array(exports.memory.buffer, MEMORY.A, PAIR_SUMS_FRAMES);
+    this.b = new Float32Array(exports.memory.buffer, MEMORY.B, PAIR_SUMS_FRAMES);
+    this.sums = new Float64Array(exports.memory.buffer, MEMORY.SQUARES, 3);
     this.run = exports.pairSums;
   }
 

@@ -5,20 +5,14 @@
 // (test/analysis/kernels.test.ts); V8 does not vectorise JavaScript.
 
 import { instantiateKernel } from './instantiate.ts';
+import { KERNEL_MEMORY } from './memory.ts';
 import { WASM_BASE64 } from './reconstructed-peak.wasm.ts';
 
 /** Frames per call; a whole number of envelope chunks. */
 export const RECONSTRUCTION_KERNEL_FRAMES = 16384;
 /** Input frames kept before each piece (the .wat's X[0, 36)). */
 export const RECONSTRUCTION_HISTORY_FRAMES = 36;
-const IN = 0;
-const ENV = 65536;
-const C1 = 67584;
-const C2 = 68096;
-const STATE = 68352;
-const X = 68608;
-const OVER_FRAMES = 331776;
-const OVER_PEAKS = 397312;
+const { IN, ENV, C1, C2, ST: STATE, X, OE: OVER_FRAMES, OP: OVER_PEAKS } = KERNEL_MEMORY['reconstructed-peak'];
 
 /** The state slots one channel carries between calls, in the .wat's order. */
 export const CHANNEL_SLOTS = 5;

@@ -110,8 +110,9 @@ export class ReconstructedPeakMeter implements Meter<ReconstructedPeakResult> {
       peakAtSeconds: programme > 0 ? maxFrames[best] / rate : null,
       overCeilingDbtp: ceilingDbtp,
       // Past the cap the earliest events are kept; the count goes on.
-      overs: overs.slice(0, this.options.maxEvents ?? 10_000),
-      oversTotal: overs.length,
+      events: overs.slice(0, this.options.maxEvents ?? 10_000),
+      eventsTotal: overs.length,
+      eventsTruncated: overs.length > (this.options.maxEvents ?? 10_000),
       prunedFrames: 0,
     };
   }

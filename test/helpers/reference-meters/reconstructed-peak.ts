@@ -116,8 +116,9 @@ export class ReconstructedPeakMeter implements Meter<ReconstructedPeakResult> {
       peakDbtp: toDb(programme),
       peakAtSeconds: programme > 0 ? frames[best] / this.info.sampleRate : null,
       overCeilingDbtp: this.ceilingDbtp,
-      overs: [...log.events].sort((a, b) => a.startFrame - b.startFrame || (a.channel ?? 0) - (b.channel ?? 0)),
-      oversTotal: log.total,
+      events: [...log.events].sort((a, b) => a.startFrame - b.startFrame || (a.channel ?? 0) - (b.channel ?? 0)),
+      eventsTotal: log.total,
+      eventsTruncated: log.truncated,
       prunedFrames: 0,
     };
   }
