@@ -6,8 +6,6 @@ import { EnvelopeBuilder } from './envelope.ts';
 import { SUMS_KERNEL_FRAMES, SumsKernel } from './kernels/sums.ts';
 import { amplitudeToDb, powerToDb } from './units.ts';
 
-// For the reference meters in test/helpers, which import the conversions from here.
-export { amplitudeToDb, powerToDb } from './units.ts';
 
 /** 20 log10(2^0.5): AES17 references RMS to a full-scale sine, so it reads this much higher. */
 export const AES17_OFFSET_DB = 10 * Math.log10(2);

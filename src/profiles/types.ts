@@ -4,6 +4,7 @@
 // is current.
 
 import type { ChannelLabel } from '../analysis/audio.ts';
+import { DEFAULT_PHASE_THRESHOLD } from '../analysis/channel-relations.ts';
 import type { Container } from '../decode/types.ts';
 
 export type Severity = 'fail' | 'warn';
@@ -182,5 +183,5 @@ export interface Profile {
 
 /** Clipping defaults: 3 samples within 0.01 dB of full scale (common practice, see analysis/clipping.ts). */
 export const DEFAULT_MAX_CLIP_RUNS = 0;
-/** Phase rule default: the same -0.5 as the analysis's own default (analysis/channel-relations.ts). */
-export const DEFAULT_PHASE_MIN_CORRELATION = -0.5;
+/** The phase rule's default is the meter's own threshold, so a profile and a bare analysis agree. */
+export const DEFAULT_PHASE_MIN_CORRELATION = DEFAULT_PHASE_THRESHOLD;
