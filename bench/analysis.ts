@@ -41,16 +41,29 @@ async function benchFile(minutes: number, channels = 2): Promise<string> {
   console.log(`generating ${path} (once) ...`);
   const partial = `${path}.partial`;
   const blocks = (function* () {
-    for (const block of programmeBlocks({ sampleRate, channels, seconds: minutes * 60, seed: 2026, blockFrames: 1 << 16 })) {
+    for (const block of programmeBlocks({
+      sampleRate,
+      channels,
+      seconds: minutes * 60,
+      seed: 2026,
+      blockFrames: 1 << 16,
+    })) {
       yield block.channelData as Float32Array[];
     }
   })();
-  await writeWavFile(partial, { sampleRate, channels, bitsPerSample: 24, float: false, ...(channels === 6 ? { channelMask: 0x3f } : {}) }, blocks);
+  await writeWavFile(
+    partial,
+    { sampleRate, channels, bitsPerSample: 24, float: false, ...(channels === 6 ? { channelMask: 0x3f } : {}) },
+    blocks,
+  );
   await rename(partial, path);
   return path;
 }
 
-interface RunFigures { seconds: number; maxRssMb: number }
+interface RunFigures {
+  seconds: number;
+  maxRssMb: number;
+}
 
 /** Wall time of a reference command. */
 function timed(command: string, args: string[]): Promise<RunFigures> {
@@ -60,7 +73,10 @@ function timed(command: string, args: string[]): Promise<RunFigures> {
     child.on('error', reject);
     child.on('exit', (code) => {
       const seconds = (performance.now() - started) / 1000;
-      if (code !== 0) { reject(new Error(`${command} exited ${code}`)); return; }
+      if (code !== 0) {
+        reject(new Error(`${command} exited ${code}`));
+        return;
+      }
       resolve({ seconds, maxRssMb: Number.NaN });
     });
   });
@@ -76,13 +92,20 @@ if (built.status !== 0) throw new Error('npm run build failed');
 function earmarkRun(file: string, threads = 1): Promise<RunFigures> {
   return new Promise((resolve, reject) => {
     const started = performance.now();
-    const child = spawn(process.execPath, [ANALYZE_ONCE, file, String(threads)], { stdio: ['ignore', 'pipe', 'inherit'] });
+    const child = spawn(process.execPath, [ANALYZE_ONCE, file, String(threads)], {
+      stdio: ['ignore', 'pipe', 'inherit'],
+    });
     let output = '';
-    child.stdout.on('data', (chunk: Buffer) => { output += chunk.toString(); });
+    child.stdout.on('data', (chunk: Buffer) => {
+      output += chunk.toString();
+    });
     child.on('error', reject);
     child.on('exit', (code) => {
       const seconds = (performance.now() - started) / 1000;
-      if (code !== 0) { reject(new Error(`analysis exited ${code}`)); return; }
+      if (code !== 0) {
+        reject(new Error(`analysis exited ${code}`));
+        return;
+      }
       const figures = JSON.parse(output) as { maxRssKb: number };
       resolve({ seconds, maxRssMb: figures.maxRssKb / 1024 });
     });
@@ -97,7 +120,17 @@ async function encoded(wav: string, extension: 'flac' | 'mp3'): Promise<string> 
   if (existsSync(path)) return path;
   const codec = extension === 'flac' ? ['-c:a', 'flac'] : ['-c:a', 'libmp3lame', '-b:a', '320k'];
   const partial = `${path}.partial.${extension}`;
-  const done = spawnSync('ffmpeg', ['-nostdin', '-hide_banner', '-loglevel', 'error', '-y', '-i', wav, ...codec, partial]);
+  const done = spawnSync('ffmpeg', [
+    '-nostdin',
+    '-hide_banner',
+    '-loglevel',
+    'error',
+    '-y',
+    '-i',
+    wav,
+    ...codec,
+    partial,
+  ]);
   if (done.status !== 0) throw new Error(`ffmpeg could not encode ${extension}: ${done.stderr}`);
   await rename(partial, path);
   return path;
@@ -111,15 +144,22 @@ async function main(): Promise<void> {
   const { size } = await stat(file);
   const audioSeconds = minutes * 60;
   const hasFfmpeg = spawnSync('ffmpeg', ['-version']).status === 0;
-  console.log(`file: ${file} (${(size / 2 ** 20).toFixed(0)} MiB, ${minutes} min); ${runs} alternating runs${hasFfmpeg ? ' beside ffmpeg' : ' (ffmpeg not on PATH)'}`);
+  console.log(
+    `file: ${file} (${(size / 2 ** 20).toFixed(0)} MiB, ${minutes} min); ${runs} alternating runs${hasFfmpeg ? ' beside ffmpeg' : ' (ffmpeg not on PATH)'}`,
+  );
   const ours: RunFigures[] = [];
   const oursTwo: RunFigures[] = [];
   const theirs: RunFigures[] = [];
   for (let i = 0; i < runs; i++) {
     ours.push(await earmarkRun(file));
     oursTwo.push(await earmarkRun(file, 2));
-    if (hasFfmpeg) theirs.push(await timed('ffmpeg', ['-nostdin', '-hide_banner', '-i', file, '-af', 'ebur128=peak=true', '-f', 'null', '-']));
-    console.log(`  run ${i + 1}: earmark ${ours[i].seconds.toFixed(2)} s, two threads ${oursTwo[i].seconds.toFixed(2)} s${hasFfmpeg ? `, ffmpeg ebur128 ${theirs[i].seconds.toFixed(2)} s` : ''}`);
+    if (hasFfmpeg)
+      theirs.push(
+        await timed('ffmpeg', ['-nostdin', '-hide_banner', '-i', file, '-af', 'ebur128=peak=true', '-f', 'null', '-']),
+      );
+    console.log(
+      `  run ${i + 1}: earmark ${ours[i].seconds.toFixed(2)} s, two threads ${oursTwo[i].seconds.toFixed(2)} s${hasFfmpeg ? `, ffmpeg ebur128 ${theirs[i].seconds.toFixed(2)} s` : ''}`,
+    );
   }
   const oursSeconds = median(ours.map((r) => r.seconds));
   const twoSeconds = median(oursTwo.map((r) => r.seconds));
@@ -130,16 +170,20 @@ async function main(): Promise<void> {
   // Peak RSS against duration: the median of RSS_RUNS runs per file, the files alternating (one
   // run's peak moves by a few MB with the garbage collector's timing, as much as the difference sought).
   const rssFiles: [string, string][] = [[`${minutes} min`, file]];
-  for (const m of [shortMinutes, ...(longMinutes ? [longMinutes] : [])]) if (m !== minutes) rssFiles.push([`${m} min`, await benchFile(m)]);
+  for (const m of [shortMinutes, ...(longMinutes ? [longMinutes] : [])])
+    if (m !== minutes) rssFiles.push([`${m} min`, await benchFile(m)]);
   if (surroundMinutes) rssFiles.push(['5.1', await benchFile(surroundMinutes, 6)]);
   const rssRuns = new Map<string, number[]>(rssFiles.map(([label]) => [label, []]));
   for (let i = 0; i < RSS_RUNS; i++) {
     for (const [label, path] of rssFiles) rssRuns.get(label)!.push((await earmarkRun(path)).maxRssMb);
   }
   const rssOf = (label: string) => median(rssRuns.get(label)!);
-  console.log(`peak RSS, MB, ${RSS_RUNS} runs each: ${[...rssRuns].map(([label, v]) => `${label} ${v.map((x) => x.toFixed(1)).join(' / ')}`).join('; ')}`);
+  console.log(
+    `peak RSS, MB, ${RSS_RUNS} runs each: ${[...rssRuns].map(([label, v]) => `${label} ${v.map((x) => x.toFixed(1)).join(' / ')}`).join('; ')}`,
+  );
   const rssByMinutes: [number, number][] = [[minutes, rssOf(`${minutes} min`)]];
-  for (const m of [shortMinutes, ...(longMinutes ? [longMinutes] : [])]) if (m !== minutes) rssByMinutes.push([m, rssOf(`${m} min`)]);
+  for (const m of [shortMinutes, ...(longMinutes ? [longMinutes] : [])])
+    if (m !== minutes) rssByMinutes.push([m, rssOf(`${m} min`)]);
   const shortRss = rssByMinutes.find(([m]) => m === shortMinutes)?.[1] ?? peakRss;
   const surroundRss = surroundMinutes ? rssOf('5.1') : null;
 
@@ -158,22 +202,70 @@ async function main(): Promise<void> {
 
   console.log('');
   row('target', 'earmark', 'reference', 'ratio', 'goal');
-  row(`full analysis, one thread, ${minutes} min WAV (s)`, oursSeconds.toFixed(2), hasFfmpeg ? `${ffmpegSeconds.toFixed(2)} ffmpeg` : 'n/a',
-    hasFfmpeg ? (oursSeconds / ffmpegSeconds).toFixed(3) : 'n/a', '<= 0.25 of ffmpeg ebur128=peak=true');
-  row('  x realtime', `${(audioSeconds / oursSeconds).toFixed(0)}x`, hasFfmpeg ? `${(audioSeconds / ffmpegSeconds).toFixed(0)}x` : 'n/a', '', '');
-  row(`full analysis, two threads, ${minutes} min (s)`, twoSeconds.toFixed(2), hasFfmpeg ? `${ffmpegSeconds.toFixed(2)} ffmpeg` : 'n/a',
-    hasFfmpeg ? (twoSeconds / ffmpegSeconds).toFixed(3) : 'n/a', '<= 0.15 of ffmpeg');
+  row(
+    `full analysis, one thread, ${minutes} min WAV (s)`,
+    oursSeconds.toFixed(2),
+    hasFfmpeg ? `${ffmpegSeconds.toFixed(2)} ffmpeg` : 'n/a',
+    hasFfmpeg ? (oursSeconds / ffmpegSeconds).toFixed(3) : 'n/a',
+    '<= 0.25 of ffmpeg ebur128=peak=true',
+  );
+  row(
+    '  x realtime',
+    `${(audioSeconds / oursSeconds).toFixed(0)}x`,
+    hasFfmpeg ? `${(audioSeconds / ffmpegSeconds).toFixed(0)}x` : 'n/a',
+    '',
+    '',
+  );
+  row(
+    `full analysis, two threads, ${minutes} min (s)`,
+    twoSeconds.toFixed(2),
+    hasFfmpeg ? `${ffmpegSeconds.toFixed(2)} ffmpeg` : 'n/a',
+    hasFfmpeg ? (twoSeconds / ffmpegSeconds).toFixed(3) : 'n/a',
+    '<= 0.15 of ffmpeg',
+  );
   row('  x realtime', `${(audioSeconds / twoSeconds).toFixed(0)}x`, '', '', '');
   row(`peak RSS, ${minutes} min (MB)`, peakRss.toFixed(0), '100', (peakRss / 100).toFixed(2), '<= 1.00 of 100 MB');
-  row(`peak RSS, ${minutes} min, two threads (MB)`, twoRss.toFixed(0), '100', (twoRss / 100).toFixed(2), '<= 1.00 of 100 MB');
+  row(
+    `peak RSS, ${minutes} min, two threads (MB)`,
+    twoRss.toFixed(0),
+    '100',
+    (twoRss / 100).toFixed(2),
+    '<= 1.00 of 100 MB',
+  );
   for (const [m, rss] of rssByMinutes.slice(1).filter(([m]) => m !== shortMinutes)) {
-    row(`peak RSS, ${m} min vs ${shortMinutes} min (MB)`, rss.toFixed(1), shortRss.toFixed(1), (rss / shortRss).toFixed(3), 'within 10 %');
+    row(
+      `peak RSS, ${m} min vs ${shortMinutes} min (MB)`,
+      rss.toFixed(1),
+      shortRss.toFixed(1),
+      (rss / shortRss).toFixed(3),
+      'within 10 %',
+    );
   }
-  if (surroundMinutes && surroundRss !== null) row(`peak RSS, 5.1 ${surroundMinutes} min vs stereo ${shortMinutes} min (MB)`, surroundRss.toFixed(1), shortRss.toFixed(1), (surroundRss / shortRss).toFixed(3), 'within 10 %');
+  if (surroundMinutes && surroundRss !== null)
+    row(
+      `peak RSS, 5.1 ${surroundMinutes} min vs stereo ${shortMinutes} min (MB)`,
+      surroundRss.toFixed(1),
+      shortRss.toFixed(1),
+      (surroundRss / shortRss).toFixed(3),
+      'within 10 %',
+    );
   const longRss = rssOf(`${minutes} min`);
-  if (minutes !== shortMinutes) row(`peak RSS, ${minutes} min vs ${shortMinutes} min (MB)`, longRss.toFixed(1), shortRss.toFixed(1), (longRss / shortRss).toFixed(3), 'within 10 %');
+  if (minutes !== shortMinutes)
+    row(
+      `peak RSS, ${minutes} min vs ${shortMinutes} min (MB)`,
+      longRss.toFixed(1),
+      shortRss.toFixed(1),
+      (longRss / shortRss).toFixed(3),
+      'within 10 %',
+    );
   for (const [extension, realtime] of compressed) {
-    row(`${extension} decode + full analysis, ${shortMinutes} min`, `${realtime.toFixed(0)}x`, '', '', 'x realtime, reported');
+    row(
+      `${extension} decode + full analysis, ${shortMinutes} min`,
+      `${realtime.toFixed(0)}x`,
+      '',
+      '',
+      'x realtime, reported',
+    );
   }
 }
 
@@ -186,17 +278,21 @@ function meterCosts(): void {
   const seconds = 120;
   const info: StreamInfo = { sampleRate, channels: 2, channelLabels: ['L', 'R'] };
   const ceiling = 10 ** (-1 / 20);
-  const blocks: PcmBlock[] = [...programmeBlocks({ sampleRate, channels: 2, seconds, seed: 7, levelDbfs: -16 })].map((b) => ({
-    frames: b.frames,
-    channelData: b.channelData.map((x) => x.map((v) => Math.max(-ceiling, Math.min(ceiling, v * 4)))), // +12 dB into a hard limit at -1 dBFS
-  }));
+  const blocks: PcmBlock[] = [...programmeBlocks({ sampleRate, channels: 2, seconds, seed: 7, levelDbfs: -16 })].map(
+    (b) => ({
+      frames: b.frames,
+      channelData: b.channelData.map((x) => x.map((v) => Math.max(-ceiling, Math.min(ceiling, v * 4)))), // +12 dB into a hard limit at -1 dBFS
+    }),
+  );
   const meters: [string, () => Meter<unknown>][] = [
     ['true peak (BS.1770 Annex 2)', () => new TruePeakMeter(info)],
     ['reconstructed peak', () => new ReconstructedPeakMeter(info)],
     ['dropouts', () => new DropoutMeter(info)],
   ];
   console.log('');
-  console.log(`meter cost on a limited master (diagnostic: ${seconds} s in memory, ms per audio minute, least of 7 alternating rounds)`);
+  console.log(
+    `meter cost on a limited master (diagnostic: ${seconds} s in memory, ms per audio minute, least of 7 alternating rounds)`,
+  );
   const times = meters.map((): number[] => []);
   for (let round = 0; round < 7; round++) {
     meters.forEach(([, make], m) => {
@@ -207,7 +303,9 @@ function meterCosts(): void {
       times[m].push(performance.now() - started);
     });
   }
-  meters.forEach(([name], m) => console.log(`  ${name.padEnd(30)} ${((Math.min(...times[m]) * 60) / seconds).toFixed(1).padStart(7)}`));
+  meters.forEach(([name], m) =>
+    console.log(`  ${name.padEnd(30)} ${((Math.min(...times[m]) * 60) / seconds).toFixed(1).padStart(7)}`),
+  );
 }
 
 await main();

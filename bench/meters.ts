@@ -12,7 +12,11 @@ const [file, secondsArg, only] = process.argv.slice(2);
 const limitSeconds = Number(secondsArg ?? 120);
 const decodeStarted = performance.now();
 const decoded = await openAudioFile(file);
-const info: StreamInfo = { sampleRate: decoded.format.sampleRate, channels: decoded.format.channels, channelLabels: decoded.format.channelLabels };
+const info: StreamInfo = {
+  sampleRate: decoded.format.sampleRate,
+  channels: decoded.format.channels,
+  channelLabels: decoded.format.channelLabels,
+};
 const blocks: PcmBlock[] = [];
 let frames = 0;
 for await (const block of decoded.blocks) {
@@ -21,7 +25,9 @@ for await (const block of decoded.blocks) {
   if (frames >= limitSeconds * info.sampleRate) break;
 }
 const audioSeconds = frames / info.sampleRate;
-console.log(`${audioSeconds.toFixed(0)} s of audio decoded+copied in ${((performance.now() - decodeStarted) / 1000).toFixed(2)} s`);
+console.log(
+  `${audioSeconds.toFixed(0)} s of audio decoded+copied in ${((performance.now() - decodeStarted) / 1000).toFixed(2)} s`,
+);
 
 // Every registered meter by its registry name (runner.ts METERS), then the runner of them all.
 const makers: Record<string, () => Meter<unknown>> = {
@@ -31,10 +37,20 @@ const makers: Record<string, () => Meter<unknown>> = {
   'reconstructedPeak ref': () => new RefReconstructedPeak(info),
   'dropouts ref': () => new RefDropouts(info),
   // The shared pass alone (each meter above computes its own when pushed alone; the runner computes it once).
-  envelope: () => { const builder = new EnvelopeBuilder(); return { push: (b: PcmBlock) => { builder.build(b); }, result: () => null }; },
+  envelope: () => {
+    const builder = new EnvelopeBuilder();
+    return {
+      push: (b: PcmBlock) => {
+        builder.build(b);
+      },
+      result: () => null,
+    };
+  },
 };
 // A name picks that meter alone, else every meter whose name starts with it.
-if (only) for (const name of Object.keys(makers)) if (only in makers ? name !== only : !name.startsWith(only)) delete makers[name];
+if (only)
+  for (const name of Object.keys(makers))
+    if (only in makers ? name !== only : !name.startsWith(only)) delete makers[name];
 const times: Record<string, number[]> = {};
 for (let round = 0; round < 7; round++) {
   for (const [name, make] of Object.entries(makers)) {
@@ -52,5 +68,7 @@ function registryCost(name: string): string {
 }
 for (const [name, t] of Object.entries(times)) {
   const ms = Math.min(...t); // the least disturbed round: other processes share the cores
-  console.log(`${name.padEnd(11)} ${(ms * 60 / audioSeconds).toFixed(1).padStart(6)} ms per audio minute  ${(audioSeconds * 1000 / ms).toFixed(0).padStart(6)}x realtime${registryCost(name)}`);
+  console.log(
+    `${name.padEnd(11)} ${((ms * 60) / audioSeconds).toFixed(1).padStart(6)} ms per audio minute  ${((audioSeconds * 1000) / ms).toFixed(0).padStart(6)}x realtime${registryCost(name)}`,
+  );
 }

@@ -47,7 +47,8 @@ async function wavFile(name: string, seconds: number): Promise<string> {
   console.log(`generating ${path} (once) ...`);
   const partial = `${path}.partial`;
   const blocks = (function* () {
-    for (const block of programmeBlocks({ sampleRate, channels: 2, seconds, seed: 2026, blockFrames: 1 << 16 })) yield block.channelData as Float32Array[];
+    for (const block of programmeBlocks({ sampleRate, channels: 2, seconds, seed: 2026, blockFrames: 1 << 16 }))
+      yield block.channelData as Float32Array[];
   })();
   await writeWavFile(partial, { sampleRate, channels: 2, bitsPerSample: 24, float: false }, blocks);
   await rename(partial, path);
@@ -58,9 +59,15 @@ type Service = ServiceProcesses;
 
 function startService(prefix: string, workerCount: number): Promise<Service> {
   return startServiceProcesses({
-    redisUrl, prefix, workerCount,
+    redisUrl,
+    prefix,
+    workerCount,
     apiKeys: [{ key, tenant: 'bench', scopes: ['submit', 'read'] }],
-    env: { EARMARK_RATE_LIMIT_PER_MINUTE: '1000000', EARMARK_LOG_LEVEL: 'warn', EARMARK_UPLOAD_LIMIT_BYTES: String(8 * 1024 ** 3) },
+    env: {
+      EARMARK_RATE_LIMIT_PER_MINUTE: '1000000',
+      EARMARK_LOG_LEVEL: 'warn',
+      EARMARK_UPLOAD_LIMIT_BYTES: String(8 * 1024 ** 3),
+    },
   });
 }
 
@@ -70,7 +77,8 @@ async function submit(url: string, body: Blob, name: string): Promise<string> {
   form.set('file', body, name);
   const res = await fetch(`${url}/v1/jobs`, { method: 'POST', headers: auth, body: form });
   const reply = (await res.json()) as { id?: string };
-  if (res.status !== 202 || !reply.id) throw new Error(`submit answered ${res.status}: ${JSON.stringify(reply).slice(0, 200)}`);
+  if (res.status !== 202 || !reply.id)
+    throw new Error(`submit answered ${res.status}: ${JSON.stringify(reply).slice(0, 200)}`);
   return reply.id;
 }
 
@@ -82,30 +90,54 @@ async function submit(url: string, body: Blob, name: string): Promise<string> {
  */
 function submitFile(url: string, path: string, name: string): Promise<string> {
   const boundary = `----earmark-bench-${randomBytes(8).toString('hex')}`;
-  const head = Buffer.from(`--${boundary}\r\nContent-Disposition: form-data; name="profile"\r\n\r\nebu-r128\r\n`
-    + `--${boundary}\r\nContent-Disposition: form-data; name="file"; filename="${name}"\r\nContent-Type: audio/wav\r\n\r\n`);
+  const head = Buffer.from(
+    `--${boundary}\r\nContent-Disposition: form-data; name="profile"\r\n\r\nebu-r128\r\n` +
+      `--${boundary}\r\nContent-Disposition: form-data; name="file"; filename="${name}"\r\nContent-Type: audio/wav\r\n\r\n`,
+  );
   const tail = Buffer.from(`\r\n--${boundary}--\r\n`);
   const length = head.length + statSync(path).size + tail.length;
   return new Promise((resolve, reject) => {
-    const req = httpRequest(`${url}/v1/jobs`, {
-      method: 'POST', agent: keepAlive,
-      headers: { ...auth, 'content-type': `multipart/form-data; boundary=${boundary}`, 'content-length': String(length) },
-    }, (res) => {
-      let text = '';
-      res.setEncoding('utf8').on('data', (chunk: string) => { text += chunk; }).on('error', reject).on('end', () => {
-        const reply = JSON.parse(text) as { id?: string };
-        if (res.statusCode !== 202 || !reply.id) reject(new Error(`submit answered ${res.statusCode}: ${text.slice(0, 200)}`));
-        else resolve(reply.id);
-      });
-    });
+    const req = httpRequest(
+      `${url}/v1/jobs`,
+      {
+        method: 'POST',
+        agent: keepAlive,
+        headers: {
+          ...auth,
+          'content-type': `multipart/form-data; boundary=${boundary}`,
+          'content-length': String(length),
+        },
+      },
+      (res) => {
+        let text = '';
+        res
+          .setEncoding('utf8')
+          .on('data', (chunk: string) => {
+            text += chunk;
+          })
+          .on('error', reject)
+          .on('end', () => {
+            const reply = JSON.parse(text) as { id?: string };
+            if (res.statusCode !== 202 || !reply.id)
+              reject(new Error(`submit answered ${res.statusCode}: ${text.slice(0, 200)}`));
+            else resolve(reply.id);
+          });
+      },
+    );
     req.on('error', reject);
     req.write(head);
-    createReadStream(path, { highWaterMark: 1 << 20 }).on('error', reject).on('end', () => req.end(tail)).pipe(req, { end: false });
+    createReadStream(path, { highWaterMark: 1 << 20 })
+      .on('error', reject)
+      .on('end', () => req.end(tail))
+      .pipe(req, { end: false });
   });
 }
 const keepAlive = new HttpAgent({ keepAlive: true, maxSockets: 8 });
 
-interface View { state: string; finishedAt: string | null }
+interface View {
+  state: string;
+  finishedAt: string | null;
+}
 async function view(url: string, id: string): Promise<View> {
   const res = await fetch(`${url}/v1/jobs/${id}`, { headers: auth });
   if (res.status !== 200) throw new Error(`job view answered ${res.status}`);
@@ -121,9 +153,13 @@ async function report(url: string, id: string): Promise<void> {
 function cliRun(file: string): Promise<number> {
   return new Promise((resolve, reject) => {
     const started = performance.now();
-    const child = spawn(process.execPath, ['dist/analyze-once.mjs', file, '1'], { stdio: ['ignore', 'ignore', 'inherit'] });
+    const child = spawn(process.execPath, ['dist/analyze-once.mjs', file, '1'], {
+      stdio: ['ignore', 'ignore', 'inherit'],
+    });
     child.on('error', reject);
-    child.on('exit', (code) => (code === 0 ? resolve((performance.now() - started) / 1000) : reject(new Error(`analysis exited ${code}`))));
+    child.on('exit', (code) =>
+      code === 0 ? resolve((performance.now() - started) / 1000) : reject(new Error(`analysis exited ${code}`)),
+    );
   });
 }
 
@@ -133,7 +169,8 @@ const percentile = (values: number[], p: number) => {
 };
 
 const rows: string[][] = [];
-const row = (what: string, ours: string, reference: string, ratio: string, goal: string) => rows.push([what, ours, reference, ratio, goal]);
+const row = (what: string, ours: string, reference: string, ratio: string, goal: string) =>
+  rows.push([what, ours, reference, ratio, goal]);
 
 async function throughputAndLatency(oneMinute: string, thirtySeconds: string): Promise<void> {
   // Reference first, on an idle machine: the CLI over the same file, serially.
@@ -142,13 +179,23 @@ async function throughputAndLatency(oneMinute: string, thirtySeconds: string): P
   for (let i = 0; i < cliRuns; i++) cli.push(await cliRun(oneMinute));
   const cliTotal = cli.reduce((a, b) => a + b, 0);
   const reference = (cliTotal * (files / cliRuns)) / 2;
-  console.log(`CLI: ${cliRuns} serial runs of bench/analyze-once.ts on the 1-minute file: ${cliTotal.toFixed(2)} s (median ${percentile(cli, 50).toFixed(2)} s); x${files / cliRuns} for ${files} files, / 2 = ${reference.toFixed(1)} s`);
+  console.log(
+    `CLI: ${cliRuns} serial runs of bench/analyze-once.ts on the 1-minute file: ${cliTotal.toFixed(2)} s (median ${percentile(cli, 50).toFixed(2)} s); x${files / cliRuns} for ${files} files, / 2 = ${reference.toFixed(1)} s`,
+  );
 
   const service = await startService(basePrefix, 2);
   try {
     // Warm each worker's sandboxed child (two jobs at once, so both workers take one) before the clock starts.
-    const warm = await Promise.all([submitFile(service.url, oneMinute, 'warm.wav'), submitFile(service.url, oneMinute, 'warm.wav')]);
-    await waitFor('the warm-up jobs', async () => (await Promise.all(warm.map((id) => view(service.url, id)))).every((v) => v.state === 'completed'), 120_000, 100);
+    const warm = await Promise.all([
+      submitFile(service.url, oneMinute, 'warm.wav'),
+      submitFile(service.url, oneMinute, 'warm.wav'),
+    ]);
+    await waitFor(
+      'the warm-up jobs',
+      async () => (await Promise.all(warm.map((id) => view(service.url, id)))).every((v) => v.state === 'completed'),
+      120_000,
+      100,
+    );
 
     const started = Date.now();
     const t0 = performance.now();
@@ -179,8 +226,16 @@ async function throughputAndLatency(oneMinute: string, thirtySeconds: string): P
     await report(service.url, ids[ids.length - 1]);
     const observed = (performance.now() - t0) / 1000;
     const wall = (lastFinished - started) / 1000;
-    console.log(`service: ${files} jobs submitted in ${submitSeconds.toFixed(1)} s; last finished ${wall.toFixed(1)} s after the first submit (observed by polling ${observed.toFixed(1)} s); failed ${failed}`);
-    row(`${files} x 1-min stereo WAV, 2 workers (s)`, wall.toFixed(1), `${reference.toFixed(1)} CLI/2`, (wall / reference).toFixed(2), '< 1.2');
+    console.log(
+      `service: ${files} jobs submitted in ${submitSeconds.toFixed(1)} s; last finished ${wall.toFixed(1)} s after the first submit (observed by polling ${observed.toFixed(1)} s); failed ${failed}`,
+    );
+    row(
+      `${files} x 1-min stereo WAV, 2 workers (s)`,
+      wall.toFixed(1),
+      `${reference.toFixed(1)} CLI/2`,
+      (wall / reference).toFixed(2),
+      '< 1.2',
+    );
 
     // Latency, warm workers: one job at a time.
     const latencies: number[] = [];
@@ -201,21 +256,49 @@ async function throughputAndLatency(oneMinute: string, thirtySeconds: string): P
     console.log(`latency: ${latencyRuns} sequential 30-s jobs, ms: ${latencies.map((x) => x.toFixed(0)).join(' ')}`);
     row('submit-to-report, 30-s file, p50 (ms)', p50.toFixed(0), '300', (p50 / 300).toFixed(2), '<= 300 ms');
     row('submit-to-report, 30-s file, p95 (ms)', p95.toFixed(0), '', '', 'reported');
-    console.log(`peak RSS: API ${peakRssMib(service.api.pid)?.toFixed(0)} MiB, workers ${service.workers.map((w) => peakRssMib(w.pid)?.toFixed(0)).join(' / ')} MiB`);
+    console.log(
+      `peak RSS: API ${peakRssMib(service.api.pid)?.toFixed(0)} MiB, workers ${service.workers.map((w) => peakRssMib(w.pid)?.toFixed(0)).join(' / ')} MiB`,
+    );
   } finally {
     await service.close();
   }
 }
 
-interface Ingest { mbPerSecond: number; bytes: number; hwmBefore: number; hwmAfter: number; curlMbPerSecond: number | null; leanMbPerSecond: number; hwmAfterCurl: number }
+interface Ingest {
+  mbPerSecond: number;
+  bytes: number;
+  hwmBefore: number;
+  hwmAfter: number;
+  curlMbPerSecond: number | null;
+  leanMbPerSecond: number;
+  hwmAfterCurl: number;
+}
 
 /** The same upload from curl (a client that costs the shared cores less than fetch): seconds, or null without curl. */
 function curlUpload(url: string, file: string): Promise<number | null> {
   return new Promise((resolve) => {
-    const child = spawn('curl', ['-s', '-o', '/dev/null', '-w', '%{http_code} %{time_total}', '-H', `authorization: ${auth.authorization}`,
-      '-F', 'profile=ebu-r128', '-F', `file=@${file};type=audio/wav`, `${url}/v1/jobs`], { stdio: ['ignore', 'pipe', 'ignore'] });
+    const child = spawn(
+      'curl',
+      [
+        '-s',
+        '-o',
+        '/dev/null',
+        '-w',
+        '%{http_code} %{time_total}',
+        '-H',
+        `authorization: ${auth.authorization}`,
+        '-F',
+        'profile=ebu-r128',
+        '-F',
+        `file=@${file};type=audio/wav`,
+        `${url}/v1/jobs`,
+      ],
+      { stdio: ['ignore', 'pipe', 'ignore'] },
+    );
     let out = '';
-    child.stdout.on('data', (chunk: Buffer) => { out += chunk.toString(); });
+    child.stdout.on('data', (chunk: Buffer) => {
+      out += chunk.toString();
+    });
     child.on('error', () => resolve(null));
     child.on('exit', () => {
       const [code, seconds] = out.trim().split(' ');
@@ -244,8 +327,13 @@ async function ingest(file: string, suffix: string): Promise<Ingest> {
     await submitFile(service.url, file, 'large.wav');
     const leanSeconds = (performance.now() - lean) / 1000;
     return {
-      mbPerSecond: size / 1e6 / seconds, bytes: size, hwmBefore, hwmAfter, curlMbPerSecond: curl === null ? null : size / 1e6 / curl,
-      leanMbPerSecond: size / 1e6 / leanSeconds, hwmAfterCurl: peakRssMib(service.api.pid) ?? NaN,
+      mbPerSecond: size / 1e6 / seconds,
+      bytes: size,
+      hwmBefore,
+      hwmAfter,
+      curlMbPerSecond: curl === null ? null : size / 1e6 / curl,
+      leanMbPerSecond: size / 1e6 / leanSeconds,
+      hwmAfterCurl: peakRssMib(service.api.pid) ?? NaN,
     };
   } finally {
     await service.close();
@@ -254,7 +342,8 @@ async function ingest(file: string, suffix: string): Promise<Ingest> {
 
 async function main(): Promise<void> {
   console.log(`prefix ${basePrefix}*, Redis ${redisUrl}`);
-  if (spawnSync(process.execPath, ['bin/build.js'], { stdio: 'inherit' }).status !== 0) throw new Error('npm run build failed');
+  if (spawnSync(process.execPath, ['bin/build.js'], { stdio: 'inherit' }).status !== 0)
+    throw new Error('npm run build failed');
   const oneMinute = await wavFile('programme-1min-48k-stereo-24bit.wav', 60);
   const thirtySeconds = await wavFile('programme-0.5min-48k-stereo-24bit.wav', 30);
   const mid = await wavFile('programme-10min-48k-stereo-24bit.wav', 600);
@@ -264,21 +353,58 @@ async function main(): Promise<void> {
 
   const small = await ingest(mid, 'm');
   const big = await ingest(large, 'l');
-  for (const [label, r] of [['small', small], ['large', big]] as const) {
-    console.log(`ingest ${label}: ${(r.bytes / 2 ** 20).toFixed(0)} MiB at ${r.mbPerSecond.toFixed(0)} MB/s from fetch; API VmHWM ${r.hwmBefore.toFixed(0)} -> ${r.hwmAfter.toFixed(0)} MiB (+${(r.hwmAfter - r.hwmBefore).toFixed(0)}); `
-      + `then from curl ${r.curlMbPerSecond === null ? 'n/a' : `${r.curlMbPerSecond.toFixed(0)} MB/s`}, from the lean Node client ${r.leanMbPerSecond.toFixed(0)} MB/s, VmHWM ${r.hwmAfterCurl.toFixed(0)} MiB`);
+  for (const [label, r] of [
+    ['small', small],
+    ['large', big],
+  ] as const) {
+    console.log(
+      `ingest ${label}: ${(r.bytes / 2 ** 20).toFixed(0)} MiB at ${r.mbPerSecond.toFixed(0)} MB/s from fetch; API VmHWM ${r.hwmBefore.toFixed(0)} -> ${r.hwmAfter.toFixed(0)} MiB (+${(r.hwmAfter - r.hwmBefore).toFixed(0)}); ` +
+        `then from curl ${r.curlMbPerSecond === null ? 'n/a' : `${r.curlMbPerSecond.toFixed(0)} MB/s`}, from the lean Node client ${r.leanMbPerSecond.toFixed(0)} MB/s, VmHWM ${r.hwmAfterCurl.toFixed(0)} MiB`,
+    );
   }
-  if (big.curlMbPerSecond !== null) row(`upload ingest, ${(big.bytes / 2 ** 20).toFixed(0)} MiB WAV, curl client (MB/s)`, big.curlMbPerSecond.toFixed(0), '200', (big.curlMbPerSecond / 200).toFixed(2), '>= 200 MB/s');
-  row(`upload ingest, ${(big.bytes / 2 ** 20).toFixed(0)} MiB WAV, lean Node client (MB/s)`, big.leanMbPerSecond.toFixed(0), '200', (big.leanMbPerSecond / 200).toFixed(2), '>= 200 MB/s');
-  row(`upload ingest, ${(big.bytes / 2 ** 20).toFixed(0)} MiB WAV, fetch client (MB/s)`, big.mbPerSecond.toFixed(0), '200', (big.mbPerSecond / 200).toFixed(2), '>= 200 MB/s');
-  row(`upload ingest, ${(small.bytes / 2 ** 20).toFixed(0)} MiB WAV, fetch client (MB/s)`, small.mbPerSecond.toFixed(0), '200', (small.mbPerSecond / 200).toFixed(2), '>= 200 MB/s');
-  row(`API VmHWM increase, ${(big.bytes / 2 ** 20).toFixed(0)} vs ${(small.bytes / 2 ** 20).toFixed(0)} MiB upload (MiB)`,
-    `+${(big.hwmAfter - big.hwmBefore).toFixed(0)}`, `+${(small.hwmAfter - small.hwmBefore).toFixed(0)}`, '', 'not growing with size');
+  if (big.curlMbPerSecond !== null)
+    row(
+      `upload ingest, ${(big.bytes / 2 ** 20).toFixed(0)} MiB WAV, curl client (MB/s)`,
+      big.curlMbPerSecond.toFixed(0),
+      '200',
+      (big.curlMbPerSecond / 200).toFixed(2),
+      '>= 200 MB/s',
+    );
+  row(
+    `upload ingest, ${(big.bytes / 2 ** 20).toFixed(0)} MiB WAV, lean Node client (MB/s)`,
+    big.leanMbPerSecond.toFixed(0),
+    '200',
+    (big.leanMbPerSecond / 200).toFixed(2),
+    '>= 200 MB/s',
+  );
+  row(
+    `upload ingest, ${(big.bytes / 2 ** 20).toFixed(0)} MiB WAV, fetch client (MB/s)`,
+    big.mbPerSecond.toFixed(0),
+    '200',
+    (big.mbPerSecond / 200).toFixed(2),
+    '>= 200 MB/s',
+  );
+  row(
+    `upload ingest, ${(small.bytes / 2 ** 20).toFixed(0)} MiB WAV, fetch client (MB/s)`,
+    small.mbPerSecond.toFixed(0),
+    '200',
+    (small.mbPerSecond / 200).toFixed(2),
+    '>= 200 MB/s',
+  );
+  row(
+    `API VmHWM increase, ${(big.bytes / 2 ** 20).toFixed(0)} vs ${(small.bytes / 2 ** 20).toFixed(0)} MiB upload (MiB)`,
+    `+${(big.hwmAfter - big.hwmBefore).toFixed(0)}`,
+    `+${(small.hwmAfter - small.hwmBefore).toFixed(0)}`,
+    '',
+    'not growing with size',
+  );
 
   console.log('');
   const widths = [58, 12, 16, 7];
   for (const r of [['target', 'earmark', 'reference', 'ratio', 'goal'], ...rows]) {
-    console.log(`${r[0].padEnd(widths[0])} ${r[1].padStart(widths[1])} ${r[2].padStart(widths[2])} ${r[3].padStart(widths[3])}   ${r[4]}`);
+    console.log(
+      `${r[0].padEnd(widths[0])} ${r[1].padStart(widths[1])} ${r[2].padStart(widths[2])} ${r[3].padStart(widths[3])}   ${r[4]}`,
+    );
   }
 }
 

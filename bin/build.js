@@ -10,7 +10,9 @@ import { DIST, ENTRIES, ROOT } from './bundles.js';
 const outdir = process.argv[2] ? resolve(process.argv[2]) : DIST;
 // The image ships without bench/: bundle what is there.
 // The excerpt thread is started by path from whatever bundle holds excerpt-runner.ts.
-const entries = Object.entries({ ...ENTRIES, 'excerpt-thread': 'src/engine/excerpt-thread.ts' }).filter(([, source]) => existsSync(join(ROOT, source)));
+const entries = Object.entries({ ...ENTRIES, 'excerpt-thread': 'src/engine/excerpt-thread.ts' }).filter(([, source]) =>
+  existsSync(join(ROOT, source)),
+);
 await build({
   entryPoints: Object.fromEntries(entries.map(([name, source]) => [name, join(ROOT, source)])),
   outdir,

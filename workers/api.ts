@@ -7,4 +7,7 @@ const api = await startApi(config, log).catch((error: Error) => {
   log.fatal({ err: { message: error.message } }, 'the API could not start');
   process.exit(2);
 });
-onShutdown(log, async () => { await api.close(); stopRedis(); });
+onShutdown(log, async () => {
+  await api.close();
+  stopRedis();
+});

@@ -10,7 +10,9 @@ export async function boot(role: string): Promise<{ config: Config; log: Logger;
   try {
     config = loadConfig();
   } catch (error) {
-    process.stderr.write(`earmark ${role}: configuration error: ${error instanceof ConfigError ? error.message : 'unreadable environment'}\n`);
+    process.stderr.write(
+      `earmark ${role}: configuration error: ${error instanceof ConfigError ? error.message : 'unreadable environment'}\n`,
+    );
     process.exit(2);
   }
   const log = pino({ level: config.logLevel, base: { pid: process.pid, process: role } });
@@ -18,7 +20,8 @@ export async function boot(role: string): Promise<{ config: Config; log: Logger;
     const redis = await ensureRedis(config.redisUrl, config.redisUrlExplicit);
     if (redis.message) log.warn(redis.message);
     config = { ...config, redisUrl: redis.url, redisUrlExplicit: true };
-    if (config.apiKeys.length === 0 && role !== 'worker') log.warn('EARMARK_API_KEYS is empty: every /v1 request will be refused');
+    if (config.apiKeys.length === 0 && role !== 'worker')
+      log.warn('EARMARK_API_KEYS is empty: every /v1 request will be refused');
     return { config, log, stopRedis: () => redis.child?.kill() };
   } catch (error) {
     log.fatal((error as Error).message);
@@ -32,10 +35,13 @@ export function onShutdown(log: Logger, close: () => Promise<void>): void {
     if (closing) return;
     closing = true;
     log.info({ signal }, 'shutting down');
-    close().then(() => process.exit(0), (error: unknown) => {
-      log.error({ err: { message: (error as Error).message } }, 'shutdown failed');
-      process.exit(1);
-    });
+    close().then(
+      () => process.exit(0),
+      (error: unknown) => {
+        log.error({ err: { message: (error as Error).message } }, 'shutdown failed');
+        process.exit(1);
+      },
+    );
   };
   process.on('SIGTERM', () => handler('SIGTERM'));
   process.on('SIGINT', () => handler('SIGINT'));

@@ -17,8 +17,28 @@ export interface PcmBlock {
  * `Lss`/`Rss` side and `Lrs`/`Rrs` rear surrounds of 7.1.
  */
 export type ChannelLabel =
-  | 'M' | 'L' | 'R' | 'C' | 'LFE' | 'Ls' | 'Rs' | 'Lss' | 'Rss' | 'Lrs' | 'Rrs'
-  | 'Lc' | 'Rc' | 'Cs' | 'Tc' | 'Tfl' | 'Tfc' | 'Tfr' | 'Tbl' | 'Tbc' | 'Tbr' | 'unknown';
+  | 'M'
+  | 'L'
+  | 'R'
+  | 'C'
+  | 'LFE'
+  | 'Ls'
+  | 'Rs'
+  | 'Lss'
+  | 'Rss'
+  | 'Lrs'
+  | 'Rrs'
+  | 'Lc'
+  | 'Rc'
+  | 'Cs'
+  | 'Tc'
+  | 'Tfl'
+  | 'Tfc'
+  | 'Tfr'
+  | 'Tbl'
+  | 'Tbc'
+  | 'Tbr'
+  | 'unknown';
 
 /** What meters need to know about the stream before the first block. */
 export interface StreamInfo {
@@ -38,13 +58,21 @@ export interface Meter<Result> {
 /** Default channel roles when the file says nothing (WAVE/SMPTE order for 1, 2, 6 and 8 channels). */
 export function defaultChannelLabels(channels: number): ChannelLabel[] {
   switch (channels) {
-    case 1: return ['M'];
-    case 2: return ['L', 'R'];
-    case 3: return ['L', 'R', 'C'];
-    case 4: return ['L', 'R', 'Ls', 'Rs'];
-    case 5: return ['L', 'R', 'C', 'Ls', 'Rs'];
-    case 6: return ['L', 'R', 'C', 'LFE', 'Ls', 'Rs'];
-    case 8: return ['L', 'R', 'C', 'LFE', 'Lrs', 'Rrs', 'Lss', 'Rss'];
-    default: return Array.from({ length: channels }, () => 'unknown' as const);
+    case 1:
+      return ['M'];
+    case 2:
+      return ['L', 'R'];
+    case 3:
+      return ['L', 'R', 'C'];
+    case 4:
+      return ['L', 'R', 'Ls', 'Rs'];
+    case 5:
+      return ['L', 'R', 'C', 'Ls', 'Rs'];
+    case 6:
+      return ['L', 'R', 'C', 'LFE', 'Ls', 'Rs'];
+    case 8:
+      return ['L', 'R', 'C', 'LFE', 'Lrs', 'Rrs', 'Lss', 'Rss'];
+    default:
+      return Array.from({ length: channels }, () => 'unknown' as const);
   }
 }

@@ -9,7 +9,12 @@
 
 import type { Meter, PcmBlock, StreamInfo } from './audio.ts';
 import { amplitudeToDb, powerToDb } from './units.ts';
-import { BALLISTICS_CHUNK_FRAMES, BALLISTICS_KERNEL_FRAMES, BallisticsKernel, type BallisticsPoles } from './kernels/ballistics.ts';
+import {
+  BALLISTICS_CHUNK_FRAMES,
+  BALLISTICS_KERNEL_FRAMES,
+  BallisticsKernel,
+  type BallisticsPoles,
+} from './kernels/ballistics.ts';
 
 export const FAST_TIME_CONSTANT_SECONDS = 0.125;
 export const SLOW_TIME_CONSTANT_SECONDS = 1;
@@ -94,13 +99,23 @@ export class TimeWeightedLevelMeter implements Meter<TimeWeightedLevelResult> {
   private readonly maxVu: Float64Array;
   private readonly poles: BallisticsPoles;
   private readonly closedForm: {
-    afN: number; asN: number; avN: number; nAvN: number;
-    fastGrowth: number; slowGrowth: number; vuGrowth: number; vuSteady: number; vuRise: number;
+    afN: number;
+    asN: number;
+    avN: number;
+    nAvN: number;
+    fastGrowth: number;
+    slowGrowth: number;
+    vuGrowth: number;
+    vuSteady: number;
+    vuRise: number;
   };
   /** Made on the first push (a runner thread that never gets this meter makes none). */
   private kernel: BallisticsKernel | null = null;
 
-  constructor(private readonly info: StreamInfo, options: TimeWeightedLevelOptions = {}) {
+  constructor(
+    private readonly info: StreamInfo,
+    options: TimeWeightedLevelOptions = {},
+  ) {
     const fs = info.sampleRate;
     this.fastSeconds = options.fastSeconds ?? FAST_TIME_CONSTANT_SECONDS;
     this.slowSeconds = options.slowSeconds ?? SLOW_TIME_CONSTANT_SECONDS;
@@ -111,12 +126,20 @@ export class TimeWeightedLevelMeter implements Meter<TimeWeightedLevelResult> {
     this.fastPole = 1 - this.fastGain;
     this.slowPole = 1 - this.slowGain;
     this.vuPole = 1 - this.vuGain;
-    const af = this.fastPole, as = this.slowPole, av = this.vuPole;
+    const af = this.fastPole,
+      as = this.slowPole,
+      av = this.vuPole;
     this.poles = { fast: af, fast2: af * af, slow: as, slow2: as * as, vu: av, vu2: av * av, twoVu2: 2 * (av * av) };
     this.closedForm = {
-      afN: af ** CHUNK, asN: as ** CHUNK, avN: av ** CHUNK, nAvN: CHUNK * av ** CHUNK,
-      fastGrowth: SLACK / af ** (CHUNK - 1), slowGrowth: SLACK / as ** (CHUNK - 1), vuGrowth: SLACK / av ** (CHUNK - 1),
-      vuSteady: 1 / (1 - av), vuRise: 1 - av ** CHUNK,
+      afN: af ** CHUNK,
+      asN: as ** CHUNK,
+      avN: av ** CHUNK,
+      nAvN: CHUNK * av ** CHUNK,
+      fastGrowth: SLACK / af ** (CHUNK - 1),
+      slowGrowth: SLACK / as ** (CHUNK - 1),
+      vuGrowth: SLACK / av ** (CHUNK - 1),
+      vuSteady: 1 / (1 - av),
+      vuRise: 1 - av ** CHUNK,
     };
     const n = info.channels;
     this.fast = new Float64Array(n);
@@ -150,7 +173,8 @@ export class TimeWeightedLevelMeter implements Meter<TimeWeightedLevelResult> {
         // A lone channel: the two halves of each piece in the two lanes.
         for (let from = 0; from < whole; from += 2 * BALLISTICS_KERNEL_FRAMES) {
           const chunks = Math.min(2 * BALLISTICS_KERNEL_FRAMES, whole - from) / CHUNK;
-          const first = Math.ceil(chunks / 2), middle = from + first * CHUNK;
+          const first = Math.ceil(chunks / 2),
+            middle = from + first * CHUNK;
           kernel.laneA.set(a.subarray(from, middle));
           kernel.laneB.set(a.subarray(middle, from + chunks * CHUNK));
           kernel.run(first); // lane B may hold one stale chunk at the end; its sums are not read
@@ -172,15 +196,26 @@ export class TimeWeightedLevelMeter implements Meter<TimeWeightedLevelResult> {
   private chunks(c: number, x: Float32Array, from: number, chunks: number, lane: number): void {
     const sums = this.kernel!.sums;
     const { afN, asN, avN, nAvN, fastGrowth, slowGrowth, vuGrowth, vuSteady, vuRise } = this.closedForm;
-    let fast = this.fast[c], slow = this.slow[c], vu1 = this.vu1[c], vu2 = this.vu2[c];
-    let maxFast = this.maxFast[c], maxSlow = this.maxSlow[c], maxVu = this.maxVu[c];
+    let fast = this.fast[c],
+      slow = this.slow[c],
+      vu1 = this.vu1[c],
+      vu2 = this.vu2[c];
+    let maxFast = this.maxFast[c],
+      maxSlow = this.maxSlow[c],
+      maxVu = this.maxVu[c];
     for (let k = 0; k < chunks; k++) {
       const o = 8 * k + lane;
-      const hf = sums[o], hs = sums[o + 2], hv = sums[o + 4], gv = sums[o + 6];
+      const hf = sums[o],
+        hs = sums[o + 2],
+        hv = sums[o + 4],
+        gv = sums[o + 6];
       const vu1Bound = vu1 + hv * vuGrowth;
       const vu2Excess = vu1Bound * vuSteady - vu2;
-      if (fast + hf * fastGrowth <= maxFast && slow + hs * slowGrowth <= maxSlow
-        && vu2 + (vu2Excess > 0 ? vuRise * vu2Excess : 0) <= maxVu) {
+      if (
+        fast + hf * fastGrowth <= maxFast &&
+        slow + hs * slowGrowth <= maxSlow &&
+        vu2 + (vu2Excess > 0 ? vuRise * vu2Excess : 0) <= maxVu
+      ) {
         fast = afN * fast + hf;
         slow = asN * slow + hs;
         vu2 = avN * vu2 + nAvN * vu1 + gv;
@@ -189,17 +224,29 @@ export class TimeWeightedLevelMeter implements Meter<TimeWeightedLevelResult> {
       }
       this.save(c, fast, slow, vu1, vu2, maxFast, maxSlow, maxVu);
       this.samples(c, x, from + k * CHUNK, from + (k + 1) * CHUNK);
-      fast = this.fast[c]; slow = this.slow[c]; vu1 = this.vu1[c]; vu2 = this.vu2[c];
-      maxFast = this.maxFast[c]; maxSlow = this.maxSlow[c]; maxVu = this.maxVu[c];
+      fast = this.fast[c];
+      slow = this.slow[c];
+      vu1 = this.vu1[c];
+      vu2 = this.vu2[c];
+      maxFast = this.maxFast[c];
+      maxSlow = this.maxSlow[c];
+      maxVu = this.maxVu[c];
     }
     this.save(c, fast, slow, vu1, vu2, maxFast, maxSlow, maxVu);
   }
 
   /** Frames [from, to) of channel c by the recurrences themselves. */
   private samples(c: number, x: Float32Array, from: number, to: number): void {
-    const af = this.fastPole, as = this.slowPole, av = this.vuPole;
-    let fast = this.fast[c], slow = this.slow[c], vu1 = this.vu1[c], vu2 = this.vu2[c];
-    let maxFast = this.maxFast[c], maxSlow = this.maxSlow[c], maxVu = this.maxVu[c];
+    const af = this.fastPole,
+      as = this.slowPole,
+      av = this.vuPole;
+    let fast = this.fast[c],
+      slow = this.slow[c],
+      vu1 = this.vu1[c],
+      vu2 = this.vu2[c];
+    let maxFast = this.maxFast[c],
+      maxSlow = this.maxSlow[c],
+      maxVu = this.maxVu[c];
     for (let i = from; i < to; i++) {
       const v = x[i];
       const sq = v * v;
@@ -215,7 +262,16 @@ export class TimeWeightedLevelMeter implements Meter<TimeWeightedLevelResult> {
     this.save(c, fast, slow, vu1, vu2, maxFast, maxSlow, maxVu);
   }
 
-  private save(c: number, fast: number, slow: number, vu1: number, vu2: number, maxFast: number, maxSlow: number, maxVu: number): void {
+  private save(
+    c: number,
+    fast: number,
+    slow: number,
+    vu1: number,
+    vu2: number,
+    maxFast: number,
+    maxSlow: number,
+    maxVu: number,
+  ): void {
     this.fast[c] = fast;
     this.slow[c] = slow;
     this.vu1[c] = vu1;

@@ -84,11 +84,16 @@ export class ChannelRelationMeter implements Meter<ChannelRelationResult> {
   /** Made on first use: a mono stream has no pair. */
   private pairSums: PairSumsKernel | null = null;
 
-  constructor(private readonly info: StreamInfo, options: ChannelRelationOptions = {}) {
+  constructor(
+    private readonly info: StreamInfo,
+    options: ChannelRelationOptions = {},
+  ) {
     this.windowSeconds = options.windowSeconds ?? 3;
     this.windowFrames = Math.round(this.windowSeconds * info.sampleRate);
     if (!(this.windowFrames >= 2)) {
-      throw new EarmarkError('invalid_argument', 'windowSeconds must span at least 2 frames', { field: 'windowSeconds' });
+      throw new EarmarkError('invalid_argument', 'windowSeconds must span at least 2 frames', {
+        field: 'windowSeconds',
+      });
     }
     this.phaseThreshold = options.phaseThreshold ?? DEFAULT_PHASE_THRESHOLD;
     this.floorPower = dbToPower(options.signalFloorDbfs ?? -50);
@@ -155,9 +160,13 @@ export class ChannelRelationMeter implements Meter<ChannelRelationResult> {
         // The pair every layout has (the whole work for stereo) by the SIMD kernel.
         const kernel = (this.pairSums ??= new PairSumsKernel());
         const sums = kernel.sums;
-        sums[0] = w[a]; sums[1] = w[b]; sums[2] = ab;
+        sums[0] = w[a];
+        sums[1] = w[b];
+        sums[2] = ab;
         kernel.add(xa, xb, from, to);
-        w[a] = sums[0]; w[b] = sums[1]; ab = sums[2];
+        w[a] = sums[0];
+        w[b] = sums[1];
+        ab = sums[2];
       } else if (a === 0) {
         let bb = w[b];
         for (let i = from; i < to; i++) {
@@ -173,12 +182,18 @@ export class ChannelRelationMeter implements Meter<ChannelRelationResult> {
       // Candidates only; the first mismatch ends the check for good.
       if (this.identical[k] === 1) {
         for (let i = from; i < to; i++) {
-          if (xa[i] !== xb[i]) { this.identical[k] = 0; break; }
+          if (xa[i] !== xb[i]) {
+            this.identical[k] = 0;
+            break;
+          }
         }
       }
       if (this.inverted[k] === 1) {
         for (let i = from; i < to; i++) {
-          if (xa[i] !== -xb[i]) { this.inverted[k] = 0; break; }
+          if (xa[i] !== -xb[i]) {
+            this.inverted[k] = 0;
+            break;
+          }
         }
       }
     }
@@ -281,10 +296,24 @@ export class ChannelRelationMeter implements Meter<ChannelRelationResult> {
       });
       // The later channel is reported as the copy of the earlier one.
       if (identical || nearIdentical) {
-        this.log.add({ kind: 'duplicate_channel', channel: b, otherChannel: a, startFrame: 0, endFrame: frames, peakValue: correlation ?? undefined });
+        this.log.add({
+          kind: 'duplicate_channel',
+          channel: b,
+          otherChannel: a,
+          startFrame: 0,
+          endFrame: frames,
+          peakValue: correlation ?? undefined,
+        });
       }
       if (inverted || nearInverted) {
-        this.log.add({ kind: 'inverted_channel', channel: b, otherChannel: a, startFrame: 0, endFrame: frames, peakValue: correlation ?? undefined });
+        this.log.add({
+          kind: 'inverted_channel',
+          channel: b,
+          otherChannel: a,
+          startFrame: 0,
+          endFrame: frames,
+          peakValue: correlation ?? undefined,
+        });
       }
     }
     this.finished = {

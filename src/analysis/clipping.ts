@@ -54,9 +54,11 @@ export class ClippingMeter implements Meter<ClippingResult> {
   private finished: ClippingResult | null = null;
   private readonly envelopes = new EnvelopeBuilder();
 
-  constructor(private readonly info: StreamInfo, options: ClippingMeterOptions = {}) {
-    this.threshold = options.thresholdLinear
-      ?? dbToAmplitude(options.thresholdDbfs ?? DEFAULT_CLIP_THRESHOLD_DBFS);
+  constructor(
+    private readonly info: StreamInfo,
+    options: ClippingMeterOptions = {},
+  ) {
+    this.threshold = options.thresholdLinear ?? dbToAmplitude(options.thresholdDbfs ?? DEFAULT_CLIP_THRESHOLD_DBFS);
     this.minRun = options.minRunSamples ?? DEFAULT_MIN_RUN_SAMPLES;
     if (!(this.threshold > 0) || !Number.isInteger(this.minRun) || this.minRun < 1) {
       throw new EarmarkError('invalid_argument', 'Clipping threshold must be > 0 and minRunSamples an integer >= 1', {

@@ -131,17 +131,27 @@ export class DropoutMeter implements Meter<DropoutResult> {
   private finished: DropoutResult | null = null;
   private readonly envelopes = new EnvelopeBuilder();
 
-  constructor(private readonly info: StreamInfo, options: DropoutOptions = {}) {
+  constructor(
+    private readonly info: StreamInfo,
+    options: DropoutOptions = {},
+  ) {
     const thresholdDbfs = options.thresholdDbfs ?? DEFAULT_DROPOUT_THRESHOLD_DBFS;
     const minDropDb = options.minDropDb ?? DEFAULT_DROPOUT_MIN_DROP_DB;
     const maxFadeDb = options.maxFadeDb ?? DEFAULT_DROPOUT_MAX_FADE_DB;
     const maxSeconds = options.maxDurationSeconds ?? DEFAULT_DROPOUT_MAX_SECONDS;
     this.minDurationSeconds = options.minDurationSeconds ?? DEFAULT_DROPOUT_MIN_SECONDS;
-    if (![thresholdDbfs, minDropDb, maxFadeDb, maxSeconds].every(Number.isFinite)
-      || !(this.minDurationSeconds >= 0) || !(maxSeconds >= this.minDurationSeconds)) {
-      throw new EarmarkError('invalid_argument', 'Dropout levels must be finite and 0 <= minDurationSeconds <= maxDurationSeconds (finite)', {
-        field: 'dropouts',
-      });
+    if (
+      ![thresholdDbfs, minDropDb, maxFadeDb, maxSeconds].every(Number.isFinite) ||
+      !(this.minDurationSeconds >= 0) ||
+      !(maxSeconds >= this.minDurationSeconds)
+    ) {
+      throw new EarmarkError(
+        'invalid_argument',
+        'Dropout levels must be finite and 0 <= minDurationSeconds <= maxDurationSeconds (finite)',
+        {
+          field: 'dropouts',
+        },
+      );
     }
     const fs = info.sampleRate;
     this.n = info.channels;
@@ -174,14 +184,25 @@ export class DropoutMeter implements Meter<DropoutResult> {
     let allChannels = true;
     if (this.n > 1) {
       for (let c = 0; c < this.n; c++) {
-        if (!this.scan(c, [block.channelData[c]], envelope && [envelope.maxAbs[c]], envelope && [envelope.minAbs[c]], block, base)) allChannels = false;
+        if (
+          !this.scan(
+            c,
+            [block.channelData[c]],
+            envelope && [envelope.maxAbs[c]],
+            envelope && [envelope.minAbs[c]],
+            block,
+            base,
+          )
+        )
+          allChannels = false;
       }
     }
     // An all-channel run that can matter lies inside a long or block-crossing run of every channel.
     if (allChannels) this.scan(this.n, block.channelData, envelope?.maxAbs, envelope?.minAbs, block, base);
     // Rules 2-3 read the frames before a run: judge open runs while the ring still holds them.
     for (let slot = 0; slot <= this.n; slot++) {
-      if (this.runStart[slot] >= 0 && this.verdict[slot] === UNJUDGED) this.judgeStart(slot, this.runStart[slot], block, base);
+      if (this.runStart[slot] >= 0 && this.verdict[slot] === UNJUDGED)
+        this.judgeStart(slot, this.runStart[slot], block, base);
     }
     // Keep the block's last frames: frame f at f % ringFrames, in at most two copies.
     const from = frames - Math.min(frames, this.ringFrames);
@@ -194,7 +215,8 @@ export class DropoutMeter implements Meter<DropoutResult> {
     }
     this.frames = base + frames;
     // Channel runs ending from now on lie an edge window or more past these.
-    if (this.recentAll.length > 0) this.recentAll = this.recentAll.filter((span) => this.frames - span.end < this.edgeFrames);
+    if (this.recentAll.length > 0)
+      this.recentAll = this.recentAll.filter((span) => this.frames - span.end < this.edgeFrames);
     this.decideReady(false);
     this.flush(false);
   }
@@ -224,8 +246,12 @@ export class DropoutMeter implements Meter<DropoutResult> {
    * Returns whether a run of at least the minimum, or one open at either end of the block, was seen.
    */
   private scan(
-    slot: number, xs: readonly Float32Array[], maxAbs: readonly Float32Array[] | undefined, minAbs: readonly Float32Array[] | undefined,
-    block: PcmBlock, base: number,
+    slot: number,
+    xs: readonly Float32Array[],
+    maxAbs: readonly Float32Array[] | undefined,
+    minAbs: readonly Float32Array[] | undefined,
+    block: PcmBlock,
+    base: number,
   ): boolean {
     const frames = block.frames;
     const thr = this.threshold;
@@ -253,13 +279,17 @@ export class DropoutMeter implements Meter<DropoutResult> {
             if (a > peak) peak = a;
           }
           if (i === to) continue; // a quiet chunk, read without an envelope
-          if (base + i - start >= minFrames) { this.closeRun(slot, start, base + i, peak, block, base); long = true; }
+          if (base + i - start >= minFrames) {
+            this.closeRun(slot, start, base + i, peak, block, base);
+            long = true;
+          }
           start = -1;
           i++;
         }
         const last = to - 1;
         if (i <= last && Math.abs(x0[last]) < thr && (single || isQuiet(xs, last, thr))) {
-          let j = last, tail = frameLevel(xs, j);
+          let j = last,
+            tail = frameLevel(xs, j);
           for (; j > i; j--) {
             const a = frameLevel(xs, j - 1);
             if (a >= thr) break;
@@ -283,10 +313,17 @@ export class DropoutMeter implements Meter<DropoutResult> {
         for (let i = from; i < to; i++) {
           const a = frameLevel(xs, i);
           if (a < thr) {
-            if (start < 0) { start = base + i; peak = 0; this.verdict[slot] = UNJUDGED; }
+            if (start < 0) {
+              start = base + i;
+              peak = 0;
+              this.verdict[slot] = UNJUDGED;
+            }
             if (a > peak) peak = a;
           } else if (start >= 0) {
-            if (base + i - start >= minFrames) { this.closeRun(slot, start, base + i, peak, block, base); long = true; }
+            if (base + i - start >= minFrames) {
+              this.closeRun(slot, start, base + i, peak, block, base);
+              long = true;
+            }
             start = -1;
           }
         }
@@ -303,14 +340,21 @@ export class DropoutMeter implements Meter<DropoutResult> {
     // and channels are scanned before the all-channel slot: check both ways.
     if (slot === this.n) {
       const span = { start, end };
-      for (const c of this.candidates) if (c.slot < this.n && this.matches(span, c.startFrame, c.endFrame)) c.covered = true;
+      for (const c of this.candidates)
+        if (c.slot < this.n && this.matches(span, c.startFrame, c.endFrame)) c.covered = true;
       this.recentAll.push(span);
     }
     if (end - start > this.maxFrames) return;
     if (this.verdict[slot] === UNJUDGED) this.judgeStart(slot, start, block, base);
     if (this.verdict[slot] !== ABRUPT) return;
     const candidate: Candidate = {
-      slot, startFrame: start, endFrame: end, peak, resumeMax: 0, next: end, until: end + this.edgeFrames,
+      slot,
+      startFrame: start,
+      endFrame: end,
+      peak,
+      resumeMax: 0,
+      next: end,
+      until: end + this.edgeFrames,
       covered: slot < this.n && this.recentAll.some((span) => this.matches(span, start, end)),
     };
     this.candidates.push(candidate);
@@ -319,7 +363,9 @@ export class DropoutMeter implements Meter<DropoutResult> {
 
   /** Rule 5: the all-channel run starts and ends within an edge window of the channel run [start, end). */
   private matches(span: Span, start: number, end: number): boolean {
-    return span.start >= start && span.start - start < this.edgeFrames && span.end <= end && end - span.end < this.edgeFrames;
+    return (
+      span.start >= start && span.start - start < this.edgeFrames && span.end <= end && end - span.end < this.edgeFrames
+    );
   }
 
   /** Rules 2 and 3 from the frames before the run (this block and the ring). */
@@ -357,7 +403,10 @@ export class DropoutMeter implements Meter<DropoutResult> {
     if (this.candidates.length === 0) return;
     const waiting: Candidate[] = [];
     for (const c of this.candidates) {
-      if (c.next < c.until && !final) { waiting.push(c); continue; }
+      if (c.next < c.until && !final) {
+        waiting.push(c);
+        continue;
+      }
       if (c.covered || !(c.resumeMax >= this.sounding)) continue;
       this.dropouts[c.slot]++;
       this.droppedFrames[c.slot] += c.endFrame - c.startFrame;
@@ -381,7 +430,8 @@ export class DropoutMeter implements Meter<DropoutResult> {
     if (!final) {
       for (let slot = 0; slot <= this.n; slot++) {
         const start = this.runStart[slot];
-        if (start >= 0 && this.verdict[slot] === ABRUPT && this.frames - start <= this.maxFrames) horizon = Math.min(horizon, start);
+        if (start >= 0 && this.verdict[slot] === ABRUPT && this.frames - start <= this.maxFrames)
+          horizon = Math.min(horizon, start);
       }
       for (const c of this.candidates) horizon = Math.min(horizon, c.startFrame);
     }

@@ -2,17 +2,17 @@
 // of the stream); seconds are derived from them by the runner's sample rate.
 
 export type EventKind =
-  | 'clipping'          // run of consecutive samples at or near full scale
-  | 'dropout'           // short abrupt loss inside programme: digital zero or a fall to a noise floor (dropouts.ts)
-  | 'silence'           // below a level for at least a duration (one channel, or all together)
-  | 'true_peak_over'    // true peak above the configured ceiling
+  | 'clipping' // run of consecutive samples at or near full scale
+  | 'dropout' // short abrupt loss inside programme: digital zero or a fall to a noise floor (dropouts.ts)
+  | 'silence' // below a level for at least a duration (one channel, or all together)
+  | 'true_peak_over' // true peak above the configured ceiling
   | 'reconstructed_over' // reconstructed (band-limited) peak above the configured ceiling (reconstructed-peak.ts)
-  | 'dead_channel'      // digital silence for the whole stream
+  | 'dead_channel' // digital silence for the whole stream
   | 'duplicate_channel' // a channel that is an identical copy of another
-  | 'inverted_channel'  // a channel that is a polarity-inverted copy of another
-  | 'phase_problem'     // a window of strongly negative inter-channel correlation
-  | 'loud_short_term'   // short-term loudness (3 s) above a configured limit
-  | 'loud_momentary';   // momentary loudness (400 ms) above a configured limit
+  | 'inverted_channel' // a channel that is a polarity-inverted copy of another
+  | 'phase_problem' // a window of strongly negative inter-channel correlation
+  | 'loud_short_term' // short-term loudness (3 s) above a configured limit
+  | 'loud_momentary'; // momentary loudness (400 ms) above a configured limit
 
 export interface AnalysisEvent {
   kind: EventKind;
@@ -42,6 +42,8 @@ export interface EventList<E extends AnalysisEvent = AnalysisEvent> {
   eventsTotal: number;
   /** True when some found events were not kept (eventsTotal > events.length). */
   eventsTruncated: boolean;
+  /** Every event found, kept or not, by kind (sums to eventsTotal). */
+  eventsByKind: Partial<Record<EventKind, number>>;
 }
 
 /** Meters keep at most this many events unless told otherwise. */
@@ -54,11 +56,16 @@ export type FoundEvent = Omit<AnalysisEvent, 'startSeconds' | 'endSeconds'>;
 export class EventLog {
   readonly events: AnalysisEvent[] = [];
   total = 0;
+  private readonly byKind: Partial<Record<EventKind, number>> = {};
 
-  constructor(private readonly sampleRate: number, private readonly maxEvents = DEFAULT_MAX_EVENTS) {}
+  constructor(
+    private readonly sampleRate: number,
+    private readonly maxEvents = DEFAULT_MAX_EVENTS,
+  ) {}
 
   add(event: FoundEvent): void {
     this.total++;
+    this.byKind[event.kind] = (this.byKind[event.kind] ?? 0) + 1;
     if (this.events.length >= this.maxEvents) return;
     this.events.push({
       ...event,
@@ -74,7 +81,7 @@ export class EventLog {
   /** The kept events (in the order given, else as added) with the count of all found. */
   list(order?: (a: AnalysisEvent, b: AnalysisEvent) => number): EventList {
     const events = order ? [...this.events].sort(order) : this.events;
-    return { events, eventsTotal: this.total, eventsTruncated: this.truncated };
+    return { events, eventsTotal: this.total, eventsTruncated: this.truncated, eventsByKind: { ...this.byKind } };
   }
 }
 

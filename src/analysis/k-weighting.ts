@@ -5,7 +5,11 @@
 // reproduce the published 48 kHz tables to about 1e-15.
 
 export interface Biquad {
-  b0: number; b1: number; b2: number; a1: number; a2: number;
+  b0: number;
+  b1: number;
+  b2: number;
+  a1: number;
+  a2: number;
 }
 
 const SHELF_F0_HZ = 1681.974450955533;
@@ -35,7 +39,9 @@ export function highpassCoefficients(sampleRate: number): Biquad {
   const k = Math.tan((Math.PI * HIGHPASS_F0_HZ) / sampleRate);
   const a0 = 1 + k / HIGHPASS_Q + k * k;
   return {
-    b0: 1, b1: -2, b2: 1,
+    b0: 1,
+    b1: -2,
+    b2: 1,
     a1: (2 * (k * k - 1)) / a0,
     a2: (1 - k / HIGHPASS_Q + k * k) / a0,
   };
@@ -54,10 +60,16 @@ export function biquadGain(filter: Biquad, frequencyHz: number, sampleRate: numb
 /** BS.1770-5 Table 3 channel weights from speaker roles; LFE is excluded (weight 0). */
 export function channelWeight(label: string): number {
   switch (label) {
-    case 'LFE': return 0;
+    case 'LFE':
+      return 0;
     // Surrounds at about +-110 deg (Annex 3: azimuth 60-120 deg gets 1.41).
-    case 'Ls': case 'Rs': case 'Lss': case 'Rss': return 1.41;
+    case 'Ls':
+    case 'Rs':
+    case 'Lss':
+    case 'Rss':
+      return 1.41;
     // Rear surrounds of 7.1 sit beyond 120 deg: weight 1.0 per Annex 3.
-    default: return 1;
+    default:
+      return 1;
   }
 }

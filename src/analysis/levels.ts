@@ -6,7 +6,6 @@ import { EnvelopeBuilder } from './envelope.ts';
 import { SUMS_KERNEL_FRAMES, SumsKernel } from './kernels/sums.ts';
 import { amplitudeToDb, powerToDb } from './units.ts';
 
-
 /** 20 log10(2^0.5): AES17 references RMS to a full-scale sine, so it reads this much higher. */
 export const AES17_OFFSET_DB = 10 * Math.log10(2);
 
@@ -64,7 +63,10 @@ export class LevelMeter implements Meter<LevelResult> {
   private readonly envelopes = new EnvelopeBuilder();
   private readonly kernel = new SumsKernel();
 
-  constructor(private readonly info: StreamInfo, options: LevelMeterOptions = {}) {
+  constructor(
+    private readonly info: StreamInfo,
+    options: LevelMeterOptions = {},
+  ) {
     this.fullScaleLinear = options.fullScaleLinear ?? 1;
     const n = info.channels;
     this.peak = new Float64Array(n);
@@ -90,16 +92,20 @@ export class LevelMeter implements Meter<LevelResult> {
       const even = 2 * c + first;
       const odd = 2 * c + 1 - first;
       const sums = this.kernel.sums;
-      sums[0] = this.sum[even]; sums[1] = this.sum[odd];
-      sums[2] = this.sumSquares[even]; sums[3] = this.sumSquares[odd];
+      sums[0] = this.sum[even];
+      sums[1] = this.sum[odd];
+      sums[2] = this.sumSquares[even];
+      sums[3] = this.sumSquares[odd];
       // Pieces of an even number of frames keep the block's even frames in the kernel's lane 0.
       for (let from = 0; from < frames; from += SUMS_KERNEL_FRAMES) {
         const length = Math.min(SUMS_KERNEL_FRAMES, frames - from);
         this.kernel.input.set(x.subarray(from, from + length));
         this.kernel.run(length);
       }
-      this.sum[even] = sums[0]; this.sum[odd] = sums[1];
-      this.sumSquares[even] = sums[2]; this.sumSquares[odd] = sums[3];
+      this.sum[even] = sums[0];
+      this.sum[odd] = sums[1];
+      this.sumSquares[even] = sums[2];
+      this.sumSquares[odd] = sums[3];
       const peak = blockPeak[c];
       if (peak > this.peak[c]) this.peak[c] = peak;
       // Full-scale samples are rare: count them in a second pass only when the block has any.

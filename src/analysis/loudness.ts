@@ -90,32 +90,54 @@ export class LoudnessMeter implements Meter<LoudnessResult> {
   private framesSeen = 0;
 
   // Stretches above the optional limits: [window start frame, last window end frame, max power]
-  private readonly limits: { kind: 'loud_short_term' | 'loud_momentary'; power: number; windowFrames: number; open: [number, number, number] | null }[] = [];
+  private readonly limits: {
+    kind: 'loud_short_term' | 'loud_momentary';
+    power: number;
+    windowFrames: number;
+    open: [number, number, number] | null;
+  }[] = [];
   private readonly log: EventLog;
   private finished: LoudnessResult | null = null;
 
   constructor(info: StreamInfo, options: LoudnessOptions = {}) {
     this.sampleRate = info.sampleRate;
-    const weighted = info.channelLabels.map((label, channel) => ({ channel, weight: channelWeight(label) })).filter((c) => c.weight !== 0);
+    const weighted = info.channelLabels
+      .map((label, channel) => ({ channel, weight: channelWeight(label) }))
+      .filter((c) => c.weight !== 0);
     this.weightedChannels = weighted.map((c) => c.channel);
     const loop = kWeightingLoop(shelfCoefficients(info.sampleRate), highpassCoefficients(info.sampleRate));
-    this.kernel = new KWeightingKernel(loop, weighted.map((c) => c.weight), Math.round(3 * info.sampleRate));
+    this.kernel = new KWeightingKernel(
+      loop,
+      weighted.map((c) => c.weight),
+      Math.round(3 * info.sampleRate),
+    );
     this.nextBoundaryFrame = this.boundaryFrame(1);
     this.momentaryFrames = Math.round(0.4 * info.sampleRate);
     this.shortTermFrames = Math.round(3 * info.sampleRate);
     // One value per 100 ms sub-block (plus one for a final partial sub-block); a header's claim
     // is trusted up to a day of audio, beyond that the series grow as they go.
     const expectedSubblocks = info.expectedFrames
-      ? Math.min(MAX_PRESIZED_SUBBLOCKS, Math.ceil((info.expectedFrames * 10) / info.sampleRate) + 1) : undefined;
+      ? Math.min(MAX_PRESIZED_SUBBLOCKS, Math.ceil((info.expectedFrames * 10) / info.sampleRate) + 1)
+      : undefined;
     this.momentaryPowers = new GrowableFloat64(expectedSubblocks);
     this.shortTermPowers = new GrowableFloat64(expectedSubblocks);
     this.momentaryPos = this.shortTermFrames - this.momentaryFrames;
     this.log = new EventLog(info.sampleRate, options.maxEvents);
     if (options.momentaryLimitLufs !== undefined) {
-      this.limits.push({ kind: 'loud_momentary', power: lufsToPower(options.momentaryLimitLufs), windowFrames: this.momentaryFrames, open: null });
+      this.limits.push({
+        kind: 'loud_momentary',
+        power: lufsToPower(options.momentaryLimitLufs),
+        windowFrames: this.momentaryFrames,
+        open: null,
+      });
     }
     if (options.shortTermLimitLufs !== undefined) {
-      this.limits.push({ kind: 'loud_short_term', power: lufsToPower(options.shortTermLimitLufs), windowFrames: this.shortTermFrames, open: null });
+      this.limits.push({
+        kind: 'loud_short_term',
+        power: lufsToPower(options.shortTermLimitLufs),
+        windowFrames: this.shortTermFrames,
+        open: null,
+      });
     }
   }
 
@@ -142,7 +164,8 @@ export class LoudnessMeter implements Meter<LoudnessResult> {
     const window = this.kernel.window;
     let n = 0;
     while (n < frames) {
-      const pos = this.ringPos, mPos = this.momentaryPos;
+      const pos = this.ringPos,
+        mPos = this.momentaryPos;
       const take = Math.min(frames - n, this.nextBoundaryFrame - this.framesSeen, ringLength - pos, ringLength - mPos);
       window[0] = 0;
       this.kernel.slide(n, take, pos, mPos, this.framesSeen, this.momentaryFrames, this.shortTermFrames);
@@ -176,8 +199,10 @@ export class LoudnessMeter implements Meter<LoudnessResult> {
   private trackLimit(limit: LoudnessMeter['limits'][number], power: number | null): void {
     const endFrame = this.boundaryFrame(this.subblockIndex);
     if (power !== null && power > limit.power) {
-      if (limit.open) { limit.open[1] = endFrame; limit.open[2] = Math.max(limit.open[2], power); }
-      else limit.open = [Math.max(0, endFrame - limit.windowFrames), endFrame, power];
+      if (limit.open) {
+        limit.open[1] = endFrame;
+        limit.open[2] = Math.max(limit.open[2], power);
+      } else limit.open = [Math.max(0, endFrame - limit.windowFrames), endFrame, power];
       return;
     }
     this.closeLimit(limit);
@@ -193,7 +218,8 @@ export class LoudnessMeter implements Meter<LoudnessResult> {
   /** Mean power of the last `count` sub-blocks, or null until that many are complete. */
   private windowMeanPower(count: number): number | null {
     if (this.subblockIndex < count) return null;
-    let power = 0, frames = 0;
+    let power = 0,
+      frames = 0;
     for (let k = 1; k <= count; k++) {
       const slot = (this.subblockIndex - k) % SUBBLOCKS_PER_SHORT_TERM;
       power += this.recentPower[slot];
@@ -247,33 +273,58 @@ function toLufsInPlace(series: Float64Array): Float64Array {
 }
 
 /** BS.1770-5 eqs. (4)-(7): absolute gate at -70 LKFS, then a relative gate. */
-export function gatedLoudness(blockPowers: Float64Array, relativeGateLu: number): { loudness: number | null; kept: number } {
+export function gatedLoudness(
+  blockPowers: Float64Array,
+  relativeGateLu: number,
+): { loudness: number | null; kept: number } {
   const absolutePower = lufsToPower(ABSOLUTE_GATE_LUFS);
-  let sum = 0, count = 0;
-  for (const p of blockPowers) if (p > absolutePower) { sum += p; count++; }
+  let sum = 0,
+    count = 0;
+  for (const p of blockPowers)
+    if (p > absolutePower) {
+      sum += p;
+      count++;
+    }
   if (count === 0) return { loudness: null, kept: 0 };
   const relativePower = (sum / count) * Math.pow(10, relativeGateLu / 10);
-  let gatedSum = 0, kept = 0;
-  for (const p of blockPowers) if (p > absolutePower && p > relativePower) { gatedSum += p; kept++; }
+  let gatedSum = 0,
+    kept = 0;
+  for (const p of blockPowers)
+    if (p > absolutePower && p > relativePower) {
+      gatedSum += p;
+      kept++;
+    }
   return { loudness: kept === 0 ? null : powerToLufs(gatedSum / kept), kept };
 }
 
 /** EBU Tech 3342 section 5: P95 - P10 of the gated short-term values. */
-export function loudnessRange(shortTermPowers: Float64Array): { rangeLu: number; lowLufs: number; highLufs: number } | null {
+export function loudnessRange(
+  shortTermPowers: Float64Array,
+): { rangeLu: number; lowLufs: number; highLufs: number } | null {
   const absolutePower = lufsToPower(ABSOLUTE_GATE_LUFS);
-  let sum = 0, count = 0;
-  for (const p of shortTermPowers) if (p > absolutePower) { sum += p; count++; }
+  let sum = 0,
+    count = 0;
+  for (const p of shortTermPowers)
+    if (p > absolutePower) {
+      sum += p;
+      count++;
+    }
   if (count === 0) return null;
   const relativePower = (sum / count) * Math.pow(10, LRA_RELATIVE_GATE_LU / 10);
   const gate = Math.max(absolutePower, relativePower);
-  let kept = 0, largest = 0;
+  let kept = 0,
+    largest = 0;
   for (let i = 0; i < shortTermPowers.length; i++) {
     const p = shortTermPowers[i];
-    if (p > gate) { kept++; if (p > largest) largest = p; }
+    if (p > gate) {
+      kept++;
+      if (p > largest) largest = p;
+    }
   }
   if (kept === 0) return null;
   // The same values at the same percentile indices as sorting the gated values would give.
-  const percentile = (p: number) => kthSmallestAbove(shortTermPowers, gate, largest, Math.round(((kept - 1) * p) / 100));
+  const percentile = (p: number) =>
+    kthSmallestAbove(shortTermPowers, gate, largest, Math.round(((kept - 1) * p) / 100));
   const lowLufs = powerToLufs(percentile(10)) as number;
   const highLufs = powerToLufs(percentile(95)) as number;
   return { rangeLu: highLufs - lowLufs, lowLufs, highLufs };
@@ -281,8 +332,14 @@ export function loudnessRange(shortTermPowers: Float64Array): { rangeLu: number;
 
 const bitsScratch = new Float64Array(1);
 const bitsView = new BigUint64Array(bitsScratch.buffer);
-const bitsOf = (x: number): bigint => { bitsScratch[0] = x; return bitsView[0]; };
-const valueOf = (bits: bigint): number => { bitsView[0] = bits; return bitsScratch[0]; };
+const bitsOf = (x: number): bigint => {
+  bitsScratch[0] = x;
+  return bitsView[0];
+};
+const bitsToNumber = (bits: bigint): number => {
+  bitsView[0] = bits;
+  return bitsScratch[0];
+};
 
 /**
  * The k-th smallest (0-based) of the values of `series` above `gate` (>= 0), whose largest is
@@ -296,11 +353,14 @@ export function kthSmallestAbove(series: Float64Array, gate: number, largest: nu
   let atOrAbove = bitsOf(largest); // every value is at or below this
   while (atOrAbove - below > 1n) {
     const middle = (below + atOrAbove) >> 1n;
-    const candidate = valueOf(middle);
+    const candidate = bitsToNumber(middle);
     let count = 0;
-    for (let i = 0; i < series.length; i++) { const v = series[i]; if (v > gate && v <= candidate) count++; }
+    for (let i = 0; i < series.length; i++) {
+      const v = series[i];
+      if (v > gate && v <= candidate) count++;
+    }
     if (count > k) atOrAbove = middle;
     else below = middle;
   }
-  return valueOf(atOrAbove);
+  return bitsToNumber(atOrAbove);
 }

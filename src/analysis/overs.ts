@@ -3,7 +3,12 @@
 
 import { byStartThenChannel, EventLog, type EventList } from './events.ts';
 
-interface OpenOver { startFrame: number; lastFrame: number; count: number; peak: number }
+interface OpenOver {
+  startFrame: number;
+  lastFrame: number;
+  count: number;
+  peak: number;
+}
 
 export class OverLog {
   private readonly open: (OpenOver | null)[];
@@ -37,8 +42,12 @@ export class OverLog {
     const open = this.open[channel];
     if (!open) return;
     this.log.add({
-      kind: this.kind, channel, startFrame: open.startFrame, endFrame: open.lastFrame + 1,
-      peakValue: 20 * Math.log10(open.peak), count: open.count,
+      kind: this.kind,
+      channel,
+      startFrame: open.startFrame,
+      endFrame: open.lastFrame + 1,
+      peakValue: 20 * Math.log10(open.peak),
+      count: open.count,
     });
     this.open[channel] = null;
   }

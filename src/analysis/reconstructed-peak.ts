@@ -40,17 +40,23 @@ import { ENVELOPE_CHUNK_FRAMES, EnvelopeBuilder } from './envelope.ts';
 import type { EventList } from './events.ts';
 import { OverLog } from './overs.ts';
 import { amplitudeToDb, dbToAmplitude } from './units.ts';
-import { CHANNEL_SLOTS, ReconstructionKernel, RECONSTRUCTION_HISTORY_FRAMES, RECONSTRUCTION_KERNEL_FRAMES, SLOT } from './kernels/reconstructed-peak.ts';
+import {
+  CHANNEL_SLOTS,
+  ReconstructionKernel,
+  RECONSTRUCTION_HISTORY_FRAMES,
+  RECONSTRUCTION_KERNEL_FRAMES,
+  SLOT,
+} from './kernels/reconstructed-peak.ts';
 
 /**
  * Stage 1: c[k] weighs x[n - k] + x[n + 1 + k] for the point half-way between x[n] and x[n + 1].
  * scipy.signal.remez(32, [0, 0.45], [1], fs=1), second half: |1 - H(f)| <= 0.00253 to 0.45 fs.
  */
 export const HALF_SAMPLE_TAPS: readonly number[] = [
-  0.6353145420735684, -0.20831774972170608, 0.12092928441540912, -0.08217169829470033,
-  0.05975106117058665, -0.04488661207306316, 0.0342172949413829, -0.02618244764463183,
-  0.019959183494764873, -0.015062874735004048, 0.011193798388692028, -0.008139940008045179,
-  0.005754555486991785, -0.003918347131691532, 0.0025325490286641013, -0.0022263561251580992,
+  0.6353145420735684, -0.20831774972170608, 0.12092928441540912, -0.08217169829470033, 0.05975106117058665,
+  -0.04488661207306316, 0.0342172949413829, -0.02618244764463183, 0.019959183494764873, -0.015062874735004048,
+  0.011193798388692028, -0.008139940008045179, 0.005754555486991785, -0.003918347131691532, 0.0025325490286641013,
+  -0.0022263561251580992,
 ];
 /** The same taps in input order, x[m - 15] .. x[m + 16]. */
 const STAGE1_FULL = Float64Array.from([...HALF_SAMPLE_TAPS].reverse().concat(HALF_SAMPLE_TAPS));
@@ -62,8 +68,12 @@ export const RECONSTRUCTION_OVERSAMPLING = 8;
 export const REFINEMENT_CAP = 1 / Math.cos(Math.PI / 16);
 
 function besselI0(x: number): number {
-  let sum = 1, term = 1;
-  for (let k = 1; k < 50; k++) { term *= (x / (2 * k)) ** 2; sum += term; }
+  let sum = 1,
+    term = 1;
+  for (let k = 1; k < 50; k++) {
+    term *= (x / (2 * k)) ** 2;
+    sum += term;
+  }
   return sum;
 }
 
@@ -76,7 +86,7 @@ export function quarterPhaseTaps(q: number): Float64Array {
     const t = q / 4 - (i - STAGE2_HALF_WIDTH + 1);
     const r = t / STAGE2_HALF_WIDTH;
     const sinc = t === 0 ? 1 : Math.sin(Math.PI * t) / (Math.PI * t);
-    return sinc * besselI0(STAGE2_BETA * Math.sqrt(Math.max(0, 1 - r * r))) / besselI0(STAGE2_BETA);
+    return (sinc * besselI0(STAGE2_BETA * Math.sqrt(Math.max(0, 1 - r * r)))) / besselI0(STAGE2_BETA);
   });
   const sum = taps.reduce((s, v) => s + v, 0);
   return taps.map((v) => v / sum);
@@ -89,11 +99,18 @@ export function gridPhaseKernels(): Float64Array[] {
   // z[j] of the 2x stream as weights on x: even j is x[j/2], odd j is the stage-1 point.
   const addZ = (out: Float64Array, j: number, w: number) => {
     const n = Math.floor(j / 2);
-    if (j % 2 === 0) { out[n + offset] += w; return; }
-    HALF_SAMPLE_TAPS.forEach((c, k) => { out[n - k + offset] += w * c; out[n + 1 + k + offset] += w * c; });
+    if (j % 2 === 0) {
+      out[n + offset] += w;
+      return;
+    }
+    HALF_SAMPLE_TAPS.forEach((c, k) => {
+      out[n - k + offset] += w * c;
+      out[n + 1 + k + offset] += w * c;
+    });
   };
   for (let q = 0; q < RECONSTRUCTION_OVERSAMPLING; q++) {
-    const j = q >> 2, r = q & 3;
+    const j = q >> 2,
+      r = q & 3;
     if (r === 0) addZ(kernels[q], j, 1);
     else quarterPhaseTaps(r).forEach((g, i) => addZ(kernels[q], j + i - STAGE2_HALF_WIDTH + 1, g));
   }
@@ -101,11 +118,16 @@ export function gridPhaseKernels(): Float64Array[] {
 }
 
 /** Largest possible |grid value| per unit of max|x| over its taps. */
-export const RECONSTRUCTION_GAIN_BOUND = Math.max(...gridPhaseKernels().map((h) => h.reduce((s, v) => s + Math.abs(v), 0)));
+export const RECONSTRUCTION_GAIN_BOUND = Math.max(
+  ...gridPhaseKernels().map((h) => h.reduce((s, v) => s + Math.abs(v), 0)),
+);
 /** Bound on a frame's reading per unit max|x|; the margin covers rounding in the sums. */
 const PRUNE_GAIN = RECONSTRUCTION_GAIN_BOUND * REFINEMENT_CAP * (1 + 1e-9);
 /** The same bound from max |z| over stage 2's taps, once stage 1 is known. */
-const STAGE2_PRUNE_GAIN = Math.max(...[1, 2, 3].map((q) => quarterPhaseTaps(q).reduce((s, v) => s + Math.abs(v), 0))) * REFINEMENT_CAP * (1 + 1e-9);
+const STAGE2_PRUNE_GAIN =
+  Math.max(...[1, 2, 3].map((q) => quarterPhaseTaps(q).reduce((s, v) => s + Math.abs(v), 0))) *
+  REFINEMENT_CAP *
+  (1 + 1e-9);
 /** cap * value <= gate for every value <= gate * this (the margin covers rounding). */
 const INVERSE_CAP = (1 - 1e-12) / REFINEMENT_CAP;
 
@@ -118,7 +140,8 @@ if (ENVELOPE_CHUNK_FRAMES * 2 < HISTORY) throw new Error('envelope chunks are sh
 // The kernel is written for these (and for 32-frame chunks).
 /** Frames per kernel call, and per test whether a call is needed at all (4096 and 2048 measured slower). */
 const PIECE_FRAMES = RECONSTRUCTION_KERNEL_FRAMES;
-if (HISTORY !== RECONSTRUCTION_HISTORY_FRAMES || ENVELOPE_CHUNK_FRAMES !== 32) throw new Error('the reconstruction kernel assumes a 36-frame history and 32-frame chunks');
+if (HISTORY !== RECONSTRUCTION_HISTORY_FRAMES || ENVELOPE_CHUNK_FRAMES !== 32)
+  throw new Error('the reconstruction kernel assumes a 36-frame history and 32-frame chunks');
 
 export interface ReconstructedPeakOptions {
   /** Reconstructed values above this ceiling become 'reconstructed_over' events. */
@@ -165,7 +188,8 @@ export class ReconstructedPeakMeter implements Meter<ReconstructedPeakResult> {
     this.histories = new Float64Array(info.channels * HISTORY);
     this.overLog = new OverLog('reconstructed_over', info.channels, info.sampleRate, mergeFrames, options.maxEvents);
     // Pair k joins z[j + 1 + k] and z[j - k]: halved sums and differences of the mirrored taps.
-    const g1 = quarterPhaseTaps(1), g2 = quarterPhaseTaps(2);
+    const g1 = quarterPhaseTaps(1),
+      g2 = quarterPhaseTaps(2);
     const w = STAGE2_HALF_WIDTH - 1;
     this.kernel = new ReconstructionKernel({
       stage1: STAGE1_FULL,
@@ -189,9 +213,11 @@ export class ReconstructedPeakMeter implements Meter<ReconstructedPeakResult> {
     const frames = block.frames;
     if (frames === 0) return;
     const envelope = this.envelopes.of(block);
-    const kernel = this.kernel, state = kernel.state;
+    const kernel = this.kernel,
+      state = kernel.state;
     for (let c = 0; c < this.channels; c++) {
-      const x = block.channelData[c], chunkMax = envelope.maxAbs[c];
+      const x = block.channelData[c],
+        chunkMax = envelope.maxAbs[c];
       const slots = this.slots.subarray(c * CHANNEL_SLOTS, (c + 1) * CHANNEL_SLOTS);
       const history = this.histories.subarray(c * HISTORY, (c + 1) * HISTORY);
       state.set(slots);
@@ -199,7 +225,8 @@ export class ReconstructedPeakMeter implements Meter<ReconstructedPeakResult> {
       // Pieces are whole chunks; the kernel carries the history from one to the next.
       for (let from = 0; from < frames; from += PIECE_FRAMES) {
         const n = Math.min(PIECE_FRAMES, frames - from);
-        const chunk0 = from / ENVELOPE_CHUNK_FRAMES, chunkEnd = chunk0 + Math.ceil(n / ENVELOPE_CHUNK_FRAMES);
+        const chunk0 = from / ENVELOPE_CHUNK_FRAMES,
+          chunkEnd = chunk0 + Math.ceil(n / ENVELOPE_CHUNK_FRAMES);
         let pieceMax = 0;
         for (let k = chunk0; k < chunkEnd; k++) if (chunkMax[k] > pieceMax) pieceMax = chunkMax[k];
         const at = this.position + from;
@@ -213,7 +240,8 @@ export class ReconstructedPeakMeter implements Meter<ReconstructedPeakResult> {
         kernel.chunkMax.set(chunkMax.subarray(chunk0, chunkEnd));
         state[SLOT.position] = at;
         const overs = kernel.scan(n);
-        for (let i = 0; i < overs; i++) this.overLog.record(c, at + kernel.overIndices[i] - HISTORY, kernel.overPeaks[i]);
+        for (let i = 0; i < overs; i++)
+          this.overLog.record(c, at + kernel.overIndices[i] - HISTORY, kernel.overPeaks[i]);
       }
       slots.set(state.subarray(0, CHANNEL_SLOTS));
       history.set(kernel.history);
@@ -229,13 +257,20 @@ export class ReconstructedPeakMeter implements Meter<ReconstructedPeakResult> {
 
   /** What the kernel leaves behind for a piece whose every chunk it would prune. */
   private skip(x: Float32Array, from: number, n: number, pieceMax: number): void {
-    const state = this.kernel.state, history = this.kernel.history;
+    const state = this.kernel.state,
+      history = this.kernel.history;
     if (pieceMax > state[SLOT.samplePeak]) state[SLOT.samplePeak] = pieceMax;
     state[SLOT.pruned] += n;
     if (n >= HISTORY) history.set(x.subarray(from + n - HISTORY, from + n));
-    else { history.copyWithin(0, n); history.set(x.subarray(from, from + n), HISTORY - n); }
+    else {
+      history.copyWithin(0, n);
+      history.set(x.subarray(from, from + n), HISTORY - n);
+    }
     let m = 0;
-    for (let i = 0; i < HISTORY; i++) { const a = Math.abs(history[i]); if (a > m) m = a; }
+    for (let i = 0; i < HISTORY; i++) {
+      const a = Math.abs(history[i]);
+      if (a > m) m = a;
+    }
     state[SLOT.historyMax] = m;
   }
 

@@ -13,7 +13,11 @@ import { LoudnessMeter, type LoudnessOptions, type LoudnessResult } from './loud
 import { SilenceMeter, type SilenceMeterOptions, type SilenceResult } from './silence.ts';
 import { TimeWeightedLevelMeter, type TimeWeightedLevelResult } from './ballistics.ts';
 import { TruePeakMeter, type TruePeakOptions, type TruePeakResult } from './true-peak.ts';
-import { ReconstructedPeakMeter, type ReconstructedPeakOptions, type ReconstructedPeakResult } from './reconstructed-peak.ts';
+import {
+  ReconstructedPeakMeter,
+  type ReconstructedPeakOptions,
+  type ReconstructedPeakResult,
+} from './reconstructed-peak.ts';
 
 export interface AnalysisOptions {
   loudness?: LoudnessOptions;
@@ -61,33 +65,52 @@ export interface MeterDescriptor<R> {
 /** Every meter, in the order the runner feeds them and the document lists their events. */
 export const METERS: { readonly [K in MeterName]: MeterDescriptor<Measurements[K]> } = {
   levels: { create: (info) => new LevelMeter(info), costMsPerMinute: 2.6, readsEnvelope: true, events: null },
-  timeWeighted: { create: (info) => new TimeWeightedLevelMeter(info), costMsPerMinute: 6, readsEnvelope: false, events: null },
+  timeWeighted: {
+    create: (info) => new TimeWeightedLevelMeter(info),
+    costMsPerMinute: 6,
+    readsEnvelope: false,
+    events: null,
+  },
   loudness: {
-    create: (info, o) => new LoudnessMeter(info, o.loudness), costMsPerMinute: 18, readsEnvelope: false,
+    create: (info, o) => new LoudnessMeter(info, o.loudness),
+    costMsPerMinute: 18,
+    readsEnvelope: false,
     events: { kinds: ['loud_momentary', 'loud_short_term'], countOrder: 3 },
   },
   truePeak: {
-    create: (info, o) => new TruePeakMeter(info, o.truePeak), costMsPerMinute: 5.3, readsEnvelope: true,
+    create: (info, o) => new TruePeakMeter(info, o.truePeak),
+    costMsPerMinute: 5.3,
+    readsEnvelope: true,
     events: { kinds: ['true_peak_over'], countOrder: 0 },
   },
   reconstructedPeak: {
-    create: (info, o) => new ReconstructedPeakMeter(info, o.reconstructedPeak), costMsPerMinute: 5.4, readsEnvelope: true,
+    create: (info, o) => new ReconstructedPeakMeter(info, o.reconstructedPeak),
+    costMsPerMinute: 5.4,
+    readsEnvelope: true,
     events: { kinds: ['reconstructed_over'], countOrder: 1 },
   },
   clipping: {
-    create: (info, o) => new ClippingMeter(info, o.clipping), costMsPerMinute: 0.5, readsEnvelope: true,
+    create: (info, o) => new ClippingMeter(info, o.clipping),
+    costMsPerMinute: 0.5,
+    readsEnvelope: true,
     events: { kinds: ['clipping'], countOrder: 4 },
   },
   dropouts: {
-    create: (info, o) => new DropoutMeter(info, o.dropouts), costMsPerMinute: 2, readsEnvelope: true,
+    create: (info, o) => new DropoutMeter(info, o.dropouts),
+    costMsPerMinute: 2,
+    readsEnvelope: true,
     events: { kinds: ['dropout'], countOrder: 2 },
   },
   silence: {
-    create: (info, o) => new SilenceMeter(info, o.silence), costMsPerMinute: 2.3, readsEnvelope: true,
+    create: (info, o) => new SilenceMeter(info, o.silence),
+    costMsPerMinute: 2.3,
+    readsEnvelope: true,
     events: { kinds: ['silence'], countOrder: 5 },
   },
   channelRelations: {
-    create: (info, o) => new ChannelRelationMeter(info, o.channelRelations), costMsPerMinute: 4.5, readsEnvelope: false,
+    create: (info, o) => new ChannelRelationMeter(info, o.channelRelations),
+    costMsPerMinute: 4.5,
+    readsEnvelope: false,
     events: { kinds: ['dead_channel', 'duplicate_channel', 'inverted_channel', 'phase_problem'], countOrder: 6 },
   },
 };
@@ -98,7 +121,7 @@ export const ENVELOPE_METERS: readonly MeterName[] = METER_NAMES.filter((name) =
 
 /** A meter result that lists events: checked, so a consumer needs no per-meter code. */
 export function isEventList(result: Measurements[MeterName]): result is Extract<Measurements[MeterName], EventList> {
-  return 'events' in result && 'eventsTotal' in result && 'eventsTruncated' in result;
+  return 'events' in result && 'eventsTotal' in result && 'eventsTruncated' in result && 'eventsByKind' in result;
 }
 
 /** Whether every meter's field (and frames) is present: a runner of all the meters gives such a result. */
@@ -114,7 +137,11 @@ export class AnalysisRunner implements Meter<Measurements> {
   private readonly collectors: ((out: Partial<Measurements>) => void)[] = [];
   private readonly envelopes: EnvelopeBuilder | null;
 
-  constructor(readonly info: StreamInfo, options: AnalysisOptions = {}, only: readonly MeterName[] = METER_NAMES) {
+  constructor(
+    readonly info: StreamInfo,
+    options: AnalysisOptions = {},
+    only: readonly MeterName[] = METER_NAMES,
+  ) {
     const names = METER_NAMES.filter((name) => only.includes(name));
     for (const name of names) this.start(name, options);
     this.envelopes = names.some((name) => ENVELOPE_METERS.includes(name)) ? new EnvelopeBuilder() : null;
@@ -123,7 +150,9 @@ export class AnalysisRunner implements Meter<Measurements> {
   private start<K extends MeterName>(name: K, options: AnalysisOptions): void {
     const meter: Meter<Measurements[K]> = METERS[name].create(this.info, options);
     this.meters.push(meter);
-    this.collectors.push((out) => { out[name] = meter.result(); });
+    this.collectors.push((out) => {
+      out[name] = meter.result();
+    });
   }
 
   push(block: PcmBlock): void {
@@ -131,7 +160,8 @@ export class AnalysisRunner implements Meter<Measurements> {
       throw new RangeError(`block has ${block.channelData.length} channels, stream has ${this.info.channels}`);
     }
     // One envelope pass for every meter that reads it.
-    const shared: PcmBlock = block.envelope || !this.envelopes ? block : { ...block, envelope: this.envelopes.build(block) };
+    const shared: PcmBlock =
+      block.envelope || !this.envelopes ? block : { ...block, envelope: this.envelopes.build(block) };
     for (const meter of this.meters) meter.push(shared);
     this.frames += block.frames;
   }
@@ -139,7 +169,8 @@ export class AnalysisRunner implements Meter<Measurements> {
   /** Every meter's result; only a runner of all the meters has one (see partialResult). */
   result(): Measurements {
     const m = this.partialResult();
-    if (!isCompleteMeasurements(m)) throw new Error('result() needs every meter; a runner of some meters gives partialResult()');
+    if (!isCompleteMeasurements(m))
+      throw new Error('result() needs every meter; a runner of some meters gives partialResult()');
     return m;
   }
 

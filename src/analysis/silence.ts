@@ -78,7 +78,10 @@ export class SilenceMeter implements Meter<SilenceResult> {
   private finished: SilenceResult | null = null;
   private readonly envelopes = new EnvelopeBuilder();
 
-  constructor(private readonly info: StreamInfo, options: SilenceMeterOptions = {}) {
+  constructor(
+    private readonly info: StreamInfo,
+    options: SilenceMeterOptions = {},
+  ) {
     this.thresholdDbfs = options.thresholdDbfs ?? DEFAULT_SILENCE_THRESHOLD_DBFS;
     this.threshold = dbToAmplitude(this.thresholdDbfs);
     this.minDurationSeconds = options.minDurationSeconds ?? DEFAULT_SILENCE_MIN_SECONDS;
@@ -116,7 +119,8 @@ export class SilenceMeter implements Meter<SilenceResult> {
     const edgesOnly = keepFrames > ENVELOPE_CHUNK_FRAMES;
     for (let c = 0; c < n; c++) {
       const x = block.channelData[c];
-      const chunkMax = envelope.maxAbs[c], chunkMin = envelope.minAbs[c];
+      const chunkMax = envelope.maxAbs[c],
+        chunkMin = envelope.minAbs[c];
       const off = c * this.runCap;
       let count = 0;
       let start = this.runStart[c];
@@ -142,13 +146,17 @@ export class SilenceMeter implements Meter<SilenceResult> {
             i++;
           }
           // ... and open one at the silent stretch it ends with, if any.
-          let j = to, tail = 0;
+          let j = to,
+            tail = 0;
           for (; j > i; j--) {
             const a = Math.abs(x[j - 1]);
             if (a >= thr) break;
             if (a > tail) tail = a;
           }
-          if (j < to) { start = base + j; peak = tail; }
+          if (j < to) {
+            start = base + j;
+            peak = tail;
+          }
           continue;
         }
         for (let i = from; i < to; i++) {
@@ -179,7 +187,16 @@ export class SilenceMeter implements Meter<SilenceResult> {
   }
 
   /** Closes a channel's run at a loud sample; keeps it for the all-channel intersection if it can matter there. */
-  private endRun(c: number, start: number, end: number, peak: number, base: number, keepFrames: number, off: number, count: number): number {
+  private endRun(
+    c: number,
+    start: number,
+    end: number,
+    peak: number,
+    base: number,
+    keepFrames: number,
+    off: number,
+    count: number,
+  ): number {
     if (start <= base || end - start >= keepFrames) {
       this.blockRunStart[off + count] = start > base ? start : base;
       this.blockRunEnd[off + count++] = end;

@@ -23,12 +23,12 @@ import { amplitudeToDb, dbToAmplitude } from './units.ts';
 
 /** BS.1770-5 Annex 2, section 3: phase 0 and phase 1 of the example filter. */
 export const ANNEX2_PHASE0 = [
-  0.0017089843750, 0.0109863281250, -0.0196533203125, 0.0332031250000, -0.0594482421875, 0.1373291015625,
-  0.9721679687500, -0.1022949218750, 0.0476074218750, -0.0266113281250, 0.0148925781250, -0.0083007812500,
+  0.001708984375, 0.010986328125, -0.0196533203125, 0.033203125, -0.0594482421875, 0.1373291015625, 0.97216796875,
+  -0.102294921875, 0.047607421875, -0.026611328125, 0.014892578125, -0.00830078125,
 ];
 export const ANNEX2_PHASE1 = [
-  -0.0291748046875, 0.0292968750000, -0.0517578125000, 0.0891113281250, -0.1665039062500, 0.4650878906250,
-  0.7797851562500, -0.2003173828125, 0.1015625000000, -0.0582275390625, 0.0330810546875, -0.0189208984375,
+  -0.0291748046875, 0.029296875, -0.0517578125, 0.089111328125, -0.16650390625, 0.465087890625, 0.77978515625,
+  -0.2003173828125, 0.1015625, -0.0582275390625, 0.0330810546875, -0.0189208984375,
 ];
 const TAPS = 12;
 const HISTORY = TAPS - 1;
@@ -105,9 +105,12 @@ export class TruePeakMeter implements Meter<TruePeakResult> {
     this.historyMax = new Float64Array(info.channels);
     this.overLog = new OverLog('true_peak_over', info.channels, info.sampleRate, this.mergeFrames, options.maxEvents);
     // Halved (exact: a power of two), so |S| + |D| is already max(|y0|, |y3|).
-    const pairs = (h: number[], sign: number) => Float64Array.from({ length: 6 }, (_, k) => 0.5 * (h[k] + sign * h[TAPS - 1 - k]));
-    this.s0 = pairs(ANNEX2_PHASE0, 1); this.d0 = pairs(ANNEX2_PHASE0, -1);
-    this.s1 = pairs(ANNEX2_PHASE1, 1); this.d1 = pairs(ANNEX2_PHASE1, -1);
+    const pairs = (h: number[], sign: number) =>
+      Float64Array.from({ length: 6 }, (_, k) => 0.5 * (h[k] + sign * h[TAPS - 1 - k]));
+    this.s0 = pairs(ANNEX2_PHASE0, 1);
+    this.d0 = pairs(ANNEX2_PHASE0, -1);
+    this.s1 = pairs(ANNEX2_PHASE1, 1);
+    this.d1 = pairs(ANNEX2_PHASE1, -1);
   }
 
   push(block: PcmBlock): void {
@@ -159,34 +162,76 @@ export class TruePeakMeter implements Meter<TruePeakResult> {
   /** Frames [start, end): the taps of frame f are taps[f + offset .. f + offset + HISTORY]. */
   private interpolateSpan(channel: number, taps: Float32Array, offset: number, start: number, end: number): void {
     const { s0, d0, s1, d1 } = this;
-    const s00 = s0[0], s01 = s0[1], s02 = s0[2], s03 = s0[3], s04 = s0[4], s05 = s0[5];
-    const d00 = d0[0], d01 = d0[1], d02 = d0[2], d03 = d0[3], d04 = d0[4], d05 = d0[5];
-    const s10 = s1[0], s11 = s1[1], s12 = s1[2], s13 = s1[3], s14 = s1[4], s15 = s1[5];
-    const d10 = d1[0], d11 = d1[1], d12 = d1[2], d13 = d1[3], d14 = d1[4], d15 = d1[5];
+    const s00 = s0[0],
+      s01 = s0[1],
+      s02 = s0[2],
+      s03 = s0[3],
+      s04 = s0[4],
+      s05 = s0[5];
+    const d00 = d0[0],
+      d01 = d0[1],
+      d02 = d0[2],
+      d03 = d0[3],
+      d04 = d0[4],
+      d05 = d0[5];
+    const s10 = s1[0],
+      s11 = s1[1],
+      s12 = s1[2],
+      s13 = s1[3],
+      s14 = s1[4],
+      s15 = s1[5];
+    const d10 = d1[0],
+      d11 = d1[1],
+      d12 = d1[2],
+      d13 = d1[3],
+      d14 = d1[4],
+      d15 = d1[5];
     const ceiling = this.ceilingLinear;
-    let max = this.maxima[channel], maxAt = -1;
+    let max = this.maxima[channel],
+      maxAt = -1;
     // One test per sample: either a new maximum or an over is rare.
     let gate = Math.min(max, ceiling);
     for (let n = start, t = start + offset; n < end; n++, t++) {
       // Twelve loads per output beat sliding the taps through locals: fewer register spills.
-      const x0 = taps[t], x1 = taps[t + 1], x2 = taps[t + 2], x3 = taps[t + 3], x4 = taps[t + 4], x5 = taps[t + 5];
-      const x6 = taps[t + 6], x7 = taps[t + 7], x8 = taps[t + 8], x9 = taps[t + 9], x10 = taps[t + 10], x11 = taps[t + 11];
-      const a0 = x11 + x0, b0 = x11 - x0;
-      const a1 = x10 + x1, b1 = x10 - x1;
-      const a2 = x9 + x2, b2 = x9 - x2;
-      const a3 = x8 + x3, b3 = x8 - x3;
-      const a4 = x7 + x4, b4 = x7 - x4;
-      const a5 = x6 + x5, b5 = x6 - x5;
-      const even = Math.abs(s00 * a0 + s01 * a1 + s02 * a2 + s03 * a3 + s04 * a4 + s05 * a5)
-        + Math.abs(d00 * b0 + d01 * b1 + d02 * b2 + d03 * b3 + d04 * b4 + d05 * b5);
-      const odd = Math.abs(s10 * a0 + s11 * a1 + s12 * a2 + s13 * a3 + s14 * a4 + s15 * a5)
-        + Math.abs(d10 * b0 + d11 * b1 + d12 * b2 + d13 * b3 + d14 * b4 + d15 * b5);
+      const x0 = taps[t],
+        x1 = taps[t + 1],
+        x2 = taps[t + 2],
+        x3 = taps[t + 3],
+        x4 = taps[t + 4],
+        x5 = taps[t + 5];
+      const x6 = taps[t + 6],
+        x7 = taps[t + 7],
+        x8 = taps[t + 8],
+        x9 = taps[t + 9],
+        x10 = taps[t + 10],
+        x11 = taps[t + 11];
+      const a0 = x11 + x0,
+        b0 = x11 - x0;
+      const a1 = x10 + x1,
+        b1 = x10 - x1;
+      const a2 = x9 + x2,
+        b2 = x9 - x2;
+      const a3 = x8 + x3,
+        b3 = x8 - x3;
+      const a4 = x7 + x4,
+        b4 = x7 - x4;
+      const a5 = x6 + x5,
+        b5 = x6 - x5;
+      const even =
+        Math.abs(s00 * a0 + s01 * a1 + s02 * a2 + s03 * a3 + s04 * a4 + s05 * a5) +
+        Math.abs(d00 * b0 + d01 * b1 + d02 * b2 + d03 * b3 + d04 * b4 + d05 * b5);
+      const odd =
+        Math.abs(s10 * a0 + s11 * a1 + s12 * a2 + s13 * a3 + s14 * a4 + s15 * a5) +
+        Math.abs(d10 * b0 + d11 * b1 + d12 * b2 + d13 * b3 + d14 * b4 + d15 * b5);
       // Three tests that are almost never true predict well; picking the largest of the three
       // first would branch at random (about a third slower).
       const ax = Math.abs(x11);
       if (even > gate || odd > gate || ax > gate) {
-        const peak = even > odd ? (even > ax ? even : ax) : (odd > ax ? odd : ax);
-        if (peak > max) { max = peak; maxAt = n; }
+        const peak = even > odd ? (even > ax ? even : ax) : odd > ax ? odd : ax;
+        if (peak > max) {
+          max = peak;
+          maxAt = n;
+        }
         if (peak > ceiling) this.recordOver(channel, this.position + n, peak);
         gate = Math.min(max, ceiling);
       }

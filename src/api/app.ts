@@ -19,7 +19,9 @@ import { rateLimitPlugin } from './plugins/rate-limit.ts';
 import { routeModules } from './routes.ts';
 
 /** Requests are logged as method and path only: no headers (keys), no query strings. */
-const serializers = { req: (req: { method: string; url: string }) => ({ method: req.method, url: req.url.split('?')[0] }) };
+const serializers = {
+  req: (req: { method: string; url: string }) => ({ method: req.method, url: req.url.split('?')[0] }),
+};
 
 export async function buildApp(config: Config, deps: AppDeps, logger?: Logger): Promise<FastifyInstance> {
   const base = logger ?? pino({ level: config.logLevel });
@@ -36,7 +38,10 @@ export async function buildApp(config: Config, deps: AppDeps, logger?: Logger): 
     // links); the idle bound below is what stops stalled ones.
     requestTimeout: config.requestTimeoutMs,
     // Node checks both bounds on this interval (30 s by default: too coarse for short settings).
-    http: { connectionsCheckingInterval: Math.min(30_000, Math.max(250, Math.floor(config.requestTimeoutMs / 4))), headersTimeout: Math.min(60_000, config.requestTimeoutMs) },
+    http: {
+      connectionsCheckingInterval: Math.min(30_000, Math.max(250, Math.floor(config.requestTimeoutMs / 4))),
+      headersTimeout: Math.min(60_000, config.requestTimeoutMs),
+    },
     connectionTimeout: config.bodyTimeoutMs,
     keepAliveTimeout: Math.min(72_000, config.bodyTimeoutMs),
     frameworkErrors: frameworkProblem,
@@ -51,19 +56,31 @@ export async function buildApp(config: Config, deps: AppDeps, logger?: Logger): 
   app.server.on('timeout', (socket: Socket) => {
     const open = openResponses.get(socket);
     openResponses.delete(socket);
-    if (open && !open.headersSent && socket.writable) socket.end(rawProblem(new EarmarkError('request_timeout', `nothing arrived for ${config.bodyTimeoutMs} ms`)), () => socket.destroy());
+    if (open && !open.headersSent && socket.writable)
+      socket.end(
+        rawProblem(new EarmarkError('request_timeout', `nothing arrived for ${config.bodyTimeoutMs} ms`)),
+        () => socket.destroy(),
+      );
     else socket.destroy();
   });
   const openResponses = new WeakMap<Socket, ServerResponse>();
-  app.addHook('onRequest', async (request, reply) => { openResponses.set(request.raw.socket, reply.raw); });
-  app.addHook('onResponse', async (request) => { openResponses.delete(request.raw.socket); });
-  app.addHook('onSend', async (request, reply) => { reply.header('x-request-id', request.id); });
+  app.addHook('onRequest', async (request, reply) => {
+    openResponses.set(request.raw.socket, reply.raw);
+  });
+  app.addHook('onResponse', async (request) => {
+    openResponses.delete(request.raw.socket);
+  });
+  app.addHook('onSend', async (request, reply) => {
+    reply.header('x-request-id', request.id);
+  });
   await app.register(errorsPlugin);
   await app.register(jsonBodyPlugin);
   await app.register(authPlugin(config.apiKeys));
   await app.register(rateLimitPlugin(config.rateLimitPerMinute));
   // Generous parser limits: past them the parser stops reading mid-body; upload-form.ts allows 10 fields.
-  await app.register(multipart, { limits: { fileSize: config.uploadLimitBytes, files: 1, fields: 100, fieldSize: 64 * 1024, parts: 110 } });
+  await app.register(multipart, {
+    limits: { fileSize: config.uploadLimitBytes, files: 1, fields: 100, fieldSize: 64 * 1024, parts: 110 },
+  });
   // Before the routes: its onResponse hook counts every request.
   await app.register(metricsPlugin(deps));
   await app.register(openapiPlugin());

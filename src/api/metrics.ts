@@ -11,7 +11,11 @@ import type { AppDeps } from './deps.ts';
 
 export type MetricsView = 'tenant' | 'all';
 
-interface RequestLabels { method: string; route: string; status: string }
+interface RequestLabels {
+  method: string;
+  route: string;
+  status: string;
+}
 
 /** Request latency bounds (seconds): prom-client's defaults. */
 const LATENCY_BUCKETS_SECONDS = [0.005, 0.01, 0.025, 0.05, 0.1, 0.25, 0.5, 1, 2.5, 5, 10];
@@ -22,9 +26,24 @@ const SUBMITTED_HELP = 'Jobs accepted by this API process (repeated Idempotency-
 
 class TenantMetrics {
   readonly registry = new Registry();
-  readonly requests = new Counter({ name: 'earmark_http_requests_total', help: REQUESTS_HELP, labelNames: ['method', 'route', 'status'], registers: [this.registry] });
-  readonly latency = new Histogram({ name: 'earmark_http_request_duration_seconds', help: LATENCY_HELP, labelNames: ['method', 'route', 'status'], buckets: LATENCY_BUCKETS_SECONDS, registers: [this.registry] });
-  readonly submitted = new Counter({ name: 'earmark_jobs_submitted_total', help: SUBMITTED_HELP, registers: [this.registry] });
+  readonly requests = new Counter({
+    name: 'earmark_http_requests_total',
+    help: REQUESTS_HELP,
+    labelNames: ['method', 'route', 'status'],
+    registers: [this.registry],
+  });
+  readonly latency = new Histogram({
+    name: 'earmark_http_request_duration_seconds',
+    help: LATENCY_HELP,
+    labelNames: ['method', 'route', 'status'],
+    buckets: LATENCY_BUCKETS_SECONDS,
+    registers: [this.registry],
+  });
+  readonly submitted = new Counter({
+    name: 'earmark_jobs_submitted_total',
+    help: SUBMITTED_HELP,
+    registers: [this.registry],
+  });
 }
 
 /**
@@ -34,21 +53,51 @@ class TenantMetrics {
 function analysisHistogram(stored: OutcomeCounters): Registry {
   const name = 'earmark_analysis_seconds';
   const values = [
-    ...stored.analysisBuckets.map((b) => ({ metricName: `${name}_bucket`, labels: { le: b.leSeconds }, value: b.count })),
+    ...stored.analysisBuckets.map((b) => ({
+      metricName: `${name}_bucket`,
+      labels: { le: b.leSeconds },
+      value: b.count,
+    })),
     { metricName: `${name}_bucket`, labels: { le: '+Inf' }, value: stored.analysisCount },
     { metricName: `${name}_sum`, labels: {}, value: stored.analysisSumSeconds },
     { metricName: `${name}_count`, labels: {}, value: stored.analysisCount },
   ];
-  return AggregatorRegistry.aggregate([[{ name, help: 'Time spent analysing jobs, as recorded by the workers.', type: 'histogram', aggregator: 'sum', values }]]);
+  return AggregatorRegistry.aggregate([
+    [
+      {
+        name,
+        help: 'Time spent analysing jobs, as recorded by the workers.',
+        type: 'histogram',
+        aggregator: 'sum',
+        values,
+      },
+    ],
+  ]);
 }
 
 export class ApiMetrics {
   private readonly tenants = new Map<string, TenantMetrics>();
   private readonly service = new Registry();
   private readonly process = new Registry();
-  private readonly requests = new Counter({ name: 'earmark_http_requests_total', help: REQUESTS_HELP, labelNames: ['tenant', 'method', 'route', 'status'], registers: [this.service] });
-  private readonly latency = new Histogram({ name: 'earmark_http_request_duration_seconds', help: LATENCY_HELP, labelNames: ['method', 'route', 'status'], buckets: LATENCY_BUCKETS_SECONDS, registers: [this.service] });
-  private readonly submitted = new Counter({ name: 'earmark_jobs_submitted_total', help: SUBMITTED_HELP, labelNames: ['tenant'], registers: [this.service] });
+  private readonly requests = new Counter({
+    name: 'earmark_http_requests_total',
+    help: REQUESTS_HELP,
+    labelNames: ['tenant', 'method', 'route', 'status'],
+    registers: [this.service],
+  });
+  private readonly latency = new Histogram({
+    name: 'earmark_http_request_duration_seconds',
+    help: LATENCY_HELP,
+    labelNames: ['method', 'route', 'status'],
+    buckets: LATENCY_BUCKETS_SECONDS,
+    registers: [this.service],
+  });
+  private readonly submitted = new Counter({
+    name: 'earmark_jobs_submitted_total',
+    help: SUBMITTED_HELP,
+    labelNames: ['tenant'],
+    registers: [this.service],
+  });
 
   constructor() {
     collectDefaultMetrics({ register: this.process });
@@ -56,7 +105,7 @@ export class ApiMetrics {
 
   private tenant(tenant: string): TenantMetrics {
     let metrics = this.tenants.get(tenant);
-    if (!metrics) this.tenants.set(tenant, metrics = new TenantMetrics());
+    if (!metrics) this.tenants.set(tenant, (metrics = new TenantMetrics()));
     return metrics;
   }
 
@@ -78,16 +127,32 @@ export class ApiMetrics {
   /** The exposition text for one scrape: the tenant's own figures, or the whole service's. */
   async render(view: MetricsView, tenant: string, deps: AppDeps): Promise<string> {
     const now = new Registry();
-    const registries = view === 'all' ? [this.service, ...await serviceFigures(now, deps), this.process] : [this.tenant(tenant).registry, await tenantFigures(now, tenant, deps)];
+    const registries =
+      view === 'all'
+        ? [this.service, ...(await serviceFigures(now, deps)), this.process]
+        : [this.tenant(tenant).registry, await tenantFigures(now, tenant, deps)];
     return Registry.merge(registries).metrics();
   }
 }
 
 async function serviceFigures(registry: Registry, deps: AppDeps): Promise<Registry[]> {
-  const [counters, depth] = await Promise.all([deps.store.outcomes.counters(), deps.queue.getJobCounts('waiting', 'active', 'delayed', 'prioritized')]);
-  const jobs = new Counter({ name: 'earmark_jobs_total', help: 'Analysis jobs finished, by outcome.', labelNames: ['outcome'], registers: [registry] });
+  const [counters, depth] = await Promise.all([
+    deps.store.outcomes.counters(),
+    deps.queue.getJobCounts('waiting', 'active', 'delayed', 'prioritized'),
+  ]);
+  const jobs = new Counter({
+    name: 'earmark_jobs_total',
+    help: 'Analysis jobs finished, by outcome.',
+    labelNames: ['outcome'],
+    registers: [registry],
+  });
   for (const outcome of ['completed', 'failed']) jobs.inc({ outcome }, counters.jobs[outcome] ?? 0);
-  const queue = new Gauge({ name: 'earmark_queue_jobs', help: 'Jobs in the analysis queue, by state.', labelNames: ['state'], registers: [registry] });
+  const queue = new Gauge({
+    name: 'earmark_queue_jobs',
+    help: 'Jobs in the analysis queue, by state.',
+    labelNames: ['state'],
+    registers: [registry],
+  });
   for (const state of ['waiting', 'active', 'delayed', 'prioritized']) queue.set({ state }, depth[state] ?? 0);
   return [registry, analysisHistogram(counters)];
 }
@@ -95,8 +160,18 @@ async function serviceFigures(registry: Registry, deps: AppDeps): Promise<Regist
 /** Counted from the tenant's retained jobs: gauges, as they drop when retention removes jobs. */
 async function tenantFigures(registry: Registry, tenant: string, deps: AppDeps): Promise<Registry> {
   const c = await deps.store.index.counts(tenant, bullKeys(deps.queue), Date.now() - 60_000);
-  const jobs = new Gauge({ name: 'earmark_tenant_jobs', help: 'This tenant\'s retained jobs, by state.', labelNames: ['state'], registers: [registry] });
-  for (const state of ['waiting', 'prioritized', 'active', 'delayed', 'completed', 'failed'] as const) jobs.set({ state }, c[state]);
-  new Gauge({ name: 'earmark_tenant_jobs_finished_last_minute', help: 'This tenant\'s jobs finished in the last minute.', registers: [registry] }).set(c.finishedSince);
+  const jobs = new Gauge({
+    name: 'earmark_tenant_jobs',
+    help: "This tenant's retained jobs, by state.",
+    labelNames: ['state'],
+    registers: [registry],
+  });
+  for (const state of ['waiting', 'prioritized', 'active', 'delayed', 'completed', 'failed'] as const)
+    jobs.set({ state }, c[state]);
+  new Gauge({
+    name: 'earmark_tenant_jobs_finished_last_minute',
+    help: "This tenant's jobs finished in the last minute.",
+    registers: [registry],
+  }).set(c.finishedSince);
   return registry;
 }

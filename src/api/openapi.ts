@@ -10,12 +10,21 @@ import { components } from './schemas.ts';
 type Schema = Record<string, unknown>;
 
 const openapiSpec: RouteSpec = {
-  method: 'GET', url: '/openapi.json', operationId: 'openapi', tag: 'health', scope: null, summary: 'This document',
+  method: 'GET',
+  url: '/openapi.json',
+  operationId: 'openapi',
+  tag: 'health',
+  scope: null,
+  summary: 'This document',
   responses: { 200: { description: 'OpenAPI 3.1 document', schema: { type: 'object' } } },
 };
 
 /** Every route: the route modules', then /metrics (registered with its hook) and this document's. */
-export const allSpecs: RouteSpec[] = [...routeModules.flatMap((m) => Object.values(m.specs)), ...Object.values(metricsSpecs), openapiSpec];
+export const allSpecs: RouteSpec[] = [
+  ...routeModules.flatMap((m) => Object.values(m.specs)),
+  ...Object.values(metricsSpecs),
+  openapiSpec,
+];
 
 const byIdentity = new Map<unknown, string>(Object.entries(components).map(([name, schema]) => [schema, name]));
 
@@ -23,7 +32,8 @@ const byIdentity = new Map<unknown, string>(Object.entries(components).map(([nam
 function withRefs(value: unknown, root = true): unknown {
   if (!root && byIdentity.has(value)) return { $ref: `#/components/schemas/${byIdentity.get(value)}` };
   if (Array.isArray(value)) return value.map((v) => withRefs(v, false));
-  if (value && typeof value === 'object') return Object.fromEntries(Object.entries(value).map(([k, v]) => [k, withRefs(v, false)]));
+  if (value && typeof value === 'object')
+    return Object.fromEntries(Object.entries(value).map(([k, v]) => [k, withRefs(v, false)]));
   return value;
 }
 
@@ -31,17 +41,27 @@ const toOpenApiPath = (url: string) => url.replace(/:(\w+)/g, '{$1}');
 
 function parameters(spec: RouteSpec): Schema[] {
   const out: Schema[] = [];
-  for (const [where, schema] of [['path', spec.params], ['query', spec.querystring]] as const) {
+  for (const [where, schema] of [
+    ['path', spec.params],
+    ['query', spec.querystring],
+  ] as const) {
     if (!schema) continue;
     const required: readonly string[] = schema.required ?? [];
-    for (const [name, s] of Object.entries(schema.properties)) out.push({ name, in: where, required: where === 'path' || required.includes(name), schema: withRefs(s, false) });
+    for (const [name, s] of Object.entries(schema.properties))
+      out.push({ name, in: where, required: where === 'path' || required.includes(name), schema: withRefs(s, false) });
   }
-  for (const [name, h] of Object.entries(spec.headers ?? {})) out.push({ name, in: 'header', required: false, description: h.description, schema: h.schema });
+  for (const [name, h] of Object.entries(spec.headers ?? {}))
+    out.push({ name, in: 'header', required: false, description: h.description, schema: h.schema });
   return out;
 }
 
 /** Every keyed route is rate limited per key (plugins/rate-limit.ts). */
-const RATE_LIMITED = { description: 'Too many requests for this API key (see Retry-After)', schema: components.Problem, contentType: 'application/problem+json', headers: { 'Retry-After': 'Seconds until the key may send again' } };
+const RATE_LIMITED = {
+  description: 'Too many requests for this API key (see Retry-After)',
+  schema: components.Problem,
+  contentType: 'application/problem+json',
+  headers: { 'Retry-After': 'Seconds until the key may send again' },
+};
 
 function operation(spec: RouteSpec): Schema {
   const responses: Schema = {};
@@ -49,8 +69,16 @@ function operation(spec: RouteSpec): Schema {
   for (const [status, r] of Object.entries(all)) {
     responses[status] = {
       description: r.description,
-      ...(r.headers ? { headers: Object.fromEntries(Object.entries(r.headers).map(([n, d]) => [n, { description: d, schema: { type: 'string' } }])) } : {}),
-      ...(r.schema ? { content: { [r.contentType ?? 'application/json']: { schema: withRefs(r.schema, false) } } } : {}),
+      ...(r.headers
+        ? {
+            headers: Object.fromEntries(
+              Object.entries(r.headers).map(([n, d]) => [n, { description: d, schema: { type: 'string' } }]),
+            ),
+          }
+        : {}),
+      ...(r.schema
+        ? { content: { [r.contentType ?? 'application/json']: { schema: withRefs(r.schema, false) } } }
+        : {}),
     };
   }
   return {
@@ -59,7 +87,16 @@ function operation(spec: RouteSpec): Schema {
     tags: [spec.tag],
     ...(spec.scope ? { security: [{ apiKey: [spec.scope] }], 'x-earmark-scope': spec.scope } : { security: [] }),
     ...(parameters(spec).length > 0 ? { parameters: parameters(spec) } : {}),
-    ...(spec.body ? { requestBody: { required: true, content: Object.fromEntries(Object.entries(spec.body).map(([type, schema]) => [type, { schema: withRefs(schema, false) }])) } } : {}),
+    ...(spec.body
+      ? {
+          requestBody: {
+            required: true,
+            content: Object.fromEntries(
+              Object.entries(spec.body).map(([type, schema]) => [type, { schema: withRefs(schema, false) }]),
+            ),
+          },
+        }
+      : {}),
     responses,
   };
 }
@@ -72,7 +109,11 @@ export function buildOpenApiDocument(): Schema {
   }
   return {
     openapi: '3.1.0',
-    info: { title: 'Earmark audio QC API', version: ENGINE_VERSION, description: 'Submit audio for delivery-profile QC, follow the job, fetch the report.' },
+    info: {
+      title: 'Earmark audio QC API',
+      version: ENGINE_VERSION,
+      description: 'Submit audio for delivery-profile QC, follow the job, fetch the report.',
+    },
     servers: [{ url: '/' }],
     security: [{ apiKey: [] }],
     tags: [{ name: 'jobs' }, { name: 'profiles' }, { name: 'health' }, { name: 'pages' }],

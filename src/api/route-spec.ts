@@ -5,7 +5,16 @@
 // which would silently drop fields that do not fit.
 
 import type { JsonSchemaToTsProvider } from '@fastify/type-provider-json-schema-to-ts';
-import type { ContextConfigDefault, FastifyInstance, FastifyPluginAsync, RawReplyDefaultExpression, RawRequestDefaultExpression, RawServerDefault, RouteGenericInterface, RouteHandlerMethod } from 'fastify';
+import type {
+  ContextConfigDefault,
+  FastifyInstance,
+  FastifyPluginAsync,
+  RawReplyDefaultExpression,
+  RawRequestDefaultExpression,
+  RawServerDefault,
+  RouteGenericInterface,
+  RouteHandlerMethod,
+} from 'fastify';
 import fp from 'fastify-plugin';
 import type { JSONSchema } from 'json-schema-to-ts';
 import type { Scope } from '../config/index.ts';
@@ -15,9 +24,18 @@ import { ERRORS_PLUGIN } from './plugins/errors.ts';
 type Schema = Record<string, unknown>;
 
 /** An object schema of named string/number members (path parameters, query strings). */
-export type ObjectSchema = JSONSchema & { readonly type: 'object'; readonly properties: Readonly<Record<string, JSONSchema>>; readonly required?: readonly string[] };
+export type ObjectSchema = JSONSchema & {
+  readonly type: 'object';
+  readonly properties: Readonly<Record<string, JSONSchema>>;
+  readonly required?: readonly string[];
+};
 
-export interface ResponseSpec { description: string; schema?: Schema; contentType?: string; headers?: Record<string, string> }
+export interface ResponseSpec {
+  description: string;
+  schema?: Schema;
+  contentType?: string;
+  headers?: Record<string, string>;
+}
 
 export interface RouteSpec {
   method: 'GET' | 'POST' | 'PUT' | 'DELETE';
@@ -37,15 +55,26 @@ export interface RouteSpec {
 }
 
 declare module 'fastify' {
-  interface FastifyContextConfig { scope?: Scope | null }
+  interface FastifyContextConfig {
+    scope?: Scope | null;
+  }
 }
 
 /** What the type provider reads: the spec's params and query schemas. */
-interface RequestSchemas<S extends RouteSpec> { params: S['params']; querystring: S['querystring'] }
+interface RequestSchemas<S extends RouteSpec> {
+  params: S['params'];
+  querystring: S['querystring'];
+}
 
 export type RouteHandler<S extends RouteSpec> = RouteHandlerMethod<
-  RawServerDefault, RawRequestDefaultExpression, RawReplyDefaultExpression, RouteGenericInterface,
-  ContextConfigDefault, RequestSchemas<S>, JsonSchemaToTsProvider>;
+  RawServerDefault,
+  RawRequestDefaultExpression,
+  RawReplyDefaultExpression,
+  RouteGenericInterface,
+  ContextConfigDefault,
+  RequestSchemas<S>,
+  JsonSchemaToTsProvider
+>;
 
 export function route<const S extends RouteSpec>(app: FastifyInstance, spec: S, handler: RouteHandler<S>): void {
   const jsonBody = spec.body?.['application/json'];
@@ -55,7 +84,8 @@ export function route<const S extends RouteSpec>(app: FastifyInstance, spec: S, 
     ...(jsonBody ? { body: { content: { 'application/json': { schema: jsonBody } } } } : {}),
   };
   // Fastify warns about a schema key that is present but undefined.
-  for (const key of ['params', 'querystring'] as const) if (schema[key] === undefined) Reflect.deleteProperty(schema, key);
+  for (const key of ['params', 'querystring'] as const)
+    if (schema[key] === undefined) Reflect.deleteProperty(schema, key);
   app.withTypeProvider<JsonSchemaToTsProvider>().route<RouteGenericInterface, ContextConfigDefault, RequestSchemas<S>>({
     method: spec.method,
     url: spec.url,
@@ -67,6 +97,15 @@ export function route<const S extends RouteSpec>(app: FastifyInstance, spec: S, 
 
 /** A plugin of routes: named, kept encapsulated, and refused at startup unless the error handler,
  * auth (the scope check every route relies on) and any other plugin it names are registered. */
-export function routesPlugin(name: string, register: FastifyPluginAsync, dependencies: string[] = []): FastifyPluginAsync {
-  return fp(register, { name, fastify: '5.x', encapsulate: true, dependencies: [ERRORS_PLUGIN, AUTH_PLUGIN, ...dependencies] });
+export function routesPlugin(
+  name: string,
+  register: FastifyPluginAsync,
+  dependencies: string[] = [],
+): FastifyPluginAsync {
+  return fp(register, {
+    name,
+    fastify: '5.x',
+    encapsulate: true,
+    dependencies: [ERRORS_PLUGIN, AUTH_PLUGIN, ...dependencies],
+  });
 }

@@ -27,7 +27,10 @@ export const Problem: Schema = {
 };
 
 /** problem+json responses (RFC 9457) for the given statuses, for route specs. */
-export const problems = (...statuses: number[]) => Object.fromEntries(statuses.map((s) => [s, { description: 'Problem', schema: Problem, contentType: 'application/problem+json' }]));
+export const problems = (...statuses: number[]) =>
+  Object.fromEntries(
+    statuses.map((s) => [s, { description: 'Problem', schema: Problem, contentType: 'application/problem+json' }]),
+  );
 
 export const DeliveryAttempt: Schema = {
   type: 'object',
@@ -46,7 +49,25 @@ export const DeliveryAttempt: Schema = {
 
 export const Job: Schema = {
   type: 'object',
-  required: ['id', 'state', 'progressPercent', 'createdAt', 'startedAt', 'finishedAt', 'attemptsMade', 'profile', 'source', 'externalId', 'metadata', 'verdict', 'headline', 'summary', 'error', 'callback', 'links'],
+  required: [
+    'id',
+    'state',
+    'progressPercent',
+    'createdAt',
+    'startedAt',
+    'finishedAt',
+    'attemptsMade',
+    'profile',
+    'source',
+    'externalId',
+    'metadata',
+    'verdict',
+    'headline',
+    'summary',
+    'error',
+    'callback',
+    'links',
+  ],
   properties: {
     id: { type: 'string' },
     state: { type: 'string', enum: ['queued', 'active', 'completed', 'failed'] },
@@ -55,29 +76,59 @@ export const Job: Schema = {
     startedAt: nullable('string', { format: 'date-time' }),
     finishedAt: nullable('string', { format: 'date-time' }),
     attemptsMade: { type: 'integer', minimum: 0 },
-    profile: { type: 'object', required: ['id', 'version'], properties: { id: { type: 'string' }, version: { type: 'string' } }, additionalProperties: false },
+    profile: {
+      type: 'object',
+      required: ['id', 'version'],
+      properties: { id: { type: 'string' }, version: { type: 'string' } },
+      additionalProperties: false,
+    },
     source: {
       oneOf: [
-        { type: 'object', required: ['kind', 'fileName', 'sizeBytes'], properties: { kind: { const: 'upload' }, fileName: { type: 'string' }, sizeBytes: { type: 'integer' } }, additionalProperties: false },
-        { type: 'object', required: ['kind', 'url'], properties: { kind: { const: 'url' }, url: { type: 'string' } }, additionalProperties: false },
+        {
+          type: 'object',
+          required: ['kind', 'fileName', 'sizeBytes'],
+          properties: { kind: { const: 'upload' }, fileName: { type: 'string' }, sizeBytes: { type: 'integer' } },
+          additionalProperties: false,
+        },
+        {
+          type: 'object',
+          required: ['kind', 'url'],
+          properties: { kind: { const: 'url' }, url: { type: 'string' } },
+          additionalProperties: false,
+        },
       ],
     },
     externalId: nullable('string'),
     metadata: { type: ['object', 'null'], additionalProperties: { type: 'string' } },
     verdict: { type: ['string', 'null'], enum: ['pass', 'warn', 'fail', null] },
-    headline: nullable('string', { description: 'The report\'s first line: the verdict and its main reason in plain words (null until completed, and for jobs from before report version 2).' }),
+    headline: nullable('string', {
+      description:
+        "The report's first line: the verdict and its main reason in plain words (null until completed, and for jobs from before report version 2).",
+    }),
     summary: {
-      type: ['object', 'null'], required: ['integratedLufs', 'truePeakDbtp'], additionalProperties: false,
+      type: ['object', 'null'],
+      required: ['integratedLufs', 'truePeakDbtp'],
+      additionalProperties: false,
       properties: { integratedLufs: { type: ['number', 'null'] }, truePeakDbtp: { type: ['number', 'null'] } },
     },
-    error: { type: ['object', 'null'], required: ['code', 'message'], properties: { code: { type: 'string' }, message: { type: 'string' } }, additionalProperties: false },
+    error: {
+      type: ['object', 'null'],
+      required: ['code', 'message'],
+      properties: { code: { type: 'string' }, message: { type: 'string' } },
+      additionalProperties: false,
+    },
     callback: {
       type: ['object', 'null'],
       required: ['url', 'deliveries'],
       properties: { url: { type: 'string' }, deliveries: { type: 'array', items: DeliveryAttempt } },
       additionalProperties: false,
     },
-    links: { type: 'object', required: ['self', 'report'], properties: { self: { type: 'string' }, report: nullable('string') }, additionalProperties: false },
+    links: {
+      type: 'object',
+      required: ['self', 'report'],
+      properties: { self: { type: 'string' }, report: nullable('string') },
+      additionalProperties: false,
+    },
   },
   additionalProperties: false,
 };
@@ -105,7 +156,14 @@ export const JobList: Schema = {
 /** view=all (every tenant) needs the operator scope; the default is the key's own tenant. */
 export const ViewQuery = {
   type: 'object',
-  properties: { view: { type: 'string', enum: ['tenant', 'all'], default: 'tenant', description: 'tenant: the API key\'s tenant only; all: every tenant (operator scope)' } },
+  properties: {
+    view: {
+      type: 'string',
+      enum: ['tenant', 'all'],
+      default: 'tenant',
+      description: "tenant: the API key's tenant only; all: every tenant (operator scope)",
+    },
+  },
   additionalProperties: false,
 } as const satisfies ObjectSchema;
 
@@ -114,8 +172,12 @@ export const QueueStatus: Schema = {
   required: ['view', 'waiting', 'active', 'delayed', 'completed', 'failed', 'workers', 'finishedLastMinute'],
   properties: {
     view: { type: 'string', enum: ['tenant', 'all'], description: 'Whose jobs the counts cover' },
-    waiting: { type: 'integer' }, active: { type: 'integer' }, delayed: { type: 'integer' },
-    completed: { type: 'integer' }, failed: { type: 'integer' }, workers: { type: 'integer' },
+    waiting: { type: 'integer' },
+    active: { type: 'integer' },
+    delayed: { type: 'integer' },
+    completed: { type: 'integer' },
+    failed: { type: 'integer' },
+    workers: { type: 'integer' },
     finishedLastMinute: { type: 'integer' },
   },
   additionalProperties: false,
@@ -132,7 +194,10 @@ export const ProfileEntry: Schema = {
 };
 
 export const ProfileList: Schema = {
-  type: 'object', required: ['items'], properties: { items: { type: 'array', items: ProfileEntry } }, additionalProperties: false,
+  type: 'object',
+  required: ['items'],
+  properties: { items: { type: 'array', items: ProfileEntry } },
+  additionalProperties: false,
 };
 
 const REPORT_SCHEMA_URL = projectFileUrl('openapi/report.schema.json');
@@ -144,10 +209,18 @@ function reportComponents(): Record<string, Schema> {
   const retarget = (value: unknown): unknown => {
     if (Array.isArray(value)) return value.map(retarget);
     if (!value || typeof value !== 'object') return value;
-    return Object.fromEntries(Object.entries(value).map(([k, v]) =>
-      [k, k === '$ref' && typeof v === 'string' ? v.replace('#/$defs/', `#/components/schemas/${REPORT_PREFIX}`) : retarget(v)]));
+    return Object.fromEntries(
+      Object.entries(value).map(([k, v]) => [
+        k,
+        k === '$ref' && typeof v === 'string'
+          ? v.replace('#/$defs/', `#/components/schemas/${REPORT_PREFIX}`)
+          : retarget(v),
+      ]),
+    );
   };
-  return Object.fromEntries(Object.entries(file.$defs).map(([name, def]) => [`${REPORT_PREFIX}${name}`, retarget(def) as Schema]));
+  return Object.fromEntries(
+    Object.entries(file.$defs).map(([name, def]) => [`${REPORT_PREFIX}${name}`, retarget(def) as Schema]),
+  );
 }
 
 /** Every definition of the QC report (openapi/report.schema.json, generated from src/profiles/report.ts). */
@@ -156,19 +229,40 @@ export const reportDefinitions = reportComponents();
 export const Report: Schema = reportDefinitions[`${REPORT_PREFIX}QcReport`];
 
 export const Health: Schema = {
-  type: 'object', required: ['status'],
-  properties: { status: { type: 'string', enum: ['ok', 'unavailable'] }, redis: { type: 'boolean' }, storage: { type: 'boolean' } },
+  type: 'object',
+  required: ['status'],
+  properties: {
+    status: { type: 'string', enum: ['ok', 'unavailable'] },
+    redis: { type: 'boolean' },
+    storage: { type: 'boolean' },
+  },
   additionalProperties: false,
 };
 
-export const components: Record<string, Schema> = { Problem, DeliveryAttempt, Job, JobAccepted, JobList, QueueStatus, Profile, ProfileEntry, ProfileList, Health, ...reportDefinitions };
+export const components: Record<string, Schema> = {
+  Problem,
+  DeliveryAttempt,
+  Job,
+  JobAccepted,
+  JobList,
+  QueueStatus,
+  Profile,
+  ProfileEntry,
+  ProfileList,
+  Health,
+  ...reportDefinitions,
+};
 
 export const JobIdParams = {
-  type: 'object', required: ['id'], properties: { id: { type: 'string', pattern: '^j_[a-z0-9]{20,40}$' } },
+  type: 'object',
+  required: ['id'],
+  properties: { id: { type: 'string', pattern: '^j_[a-z0-9]{20,40}$' } },
 } as const satisfies ObjectSchema;
 
 export const ProfileIdParams = {
-  type: 'object', required: ['id'], properties: { id: { type: 'string', pattern: '^[a-z0-9][a-z0-9-]{0,63}$' } },
+  type: 'object',
+  required: ['id'],
+  properties: { id: { type: 'string', pattern: '^[a-z0-9][a-z0-9-]{0,63}$' } },
 } as const satisfies ObjectSchema;
 
 export const ListJobsQuery = {
@@ -184,8 +278,16 @@ export const ListJobsQuery = {
 } as const satisfies ObjectSchema;
 
 const submitFields = {
-  profile: { type: 'string', pattern: '^[a-z0-9][a-z0-9-]{0,63}$', description: 'Profile id (built-in or the tenant\'s own); its current version is used.' },
-  callbackUrl: { type: 'string', maxLength: 2000, description: 'Receives a signed POST when the job completes or fails.' },
+  profile: {
+    type: 'string',
+    pattern: '^[a-z0-9][a-z0-9-]{0,63}$',
+    description: "Profile id (built-in or the tenant's own); its current version is used.",
+  },
+  callbackUrl: {
+    type: 'string',
+    maxLength: 2000,
+    description: 'Receives a signed POST when the job completes or fails.',
+  },
   externalId: { type: 'string', maxLength: 200 },
 } as const;
 
@@ -193,7 +295,11 @@ export const SubmitJson = {
   type: 'object',
   required: ['sourceUrl', 'profile'],
   properties: {
-    sourceUrl: { type: 'string', maxLength: 2000, description: 'Fetched by the worker (size cap, timeout; internal addresses refused).' },
+    sourceUrl: {
+      type: 'string',
+      maxLength: 2000,
+      description: 'Fetched by the worker (size cap, timeout; internal addresses refused).',
+    },
     ...submitFields,
     metadata: { type: 'object', maxProperties: 20, additionalProperties: { type: 'string', maxLength: 500 } },
   },
@@ -204,7 +310,11 @@ export const SubmitMultipart: Schema = {
   type: 'object',
   required: ['file', 'profile'],
   properties: {
-    file: { type: 'string', contentMediaType: 'application/octet-stream', description: 'The audio file (format detected from its bytes).' },
+    file: {
+      type: 'string',
+      contentMediaType: 'application/octet-stream',
+      description: 'The audio file (format detected from its bytes).',
+    },
     ...submitFields,
     metadata: { type: 'string', description: 'A JSON object of string values.' },
   },

@@ -15,7 +15,12 @@ import { buildApp } from './app.ts';
 import { ApiMetrics } from './metrics.ts';
 import type { AppDeps } from './deps.ts';
 
-export interface RunningApi { app: FastifyInstance; deps: AppDeps; url: string; close(): Promise<void> }
+export interface RunningApi {
+  app: FastifyInstance;
+  deps: AppDeps;
+  url: string;
+  close(): Promise<void>;
+}
 
 export async function startApi(config: Config, logger?: Logger): Promise<RunningApi> {
   const redis = createRedis(config.redisUrl, 'api');
@@ -23,20 +28,33 @@ export async function startApi(config: Config, logger?: Logger): Promise<Running
   const log = (message: string, error: Error) => app?.log.warn({ err: { message: error.message } }, message);
   redis.on('error', (error) => log('redis connection error', error));
   await waitReady(redis, 5_000);
-  const storage = await openStorage(config.storageDir, { partialTouchMs: Math.min(10_000, Math.floor(config.bodyTimeoutMs / 2)) });
+  const storage = await openStorage(config.storageDir, {
+    partialTouchMs: Math.min(10_000, Math.floor(config.bodyTimeoutMs / 2)),
+  });
   // Partial uploads of a killed process, then of requests that died without cleaning up: a live
   // transfer's temp file is touched while bytes arrive, and they arrive at least once per body
   // (upload) or fetch (sourceUrl, in a worker) idle timeout, or the transfer is ended.
   const partialAgeMs = 2 * Math.max(config.bodyTimeoutMs, config.fetchTimeoutMs);
-  const sweepPartials = () => storage.sweepPartials(partialAgeMs).then((n) => { if (n > 0) app?.log.info({ removed: n }, 'partial uploads removed'); }, () => undefined);
+  const sweepPartials = () =>
+    storage.sweepPartials(partialAgeMs).then(
+      (n) => {
+        if (n > 0) app?.log.info({ removed: n }, 'partial uploads removed');
+      },
+      () => undefined,
+    );
   await sweepPartials();
   const sweeper = setInterval(sweepPartials, Math.max(1_000, Math.min(partialAgeMs, 10 * 60_000)));
   sweeper.unref();
   const queue = createAnalysisQueue(redis, config, (error) => log('analysis queue error', error));
   const store = openServiceStores(redis, config.queuePrefix, config.retentionHours * 3600);
   const deps: AppDeps = {
-    redis, queue, storage, store,
-    jobs: new JobsRepository(redis, queue, store.index, store.reports, config.queuePrefix, (jobId) => storage.readReport(jobId)),
+    redis,
+    queue,
+    storage,
+    store,
+    jobs: new JobsRepository(redis, queue, store.index, store.reports, config.queuePrefix, (jobId) =>
+      storage.readReport(jobId),
+    ),
     profiles: new ProfileStore(redis, config.queuePrefix),
     policy: new UrlPolicy(config.urlAllowlist),
     metrics: new ApiMetrics(),
@@ -45,11 +63,18 @@ export async function startApi(config: Config, logger?: Logger): Promise<Running
   const address = await app.listen({ port: config.port, host: config.host });
   const running = app;
   return {
-    app: running, deps, url: address.replace('0.0.0.0', '127.0.0.1'),
+    app: running,
+    deps,
+    url: address.replace('0.0.0.0', '127.0.0.1'),
     async close() {
       clearInterval(sweeper);
       let timer: NodeJS.Timeout | undefined;
-      await Promise.race([running.close(), new Promise((resolve) => { timer = setTimeout(resolve, config.shutdownTimeoutMs); })]);
+      await Promise.race([
+        running.close(),
+        new Promise((resolve) => {
+          timer = setTimeout(resolve, config.shutdownTimeoutMs);
+        }),
+      ]);
       clearTimeout(timer);
       await queue.close().catch(() => undefined);
       await redis.quit().catch(() => redis.disconnect());

@@ -13,7 +13,10 @@ export interface SubmitInput {
   metadata?: Record<string, string>;
 }
 
-export interface Submitted { id: string; duplicate: boolean }
+export interface Submitted {
+  id: string;
+  duplicate: boolean;
+}
 
 /** The worker names the file after the URL's decoded path: a broken percent escape ("%zz",
  * "%E0%A4") would fail there on every attempt, so it is refused here instead. */
@@ -21,15 +24,24 @@ function assertDecodablePath(url: string): void {
   try {
     decodeURIComponent(new URL(url).pathname);
   } catch {
-    throw new EarmarkError('validation_failed', 'sourceUrl has a malformed percent escape in its path', { field: 'sourceUrl' });
+    throw new EarmarkError('validation_failed', 'sourceUrl has a malformed percent escape in its path', {
+      field: 'sourceUrl',
+    });
   }
 }
 
 export const newJobId = () => `j_${randomBytes(12).toString('hex')}`;
 
-export async function submitJob(deps: AppDeps, tenant: string, input: SubmitInput, source: JobSource & { sha256?: string }, idempotencyKey: string | undefined): Promise<Submitted> {
+export async function submitJob(
+  deps: AppDeps,
+  tenant: string,
+  input: SubmitInput,
+  source: JobSource & { sha256?: string },
+  idempotencyKey: string | undefined,
+): Promise<Submitted> {
   const entry = await deps.profiles.get(tenant, input.profile);
-  if (!entry) throw new EarmarkError('unknown_profile', `no profile "${input.profile}" for this tenant`, { field: 'profile' });
+  if (!entry)
+    throw new EarmarkError('unknown_profile', `no profile "${input.profile}" for this tenant`, { field: 'profile' });
   if (input.callbackUrl) await deps.policy.check(input.callbackUrl, 'callbackUrl');
   if (source.kind === 'url') {
     await deps.policy.check(source.url, 'sourceUrl');
@@ -37,11 +49,24 @@ export async function submitJob(deps: AppDeps, tenant: string, input: SubmitInpu
   }
 
   const id = newJobId();
-  const fingerprint = createHash('sha256').update(JSON.stringify([input.profile, input.callbackUrl ?? null, input.externalId ?? null, input.metadata ?? null, source.kind === 'url' ? source.url : source.sha256])).digest('hex');
+  const fingerprint = createHash('sha256')
+    .update(
+      JSON.stringify([
+        input.profile,
+        input.callbackUrl ?? null,
+        input.externalId ?? null,
+        input.metadata ?? null,
+        source.kind === 'url' ? source.url : source.sha256,
+      ]),
+    )
+    .digest('hex');
   if (idempotencyKey) {
     const existing = await deps.store.idempotency.claim(tenant, idempotencyKey, id, fingerprint);
     if (existing) {
-      if (existing.fingerprint !== fingerprint) throw new EarmarkError('idempotency_conflict', 'this Idempotency-Key was used for a different request', { field: 'Idempotency-Key' });
+      if (existing.fingerprint !== fingerprint)
+        throw new EarmarkError('idempotency_conflict', 'this Idempotency-Key was used for a different request', {
+          field: 'Idempotency-Key',
+        });
       return { id: existing.jobId, duplicate: true };
     }
   }

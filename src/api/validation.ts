@@ -4,7 +4,11 @@
 import { EarmarkError } from '../errors/index.ts';
 
 /** A schema error as ajv and fastify report it. */
-export interface SchemaError { instancePath: string; params: Record<string, unknown>; message?: string }
+export interface SchemaError {
+  instancePath: string;
+  params: Record<string, unknown>;
+  message?: string;
+}
 
 /** Field names as the client wrote them: "sourceUrl", "limit", "metadata.desk". */
 export function fieldOf(error: SchemaError | undefined, fallback: string): string {
@@ -18,7 +22,8 @@ export function fieldOf(error: SchemaError | undefined, fallback: string): strin
 export function validationProblem(errors: readonly SchemaError[] | null | undefined, fallback: string): EarmarkError {
   const first = errors?.[0];
   const field = fieldOf(first, fallback);
-  const said = typeof first?.params.additionalProperty === 'string' ? 'is not a known field' : first?.message ?? 'is invalid';
+  const said =
+    typeof first?.params.additionalProperty === 'string' ? 'is not a known field' : (first?.message ?? 'is invalid');
   return new EarmarkError('validation_failed', `${field} ${said}`, { field });
 }
 

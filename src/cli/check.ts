@@ -5,7 +5,15 @@ import { parseArgs } from 'node:util';
 import { printableName } from './printable.ts';
 import { analyzeFile } from '../engine/analyze-file.ts';
 import { EarmarkError } from '../errors/index.ts';
-import { analysisOptionsForProfile, evaluate, frameRate, resolveProfile, type Flag, type QcReport, type Verdict } from '../profiles/index.ts';
+import {
+  analysisOptionsForProfile,
+  evaluate,
+  frameRate,
+  resolveProfile,
+  type Flag,
+  type QcReport,
+  type Verdict,
+} from '../profiles/index.ts';
 import { fmt } from '../profiles/format.ts';
 import type { CliIo } from './main.ts';
 
@@ -17,7 +25,8 @@ const SHOWN_REMARKS = 10;
 const reading = (value: number | null, unit: string, none: string) => (value === null ? none : `${fmt(value)} ${unit}`);
 
 function flagLine(f: Flag): string {
-  const worst = f.worstValue !== null && f.unit ? `  worst ${fmt(f.worstValue, f.unit === 'correlation' ? 2 : 1)} ${f.unit}` : '';
+  const worst =
+    f.worstValue !== null && f.unit ? `  worst ${fmt(f.worstValue, f.unit === 'correlation' ? 2 : 1)} ${f.unit}` : '';
   const count = f.count > 1 ? `  x${f.count}` : '';
   const other = f.otherChannelName ? ` / ${f.otherChannelName}` : '';
   return `  #${String(f.number).padEnd(3)} ${f.startTimecode} - ${f.endTimecode}  ${f.severity.padEnd(6)}  ${f.title}  ch ${f.channelName}${other}${worst}${count}${f.ruleId ? `  [${f.ruleId}]` : ''}\n`;
@@ -29,24 +38,43 @@ export function formatReport(report: QcReport): string {
   const failed = report.checks.filter((c) => !c.passed);
   // The headline comes first: a damaged file's problem is the first thing anyone reads.
   lines.push(`${report.headline}\n`);
-  for (const p of report.integrity.problems) lines.push(`  ${report.integrity.severity.padEnd(6)}  damaged at ${p.atTimecode} (${fmt(p.atSeconds, 3)} s): ${p.message}\n`);
-  lines.push(`file     ${printableName(report.file?.name ?? '?')}  (${fmt(report.format.durationSeconds ?? 0, 2)} s, ${report.format.sampleRate} Hz, ${report.format.channels} ch ${report.format.channelLabels.join(' ')}${report.format.bitsPerSample ? `, ${report.format.bitsPerSample}-bit` : ''})\n`);
+  for (const p of report.integrity.problems)
+    lines.push(
+      `  ${report.integrity.severity.padEnd(6)}  damaged at ${p.atTimecode} (${fmt(p.atSeconds, 3)} s): ${p.message}\n`,
+    );
+  lines.push(
+    `file     ${printableName(report.file?.name ?? '?')}  (${fmt(report.format.durationSeconds ?? 0, 2)} s, ${report.format.sampleRate} Hz, ${report.format.channels} ch ${report.format.channelLabels.join(' ')}${report.format.bitsPerSample ? `, ${report.format.bitsPerSample}-bit` : ''})\n`,
+  );
   lines.push(`profile  ${report.profile.id} ${report.profile.version}  (${report.profile.basis})\n`);
-  lines.push(`readings integrated ${reading(s.integratedLufs, 'LUFS', 'not measurable')}, LRA ${reading(s.loudnessRangeLu, 'LU', 'not measurable')}, `
-    + `true peak ${reading(s.truePeakDbtp, 'dBTP', 'none (silence)')} (reconstructed ${reading(s.reconstructedPeakDbtp, 'dBTP', 'none')}), sample peak ${reading(s.samplePeakDbfs, 'dBFS', 'none (silence)')}\n`);
-  lines.push(`verdict  ${report.verdict.toUpperCase()}  (${report.checks.length - failed.length} of ${report.checks.length} checks met)\n`);
-  for (const c of failed) lines.push(`  ${c.severity.padEnd(6)}  ${c.ruleId}: ${c.explanation}${c.source ? `  [${c.source}]` : ''}\n`);
-  const passed = report.checks.filter((c) => c.passed).map((c) => (c.outcome === 'not_measurable' ? `${c.ruleId} (not measurable)` : c.ruleId));
+  lines.push(
+    `readings integrated ${reading(s.integratedLufs, 'LUFS', 'not measurable')}, LRA ${reading(s.loudnessRangeLu, 'LU', 'not measurable')}, ` +
+      `true peak ${reading(s.truePeakDbtp, 'dBTP', 'none (silence)')} (reconstructed ${reading(s.reconstructedPeakDbtp, 'dBTP', 'none')}), sample peak ${reading(s.samplePeakDbfs, 'dBFS', 'none (silence)')}\n`,
+  );
+  lines.push(
+    `verdict  ${report.verdict.toUpperCase()}  (${report.checks.length - failed.length} of ${report.checks.length} checks met)\n`,
+  );
+  for (const c of failed)
+    lines.push(`  ${c.severity.padEnd(6)}  ${c.ruleId}: ${c.explanation}${c.source ? `  [${c.source}]` : ''}\n`);
+  const passed = report.checks
+    .filter((c) => c.passed)
+    .map((c) => (c.outcome === 'not_measurable' ? `${c.ruleId} (not measurable)` : c.ruleId));
   if (passed.length > 0) lines.push(`  met: ${passed.join(', ')}\n`);
   const k = report.correction;
   if (k) {
     const tp = k.truePeakAfterDbtp === null ? 'no true peak' : `true peak then ${fmt(k.truePeakAfterDbtp)} dBTP`;
-    const ceiling = k.ceilingDbtp === null ? '' : k.exceedsCeiling ? ` - over the ${k.ceilingDbtp} dBTP ceiling: needs a limiter` : ` (ceiling ${k.ceilingDbtp} dBTP)`;
+    const ceiling =
+      k.ceilingDbtp === null
+        ? ''
+        : k.exceedsCeiling
+          ? ` - over the ${k.ceilingDbtp} dBTP ceiling: needs a limiter`
+          : ` (ceiling ${k.ceilingDbtp} dBTP)`;
     lines.push(`gain     ${k.gainDb > 0 ? '+' : ''}${fmt(k.gainDb, 2)} dB to ${k.targetLufs} LUFS; ${tp}${ceiling}\n`);
   }
   const tc = report.timecode;
   const n = report.flagCounts;
-  lines.push(`flags    ${report.flagsTotal} (${n.fail} fail, ${n.warn} warn, ${n.remark} remark)${report.flagsTruncated ? `, ${report.flags.length} kept` : ''}  timecode ${tc.frameRate} fps from ${tc.originTimecode}\n`);
+  lines.push(
+    `flags    ${report.flagsTotal} (${n.fail} fail, ${n.warn} warn, ${n.remark} remark)${report.flagsTruncated ? `, ${report.flags.length} kept` : ''}  timecode ${tc.frameRate} fps from ${tc.originTimecode}\n`,
+  );
   const breaches = report.flags.filter((f) => f.severity !== 'remark').slice(0, SHOWN_BREACHES);
   const remarks = report.flags.filter((f) => f.severity === 'remark').slice(0, SHOWN_REMARKS);
   for (const f of [...breaches, ...remarks]) lines.push(flagLine(f));
@@ -59,8 +87,12 @@ const CHECK_FLAGS = { profile: { type: 'string' }, fps: { type: 'string' }, json
 
 export async function checkCommand(args: string[], io: CliIo): Promise<number> {
   const { values, positionals } = parseArgs({ args, options: CHECK_FLAGS, allowPositionals: true, strict: true });
-  if (positionals.length !== 1) throw new EarmarkError('invalid_argument', 'check needs exactly one file', { field: 'file' });
-  if (values.profile === undefined) throw new EarmarkError('invalid_argument', 'check needs --profile <id|path.json> (see `earmark profiles`)', { field: 'profile' });
+  if (positionals.length !== 1)
+    throw new EarmarkError('invalid_argument', 'check needs exactly one file', { field: 'file' });
+  if (values.profile === undefined)
+    throw new EarmarkError('invalid_argument', 'check needs --profile <id|path.json> (see `earmark profiles`)', {
+      field: 'profile',
+    });
   const fps = values.fps === undefined ? undefined : frameRate(values.fps, 'fps').id;
   const profile = await resolveProfile(values.profile);
   const document = await analyzeFile(positionals[0], { analysis: analysisOptionsForProfile(profile) });

@@ -3,8 +3,10 @@ import { printableName } from './printable.ts';
 import { channelName, type AnalysisDocument } from '../engine/document.ts';
 
 /** A level of digital silence (null) in words, never -inf. */
-const fixed = (value: number | null, unit: string, digits = 1) => (value === null ? 'none (digital silence)' : `${value.toFixed(digits)} ${unit}`);
-const orNone = (value: number | null, unit: string) => (value === null ? 'none (below gate)' : `${value.toFixed(1)} ${unit}`);
+const fixed = (value: number | null, unit: string, digits = 1) =>
+  value === null ? 'none (digital silence)' : `${value.toFixed(digits)} ${unit}`;
+const orNone = (value: number | null, unit: string) =>
+  value === null ? 'none (below gate)' : `${value.toFixed(1)} ${unit}`;
 
 export function formatTime(seconds: number): string {
   const h = Math.floor(seconds / 3600);
@@ -30,14 +32,24 @@ export function formatAnalysis(doc: AnalysisDocument): string {
     `  Head / tail silence   ${s.headSilenceSeconds.toFixed(2)} s / ${s.tailSilenceSeconds.toFixed(2)} s`,
     '',
     '  ch  label  peak dBFS  TP dBTP   RMS dBFS  crest dB  DC          clip runs  dropouts',
-    ...doc.channels.map((c) =>
-      `  ${String(c.index + 1).padEnd(3)} ${c.label.padEnd(6)} ${num(c.samplePeakDbfs)} ${num(c.truePeakDbtp)} ${num(c.rmsDbfs)} ${num(c.crestFactorDb)} ${c.dcOffset.toExponential(2).padStart(10)}  ${String(c.clippingRuns).padStart(9)}  ${String(c.dropouts).padStart(8)}${c.dead ? '  (dead)' : ''}`),
+    ...doc.channels.map(
+      (c) =>
+        `  ${String(c.index + 1).padEnd(3)} ${c.label.padEnd(6)} ${num(c.samplePeakDbfs)} ${num(c.truePeakDbtp)} ${num(c.rmsDbfs)} ${num(c.crestFactorDb)} ${c.dcOffset.toExponential(2).padStart(10)}  ${String(c.clippingRuns).padStart(9)}  ${String(c.dropouts).padStart(8)}${c.dead ? '  (dead)' : ''}`,
+    ),
   ];
-  if (!doc.integrity.intact) lines.unshift(...doc.integrity.problems.map((p) => `DAMAGED at ${formatTime(p.atSeconds)}: ${p.message}`));
+  if (!doc.integrity.intact)
+    lines.unshift(...doc.integrity.problems.map((p) => `DAMAGED at ${formatTime(p.atSeconds)}: ${p.message}`));
   const counts = Object.entries(doc.eventCounts);
-  lines.push('', counts.length === 0 ? '  No events.' : `  Events: ${counts.map(([k, n]) => `${k} ${n}`).join(', ')}${doc.eventsTruncated ? ' (list truncated)' : ''}`);
+  lines.push(
+    '',
+    counts.length === 0
+      ? '  No events.'
+      : `  Events: ${counts.map(([k, n]) => `${k} ${n}`).join(', ')}${doc.eventsTruncated ? ' (list truncated)' : ''}`,
+  );
   for (const e of doc.events.slice(0, 20)) {
-    lines.push(`    ${formatTime(e.startSeconds)} - ${formatTime(e.endSeconds)}  ${e.kind}  ch ${channelName(doc, e.channel)}${e.otherChannel !== undefined ? ` / ${channelName(doc, e.otherChannel)}` : ''}${e.peakValue !== undefined ? `  ${e.peakValue.toFixed(2)}` : ''}`);
+    lines.push(
+      `    ${formatTime(e.startSeconds)} - ${formatTime(e.endSeconds)}  ${e.kind}  ch ${channelName(doc, e.channel)}${e.otherChannel !== undefined ? ` / ${channelName(doc, e.otherChannel)}` : ''}${e.peakValue !== undefined ? `  ${e.peakValue.toFixed(2)}` : ''}`,
+    );
   }
   if (doc.events.length > 20) lines.push(`    ... ${doc.events.length - 20} more (use --json)`);
   for (const w of doc.warnings) lines.push(`  warning ${w.code}: ${w.message}`);

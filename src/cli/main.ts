@@ -50,10 +50,15 @@ export function analysisOptionsFromArgs(values: Record<string, unknown>): Analys
   const clipRun = numberOption(values, 'clip-run');
   const clipThreshold = numberOption(values, 'clip-threshold');
   if (clipRun !== undefined && (!Number.isInteger(clipRun) || clipRun < 1)) {
-    throw new EarmarkError('invalid_argument', '--clip-run must be a whole number of samples >= 1', { field: 'clip-run' });
+    throw new EarmarkError('invalid_argument', '--clip-run must be a whole number of samples >= 1', {
+      field: 'clip-run',
+    });
   }
   if (clipRun !== undefined || clipThreshold !== undefined) {
-    options.clipping = { ...(clipRun !== undefined ? { minRunSamples: clipRun } : {}), ...(clipThreshold !== undefined ? { thresholdDbfs: clipThreshold } : {}) };
+    options.clipping = {
+      ...(clipRun !== undefined ? { minRunSamples: clipRun } : {}),
+      ...(clipThreshold !== undefined ? { thresholdDbfs: clipThreshold } : {}),
+    };
   }
   const silenceThreshold = numberOption(values, 'silence-threshold');
   const silenceMin = numberOption(values, 'silence-min');
@@ -61,7 +66,10 @@ export function analysisOptionsFromArgs(values: Record<string, unknown>): Analys
     throw new EarmarkError('invalid_argument', '--silence-min must be above 0 seconds', { field: 'silence-min' });
   }
   if (silenceThreshold !== undefined || silenceMin !== undefined) {
-    options.silence = { ...(silenceThreshold !== undefined ? { thresholdDbfs: silenceThreshold } : {}), ...(silenceMin !== undefined ? { minDurationSeconds: silenceMin } : {}) };
+    options.silence = {
+      ...(silenceThreshold !== undefined ? { thresholdDbfs: silenceThreshold } : {}),
+      ...(silenceMin !== undefined ? { minDurationSeconds: silenceMin } : {}),
+    };
   }
   return options;
 }
@@ -76,7 +84,12 @@ const ANALYSIS_FLAGS = {
 } as const;
 
 async function analyzeCommand(args: string[], io: CliIo): Promise<number> {
-  const { values, positionals } = parseArgs({ args, options: { ...ANALYSIS_FLAGS, threads: { type: 'string' } }, allowPositionals: true, strict: true });
+  const { values, positionals } = parseArgs({
+    args,
+    options: { ...ANALYSIS_FLAGS, threads: { type: 'string' } },
+    allowPositionals: true,
+    strict: true,
+  });
   if (positionals.length !== 1) throw new EarmarkError('invalid_argument', 'analyze needs exactly one file');
   const threads = numberOption(values, 'threads') ?? 1;
   if (!Number.isInteger(threads) || threads < 1 || threads > 16) {
@@ -91,11 +104,18 @@ export async function main(argv: string[], io: CliIo = defaultIo): Promise<numbe
   const [command, ...rest] = argv;
   try {
     switch (command) {
-      case 'analyze': return await analyzeCommand(rest, io);
-      case 'check': return await checkCommand(rest, io);
-      case 'profiles': return profilesCommand(rest, io);
-      case 'selftest': return runSelftest(rest, io);
-      case undefined: case 'help': case '--help': case '-h':
+      case 'analyze':
+        return await analyzeCommand(rest, io);
+      case 'check':
+        return await checkCommand(rest, io);
+      case 'profiles':
+        return profilesCommand(rest, io);
+      case 'selftest':
+        return runSelftest(rest, io);
+      case undefined:
+      case 'help':
+      case '--help':
+      case '-h':
         io.stdout(`${USAGE}\n`);
         return command === undefined ? EXIT_ERROR : 0;
       default:

@@ -6,13 +6,18 @@ import type { CliIo } from './main.ts';
 
 function loudnessText(p: Profile): string {
   const rule = p.rules.find((r) => r.type === 'integrated-loudness');
-  if (!rule || rule.type !== 'integrated-loudness') return '-';
+  if (rule?.type !== 'integrated-loudness') return '-';
   if (rule.toleranceLu !== undefined) return `${rule.targetLufs} LUFS +/-${rule.toleranceLu} LU`;
   return `${rule.minLufs ?? ''}..${rule.maxLufs ?? ''} LUFS`;
 }
 
 export function profilesCommand(args: string[], io: CliIo): number {
-  const { values, positionals } = parseArgs({ args, options: { json: { type: 'boolean' } }, allowPositionals: true, strict: true });
+  const { values, positionals } = parseArgs({
+    args,
+    options: { json: { type: 'boolean' } },
+    allowPositionals: true,
+    strict: true,
+  });
   if (positionals.length > 0) {
     io.stdout(`${JSON.stringify(builtinProfile(positionals[0]), null, 2)}\n`);
     return 0;
@@ -24,7 +29,9 @@ export function profilesCommand(args: string[], io: CliIo): number {
   for (const p of BUILTIN_PROFILES) {
     const tp = p.rules.find((r) => r.type === 'true-peak');
     const peak = tp && tp.type === 'true-peak' ? `<= ${tp.maxDbtp} dBTP` : '';
-    io.stdout(`${p.id.padEnd(20)} ${p.version}  ${loudnessText(p).padEnd(24)} ${peak.padEnd(12)} ${p.timecode?.frameRate ?? '-'} fps  ${p.basis}\n`);
+    io.stdout(
+      `${p.id.padEnd(20)} ${p.version}  ${loudnessText(p).padEnd(24)} ${peak.padEnd(12)} ${p.timecode?.frameRate ?? '-'} fps  ${p.basis}\n`,
+    );
   }
   io.stdout('copy one with `earmark profiles <id> > house.json`, change its id, and pass --profile house.json\n');
   return 0;

@@ -9,7 +9,11 @@ import { join, resolve } from 'node:path';
 export type Scope = 'submit' | 'read' | 'admin' | 'metrics' | 'operator';
 export const SCOPES: readonly Scope[] = ['submit', 'read', 'admin', 'metrics', 'operator'];
 
-export interface ApiKey { key: string; tenant: string; scopes: Scope[] }
+export interface ApiKey {
+  key: string;
+  tenant: string;
+  scopes: Scope[];
+}
 
 export interface Config {
   port: number;
@@ -53,7 +57,10 @@ export interface Config {
 }
 
 export class ConfigError extends Error {
-  constructor(readonly variable: string, message: string) {
+  constructor(
+    readonly variable: string,
+    message: string,
+  ) {
     super(`${variable}: ${message}`);
     this.name = 'ConfigError';
   }
@@ -81,13 +88,17 @@ function json(env: Env, name: string): unknown {
 function apiKeys(env: Env): ApiKey[] {
   if (!env.EARMARK_API_KEYS) return [];
   const value = json(env, 'EARMARK_API_KEYS');
-  if (!Array.isArray(value)) throw new ConfigError('EARMARK_API_KEYS', 'expected a JSON array of {key, tenant, scopes}');
+  if (!Array.isArray(value))
+    throw new ConfigError('EARMARK_API_KEYS', 'expected a JSON array of {key, tenant, scopes}');
   return value.map((entry: unknown, i) => {
     const e = entry as Partial<ApiKey> | null;
     const at = `entry ${i}`;
-    if (!e || typeof e.key !== 'string' || e.key.length < 16) throw new ConfigError('EARMARK_API_KEYS', `${at}: key must be a string of at least 16 characters`);
-    if (typeof e.tenant !== 'string' || !/^[A-Za-z0-9_-]{1,64}$/.test(e.tenant)) throw new ConfigError('EARMARK_API_KEYS', `${at}: tenant must match [A-Za-z0-9_-]{1,64}`);
-    if (!Array.isArray(e.scopes) || e.scopes.some((s) => !SCOPES.includes(s))) throw new ConfigError('EARMARK_API_KEYS', `${at}: scopes must be a list of ${SCOPES.join(', ')}`);
+    if (!e || typeof e.key !== 'string' || e.key.length < 16)
+      throw new ConfigError('EARMARK_API_KEYS', `${at}: key must be a string of at least 16 characters`);
+    if (typeof e.tenant !== 'string' || !/^[A-Za-z0-9_-]{1,64}$/.test(e.tenant))
+      throw new ConfigError('EARMARK_API_KEYS', `${at}: tenant must match [A-Za-z0-9_-]{1,64}`);
+    if (!Array.isArray(e.scopes) || e.scopes.some((s) => !SCOPES.includes(s)))
+      throw new ConfigError('EARMARK_API_KEYS', `${at}: scopes must be a list of ${SCOPES.join(', ')}`);
     return { key: e.key, tenant: e.tenant, scopes: [...e.scopes] };
   });
 }
@@ -95,8 +106,16 @@ function apiKeys(env: Env): ApiKey[] {
 function secrets(env: Env): Record<string, string> {
   if (!env.EARMARK_WEBHOOK_SECRETS) return {};
   const value = json(env, 'EARMARK_WEBHOOK_SECRETS');
-  if (!value || typeof value !== 'object' || Array.isArray(value) || Object.values(value).some((s) => typeof s !== 'string' || s.length < 16)) {
-    throw new ConfigError('EARMARK_WEBHOOK_SECRETS', 'expected a JSON object {tenant: secret} with secrets of at least 16 characters');
+  if (
+    !value ||
+    typeof value !== 'object' ||
+    Array.isArray(value) ||
+    Object.values(value).some((s) => typeof s !== 'string' || s.length < 16)
+  ) {
+    throw new ConfigError(
+      'EARMARK_WEBHOOK_SECRETS',
+      'expected a JSON object {tenant: secret} with secrets of at least 16 characters',
+    );
   }
   return value as Record<string, string>;
 }
@@ -118,11 +137,14 @@ export function loadConfig(env: Env = process.env): Config {
   const redisUrl = env.REDIS_URL || 'redis://127.0.0.1:6379';
   if (!/^rediss?:\/\//.test(redisUrl)) throw new ConfigError('REDIS_URL', 'must start with redis:// or rediss://');
   const prefix = env.EARMARK_QUEUE_PREFIX || 'earmark';
-  if (!/^[A-Za-z0-9_-]{1,40}$/.test(prefix)) throw new ConfigError('EARMARK_QUEUE_PREFIX', 'must match [A-Za-z0-9_-]{1,40}');
+  if (!/^[A-Za-z0-9_-]{1,40}$/.test(prefix))
+    throw new ConfigError('EARMARK_QUEUE_PREFIX', 'must match [A-Za-z0-9_-]{1,40}');
   const defaultSecret = env.EARMARK_WEBHOOK_SECRET || null;
-  if (defaultSecret !== null && defaultSecret.length < 16) throw new ConfigError('EARMARK_WEBHOOK_SECRET', 'must be at least 16 characters');
+  if (defaultSecret !== null && defaultSecret.length < 16)
+    throw new ConfigError('EARMARK_WEBHOOK_SECRET', 'must be at least 16 characters');
   const logLevel = env.EARMARK_LOG_LEVEL || 'info';
-  if (!['fatal', 'error', 'warn', 'info', 'debug', 'trace', 'silent'].includes(logLevel)) throw new ConfigError('EARMARK_LOG_LEVEL', 'must be one of fatal, error, warn, info, debug, trace, silent');
+  if (!['fatal', 'error', 'warn', 'info', 'debug', 'trace', 'silent'].includes(logLevel))
+    throw new ConfigError('EARMARK_LOG_LEVEL', 'must be one of fatal, error, warn, info, debug, trace, silent');
   const uploadLimitBytes = int(env, 'EARMARK_UPLOAD_LIMIT_BYTES', 2 * 1024 ** 3, 1);
   return {
     port: int(env, 'PORT', 8080, 0, 65535),
@@ -138,7 +160,10 @@ export function loadConfig(env: Env = process.env): Config {
     fetchDeadlineMs: fetchDeadlineMs(env),
     requestTimeoutMs: int(env, 'EARMARK_REQUEST_TIMEOUT_MS', 4 * 3600_000, 1_000),
     bodyTimeoutMs: int(env, 'EARMARK_BODY_TIMEOUT_MS', 60_000, 200),
-    urlAllowlist: (env.EARMARK_URL_ALLOWLIST ?? '').split(',').map((s) => s.trim()).filter(Boolean),
+    urlAllowlist: (env.EARMARK_URL_ALLOWLIST ?? '')
+      .split(',')
+      .map((s) => s.trim())
+      .filter(Boolean),
     workerConcurrency: int(env, 'EARMARK_WORKER_CONCURRENCY', 1, 1, 64),
     retentionHours: int(env, 'EARMARK_RETENTION_HOURS', 24, 1, 24 * 365),
     jobAttempts: int(env, 'EARMARK_JOB_ATTEMPTS', 3, 1, 20),

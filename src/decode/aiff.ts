@@ -47,21 +47,41 @@ function parseComm(b: Uint8Array, aifc: boolean): Comm {
     compression = fourcc(b, 18);
   }
   const intLayout = (bigEndian: boolean): Comm => {
-    if (sampleSizeBits < 1 || sampleSizeBits > 32) throw new EarmarkError('corrupt_file', `COMM declares ${sampleSizeBits}-bit samples`);
+    if (sampleSizeBits < 1 || sampleSizeBits > 32)
+      throw new EarmarkError('corrupt_file', `COMM declares ${sampleSizeBits}-bit samples`);
     const bytesPerSample = Math.ceil(sampleSizeBits / 8) as 1 | 2 | 3 | 4;
     const encoding = bytesPerSample === 1 ? 'pcm_s8' : `pcm_s${bytesPerSample * 8}${bigEndian ? 'be' : 'le'}`;
-    return { channels, frames, sampleSizeBits, sampleRate, layout: { kind: 'int', bytesPerSample, bigEndian }, encoding };
+    return {
+      channels,
+      frames,
+      sampleSizeBits,
+      sampleRate,
+      layout: { kind: 'int', bytesPerSample, bigEndian },
+      encoding,
+    };
   };
   const floatLayout = (bytesPerSample: 4 | 8): Comm => ({
-    channels, frames, sampleSizeBits: bytesPerSample * 8, sampleRate,
-    layout: { kind: 'float', bytesPerSample, bigEndian: true }, encoding: `pcm_f${bytesPerSample * 8}be`,
+    channels,
+    frames,
+    sampleSizeBits: bytesPerSample * 8,
+    sampleRate,
+    layout: { kind: 'float', bytesPerSample, bigEndian: true },
+    encoding: `pcm_f${bytesPerSample * 8}be`,
   });
   switch (compression) {
-    case 'NONE': case 'twos': return intLayout(true);
-    case 'sowt': return intLayout(false);
-    case 'fl32': case 'FL32': return floatLayout(4);
-    case 'fl64': case 'FL64': return floatLayout(8);
-    default: throw new EarmarkError('unsupported_encoding', `AIFF-C compression '${compression}' is not supported`);
+    case 'NONE':
+    case 'twos':
+      return intLayout(true);
+    case 'sowt':
+      return intLayout(false);
+    case 'fl32':
+    case 'FL32':
+      return floatLayout(4);
+    case 'fl64':
+    case 'FL64':
+      return floatLayout(8);
+    default:
+      throw new EarmarkError('unsupported_encoding', `AIFF-C compression '${compression}' is not supported`);
   }
 }
 
@@ -74,7 +94,8 @@ const MAX_COMM_BYTES = 64 * 1024;
 export async function parseAiff(reader: ByteReader, container: Container): Promise<PcmPlan> {
   const head = await reader.readExactly(12, 'the FORM header');
   const form = fourcc(head, 8);
-  if (fourcc(head, 0) !== 'FORM' || (form !== 'AIFF' && form !== 'AIFC')) throw new EarmarkError('unsupported_format', 'not an AIFF or AIFF-C file');
+  if (fourcc(head, 0) !== 'FORM' || (form !== 'AIFF' && form !== 'AIFC'))
+    throw new EarmarkError('unsupported_format', 'not an AIFF or AIFF-C file');
   const aifc = form === 'AIFC';
   const warnings: DecodeWarning[] = [];
   let comm: Comm | null = null;
@@ -83,7 +104,11 @@ export async function parseAiff(reader: ByteReader, container: Container): Promi
   while (!comm || !ssnd) {
     const header = await reader.read(8);
     if (header.length < 8) {
-      if (header.length > 0) throw new EarmarkError('corrupt_file', `file ends inside a chunk header at offset ${reader.position - header.length}`);
+      if (header.length > 0)
+        throw new EarmarkError(
+          'corrupt_file',
+          `file ends inside a chunk header at offset ${reader.position - header.length}`,
+        );
       break;
     }
     const id = fourcc(header, 0);
@@ -93,14 +118,18 @@ export async function parseAiff(reader: ByteReader, container: Container): Promi
       if (size > MAX_COMM_BYTES) throw new EarmarkError('corrupt_file', `COMM chunk of ${size} bytes is implausible`);
       comm = parseComm(await reader.readExactly(size, 'the COMM chunk'), aifc);
     } else if (id === 'SSND') {
-      if (size < 8) throw new EarmarkError('corrupt_file', `SSND chunk of ${size} bytes has no room for its offset fields`);
+      if (size < 8)
+        throw new EarmarkError('corrupt_file', `SSND chunk of ${size} bytes has no room for its offset fields`);
       const fields = await reader.readExactly(8, 'the SSND chunk');
       const offsetBytes = u32be(fields, 0);
-      if (offsetBytes > size - 8) throw new EarmarkError('corrupt_file', `SSND offset ${offsetBytes} is past the end of the chunk`);
+      if (offsetBytes > size - 8)
+        throw new EarmarkError('corrupt_file', `SSND offset ${offsetBytes} is past the end of the chunk`);
       ssnd = { dataOffset: chunkOffset + 8 + offsetBytes, availableBytes: size - 8 - offsetBytes };
-      if (!comm && !reader.seekable) throw new EarmarkError('corrupt_file', 'SSND comes before COMM, which a non-seekable stream cannot read');
+      if (!comm && !reader.seekable)
+        throw new EarmarkError('corrupt_file', 'SSND comes before COMM, which a non-seekable stream cannot read');
       if (comm && !reader.seekable) {
-        if ((await reader.skip(offsetBytes)) < offsetBytes) throw new EarmarkError('corrupt_file', 'file ends inside the SSND offset padding');
+        if ((await reader.skip(offsetBytes)) < offsetBytes)
+          throw new EarmarkError('corrupt_file', 'file ends inside the SSND offset padding');
         break; // the stream stays at the first sample
       }
       if (comm) break;
@@ -111,7 +140,8 @@ export async function parseAiff(reader: ByteReader, container: Container): Promi
 
   if (!comm) throw new EarmarkError('corrupt_file', 'no COMM chunk found');
   if (!ssnd) {
-    if (comm.frames === 0) ssnd = { dataOffset: reader.position, availableBytes: 0 }; // AIFF allows omitting SSND when empty
+    if (comm.frames === 0)
+      ssnd = { dataOffset: reader.position, availableBytes: 0 }; // AIFF allows omitting SSND when empty
     else throw new EarmarkError('corrupt_file', 'no SSND chunk found');
   }
   const blockAlign = comm.channels * comm.layout.bytesPerSample;
@@ -119,7 +149,11 @@ export async function parseAiff(reader: ByteReader, container: Container): Promi
   const chunkFrames = Math.floor(ssnd.availableBytes / blockAlign);
   if (chunkFrames < frames) {
     // The declared length is not reached: the audio stops where the SSND chunk does.
-    warnings.push({ code: 'truncated_data', message: `audio data ends at frame ${chunkFrames}, COMM declares ${frames} frames`, atFrame: chunkFrames });
+    warnings.push({
+      code: 'truncated_data',
+      message: `audio data ends at frame ${chunkFrames}, COMM declares ${frames} frames`,
+      atFrame: chunkFrames,
+    });
     frames = chunkFrames;
   }
   const format: AudioFormat = {
@@ -134,5 +168,12 @@ export async function parseAiff(reader: ByteReader, container: Container): Promi
     channelMask: null,
     timeReferenceSamples: null,
   };
-  return { format, layout: comm.layout, blockAlign, dataOffset: ssnd.dataOffset, dataBytes: frames * blockAlign, warnings };
+  return {
+    format,
+    layout: comm.layout,
+    blockAlign,
+    dataOffset: ssnd.dataOffset,
+    dataBytes: frames * blockAlign,
+    warnings,
+  };
 }

@@ -36,7 +36,12 @@ export class ByteReader {
   }
 
   /** Reads `handle` from `startPosition`; the handle stays owned by the caller unless close() is called. */
-  static fromFile(handle: FileHandle, sizeBytes: number, startPosition = 0, capacityBytes = DEFAULT_READ_BYTES): ByteReader {
+  static fromFile(
+    handle: FileHandle,
+    sizeBytes: number,
+    startPosition = 0,
+    capacityBytes = DEFAULT_READ_BYTES,
+  ): ByteReader {
     return new ByteReader({ kind: 'file', handle, sizeBytes }, startPosition, capacityBytes);
   }
 
@@ -76,14 +81,18 @@ export class ByteReader {
   async readExactly(n: number, what = 'data'): Promise<Uint8Array> {
     const view = await this.read(n);
     if (view.length < n) {
-      throw new EarmarkError('corrupt_file', `file ends inside ${what} (needed ${n} bytes at offset ${this.position - view.length}, found ${view.length})`);
+      throw new EarmarkError(
+        'corrupt_file',
+        `file ends inside ${what} (needed ${n} bytes at offset ${this.position - view.length}, found ${view.length})`,
+      );
     }
     return view;
   }
 
   /** Up to `n` bytes without consuming them. */
   async peek(n: number): Promise<Uint8Array> {
-    if (n > this.buffer.length) throw new EarmarkError('internal_error', `read of ${n} bytes exceeds reader capacity ${this.buffer.length}`);
+    if (n > this.buffer.length)
+      throw new EarmarkError('internal_error', `read of ${n} bytes exceeds reader capacity ${this.buffer.length}`);
     while (this.end - this.start < n && !this.sourceEnded) await this.fill();
     return this.buffer.subarray(this.start, this.start + Math.min(n, this.end - this.start));
   }

@@ -4,8 +4,10 @@
 export const u16le = (b: Uint8Array, o: number): number => b[o] | (b[o + 1] << 8);
 export const u16be = (b: Uint8Array, o: number): number => (b[o] << 8) | b[o + 1];
 export const u24be = (b: Uint8Array, o: number): number => (b[o] << 16) | (b[o + 1] << 8) | b[o + 2];
-export const u32le = (b: Uint8Array, o: number): number => (b[o] | (b[o + 1] << 8) | (b[o + 2] << 16)) + ((b[o + 3] << 24) >>> 0);
-export const u32be = (b: Uint8Array, o: number): number => ((b[o] << 24) >>> 0) + ((b[o + 1] << 16) | (b[o + 2] << 8) | b[o + 3]);
+export const u32le = (b: Uint8Array, o: number): number =>
+  (b[o] | (b[o + 1] << 8) | (b[o + 2] << 16)) + ((b[o + 3] << 24) >>> 0);
+export const u32be = (b: Uint8Array, o: number): number =>
+  ((b[o] << 24) >>> 0) + ((b[o + 1] << 16) | (b[o + 2] << 8) | b[o + 3]);
 /** 64-bit as a JS number (exact below 2^53, which covers any real sample count or file size). */
 export const u64le = (b: Uint8Array, o: number): number => u32le(b, o + 4) * 2 ** 32 + u32le(b, o);
 export const u64be = (b: Uint8Array, o: number): number => u32be(b, o) * 2 ** 32 + u32be(b, o + 4);

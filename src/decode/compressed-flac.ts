@@ -30,10 +30,30 @@ export function flacHeaderBlockSize(b: Uint8Array, o: number): number {
   const rateCode = b[o + 2] & 15;
   if (sizeCode === 0 || rateCode === 15 || b[o + 3] >> 4 > 10 || (b[o + 3] & 1) !== 0) return 0;
   const lead = b[o + 4];
-  const extra = lead < 0x80 ? 0 : lead < 0xc0 ? -1 : lead < 0xe0 ? 1 : lead < 0xf0 ? 2 : lead < 0xf8 ? 3 : lead < 0xfc ? 4 : lead < 0xfe ? 5 : lead === 0xfe ? 6 : -1;
+  const extra =
+    lead < 0x80
+      ? 0
+      : lead < 0xc0
+        ? -1
+        : lead < 0xe0
+          ? 1
+          : lead < 0xf0
+            ? 2
+            : lead < 0xf8
+              ? 3
+              : lead < 0xfc
+                ? 4
+                : lead < 0xfe
+                  ? 5
+                  : lead === 0xfe
+                    ? 6
+                    : -1;
   if (extra < 0) return 0;
   const sizeAt = o + 5 + extra;
-  const crcAt = sizeAt + (sizeCode === 6 ? 1 : sizeCode === 7 ? 2 : 0) + (rateCode === 12 ? 1 : rateCode === 13 || rateCode === 14 ? 2 : 0);
+  const crcAt =
+    sizeAt +
+    (sizeCode === 6 ? 1 : sizeCode === 7 ? 2 : 0) +
+    (rateCode === 12 ? 1 : rateCode === 13 || rateCode === 14 ? 2 : 0);
   if (crcAt >= b.length) return 0;
   let crc = 0;
   for (let i = o; i < crcAt; i++) crc = CRC8_TABLE[crc ^ b[i]];
@@ -87,7 +107,10 @@ export class FlacInputSlicer {
     let end = data.length;
     if (!last) {
       for (let o = Math.max(from, readable); o < data.length; o++) {
-        if (data[o] === 0xff && (o + 1 === data.length || (data[o + 1] & 0xfe) === 0xf8)) { end = o; break; }
+        if (data[o] === 0xff && (o + 1 === data.length || (data[o + 1] & 0xfe) === 0xf8)) {
+          end = o;
+          break;
+        }
       }
       if (end < data.length) this.carry = data.slice(end);
     }

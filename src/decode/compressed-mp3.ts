@@ -31,12 +31,17 @@ export function parseMpegHeader(b: Uint8Array, o: number): MpegFrameHeader | nul
   const layer = (4 - layerBits) as 1 | 2 | 3;
   const mpeg1 = versionBits === 3;
   const sampleRate = RATES_V1[rateIndex] / (mpeg1 ? 1 : versionBits === 2 ? 2 : 4);
-  const kbps = mpeg1 ? KBPS_V1[layer][bitrateIndex] : layer === 1 ? KBPS_V2_L1[bitrateIndex] : KBPS_V2_L23[bitrateIndex];
+  const kbps = mpeg1
+    ? KBPS_V1[layer][bitrateIndex]
+    : layer === 1
+      ? KBPS_V2_L1[bitrateIndex]
+      : KBPS_V2_L23[bitrateIndex];
   const padding = (b[o + 2] >> 1) & 1;
   const samplesPerFrame = layer === 1 ? 384 : layer === 3 && !mpeg1 ? 576 : 1152;
-  const frameBytes = layer === 1
-    ? (Math.floor((12 * kbps * 1000) / sampleRate) + padding) * 4
-    : Math.floor(((samplesPerFrame / 8) * kbps * 1000) / sampleRate) + padding;
+  const frameBytes =
+    layer === 1
+      ? (Math.floor((12 * kbps * 1000) / sampleRate) + padding) * 4
+      : Math.floor(((samplesPerFrame / 8) * kbps * 1000) / sampleRate) + padding;
   const channels = b[o + 3] >> 6 === 3 ? 1 : 2;
   return { layer, sampleRate, channels, frameBytes, samplesPerFrame, mpeg1 };
 }
@@ -66,7 +71,11 @@ export function probeMp3(head: Uint8Array, id3Skip = id3v2Length(head)): Mp3Prob
   throw new EarmarkError('corrupt_file', 'no MPEG audio frame found near the start of the file');
 }
 
-function tagFrames(b: Uint8Array, o: number, h: MpegFrameHeader): { frames: number | null; streamBytes: number | null } {
+function tagFrames(
+  b: Uint8Array,
+  o: number,
+  h: MpegFrameHeader,
+): { frames: number | null; streamBytes: number | null } {
   const none = { frames: null, streamBytes: null };
   if (h.layer !== 3) return none;
   const sideInfo = h.mpeg1 ? (h.channels === 1 ? 17 : 32) : h.channels === 1 ? 9 : 17;

@@ -20,12 +20,21 @@ export interface Mp4Probe {
 }
 
 /** Byte ranges of the boxes that move when the index is fed first. */
-export interface Mp4Layout { firstMdat: number; moovStart: number; moovEnd: number }
+export interface Mp4Layout {
+  firstMdat: number;
+  moovStart: number;
+  moovEnd: number;
+}
 
 /** moov holds only tables; anything bigger than this is not a plausible audio file. */
 const MAX_MOOV_BYTES = 64 * 1024 * 1024;
 
-interface Box { type: string; start: number; body: number; end: number }
+interface Box {
+  type: string;
+  start: number;
+  body: number;
+  end: number;
+}
 
 function* boxes(b: Uint8Array, from: number, to: number): Generator<Box> {
   let o = from;
@@ -33,7 +42,10 @@ function* boxes(b: Uint8Array, from: number, to: number): Generator<Box> {
     let size = u32be(b, o);
     const type = ascii(b, o + 4, 4);
     let body = o + 8;
-    if (size === 1) { size = u64be(b, o + 8); body = o + 16; } else if (size === 0) size = to - o;
+    if (size === 1) {
+      size = u64be(b, o + 8);
+      body = o + 16;
+    } else if (size === 0) size = to - o;
     if (size < body - o || o + size > to) throw new EarmarkError('corrupt_file', `MP4 box ${type} overruns its parent`);
     yield { type, start: o, body, end: o + size };
     o += size;
@@ -51,16 +63,24 @@ export async function probeMp4(path: string, fileBytes: number): Promise<Mp4Prob
   const layout: Mp4Layout = { firstMdat: -1, moovStart: -1, moovEnd: -1 };
   let moovFirst = false;
   let cut = false;
-  for (let o = 0; o + 8 <= fileBytes;) {
+  for (let o = 0; o + 8 <= fileBytes; ) {
     const h = await readRange(path, o, 16);
     let size = u32be(h, 0);
     const type = ascii(h, 4, 4);
-    if (size === 1) size = u64be(h, 8); else if (size === 0) size = fileBytes - o;
+    if (size === 1) size = u64be(h, 8);
+    else if (size === 0) size = fileBytes - o;
     if (size < 8) throw new EarmarkError('corrupt_file', `MP4 box ${JSON.stringify(type)} has an invalid size`);
-    if (type === 'mdat' && !mdatSeen) { mdatSeen = true; layout.firstMdat = o; }
-    if (o + size > fileBytes) { cut = true; break; }
+    if (type === 'mdat' && !mdatSeen) {
+      mdatSeen = true;
+      layout.firstMdat = o;
+    }
+    if (o + size > fileBytes) {
+      cut = true;
+      break;
+    }
     if (type === 'moov') {
-      if (size > MAX_MOOV_BYTES) throw new EarmarkError('corrupt_file', `MP4 moov box of ${size} bytes is implausibly large`);
+      if (size > MAX_MOOV_BYTES)
+        throw new EarmarkError('corrupt_file', `MP4 moov box of ${size} bytes is implausibly large`);
       moov = await readRange(path, o, size);
       moovFirst = !mdatSeen;
       layout.moovStart = o;
@@ -90,11 +110,18 @@ export async function faststartMoov(path: string, layout: Mp4Layout): Promise<Ui
         const wide = c.type === 'co64';
         const count = u32be(moov, c.body + 4);
         const step = wide ? 8 : 4;
-        if (c.body + 8 + count * step > c.end) throw new EarmarkError('corrupt_file', `MP4 ${c.type} declares more entries than it holds`);
+        if (c.body + 8 + count * step > c.end)
+          throw new EarmarkError('corrupt_file', `MP4 ${c.type} declares more entries than it holds`);
         for (let i = 0, o = c.body + 8; i < count; i++, o += step) {
           const x = moved(wide ? u64be(moov, o) : u32be(moov, o));
-          if (wide) { view.setUint32(o, Math.floor(x / 2 ** 32)); view.setUint32(o + 4, x >>> 0); }
-          else if (x > 0xffffffff) throw new EarmarkError('unsupported_format', 'MP4 with its index after 4 GiB of audio and 32-bit chunk offsets is not supported');
+          if (wide) {
+            view.setUint32(o, Math.floor(x / 2 ** 32));
+            view.setUint32(o + 4, x >>> 0);
+          } else if (x > 0xffffffff)
+            throw new EarmarkError(
+              'unsupported_format',
+              'MP4 with its index after 4 GiB of audio and 32-bit chunk offsets is not supported',
+            );
           else view.setUint32(o, x);
         }
       }
@@ -112,7 +139,8 @@ function sttsDuration(b: Uint8Array, stbl: Box): number | null {
   const stts = child(b, stbl, 'stts');
   if (!stts) return null;
   const count = u32be(b, stts.body + 4);
-  if (stts.body + 8 + count * 8 > stts.end) throw new EarmarkError('corrupt_file', 'MP4 stts declares more entries than it holds');
+  if (stts.body + 8 + count * 8 > stts.end)
+    throw new EarmarkError('corrupt_file', 'MP4 stts declares more entries than it holds');
   let total = 0;
   for (let i = 0, o = stts.body + 8; i < count; i++, o += 8) total += u32be(b, o) * u32be(b, o + 4);
   return total;
@@ -143,11 +171,17 @@ function soundTrack(b: Uint8Array): Omit<Mp4Probe, 'moovFirst' | 'cut' | 'layout
     if (asc?.channels) channels = asc.channels;
     if (asc?.sampleRate && !sampleRate) sampleRate = asc.sampleRate;
     if (encoding === 'opus') sampleRate = 48000;
-    if (!channels || !sampleRate) throw new EarmarkError('corrupt_file', 'MP4 sound track declares no channels or sample rate');
+    if (!channels || !sampleRate)
+      throw new EarmarkError('corrupt_file', 'MP4 sound track declares no channels or sample rate');
     const known = timescale > 0 && duration > 0 && duration !== 0xffffffff;
     const table = stbl && timescale > 0 ? sttsDuration(b, stbl) : null;
-    return { encoding, sampleRate, channels, frames: known ? Math.round((duration * sampleRate) / timescale) : null,
-      tableFrames: table === null ? null : Math.round((table * sampleRate) / timescale) };
+    return {
+      encoding,
+      sampleRate,
+      channels,
+      frames: known ? Math.round((duration * sampleRate) / timescale) : null,
+      tableFrames: table === null ? null : Math.round((table * sampleRate) / timescale),
+    };
   }
   throw new EarmarkError('unsupported_format', 'MP4 file has no sound track');
 }
@@ -159,10 +193,14 @@ function sampleEntryEncoding(b: Uint8Array, entry: Box): string {
       if (oti === 0x6b || oti === 0x69) return 'mp3';
       return 'aac';
     }
-    case 'alac': return 'alac';
-    case 'fLaC': return 'flac';
-    case 'Opus': return 'opus';
-    default: throw new EarmarkError('unsupported_encoding', `MP4 audio codec ${JSON.stringify(entry.type)} is not supported`);
+    case 'alac':
+      return 'alac';
+    case 'fLaC':
+      return 'flac';
+    case 'Opus':
+      return 'opus';
+    default:
+      throw new EarmarkError('unsupported_encoding', `MP4 audio codec ${JSON.stringify(entry.type)} is not supported`);
   }
 }
 
@@ -171,7 +209,11 @@ function descriptor(b: Uint8Array, o: number, end: number): { tag: number; body:
   if (o >= end) return null;
   const tag = b[o++];
   let len = 0;
-  for (let i = 0; i < 4 && o < end; i++) { const c = b[o++]; len = (len << 7) | (c & 0x7f); if (!(c & 0x80)) break; }
+  for (let i = 0; i < 4 && o < end; i++) {
+    const c = b[o++];
+    len = (len << 7) | (c & 0x7f);
+    if (!(c & 0x80)) break;
+  }
   return { tag, body: o, end: Math.min(end, o + len) };
 }
 
@@ -183,7 +225,7 @@ function decoderConfig(b: Uint8Array, entry: Box): { body: number; end: number }
   for (const c of boxes(b, entry.body + skip, entry.end)) if (c.type === 'esds') esds = c;
   if (!esds) return null;
   const es = descriptor(b, esds.body + 4, esds.end);
-  if (!es || es.tag !== 3) return null;
+  if (es?.tag !== 3) return null;
   const flags = b[es.body + 2];
   let o = es.body + 3;
   if (flags & 0x80) o += 2;
@@ -204,7 +246,7 @@ function audioSpecificConfig(b: Uint8Array, entry: Box): { sampleRate: number; c
   const dc = decoderConfig(b, entry);
   if (!dc) return null;
   const dsi = descriptor(b, dc.body + 13, dc.end);
-  if (!dsi || dsi.tag !== 5 || dsi.end - dsi.body < 2) return null;
+  if (dsi?.tag !== 5 || dsi.end - dsi.body < 2) return null;
   const bits = u16be(b, dsi.body);
   if (bits >> 11 === 31) return null; // escaped object type: leave it to the sample entry
   const rateIndex = (bits >> 7) & 15;

@@ -35,7 +35,10 @@ export class OutputCheck {
   *take(r: CodecOutput, final: boolean): Generator<PcmBlock> {
     const errors = r.errors ?? [];
     if (errors.length) {
-      if (!final) throw new EarmarkError('corrupt_file', `decoder error inside the stream: ${errors[0].message}`, { atFrame: this.framesOut });
+      if (!final)
+        throw new EarmarkError('corrupt_file', `decoder error inside the stream: ${errors[0].message}`, {
+          atFrame: this.framesOut,
+        });
       this.finalErrors.push(...errors.map((e) => e.message));
     }
     const data = r.channelData ?? [];
@@ -48,10 +51,13 @@ export class OutputCheck {
       throw new EarmarkError('decoded_size_exceeded', `decoded audio exceeds the cap of ${this.maxDecodedBytes} bytes`);
     }
     if (this.framesOut + this.filled + frames > this.maxFrames) {
-      throw new EarmarkError('decoded_size_exceeded', `decoded audio exceeds the cap of ${this.maxFrames} frames (${(this.maxFrames / this.probe.sampleRate).toFixed(0)} s)`,
-        { atFrame: this.framesOut + this.filled, maxDecodedFrames: this.maxFrames });
+      throw new EarmarkError(
+        'decoded_size_exceeded',
+        `decoded audio exceeds the cap of ${this.maxFrames} frames (${(this.maxFrames / this.probe.sampleRate).toFixed(0)} s)`,
+        { atFrame: this.framesOut + this.filled, maxDecodedFrames: this.maxFrames },
+      );
     }
-    for (let at = 0; at < frames;) {
+    for (let at = 0; at < frames; ) {
       const n = Math.min(frames - at, this.blockFrames - this.filled);
       for (let c = 0; c < channels.length; c++) {
         this.pending[c].set(channels[c].subarray(at, at + n), this.filled);
@@ -69,23 +75,47 @@ export class OutputCheck {
     const nonFinite = this.nonFinite.warning();
     if (nonFinite) this.warnings.push(nonFinite);
     const { frames: declared, framesSlack: slack } = this.probe;
-    if (this.framesOut === 0) throw new EarmarkError('corrupt_file', `no audio could be decoded${this.finalErrors.length ? `: ${this.finalErrors[0]}` : ''}`);
+    if (this.framesOut === 0)
+      throw new EarmarkError(
+        'corrupt_file',
+        `no audio could be decoded${this.finalErrors.length ? `: ${this.finalErrors[0]}` : ''}`,
+      );
     const errorNote = this.finalErrors.length ? ` (${this.finalErrors[0]})` : '';
     if (declared !== null && this.framesOut < declared - slack) {
       // Decoders report errors on damaged frames but not on a clean cut; a container that says it is whole means frames went missing inside.
       if (this.finalErrors.length || this.probe.endMissing === false) {
-        throw new EarmarkError('corrupt_file', `only ${this.framesOut} of ${declared} declared frames decoded: frames are damaged or missing${errorNote}`, { atFrame: this.framesOut });
+        throw new EarmarkError(
+          'corrupt_file',
+          `only ${this.framesOut} of ${declared} declared frames decoded: frames are damaged or missing${errorNote}`,
+          { atFrame: this.framesOut },
+        );
       }
-      this.warnings.push({ code: 'truncated_data', atFrame: this.framesOut, message: `decoding stopped at frame ${this.framesOut} of ${declared} declared: the file is cut short` });
+      this.warnings.push({
+        code: 'truncated_data',
+        atFrame: this.framesOut,
+        message: `decoding stopped at frame ${this.framesOut} of ${declared} declared: the file is cut short`,
+      });
     } else if (this.probe.endMissing) {
-      this.warnings.push({ code: 'truncated_data', atFrame: this.framesOut, message: `the container shows the file was cut after frame ${this.framesOut}` });
+      this.warnings.push({
+        code: 'truncated_data',
+        atFrame: this.framesOut,
+        message: `the container shows the file was cut after frame ${this.framesOut}`,
+      });
     } else if (declared !== null && this.framesOut > declared + slack) {
-      this.warnings.push({ code: 'frames_mismatch', atFrame: declared, message: `decoded ${this.framesOut} frames, container declares ${declared}` });
+      this.warnings.push({
+        code: 'frames_mismatch',
+        atFrame: declared,
+        message: `decoded ${this.framesOut} frames, container declares ${declared}`,
+      });
     } else if (this.finalErrors.length > 1 || (this.finalErrors.length && declared === null)) {
       // Without a declared length we cannot tell where the errors were: do not trust the output.
       throw new EarmarkError('corrupt_file', `decoder errors in the stream${errorNote}`, { atFrame: this.framesOut });
     } else if (this.finalErrors.length) {
-      this.warnings.push({ code: 'trailing_garbage', atFrame: this.framesOut, message: `decoder rejected bytes at the end${errorNote}` });
+      this.warnings.push({
+        code: 'trailing_garbage',
+        atFrame: this.framesOut,
+        message: `decoder rejected bytes at the end${errorNote}`,
+      });
     }
   }
 
@@ -121,8 +151,11 @@ export class OutputCheck {
     if (want === 2 && data.length === 1) {
       if (!this.restoredWarned) {
         this.restoredWarned = true;
-        this.warnings.push({ code: 'channels_restored', atFrame: this.framesOut + this.filled,
-          message: 'decoder returned one channel for a two-channel stream; duplicated to restore dual mono' });
+        this.warnings.push({
+          code: 'channels_restored',
+          atFrame: this.framesOut + this.filled,
+          message: 'decoder returned one channel for a two-channel stream; duplicated to restore dual mono',
+        });
       }
       return [data[0], data[0]];
     }
@@ -133,7 +166,10 @@ export class OutputCheck {
     const declared = this.probe.sampleRate;
     if (!rate || rate === declared) return;
     if (this.probe.encoding === 'aac' && rate === 2 * declared) {
-      throw new EarmarkError('unsupported_encoding', `HE-AAC (SBR) decodes at ${rate} Hz but the container declares ${declared} Hz`);
+      throw new EarmarkError(
+        'unsupported_encoding',
+        `HE-AAC (SBR) decodes at ${rate} Hz but the container declares ${declared} Hz`,
+      );
     }
     throw new EarmarkError('corrupt_file', `decoder output is ${rate} Hz, the container declares ${declared} Hz`);
   }
@@ -149,13 +185,21 @@ export class OutputCheck {
       for (let i = 0; i < frames; i++) {
         const a = Math.abs(ch[i]);
         if (a <= GARBAGE_PEAK) continue;
-        if (a !== a || a === Infinity) { ch[i] = 0; this.nonFinite.add(at + i); continue; }
+        if (Number.isNaN(a) || a === Infinity) {
+          ch[i] = 0;
+          this.nonFinite.add(at + i);
+          continue;
+        }
         over++;
       }
     }
     // A handful of overs can be a real (if broken) master; many mean the decoder is reading noise.
     if (over > Math.max(8, 1e-4 * frames * channels.length)) {
-      throw new EarmarkError('corrupt_file', `decoded samples far above full scale (${over} over +12 dBFS): the stream is damaged`, { atFrame: this.framesOut + this.filled });
+      throw new EarmarkError(
+        'corrupt_file',
+        `decoded samples far above full scale (${over} over +12 dBFS): the stream is damaged`,
+        { atFrame: this.framesOut + this.filled },
+      );
     }
   }
 }

@@ -66,7 +66,11 @@ export function frameChainCut(tail: Uint8Array, frameBytesAt: (b: Uint8Array, o:
 }
 
 /** A valid frame at `offset`, and a second one right after it whenever `head` reaches that far. */
-export function framedStream(head: Uint8Array, offset: number, frameBytes: (h: Uint8Array, o: number) => number): boolean {
+export function framedStream(
+  head: Uint8Array,
+  offset: number,
+  frameBytes: (h: Uint8Array, o: number) => number,
+): boolean {
   const first = frameBytes(head, offset);
   if (first === 0) return false;
   const next = offset + first;

@@ -7,8 +7,14 @@ import { stat } from 'node:fs/promises';
 import { defaultChannelLabels, type PcmBlock } from '../analysis/audio.ts';
 import { EarmarkError } from '../errors/index.ts';
 import {
-  DEFAULT_MAX_BLOCK_FRAMES, DEFAULT_MAX_DECODED_BYTES, DEFAULT_MAX_DECODED_SECONDS,
-  type AudioFormat, type Container, type DecodeOptions, type DecodedAudio, type DecodeWarning,
+  DEFAULT_MAX_BLOCK_FRAMES,
+  DEFAULT_MAX_DECODED_BYTES,
+  DEFAULT_MAX_DECODED_SECONDS,
+  type AudioFormat,
+  type Container,
+  type DecodeOptions,
+  type DecodedAudio,
+  type DecodeWarning,
 } from './types.ts';
 import { readRange } from './byte-reader.ts';
 import { loadCodec, type CodecPackage } from './compressed-codecs.ts';
@@ -22,7 +28,9 @@ import { safeName } from './safe-name.ts';
 /** Input chunk size read from the file; native FLAC is cut further (compressed-flac.ts). */
 export const INPUT_CHUNK_BYTES = 256 * 1024;
 
-export interface InputSlicer { push(chunk: Uint8Array, last: boolean): Iterable<Uint8Array> }
+export interface InputSlicer {
+  push(chunk: Uint8Array, last: boolean): Iterable<Uint8Array>;
+}
 
 /** What a compressed format adds to the shared decode loop. */
 export interface CompressedFormat {
@@ -46,40 +54,87 @@ export function compressedDecoder(spec: CompressedDecoderSpec): Decoder {
   };
 }
 
-async function probeFile(path: string, container: Container, compressed: CompressedFormat): Promise<{ fileBytes: number; p: Probe; format: AudioFormat }> {
+async function probeFile(
+  path: string,
+  container: Container,
+  compressed: CompressedFormat,
+): Promise<{ fileBytes: number; p: Probe; format: AudioFormat }> {
   const fileBytes = await fileSize(path);
   const p = await compressed.probe(path, fileBytes);
   checkStreamNumbers(`the ${container} header`, p.channels, p.sampleRate);
   return {
-    fileBytes, p, format: {
-      container, encoding: p.encoding, sampleRate: p.sampleRate, channels: p.channels, bitsPerSample: p.bitsPerSample,
-      frames: p.frames, durationSeconds: p.frames === null ? null : p.frames / p.sampleRate,
-      channelLabels: defaultChannelLabels(p.channels), channelMask: null, timeReferenceSamples: null,
+    fileBytes,
+    p,
+    format: {
+      container,
+      encoding: p.encoding,
+      sampleRate: p.sampleRate,
+      channels: p.channels,
+      bitsPerSample: p.bitsPerSample,
+      frames: p.frames,
+      durationSeconds: p.frames === null ? null : p.frames / p.sampleRate,
+      channelLabels: defaultChannelLabels(p.channels),
+      channelMask: null,
+      timeReferenceSamples: null,
     },
   };
 }
 
-async function openCompressed(path: string, container: Container, compressed: CompressedFormat, options: DecodeOptions = {}): Promise<DecodedAudio> {
+async function openCompressed(
+  path: string,
+  container: Container,
+  compressed: CompressedFormat,
+  options: DecodeOptions = {},
+): Promise<DecodedAudio> {
   const blockFrames = options.maxBlockFrames ?? DEFAULT_MAX_BLOCK_FRAMES;
   const maxDecodedBytes = options.maxDecodedBytes ?? DEFAULT_MAX_DECODED_BYTES;
   const maxDecodedSeconds = options.maxDecodedSeconds ?? DEFAULT_MAX_DECODED_SECONDS;
-  if (!Number.isSafeInteger(blockFrames) || blockFrames < 1) throw new EarmarkError('invalid_argument', 'maxBlockFrames must be a positive integer', { field: 'maxBlockFrames' });
-  if (!(maxDecodedBytes > 0)) throw new EarmarkError('invalid_argument', 'maxDecodedBytes must be positive', { field: 'maxDecodedBytes' });
-  if (!(maxDecodedSeconds > 0)) throw new EarmarkError('invalid_argument', 'maxDecodedSeconds must be positive', { field: 'maxDecodedSeconds' });
+  if (!Number.isSafeInteger(blockFrames) || blockFrames < 1)
+    throw new EarmarkError('invalid_argument', 'maxBlockFrames must be a positive integer', {
+      field: 'maxBlockFrames',
+    });
+  if (!(maxDecodedBytes > 0))
+    throw new EarmarkError('invalid_argument', 'maxDecodedBytes must be positive', { field: 'maxDecodedBytes' });
+  if (!(maxDecodedSeconds > 0))
+    throw new EarmarkError('invalid_argument', 'maxDecodedSeconds must be positive', { field: 'maxDecodedSeconds' });
 
   const { fileBytes, p, format } = await probeFile(path, container, compressed);
   if (p.wholeFile) checkWholeFileCap(p, fileBytes, maxDecodedBytes);
   const warnings: DecodeWarning[] = [];
-  const check = new OutputCheck(p, blockFrames, warnings, p.wholeFile ? maxDecodedBytes : Infinity, Math.floor(maxDecodedSeconds * p.sampleRate));
-  return { format, blocks: decodeBlocks(path, compressed.slicer(p.channels), p, fileBytes, check), warnings, get framesDecoded() { return check.framesOut; } };
+  const check = new OutputCheck(
+    p,
+    blockFrames,
+    warnings,
+    p.wholeFile ? maxDecodedBytes : Infinity,
+    Math.floor(maxDecodedSeconds * p.sampleRate),
+  );
+  return {
+    format,
+    blocks: decodeBlocks(path, compressed.slicer(p.channels), p, fileBytes, check),
+    warnings,
+    get framesDecoded() {
+      return check.framesOut;
+    },
+  };
 }
 
-async function* decodeBlocks(path: string, slicer: InputSlicer, p: Probe, fileBytes: number, check: OutputCheck): AsyncGenerator<PcmBlock> {
+async function* decodeBlocks(
+  path: string,
+  slicer: InputSlicer,
+  p: Probe,
+  fileBytes: number,
+  check: OutputCheck,
+): AsyncGenerator<PcmBlock> {
   const codec = await loadCodec(p.codec);
   const layout = p.mp4Layout;
   // Byte ranges of the file in the order the decoder reads them; an index-at-the-end MP4 sends
   // everything before its first mdat and the moved moov first, then the rest without the old moov.
-  const ranges: [number, number][] = layout ? [[layout.firstMdat, layout.moovStart], [layout.moovEnd, fileBytes]] : [[0, fileBytes]];
+  const ranges: [number, number][] = layout
+    ? [
+        [layout.firstMdat, layout.moovStart],
+        [layout.moovEnd, fileBytes],
+      ]
+    : [[0, fileBytes]];
   const total = ranges.reduce((n, [from, to]) => n + to - from, 0);
   try {
     let fed = 0;
@@ -99,7 +154,8 @@ async function* decodeBlocks(path: string, slicer: InputSlicer, p: Probe, fileBy
           fed += chunk.byteLength;
           const last = fed >= total;
           // Copy: fs Buffers may sit at any offset of a shared pool; decoders want a plain, own buffer.
-          for (const slice of slicer.push(new Uint8Array(chunk), last)) yield* check.take(await codec.decode(slice), last);
+          for (const slice of slicer.push(new Uint8Array(chunk), last))
+            yield* check.take(await codec.decode(slice), last);
         }
       } finally {
         stream.destroy();
@@ -145,8 +201,15 @@ export const WHOLE_CHUNKS: InputSlicer = { push: (chunk) => [chunk] };
  * Decodes `prefix`, then the file from `offset` on, through `slicer` and `check`: the loop of a
  * decode that starts part-way through (seeking).
  */
-export async function* decodeFrom(path: string, codecName: CodecPackage, prefix: Uint8Array | null, offset: number, fileBytes: number,
-  slicer: InputSlicer, check: OutputCheck): AsyncGenerator<PcmBlock> {
+export async function* decodeFrom(
+  path: string,
+  codecName: CodecPackage,
+  prefix: Uint8Array | null,
+  offset: number,
+  fileBytes: number,
+  slicer: InputSlicer,
+  check: OutputCheck,
+): AsyncGenerator<PcmBlock> {
   const codec = await loadCodec(codecName);
   const stream = createReadStream(path, { start: offset, highWaterMark: INPUT_CHUNK_BYTES });
   try {
@@ -161,7 +224,12 @@ export async function* decodeFrom(path: string, codecName: CodecPackage, prefix:
     yield* check.finish();
   } catch (e) {
     if (e instanceof EarmarkError) throw e;
-    throw new EarmarkError('corrupt_file', `decoder failed: ${e instanceof Error ? e.message : String(e)}`, {}, { cause: e });
+    throw new EarmarkError(
+      'corrupt_file',
+      `decoder failed: ${e instanceof Error ? e.message : String(e)}`,
+      {},
+      { cause: e },
+    );
   } finally {
     codec.free();
     stream.destroy();
@@ -173,9 +241,11 @@ function checkWholeFileCap(p: Probe, fileBytes: number, cap: number): void {
   const frames = Math.max(p.frames ?? -1, p.tableFrames ?? -1);
   const estimate = frames < 0 ? null : frames * p.channels * 4;
   if (fileBytes > cap || (estimate !== null && estimate > cap)) {
-    throw new EarmarkError('decoded_size_exceeded',
+    throw new EarmarkError(
+      'decoded_size_exceeded',
       `this ${p.encoding} file has its index after the audio and would decode to about ${estimate ?? fileBytes} bytes, over the cap of ${cap}`,
-      { estimatedBytes: estimate, maxDecodedBytes: cap });
+      { estimatedBytes: estimate, maxDecodedBytes: cap },
+    );
   }
 }
 
@@ -194,6 +264,12 @@ async function fileSize(path: string): Promise<number> {
 function asDecodeError(e: unknown, path: string): EarmarkError {
   if (e instanceof EarmarkError) return e;
   const code = (e as { code?: unknown } | null)?.code;
-  if (typeof code === 'string' && code.startsWith('E')) return new EarmarkError('file_not_found', `cannot read ${safeName(path)}`, {}, { cause: e });
-  return new EarmarkError('corrupt_file', `decoder failed: ${e instanceof Error ? e.message : String(e)}`, {}, { cause: e });
+  if (typeof code === 'string' && code.startsWith('E'))
+    return new EarmarkError('file_not_found', `cannot read ${safeName(path)}`, {}, { cause: e });
+  return new EarmarkError(
+    'corrupt_file',
+    `decoder failed: ${e instanceof Error ? e.message : String(e)}`,
+    {},
+    { cause: e },
+  );
 }

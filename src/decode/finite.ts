@@ -57,7 +57,11 @@ export function replaceNonFinite(decoded: DecodedAudio): DecodedAudio {
   return {
     format: decoded.format,
     blocks: blocks(),
-    get warnings() { return decoded.warnings; },
-    get framesDecoded() { return decoded.framesDecoded; },
+    get warnings() {
+      return decoded.warnings;
+    },
+    get framesDecoded() {
+      return decoded.framesDecoded;
+    },
   };
 }

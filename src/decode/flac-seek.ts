@@ -8,7 +8,13 @@ import { flacHeaderBlockSize, FlacInputSlicer } from './compressed-flac.ts';
 import { OutputCheck } from './compressed-output.ts';
 import type { Probe } from './compressed-probe.ts';
 import { flacStreamInfo } from './flac-probe.ts';
-import { DEFAULT_MAX_BLOCK_FRAMES, type AudioFormat, type DecodedAudio, type DecodeOptions, type SeekedAudio } from './types.ts';
+import {
+  DEFAULT_MAX_BLOCK_FRAMES,
+  type AudioFormat,
+  type DecodedAudio,
+  type DecodeOptions,
+  type SeekedAudio,
+} from './types.ts';
 
 interface FlacStream {
   /** Offset of the fLaC marker (after any ID3v2 tag). */
@@ -54,14 +60,32 @@ async function readFlacStream(path: string): Promise<FlacStream | null> {
       const table = await readRange(path, at + 4, length);
       for (let o = 0; o + 18 <= table.length; o += 18) {
         if (u32be(table, o) === 0xffffffff && u32be(table, o + 4) === 0xffffffff) continue; // placeholder
-        points.push({ sample: u32be(table, o) * 2 ** 32 + u32be(table, o + 4), offset: u32be(table, o + 8) * 2 ** 32 + u32be(table, o + 12) });
+        points.push({
+          sample: u32be(table, o) * 2 ** 32 + u32be(table, o + 4),
+          offset: u32be(table, o + 8) * 2 ** 32 + u32be(table, o + 12),
+        });
       }
     }
     at += 4 + length;
-    if (h[0] & 0x80) { audioStart = at; break; }
+    if (h[0] & 0x80) {
+      audioStart = at;
+      break;
+    }
   }
   if (audioStart === 0 || !maxBlock || !sampleRate) return null;
-  return { start, streamInfo: si, audioStart, minBlock, maxBlock, maxFrameBytes, sampleRate, channels, bits, total, points };
+  return {
+    start,
+    streamInfo: si,
+    audioStart,
+    minBlock,
+    maxBlock,
+    maxFrameBytes,
+    sampleRate,
+    channels,
+    bits,
+    total,
+    points,
+  };
 }
 
 const SAMPLE_BITS = [0, 8, 12, 0, 16, 20, 24, 32];
@@ -74,9 +98,27 @@ function frameSample(b: Uint8Array, o: number, s: FlacStream): number {
   if (bitsCode !== 0 && SAMPLE_BITS[bitsCode] !== s.bits) return -1;
   // The coded number, UTF-8 style (RFC 9639 section 9.1.5).
   const lead = b[o + 4];
-  let extra = 0, value = lead;
-  if (lead >= 0xfe) { extra = 6; value = 0; } else if (lead >= 0xfc) { extra = 5; value = lead & 1; } else if (lead >= 0xf8) { extra = 4; value = lead & 3; }
-  else if (lead >= 0xf0) { extra = 3; value = lead & 7; } else if (lead >= 0xe0) { extra = 2; value = lead & 15; } else if (lead >= 0xc0) { extra = 1; value = lead & 31; }
+  let extra = 0,
+    value = lead;
+  if (lead >= 0xfe) {
+    extra = 6;
+    value = 0;
+  } else if (lead >= 0xfc) {
+    extra = 5;
+    value = lead & 1;
+  } else if (lead >= 0xf8) {
+    extra = 4;
+    value = lead & 3;
+  } else if (lead >= 0xf0) {
+    extra = 3;
+    value = lead & 7;
+  } else if (lead >= 0xe0) {
+    extra = 2;
+    value = lead & 15;
+  } else if (lead >= 0xc0) {
+    extra = 1;
+    value = lead & 31;
+  }
   for (let k = 1; k <= extra; k++) {
     const c = b[o + 4 + k];
     if ((c & 0xc0) !== 0x80) return -1;
@@ -87,7 +129,10 @@ function frameSample(b: Uint8Array, o: number, s: FlacStream): number {
   return sample < s.total ? sample : -1;
 }
 
-interface FoundFrame { offset: number; sample: number }
+interface FoundFrame {
+  offset: number;
+  sample: number;
+}
 
 /** A frame is at most this long (STREAMINFO's largest frame, else 8 channels of 65535 32-bit samples). */
 const frameReach = (s: FlacStream): number => (s.maxFrameBytes || 4 * 1024 * 1024) + 16;
@@ -116,7 +161,8 @@ async function findFrame(path: string, s: FlacStream, from: number, limit: numbe
       // Sync patterns inside this frame's data may pass too: look on to the one numbered `next`.
       const successorEnd = Math.min(b.length, o + reach);
       for (let p = b.indexOf(0xff, o + 1); p >= 0 && p < successorEnd; p = b.indexOf(0xff, p + 1)) {
-        if (flacHeaderBlockSize(b, p) !== 0 && frameSample(b, p, s) === next) return { offset: candidateFloor + o, sample };
+        if (flacHeaderBlockSize(b, p) !== 0 && frameSample(b, p, s) === next)
+          return { offset: candidateFloor + o, sample };
       }
     }
     if (b.length < windowBytes) return null;
@@ -128,16 +174,25 @@ async function findFrame(path: string, s: FlacStream, from: number, limit: numbe
 const MAX_SEARCH_STEPS = 64;
 
 /** The verified frame at or before `target` nearest to it that a bounded search finds. */
-async function flacStartFrame(path: string, s: FlacStream, target: number, fileBytes: number): Promise<FoundFrame | null> {
+async function flacStartFrame(
+  path: string,
+  s: FlacStream,
+  target: number,
+  fileBytes: number,
+): Promise<FoundFrame | null> {
   let lo = await findFrame(path, s, s.audioStart, fileBytes);
-  if (!lo || lo.sample !== 0) return null;
-  let hiOffset = fileBytes, hiSample = s.total;
+  if (lo?.sample !== 0) return null;
+  let hiOffset = fileBytes,
+    hiSample = s.total;
   for (const p of s.points) {
     const offset = s.audioStart + p.offset;
     if (p.sample <= target && p.sample > lo.sample && offset < fileBytes) {
       const at = await findFrame(path, s, offset, offset + 1);
       if (at && at.sample === p.sample) lo = at;
-    } else if (p.sample > target && p.sample < hiSample && offset > lo.offset) { hiOffset = offset; hiSample = p.sample; }
+    } else if (p.sample > target && p.sample < hiSample && offset > lo.offset) {
+      hiOffset = offset;
+      hiSample = p.sample;
+    }
   }
   for (let step = 0; step < MAX_SEARCH_STEPS; step++) {
     if (target - lo.sample < s.maxBlock || hiOffset - lo.offset <= 1) break;
@@ -147,13 +202,20 @@ async function flacStartFrame(path: string, s: FlacStream, target: number, fileB
     // Every byte of the stream is inside a frame, so a real header follows `pos` within one frame's length: look no further.
     const found = await findFrame(path, s, pos, Math.min(hiOffset, pos + frameReach(s)));
     if (found && found.sample <= target && found.sample > lo.sample) lo = found;
-    else if (found && found.sample > target) { hiOffset = found.offset; hiSample = Math.min(hiSample, found.sample); }
-    else hiOffset = pos; // no frame starts in [pos, hiOffset)
+    else if (found && found.sample > target) {
+      hiOffset = found.offset;
+      hiSample = Math.min(hiSample, found.sample);
+    } else hiOffset = pos; // no frame starts in [pos, hiOffset)
   }
   return lo;
 }
 
-export async function openFlacAt(path: string, frame: number, options: DecodeOptions, format: AudioFormat): Promise<SeekedAudio | null> {
+export async function openFlacAt(
+  path: string,
+  frame: number,
+  options: DecodeOptions,
+  format: AudioFormat,
+): Promise<SeekedAudio | null> {
   const s = await readFlacStream(path);
   if (!s || frame >= s.total) return null;
   const fileBytes = (await stat(path)).size;
@@ -161,14 +223,38 @@ export async function openFlacAt(path: string, frame: number, options: DecodeOpt
   if (!start || start.sample === 0) return null;
   const blockFrames = options.maxBlockFrames ?? DEFAULT_MAX_BLOCK_FRAMES;
   // No declared length from here, so the frame-count verdicts stay quiet; output checks and the FLAC scale are the usual ones.
-  const probe: Probe = { codec: 'flac', encoding: 'flac', sampleRate: s.sampleRate, channels: s.channels, bitsPerSample: s.bits,
-    frames: null, framesSlack: 0, wholeFile: false, endMissing: null };
+  const probe: Probe = {
+    codec: 'flac',
+    encoding: 'flac',
+    sampleRate: s.sampleRate,
+    channels: s.channels,
+    bitsPerSample: s.bits,
+    frames: null,
+    framesSlack: 0,
+    wholeFile: false,
+    endMissing: null,
+  };
   const check = new OutputCheck(probe, blockFrames, [], Infinity);
   const header = s.streamInfo.slice();
   header[0] |= 0x80; // STREAMINFO becomes the last metadata block: the frames follow it
   const marker = new Uint8Array([0x66, 0x4c, 0x61, 0x43]);
-  const blocks = decodeFrom(path, 'flac', concat(marker, header), start.offset, fileBytes, new FlacInputSlicer(s.channels), check);
-  const audio: DecodedAudio = { format, blocks, warnings: [], get framesDecoded() { return check.framesOut; } };
+  const blocks = decodeFrom(
+    path,
+    'flac',
+    concat(marker, header),
+    start.offset,
+    fileBytes,
+    new FlacInputSlicer(s.channels),
+    check,
+  );
+  const audio: DecodedAudio = {
+    format,
+    blocks,
+    warnings: [],
+    get framesDecoded() {
+      return check.framesOut;
+    },
+  };
   return { audio, firstFrame: start.sample, method: 'flac_frame' };
 }
 

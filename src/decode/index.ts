@@ -53,7 +53,11 @@ export function openAudioFile(path: string, options: DecodeOptions = {}): Promis
 }
 
 /** Opens `path` with the decoder of `container`, without detection (tests, and callers that know better). */
-export function openAudioFileAs(path: string, container: Container, options: DecodeOptions = {}): Promise<DecodedAudio> {
+export function openAudioFileAs(
+  path: string,
+  container: Container,
+  options: DecodeOptions = {},
+): Promise<DecodedAudio> {
   return openWith(path, container, options);
 }
 
@@ -65,7 +69,12 @@ async function openWith(path: string, knownContainer: Container | null, options:
     sizeBytes = info.size;
   } catch (error) {
     if (error instanceof EarmarkError) throw error;
-    throw new EarmarkError('file_not_found', `cannot read ${safeName(path)}: ${(error as NodeJS.ErrnoException).code ?? String(error)}`, {}, { cause: error });
+    throw new EarmarkError(
+      'file_not_found',
+      `cannot read ${safeName(path)}: ${(error as NodeJS.ErrnoException).code ?? String(error)}`,
+      {},
+      { cause: error },
+    );
   }
   if (sizeBytes === 0) throw new EarmarkError('empty_file', `${safeName(path)} is empty`);
 
@@ -73,11 +82,17 @@ async function openWith(path: string, knownContainer: Container | null, options:
   try {
     handle = await open(path, 'r');
   } catch (error) {
-    throw new EarmarkError('file_not_found', `cannot open ${safeName(path)}: ${(error as NodeJS.ErrnoException).code ?? String(error)}`, {}, { cause: error });
+    throw new EarmarkError(
+      'file_not_found',
+      `cannot open ${safeName(path)}: ${(error as NodeJS.ErrnoException).code ?? String(error)}`,
+      {},
+      { cause: error },
+    );
   }
   try {
     const container = knownContainer ?? (await detectFile(handle));
-    if (container === null) throw new EarmarkError('unsupported_format', `${safeName(path)} is not in a recognised audio format`);
+    if (container === null)
+      throw new EarmarkError('unsupported_format', `${safeName(path)} is not in a recognised audio format`);
     return await DECODERS[container].open({ path, container, sizeBytes }, handle, options);
   } finally {
     await handle.close();
@@ -88,7 +103,10 @@ async function openWith(path: string, knownContainer: Container | null, options:
  * Decodes a PCM container (WAV family or AIFF) from a byte stream, for generated or piped
  * input. Compressed containers need a path: they are reported as unsupported_format here.
  */
-export async function openPcmStream(stream: AsyncIterable<Uint8Array>, options: DecodeOptions = {}): Promise<DecodedAudio> {
+export async function openPcmStream(
+  stream: AsyncIterable<Uint8Array>,
+  options: DecodeOptions = {},
+): Promise<DecodedAudio> {
   const reader = ByteReader.fromStream(stream);
   try {
     const head = await reader.peek(12);
@@ -96,7 +114,10 @@ export async function openPcmStream(stream: AsyncIterable<Uint8Array>, options: 
     const container = detectContainer(head);
     const decoder = container === null ? null : DECODERS[container];
     if (container === null || !decoder?.openStream) {
-      throw new EarmarkError('unsupported_format', container ? `${container} streams need a file path` : 'the stream is not in a recognised PCM format');
+      throw new EarmarkError(
+        'unsupported_format',
+        container ? `${container} streams need a file path` : 'the stream is not in a recognised PCM format',
+      );
     }
     return await decoder.openStream(reader, container, options);
   } catch (error) {

@@ -9,10 +9,14 @@ export const MAX_CHANNELS = 64;
 /** Validates the numbers every header shares; throws corrupt_file on nonsense. */
 export function checkStreamNumbers(what: string, channels: number, sampleRate: number): void {
   if (channels === 0) throw new EarmarkError('corrupt_file', `${what} declares 0 channels`);
-  if (channels > MAX_CHANNELS) throw new EarmarkError('corrupt_file', `${what} declares ${channels} channels (more than ${MAX_CHANNELS})`);
+  if (channels > MAX_CHANNELS)
+    throw new EarmarkError('corrupt_file', `${what} declares ${channels} channels (more than ${MAX_CHANNELS})`);
   if (!Number.isFinite(sampleRate) || sampleRate < 1 || sampleRate > MAX_SAMPLE_RATE) {
     throw new EarmarkError('corrupt_file', `${what} declares an impossible sample rate of ${sampleRate} Hz`);
   }
-  if (sampleRate < MIN_SAMPLE_RATE) throw new EarmarkError('unsupported_encoding', `${what} declares ${sampleRate} Hz; rates below ${MIN_SAMPLE_RATE} Hz are not supported`);
+  if (sampleRate < MIN_SAMPLE_RATE)
+    throw new EarmarkError(
+      'unsupported_encoding',
+      `${what} declares ${sampleRate} Hz; rates below ${MIN_SAMPLE_RATE} Hz are not supported`,
+    );
 }
-

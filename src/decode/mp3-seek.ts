@@ -8,7 +8,13 @@ import { decodeFrom, WHOLE_CHUNKS } from './compressed.ts';
 import { parseMpegHeader } from './compressed-mp3.ts';
 import { OutputCheck } from './compressed-output.ts';
 import type { Probe } from './compressed-probe.ts';
-import { DEFAULT_MAX_BLOCK_FRAMES, type AudioFormat, type DecodedAudio, type DecodeOptions, type SeekedAudio } from './types.ts';
+import {
+  DEFAULT_MAX_BLOCK_FRAMES,
+  type AudioFormat,
+  type DecodedAudio,
+  type DecodeOptions,
+  type SeekedAudio,
+} from './types.ts';
 
 /** Frames decoded before the span and thrown away: the bit reservoir reaches back up to 511 bytes and the filterbanks overlap. */
 const MP3_PREROLL_FRAMES = 10;
@@ -21,7 +27,12 @@ const MAX_ID3_TAGS = 4;
  * The output differs from decoding from the start by about one float32 step (the decoder's
  * arithmetic is not quite position-independent).
  */
-export async function openMp3At(path: string, frame: number, options: DecodeOptions, format: AudioFormat): Promise<SeekedAudio | null> {
+export async function openMp3At(
+  path: string,
+  frame: number,
+  options: DecodeOptions,
+  format: AudioFormat,
+): Promise<SeekedAudio | null> {
   const fileBytes = (await stat(path)).size;
   let first = 0;
   for (let i = 0; i < MAX_ID3_TAGS; i++) {
@@ -31,7 +42,7 @@ export async function openMp3At(path: string, frame: number, options: DecodeOpti
   }
   const head = await readRange(path, first, 4096);
   const info = parseMpegHeader(head, 0);
-  if (!info || info.layer !== 3 || format.frames === null || frame >= format.frames) return null;
+  if (info?.layer !== 3 || format.frames === null || frame >= format.frames) return null;
   const x = 4 + (info.mpeg1 ? (info.channels === 1 ? 17 : 32) : info.channels === 1 ? 9 : 17);
   const tag = ascii(head, x, 4);
   if (tag !== 'Xing' && tag !== 'Info') return null;
@@ -47,13 +58,32 @@ export async function openMp3At(path: string, frame: number, options: DecodeOpti
   if (from < 2) return null;
   const offset = await mp3FrameOffset(path, first + info.frameBytes, from - 1, fileBytes);
   if (offset === null) return null;
-  const probe: Probe = { codec: 'mp3', encoding: format.encoding, sampleRate: format.sampleRate, channels: format.channels, bitsPerSample: null,
-    frames: null, framesSlack: 0, wholeFile: false, endMissing: null };
+  const probe: Probe = {
+    codec: 'mp3',
+    encoding: format.encoding,
+    sampleRate: format.sampleRate,
+    channels: format.channels,
+    bitsPerSample: null,
+    frames: null,
+    framesSlack: 0,
+    wholeFile: false,
+    endMissing: null,
+  };
   const check = new OutputCheck(probe, options.maxBlockFrames ?? DEFAULT_MAX_BLOCK_FRAMES, [], Infinity);
   const firstFrame = (from - 1) * spf - delay;
   // From the middle the decoder cannot know the end padding the whole decode drops: stop at the declared length.
-  const blocks = upTo(decodeFrom(path, 'mp3', null, offset, fileBytes, WHOLE_CHUNKS, check), format.frames - firstFrame);
-  const audio: DecodedAudio = { format, blocks, warnings: [], get framesDecoded() { return check.framesOut; } };
+  const blocks = upTo(
+    decodeFrom(path, 'mp3', null, offset, fileBytes, WHOLE_CHUNKS, check),
+    format.frames - firstFrame,
+  );
+  const audio: DecodedAudio = {
+    format,
+    blocks,
+    warnings: [],
+    get framesDecoded() {
+      return check.framesOut;
+    },
+  };
   return { audio, firstFrame, method: 'mp3_frame' };
 }
 
@@ -86,4 +116,3 @@ async function mp3FrameOffset(path: string, at: number, skip: number, fileBytes:
   }
   return offset + 4 <= fileBytes ? offset : null;
 }
-

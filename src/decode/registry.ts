@@ -16,4 +16,7 @@ import { bw64, rf64, wav } from './formats/wave.ts';
  * signatures come first; ADTS before MPEG audio, whose loose sync after an ID3v2 tag also
  * matches an ADTS header.
  */
-export const DECODERS = { wav, rf64, bw64, aiff, aifc, flac, ogg, webm, caf, m4a, aac, mp3 } satisfies Record<string, Decoder>;
+export const DECODERS = { wav, rf64, bw64, aiff, aifc, flac, ogg, webm, caf, m4a, aac, mp3 } satisfies Record<
+  string,
+  Decoder
+>;

@@ -15,8 +15,16 @@ const WAVE_FORMAT_IEEE_FLOAT = 0x0003;
 const WAVE_FORMAT_EXTENSIBLE = 0xfffe;
 // Microsoft mmreg.h format tags, named only so the error says what the file is.
 const KNOWN_TAGS: Record<number, string> = {
-  0x0002: 'Microsoft ADPCM', 0x0006: 'A-law', 0x0007: 'mu-law', 0x0011: 'IMA ADPCM', 0x0031: 'GSM 6.10',
-  0x0050: 'MPEG audio', 0x0055: 'MPEG layer III', 0x00ff: 'AAC', 0x2000: 'AC-3', 0x2001: 'DTS',
+  0x0002: 'Microsoft ADPCM',
+  0x0006: 'A-law',
+  0x0007: 'mu-law',
+  0x0011: 'IMA ADPCM',
+  0x0031: 'GSM 6.10',
+  0x0050: 'MPEG audio',
+  0x0055: 'MPEG layer III',
+  0x00ff: 'AAC',
+  0x2000: 'AC-3',
+  0x2001: 'DTS',
 };
 // KSDATAFORMAT_SUBTYPE_* GUID bytes 2..15 as stored (little-endian Data1..Data3), ksmedia.h.
 const KSDATAFORMAT_TAIL = [0x00, 0x00, 0x00, 0x00, 0x10, 0x00, 0x80, 0x00, 0x00, 0xaa, 0x00, 0x38, 0x9b, 0x71];
@@ -32,8 +40,24 @@ export function labelsFromChannelMask(mask: number, channels: number): ChannelLa
   const hasBack = (mask & SPEAKER_BACK_PAIR) !== 0;
   const hasSide = (mask & SPEAKER_SIDE_PAIR) !== 0;
   const byBit: ChannelLabel[] = [
-    'L', 'R', 'C', 'LFE', hasSide ? 'Lrs' : 'Ls', hasSide ? 'Rrs' : 'Rs', 'Lc', 'Rc', 'Cs',
-    hasBack ? 'Lss' : 'Ls', hasBack ? 'Rss' : 'Rs', 'Tc', 'Tfl', 'Tfc', 'Tfr', 'Tbl', 'Tbc', 'Tbr',
+    'L',
+    'R',
+    'C',
+    'LFE',
+    hasSide ? 'Lrs' : 'Ls',
+    hasSide ? 'Rrs' : 'Rs',
+    'Lc',
+    'Rc',
+    'Cs',
+    hasBack ? 'Lss' : 'Ls',
+    hasBack ? 'Rss' : 'Rs',
+    'Tc',
+    'Tfl',
+    'Tfc',
+    'Tfr',
+    'Tbl',
+    'Tbc',
+    'Tbr',
   ];
   const labels: ChannelLabel[] = [];
   for (let bit = 0; bit < 32 && labels.length < channels; bit++) {
@@ -64,34 +88,93 @@ function parseFmt(b: Uint8Array): WaveFmt {
   let channelMask: number | null = null;
   checkStreamNumbers('fmt chunk', channels, sampleRate);
   if (tag === WAVE_FORMAT_EXTENSIBLE) {
-    if (b.length < 40 || u16le(b, 16) < 22) throw new EarmarkError('corrupt_file', 'WAVE_FORMAT_EXTENSIBLE fmt chunk is shorter than 40 bytes');
+    if (b.length < 40 || u16le(b, 16) < 22)
+      throw new EarmarkError('corrupt_file', 'WAVE_FORMAT_EXTENSIBLE fmt chunk is shorter than 40 bytes');
     const validBits = u16le(b, 18);
-    if (validBits > containerBits) throw new EarmarkError('corrupt_file', `valid bits ${validBits} exceed container bits ${containerBits}`);
+    if (validBits > containerBits)
+      throw new EarmarkError('corrupt_file', `valid bits ${validBits} exceed container bits ${containerBits}`);
     if (validBits > 0) bitsPerSample = validBits;
     channelMask = u32le(b, 20);
     tag = u16le(b, 24);
-    if (KSDATAFORMAT_TAIL.some((v, i) => b[26 + i] !== v)) throw new EarmarkError('unsupported_encoding', 'WAVE_FORMAT_EXTENSIBLE sub-format GUID is not a known PCM or float GUID');
+    if (KSDATAFORMAT_TAIL.some((v, i) => b[26 + i] !== v))
+      throw new EarmarkError(
+        'unsupported_encoding',
+        'WAVE_FORMAT_EXTENSIBLE sub-format GUID is not a known PCM or float GUID',
+      );
   }
   if (tag !== WAVE_FORMAT_PCM && tag !== WAVE_FORMAT_IEEE_FLOAT) {
     const name = KNOWN_TAGS[tag] ? ` (${KNOWN_TAGS[tag]})` : '';
-    throw new EarmarkError('unsupported_encoding', `WAVE format tag 0x${tag.toString(16).padStart(4, '0')}${name} is not supported; only PCM and IEEE float are`);
+    throw new EarmarkError(
+      'unsupported_encoding',
+      `WAVE format tag 0x${tag.toString(16).padStart(4, '0')}${name} is not supported; only PCM and IEEE float are`,
+    );
   }
   if (containerBits === 0) throw new EarmarkError('corrupt_file', 'fmt chunk declares 0 bits per sample');
   const bytesPerSample = Math.ceil(containerBits / 8);
   if (blockAlign !== channels * bytesPerSample) {
-    throw new EarmarkError('corrupt_file', `block align ${blockAlign} does not match ${channels} channels of ${containerBits}-bit samples`);
+    throw new EarmarkError(
+      'corrupt_file',
+      `block align ${blockAlign} does not match ${channels} channels of ${containerBits}-bit samples`,
+    );
   }
   if (tag === WAVE_FORMAT_IEEE_FLOAT) {
-    if (containerBits !== 32 && containerBits !== 64) throw new EarmarkError('unsupported_encoding', `${containerBits}-bit IEEE float is not supported`);
-    return { layout: { kind: 'float', bytesPerSample: bytesPerSample as 4 | 8, bigEndian: false }, encoding: `pcm_f${containerBits}le`, channels, sampleRate, blockAlign, bitsPerSample, channelMask };
+    if (containerBits !== 32 && containerBits !== 64)
+      throw new EarmarkError('unsupported_encoding', `${containerBits}-bit IEEE float is not supported`);
+    return {
+      layout: { kind: 'float', bytesPerSample: bytesPerSample as 4 | 8, bigEndian: false },
+      encoding: `pcm_f${containerBits}le`,
+      channels,
+      sampleRate,
+      blockAlign,
+      bitsPerSample,
+      channelMask,
+    };
   }
-  if (bytesPerSample > 4) throw new EarmarkError('unsupported_encoding', `${containerBits}-bit integer PCM is not supported`);
+  if (bytesPerSample > 4)
+    throw new EarmarkError('unsupported_encoding', `${containerBits}-bit integer PCM is not supported`);
   const kind = bytesPerSample === 1 ? 'uint8' : 'int';
   const encoding = bytesPerSample === 1 ? 'pcm_u8' : `pcm_s${bytesPerSample * 8}le`;
-  return { layout: { kind, bytesPerSample: bytesPerSample as 1 | 2 | 3 | 4, bigEndian: false }, encoding, channels, sampleRate, blockAlign, bitsPerSample, channelMask };
+  return {
+    layout: { kind, bytesPerSample: bytesPerSample as 1 | 2 | 3 | 4, bigEndian: false },
+    encoding,
+    channels,
+    sampleRate,
+    blockAlign,
+    bitsPerSample,
+    channelMask,
+  };
 }
 
-const KNOWN_CHUNKS = new Set(['data', 'fmt ', 'bext', 'LIST', 'fact', 'cue ', 'JUNK', 'junk', 'PAD ', 'iXML', 'axml', 'chna', 'ds64', 'smpl', 'inst', 'id3 ', 'ID3 ', 'acid', 'PEAK', 'levl', 'umid', 'cart', 'list', 'FLLR', 'minf', 'elm1', 'regn', 'ovwf']);
+const KNOWN_CHUNKS = new Set([
+  'data',
+  'fmt ',
+  'bext',
+  'LIST',
+  'fact',
+  'cue ',
+  'JUNK',
+  'junk',
+  'PAD ',
+  'iXML',
+  'axml',
+  'chna',
+  'ds64',
+  'smpl',
+  'inst',
+  'id3 ',
+  'ID3 ',
+  'acid',
+  'PEAK',
+  'levl',
+  'umid',
+  'cart',
+  'list',
+  'FLLR',
+  'minf',
+  'elm1',
+  'regn',
+  'ovwf',
+]);
 const isPrintableId = (b: Uint8Array, o: number): boolean => {
   for (let i = o; i < o + 4; i++) if (b[i] < 0x20 || b[i] > 0x7e) return false;
   return true;
@@ -131,7 +214,8 @@ const BEXT_TIME_REFERENCE_OFFSET = 338; // EBU Tech 3285: 256 + 32 + 32 + 10 + 8
 export async function parseRiff(reader: ByteReader, container: Container): Promise<PcmPlan> {
   const head = await reader.readExactly(12, 'the RIFF header');
   const riffId = fourcc(head, 0);
-  if (!['RIFF', 'RF64', 'BW64'].includes(riffId) || fourcc(head, 8) !== 'WAVE') throw new EarmarkError('unsupported_format', 'not a RIFF/WAVE file');
+  if (!['RIFF', 'RF64', 'BW64'].includes(riffId) || fourcc(head, 8) !== 'WAVE')
+    throw new EarmarkError('unsupported_format', 'not a RIFF/WAVE file');
   const is64 = riffId !== 'RIFF';
   const warnings: DecodeWarning[] = [];
   let ds64: Ds64 | null = null;
@@ -143,7 +227,11 @@ export async function parseRiff(reader: ByteReader, container: Container): Promi
     if (data && !reader.seekable) break;
     const header = await reader.read(8);
     if (header.length < 8) {
-      if (header.length > 0 && !data) throw new EarmarkError('corrupt_file', `file ends inside a chunk header at offset ${reader.position - header.length}`);
+      if (header.length > 0 && !data)
+        throw new EarmarkError(
+          'corrupt_file',
+          `file ends inside a chunk header at offset ${reader.position - header.length}`,
+        );
       break;
     }
     const id = fourcc(header, 0);
@@ -161,14 +249,17 @@ export async function parseRiff(reader: ByteReader, container: Container): Promi
       // Past the audio: only metadata we can use; anything odd ends the scan quietly.
       if (id === 'bext' && timeReferenceSamples === null && size >= BEXT_TIME_REFERENCE_OFFSET + 8) {
         const body = await reader.read(BEXT_TIME_REFERENCE_OFFSET + 8);
-        if (body.length === BEXT_TIME_REFERENCE_OFFSET + 8) timeReferenceSamples = u64le(body, BEXT_TIME_REFERENCE_OFFSET);
+        if (body.length === BEXT_TIME_REFERENCE_OFFSET + 8)
+          timeReferenceSamples = u64le(body, BEXT_TIME_REFERENCE_OFFSET);
         break;
       }
     } else if (id === 'ds64' && is64) {
-      if (size > MAX_HEADER_CHUNK_BYTES) throw new EarmarkError('corrupt_file', `ds64 chunk of ${size} bytes is implausible`);
+      if (size > MAX_HEADER_CHUNK_BYTES)
+        throw new EarmarkError('corrupt_file', `ds64 chunk of ${size} bytes is implausible`);
       ds64 = parseDs64(await reader.readExactly(size, 'the ds64 chunk'));
     } else if (id === 'fmt ') {
-      if (size > MAX_HEADER_CHUNK_BYTES) throw new EarmarkError('corrupt_file', `fmt chunk of ${size} bytes is implausible`);
+      if (size > MAX_HEADER_CHUNK_BYTES)
+        throw new EarmarkError('corrupt_file', `fmt chunk of ${size} bytes is implausible`);
       fmt = parseFmt(await reader.readExactly(size, 'the fmt chunk'));
     } else if (id === 'bext' && size >= BEXT_TIME_REFERENCE_OFFSET + 8) {
       const body = await reader.readExactly(BEXT_TIME_REFERENCE_OFFSET + 8, 'the bext chunk');
@@ -184,7 +275,10 @@ export async function parseRiff(reader: ByteReader, container: Container): Promi
     if (skipped < size - consumed) break;
     if (size % 2 === 1) {
       if (!data && (await padMissing(reader))) {
-        warnings.push({ code: 'odd_chunk_padding_missing', message: `chunk '${id}' has odd size ${size} but no pad byte follows it` });
+        warnings.push({
+          code: 'odd_chunk_padding_missing',
+          message: `chunk '${id}' has odd size ${size} but no pad byte follows it`,
+        });
       } else if ((await reader.skip(1)) < 1) break;
     }
   }
@@ -194,9 +288,17 @@ export async function parseRiff(reader: ByteReader, container: Container): Promi
   const frames = Math.floor(data.bytes / fmt.blockAlign);
   if (ds64 && ds64.sampleCount !== 0 && ds64.sampleCount > frames) {
     // The declared length is not reached: the audio stops where the data does.
-    warnings.push({ code: 'truncated_data', atFrame: frames, message: `audio data ends at frame ${frames}, the ds64 sample count declares ${ds64.sampleCount}` });
+    warnings.push({
+      code: 'truncated_data',
+      atFrame: frames,
+      message: `audio data ends at frame ${frames}, the ds64 sample count declares ${ds64.sampleCount}`,
+    });
   } else if (ds64 && ds64.sampleCount !== 0 && ds64.sampleCount < frames) {
-    warnings.push({ code: 'frames_mismatch', atFrame: ds64.sampleCount, message: `ds64 sample count ${ds64.sampleCount} is less than the ${frames} frames of data` });
+    warnings.push({
+      code: 'frames_mismatch',
+      atFrame: ds64.sampleCount,
+      message: `ds64 sample count ${ds64.sampleCount} is less than the ${frames} frames of data`,
+    });
   }
   const format: AudioFormat = {
     container,
@@ -206,9 +308,19 @@ export async function parseRiff(reader: ByteReader, container: Container): Promi
     bitsPerSample: fmt.bitsPerSample,
     frames,
     durationSeconds: frames / fmt.sampleRate,
-    channelLabels: fmt.channelMask === null ? defaultChannelLabels(fmt.channels) : labelsFromChannelMask(fmt.channelMask, fmt.channels),
+    channelLabels:
+      fmt.channelMask === null
+        ? defaultChannelLabels(fmt.channels)
+        : labelsFromChannelMask(fmt.channelMask, fmt.channels),
     channelMask: fmt.channelMask,
     timeReferenceSamples,
   };
-  return { format, layout: fmt.layout, blockAlign: fmt.blockAlign, dataOffset: data.offset, dataBytes: data.bytes, warnings };
+  return {
+    format,
+    layout: fmt.layout,
+    blockAlign: fmt.blockAlign,
+    dataOffset: data.offset,
+    dataBytes: data.bytes,
+    warnings,
+  };
 }

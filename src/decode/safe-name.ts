@@ -3,5 +3,8 @@
 
 /** `path` as a quoted, escaped string safe to print anywhere. */
 export function safeName(path: string): string {
-  return JSON.stringify(path).replace(/[\u007f-\u009f\u00ad\u2028\u2029\p{Cf}]/gu, (c) => `\\u${c.charCodeAt(0).toString(16).padStart(4, '0')}`);
+  return JSON.stringify(path).replace(
+    /[\u007f-\u009f\u00ad\u2028\u2029\p{Cf}]/gu,
+    (c) => `\\u${c.charCodeAt(0).toString(16).padStart(4, '0')}`,
+  );
 }

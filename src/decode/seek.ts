@@ -8,7 +8,11 @@ import type { DecodeOptions, SeekedAudio } from './types.ts';
 export type { SeekedAudio } from './types.ts';
 
 /** Decodes `path` from `startFrame` or the nearest frame before it the format allows. */
-export async function openAudioFileAt(path: string, startFrame: number, options: DecodeOptions = {}): Promise<SeekedAudio> {
+export async function openAudioFileAt(
+  path: string,
+  startFrame: number,
+  options: DecodeOptions = {},
+): Promise<SeekedAudio> {
   const whole = await openAudioFile(path, options);
   const frame = Math.max(0, Math.floor(startFrame));
   if (frame === 0) return { audio: whole, firstFrame: 0, method: 'from_start' };

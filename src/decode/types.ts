@@ -24,7 +24,13 @@ export interface AudioFormat {
   timeReferenceSamples: number | null;
 }
 
-export type DecodeWarningCode = 'truncated_data' | 'trailing_garbage' | 'channels_restored' | 'frames_mismatch' | 'odd_chunk_padding_missing' | 'non_finite_samples';
+export type DecodeWarningCode =
+  | 'truncated_data'
+  | 'trailing_garbage'
+  | 'channels_restored'
+  | 'frames_mismatch'
+  | 'odd_chunk_padding_missing'
+  | 'non_finite_samples';
 
 export interface DecodeWarning {
   code: DecodeWarningCode;

@@ -59,7 +59,8 @@ export function wavHeader(o: WavHeaderOptions): Uint8Array {
   const ds64Bytes = o.rf64 ? 8 + 28 : 0;
   const headerBytes = 12 + ds64Bytes + 8 + fmtBytes + bextBytes + 8;
   const riffBytes = headerBytes - 8 + dataBytes + (dataBytes % 2);
-  if (!o.rf64 && riffBytes > 0xffffffff) throw new EarmarkError('invalid_argument', `${dataBytes} data bytes need RF64`);
+  if (!o.rf64 && riffBytes > 0xffffffff)
+    throw new EarmarkError('invalid_argument', `${dataBytes} data bytes need RF64`);
   const w = new ByteWriter(headerBytes);
   w.id(o.rf64 ? 'RF64' : 'RIFF');
   w.u32(o.rf64 ? 0xffffffff : riffBytes, true);
@@ -107,7 +108,12 @@ export interface SampleEncoding {
 }
 
 /** Interleaves planar samples; integers are clamped to full scale and rounded to nearest. */
-export function encodePcmFrames(channelData: Float32Array[] | Float64Array[], bitsPerSample: number, float: boolean, encoding: SampleEncoding = {}): Uint8Array {
+export function encodePcmFrames(
+  channelData: Float32Array[] | Float64Array[],
+  bitsPerSample: number,
+  float: boolean,
+  encoding: SampleEncoding = {},
+): Uint8Array {
   const channels = channelData.length;
   const frames = channels > 0 ? channelData[0].length : 0;
   const bytesPerSample = Math.ceil(bitsPerSample / 8);
@@ -141,7 +147,13 @@ export function encodePcmFrames(channelData: Float32Array[] | Float64Array[], bi
 export type PlanarBlocks = AsyncIterable<Float32Array[] | Float64Array[]> | Iterable<Float32Array[] | Float64Array[]>;
 
 /** Writes header + encoded blocks, then rewrites the header with the real frame count. */
-async function writeFile(path: string, header: (frames: number) => Uint8Array, encode: (block: Float32Array[] | Float64Array[]) => Uint8Array, blocks: PlanarBlocks, padOddData: boolean): Promise<number> {
+async function writeFile(
+  path: string,
+  header: (frames: number) => Uint8Array,
+  encode: (block: Float32Array[] | Float64Array[]) => Uint8Array,
+  blocks: PlanarBlocks,
+  padOddData: boolean,
+): Promise<number> {
   const handle = await open(path, 'w');
   try {
     let position = header(0).length;
@@ -163,8 +175,18 @@ async function writeFile(path: string, header: (frames: number) => Uint8Array, e
 }
 
 /** Streams planar blocks into a WAV file; `frames` in options is ignored (counted). Returns frames written. */
-export function writeWavFile(path: string, options: Omit<WavHeaderOptions, 'frames'>, blocks: PlanarBlocks): Promise<number> {
-  return writeFile(path, (frames) => wavHeader({ ...options, frames }), (b) => encodePcmFrames(b, options.bitsPerSample, options.float), blocks, true);
+export function writeWavFile(
+  path: string,
+  options: Omit<WavHeaderOptions, 'frames'>,
+  blocks: PlanarBlocks,
+): Promise<number> {
+  return writeFile(
+    path,
+    (frames) => wavHeader({ ...options, frames }),
+    (b) => encodePcmFrames(b, options.bitsPerSample, options.float),
+    blocks,
+    true,
+  );
 }
 
 export interface AiffHeaderOptions {
@@ -182,8 +204,14 @@ export function extended80(value: number): Uint8Array {
   if (value === 0) return out;
   let exponent = Math.floor(Math.log2(value));
   let m = value / 2 ** exponent;
-  if (m >= 2) { m /= 2; exponent++; } // log2 rounding at exact powers
-  if (m < 1) { m *= 2; exponent--; }
+  if (m >= 2) {
+    m /= 2;
+    exponent++;
+  } // log2 rounding at exact powers
+  if (m < 1) {
+    m *= 2;
+    exponent--;
+  }
   const biased = exponent + 16383;
   out[0] = (biased >> 8) & 0x7f;
   out[1] = biased & 0xff;
@@ -231,9 +259,19 @@ export function aiffHeader(o: AiffHeaderOptions): Uint8Array {
 }
 
 /** Streams planar blocks into an AIFF or AIFF-C file. Returns frames written. */
-export function writeAiffFile(path: string, options: Omit<AiffHeaderOptions, 'frames'>, blocks: PlanarBlocks): Promise<number> {
+export function writeAiffFile(
+  path: string,
+  options: Omit<AiffHeaderOptions, 'frames'>,
+  blocks: PlanarBlocks,
+): Promise<number> {
   const float = options.compression === 'fl32' || options.compression === 'fl64';
   const bits = options.compression === 'fl64' ? 64 : options.compression === 'fl32' ? 32 : options.bitsPerSample;
   const encoding: SampleEncoding = { bigEndian: options.compression !== 'sowt', signed8: true };
-  return writeFile(path, (frames) => aiffHeader({ ...options, frames }), (b) => encodePcmFrames(b, bits, float, encoding), blocks, true);
+  return writeFile(
+    path,
+    (frames) => aiffHeader({ ...options, frames }),
+    (b) => encodePcmFrames(b, bits, float, encoding),
+    blocks,
+    true,
+  );
 }

@@ -36,20 +36,29 @@ async function sha256File(path: string): Promise<string> {
 
 export async function analyzeFile(path: string, options: AnalyzeFileOptions = {}): Promise<AnalysisDocument> {
   const started = performance.now();
-  const hashing = options.knownSha256 !== undefined ? Promise.resolve(options.knownSha256)
-    : options.hash === false ? Promise.resolve(undefined) : sha256File(path).catch(() => undefined);
+  const hashing =
+    options.knownSha256 !== undefined
+      ? Promise.resolve(options.knownSha256)
+      : options.hash === false
+        ? Promise.resolve(undefined)
+        : sha256File(path).catch(() => undefined);
   // With threads the decoder writes each block straight into the runner's shared ring.
   let runner: AnalysisRunner | ParallelAnalysisRunner | null = null;
   const blockArrays = () => (runner instanceof ParallelAnalysisRunner ? runner.nextBlockArrays() : null);
   const decoded = await openAudioFile(path, { ...options.decode, blockArrays });
   const { format } = decoded;
   const info = {
-    sampleRate: format.sampleRate, channels: format.channels, channelLabels: format.channelLabels,
+    sampleRate: format.sampleRate,
+    channels: format.channels,
+    channelLabels: format.channelLabels,
     ...(format.frames ? { expectedFrames: format.frames } : {}),
   };
   const threads = options.threads ?? 1;
   const maxBlockFrames = options.decode?.maxBlockFrames ?? DEFAULT_MAX_BLOCK_FRAMES;
-  runner = threads > 1 ? new ParallelAnalysisRunner(info, options.analysis, threads, { maxBlockFrames }) : new AnalysisRunner(info, options.analysis);
+  runner =
+    threads > 1
+      ? new ParallelAnalysisRunner(info, options.analysis, threads, { maxBlockFrames })
+      : new AnalysisRunner(info, options.analysis);
   let measurements: Measurements;
   try {
     const expectedFrames = format.frames ?? 0;

@@ -25,7 +25,7 @@ const RELEASED = 3;
 const SLOT_FRAMES = RELEASED + MAX_RING_READERS;
 const CONTROL_BYTES = 8 * Math.ceil(((SLOT_FRAMES + RING_SLOTS) * 4) / 8);
 
-const RUNNING = 0;
+// State 0 (the buffer's initial zero): running.
 /** No block follows the last published one. */
 const ENDED = 1;
 /** The run was abandoned: readers stop without a result. */
@@ -68,18 +68,31 @@ export class BlockRing {
     const size = slotBytes(channels, capacityFrames, withEnvelope);
     for (let s = 0; s < RING_SLOTS; s++) {
       let at = CONTROL_BYTES + s * size;
-      const take = (bytesPer: number, count: number) => { const from = at; at += bytesPer * count; return from; };
+      const take = (bytesPer: number, count: number) => {
+        const from = at;
+        at += bytesPer * count;
+        return from;
+      };
       const blockMaxAbs = new Float64Array(buffer, take(8, channels), channels);
-      const channelData = Array.from({ length: channels }, () => new Float32Array(buffer, take(4, capacityFrames), capacityFrames));
+      const channelData = Array.from(
+        { length: channels },
+        () => new Float32Array(buffer, take(4, capacityFrames), capacityFrames),
+      );
       const maxAbs = Array.from({ length: channels }, () => new Float32Array(buffer, take(4, chunks), chunks));
       const minAbs = Array.from({ length: channels }, () => new Float32Array(buffer, take(4, chunks), chunks));
       this.slots.push({ channelData, maxAbs, minAbs, blockMaxAbs });
     }
   }
 
-  get published(): number { return Atomics.load(this.control, PUBLISHED); }
-  get cancelled(): boolean { return Atomics.load(this.control, STATE) === CANCELLED; }
-  released(reader: number): number { return Atomics.load(this.control, RELEASED + reader); }
+  get published(): number {
+    return Atomics.load(this.control, PUBLISHED);
+  }
+  get cancelled(): boolean {
+    return Atomics.load(this.control, STATE) === CANCELLED;
+  }
+  released(reader: number): number {
+    return Atomics.load(this.control, RELEASED + reader);
+  }
 
   /** The arrays block `index` is written into, so a decoder can fill them in place. */
   channelDataFor(index: number): readonly Float32Array[] {
@@ -91,11 +104,13 @@ export class BlockRing {
   /** Writes block `index` into its slot (samples the decoder already put there are not copied) and publishes it. */
   publish(index: number, block: PcmBlock, envelope: BlockEnvelope | undefined): void {
     const { capacityFrames, channels, withEnvelope } = this.shape;
-    if (block.frames > capacityFrames) throw new RangeError(`block of ${block.frames} frames exceeds the ring's ${capacityFrames}`);
+    if (block.frames > capacityFrames)
+      throw new RangeError(`block of ${block.frames} frames exceeds the ring's ${capacityFrames}`);
     if (withEnvelope && !envelope) throw new RangeError('the ring carries envelopes but the block has none');
     const slot = this.slots[index % RING_SLOTS];
     for (let c = 0; c < channels; c++) {
-      const from = block.channelData[c], to = slot.channelData[c];
+      const from = block.channelData[c],
+        to = slot.channelData[c];
       if (from.buffer !== to.buffer || from.byteOffset !== to.byteOffset) to.set(from.subarray(0, block.frames));
       if (envelope) {
         slot.maxAbs[c].set(envelope.maxAbs[c].subarray(0, envelope.chunks));
@@ -165,7 +180,10 @@ export class BlockRing {
     const channelData = full ? slot.channelData : slot.channelData.map((x) => x.subarray(0, frames));
     if (!this.shape.withEnvelope) return { channelData, frames };
     const envelope: BlockEnvelope = {
-      chunks: Math.ceil(frames / ENVELOPE_CHUNK_FRAMES), maxAbs: slot.maxAbs, minAbs: slot.minAbs, blockMaxAbs: slot.blockMaxAbs,
+      chunks: Math.ceil(frames / ENVELOPE_CHUNK_FRAMES),
+      maxAbs: slot.maxAbs,
+      minAbs: slot.minAbs,
+      blockMaxAbs: slot.blockMaxAbs,
     };
     return { channelData, frames, envelope };
   }

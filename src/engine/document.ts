@@ -121,22 +121,39 @@ const seconds = (frames: number, rate: number) => `${(frames / rate).toFixed(3)}
  * Integrity from the decoder's warnings and the frame count. A declared length the stream does
  * not reach is a cut file even when the decoder said nothing.
  */
-export function integrityOf(format: AudioFormat, frames: number, warnings: readonly DecodeWarning[]): AnalysisDocument['integrity'] {
+export function integrityOf(
+  format: AudioFormat,
+  frames: number,
+  warnings: readonly DecodeWarning[],
+): AnalysisDocument['integrity'] {
   const rate = format.sampleRate;
   const problems: DocumentIntegrityProblem[] = [];
-  const add = (code: IntegrityCode, atSample: number, message: string) => problems.push({ code, atSample, atSeconds: atSample / rate, message });
+  const add = (code: IntegrityCode, atSample: number, message: string) =>
+    problems.push({ code, atSample, atSeconds: atSample / rate, message });
   let endsEarly = false;
   for (const w of warnings) {
     const at = Math.min(w.atFrame ?? frames, frames);
-    if (w.code === 'truncated_data') { endsEarly = true; add('data_ends_early', at, `audio ends at ${seconds(at, rate)}: ${w.message}`); }
-    else if (w.code === 'trailing_garbage') add('unreadable_data', at, `unreadable data after ${seconds(at, rate)}: ${w.message}`);
+    if (w.code === 'truncated_data') {
+      endsEarly = true;
+      add('data_ends_early', at, `audio ends at ${seconds(at, rate)}: ${w.message}`);
+    } else if (w.code === 'trailing_garbage')
+      add('unreadable_data', at, `unreadable data after ${seconds(at, rate)}: ${w.message}`);
     else if (w.code === 'non_finite_samples') add('non_finite_samples', at, w.message);
   }
   if (!endsEarly && format.frames !== null && frames < format.frames) {
-    add('data_ends_early', frames, `audio ends at ${seconds(frames, rate)} but the file declares ${seconds(format.frames, rate)} (${format.frames - frames} frames missing)`);
+    add(
+      'data_ends_early',
+      frames,
+      `audio ends at ${seconds(frames, rate)} but the file declares ${seconds(format.frames, rate)} (${format.frames - frames} frames missing)`,
+    );
   }
   if (frames === 0) add('no_audio', 0, 'the file holds no audio frames');
-  else if (frames < MIN_MEASURABLE_SECONDS * rate) add('too_short', frames, `the audio is ${seconds(frames, rate)} long, shorter than one 400 ms loudness block: nothing can be measured`);
+  else if (frames < MIN_MEASURABLE_SECONDS * rate)
+    add(
+      'too_short',
+      frames,
+      `the audio is ${seconds(frames, rate)} long, shorter than one 400 ms loudness block: nothing can be measured`,
+    );
   problems.sort((a, b) => a.atSample - b.atSample);
   return { intact: problems.length === 0, problems };
 }
@@ -152,10 +169,16 @@ function seriesPoints(lufs: Float64Array, first: number, step: number): (number 
   const points = new Array<number | null>(Math.max(0, Math.ceil((lufs.length - first) / step)));
   const shared = new Map<number, number>();
   for (let i = first, k = 0; i < lufs.length; i += step, k++) {
-    if (Number.isNaN(lufs[i])) { points[k] = null; continue; }
+    if (Number.isNaN(lufs[i])) {
+      points[k] = null;
+      continue;
+    }
     const hundredths = Math.round(lufs[i] * 100);
     let value = shared.get(hundredths);
-    if (value === undefined) { value = hundredths / 100; shared.set(hundredths, value); }
+    if (value === undefined) {
+      value = hundredths / 100;
+      shared.set(hundredths, value);
+    }
     points[k] = value;
   }
   return points;
@@ -163,9 +186,8 @@ function seriesPoints(lufs: Float64Array, first: number, step: number): (number 
 
 /**
  * Every meter's events in one list by start, then channel (ties keep the registry's meter order),
- * cut at MAX_DOCUMENT_EVENTS. Counts go in each meter's countOrder (runner.ts METERS): a meter of
- * one kind counts every event it found; a meter of several counts the kinds of those it kept (its
- * eventsTruncated says when that is short).
+ * cut at MAX_DOCUMENT_EVENTS. Counts are of every event found, kept or not, in each meter's
+ * countOrder (runner.ts METERS), so the JSON's key order stays put.
  */
 function collectEvents(m: Measurements): Pick<AnalysisDocument, 'events' | 'eventCounts' | 'eventsTruncated'> {
   const lists = METER_NAMES.flatMap((name) => {
@@ -173,13 +195,15 @@ function collectEvents(m: Measurements): Pick<AnalysisDocument, 'events' | 'even
     const contract = METERS[name].events;
     return contract && isEventList(result) ? [{ ...contract, list: result }] : [];
   });
-  const all = lists.flatMap(({ list }) => list.events)
+  const all = lists
+    .flatMap(({ list }) => list.events)
     .sort((a, b) => a.startFrame - b.startFrame || (a.channel ?? -1) - (b.channel ?? -1));
   const eventCounts: Partial<Record<EventKind, number>> = {};
-  const countKind = (kind: EventKind, n: number) => { if (n > 0) eventCounts[kind] = (eventCounts[kind] ?? 0) + n; };
+  const countKind = (kind: EventKind, n: number) => {
+    if (n > 0) eventCounts[kind] = (eventCounts[kind] ?? 0) + n;
+  };
   for (const { kinds, list } of [...lists].sort((a, b) => a.countOrder - b.countOrder)) {
-    if (kinds.length === 1) countKind(kinds[0], list.eventsTotal);
-    else for (const e of list.events) countKind(e.kind, 1);
+    for (const kind of kinds) countKind(kind, list.eventsByKind[kind] ?? 0);
   }
   const truncated = all.length > MAX_DOCUMENT_EVENTS || lists.some(({ list }) => list.eventsTruncated);
   return { events: all.slice(0, MAX_DOCUMENT_EVENTS), eventCounts, eventsTruncated: truncated };

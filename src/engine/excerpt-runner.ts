@@ -50,15 +50,24 @@ export class ExcerptRunner {
   }
 
   /** Excerpts running now (for tests and metrics). */
-  get active(): number { return this.running; }
+  get active(): number {
+    return this.running;
+  }
 
   async cut(path: string, startSeconds: number, endSeconds: number, signal?: AbortSignal): Promise<Excerpt> {
     if (this.closed) throw busy('the service is shutting down');
     if (this.running >= this.threads) {
       if (this.waiting.length >= this.queued) throw busy('too many excerpts are being cut; retry shortly');
       await new Promise<void>((resolve, reject) => {
-        const go = () => { signal?.removeEventListener('abort', drop); resolve(); };
-        const drop = () => { const i = this.waiting.indexOf(go); if (i >= 0) this.waiting.splice(i, 1); reject(aborted()); };
+        const go = () => {
+          signal?.removeEventListener('abort', drop);
+          resolve();
+        };
+        const drop = () => {
+          const i = this.waiting.indexOf(go);
+          if (i >= 0) this.waiting.splice(i, 1);
+          reject(aborted());
+        };
         this.waiting.push(go);
         signal?.addEventListener('abort', drop, { once: true });
       });
@@ -68,7 +77,8 @@ export class ExcerptRunner {
       return await this.runThread({ path, startSeconds, endSeconds }, signal);
     } finally {
       const next = this.waiting.shift();
-      if (next) next(); else this.running--;
+      if (next) next();
+      else this.running--;
     }
   }
 
@@ -85,18 +95,33 @@ export class ExcerptRunner {
         signal?.removeEventListener('abort', onAbort);
         this.live.delete(worker);
         void worker.terminate();
-        if (error) reject(error); else resolve(value!);
+        if (error) reject(error);
+        else resolve(value!);
       };
       const onAbort = () => finish(aborted());
-      const timer = setTimeout(() => finish(busy(`the excerpt took longer than ${this.deadlineMs} ms; try a shorter or earlier span`)), this.deadlineMs);
+      const timer = setTimeout(
+        () => finish(busy(`the excerpt took longer than ${this.deadlineMs} ms; try a shorter or earlier span`)),
+        this.deadlineMs,
+      );
       signal?.addEventListener('abort', onAbort, { once: true });
       worker.on('message', (m: FromExcerptThread) => {
-        if (m.type === 'done') finish(null, { wav: m.wav, startSeconds: m.startSeconds, endSeconds: m.endSeconds, sampleRate: m.sampleRate, channels: m.channels });
+        if (m.type === 'done')
+          finish(null, {
+            wav: m.wav,
+            startSeconds: m.startSeconds,
+            endSeconds: m.endSeconds,
+            sampleRate: m.sampleRate,
+            channels: m.channels,
+          });
         else finish(fromWireError(m.error));
       });
       // ERR_WORKER_OUT_OF_MEMORY lands here: the heap cap was hit.
-      worker.on('error', (error) => finish(new EarmarkError('internal_error', `the excerpt thread failed: ${error.message}`)));
-      worker.on('exit', (code) => finish(new EarmarkError('internal_error', `the excerpt thread exited with code ${code}`)));
+      worker.on('error', (error) =>
+        finish(new EarmarkError('internal_error', `the excerpt thread failed: ${error.message}`)),
+      );
+      worker.on('exit', (code) =>
+        finish(new EarmarkError('internal_error', `the excerpt thread exited with code ${code}`)),
+      );
     });
   }
 

@@ -4,7 +4,11 @@ import { parentPort, workerData } from 'node:worker_threads';
 import { toWireError, type WireError } from '../errors/index.ts';
 import { cutExcerpt } from './excerpt.ts';
 
-export interface ExcerptThreadData { path: string; startSeconds: number; endSeconds: number }
+export interface ExcerptThreadData {
+  path: string;
+  startSeconds: number;
+  endSeconds: number;
+}
 
 export type FromExcerptThread =
   | { type: 'done'; wav: Uint8Array; startSeconds: number; endSeconds: number; sampleRate: number; channels: number }

@@ -24,23 +24,43 @@ export interface Excerpt {
 }
 
 /** The span [startSeconds, endSeconds) clamped to the file and to MAX_EXCERPT_SECONDS, as 24-bit PCM WAV. */
-export async function cutExcerpt(path: string, startSeconds: number, endSeconds: number, options: { seek?: boolean } = {}): Promise<Excerpt> {
-  if (!Number.isFinite(startSeconds) || !Number.isFinite(endSeconds) || startSeconds < 0 || endSeconds <= startSeconds) {
-    throw new EarmarkError('invalid_argument', 'the excerpt needs 0 <= startSeconds < endSeconds', { field: 'startSeconds' });
+export async function cutExcerpt(
+  path: string,
+  startSeconds: number,
+  endSeconds: number,
+  options: { seek?: boolean } = {},
+): Promise<Excerpt> {
+  if (
+    !Number.isFinite(startSeconds) ||
+    !Number.isFinite(endSeconds) ||
+    startSeconds < 0 ||
+    endSeconds <= startSeconds
+  ) {
+    throw new EarmarkError('invalid_argument', 'the excerpt needs 0 <= startSeconds < endSeconds', {
+      field: 'startSeconds',
+    });
   }
   if (endSeconds - startSeconds > MAX_EXCERPT_SECONDS) {
-    throw new EarmarkError('invalid_argument', `an excerpt is at most ${MAX_EXCERPT_SECONDS} s long`, { field: 'endSeconds' });
+    throw new EarmarkError('invalid_argument', `an excerpt is at most ${MAX_EXCERPT_SECONDS} s long`, {
+      field: 'endSeconds',
+    });
   }
   const opened: SeekedAudio = await openAudioFileAt(path, 0, { maxDecodedBytes: EXCERPT_MAX_DECODED_BYTES });
   const { sampleRate, channels } = opened.audio.format;
   const startFrame = Math.floor(startSeconds * sampleRate);
   const wantedFrames = Math.ceil((endSeconds - startSeconds) * sampleRate);
   if (wantedFrames * channels * 4 > MAX_EXCERPT_BYTES) {
-    throw new EarmarkError('invalid_argument', `at ${sampleRate} Hz and ${channels} channels an excerpt is at most ${Math.floor(MAX_EXCERPT_BYTES / (channels * 4 * sampleRate))} s long`, { field: 'endSeconds' });
+    throw new EarmarkError(
+      'invalid_argument',
+      `at ${sampleRate} Hz and ${channels} channels an excerpt is at most ${Math.floor(MAX_EXCERPT_BYTES / (channels * 4 * sampleRate))} s long`,
+      { field: 'endSeconds' },
+    );
   }
   // `seek: false` decodes from the start: the reference the seeking paths are tested against.
-  const decoded = options.seek === false || startFrame === 0 ? opened
-    : await openAudioFileAt(path, startFrame, { maxDecodedBytes: EXCERPT_MAX_DECODED_BYTES });
+  const decoded =
+    options.seek === false || startFrame === 0
+      ? opened
+      : await openAudioFileAt(path, startFrame, { maxDecodedBytes: EXCERPT_MAX_DECODED_BYTES });
   const out = Array.from({ length: channels }, () => new Float32Array(wantedFrames));
   let position = decoded.firstFrame;
   let copied = 0;
@@ -57,12 +77,21 @@ export async function cutExcerpt(path: string, startSeconds: number, endSeconds:
     // Lets a caller on this thread (tests, the command) interleave; the service runs this on a thread of its own.
     await nextTurn();
   }
-  if (copied === 0) throw new EarmarkError('invalid_argument', 'the excerpt starts after the end of the audio', { field: 'startSeconds' });
+  if (copied === 0)
+    throw new EarmarkError('invalid_argument', 'the excerpt starts after the end of the audio', {
+      field: 'startSeconds',
+    });
   const channelData = out.map((x) => x.subarray(0, copied));
   const header = wavHeader({ sampleRate, channels, bitsPerSample: 24, float: false, frames: copied });
   const body = encodePcmFrames(channelData, 24, false);
   const wav = new Uint8Array(header.length + body.length);
   wav.set(header);
   wav.set(body, header.length);
-  return { wav, startSeconds: startFrame / sampleRate, endSeconds: (startFrame + copied) / sampleRate, sampleRate, channels };
+  return {
+    wav,
+    startSeconds: startFrame / sampleRate,
+    endSeconds: (startFrame + copied) / sampleRate,
+    sampleRate,
+    channels,
+  };
 }

@@ -5,7 +5,15 @@
 // has a fixed number of slots, so memory stays flat with duration.
 import { Worker } from 'node:worker_threads';
 import type { PcmBlock, StreamInfo } from '../analysis/audio.ts';
-import { AnalysisRunner, isCompleteMeasurements, METER_NAMES, METERS, type AnalysisOptions, type Measurements, type MeterName } from '../analysis/runner.ts';
+import {
+  AnalysisRunner,
+  isCompleteMeasurements,
+  METER_NAMES,
+  METERS,
+  type AnalysisOptions,
+  type Measurements,
+  type MeterName,
+} from '../analysis/runner.ts';
 import { EarmarkError, fromWireError } from '../errors/index.ts';
 import { EnvelopeBuilder } from '../analysis/envelope.ts';
 import { BlockRing, createRing } from './block-ring.ts';
@@ -31,7 +39,9 @@ function startWorker(workerData: MeterThreadData): Worker {
 /** Load of each thread for an assignment of meters to threads (thread 0 is the main thread). */
 function loads(assignment: number[], threads: number): number[] {
   const load = Array.from({ length: threads }, (_, i) => (i === 0 ? MAIN_THREAD_COST : 0));
-  METER_NAMES.forEach((name, m) => { load[assignment[m]] += METERS[name].costMsPerMinute; });
+  METER_NAMES.forEach((name, m) => {
+    load[assignment[m]] += METERS[name].costMsPerMinute;
+  });
   // A worker thread with no meters is not started (meterGroups drops it).
   return load.map((l, t) => (t > 0 && l > 0 ? l + WORKER_THREAD_COST : l));
 }
@@ -46,11 +56,15 @@ const MAX_METER_THREADS = 4;
 export function meterGroups(threads: number): MeterName[][] {
   const n = Math.max(1, Math.min(Math.floor(threads), MAX_METER_THREADS));
   const assignment = new Array<number>(METER_NAMES.length).fill(0);
-  let best = [...assignment], bestLoad = Math.max(...loads(assignment, n));
+  let best = [...assignment],
+    bestLoad = Math.max(...loads(assignment, n));
   for (let code = 1; code < n ** METER_NAMES.length; code++) {
     for (let m = 0, c = code; m < METER_NAMES.length; m++, c = Math.floor(c / n)) assignment[m] = c % n;
     const load = Math.max(...loads(assignment, n));
-    if (load < bestLoad) { best = [...assignment]; bestLoad = load; }
+    if (load < bestLoad) {
+      best = [...assignment];
+      bestLoad = load;
+    }
   }
   const groups = Array.from({ length: n }, (_, t) => METER_NAMES.filter((_, m) => best[m] === t));
   return groups.filter((g, i) => i === 0 || g.length > 0);
@@ -62,20 +76,37 @@ class MeterThread {
   private failure: Error | null = null;
   private settled: (() => void) | null = null;
 
-  constructor(info: StreamInfo, options: AnalysisOptions, meters: MeterName[], ring: BlockRing, readonly reader: number) {
+  constructor(
+    info: StreamInfo,
+    options: AnalysisOptions,
+    meters: MeterName[],
+    ring: BlockRing,
+    readonly reader: number,
+  ) {
     const data: MeterThreadData = { info, options, meters, ring: ring.shape, reader };
     this.worker = startWorker(data);
-    const wake = () => { ring.wakeWriter(reader); this.settled?.(); };
+    const wake = () => {
+      ring.wakeWriter(reader);
+      this.settled?.();
+    };
     this.worker.on('message', (message: FromWorker) => {
       if (message.type === 'result') this.posted = message.result;
       else this.fail(fromWireError(message.error));
       wake();
     });
-    this.worker.on('error', (error) => { this.fail(error); wake(); });
-    this.worker.on('exit', (code) => { if (!this.posted) this.fail(new Error(`exited with code ${code} before its result`)); wake(); });
+    this.worker.on('error', (error) => {
+      this.fail(error);
+      wake();
+    });
+    this.worker.on('exit', (code) => {
+      if (!this.posted) this.fail(new Error(`exited with code ${code} before its result`));
+      wake();
+    });
   }
 
-  private fail(error: Error): void { this.failure ??= error; }
+  private fail(error: Error): void {
+    this.failure ??= error;
+  }
 
   /** Throws if the thread failed. */
   readonly check = (): void => {
@@ -86,16 +117,25 @@ class MeterThread {
 
   /** The thread's results, once the ring is finished. */
   async result(): Promise<Record<string, unknown>> {
-    while (!this.posted && !this.failure) await new Promise<void>((resolve) => { this.settled = resolve; });
+    while (!this.posted && !this.failure)
+      await new Promise<void>((resolve) => {
+        this.settled = resolve;
+      });
     this.check();
     return this.posted!;
   }
 
-  close(): Promise<number> { return this.worker.terminate(); }
+  close(): Promise<number> {
+    return this.worker.terminate();
+  }
 }
 
 /** The one thread's result for a meter (each meter runs on exactly one thread). */
-function take<K extends MeterName>(into: Partial<Measurements>, name: K, parts: readonly Partial<Measurements>[]): void {
+function take<K extends MeterName>(
+  into: Partial<Measurements>,
+  name: K,
+  parts: readonly Partial<Measurements>[],
+): void {
   const result = parts.find((p) => p[name] !== undefined)?.[name];
   if (result !== undefined) into[name] = result;
 }
@@ -112,7 +152,12 @@ export class ParallelAnalysisRunner {
   private readonly envelopes: EnvelopeBuilder;
   private pushed = 0;
 
-  constructor(readonly info: StreamInfo, options: AnalysisOptions = {}, threads = 2, { maxBlockFrames = DEFAULT_RING_FRAMES }: ParallelRunnerOptions = {}) {
+  constructor(
+    readonly info: StreamInfo,
+    options: AnalysisOptions = {},
+    threads = 2,
+    { maxBlockFrames = DEFAULT_RING_FRAMES }: ParallelRunnerOptions = {},
+  ) {
     const [mine, ...theirs] = meterGroups(Math.max(1, Math.floor(threads)));
     this.main = new AnalysisRunner(info, options, mine);
     // The envelope is built once, here, and shared with every thread through the ring.
@@ -140,15 +185,21 @@ export class ParallelAnalysisRunner {
     await this.ring?.waitWritable(this.pushed, this.threads.length, this.checkThreads);
   }
 
-  private readonly checkThreads = (): void => { for (const t of this.threads) t.check(); };
+  private readonly checkThreads = (): void => {
+    for (const t of this.threads) t.check();
+  };
 
   async result(): Promise<Measurements> {
     this.ring?.finish();
-    const parts = [this.main.partialResult(), ...(await Promise.all(this.threads.map((t) => t.result())))] as Partial<Measurements>[];
+    const parts = [
+      this.main.partialResult(),
+      ...(await Promise.all(this.threads.map((t) => t.result()))),
+    ] as Partial<Measurements>[];
     const merged: Partial<Measurements> = { frames: parts[0].frames };
     // Fields in the serial runner's order, so the two serialise identically.
     for (const name of METER_NAMES) take(merged, name, parts);
-    if (!isCompleteMeasurements(merged)) throw new EarmarkError('internal_error', 'the analysis threads returned no result for some meter');
+    if (!isCompleteMeasurements(merged))
+      throw new EarmarkError('internal_error', 'the analysis threads returned no result for some meter');
     return merged;
   }
 

@@ -16,9 +16,7 @@ export interface MeterThreadData {
   reader: number;
 }
 
-export type FromWorker =
-  | { type: 'result'; result: Record<string, unknown> }
-  | { type: 'error'; error: WireError };
+export type FromWorker = { type: 'result'; result: Record<string, unknown> } | { type: 'error'; error: WireError };
 
 /** Every published block through this thread's meters; null when the run was cancelled. */
 function meterAll({ info, options, meters, ring: shape, reader }: MeterThreadData): Record<string, unknown> | null {

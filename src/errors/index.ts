@@ -5,15 +5,28 @@
  * `retryable`: a queued job that fails with this code is tried again with backoff (the fault may
  * pass); otherwise it fails at once. `retryAfterSeconds`: the API sends Retry-After with it.
  */
-export interface CatalogueEntry { status: number; title: string; retryable: boolean; retryAfterSeconds?: number }
+export interface CatalogueEntry {
+  status: number;
+  title: string;
+  retryable: boolean;
+  retryAfterSeconds?: number;
+}
 
 export const errorCatalogue = {
   // Input files
   empty_file: { status: 422, title: 'The file is empty', retryable: false },
   unsupported_format: { status: 415, title: 'The file is not in an audio format Earmark reads', retryable: false },
-  unsupported_encoding: { status: 415, title: 'The container is known but its sample encoding is not supported', retryable: false },
+  unsupported_encoding: {
+    status: 415,
+    title: 'The container is known but its sample encoding is not supported',
+    retryable: false,
+  },
   corrupt_file: { status: 422, title: 'The file is damaged or inconsistent', retryable: false },
-  decoded_size_exceeded: { status: 413, title: 'The decoded audio is larger than the configured cap', retryable: false },
+  decoded_size_exceeded: {
+    status: 413,
+    title: 'The decoded audio is larger than the configured cap',
+    retryable: false,
+  },
   file_not_found: { status: 404, title: 'The file does not exist or cannot be read', retryable: false },
   // Arguments and profiles
   invalid_argument: { status: 400, title: 'An argument is invalid', retryable: false },
@@ -24,7 +37,11 @@ export const errorCatalogue = {
   unauthorized: { status: 401, title: 'A valid API key is required', retryable: false },
   forbidden: { status: 403, title: 'The API key lacks the scope for this operation', retryable: false },
   not_found: { status: 404, title: 'No such resource', retryable: false },
-  idempotency_conflict: { status: 409, title: 'The Idempotency-Key was used with a different request', retryable: false },
+  idempotency_conflict: {
+    status: 409,
+    title: 'The Idempotency-Key was used with a different request',
+    retryable: false,
+  },
   report_not_ready: { status: 409, title: 'The job has not completed, so it has no report yet', retryable: false },
   payload_too_large: { status: 413, title: 'The upload is larger than the configured limit', retryable: false },
   unsupported_media_type: { status: 415, title: 'The request body type is not accepted here', retryable: false },
@@ -34,12 +51,21 @@ export const errorCatalogue = {
   request_timeout: { status: 408, title: 'The request did not arrive in time', retryable: false },
   uri_too_long: { status: 414, title: 'The request path is too long', retryable: false },
   headers_too_large: { status: 431, title: 'The request headers are too large', retryable: false },
-  rate_limited: { status: 429, title: 'Too many requests for this API key; retry after the given time', retryable: false },
+  rate_limited: {
+    status: 429,
+    title: 'Too many requests for this API key; retry after the given time',
+    retryable: false,
+  },
   cancelled: { status: 499, title: 'The work was cancelled before it finished', retryable: false },
   webhook_failed: { status: 502, title: 'The callback URL did not accept the notification', retryable: true },
   storage_full: { status: 507, title: 'Storage is full', retryable: true, retryAfterSeconds: 5 },
   storage_unavailable: { status: 503, title: 'Storage is not available', retryable: true, retryAfterSeconds: 5 },
-  service_unavailable: { status: 503, title: 'A service Earmark depends on is not available', retryable: true, retryAfterSeconds: 5 },
+  service_unavailable: {
+    status: 503,
+    title: 'A service Earmark depends on is not available',
+    retryable: true,
+    retryAfterSeconds: 5,
+  },
   // Catch-all
   internal_error: { status: 500, title: 'Internal error', retryable: true },
 } as const satisfies Record<string, CatalogueEntry>;
@@ -89,7 +115,11 @@ export function isErrorCode(value: unknown): value is ErrorCode {
 }
 
 /** What crosses a thread or process boundary: structured, never a "code: message" string. */
-export interface WireError { code: ErrorCode; message: string; details: ErrorDetails }
+export interface WireError {
+  code: ErrorCode;
+  message: string;
+  details: ErrorDetails;
+}
 
 export function toWireError(value: unknown): WireError {
   const error = toEarmarkError(value);

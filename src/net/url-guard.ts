@@ -46,7 +46,10 @@ export function isSpecialPurpose(raw: string): boolean {
 }
 
 /** dns.lookup's shape with all: true; tests inject their own answers. */
-export type Resolver = (host: string, callback: (error: NodeJS.ErrnoException | null, addresses: LookupAddress[]) => void) => void;
+export type Resolver = (
+  host: string,
+  callback: (error: NodeJS.ErrnoException | null, addresses: LookupAddress[]) => void,
+) => void;
 
 const systemResolver: Resolver = (host, callback) => dnsLookup(host, { all: true }, callback);
 
@@ -54,7 +57,10 @@ export class UrlPolicy {
   private readonly allowedHosts = new Set<string>();
   private readonly allowedNets = new BlockList();
 
-  constructor(allowlist: string[], private readonly resolve: Resolver = systemResolver) {
+  constructor(
+    allowlist: string[],
+    private readonly resolve: Resolver = systemResolver,
+  ) {
     for (const entry of allowlist) {
       const [addr, bits] = entry.split('/');
       const family = isIP(addr);
@@ -72,8 +78,10 @@ export class UrlPolicy {
     } catch {
       throw new EarmarkError('source_refused', `${field} is not a valid URL`, { field });
     }
-    if (url.protocol !== 'http:' && url.protocol !== 'https:') throw new EarmarkError('source_refused', `${field} must use http or https`, { field });
-    if (url.username || url.password) throw new EarmarkError('source_refused', `${field} must not carry credentials`, { field });
+    if (url.protocol !== 'http:' && url.protocol !== 'https:')
+      throw new EarmarkError('source_refused', `${field} must use http or https`, { field });
+    if (url.username || url.password)
+      throw new EarmarkError('source_refused', `${field} must not carry credentials`, { field });
     return url;
   }
 
@@ -97,9 +105,14 @@ export class UrlPolicy {
         if (error) return callback(error, '', 4);
         const bad = list.find((a) => !this.addressAllowed(a.address, hostname));
         if (bad || list.length === 0) {
-          return callback(new EarmarkError('source_refused', `${field} resolves to an address that is not allowed`, { field }), '', 4);
+          return callback(
+            new EarmarkError('source_refused', `${field} resolves to an address that is not allowed`, { field }),
+            '',
+            4,
+          );
         }
-        if ((options as { all?: boolean }).all) return (callback as unknown as (e: null, a: typeof list) => void)(null, list);
+        if ((options as { all?: boolean }).all)
+          return (callback as unknown as (e: null, a: typeof list) => void)(null, list);
         callback(null, list[0].address, list[0].family);
       });
     };

@@ -16,10 +16,22 @@ export function integrityCheck(profile: Profile, doc: AnalysisDocument): CheckRe
   const rule = profile.rules.find((r): r is IntegrityRule => r.type === 'integrity');
   if (rule) return runCheck(rule, doc);
   const taken = profile.rules.some((r) => r.id === 'integrity');
-  return { ruleId: taken ? 'file-integrity' : 'integrity', type: 'integrity', severity: 'fail', source: 'every profile: the file must be complete and readable', ...integrityDraft(doc) };
+  return {
+    ruleId: taken ? 'file-integrity' : 'integrity',
+    type: 'integrity',
+    severity: 'fail',
+    source: 'every profile: the file must be complete and readable',
+    ...integrityDraft(doc),
+  };
 }
 
 export function runCheck(rule: Rule, doc: AnalysisDocument): CheckResult {
   const { severity, ...draft } = ruleSpec(rule).check(rule, doc);
-  return { ruleId: rule.id, type: rule.type, severity: severity ?? rule.severity, source: rule.source ?? null, ...draft };
+  return {
+    ruleId: rule.id,
+    type: rule.type,
+    severity: severity ?? rule.severity,
+    source: rule.source ?? null,
+    ...draft,
+  };
 }

@@ -6,7 +6,14 @@ import { EarmarkError } from '../errors/index.ts';
 import { integrityCheck, runCheck } from './checks.ts';
 import { buildFlags, type FlagOptions } from './flags.ts';
 import { analysisOptionsForProfile } from './options.ts';
-import { REPORT_VERSION, type CheckResult, type Correction, type IntegrityProblem, type QcReport, type Verdict } from './report.ts';
+import {
+  REPORT_VERSION,
+  type CheckResult,
+  type Correction,
+  type IntegrityProblem,
+  type QcReport,
+  type Verdict,
+} from './report.ts';
 import { fmt } from './format.ts';
 import { FRAME_RATES, timecodeAtSample, type FrameRate } from './timecode.ts';
 import type { FrameRateId, IntegratedLoudnessRule, Profile } from './types.ts';
@@ -25,13 +32,23 @@ function assertSettings(profile: Profile, doc: AnalysisDocument): void {
   const wanted = analysisOptionsForProfile(profile);
   const mismatch = (what: string, expected: number, actual: number) => {
     if (Math.abs(expected - actual) > 1e-6) {
-      throw new EarmarkError('invalid_argument', `the analysis used ${what} ${actual}, profile ${profile.id} needs ${expected}: analyse with analysisOptionsForProfile(profile)`, { field: what });
+      throw new EarmarkError(
+        'invalid_argument',
+        `the analysis used ${what} ${actual}, profile ${profile.id} needs ${expected}: analyse with analysisOptionsForProfile(profile)`,
+        { field: what },
+      );
     }
   };
-  if (wanted.clipping?.minRunSamples !== undefined) mismatch('clipping.minRunSamples', wanted.clipping.minRunSamples, doc.settings.clipping.minRunSamples);
-  if (wanted.clipping?.thresholdDbfs !== undefined) mismatch('clipping.thresholdDbfs', wanted.clipping.thresholdDbfs, doc.settings.clipping.thresholdDbfs);
-  if (wanted.silence?.thresholdDbfs !== undefined) mismatch('silence.thresholdDbfs', wanted.silence.thresholdDbfs, doc.settings.silence.thresholdDbfs);
-  if (wanted.truePeak?.overCeilingDbtp !== undefined && doc.settings.overCeilingDbtp > wanted.truePeak.overCeilingDbtp + 1e-6) {
+  if (wanted.clipping?.minRunSamples !== undefined)
+    mismatch('clipping.minRunSamples', wanted.clipping.minRunSamples, doc.settings.clipping.minRunSamples);
+  if (wanted.clipping?.thresholdDbfs !== undefined)
+    mismatch('clipping.thresholdDbfs', wanted.clipping.thresholdDbfs, doc.settings.clipping.thresholdDbfs);
+  if (wanted.silence?.thresholdDbfs !== undefined)
+    mismatch('silence.thresholdDbfs', wanted.silence.thresholdDbfs, doc.settings.silence.thresholdDbfs);
+  if (
+    wanted.truePeak?.overCeilingDbtp !== undefined &&
+    doc.settings.overCeilingDbtp > wanted.truePeak.overCeilingDbtp + 1e-6
+  ) {
     mismatch('truePeak.overCeilingDbtp', wanted.truePeak.overCeilingDbtp, doc.settings.overCeilingDbtp);
   }
 }
@@ -44,30 +61,47 @@ export function verdictOf(checks: CheckResult[]): Verdict {
 
 /** Gain to the target (or, for a range without target, to the nearest end of the range). */
 export function correctionFor(profile: Profile, doc: AnalysisDocument): Correction | null {
-  const rule = profile.rules.find((r): r is IntegratedLoudnessRule => r.type === 'integrated-loudness' && r.severity === 'fail')
-    ?? profile.rules.find((r): r is IntegratedLoudnessRule => r.type === 'integrated-loudness');
+  const rule =
+    profile.rules.find((r): r is IntegratedLoudnessRule => r.type === 'integrated-loudness' && r.severity === 'fail') ??
+    profile.rules.find((r): r is IntegratedLoudnessRule => r.type === 'integrated-loudness');
   const measured = doc.summary.integratedLufs;
   if (!rule || measured === null) return null;
-  const targetLufs = rule.targetLufs ?? Math.min(rule.maxLufs ?? Infinity, Math.max(rule.minLufs ?? -Infinity, measured));
+  const targetLufs =
+    rule.targetLufs ?? Math.min(rule.maxLufs ?? Infinity, Math.max(rule.minLufs ?? -Infinity, measured));
   const gainDb = Math.round((targetLufs - measured) * 100) / 100;
   const ceilings = profile.rules.flatMap((r) => (r.type === 'true-peak' ? [r.maxDbtp] : []));
   const ceilingDbtp = ceilings.length > 0 ? Math.min(...ceilings) : null;
   const reconstructed = profile.rules.some((r) => r.type === 'true-peak' && r.reading === 'reconstructed');
   const truePeak = reconstructed ? doc.summary.reconstructedPeakDbtp : doc.summary.truePeakDbtp;
   const truePeakAfterDbtp = truePeak === null ? null : truePeak + gainDb;
-  return { targetLufs, gainDb, truePeakAfterDbtp, ceilingDbtp, exceedsCeiling: ceilingDbtp !== null && truePeakAfterDbtp !== null && truePeakAfterDbtp > ceilingDbtp };
+  return {
+    targetLufs,
+    gainDb,
+    truePeakAfterDbtp,
+    ceilingDbtp,
+    exceedsCeiling: ceilingDbtp !== null && truePeakAfterDbtp !== null && truePeakAfterDbtp > ceilingDbtp,
+  };
 }
 
 /** One line, first everywhere: the verdict and its main reason in plain words. */
-export function headlineOf(verdict: Verdict, checks: CheckResult[], integrity: CheckResult, problems: IntegrityProblem[], doc: AnalysisDocument): string {
+export function headlineOf(
+  verdict: Verdict,
+  checks: CheckResult[],
+  integrity: CheckResult,
+  problems: IntegrityProblem[],
+  doc: AnalysisDocument,
+): string {
   const head = verdict.toUpperCase();
   if (problems.length > 0) {
     const p = problems[0];
-    const more = problems.length > 1 ? ` (+${problems.length - 1} more file problem${problems.length > 2 ? 's' : ''})` : '';
+    const more =
+      problems.length > 1 ? ` (+${problems.length - 1} more file problem${problems.length > 2 ? 's' : ''})` : '';
     return `${head}: damaged file at ${p.atTimecode}: ${p.message}${more}`;
   }
   if (doc.summary.allSilent) return `${head}: the file is digital silence throughout`;
-  const broken = checks.filter((c) => !c.passed && c !== integrity).sort((a, b) => (a.severity === b.severity ? 0 : a.severity === 'fail' ? -1 : 1));
+  const broken = checks
+    .filter((c) => !c.passed && c !== integrity)
+    .sort((a, b) => (a.severity === b.severity ? 0 : a.severity === 'fail' ? -1 : 1));
   if (broken.length === 0) {
     const s = doc.summary;
     const lufs = s.integratedLufs === null ? 'integrated not measurable' : `integrated ${fmt(s.integratedLufs)} LUFS`;
@@ -86,7 +120,10 @@ export function evaluate(profile: Profile, doc: AnalysisDocument, options: Evalu
   const checks = [integrity, ...profile.rules.filter((r) => r.type !== 'integrity').map((rule) => runCheck(rule, doc))];
   const { flags, flagsTotal, flagCounts } = buildFlags(profile, doc, checks, integrity, rate, options);
   const origin = doc.format.timeReferenceSamples;
-  const problems = doc.integrity.problems.map((p) => ({ ...p, atTimecode: timecodeAtSample(p.atSample, doc.format.sampleRate, rate, origin) }));
+  const problems = doc.integrity.problems.map((p) => ({
+    ...p,
+    atTimecode: timecodeAtSample(p.atSample, doc.format.sampleRate, rate, origin),
+  }));
   const verdict = verdictOf(checks);
   return {
     ...doc,

@@ -45,7 +45,19 @@ export const FLAG_KINDS: Record<FlagKind, { title: string; unit: string | null }
   dc_offset: { title: 'DC offset', unit: 'dBFS' },
 };
 
-type Draft = Pick<Flag, 'kind' | 'ruleId' | 'severity' | 'channel' | 'otherChannel' | 'startSample' | 'endSample' | 'worstValue' | 'count' | 'detections'> & { message?: string };
+type Draft = Pick<
+  Flag,
+  | 'kind'
+  | 'ruleId'
+  | 'severity'
+  | 'channel'
+  | 'otherChannel'
+  | 'startSample'
+  | 'endSample'
+  | 'worstValue'
+  | 'count'
+  | 'detections'
+> & { message?: string };
 
 /** The flag kind each engine event becomes. */
 const EVENT_FLAGS: Record<EventKind, FlagKind> = {
@@ -96,7 +108,9 @@ function judge(rules: Rule[], checks: Map<string, CheckResult>, e: AnalysisEvent
 
 /** True-peak overs come from the reading the profile judges: one list, not two of the same overs. */
 function judgedOverKind(profile: Profile): EventKind {
-  return profile.rules.some((r) => r.type === 'true-peak' && r.reading === 'reconstructed') ? 'reconstructed_over' : 'true_peak_over';
+  return profile.rules.some((r) => r.type === 'true-peak' && r.reading === 'reconstructed')
+    ? 'reconstructed_over'
+    : 'true_peak_over';
 }
 
 function eventDrafts(profile: Profile, doc: AnalysisDocument, checks: Map<string, CheckResult>): Draft[] {
@@ -104,7 +118,11 @@ function eventDrafts(profile: Profile, doc: AnalysisDocument, checks: Map<string
   const overKind = judgedOverKind(profile);
   const together = doc.events.filter((e) => e.kind === 'silence' && e.channel === null);
   // A channel's silence that is mostly the programme's own silence says nothing new.
-  const repeatsAll = (e: AnalysisEvent) => together.some((a) => Math.min(a.endFrame, e.endFrame) - Math.max(a.startFrame, e.startFrame) >= 0.9 * (e.endFrame - e.startFrame));
+  const repeatsAll = (e: AnalysisEvent) =>
+    together.some(
+      (a) =>
+        Math.min(a.endFrame, e.endFrame) - Math.max(a.startFrame, e.startFrame) >= 0.9 * (e.endFrame - e.startFrame),
+    );
   const drafts: Draft[] = [];
   for (const e of doc.events) {
     if ((e.kind === 'true_peak_over' || e.kind === 'reconstructed_over') && e.kind !== overKind) continue;
@@ -120,17 +138,32 @@ function eventDrafts(profile: Profile, doc: AnalysisDocument, checks: Map<string
     }
     const { ruleId, severity } = judge(rules, checks, e, doc);
     drafts.push({
-      kind, ruleId, severity, channel: e.channel, ...(e.otherChannel !== undefined ? { otherChannel: e.otherChannel } : {}),
-      startSample: e.startFrame, endSample: e.endFrame, worstValue: e.peakValue ?? null, count: 1, detections: e.count ?? 1,
+      kind,
+      ruleId,
+      severity,
+      channel: e.channel,
+      ...(e.otherChannel !== undefined ? { otherChannel: e.otherChannel } : {}),
+      startSample: e.startFrame,
+      endSample: e.endFrame,
+      worstValue: e.peakValue ?? null,
+      count: 1,
+      detections: e.count ?? 1,
     });
   }
   return drafts;
 }
 
 /** The severity a broken check of this type gives, with its rule id; a remark when none is broken. */
-function ruleVerdict(profile: Profile, checks: Map<string, CheckResult>, type: RuleType, applies: (r: Rule) => boolean = () => true): Judged {
+function ruleVerdict(
+  profile: Profile,
+  checks: Map<string, CheckResult>,
+  type: RuleType,
+  applies: (r: Rule) => boolean = () => true,
+): Judged {
   const rules = profile.rules.filter((r) => r.type === type && applies(r));
-  const broken = rules.map((r) => checks.get(r.id)).filter((c): c is CheckResult => c !== undefined && !c.passed)
+  const broken = rules
+    .map((r) => checks.get(r.id))
+    .filter((c): c is CheckResult => c !== undefined && !c.passed)
     .sort((a, b) => rank(a.severity) - rank(b.severity));
   if (broken.length > 0) return { ruleId: broken[0].ruleId, severity: broken[0].severity };
   return { ruleId: rules[0]?.id ?? null, severity: 'remark' };
@@ -149,8 +182,14 @@ function edgeDrafts(profile: Profile, doc: AnalysisDocument, checks: Map<string,
     if (seconds <= 0 || (judged.severity === 'remark' && seconds < notable)) continue;
     const length = Math.min(frames, Math.round(seconds * rate));
     out.push({
-      kind: head ? 'head_silence' : 'tail_silence', ...judged, channel: null,
-      startSample: head ? 0 : frames - length, endSample: head ? length : frames, worstValue: null, count: 1, detections: 1,
+      kind: head ? 'head_silence' : 'tail_silence',
+      ...judged,
+      channel: null,
+      startSample: head ? 0 : frames - length,
+      endSample: head ? length : frames,
+      worstValue: null,
+      count: 1,
+      detections: 1,
     });
   }
   return out;
@@ -160,18 +199,40 @@ function dcDrafts(profile: Profile, doc: AnalysisDocument, checks: Map<string, C
   const out: Draft[] = [];
   for (const c of doc.channels) {
     if (c.dcOffsetDbfs === null) continue;
-    const judged = ruleVerdict(profile, checks, 'dc-offset', (r) => r.type === 'dc-offset' && (c.dcOffsetDbfs ?? -Infinity) > r.maxDbfs);
+    const judged = ruleVerdict(
+      profile,
+      checks,
+      'dc-offset',
+      (r) => r.type === 'dc-offset' && (c.dcOffsetDbfs ?? -Infinity) > r.maxDbfs,
+    );
     if (judged.severity === 'remark' && c.dcOffsetDbfs < REMARK_DC_OFFSET_DBFS) continue;
-    out.push({ kind: 'dc_offset', ...judged, channel: c.index, startSample: 0, endSample: doc.format.framesDecoded, worstValue: c.dcOffsetDbfs, count: 1, detections: 1 });
+    out.push({
+      kind: 'dc_offset',
+      ...judged,
+      channel: c.index,
+      startSample: 0,
+      endSample: doc.format.framesDecoded,
+      worstValue: c.dcOffsetDbfs,
+      count: 1,
+      detections: 1,
+    });
   }
   return out;
 }
 
 function integrityDrafts(doc: AnalysisDocument, integrity: CheckResult): Draft[] {
   return doc.integrity.problems.map((p) => ({
-    kind: p.code, ruleId: integrity.ruleId, severity: integrity.passed ? 'remark' : integrity.severity, channel: null,
+    kind: p.code,
+    ruleId: integrity.ruleId,
+    severity: integrity.passed ? 'remark' : integrity.severity,
+    channel: null,
     // A point: where the audio stops, or the first bad sample (how far damage reaches is unknown).
-    startSample: p.atSample, endSample: p.atSample, worstValue: null, count: 1, detections: 1, message: p.message,
+    startSample: p.atSample,
+    endSample: p.atSample,
+    worstValue: null,
+    count: 1,
+    detections: 1,
+    message: p.message,
   }));
 }
 
@@ -187,7 +248,12 @@ function merge(drafts: Draft[], gapSamples: number): Draft[] {
       last.detections += d.detections;
       if (d.worstValue !== null) {
         const lower = d.kind === 'phase_problem'; // correlation: the lowest is the worst
-        last.worstValue = last.worstValue === null ? d.worstValue : lower ? Math.min(last.worstValue, d.worstValue) : Math.max(last.worstValue, d.worstValue);
+        last.worstValue =
+          last.worstValue === null
+            ? d.worstValue
+            : lower
+              ? Math.min(last.worstValue, d.worstValue)
+              : Math.max(last.worstValue, d.worstValue);
       }
     } else out.push({ ...d });
   }
@@ -195,10 +261,17 @@ function merge(drafts: Draft[], gapSamples: number): Draft[] {
 }
 
 function messageOf(f: Omit<Flag, 'message' | 'number'>): string {
-  const where = f.channel === null ? 'all channels' : `channel ${f.channelName}${f.otherChannelName ? ` and ${f.otherChannelName}` : ''}`;
-  const span = f.endSample > f.startSample ? `${f.startTimecode} to ${f.endTimecode} (${fmt(f.endSeconds - f.startSeconds, 3)} s)` : `at ${f.startTimecode}`;
+  const where =
+    f.channel === null
+      ? 'all channels'
+      : `channel ${f.channelName}${f.otherChannelName ? ` and ${f.otherChannelName}` : ''}`;
+  const span =
+    f.endSample > f.startSample
+      ? `${f.startTimecode} to ${f.endTimecode} (${fmt(f.endSeconds - f.startSeconds, 3)} s)`
+      : `at ${f.startTimecode}`;
   const count = f.count > 1 ? `, ${f.count} merged` : '';
-  const worst = f.worstValue !== null && f.unit ? `, worst ${fmt(f.worstValue, f.unit === 'correlation' ? 2 : 1)} ${f.unit}` : '';
+  const worst =
+    f.worstValue !== null && f.unit ? `, worst ${fmt(f.worstValue, f.unit === 'correlation' ? 2 : 1)} ${f.unit}` : '';
   return `${f.title}, ${where}, ${span}${count}${worst}`;
 }
 
@@ -208,10 +281,22 @@ export interface BuiltFlags {
   flagCounts: Record<FlagSeverity, number>;
 }
 
-export function buildFlags(profile: Profile, doc: AnalysisDocument, checks: CheckResult[], integrity: CheckResult, rate: FrameRate, options: FlagOptions = {}): BuiltFlags {
+export function buildFlags(
+  profile: Profile,
+  doc: AnalysisDocument,
+  checks: CheckResult[],
+  integrity: CheckResult,
+  rate: FrameRate,
+  options: FlagOptions = {},
+): BuiltFlags {
   const byId = new Map(checks.map((c) => [c.ruleId, c]));
   const sampleRate = doc.format.sampleRate;
-  const drafts = [...integrityDrafts(doc, integrity), ...eventDrafts(profile, doc, byId), ...edgeDrafts(profile, doc, byId), ...dcDrafts(profile, doc, byId)];
+  const drafts = [
+    ...integrityDrafts(doc, integrity),
+    ...eventDrafts(profile, doc, byId),
+    ...edgeDrafts(profile, doc, byId),
+    ...dcDrafts(profile, doc, byId),
+  ];
   const merged = merge(drafts, Math.round((options.mergeGapSeconds ?? DEFAULT_FLAG_MERGE_SECONDS) * sampleRate));
   const flagCounts: Record<FlagSeverity, number> = { fail: 0, warn: 0, remark: 0 };
   for (const d of merged) flagCounts[d.severity]++;
@@ -230,7 +315,10 @@ export function buildFlags(profile: Profile, doc: AnalysisDocument, checks: Chec
   const chosen = [...merged]
     .sort((a, b) => rank(a.severity) - rank(b.severity) || a.startSample - b.startSample)
     .slice(0, maxFlags)
-    .sort((a, b) => a.startSample - b.startSample || (a.channel ?? -1) - (b.channel ?? -1) || rank(a.severity) - rank(b.severity));
+    .sort(
+      (a, b) =>
+        a.startSample - b.startSample || (a.channel ?? -1) - (b.channel ?? -1) || rank(a.severity) - rank(b.severity),
+    );
   const origin = doc.format.timeReferenceSamples;
   const flags = chosen.map((d, i): Flag => {
     const { message, ...rest } = d;

@@ -20,6 +20,7 @@ export const signed = (value: number): string => (value > 0 ? `+${fmt(value)}` :
 
 /** A positive distance with enough decimals that it does not read as zero. */
 export function fmtGap(gap: number): string {
-  for (let decimals = 1; decimals < 4; decimals++) if (fmt(gap, decimals) !== fmt(0, decimals)) return fmt(gap, decimals);
+  for (let decimals = 1; decimals < 4; decimals++)
+    if (fmt(gap, decimals) !== fmt(0, decimals)) return fmt(gap, decimals);
   return fmt(gap, 4);
 }

@@ -6,6 +6,13 @@ export { analysisOptionsForProfile } from './options.ts';
 export type * from './report.ts';
 export { REPORT_VERSION } from './report.ts';
 export { loadProfileFile, parseProfile, profileIssues, profileSchema, type ProfileIssue } from './schema.ts';
-export { FRAME_RATES, frameRate, framesAtSample, timecodeAtSample, timecodeFromFrames, type FrameRate } from './timecode.ts';
+export {
+  FRAME_RATES,
+  frameRate,
+  framesAtSample,
+  timecodeAtSample,
+  timecodeFromFrames,
+  type FrameRate,
+} from './timecode.ts';
 export type * from './types.ts';
 export { FRAME_RATE_IDS } from './types.ts';

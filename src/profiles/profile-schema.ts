@@ -6,7 +6,8 @@ import { toDraft2020 } from './report-schema.ts';
 
 type Schema = Record<string, unknown>;
 
-const isSchema = (value: unknown): value is Schema => typeof value === 'object' && value !== null && !Array.isArray(value);
+const isSchema = (value: unknown): value is Schema =>
+  typeof value === 'object' && value !== null && !Array.isArray(value);
 
 /**
  * A rule's `type` first and `required` in declaration order: ajv reports problems in that order,
@@ -29,9 +30,17 @@ function withoutRedundantType(value: unknown): unknown {
   if (Array.isArray(value)) return value.map(withoutRedundantType);
   if (!isSchema(value)) return value;
   const { type, ...rest } = value;
-  const strings = (Array.isArray(rest.enum) && rest.enum.every((v) => typeof v === 'string')) || typeof rest.const === 'string';
+  const strings =
+    (Array.isArray(rest.enum) && rest.enum.every((v) => typeof v === 'string')) || typeof rest.const === 'string';
   const kept = type === 'string' && strings ? rest : value;
-  return Object.fromEntries(Object.entries(kept).map(([key, v]) => [key, key === 'properties' && isSchema(v) ? Object.fromEntries(Object.entries(v).map(([name, p]) => [name, withoutRedundantType(p)])) : withoutRedundantType(v)]));
+  return Object.fromEntries(
+    Object.entries(kept).map(([key, v]) => [
+      key,
+      key === 'properties' && isSchema(v)
+        ? Object.fromEntries(Object.entries(v).map(([name, p]) => [name, withoutRedundantType(p)]))
+        : withoutRedundantType(v),
+    ]),
+  );
 }
 
 /** ajv's strict mode wants the discriminator's tag declared beside it, as a string. */
@@ -42,18 +51,23 @@ function tagDeclared(def: Schema): Schema {
 }
 
 export function generateProfileSchema(): Schema {
-  const generated = withoutRedundantType(toDraft2020(createGenerator({
-    path: new URL('./types.ts', import.meta.url).pathname,
-    tsconfig: new URL('../../tsconfig.json', import.meta.url).pathname,
-    type: 'Profile',
-    skipTypeCheck: true,
-    additionalProperties: false,
-    sortProps: false,
-    // oneOf with discriminator: ajv then checks a rule against its own type's schema only.
-    discriminatorType: 'open-api',
-    extraTags: ['dependentRequired'],
-  }).createSchema('Profile')));
-  if (!isSchema(generated) || !isSchema(generated.$defs) || !isSchema(generated.$defs.Profile)) throw new Error('the generator gave no Profile definition');
+  const generated = withoutRedundantType(
+    toDraft2020(
+      createGenerator({
+        path: new URL('./types.ts', import.meta.url).pathname,
+        tsconfig: new URL('../../tsconfig.json', import.meta.url).pathname,
+        type: 'Profile',
+        skipTypeCheck: true,
+        additionalProperties: false,
+        sortProps: false,
+        // oneOf with discriminator: ajv then checks a rule against its own type's schema only.
+        discriminatorType: 'open-api',
+        extraTags: ['dependentRequired'],
+      }).createSchema('Profile'),
+    ),
+  );
+  if (!isSchema(generated) || !isSchema(generated.$defs) || !isSchema(generated.$defs.Profile))
+    throw new Error('the generator gave no Profile definition');
   const { Profile: profile, ...defs } = generated.$defs;
   return {
     $schema: 'https://json-schema.org/draft/2020-12/schema',
@@ -61,6 +75,8 @@ export function generateProfileSchema(): Schema {
     title: 'Earmark delivery profile',
     // The profile object at the root (not a $ref), as the API embeds it as a component.
     ...profile,
-    $defs: Object.fromEntries(Object.entries(defs).map(([name, def]) => [name, isSchema(def) ? tagDeclared(typeFirst(def)) : def])),
+    $defs: Object.fromEntries(
+      Object.entries(defs).map(([name, def]) => [name, isSchema(def) ? tagDeclared(typeFirst(def)) : def]),
+    ),
   };
 }

@@ -9,10 +9,12 @@ type Schema = Record<string, unknown>;
 export function toDraft2020(value: unknown): unknown {
   if (Array.isArray(value)) return value.map(toDraft2020);
   if (!value || typeof value !== 'object') return value;
-  return Object.fromEntries(Object.entries(value).map(([key, v]) => {
-    if (key === '$ref' && typeof v === 'string') return [key, v.replace('#/definitions/', '#/$defs/')];
-    return [key === 'definitions' ? '$defs' : key, toDraft2020(v)];
-  }));
+  return Object.fromEntries(
+    Object.entries(value).map(([key, v]) => {
+      if (key === '$ref' && typeof v === 'string') return [key, v.replace('#/definitions/', '#/$defs/')];
+      return [key === 'definitions' ? '$defs' : key, toDraft2020(v)];
+    }),
+  );
 }
 
 export function generateReportSchema(): Schema {
@@ -28,7 +30,8 @@ export function generateReportSchema(): Schema {
     $schema: 'https://json-schema.org/draft/2020-12/schema',
     $id: 'https://earmark.invalid/schemas/report.schema.json',
     title: 'Earmark QC report',
-    description: 'The analysis document plus verdict, checks, flags, correction and provenance. Generated from src/profiles/report.ts.',
+    description:
+      'The analysis document plus verdict, checks, flags, correction and provenance. Generated from src/profiles/report.ts.',
     $ref: schema.$ref,
     $defs: schema.$defs,
   };

@@ -40,9 +40,24 @@ export interface CheckResult {
 
 /** Report vocabulary for time-located findings; stable, documented in README.md. */
 export type FlagKind =
-  | 'data_ends_early' | 'unreadable_data' | 'non_finite_samples' | 'no_audio' | 'too_short'
-  | 'clipping' | 'dropout' | 'silence_gap' | 'silence' | 'head_silence' | 'tail_silence' | 'true_peak_over'
-  | 'loud_short_term' | 'loud_momentary' | 'phase_problem' | 'dead_channel' | 'duplicate_channel' | 'inverted_channel'
+  | 'data_ends_early'
+  | 'unreadable_data'
+  | 'non_finite_samples'
+  | 'no_audio'
+  | 'too_short'
+  | 'clipping'
+  | 'dropout'
+  | 'silence_gap'
+  | 'silence'
+  | 'head_silence'
+  | 'tail_silence'
+  | 'true_peak_over'
+  | 'loud_short_term'
+  | 'loud_momentary'
+  | 'phase_problem'
+  | 'dead_channel'
+  | 'duplicate_channel'
+  | 'inverted_channel'
   | 'dc_offset';
 
 /** fail and warn come from a broken rule; a remark is a finding no broken rule judges: shown, never counted. */

@@ -21,7 +21,10 @@ export type { ProfileIssue };
 
 /** "/rules/2/maxDbtp" -> "rules[2].maxDbtp"; the root is "profile". */
 export function jsonPointerToPath(pointer: string, child?: string): string {
-  const parts = pointer.split('/').slice(1).map((p) => p.replace(/~1/g, '/').replace(/~0/g, '~'));
+  const parts = pointer
+    .split('/')
+    .slice(1)
+    .map((p) => p.replace(/~1/g, '/').replace(/~0/g, '~'));
   if (child !== undefined) parts.push(child);
   let path = '';
   for (const part of parts) path += /^\d+$/.test(part) ? `[${part}]` : path === '' ? part : `.${part}`;
@@ -43,7 +46,11 @@ function issueFromAjv(e: ErrorObject): ProfileIssue {
     return { field, message: `${field} is required when ${String(params.property)} is given` };
   }
   const field = jsonPointerToPath(e.instancePath);
-  if (e.keyword === 'discriminator') return { field: jsonPointerToPath(e.instancePath, 'type'), message: `${jsonPointerToPath(e.instancePath, 'type')} is not a known rule type` };
+  if (e.keyword === 'discriminator')
+    return {
+      field: jsonPointerToPath(e.instancePath, 'type'),
+      message: `${jsonPointerToPath(e.instancePath, 'type')} is not a known rule type`,
+    };
   const allowed = Array.isArray(params.allowedValues) ? `: one of ${params.allowedValues.join(', ')}` : '';
   return { field, message: `${field} ${e.message ?? 'is invalid'}${allowed}` };
 }
@@ -57,7 +64,11 @@ function settingIssues(rules: Rule[]): ProfileIssue[] {
       if (value === undefined) continue;
       const first = seen.get(setting);
       if (!first) seen.set(setting, { value, at: field });
-      else if (first.value !== value) issues.push({ field, message: `${field} is ${value} but ${first.at} is ${first.value}: one analysis runs with one value` });
+      else if (first.value !== value)
+        issues.push({
+          field,
+          message: `${field} is ${value} but ${first.at} is ${first.value}: one analysis runs with one value`,
+        });
     }
   });
   return issues;
@@ -71,7 +82,8 @@ function examine(value: unknown): { profile: Profile | null; issues: ProfileIssu
   const ids = new Map<string, number>();
   profile.rules.forEach((rule, i) => {
     const earlier = ids.get(rule.id);
-    if (earlier !== undefined) issues.push({ field: `rules[${i}].id`, message: `rules[${i}].id "${rule.id}" repeats rules[${earlier}].id` });
+    if (earlier !== undefined)
+      issues.push({ field: `rules[${i}].id`, message: `rules[${i}].id "${rule.id}" repeats rules[${earlier}].id` });
     else ids.set(rule.id, i);
     issues.push(...(ruleSpec(rule).issues?.(rule, `rules[${i}]`) ?? []));
   });
@@ -105,7 +117,12 @@ export async function loadProfileFile(path: string): Promise<Profile> {
   try {
     json = JSON.parse(text);
   } catch (cause) {
-    throw new EarmarkError('invalid_profile', `${path} is not valid JSON: ${cause instanceof Error ? cause.message : String(cause)}`, { field: 'profile' }, { cause });
+    throw new EarmarkError(
+      'invalid_profile',
+      `${path} is not valid JSON: ${cause instanceof Error ? cause.message : String(cause)}`,
+      { field: 'profile' },
+      { cause },
+    );
   }
   return parseProfile(json, path);
 }

@@ -31,7 +31,9 @@ export const FRAME_RATES: Record<FrameRateId, FrameRate> = {
 
 export function frameRate(id: string, field = 'fps'): FrameRate {
   if (!(FRAME_RATE_IDS as readonly string[]).includes(id)) {
-    throw new EarmarkError('invalid_argument', `frame rate "${id}" is not one of ${FRAME_RATE_IDS.join(', ')}`, { field });
+    throw new EarmarkError('invalid_argument', `frame rate "${id}" is not one of ${FRAME_RATE_IDS.join(', ')}`, {
+      field,
+    });
   }
   return FRAME_RATES[id as FrameRateId];
 }
@@ -65,6 +67,11 @@ export function timecodeFromFrames(frameCount: number, rate: FrameRate): string 
 }
 
 /** Label at a sample position of the file, counted from the BWF time reference when there is one. */
-export function timecodeAtSample(sample: number, sampleRate: number, rate: FrameRate, timeReferenceSamples: number | null = null): string {
+export function timecodeAtSample(
+  sample: number,
+  sampleRate: number,
+  rate: FrameRate,
+  timeReferenceSamples: number | null = null,
+): string {
   return timecodeFromFrames(framesAtSample(sample + (timeReferenceSamples ?? 0), sampleRate, rate), rate);
 }

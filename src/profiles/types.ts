@@ -9,7 +9,18 @@ import type { Container } from '../decode/types.ts';
 
 export type Severity = 'fail' | 'warn';
 
-export const FRAME_RATE_IDS = ['23.976', '24', '25', '29.97-df', '29.97-ndf', '30', '50', '59.94-df', '59.94-ndf', '60'] as const;
+export const FRAME_RATE_IDS = [
+  '23.976',
+  '24',
+  '25',
+  '29.97-df',
+  '29.97-ndf',
+  '30',
+  '50',
+  '59.94-df',
+  '59.94-ndf',
+  '60',
+] as const;
 export type FrameRateId = (typeof FRAME_RATE_IDS)[number];
 
 /** @pattern ^[a-z0-9][a-z0-9-]{0,63}$ */
@@ -70,13 +81,26 @@ export interface TruePeakRule extends RuleBase {
   reading?: TruePeakReading;
 }
 /** Maximum sample peak. */
-export interface SamplePeakRule extends RuleBase { type: 'sample-peak'; maxDbfs: Dbfs }
+export interface SamplePeakRule extends RuleBase {
+  type: 'sample-peak';
+  maxDbfs: Dbfs;
+}
 /** Loudness range (EBU Tech 3342), minLu and/or maxLu. */
-export interface LoudnessRangeRule extends RuleBase { type: 'loudness-range'; minLu?: LoudnessRangeLu; maxLu?: LoudnessRangeLu }
+export interface LoudnessRangeRule extends RuleBase {
+  type: 'loudness-range';
+  minLu?: LoudnessRangeLu;
+  maxLu?: LoudnessRangeLu;
+}
 /** Maximum momentary loudness (400 ms). */
-export interface MomentaryMaxRule extends RuleBase { type: 'momentary-max'; maxLufs: Lufs }
+export interface MomentaryMaxRule extends RuleBase {
+  type: 'momentary-max';
+  maxLufs: Lufs;
+}
 /** Maximum short-term loudness (3 s). */
-export interface ShortTermMaxRule extends RuleBase { type: 'short-term-max'; maxLufs: Lufs }
+export interface ShortTermMaxRule extends RuleBase {
+  type: 'short-term-max';
+  maxLufs: Lufs;
+}
 /** Clipping runs: at most maxRuns (default 0) runs of minRunSamples (default 3) samples at or above thresholdDbfs (default -0.01). */
 export interface ClippingRule extends RuleBase {
   type: 'clipping';
@@ -94,11 +118,20 @@ export interface SilenceGapRule extends RuleBase {
   thresholdDbfs?: SilenceThresholdDbfs;
 }
 /** Silence before the first / after the last signal: minSeconds (a required lead-in) and/or maxSeconds. */
-export interface EdgeSilenceRule extends RuleBase { type: 'head-silence' | 'tail-silence'; minSeconds?: Seconds; maxSeconds?: Seconds; thresholdDbfs?: SilenceThresholdDbfs }
+export interface EdgeSilenceRule extends RuleBase {
+  type: 'head-silence' | 'tail-silence';
+  minSeconds?: Seconds;
+  maxSeconds?: Seconds;
+  thresholdDbfs?: SilenceThresholdDbfs;
+}
 /** No channel may be digital silence throughout. */
-export interface DeadChannelRule extends RuleBase { type: 'dead-channel' }
+export interface DeadChannelRule extends RuleBase {
+  type: 'dead-channel';
+}
 /** No channel may be an exact or near copy (duplicate) or polarity-inverted copy (inverted) of another. */
-export interface ChannelCopyRule extends RuleBase { type: 'duplicate-channels' | 'inverted-channels' }
+export interface ChannelCopyRule extends RuleBase {
+  type: 'duplicate-channels' | 'inverted-channels';
+}
 /** Windows (3 s) with inter-channel correlation below minCorrelation (default -0.5): at most maxWindows (default 0). */
 export interface PhaseRule extends RuleBase {
   type: 'phase';
@@ -107,7 +140,10 @@ export interface PhaseRule extends RuleBase {
   maxWindows?: Count;
 }
 /** Largest per-channel DC offset (mean sample value) in dBFS. */
-export interface DcOffsetRule extends RuleBase { type: 'dc-offset'; maxDbfs: Dbfs }
+export interface DcOffsetRule extends RuleBase {
+  type: 'dc-offset';
+  maxDbfs: Dbfs;
+}
 /** @asType integer @minimum 1 @maximum 768000 */
 type SampleRateHz = number;
 /** Allowed sample rates. */
@@ -131,7 +167,11 @@ export interface ChannelsRule extends RuleBase {
   layout?: ChannelLabel[];
 }
 /** Programme duration, minSeconds and/or maxSeconds. */
-export interface DurationRule extends RuleBase { type: 'duration'; minSeconds?: Seconds; maxSeconds?: Seconds }
+export interface DurationRule extends RuleBase {
+  type: 'duration';
+  minSeconds?: Seconds;
+  maxSeconds?: Seconds;
+}
 /** Allowed containers. */
 export interface ContainerRule extends RuleBase {
   type: 'container';
@@ -153,13 +193,32 @@ export interface DropoutRule extends RuleBase {
   channels?: ChannelLabel[];
 }
 /** The file itself: cut short, unreadable data, a declared length not reached, non-finite samples, no audio. Fails under every profile; name this rule only to lower it to warn. */
-export interface IntegrityRule extends RuleBase { type: 'integrity' }
+export interface IntegrityRule extends RuleBase {
+  type: 'integrity';
+}
 
 /** @discriminator type */
 export type Rule =
-  | IntegratedLoudnessRule | TruePeakRule | SamplePeakRule | LoudnessRangeRule | MomentaryMaxRule | ShortTermMaxRule
-  | ClippingRule | SilenceGapRule | EdgeSilenceRule | DeadChannelRule | ChannelCopyRule | PhaseRule | DcOffsetRule
-  | SampleRateRule | BitDepthRule | ChannelsRule | DurationRule | ContainerRule | DropoutRule | IntegrityRule;
+  | IntegratedLoudnessRule
+  | TruePeakRule
+  | SamplePeakRule
+  | LoudnessRangeRule
+  | MomentaryMaxRule
+  | ShortTermMaxRule
+  | ClippingRule
+  | SilenceGapRule
+  | EdgeSilenceRule
+  | DeadChannelRule
+  | ChannelCopyRule
+  | PhaseRule
+  | DcOffsetRule
+  | SampleRateRule
+  | BitDepthRule
+  | ChannelsRule
+  | DurationRule
+  | ContainerRule
+  | DropoutRule
+  | IntegrityRule;
 
 export type RuleType = Rule['type'];
 

@@ -67,7 +67,11 @@ export function encodeFailure(code: ErrorCode, message: string, details: ErrorDe
 }
 
 function parseJson(text: string): unknown {
-  try { return JSON.parse(text); } catch { return null; }
+  try {
+    return JSON.parse(text);
+  } catch {
+    return null;
+  }
 }
 
 /** The plain "code: message" form, which failed jobs kept in Redis may hold. */
@@ -83,8 +87,12 @@ export function decodeFailureError(reason: string | undefined): WireError {
   const plain = PLAIN_REASON.exec(text);
   if (plain && isErrorCode(plain[1])) return { code: plain[1], message: plain[2], details: {} };
   // A crash of the child (OOM, signal) or a stall has no code of ours; keep BullMQ's words, minus anything path-like.
-  const said = text.replace(/\S*[\/\\]\S*/g, '…').slice(0, 200);
-  return { code: 'internal_error', message: `the analysis process ended unexpectedly${said ? ` (${said})` : ''}`, details: {} };
+  const said = text.replace(/\S*[/\\]\S*/g, '…').slice(0, 200);
+  return {
+    code: 'internal_error',
+    message: `the analysis process ended unexpectedly${said ? ` (${said})` : ''}`,
+    details: {},
+  };
 }
 
 /** What the job view shows of a failure: its code and words. */

@@ -22,11 +22,20 @@ export function parseDeliveries(lines: readonly string[]): DeliveryAttempt[] {
 }
 
 export class DeliveryLog {
-  constructor(private readonly redis: Redis, private readonly prefix: string, private readonly retentionSeconds: number) {}
+  constructor(
+    private readonly redis: Redis,
+    private readonly prefix: string,
+    private readonly retentionSeconds: number,
+  ) {}
 
   async add(jobId: string, attempt: DeliveryAttempt): Promise<void> {
     const key = deliveriesKey(this.prefix, jobId);
-    await this.redis.multi().rpush(key, JSON.stringify(attempt)).ltrim(key, -50, -1).expire(key, this.retentionSeconds).exec();
+    await this.redis
+      .multi()
+      .rpush(key, JSON.stringify(attempt))
+      .ltrim(key, -50, -1)
+      .expire(key, this.retentionSeconds)
+      .exec();
   }
 
   async list(jobId: string): Promise<DeliveryAttempt[]> {

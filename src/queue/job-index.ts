@@ -6,22 +6,51 @@ import { finishedLogKey } from './outcomes.ts';
 import { runScript, script, serviceKey } from './service-keys.ts';
 
 /** BullMQ's keys for the analysis queue (queue.keys), and the prefix of its job hashes. */
-export interface BullKeys { active: string; completed: string; failed: string; delayed: string; prioritized: string; jobPrefix: string }
+export interface BullKeys {
+  active: string;
+  completed: string;
+  failed: string;
+  delayed: string;
+  prioritized: string;
+  jobPrefix: string;
+}
 
 export function bullKeys(queue: { keys: Record<string, string>; toKey(type: string): string }): BullKeys {
   const k = queue.keys;
-  return { active: k.active, completed: k.completed, failed: k.failed, delayed: k.delayed, prioritized: k.prioritized, jobPrefix: queue.toKey('') };
+  return {
+    active: k.active,
+    completed: k.completed,
+    failed: k.failed,
+    delayed: k.delayed,
+    prioritized: k.prioritized,
+    jobPrefix: queue.toKey(''),
+  };
 }
 
-export interface TenantCounts { waiting: number; prioritized: number; active: number; delayed: number; completed: number; failed: number; finishedSince: number }
+export interface TenantCounts {
+  waiting: number;
+  prioritized: number;
+  active: number;
+  delayed: number;
+  completed: number;
+  failed: number;
+  finishedSince: number;
+}
 
 /** A listing position: strictly older than this (submit time, then id). */
-export interface IndexCursor { scoreMs: number; id: string }
+export interface IndexCursor {
+  scoreMs: number;
+  id: string;
+}
 
 export const jobIndexKey = (prefix: string, tenant: string): string => serviceKey(prefix, 'jobs', tenant);
 
 export class JobIndex {
-  constructor(private readonly redis: Redis, private readonly prefix: string, private readonly retentionSeconds: number) {}
+  constructor(
+    private readonly redis: Redis,
+    private readonly prefix: string,
+    private readonly retentionSeconds: number,
+  ) {}
 
   async add(tenant: string, jobId: string, createdAtMs: number): Promise<void> {
     await this.redis.zadd(jobIndexKey(this.prefix, tenant), createdAtMs, jobId);
@@ -34,7 +63,15 @@ export class JobIndex {
   /** Job ids newest first, strictly older than the cursor (score, id). */
   async page(tenant: string, before: IndexCursor | null, count: number): Promise<IndexCursor[]> {
     const max = before ? `(${before.scoreMs + 1}` : '+inf';
-    const raw = await this.redis.zrevrangebyscore(jobIndexKey(this.prefix, tenant), max, '-inf', 'WITHSCORES', 'LIMIT', 0, count + 50);
+    const raw = await this.redis.zrevrangebyscore(
+      jobIndexKey(this.prefix, tenant),
+      max,
+      '-inf',
+      'WITHSCORES',
+      'LIMIT',
+      0,
+      count + 50,
+    );
     const rows: IndexCursor[] = [];
     for (let i = 0; i < raw.length; i += 2) rows.push({ id: raw[i], scoreMs: Number(raw[i + 1]) });
     // Same-millisecond ties: ZREVRANGE orders them by member descending, so skip up to the cursor id.
@@ -49,9 +86,20 @@ export class JobIndex {
    * has removed their job (younger ones cannot be gone: removal counts from the finish time).
    */
   async counts(tenant: string, bull: BullKeys, sinceMs: number): Promise<TenantCounts> {
-    const raw = await runScript(this.redis, TENANT_COUNTS,
-      [jobIndexKey(this.prefix, tenant), bull.active, bull.completed, bull.failed, bull.delayed, bull.prioritized, finishedLogKey(this.prefix)],
-      [bull.jobPrefix, sinceMs, Date.now() - this.retentionSeconds * 1000]);
+    const raw = await runScript(
+      this.redis,
+      TENANT_COUNTS,
+      [
+        jobIndexKey(this.prefix, tenant),
+        bull.active,
+        bull.completed,
+        bull.failed,
+        bull.delayed,
+        bull.prioritized,
+        finishedLogKey(this.prefix),
+      ],
+      [bull.jobPrefix, sinceMs, Date.now() - this.retentionSeconds * 1000],
+    );
     if (!Array.isArray(raw) || raw.length !== 7) throw new Error('the tenant counts script answered unexpectedly');
     const [waiting, prioritized, active, delayed, completed, failed, finishedSince] = raw.map(Number);
     return { waiting, prioritized, active, delayed, completed, failed, finishedSince };

@@ -36,7 +36,11 @@ export function stateOf(raw: string): JobState {
 
 const iso = (ms: number | undefined) => (ms ? new Date(ms).toISOString() : null);
 
-export function jobView(job: Job<AnalyzeJobV1, AnalyzeResultV1>, rawState: string, deliveries: DeliveryAttempt[]): JobView {
+export function jobView(
+  job: Job<AnalyzeJobV1, AnalyzeResultV1>,
+  rawState: string,
+  deliveries: DeliveryAttempt[],
+): JobView {
   const state = stateOf(rawState);
   const data = job.data;
   const result = state === 'completed' ? (job.returnvalue as AnalyzeResultV1 | null) : null;
@@ -51,14 +55,17 @@ export function jobView(job: Job<AnalyzeJobV1, AnalyzeResultV1>, rawState: strin
     finishedAt: state === 'completed' || state === 'failed' ? iso(job.finishedOn) : null,
     attemptsMade: job.attemptsMade,
     profile: { id: data.profileId, version: data.profileVersion },
-    source: data.source.kind === 'upload'
-      ? { kind: 'upload', fileName: data.source.fileName, sizeBytes: data.source.sizeBytes }
-      : { kind: 'url', url: data.source.url },
+    source:
+      data.source.kind === 'upload'
+        ? { kind: 'upload', fileName: data.source.fileName, sizeBytes: data.source.sizeBytes }
+        : { kind: 'url', url: data.source.url },
     externalId: data.externalId,
     metadata: data.metadata,
     verdict: result?.verdict ?? null,
     headline: result?.headline ?? null,
-    summary: result ? { integratedLufs: result.integratedLufs ?? null, truePeakDbtp: result.truePeakDbtp ?? null } : null,
+    summary: result
+      ? { integratedLufs: result.integratedLufs ?? null, truePeakDbtp: result.truePeakDbtp ?? null }
+      : null,
     error: state === 'failed' ? decodeFailure(job.failedReason) : null,
     callback: data.callbackUrl ? { url: data.callbackUrl, deliveries } : null,
     links: { self: `/v1/jobs/${id}`, report: state === 'completed' ? `/v1/jobs/${id}/report` : null },

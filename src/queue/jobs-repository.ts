@@ -17,9 +17,19 @@ import { runScript, script } from './service-keys.ts';
 
 export type AnalysisJob = Job<AnalyzeJobV1, AnalyzeResultV1>;
 
-export interface LoadedJob { job: AnalysisJob; state: JobState; deliveries: DeliveryAttempt[] }
+export interface LoadedJob {
+  job: AnalysisJob;
+  state: JobState;
+  deliveries: DeliveryAttempt[];
+}
 
-export interface ListQuery { cursor: IndexCursor | null; limit: number; state?: JobState; verdict?: 'pass' | 'warn' | 'fail'; profile?: string }
+export interface ListQuery {
+  cursor: IndexCursor | null;
+  limit: number;
+  state?: JobState;
+  verdict?: 'pass' | 'warn' | 'fail';
+  profile?: string;
+}
 
 /** One request examines at most this many index entries, whatever the filters skip. */
 const MAX_EXAMINED = 1000;
@@ -49,7 +59,8 @@ end
 return out
 `);
 
-const isStrings = (value: unknown): value is string[] => Array.isArray(value) && value.every((v) => typeof v === 'string');
+const isStrings = (value: unknown): value is string[] =>
+  Array.isArray(value) && value.every((v) => typeof v === 'string');
 
 /** BullMQ's job hash as Job.fromJSON takes it; fields BullMQ always writes get its own defaults. */
 function jobJson(id: string, flat: readonly string[]): JobJsonRaw {
@@ -57,11 +68,23 @@ function jobJson(id: string, flat: readonly string[]): JobJsonRaw {
   for (let i = 0; i + 1 < flat.length; i += 2) f.set(flat[i], flat[i + 1]);
   const optional = (name: string) => f.get(name);
   return {
-    id, name: f.get('name') ?? '', data: f.get('data') ?? '{}', delay: f.get('delay') ?? '0', opts: f.get('opts') ?? '{}',
-    progress: f.get('progress') ?? '0', priority: f.get('priority') ?? '0', timestamp: f.get('timestamp') ?? '0',
-    failedReason: f.get('failedReason') ?? '', returnvalue: f.get('returnvalue') ?? 'null',
-    attemptsMade: optional('attemptsMade'), finishedOn: optional('finishedOn'), processedOn: optional('processedOn'),
-    stacktrace: optional('stacktrace'), atm: optional('atm'), ats: optional('ats'), stc: optional('stc'),
+    id,
+    name: f.get('name') ?? '',
+    data: f.get('data') ?? '{}',
+    delay: f.get('delay') ?? '0',
+    opts: f.get('opts') ?? '{}',
+    progress: f.get('progress') ?? '0',
+    priority: f.get('priority') ?? '0',
+    timestamp: f.get('timestamp') ?? '0',
+    failedReason: f.get('failedReason') ?? '',
+    returnvalue: f.get('returnvalue') ?? 'null',
+    attemptsMade: optional('attemptsMade'),
+    finishedOn: optional('finishedOn'),
+    processedOn: optional('processedOn'),
+    stacktrace: optional('stacktrace'),
+    atm: optional('atm'),
+    ats: optional('ats'),
+    stc: optional('stc'),
   };
 }
 
@@ -81,14 +104,22 @@ export class JobsRepository {
     const found = new Map<string, LoadedJob>();
     if (ids.length === 0) return found;
     const k = this.queue.keys;
-    const rows = await runScript(this.redis, READ_JOBS, [k.completed, k.failed, k.active, jobIndexKey(this.prefix, tenant)], [this.queue.toKey(''), deliveriesKey(this.prefix, ''), ...ids]);
-    if (!Array.isArray(rows) || rows.length !== ids.length) throw new Error('the job read script answered unexpectedly');
+    const rows = await runScript(
+      this.redis,
+      READ_JOBS,
+      [k.completed, k.failed, k.active, jobIndexKey(this.prefix, tenant)],
+      [this.queue.toKey(''), deliveriesKey(this.prefix, ''), ...ids],
+    );
+    if (!Array.isArray(rows) || rows.length !== ids.length)
+      throw new Error('the job read script answered unexpectedly');
     rows.forEach((row: unknown, i) => {
       if (!Array.isArray(row) || row.length !== 3) return;
       const [state, fields, deliveries]: unknown[] = row;
-      if (typeof state !== 'string' || !isStrings(fields) || !isStrings(deliveries)) throw new Error('the job read script answered unexpectedly');
+      if (typeof state !== 'string' || !isStrings(fields) || !isStrings(deliveries))
+        throw new Error('the job read script answered unexpectedly');
       const job = Job.fromJSON<AnalyzeJobV1, AnalyzeResultV1>(this.queue, jobJson(ids[i], fields), ids[i]);
-      if (job.data.tenant === tenant) found.set(ids[i], { job, state: stateOf(state), deliveries: parseDeliveries(deliveries) });
+      if (job.data.tenant === tenant)
+        found.set(ids[i], { job, state: stateOf(state), deliveries: parseDeliveries(deliveries) });
     });
     return found;
   }
@@ -127,17 +158,28 @@ export class JobsRepository {
   async list(tenant: string, query: ListQuery): Promise<{ items: JobView[]; next: IndexCursor | null }> {
     let cursor = query.cursor;
     const items: JobView[] = [];
-    for (let examined = 0; items.length < query.limit && examined < MAX_EXAMINED;) {
+    for (let examined = 0; items.length < query.limit && examined < MAX_EXAMINED; ) {
       const page = await this.index.page(tenant, cursor, Math.min(100, query.limit * 2));
-      if (page.length === 0) { cursor = null; break; }
-      const jobs = await this.read(tenant, page.map((row) => row.id));
+      if (page.length === 0) {
+        cursor = null;
+        break;
+      }
+      const jobs = await this.read(
+        tenant,
+        page.map((row) => row.id),
+      );
       for (const row of page) {
         examined += 1;
         cursor = row;
         const loaded = jobs.get(row.id);
         if (!loaded) continue;
         const view = jobView(loaded.job, loaded.state, loaded.deliveries);
-        if ((query.state && view.state !== query.state) || (query.verdict && view.verdict !== query.verdict) || (query.profile && view.profile.id !== query.profile)) continue;
+        if (
+          (query.state && view.state !== query.state) ||
+          (query.verdict && view.verdict !== query.verdict) ||
+          (query.profile && view.profile.id !== query.profile)
+        )
+          continue;
         items.push(view);
         if (items.length === query.limit) break;
       }

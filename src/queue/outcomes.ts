@@ -47,7 +47,11 @@ export const finishedLogKey = (prefix: string): string => serviceKey(prefix, 'fi
 const isOutcome = (value: string | null): value is Outcome => value === 'completed' || value === 'failed';
 
 export class Outcomes {
-  constructor(private readonly redis: Redis, private readonly prefix: string, private readonly retentionSeconds: number) {}
+  constructor(
+    private readonly redis: Redis,
+    private readonly prefix: string,
+    private readonly retentionSeconds: number,
+  ) {}
 
   private key(...parts: string[]): string {
     return serviceKey(this.prefix, ...parts);
@@ -59,9 +63,24 @@ export class Outcomes {
    * the count; analysis time is added whenever the outcome changes, as that work was done.
    */
   async record(jobId: string, outcome: Outcome, analysisSeconds: number | null): Promise<void> {
-    await runScript(this.redis, RECORD_FINISHED,
-      [this.key('outcome', jobId), finishedLogKey(this.prefix), this.key('metrics', 'jobs'), this.key('metrics', 'analysis')],
-      [jobId, outcome, Date.now(), this.retentionSeconds, analysisSeconds === null ? '' : String(analysisSeconds), ...ANALYSIS_BUCKETS_SECONDS]);
+    await runScript(
+      this.redis,
+      RECORD_FINISHED,
+      [
+        this.key('outcome', jobId),
+        finishedLogKey(this.prefix),
+        this.key('metrics', 'jobs'),
+        this.key('metrics', 'analysis'),
+      ],
+      [
+        jobId,
+        outcome,
+        Date.now(),
+        this.retentionSeconds,
+        analysisSeconds === null ? '' : String(analysisSeconds),
+        ...ANALYSIS_BUCKETS_SECONDS,
+      ],
+    );
   }
 
   /** The recorded outcome of a job, or null before it finished (or after retention). */
@@ -75,12 +94,18 @@ export class Outcomes {
   }
 
   async counters(): Promise<OutcomeCounters> {
-    const [jobs, analysis] = await Promise.all([this.redis.hgetall(this.key('metrics', 'jobs')), this.redis.hgetall(this.key('metrics', 'analysis'))]);
+    const [jobs, analysis] = await Promise.all([
+      this.redis.hgetall(this.key('metrics', 'jobs')),
+      this.redis.hgetall(this.key('metrics', 'analysis')),
+    ]);
     return {
       jobs: Object.fromEntries(Object.entries(jobs).map(([k, v]) => [k, Number(v)])),
       analysisSumSeconds: Number(analysis.sumSeconds ?? 0),
       analysisCount: Number(analysis.count ?? 0),
-      analysisBuckets: ANALYSIS_BUCKETS_SECONDS.map((leSeconds) => ({ leSeconds, count: Number(analysis[`le:${leSeconds}`] ?? 0) })),
+      analysisBuckets: ANALYSIS_BUCKETS_SECONDS.map((leSeconds) => ({
+        leSeconds,
+        count: Number(analysis[`le:${leSeconds}`] ?? 0),
+      })),
     };
   }
 }

@@ -7,20 +7,32 @@ import type { Redis } from 'ioredis';
 import { EarmarkError } from '../errors/index.ts';
 import { BUILTIN_PROFILES, parseProfile, type Profile } from '../profiles/index.ts';
 
-export interface ProfileEntry { profile: Profile; builtin: boolean; versions: number }
+export interface ProfileEntry {
+  profile: Profile;
+  builtin: boolean;
+  versions: number;
+}
 
 /** Equal apart from the version: compared as canonical JSON (keys sorted at every level). */
 function sameContent(a: Profile, b: Profile): boolean {
   const canonical = (value: unknown): unknown => {
     if (Array.isArray(value)) return value.map(canonical);
-    if (value && typeof value === 'object') return Object.fromEntries(Object.entries(value).sort(([x], [y]) => x.localeCompare(y)).map(([k, v]) => [k, canonical(v)]));
+    if (value && typeof value === 'object')
+      return Object.fromEntries(
+        Object.entries(value)
+          .sort(([x], [y]) => x.localeCompare(y))
+          .map(([k, v]) => [k, canonical(v)]),
+      );
     return value;
   };
   return JSON.stringify(canonical({ ...a, version: '' })) === JSON.stringify(canonical({ ...b, version: '' }));
 }
 
 export class ProfileStore {
-  constructor(readonly redis: Redis, readonly prefix: string) {}
+  constructor(
+    readonly redis: Redis,
+    readonly prefix: string,
+  ) {}
 
   private versionsKey(tenant: string, id: string): string {
     return `${this.prefix}:svc:profile:${tenant}:${id}`;
@@ -48,16 +60,26 @@ export class ProfileStore {
     const builtin = BUILTIN_PROFILES.find((p) => p.id === id);
     if (builtin) return { profile: structuredClone(builtin) as Profile, builtin: true, versions: 1 };
     if (!(await this.redis.sismember(this.liveKey(tenant), id))) return null;
-    const [last, count] = await Promise.all([this.redis.lindex(this.versionsKey(tenant, id), -1), this.redis.llen(this.versionsKey(tenant, id))]);
+    const [last, count] = await Promise.all([
+      this.redis.lindex(this.versionsKey(tenant, id), -1),
+      this.redis.llen(this.versionsKey(tenant, id)),
+    ]);
     return last ? { profile: JSON.parse(last) as Profile, builtin: false, versions: count } : null;
   }
 
   /** Validates (invalid_profile naming the field) and stores a new version. */
   async put(tenant: string, id: string, body: unknown): Promise<ProfileEntry> {
-    if (ProfileStore.isBuiltin(id)) throw new EarmarkError('forbidden', `profile "${id}" is built in and read-only; store a copy under another id`, { field: 'id' });
-    if (!body || typeof body !== 'object' || Array.isArray(body)) throw new EarmarkError('invalid_profile', 'the profile must be a JSON object', { field: 'profile' });
+    if (ProfileStore.isBuiltin(id))
+      throw new EarmarkError('forbidden', `profile "${id}" is built in and read-only; store a copy under another id`, {
+        field: 'id',
+      });
+    if (!body || typeof body !== 'object' || Array.isArray(body))
+      throw new EarmarkError('invalid_profile', 'the profile must be a JSON object', { field: 'profile' });
     const input = body as Record<string, unknown>;
-    if (input.id !== undefined && input.id !== id) throw new EarmarkError('invalid_profile', `profile.id "${String(input.id)}" differs from the id in the path`, { field: 'id' });
+    if (input.id !== undefined && input.id !== id)
+      throw new EarmarkError('invalid_profile', `profile.id "${String(input.id)}" differs from the id in the path`, {
+        field: 'id',
+      });
     const key = this.versionsKey(tenant, id);
     const [last, stored] = await Promise.all([this.redis.lindex(key, -1), this.redis.llen(key)]);
     const next = stored + 1;
@@ -81,7 +103,8 @@ export class ProfileStore {
   }
 
   async remove(tenant: string, id: string): Promise<boolean> {
-    if (ProfileStore.isBuiltin(id)) throw new EarmarkError('forbidden', `profile "${id}" is built in and read-only`, { field: 'id' });
+    if (ProfileStore.isBuiltin(id))
+      throw new EarmarkError('forbidden', `profile "${id}" is built in and read-only`, { field: 'id' });
     return (await this.redis.srem(this.liveKey(tenant), id)) === 1;
   }
 }

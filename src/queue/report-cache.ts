@@ -4,7 +4,11 @@ import type { Redis } from 'ioredis';
 import { serviceKey } from './service-keys.ts';
 
 export class ReportCache {
-  constructor(private readonly redis: Redis, private readonly prefix: string, private readonly retentionSeconds: number) {}
+  constructor(
+    private readonly redis: Redis,
+    private readonly prefix: string,
+    private readonly retentionSeconds: number,
+  ) {}
 
   async put(jobId: string, json: string): Promise<void> {
     await this.redis.set(serviceKey(this.prefix, 'report', jobId), json, 'EX', this.retentionSeconds);

@@ -6,11 +6,19 @@ import type { Redis } from 'ioredis';
 
 export const serviceKey = (prefix: string, ...parts: string[]): string => [prefix, 'svc', ...parts].join(':');
 
-export interface Script { source: string; sha1: string }
+export interface Script {
+  source: string;
+  sha1: string;
+}
 
 export const script = (source: string): Script => ({ source, sha1: createHash('sha1').update(source).digest('hex') });
 
-export async function runScript(redis: Redis, { source, sha1 }: Script, keys: string[], args: Array<string | number>): Promise<unknown> {
+export async function runScript(
+  redis: Redis,
+  { source, sha1 }: Script,
+  keys: string[],
+  args: Array<string | number>,
+): Promise<unknown> {
   try {
     return await redis.evalsha(sha1, keys.length, ...keys, ...args);
   } catch (error) {

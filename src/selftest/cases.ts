@@ -8,7 +8,14 @@ import { LoudnessMeter } from '../analysis/loudness.ts';
 import { TruePeakMeter } from '../analysis/true-peak.ts';
 import { toneBlocks, type ToneSegment } from './signals.ts';
 
-export type Reading = 'integrated' | 'maxMomentary' | 'maxShortTerm' | 'loudnessRange' | 'truePeak' | 'shortTermSpread' | 'momentarySpread';
+export type Reading =
+  | 'integrated'
+  | 'maxMomentary'
+  | 'maxShortTerm'
+  | 'loudnessRange'
+  | 'truePeak'
+  | 'shortTermSpread'
+  | 'momentarySpread';
 
 export interface ComplianceCase {
   id: string;
@@ -27,12 +34,34 @@ export interface ComplianceCase {
 
 const SAMPLE_RATE = 48000;
 const STEREO = 2;
-const tones = (segments: ToneSegment[], channels = STEREO) => () => toneBlocks({ sampleRate: SAMPLE_RATE, channels, segments });
+const tones =
+  (segments: ToneSegment[], channels = STEREO) =>
+  () =>
+    toneBlocks({ sampleRate: SAMPLE_RATE, channels, segments });
 const silence = (seconds: number): ToneSegment => ({ seconds, peakDbfs: null });
 const tone = (seconds: number, peakDbfs: number | (number | null)[]): ToneSegment => ({ seconds, peakDbfs });
 
-function loudnessCase(id: string, description: string, reading: Reading, expected: number, segments: ToneSegment[], tolerance = 0.1, channels = STEREO): ComplianceCase {
-  return { id, source: `EBU Tech 3341 V4 Table 1, case ${id.split('-')[1]}`, description, reading, expected, toleranceBelow: tolerance, toleranceAbove: tolerance, sampleRate: SAMPLE_RATE, channels, blocks: tones(segments, channels) };
+function loudnessCase(
+  id: string,
+  description: string,
+  reading: Reading,
+  expected: number,
+  segments: ToneSegment[],
+  tolerance = 0.1,
+  channels = STEREO,
+): ComplianceCase {
+  return {
+    id,
+    source: `EBU Tech 3341 V4 Table 1, case ${id.split('-')[1]}`,
+    description,
+    reading,
+    expected,
+    toleranceBelow: tolerance,
+    toleranceAbove: tolerance,
+    sampleRate: SAMPLE_RATE,
+    channels,
+    blocks: tones(segments, channels),
+  };
 }
 
 function repeat(segments: ToneSegment[], times: number): ToneSegment[] {
@@ -48,26 +77,45 @@ function truePeakSignal(frequencyHz: number, amplitude: number, phaseDegrees: nu
     for (let n = 0; n < frames; n++) {
       const edge = Math.min(n, frames - 1 - n);
       const gain = edge < fade ? 0.5 - 0.5 * Math.cos((Math.PI * edge) / fade) : 1;
-      data[n] = gain * amplitude * Math.sin((2 * Math.PI * frequencyHz * n) / SAMPLE_RATE + (phaseDegrees * Math.PI) / 180);
+      data[n] =
+        gain * amplitude * Math.sin((2 * Math.PI * frequencyHz * n) / SAMPLE_RATE + (phaseDegrees * Math.PI) / 180);
     }
     yield { channelData: [data, data.slice()], frames };
   };
 }
 
-function truePeakCase(caseNumber: number, frequencyHz: number, amplitude: number, phaseDegrees: number, expected: number): ComplianceCase {
+function truePeakCase(
+  caseNumber: number,
+  frequencyHz: number,
+  amplitude: number,
+  phaseDegrees: number,
+  expected: number,
+): ComplianceCase {
   return {
-    id: `3341-${caseNumber}`, source: `EBU Tech 3341 V4 Table 1, case ${caseNumber}`,
+    id: `3341-${caseNumber}`,
+    source: `EBU Tech 3341 V4 Table 1, case ${caseNumber}`,
     description: `stereo ${frequencyHz} Hz, ${amplitude.toFixed(2)} FFS, phase ${phaseDegrees} deg`,
-    reading: 'truePeak', expected, toleranceBelow: 0.4, toleranceAbove: 0.2, sampleRate: SAMPLE_RATE, channels: STEREO,
+    reading: 'truePeak',
+    expected,
+    toleranceBelow: 0.4,
+    toleranceAbove: 0.2,
+    sampleRate: SAMPLE_RATE,
+    channels: STEREO,
     blocks: truePeakSignal(frequencyHz, amplitude, phaseDegrees),
   };
 }
 
 function rangeCase(caseNumber: number, levels: number[], expected: number): ComplianceCase {
   return {
-    id: `3342-${caseNumber}`, source: `EBU Tech 3342 V4 Table 1, case ${caseNumber}`,
+    id: `3342-${caseNumber}`,
+    source: `EBU Tech 3342 V4 Table 1, case ${caseNumber}`,
     description: `stereo 1 kHz, 20 s each at ${levels.join(', ')} dBFS`,
-    reading: 'loudnessRange', expected, toleranceBelow: 1, toleranceAbove: 1, sampleRate: SAMPLE_RATE, channels: STEREO,
+    reading: 'loudnessRange',
+    expected,
+    toleranceBelow: 1,
+    toleranceAbove: 1,
+    sampleRate: SAMPLE_RATE,
+    channels: STEREO,
     blocks: tones(levels.map((level) => tone(20, level))),
   };
 }
@@ -78,21 +126,94 @@ export function complianceCases(): ComplianceCase[] {
     cases.push(loudnessCase('3341-1', `stereo 1 kHz -23 dBFS 20 s, ${reading}`, reading, -23, [tone(20, -23)]));
     cases.push(loudnessCase('3341-2', `stereo 1 kHz -33 dBFS 20 s, ${reading}`, reading, -33, [tone(20, -33)]));
   }
-  cases.push(loudnessCase('3341-3', '10 s -36, 60 s -23, 10 s -36 dBFS', 'integrated', -23, [tone(10, -36), tone(60, -23), tone(10, -36)]));
-  cases.push(loudnessCase('3341-4', '-72, -36, -23, -36, -72 dBFS', 'integrated', -23,
-    [tone(10, -72), tone(10, -36), tone(60, -23), tone(10, -36), tone(10, -72)]));
-  cases.push(loudnessCase('3341-5', '20 s -26, 20.1 s -20, 20 s -26 dBFS', 'integrated', -23, [tone(20, -26), tone(20.1, -20), tone(20, -26)]));
+  cases.push(
+    loudnessCase('3341-3', '10 s -36, 60 s -23, 10 s -36 dBFS', 'integrated', -23, [
+      tone(10, -36),
+      tone(60, -23),
+      tone(10, -36),
+    ]),
+  );
+  cases.push(
+    loudnessCase('3341-4', '-72, -36, -23, -36, -72 dBFS', 'integrated', -23, [
+      tone(10, -72),
+      tone(10, -36),
+      tone(60, -23),
+      tone(10, -36),
+      tone(10, -72),
+    ]),
+  );
+  cases.push(
+    loudnessCase('3341-5', '20 s -26, 20.1 s -20, 20 s -26 dBFS', 'integrated', -23, [
+      tone(20, -26),
+      tone(20.1, -20),
+      tone(20, -26),
+    ]),
+  );
   cases.push({
-    ...loudnessCase('3341-6', '5.0: L,R -28, C -24, Ls,Rs -30 dBFS', 'integrated', -23, [tone(20, [-28, -28, -24, -30, -30])], 0.1, 5),
+    ...loudnessCase(
+      '3341-6',
+      '5.0: L,R -28, C -24, Ls,Rs -30 dBFS',
+      'integrated',
+      -23,
+      [tone(20, [-28, -28, -24, -30, -30])],
+      0.1,
+      5,
+    ),
     channelLabels: defaultChannelLabels(5),
   });
-  cases.push(loudnessCase('3341-9', '(1.34 s -20, 1.66 s -30) x5: short-term after 3 s', 'shortTermSpread', -23, repeat([tone(1.34, -20), tone(1.66, -30)], 5)));
-  cases.push(loudnessCase('3341-12', '(0.18 s -20, 0.22 s -30) x25: momentary after 1 s', 'momentarySpread', -23, repeat([tone(0.18, -20), tone(0.22, -30)], 25)));
+  cases.push(
+    loudnessCase(
+      '3341-9',
+      '(1.34 s -20, 1.66 s -30) x5: short-term after 3 s',
+      'shortTermSpread',
+      -23,
+      repeat([tone(1.34, -20), tone(1.66, -30)], 5),
+    ),
+  );
+  cases.push(
+    loudnessCase(
+      '3341-12',
+      '(0.18 s -20, 0.22 s -30) x25: momentary after 1 s',
+      'momentarySpread',
+      -23,
+      repeat([tone(0.18, -20), tone(0.22, -30)], 25),
+    ),
+  );
   for (let i = 0; i < 20; i++) {
-    cases.push({ ...loudnessCase('3341-10', `${(i * 0.15).toFixed(2)} s silence, 3 s -23 dBFS`, 'maxShortTerm', -23, [silence(i * 0.15), tone(3, -23), silence(1)]), id: `3341-10.${i}` });
-    cases.push({ ...loudnessCase('3341-11', `${(i * 0.15).toFixed(2)} s silence, 3 s at ${-38 + i} dBFS`, 'maxShortTerm', -38 + i, [silence(i * 0.15), tone(3, -38 + i), silence(3 - i * 0.15)]), id: `3341-11.${i}` });
-    cases.push({ ...loudnessCase('3341-13', `${i * 20} ms silence, 400 ms -23 dBFS`, 'maxMomentary', -23, [silence(i * 0.02), tone(0.4, -23), silence(1)]), id: `3341-13.${i}` });
-    cases.push({ ...loudnessCase('3341-14', `${i * 20} ms silence, 400 ms at ${-38 + i} dBFS`, 'maxMomentary', -38 + i, [silence(i * 0.02), tone(0.4, -38 + i), silence(0.4 - i * 0.02)]), id: `3341-14.${i}` });
+    cases.push({
+      ...loudnessCase('3341-10', `${(i * 0.15).toFixed(2)} s silence, 3 s -23 dBFS`, 'maxShortTerm', -23, [
+        silence(i * 0.15),
+        tone(3, -23),
+        silence(1),
+      ]),
+      id: `3341-10.${i}`,
+    });
+    cases.push({
+      ...loudnessCase(
+        '3341-11',
+        `${(i * 0.15).toFixed(2)} s silence, 3 s at ${-38 + i} dBFS`,
+        'maxShortTerm',
+        -38 + i,
+        [silence(i * 0.15), tone(3, -38 + i), silence(3 - i * 0.15)],
+      ),
+      id: `3341-11.${i}`,
+    });
+    cases.push({
+      ...loudnessCase('3341-13', `${i * 20} ms silence, 400 ms -23 dBFS`, 'maxMomentary', -23, [
+        silence(i * 0.02),
+        tone(0.4, -23),
+        silence(1),
+      ]),
+      id: `3341-13.${i}`,
+    });
+    cases.push({
+      ...loudnessCase('3341-14', `${i * 20} ms silence, 400 ms at ${-38 + i} dBFS`, 'maxMomentary', -38 + i, [
+        silence(i * 0.02),
+        tone(0.4, -38 + i),
+        silence(0.4 - i * 0.02),
+      ]),
+      id: `3341-14.${i}`,
+    });
   }
   cases.push(truePeakCase(15, SAMPLE_RATE / 4, 0.5, 0, -6));
   cases.push(truePeakCase(16, SAMPLE_RATE / 4, 0.5, 45, -6));
@@ -114,7 +235,11 @@ export interface CaseOutcome {
 
 /** Measures one case with the engine's own meters. Spread readings return the worst deviation. */
 export function runComplianceCase(testCase: ComplianceCase): CaseOutcome {
-  const info = { sampleRate: testCase.sampleRate, channels: testCase.channels, channelLabels: testCase.channelLabels ?? defaultChannelLabels(testCase.channels) };
+  const info = {
+    sampleRate: testCase.sampleRate,
+    channels: testCase.channels,
+    channelLabels: testCase.channelLabels ?? defaultChannelLabels(testCase.channels),
+  };
   const loudness = new LoudnessMeter(info);
   const truePeak = new TruePeakMeter(info, { overCeilingDbtp: 100 });
   for (const block of testCase.blocks()) {
@@ -122,9 +247,10 @@ export function runComplianceCase(testCase: ComplianceCase): CaseOutcome {
     else loudness.push(block);
   }
   const measured = readValue(testCase, loudness, truePeak);
-  const passed = measured !== null
-    && measured >= testCase.expected - testCase.toleranceBelow - 1e-9
-    && measured <= testCase.expected + testCase.toleranceAbove + 1e-9;
+  const passed =
+    measured !== null &&
+    measured >= testCase.expected - testCase.toleranceBelow - 1e-9 &&
+    measured <= testCase.expected + testCase.toleranceAbove + 1e-9;
   return { testCase, measured, passed };
 }
 
@@ -132,13 +258,19 @@ function readValue(testCase: ComplianceCase, loudness: LoudnessMeter, truePeak: 
   if (testCase.reading === 'truePeak') return truePeak.result().truePeakDbtp;
   const result = loudness.result();
   switch (testCase.reading) {
-    case 'integrated': return result.integratedLufs;
-    case 'maxMomentary': return result.maxMomentaryLufs;
-    case 'maxShortTerm': return result.maxShortTermLufs;
-    case 'loudnessRange': return result.loudnessRangeLu;
+    case 'integrated':
+      return result.integratedLufs;
+    case 'maxMomentary':
+      return result.maxMomentaryLufs;
+    case 'maxShortTerm':
+      return result.maxShortTermLufs;
+    case 'loudnessRange':
+      return result.loudnessRangeLu;
     // The value farthest from the expected one once the window has filled (after 3 s / 1 s).
-    case 'shortTermSpread': return farthest(result.shortTermLufs.subarray(30), testCase.expected);
-    case 'momentarySpread': return farthest(result.momentaryLufs.subarray(10), testCase.expected);
+    case 'shortTermSpread':
+      return farthest(result.shortTermLufs.subarray(30), testCase.expected);
+    case 'momentarySpread':
+      return farthest(result.momentaryLufs.subarray(10), testCase.expected);
   }
 }
 

@@ -34,7 +34,10 @@ export function* toneBlocks(spec: SignalSpec): Generator<PcmBlock> {
   const blockFrames = spec.blockFrames ?? 65536;
   const edges: number[] = [];
   let seconds = 0;
-  for (const seg of spec.segments) { seconds += seg.seconds; edges.push(Math.round(seconds * spec.sampleRate)); }
+  for (const seg of spec.segments) {
+    seconds += seg.seconds;
+    edges.push(Math.round(seconds * spec.sampleRate));
+  }
   const total = edges[edges.length - 1] ?? 0;
   let segment = 0;
   for (let start = 0; start < total; start += blockFrames) {
@@ -94,7 +97,8 @@ export function* programmeBlocks(spec: ProgrammeSpec): Generator<PcmBlock> {
     const channelData = Array.from({ length: spec.channels }, () => new Float32Array(frames));
     for (let n = 0; n < frames; n++) {
       const t = (start + n) / spec.sampleRate;
-      const envelope = base * (1 + 0.8 * Math.sin(2 * Math.PI * t / 17)) * (1 + 0.5 * Math.sin(2 * Math.PI * t / 5.3));
+      const envelope =
+        base * (1 + 0.8 * Math.sin((2 * Math.PI * t) / 17)) * (1 + 0.5 * Math.sin((2 * Math.PI * t) / 5.3));
       for (let c = 0; c < spec.channels; c++) {
         const white = random() * 2 - 1;
         // Three one-pole stages approximate a pink-ish spectrum.
@@ -103,7 +107,8 @@ export function* programmeBlocks(spec: ProgrammeSpec): Generator<PcmBlock> {
         state[s + 1] = 0.9 * state[s + 1] + 0.3 * white;
         state[s + 2] = 0.5 * state[s + 2] + 0.5 * white;
         const noise = state[s] + state[s + 1] + state[s + 2];
-        const tone = 0.3 * Math.sin(2 * Math.PI * toneHz[c % 4] * t) + 0.2 * Math.sin(2 * Math.PI * toneHz[(c + 1) % 4] * t);
+        const tone =
+          0.3 * Math.sin(2 * Math.PI * toneHz[c % 4] * t) + 0.2 * Math.sin(2 * Math.PI * toneHz[(c + 1) % 4] * t);
         channelData[c][n] = envelope * (noise + tone) * (c % 2 === 0 ? 1 : 0.8);
       }
     }

@@ -11,7 +11,9 @@ export const WRITE_BLOCK_BYTES = 1024 * 1024;
 const POOL_SIZE = 8;
 const pool: Buffer[] = [];
 const takeBuffer = () => pool.pop() ?? Buffer.allocUnsafeSlow(WRITE_BLOCK_BYTES);
-const giveBack = (buffer: Buffer) => { if (pool.length < POOL_SIZE) pool.push(buffer); };
+const giveBack = (buffer: Buffer) => {
+  if (pool.length < POOL_SIZE) pool.push(buffer);
+};
 
 /** Consumes `chunks` into a file created at `path` (it must not exist); the file is closed either way. */
 export async function writeChunksToNewFile(path: string, chunks: AsyncIterable<Uint8Array>): Promise<void> {
@@ -29,13 +31,15 @@ export async function writeChunksToNewFile(path: string, chunks: AsyncIterable<U
     };
     const flush = async () => {
       await settle(); // the spare buffer is free again
-      inFlight = writeAll(handle, filling.subarray(0, filled)).catch((error: unknown) => { failure ??= { error }; });
+      inFlight = writeAll(handle, filling.subarray(0, filled)).catch((error: unknown) => {
+        failure ??= { error };
+      });
       [filling, spare] = [spare, filling];
       filled = 0;
     };
     try {
       for await (const chunk of chunks) {
-        for (let at = 0; at < chunk.length;) {
+        for (let at = 0; at < chunk.length; ) {
           const n = Math.min(chunk.length - at, WRITE_BLOCK_BYTES - filled);
           filling.set(chunk.subarray(at, at + n), filled);
           filled += n;
@@ -58,7 +62,7 @@ export async function writeChunksToNewFile(path: string, chunks: AsyncIterable<U
 
 /** FileHandle.write may write less than asked (a full disk mid-buffer); the rest follows. */
 async function writeAll(handle: FileHandle, bytes: Uint8Array): Promise<void> {
-  for (let at = 0; at < bytes.length;) {
+  for (let at = 0; at < bytes.length; ) {
     const { bytesWritten } = await handle.write(bytes, at, bytes.length - at);
     at += bytesWritten;
   }

@@ -10,7 +10,11 @@ import { pipeline } from 'node:stream/promises';
 import { EarmarkError } from '../errors/index.ts';
 import { writeChunksToNewFile } from './block-file-writer.ts';
 
-export interface StoredFile { key: string; sizeBytes: number; sha256: string }
+export interface StoredFile {
+  key: string;
+  sizeBytes: number;
+  sha256: string;
+}
 
 export interface Storage {
   /** Streams into a new upload; over limitBytes the partial file is removed and payload_too_large thrown. */
@@ -40,7 +44,10 @@ export interface StorageOptions {
 export class LocalStorage implements Storage {
   private readonly partialTouchMs: number;
 
-  constructor(readonly rootDir: string, options: StorageOptions = {}) {
+  constructor(
+    readonly rootDir: string,
+    options: StorageOptions = {},
+  ) {
     this.partialTouchMs = options.partialTouchMs ?? 10_000;
   }
 
@@ -79,7 +86,9 @@ export class LocalStorage implements Storage {
     const input = source.pipe(new PassThrough());
     // pipe() does not pass on a source destroyed mid-file (client gone, multipart limit hit);
     // a typed reason (a fetch deadline) is kept.
-    const aborted = (reason?: unknown) => { if (!source.readableEnded) input.destroy(reason instanceof EarmarkError ? reason : new SourceAborted()); };
+    const aborted = (reason?: unknown) => {
+      if (!source.readableEnded) input.destroy(reason instanceof EarmarkError ? reason : new SourceAborted());
+    };
     // A multipart file stream cut at its size limit emits 'limit' and then nothing until the
     // part ends in the body, which an abandoned or endless body never does: stop at once.
     const overLimit = () => input.destroy(new LimitError());
@@ -97,11 +106,14 @@ export class LocalStorage implements Storage {
       source.resume();
       // A broken temp folder (ENOTDIR, EACCES) must not stop the answer.
       await rm(tmp, { force: true }).catch(() => undefined);
-      if (error instanceof LimitError) throw new EarmarkError('payload_too_large', `the upload is larger than ${limitBytes} bytes`, { limitBytes });
+      if (error instanceof LimitError)
+        throw new EarmarkError('payload_too_large', `the upload is larger than ${limitBytes} bytes`, { limitBytes });
       if (error instanceof EarmarkError) throw error;
-      if (error instanceof SourceAborted) throw new EarmarkError('validation_failed', 'the upload ended before the file did', { field: 'file' });
+      if (error instanceof SourceAborted)
+        throw new EarmarkError('validation_failed', 'the upload ended before the file did', { field: 'file' });
       const errno = (error as NodeJS.ErrnoException).code;
-      if (errno === 'ENOSPC' || errno === 'EDQUOT') throw new EarmarkError('storage_full', 'storage is full; the upload was not kept', {}, { cause: error });
+      if (errno === 'ENOSPC' || errno === 'EDQUOT')
+        throw new EarmarkError('storage_full', 'storage is full; the upload was not kept', {}, { cause: error });
       throw new EarmarkError('storage_unavailable', 'the upload could not be stored', {}, { cause: error });
     }
   }

@@ -37,7 +37,10 @@ const FLAG_LANE_PX = 16;
 const TIME_STEPS_SECONDS = [1, 2, 5, 10, 15, 30, 60, 120, 300, 600, 900, 1800, 3600, 7200];
 
 export function escapeXml(text: string): string {
-  return text.replace(/[&<>"']/g, (c) => ({ '&': '&amp;', '<': '&lt;', '>': '&gt;', '"': '&quot;', "'": '&#39;' })[c] as string);
+  return text.replace(
+    /[&<>"']/g,
+    (c) => ({ '&': '&amp;', '<': '&lt;', '>': '&gt;', '"': '&quot;', "'": '&#39;' })[c] as string,
+  );
 }
 
 const fmt = (value: number) => (Math.round(value * 10) / 10).toString();
@@ -47,9 +50,16 @@ function loudnessRange(input: PlotInput): [number, number] {
   let max = -Infinity;
   let min = Infinity;
   for (const series of [input.momentary, input.shortTerm]) {
-    for (const v of series.lufs) if (v !== null && v > -70) { if (v > max) max = v; if (v < min) min = v; }
+    for (const v of series.lufs)
+      if (v !== null && v > -70) {
+        if (v > max) max = v;
+        if (v < min) min = v;
+      }
   }
-  if (input.targetBand) { max = Math.max(max, input.targetBand.highLufs); min = Math.min(min, input.targetBand.lowLufs); }
+  if (input.targetBand) {
+    max = Math.max(max, input.targetBand.highLufs);
+    min = Math.min(min, input.targetBand.lowLufs);
+  }
   if (!Number.isFinite(max)) return [-60, 0];
   const top = Math.min(0, Math.ceil((max + 3) / 5) * 5);
   const bottom = Math.max(-70, Math.floor((Math.min(min, top - 20) - 2) / 10) * 10);
@@ -76,12 +86,18 @@ function polyline(series: PlotSeries, x: (s: number) => number, y: (l: number) =
     points = [];
   };
   series.lufs.forEach((v, i) => {
-    if (v === null) { breakLine(); return; }
+    if (v === null) {
+      breakLine();
+      return;
+    }
     const px = x(series.firstAtSeconds + i / series.pointsPerSecond);
     const c = Math.floor(px);
     if (c !== column) {
       flushColumn();
-      column = c; columnX = px; low = v; high = v;
+      column = c;
+      columnX = px;
+      low = v;
+      high = v;
       return;
     }
     if (v < low) low = v;
@@ -101,48 +117,76 @@ export function renderLoudnessPlot(input: PlotInput): string {
   const duration = Math.max(input.durationSeconds, 1e-3);
   const [bottomLufs, topLufs] = loudnessRange(input);
   const x = (seconds: number) => plotLeft + (Math.min(Math.max(seconds, 0), duration) / duration) * plotWidth;
-  const y = (lufs: number) => plotTop + ((topLufs - Math.min(Math.max(lufs, bottomLufs), topLufs)) / (topLufs - bottomLufs)) * plotHeight;
+  const y = (lufs: number) =>
+    plotTop + ((topLufs - Math.min(Math.max(lufs, bottomLufs), topLufs)) / (topLufs - bottomLufs)) * plotHeight;
   const parts: string[] = [];
-  parts.push(`<svg xmlns="http://www.w3.org/2000/svg" class="em-plot" viewBox="0 0 ${width} ${height}" role="img" aria-labelledby="em-plot-title">`);
+  parts.push(
+    `<svg xmlns="http://www.w3.org/2000/svg" class="em-plot" viewBox="0 0 ${width} ${height}" role="img" aria-labelledby="em-plot-title">`,
+  );
   const remarks = input.flags.filter((f) => f.severity === 'remark').length;
   const problems = input.flags.length - remarks;
-  parts.push(`<title id="em-plot-title">Momentary and short-term loudness over ${escapeXml(input.formatTime(duration))}, with ${problems} flagged problem${problems === 1 ? '' : 's'}${remarks ? ` and ${remarks} remark${remarks === 1 ? '' : 's'}` : ''}</title>`);
+  parts.push(
+    `<title id="em-plot-title">Momentary and short-term loudness over ${escapeXml(input.formatTime(duration))}, with ${problems} flagged problem${problems === 1 ? '' : 's'}${remarks ? ` and ${remarks} remark${remarks === 1 ? '' : 's'}` : ''}</title>`,
+  );
   parts.push(`<rect class="em-plot-bg" x="${plotLeft}" y="${plotTop}" width="${plotWidth}" height="${plotHeight}"/>`);
   if (input.targetBand) {
     const { lowLufs, highLufs, targetLufs } = input.targetBand;
-    parts.push(`<rect class="em-target-band" x="${plotLeft}" y="${fmt(y(highLufs))}" width="${plotWidth}" height="${fmt(y(lowLufs) - y(highLufs))}"><title>Target band ${fmt(lowLufs)} to ${fmt(highLufs)} LUFS</title></rect>`);
-    if (targetLufs !== undefined) parts.push(`<line class="em-target-line" x1="${plotLeft}" x2="${plotLeft + plotWidth}" y1="${fmt(y(targetLufs))}" y2="${fmt(y(targetLufs))}"/>`);
+    parts.push(
+      `<rect class="em-target-band" x="${plotLeft}" y="${fmt(y(highLufs))}" width="${plotWidth}" height="${fmt(y(lowLufs) - y(highLufs))}"><title>Target band ${fmt(lowLufs)} to ${fmt(highLufs)} LUFS</title></rect>`,
+    );
+    if (targetLufs !== undefined)
+      parts.push(
+        `<line class="em-target-line" x1="${plotLeft}" x2="${plotLeft + plotWidth}" y1="${fmt(y(targetLufs))}" y2="${fmt(y(targetLufs))}"/>`,
+      );
   }
   for (let lufs = Math.ceil(bottomLufs / 10) * 10; lufs <= topLufs; lufs += 10) {
-    parts.push(`<line class="em-grid" x1="${plotLeft}" x2="${plotLeft + plotWidth}" y1="${fmt(y(lufs))}" y2="${fmt(y(lufs))}"/>`);
-    parts.push(`<text class="em-axis-label" x="${plotLeft - 6}" y="${fmt(y(lufs) + 4)}" text-anchor="end">${lufs}</text>`);
+    parts.push(
+      `<line class="em-grid" x1="${plotLeft}" x2="${plotLeft + plotWidth}" y1="${fmt(y(lufs))}" y2="${fmt(y(lufs))}"/>`,
+    );
+    parts.push(
+      `<text class="em-axis-label" x="${plotLeft - 6}" y="${fmt(y(lufs) + 4)}" text-anchor="end">${lufs}</text>`,
+    );
   }
-  parts.push(`<text class="em-axis-title" x="12" y="${fmt(plotTop + plotHeight / 2)}" transform="rotate(-90 12 ${fmt(plotTop + plotHeight / 2)})" text-anchor="middle">LUFS</text>`);
+  parts.push(
+    `<text class="em-axis-title" x="12" y="${fmt(plotTop + plotHeight / 2)}" transform="rotate(-90 12 ${fmt(plotTop + plotHeight / 2)})" text-anchor="middle">LUFS</text>`,
+  );
   const step = TIME_STEPS_SECONDS.find((s) => duration / s <= 8) ?? 7200;
   for (let t = 0; t <= duration + 1e-9; t += step) {
-    parts.push(`<line class="em-tick" x1="${fmt(x(t))}" x2="${fmt(x(t))}" y1="${plotTop + plotHeight}" y2="${plotTop + plotHeight + 5}"/>`);
-    parts.push(`<text class="em-axis-label" x="${fmt(x(t))}" y="${plotTop + plotHeight + 18}" text-anchor="middle">${escapeXml(input.formatTime(t))}</text>`);
+    parts.push(
+      `<line class="em-tick" x1="${fmt(x(t))}" x2="${fmt(x(t))}" y1="${plotTop + plotHeight}" y2="${plotTop + plotHeight + 5}"/>`,
+    );
+    parts.push(
+      `<text class="em-axis-label" x="${fmt(x(t))}" y="${plotTop + plotHeight + 18}" text-anchor="middle">${escapeXml(input.formatTime(t))}</text>`,
+    );
   }
   if (input.shortTermLimitLufs !== undefined) {
-    parts.push(`<line class="em-limit-line" x1="${plotLeft}" x2="${plotLeft + plotWidth}" y1="${fmt(y(input.shortTermLimitLufs))}" y2="${fmt(y(input.shortTermLimitLufs))}"/>`);
+    parts.push(
+      `<line class="em-limit-line" x1="${plotLeft}" x2="${plotLeft + plotWidth}" y1="${fmt(y(input.shortTermLimitLufs))}" y2="${fmt(y(input.shortTermLimitLufs))}"/>`,
+    );
   }
-  for (const points of polyline(input.momentary, x, y)) parts.push(`<polyline class="em-momentary" points="${points}"/>`);
-  for (const points of polyline(input.shortTerm, x, y)) parts.push(`<polyline class="em-short-term" points="${points}"/>`);
+  for (const points of polyline(input.momentary, x, y))
+    parts.push(`<polyline class="em-momentary" points="${points}"/>`);
+  for (const points of polyline(input.shortTerm, x, y))
+    parts.push(`<polyline class="em-short-term" points="${points}"/>`);
   // Remarks first, so a fail or warn marker is never painted over by one.
   const order = input.flags.map((flag, index) => ({ flag, index }));
-  order.sort((a, b) => Number(b.flag.severity === 'remark') - Number(a.flag.severity === 'remark') || a.index - b.index);
+  order.sort(
+    (a, b) => Number(b.flag.severity === 'remark') - Number(a.flag.severity === 'remark') || a.index - b.index,
+  );
   for (const { flag, index } of order) {
     const left = x(flag.startSeconds);
     const markerWidth = Math.max(3, x(flag.endSeconds) - left);
     // The opacity is an attribute, not only CSS, so the SVG fetched on its own shows it too.
     parts.push(
       `<g class="em-flag em-flag-${escapeXml(flag.kind)} em-sev-${flag.severity}" data-flag-index="${index}"${flag.severity === 'remark' ? ' opacity="0.45"' : ''}>` +
-      `<rect x="${fmt(left)}" y="${plotTop - FLAG_LANE_PX - 4}" width="${fmt(markerWidth)}" height="${FLAG_LANE_PX}"/>` +
-      `<rect class="em-flag-span" x="${fmt(left)}" y="${plotTop}" width="${fmt(markerWidth)}" height="${plotHeight}"/>` +
-      `<title>${escapeXml(flag.label)}</title></g>`,
+        `<rect x="${fmt(left)}" y="${plotTop - FLAG_LANE_PX - 4}" width="${fmt(markerWidth)}" height="${FLAG_LANE_PX}"/>` +
+        `<rect class="em-flag-span" x="${fmt(left)}" y="${plotTop}" width="${fmt(markerWidth)}" height="${plotHeight}"/>` +
+        `<title>${escapeXml(flag.label)}</title></g>`,
     );
   }
-  parts.push(`<line id="em-plot-cursor" class="em-cursor" x1="${plotLeft}" x2="${plotLeft}" y1="${plotTop - FLAG_LANE_PX - 4}" y2="${plotTop + plotHeight}" data-plot-left="${plotLeft}" data-plot-width="${plotWidth}" data-duration="${duration}" visibility="hidden"/>`);
+  parts.push(
+    `<line id="em-plot-cursor" class="em-cursor" x1="${plotLeft}" x2="${plotLeft}" y1="${plotTop - FLAG_LANE_PX - 4}" y2="${plotTop + plotHeight}" data-plot-left="${plotLeft}" data-plot-width="${plotWidth}" data-duration="${duration}" visibility="hidden"/>`,
+  );
   parts.push('</svg>');
   return parts.join('');
 }

@@ -31,7 +31,10 @@ ${main}
 }
 
 export function dashboardPage(): string {
-  return shell('Queue', 'data-page="dashboard"', `
+  return shell(
+    'Queue',
+    'data-page="dashboard"',
+    `
 <h2 class="em-visually-hidden">Queue at a glance</h2>
 <section id="em-counters" class="em-counters" aria-label="Queue counters" aria-live="polite"></section>
 <p id="em-live-status" class="em-status" role="status"></p>
@@ -51,13 +54,18 @@ export function dashboardPage(): string {
     <tbody id="em-jobs-body"></tbody>
   </table>
   </div>
-</section>`, 'dashboard.js');
+</section>`,
+    'dashboard.js',
+  );
 }
 
 export function reportPage(jobId: string): string {
   // Order matters: the headline, then any integrity problem or job failure, come before the
   // readings, so a damaged file or a failed job is the first thing read or heard.
-  return shell('Report', `data-page="report" data-job-id="${escapeXml(jobId)}"`, `
+  return shell(
+    'Report',
+    `data-page="report" data-job-id="${escapeXml(jobId)}"`,
+    `
 <h2 id="em-headline" class="em-headline" hidden></h2>
 <p id="em-load-status" class="em-status" role="status">Loading…</p>
 <section id="em-integrity" class="em-integrity" aria-labelledby="em-integrity-title" hidden>
@@ -105,5 +113,7 @@ export function reportPage(jobId: string): string {
   <table><thead><tr><th scope="col">Rule</th><th scope="col">Finding</th><th scope="col">Severity</th><th scope="col">Outcome</th></tr></thead><tbody id="em-checks-body"></tbody></table>
   </div>
 </section>
-</div>`, 'report.js');
+</div>`,
+    'report.js',
+  );
 }

@@ -9,8 +9,10 @@ function targetBand(report: QcReport): PlotInput['targetBand'] {
   const check = report.checks.find((c) => c.type === 'integrated-loudness');
   if (!check) return undefined;
   const { targetLufs, toleranceLu, min, max } = check.limit;
-  if (targetLufs !== undefined && toleranceLu !== undefined) return { lowLufs: targetLufs - toleranceLu, highLufs: targetLufs + toleranceLu, targetLufs };
-  if (min !== undefined && max !== undefined) return { lowLufs: min, highLufs: max, ...(targetLufs !== undefined ? { targetLufs } : {}) };
+  if (targetLufs !== undefined && toleranceLu !== undefined)
+    return { lowLufs: targetLufs - toleranceLu, highLufs: targetLufs + toleranceLu, targetLufs };
+  if (min !== undefined && max !== undefined)
+    return { lowLufs: min, highLufs: max, ...(targetLufs !== undefined ? { targetLufs } : {}) };
   return undefined;
 }
 
@@ -27,9 +29,16 @@ export function plotInputFor(report: QcReport, widthPx = 960, heightPx = 320): P
     // Same words as the page's flag list (format.js), so a marker's title matches its list entry.
     flags: report.flags.map((raw, index) => {
       const flag = flagView(raw, index);
-      return { kind: flag.kind, severity: flag.severity, startSeconds: flag.startSeconds, endSeconds: flag.endSeconds, label: flagLabel(flag) };
+      return {
+        kind: flag.kind,
+        severity: flag.severity,
+        startSeconds: flag.startSeconds,
+        endSeconds: flag.endSeconds,
+        label: flagLabel(flag),
+      };
     }),
-    formatTime: (seconds) => timecodeAtSample(Math.round(seconds * sampleRate), sampleRate, rate, report.format.timeReferenceSamples),
+    formatTime: (seconds) =>
+      timecodeAtSample(Math.round(seconds * sampleRate), sampleRate, rate, report.format.timeReferenceSamples),
     widthPx,
     heightPx,
   };

@@ -6,7 +6,10 @@ import { isAbsolute } from 'node:path';
 import { ConfigError, loadConfig, type Config } from '../config/index.ts';
 
 export interface ChildSettings {
-  storageDir: string; urlAllowlist: string[]; fetchLimitBytes: number; fetchTimeoutMs: number;
+  storageDir: string;
+  urlAllowlist: string[];
+  fetchLimitBytes: number;
+  fetchTimeoutMs: number;
   /** Optional here: when the worker does not pass them, the child reads its inherited environment. */
   childRssLimitMb?: number;
   maxDecodedSeconds?: number;
@@ -38,16 +41,21 @@ function settingsAsEnv(value: unknown, inherited: Env): Env {
   const unknown = Object.keys(record).find((key) => !known.has(key));
   if (unknown !== undefined) throw invalid(unknown, 'is not a known setting');
   const { storageDir, urlAllowlist } = record;
-  if (typeof storageDir !== 'string' || !isAbsolute(storageDir)) throw invalid('storageDir', 'must be an absolute path');
+  if (typeof storageDir !== 'string' || !isAbsolute(storageDir))
+    throw invalid('storageDir', 'must be an absolute path');
   // The schema reads the allowlist comma-separated, so an entry may not hold a comma.
-  if (!Array.isArray(urlAllowlist) || urlAllowlist.some((e) => typeof e !== 'string' || e.trim() === '' || e !== e.trim() || e.includes(','))) {
+  if (
+    !Array.isArray(urlAllowlist) ||
+    urlAllowlist.some((e) => typeof e !== 'string' || e.trim() === '' || e !== e.trim() || e.includes(','))
+  ) {
     throw invalid('urlAllowlist', 'must be a list of host names or CIDR ranges');
   }
   const env: Env = { EARMARK_STORAGE_DIR: storageDir, EARMARK_URL_ALLOWLIST: urlAllowlist.join(',') };
   for (const [field, variable] of Object.entries(NUMBER_VARIABLES)) {
     const setting = record[field];
     if (setting === undefined && !REQUIRED.has(field)) env[variable] = inherited[variable];
-    else if (typeof setting !== 'number' || !Number.isSafeInteger(setting)) throw invalid(field, 'must be a whole number');
+    else if (typeof setting !== 'number' || !Number.isSafeInteger(setting))
+      throw invalid(field, 'must be a whole number');
     else env[variable] = String(setting);
   }
   return env;
@@ -58,7 +66,9 @@ function checked(env: Env): Config {
   try {
     return loadConfig(env);
   } catch (error) {
-    const field = Object.entries(NUMBER_VARIABLES).find(([, variable]) => error instanceof ConfigError && error.variable === variable)?.[0];
+    const field = Object.entries(NUMBER_VARIABLES).find(
+      ([, variable]) => error instanceof ConfigError && error.variable === variable,
+    )?.[0];
     if (field === undefined || !(error instanceof ConfigError)) throw error;
     throw invalid(field, error.message.slice(error.variable.length + 2));
   }
@@ -66,13 +76,23 @@ function checked(env: Env): Config {
 
 /** The child's settings, checked against the environment schema; a bad value throws ConfigError. */
 export function parseChildSettings(raw: string | undefined, inherited: Env = process.env): Required<ChildSettings> {
-  if (!raw) throw new ConfigError(CHILD_SETTINGS_ENV, 'is missing: the processor runs only as the worker\'s sandboxed child');
+  if (!raw)
+    throw new ConfigError(CHILD_SETTINGS_ENV, "is missing: the processor runs only as the worker's sandboxed child");
   let value: unknown;
-  try { value = JSON.parse(raw); } catch { throw new ConfigError(CHILD_SETTINGS_ENV, 'is not valid JSON'); }
+  try {
+    value = JSON.parse(raw);
+  } catch {
+    throw new ConfigError(CHILD_SETTINGS_ENV, 'is not valid JSON');
+  }
   const config = checked(settingsAsEnv(value, inherited));
   return {
-    storageDir: config.storageDir, urlAllowlist: config.urlAllowlist, fetchLimitBytes: config.fetchLimitBytes, fetchTimeoutMs: config.fetchTimeoutMs,
-    childRssLimitMb: config.childRssLimitMb, maxDecodedSeconds: config.maxDecodedSeconds, fetchDeadlineMs: config.fetchDeadlineMs,
+    storageDir: config.storageDir,
+    urlAllowlist: config.urlAllowlist,
+    fetchLimitBytes: config.fetchLimitBytes,
+    fetchTimeoutMs: config.fetchTimeoutMs,
+    childRssLimitMb: config.childRssLimitMb,
+    maxDecodedSeconds: config.maxDecodedSeconds,
+    fetchDeadlineMs: config.fetchDeadlineMs,
   };
 }
 

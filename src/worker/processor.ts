@@ -32,7 +32,8 @@ function retireIfGrown(): void {
 }
 
 export default async function analyzeJob(job: SandboxedJob<AnalyzeJobV1, AnalyzeResultV1>): Promise<AnalyzeResultV1> {
-  if (job.name !== ANALYZE_JOB_V1) throw new UnrecoverableError(encodeFailure('invalid_argument', `this worker does not know job name ${job.name}`));
+  if (job.name !== ANALYZE_JOB_V1)
+    throw new UnrecoverableError(encodeFailure('invalid_argument', `this worker does not know job name ${job.name}`));
   const started = performance.now();
   const storage = await openStorage(config.storageDir);
   const data = job.data;
@@ -48,7 +49,14 @@ export default async function analyzeJob(job: SandboxedJob<AnalyzeJobV1, Analyze
       fileName = data.source.fileName;
       knownSha256 = data.source.sha256;
     } else {
-      const fetched = await fetchSource(policy, storage, data.source.url, config.fetchLimitBytes, config.fetchTimeoutMs, config.fetchDeadlineMs);
+      const fetched = await fetchSource(
+        policy,
+        storage,
+        data.source.url,
+        config.fetchLimitBytes,
+        config.fetchTimeoutMs,
+        config.fetchDeadlineMs,
+      );
       fetchedKey = fetched.key;
       sourceKey = fetched.key;
       path = storage.pathOf(fetched.key);
@@ -63,7 +71,10 @@ export default async function analyzeJob(job: SandboxedJob<AnalyzeJobV1, Analyze
       ...(knownSha256 ? { knownSha256 } : {}),
       onProgress: (fraction) => {
         const percent = Math.floor(fraction * 100);
-        if (percent > lastPercent) { lastPercent = percent; void job.updateProgress(percent); }
+        if (percent > lastPercent) {
+          lastPercent = percent;
+          void job.updateProgress(percent);
+        }
       },
     });
     const report = evaluate(data.profile, doc);
@@ -71,18 +82,29 @@ export default async function analyzeJob(job: SandboxedJob<AnalyzeJobV1, Analyze
     // The fetched copy now stays until the retention sweep, like an upload, for listening excerpts.
     fetchedKey = null;
     return {
-      verdict: report.verdict, reportKey, analysisSeconds: (performance.now() - started) / 1000,
-      integratedLufs: report.summary.integratedLufs, truePeakDbtp: report.summary.truePeakDbtp, headline: report.headline, sourceKey,
+      verdict: report.verdict,
+      reportKey,
+      analysisSeconds: (performance.now() - started) / 1000,
+      integratedLufs: report.summary.integratedLufs,
+      truePeakDbtp: report.summary.truePeakDbtp,
+      headline: report.headline,
+      sourceKey,
     };
   } catch (thrown) {
     const error = toEarmarkError(thrown);
     const transient = isRetryable(error);
     // Decoder messages name the file by path: clients and logs get the client's file name instead.
-    const scrub = (text: string) => (path ? text.split(`"${path}"`).join(fileName).split(path).join(fileName).split(config.storageDir).join('storage') : text);
-    const details = Object.fromEntries(Object.entries(error.details).map(([key, value]) => [key, typeof value === 'string' ? scrub(value) : value]));
-    const reason = error.code === 'internal_error'
-      ? encodeFailure(error.code, 'the analysis failed unexpectedly')
-      : encodeFailure(error.code, scrub(error.message), details);
+    const scrub = (text: string) =>
+      path
+        ? text.split(`"${path}"`).join(fileName).split(path).join(fileName).split(config.storageDir).join('storage')
+        : text;
+    const details = Object.fromEntries(
+      Object.entries(error.details).map(([key, value]) => [key, typeof value === 'string' ? scrub(value) : value]),
+    );
+    const reason =
+      error.code === 'internal_error'
+        ? encodeFailure(error.code, 'the analysis failed unexpectedly')
+        : encodeFailure(error.code, scrub(error.message), details);
     if (!transient) throw new UnrecoverableError(reason);
     throw new Error(reason);
   } finally {

@@ -14,7 +14,16 @@ import type { Logger } from 'pino';
 import type { Config } from '../config/index.ts';
 import { isRetryable, toEarmarkError } from '../errors/index.ts';
 import { UrlPolicy } from '../net/url-guard.ts';
-import { ANALYSIS_QUEUE, ANALYZE_JOB_V1, DELIVER_WEBHOOK_V1, WEBHOOK_QUEUE, type AnalyzeJobV1, type AnalyzeResultV1, type DeliverWebhookV1, type JobEvent } from '../queue/contract.ts';
+import {
+  ANALYSIS_QUEUE,
+  ANALYZE_JOB_V1,
+  DELIVER_WEBHOOK_V1,
+  WEBHOOK_QUEUE,
+  type AnalyzeJobV1,
+  type AnalyzeResultV1,
+  type DeliverWebhookV1,
+  type JobEvent,
+} from '../queue/contract.ts';
 import { createRedis, waitReady } from '../queue/connection.ts';
 import { jobView, type JobView } from '../queue/job-view.ts';
 import { createAnalysisQueue, createWebhookQueue } from '../queue/queues.ts';
@@ -59,11 +68,19 @@ export function isFinalFailure(job: AnalysisJob, error: Error): boolean {
  * writes run in the parent after the child answers and before BullMQ moves the job.
  */
 class AnalysisWorker extends Worker<AnalyzeJobV1, AnalyzeResultV1> {
-  constructor(file: URL, opts: WorkerOptions, private readonly settle: Settlement) {
+  constructor(
+    file: URL,
+    opts: WorkerOptions,
+    private readonly settle: Settlement,
+  ) {
     super(ANALYSIS_QUEUE, file, opts);
   }
 
-  protected override async callProcessJob(job: AnalysisJob, token: string, signal?: AbortSignal): Promise<AnalyzeResultV1> {
+  protected override async callProcessJob(
+    job: AnalysisJob,
+    token: string,
+    signal?: AbortSignal,
+  ): Promise<AnalyzeResultV1> {
     const result = await super.callProcessJob(job, token, signal);
     // A throw here fails this attempt (retried): better than a completion without its effects.
     await this.settle.completed(job, result);
@@ -73,7 +90,13 @@ class AnalysisWorker extends Worker<AnalyzeJobV1, AnalyzeResultV1> {
 
   // Every failure passes here before moveToFailed, including a job failed for stalling too often
   // (BullMQ fails it on its next pick-up without calling the processor).
-  protected override async handleFailed(err: Error, job: AnalysisJob, token: string, fetchNextCallback?: () => boolean, span?: Span): Promise<AnalysisJob> {
+  protected override async handleFailed(
+    err: Error,
+    job: AnalysisJob,
+    token: string,
+    fetchNextCallback?: () => boolean,
+    span?: Span,
+  ): Promise<AnalysisJob> {
     if (!NOT_FAILURES.has(err.name) && isFinalFailure(job, err)) {
       // Best effort: if this throws, the `failed` listener retries it after the commit.
       await this.settle.failed(job, err).catch(() => undefined);
@@ -108,14 +131,26 @@ export async function startWorker(config: Config, log: Logger): Promise<WorkerRu
     if (!job.data.callbackUrl) return;
     const jobId = String(job.id);
     const deliveryId = deliveryIdOf(jobId, event);
-    const body = JSON.stringify({ event, deliveryId, job: { ...view, callback: { url: job.data.callbackUrl, deliveries: [] } } });
+    const body = JSON.stringify({
+      event,
+      deliveryId,
+      job: { ...view, callback: { url: job.data.callbackUrl, deliveries: [] } },
+    });
     // jobId = deliveryId: a re-run (or the listener's backstop) adding it again is dropped by BullMQ.
-    await webhookQueue.add(DELIVER_WEBHOOK_V1, { jobId, tenant: job.data.tenant, url: job.data.callbackUrl, event, deliveryId, body }, { jobId: deliveryId });
+    await webhookQueue.add(
+      DELIVER_WEBHOOK_V1,
+      { jobId, tenant: job.data.tenant, url: job.data.callbackUrl, event, deliveryId, body },
+      { jobId: deliveryId },
+    );
   }
 
   // The job as it will read once committed (moveToCompleted/moveToFailed set these and count the attempt).
   const asFinished = (job: AnalysisJob, fields: Partial<AnalysisJob>): AnalysisJob =>
-    Object.assign(Object.create(job) as AnalysisJob, { finishedOn: Date.now(), attemptsMade: job.attemptsMade + 1, ...fields });
+    Object.assign(Object.create(job) as AnalysisJob, {
+      finishedOn: Date.now(),
+      attemptsMade: job.attemptsMade + 1,
+      ...fields,
+    });
 
   const settlement: Settlement = {
     async completed(job, result) {
@@ -134,22 +169,33 @@ export async function startWorker(config: Config, log: Logger): Promise<WorkerRu
     },
   };
 
-  const childSettings: ChildSettings = { storageDir: config.storageDir, urlAllowlist: config.urlAllowlist, fetchLimitBytes: config.fetchLimitBytes, fetchTimeoutMs: config.fetchTimeoutMs,
-    fetchDeadlineMs: config.fetchDeadlineMs, childRssLimitMb: config.childRssLimitMb, maxDecodedSeconds: config.maxDecodedSeconds };
-  const analysis = new AnalysisWorker(PROCESSOR_FILE, {
-    connection: redis,
-    prefix: config.queuePrefix,
-    concurrency: config.workerConcurrency,
-    useWorkerThreads: false,
-    workerForkOptions: {
-      execArgv: [...process.execArgv, '--import', TSX_LOADER],
-      env: { ...process.env, [CHILD_SETTINGS_ENV]: JSON.stringify(childSettings) },
+  const childSettings: ChildSettings = {
+    storageDir: config.storageDir,
+    urlAllowlist: config.urlAllowlist,
+    fetchLimitBytes: config.fetchLimitBytes,
+    fetchTimeoutMs: config.fetchTimeoutMs,
+    fetchDeadlineMs: config.fetchDeadlineMs,
+    childRssLimitMb: config.childRssLimitMb,
+    maxDecodedSeconds: config.maxDecodedSeconds,
+  };
+  const analysis = new AnalysisWorker(
+    PROCESSOR_FILE,
+    {
+      connection: redis,
+      prefix: config.queuePrefix,
+      concurrency: config.workerConcurrency,
+      useWorkerThreads: false,
+      workerForkOptions: {
+        execArgv: [...process.execArgv, '--import', TSX_LOADER],
+        env: { ...process.env, [CHILD_SETTINGS_ENV]: JSON.stringify(childSettings) },
+      },
+      // A child that dies takes its job with it; the stall check hands such jobs to a live worker.
+      maxStalledCount: 2,
+      lockDuration: config.lockDurationMs,
+      stalledInterval: config.stalledIntervalMs,
     },
-    // A child that dies takes its job with it; the stall check hands such jobs to a live worker.
-    maxStalledCount: 2,
-    lockDuration: config.lockDurationMs,
-    stalledInterval: config.stalledIntervalMs,
-  }, settlement);
+    settlement,
+  );
   const active = new Map<string, AnalysisJob>();
   analysis.on('error', (error) => onError(error, 'analysis worker'));
   analysis.on('active', (job) => {
@@ -169,64 +215,97 @@ export async function startWorker(config: Config, log: Logger): Promise<WorkerRu
     killPoint('after-fail');
     void (async () => {
       const state = await job.getState();
-      log.warn({ jobId: job.id, reason: error.message, state }, state === 'failed' ? 'job failed' : 'job attempt failed, will retry');
+      log.warn(
+        { jobId: job.id, reason: error.message, state },
+        state === 'failed' ? 'job failed' : 'job attempt failed, will retry',
+      );
       if (state !== 'failed') return;
       // Backstop, idempotent: handleFailed above could not write (Redis refused); dropped as duplicates otherwise.
       const committed = await Job.fromId<AnalyzeJobV1, AnalyzeResultV1>(analysisQueue, String(job.id));
       if (!committed) return;
       await store.outcomes.record(String(job.id), 'failed', null);
       await enqueueWebhook(committed, 'job.failed', jobView(committed, 'failed', []));
-    })().catch((e: unknown) => log.error({ jobId: job.id, err: { message: toEarmarkError(e).message } }, 'after-failure step failed'));
+    })().catch((e: unknown) =>
+      log.error({ jobId: job.id, err: { message: toEarmarkError(e).message } }, 'after-failure step failed'),
+    );
   });
 
-  const webhooks = new Worker<DeliverWebhookV1>(WEBHOOK_QUEUE, async (job, token) => {
-    if (job.name !== DELIVER_WEBHOOK_V1) throw new UnrecoverableError(`unknown job name ${job.name}`);
-    const d = job.data;
-    // Added before the analysis outcome is committed: send only once it is, and never an outcome
-    // a re-run replaced (a crash before the commit re-runs the job, which may end otherwise).
-    const state = await analysisQueue.getJobState(d.jobId);
-    if (state !== (d.event === 'job.completed' ? 'completed' : 'failed')) {
-      if (state === 'completed' || state === 'failed' || state === 'unknown') {
-        log.info({ jobId: d.jobId, deliveryId: d.deliveryId, state }, 'webhook dropped: the job ended otherwise');
-        return;
+  const webhooks = new Worker<DeliverWebhookV1>(
+    WEBHOOK_QUEUE,
+    async (job, token) => {
+      if (job.name !== DELIVER_WEBHOOK_V1) throw new UnrecoverableError(`unknown job name ${job.name}`);
+      const d = job.data;
+      // Added before the analysis outcome is committed: send only once it is, and never an outcome
+      // a re-run replaced (a crash before the commit re-runs the job, which may end otherwise).
+      const state = await analysisQueue.getJobState(d.jobId);
+      if (state !== (d.event === 'job.completed' ? 'completed' : 'failed')) {
+        if (state === 'completed' || state === 'failed' || state === 'unknown') {
+          log.info({ jobId: d.jobId, deliveryId: d.deliveryId, state }, 'webhook dropped: the job ended otherwise');
+          return;
+        }
+        // Still active (committing, or stalled and awaiting its re-run): look again soon, without using an attempt.
+        const waits = Math.max(0, job.attemptsStarted - job.attemptsMade - 1);
+        await job.moveToDelayed(Date.now() + Math.min(2_000, 50 * 2 ** Math.min(waits, 6)), token);
+        throw new DelayedError();
       }
-      // Still active (committing, or stalled and awaiting its re-run): look again soon, without using an attempt.
-      const waits = Math.max(0, job.attemptsStarted - job.attemptsMade - 1);
-      await job.moveToDelayed(Date.now() + Math.min(2_000, 50 * 2 ** Math.min(waits, 6)), token);
-      throw new DelayedError();
-    }
-    const secret = config.webhookSecrets[d.tenant] ?? config.webhookDefaultSecret;
-    const attempt = job.attemptsMade + 1;
-    const record = (outcome: 'delivered' | 'retrying' | 'failed', statusCode: number | null, error: string | null) =>
-      store.deliveries.add(d.jobId, { deliveryId: d.deliveryId, event: d.event, attempt, at: new Date().toISOString(), statusCode, outcome, error });
-    if (!secret) {
-      await record('failed', null, 'no webhook secret is configured for this tenant');
-      throw new UnrecoverableError('no webhook secret');
-    }
-    try {
-      const { statusCode } = await deliver(policy, { url: d.url, secret, deliveryId: d.deliveryId, event: d.event, body: d.body, timeoutMs: config.webhookTimeoutMs });
-      await record('delivered', statusCode, null);
-      log.info({ jobId: d.jobId, deliveryId: d.deliveryId, attempt }, 'webhook delivered');
-    } catch (thrown) {
-      const error = toEarmarkError(thrown);
-      const final = !isRetryable(error) || attempt >= (job.opts.attempts ?? 1);
-      const statusCode = typeof error.details.statusCode === 'number' ? error.details.statusCode : null;
-      await record(final ? 'failed' : 'retrying', statusCode, error.message);
-      log.warn({ jobId: d.jobId, deliveryId: d.deliveryId, attempt, final }, 'webhook delivery failed');
-      if (final) throw new UnrecoverableError(error.message);
-      throw new Error(error.message);
-    }
-  }, {
-    connection: redis, prefix: config.queuePrefix, concurrency: 4,
-    // A delivery in flight on a killed worker is re-run after the same stall bounds as analysis.
-    lockDuration: config.lockDurationMs, stalledInterval: config.stalledIntervalMs,
-  });
+      const secret = config.webhookSecrets[d.tenant] ?? config.webhookDefaultSecret;
+      const attempt = job.attemptsMade + 1;
+      const record = (outcome: 'delivered' | 'retrying' | 'failed', statusCode: number | null, error: string | null) =>
+        store.deliveries.add(d.jobId, {
+          deliveryId: d.deliveryId,
+          event: d.event,
+          attempt,
+          at: new Date().toISOString(),
+          statusCode,
+          outcome,
+          error,
+        });
+      if (!secret) {
+        await record('failed', null, 'no webhook secret is configured for this tenant');
+        throw new UnrecoverableError('no webhook secret');
+      }
+      try {
+        const { statusCode } = await deliver(policy, {
+          url: d.url,
+          secret,
+          deliveryId: d.deliveryId,
+          event: d.event,
+          body: d.body,
+          timeoutMs: config.webhookTimeoutMs,
+        });
+        await record('delivered', statusCode, null);
+        log.info({ jobId: d.jobId, deliveryId: d.deliveryId, attempt }, 'webhook delivered');
+      } catch (thrown) {
+        const error = toEarmarkError(thrown);
+        const final = !isRetryable(error) || attempt >= (job.opts.attempts ?? 1);
+        const statusCode = typeof error.details.statusCode === 'number' ? error.details.statusCode : null;
+        await record(final ? 'failed' : 'retrying', statusCode, error.message);
+        log.warn({ jobId: d.jobId, deliveryId: d.deliveryId, attempt, final }, 'webhook delivery failed');
+        if (final) throw new UnrecoverableError(error.message);
+        throw new Error(error.message);
+      }
+    },
+    {
+      connection: redis,
+      prefix: config.queuePrefix,
+      concurrency: 4,
+      // A delivery in flight on a killed worker is re-run after the same stall bounds as analysis.
+      lockDuration: config.lockDurationMs,
+      stalledInterval: config.stalledIntervalMs,
+    },
+  );
   webhooks.on('error', (error) => onError(error, 'webhook worker'));
 
   const sweepMs = config.retentionHours * 3_600_000;
-  const sweeper = setInterval(() => {
-    storage.sweep(sweepMs).then((n) => n > 0 && log.info({ removed: n }, 'retention sweep'), () => log.warn('retention sweep failed'));
-  }, Math.min(sweepMs, 600_000));
+  const sweeper = setInterval(
+    () => {
+      storage.sweep(sweepMs).then(
+        (n) => n > 0 && log.info({ removed: n }, 'retention sweep'),
+        () => log.warn('retention sweep failed'),
+      );
+    },
+    Math.min(sweepMs, 600_000),
+  );
   sweeper.unref();
   log.info({ concurrency: config.workerConcurrency, jobName: ANALYZE_JOB_V1 }, 'worker ready');
 
@@ -236,14 +315,23 @@ export async function startWorker(config: Config, log: Logger): Promise<WorkerRu
       let timer: NodeJS.Timeout | undefined;
       const drained = await Promise.race([
         analysis.pause().then(() => true),
-        new Promise<boolean>((resolve) => { timer = setTimeout(() => resolve(false), config.shutdownTimeoutMs); }),
+        new Promise<boolean>((resolve) => {
+          timer = setTimeout(() => resolve(false), config.shutdownTimeoutMs);
+        }),
       ]);
       clearTimeout(timer);
       let handedBack = 0;
       if (!drained) {
         // Back to the wait list at once, so another worker takes them without waiting for a stall check.
         for (const job of active.values()) {
-          if (job.token && (await job.moveToWait(job.token).then(() => true, () => false))) handedBack += 1;
+          if (
+            job.token &&
+            (await job.moveToWait(job.token).then(
+              () => true,
+              () => false,
+            ))
+          )
+            handedBack += 1;
         }
         log.warn({ handedBack }, 'shutdown bound reached: active jobs handed back');
       }

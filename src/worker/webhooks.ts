@@ -18,7 +18,13 @@ export function sign(secret: string, timestampSeconds: number, body: string): st
 }
 
 /** Receiver side (used by the tests; the README shows the same recipe). */
-export function verify(secret: string, header: string, body: string, nowSeconds: number, toleranceSeconds = 300): boolean {
+export function verify(
+  secret: string,
+  header: string,
+  body: string,
+  nowSeconds: number,
+  toleranceSeconds = 300,
+): boolean {
   const parts = Object.fromEntries(header.split(',').map((p) => p.split('=') as [string, string]));
   const t = Number(parts.t);
   if (!Number.isFinite(t) || Math.abs(nowSeconds - t) > toleranceSeconds || !parts.v1) return false;
@@ -27,19 +33,38 @@ export function verify(secret: string, header: string, body: string, nowSeconds:
   return given.length === expected.length && timingSafeEqual(given, expected);
 }
 
-export interface DeliveryResult { statusCode: number | null }
+export interface DeliveryResult {
+  statusCode: number | null;
+}
 
-export async function deliver(policy: UrlPolicy, args: { url: string; secret: string; deliveryId: string; event: string; body: string; timeoutMs: number }): Promise<DeliveryResult> {
+export async function deliver(
+  policy: UrlPolicy,
+  args: { url: string; secret: string; deliveryId: string; event: string; body: string; timeoutMs: number },
+): Promise<DeliveryResult> {
   const url = policy.parse(args.url, 'callbackUrl');
   const signature = sign(args.secret, Math.floor(Date.now() / 1000), args.body);
   const response = await send(policy, {
-    url, field: 'callbackUrl', method: 'POST', timeoutMs: args.timeoutMs, body: args.body,
-    headers: { 'content-type': 'application/json', [SIGNATURE_HEADER]: signature, [DELIVERY_HEADER]: args.deliveryId, [EVENT_HEADER]: args.event },
-  }).catch((error: unknown) => { throw asWebhookFailure(error); });
+    url,
+    field: 'callbackUrl',
+    method: 'POST',
+    timeoutMs: args.timeoutMs,
+    body: args.body,
+    headers: {
+      'content-type': 'application/json',
+      [SIGNATURE_HEADER]: signature,
+      [DELIVERY_HEADER]: args.deliveryId,
+      [EVENT_HEADER]: args.event,
+    },
+  }).catch((error: unknown) => {
+    throw asWebhookFailure(error);
+  });
   response.resume();
   const statusCode = response.statusCode ?? 0;
   if (statusCode < 200 || statusCode >= 300) {
-    throw new EarmarkError('webhook_failed', `callbackUrl answered HTTP ${statusCode}`, { field: 'callbackUrl', statusCode });
+    throw new EarmarkError('webhook_failed', `callbackUrl answered HTTP ${statusCode}`, {
+      field: 'callbackUrl',
+      statusCode,
+    });
   }
   return { statusCode };
 }

@@ -29,31 +29,44 @@ const noise = () => 2 * random() - 1;
 const BLOCK = 65_536;
 const signals: Record<string, () => Float32Array[]> = {
   // Quiet noise, then bursts ending on block boundaries and at the very end, each louder.
-  lateRise: () => channelsOf(2 * BLOCK + 1_234, (c, i) => {
-    if (i >= BLOCK - 300 && i < BLOCK) return 0.3 * noise();
-    if (i >= 2 * BLOCK - 40 - c && i < 2 * BLOCK) return 0.6 * noise();
-    if (i >= 2 * BLOCK + 1_234 - 25) return (0.9 + 0.01 * c) * noise();
-    return 0.01 * noise();
-  }),
+  lateRise: () =>
+    channelsOf(2 * BLOCK + 1_234, (c, i) => {
+      if (i >= BLOCK - 300 && i < BLOCK) return 0.3 * noise();
+      if (i >= 2 * BLOCK - 40 - c && i < 2 * BLOCK) return 0.6 * noise();
+      if (i >= 2 * BLOCK + 1_234 - 25) return (0.9 + 0.01 * c) * noise();
+      return 0.01 * noise();
+    }),
   fullScaleSine: () => channelsOf(2 * RATE, (c, i) => Math.sin((2 * Math.PI * (997 + 10 * c) * i) / RATE)),
   crescendo: () => channelsOf(2 * RATE, (c, i) => (i / (2 * RATE)) ** (1 + c) * noise()),
   // Single-sample clicks, 0.3 % louder each, on (channel 0) and off the 64-frame grid.
   steppedClicks: () => channelsOf(5 * RATE, (c, i) => (i % RATE === 7 * c ? 0.5 * 1.003 ** Math.floor(i / RATE) : 0)),
   // A quiet tone sets the Slow and VU maxima; later clicks raise only the Fast one.
-  clicksOverTone: () => channelsOf(8 * RATE, (c, i) => (i < 3 * RATE
-    ? 0.0125 * Math.sin((2 * Math.PI * 997 * i) / RATE)
-    : i > 4 * RATE && i % RATE === 7 * c ? 0.9 * 1.001 ** Math.floor(i / RATE) : 0)),
+  clicksOverTone: () =>
+    channelsOf(8 * RATE, (c, i) =>
+      i < 3 * RATE
+        ? 0.0125 * Math.sin((2 * Math.PI * 997 * i) / RATE)
+        : i > 4 * RATE && i % RATE === 7 * c
+          ? 0.9 * 1.001 ** Math.floor(i / RATE)
+          : 0,
+    ),
   tinyThenSilence: () => channelsOf(1_200_000, (c, i) => (i < 1_000 + 100 * c ? 1e-38 * noise() : 0)),
 };
 
 let dir = '';
-beforeAll(async () => { dir = await mkdtemp(join(tmpdir(), 'earmark-ballistics-')); });
-afterAll(async () => { await rm(dir, { recursive: true, force: true }); });
+beforeAll(async () => {
+  dir = await mkdtemp(join(tmpdir(), 'earmark-ballistics-'));
+});
+afterAll(async () => {
+  await rm(dir, { recursive: true, force: true });
+});
 
 async function decodedSamples(path: string): Promise<Float32Array[]> {
   const decoded = await openAudioFile(path);
   const out = Array.from({ length: decoded.format.channels }, (): number[] => []);
-  for await (const block of decoded.blocks) block.channelData.forEach((x, c) => { for (let i = 0; i < block.frames; i++) out[c].push(x[i]); });
+  for await (const block of decoded.blocks)
+    block.channelData.forEach((x, c) => {
+      for (let i = 0; i < block.frames; i++) out[c].push(x[i]);
+    });
   return out.map((x) => Float32Array.from(x));
 }
 
@@ -69,7 +82,10 @@ describe('time-weighted levels in the document equal the per-sample reference', 
           for (const key of ['maxFastDbfs', 'maxSlowDbfs', 'maxVuDbfs'] as const) {
             const [actual, want] = [channel[key], expected[c][key]];
             if (actual === null || want === null) expect(actual, `${key} ${c}`).toBe(want);
-            else expect(Math.abs(actual - want), `${key} ${c}: ${actual} against ${want}`).toBeLessThanOrEqual(TOLERANCE_DB);
+            else
+              expect(Math.abs(actual - want), `${key} ${c}: ${actual} against ${want}`).toBeLessThanOrEqual(
+                TOLERANCE_DB,
+              );
           }
         });
       }

@@ -50,14 +50,20 @@ describe('TimeWeightedLevelMeter', () => {
   });
 
   it('reads short tone bursts low by 10 log10(1 - e^(-T/tau)): 200 ms -1.0 dB, 2 ms -18.0 dB on Fast (IEC 61672-1:2013 Table 3 toneburst response, from memory)', () => {
-    for (const [seconds, expectedDb] of [[0.2, -1.0], [0.002, -18.0]] as const) {
+    for (const [seconds, expectedDb] of [
+      [0.2, -1.0],
+      [0.002, -18.0],
+    ] as const) {
       const meter = new TimeWeightedLevelMeter(mono);
       const burst = sine(Math.round(seconds * fs), 1, 4000);
-      pushAll(meter, [burst, ].map((b) => {
-        const x = new Float32Array(fs);
-        x.set(b, 1000);
-        return x;
-      }));
+      pushAll(
+        meter,
+        [burst].map((b) => {
+          const x = new Float32Array(fs);
+          x.set(b, 1000);
+          return x;
+        }),
+      );
       const steadyDbfs = -3.0103;
       expect((meter.result().channels[0].maxFastDbfs ?? 0) - steadyDbfs).toBeCloseTo(expectedDb, 1);
     }

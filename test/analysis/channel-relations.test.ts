@@ -7,7 +7,11 @@ import {
 } from '../../src/analysis/channel-relations.ts';
 
 const fs = 8000;
-const info = (channels: number): StreamInfo => ({ sampleRate: fs, channels, channelLabels: defaultChannelLabels(channels) });
+const info = (channels: number): StreamInfo => ({
+  sampleRate: fs,
+  channels,
+  channelLabels: defaultChannelLabels(channels),
+});
 
 function measure(
   streamInfo: StreamInfo,
@@ -29,7 +33,7 @@ function noise(frames: number, seed: number, amplitude = 0.3): Float32Array {
   const x = new Float32Array(frames);
   for (let i = 0; i < frames; i++) {
     state = (state * 1_103_515_245 + 12_345) >>> 0;
-    x[i] = amplitude * (state / 2 ** 32 * 2 - 1);
+    x[i] = amplitude * ((state / 2 ** 32) * 2 - 1);
   }
   return x;
 }
@@ -42,7 +46,9 @@ describe('ChannelRelationMeter', () => {
     const frames = 3 * fs;
     const r = measure(info(3), [noise(frames, 1), noise(frames, 2), new Float32Array(frames)]);
     expect(r.deadChannels).toEqual([2]);
-    expect(r.events.filter((e) => e.kind === 'dead_channel')).toMatchObject([{ channel: 2, startFrame: 0, endFrame: frames }]);
+    expect(r.events.filter((e) => e.kind === 'dead_channel')).toMatchObject([
+      { channel: 2, startFrame: 0, endFrame: frames },
+    ]);
     const withDead = r.pairs.filter((p) => p.otherChannel === 2);
     expect(withDead.every((p) => p.correlation === null && !p.identical && !p.inverted)).toBe(true);
   });
@@ -52,7 +58,10 @@ describe('ChannelRelationMeter', () => {
     const a = noise(frames, 3);
     const r = measure(info(3), [a, a.slice(), negate(a)]);
     // Inverted pairs are antiphase in every window as well.
-    expect(kinds(r).filter(([k]) => k === 'phase_problem')).toEqual([['phase_problem', 0, 2], ['phase_problem', 1, 2]]);
+    expect(kinds(r).filter(([k]) => k === 'phase_problem')).toEqual([
+      ['phase_problem', 0, 2],
+      ['phase_problem', 1, 2],
+    ]);
     expect(kinds(r).filter(([k]) => k !== 'phase_problem')).toEqual([
       ['duplicate_channel', 1, 0],
       ['inverted_channel', 2, 0],
@@ -99,7 +108,14 @@ describe('ChannelRelationMeter', () => {
     const r = measure(info(2), [left, right]);
     const phase = r.events.filter((e) => e.kind === 'phase_problem');
     expect(phase).toHaveLength(1);
-    expect(phase[0]).toMatchObject({ channel: 0, otherChannel: 1, startFrame: 6 * fs, endFrame: 12 * fs, count: 2, startSeconds: 6 });
+    expect(phase[0]).toMatchObject({
+      channel: 0,
+      otherChannel: 1,
+      startFrame: 6 * fs,
+      endFrame: 12 * fs,
+      count: 2,
+      startSeconds: 6,
+    });
     expect(phase[0].peakValue).toBeCloseTo(-1, 6);
     expect(r.pairs[0].inverted).toBe(false);
     expect(r.pairs[0].phaseProblemWindows).toBe(2);

@@ -14,19 +14,32 @@ const fs = 48_000;
 const T = 0.001;
 const CUTS = [[65_536], [4_097, 1, 7, 19_999], [1]];
 
-const info = (channels: number): StreamInfo => ({ sampleRate: fs, channels, channelLabels: defaultChannelLabels(channels) });
+const info = (channels: number): StreamInfo => ({
+  sampleRate: fs,
+  channels,
+  channelLabels: defaultChannelLabels(channels),
+});
 const at = (seconds: number) => Math.round(seconds * fs);
 
 type Make = new (info: StreamInfo, options?: DropoutOptions) => Meter<DropoutResult>;
 
-function measure(channels: Float32Array[], options?: DropoutOptions, sizes = [65_536], Make: Make = DropoutMeter): DropoutResult {
+function measure(
+  channels: Float32Array[],
+  options?: DropoutOptions,
+  sizes = [65_536],
+  Make: Make = DropoutMeter,
+): DropoutResult {
   const meter = new Make(info(channels.length), options);
   for (const block of cut(channels, sizes)) meter.push(block);
   return meter.result();
 }
 
 /** As the runner pushes it: with the block envelope attached (the meter then skips quiet chunks inside runs). */
-function measureWithEnvelope(channels: Float32Array[], options: DropoutOptions | undefined, sizes: number[]): DropoutResult {
+function measureWithEnvelope(
+  channels: Float32Array[],
+  options: DropoutOptions | undefined,
+  sizes: number[],
+): DropoutResult {
   const meter = new DropoutMeter(info(channels.length), options);
   const envelopes = new EnvelopeBuilder();
   for (const block of cut(channels, sizes)) meter.push({ ...block, envelope: envelopes.build(block) });
@@ -69,7 +82,8 @@ function expectSoundingAround(x: Float32Array, start: number, end: number): void
 function speech(seconds: number, seed: number): Float32Array {
   const random = seededRandom(seed);
   const x = new Float32Array(at(seconds));
-  let lp = 0, lp2 = 0;
+  let lp = 0,
+    lp2 = 0;
   for (let i = 0; i < x.length; i++) x[i] = 1.8e-4 * (2 * random() - 1); // room floor, peaks -75 dBFS
   let t = 0.2;
   while (t < seconds - 0.5) {
@@ -101,7 +115,10 @@ describe('DropoutMeter finds losses inside programme', () => {
     expect(spans(r)).toEqual([[0, 48_000, 72_000]]);
     expect(r.events[0]).toMatchObject({ kind: 'dropout', startSeconds: 1, endSeconds: 1.5 });
     expect(r.events[0].peakValue).toBeUndefined(); // digital zero has no level
-    expect(r.channels).toEqual([{ channel: 0, dropouts: 1, droppedSeconds: 0.5 }, { channel: 1, dropouts: 0, droppedSeconds: 0 }]);
+    expect(r.channels).toEqual([
+      { channel: 0, dropouts: 1, droppedSeconds: 0.5 },
+      { channel: 1, dropouts: 0, droppedSeconds: 0 },
+    ]);
     expect(r.all).toEqual({ dropouts: 0, droppedSeconds: 0 });
     expect(r.minDurationSeconds).toBe(0.001);
   });
@@ -155,7 +172,10 @@ describe('DropoutMeter finds losses inside programme', () => {
     right.fill(0, at(1), at(1.1));
     const r = measureEveryCut([left, right]);
     // The left run is reported because the right channel sounds again inside it.
-    expect(spans(r)).toEqual([[null, at(1), at(1.1)], [0, at(1), at(1.3)]]);
+    expect(spans(r)).toEqual([
+      [null, at(1), at(1.1)],
+      [0, at(1), at(1.3)],
+    ]);
   });
 
   it('orders events by start, then channel, though a later one finishes first; the cap keeps that order', () => {
@@ -166,12 +186,22 @@ describe('DropoutMeter finds losses inside programme', () => {
     centre.fill(0, at(2.5), at(2.52)); // same start, finishes first, listed after channel 1
     right.fill(0, at(3), at(3.01));
     const r = measureEveryCut([left, right, centre], { maxEvents: 4 });
-    expect(spans(r)).toEqual([[0, at(1), at(2)], [1, at(1.2), at(1.25)], [1, at(2.5), at(2.55)], [2, at(2.5), at(2.52)]]);
+    expect(spans(r)).toEqual([
+      [0, at(1), at(2)],
+      [1, at(1.2), at(1.25)],
+      [1, at(2.5), at(2.55)],
+      [2, at(2.5), at(2.52)],
+    ]);
     expect(r.eventsTotal).toBe(5);
     expect(r.eventsTruncated).toBe(true);
     expect(r.channels.map((c) => c.dropouts)).toEqual([1, 3, 1]);
     // Stereo: while the left is out, a loss in the right leaves every channel silent: one all-channel event.
-    expect(spans(measure([left, right]))).toEqual([[0, at(1), at(2)], [null, at(1.2), at(1.25)], [1, at(2.5), at(2.55)], [1, at(3), at(3.01)]]);
+    expect(spans(measure([left, right]))).toEqual([
+      [0, at(1), at(2)],
+      [null, at(1.2), at(1.25)],
+      [1, at(2.5), at(2.55)],
+      [1, at(3), at(3.01)],
+    ]);
   });
 
   it('a cut softened by a 2 ms fade is a dropout; a 20 ms fade into the same gap is not', () => {
@@ -196,7 +226,8 @@ describe('DropoutMeter finds losses inside programme', () => {
 
 describe('DropoutMeter windows, to the sample', () => {
   /** Alternating +/-level: every sample has |x| = level exactly. */
-  const square = (frames: number, level: number) => Float32Array.from({ length: frames }, (_, i) => (i % 2 ? -level : level));
+  const square = (frames: number, level: number) =>
+    Float32Array.from({ length: frames }, (_, i) => (i % 2 ? -level : level));
   const s = 24_000;
   const e = 26_400;
   /** Mono at -50 dBFS (sounding, but less than 20 dB over -60 dBFS), zero over [s, e), a -26 dBFS sample before and after. */
@@ -241,8 +272,14 @@ describe('DropoutMeter windows, to the sample', () => {
       return spans(measureEveryCut([left, right]));
     };
     expect(pair(47, 47)).toEqual([[null, s, e]]);
-    expect(pair(48, 0)).toEqual([[0, s - 48, e], [null, s, e]]);
-    expect(pair(0, 48)).toEqual([[null, s, e], [0, s, e + 48]]);
+    expect(pair(48, 0)).toEqual([
+      [0, s - 48, e],
+      [null, s, e],
+    ]);
+    expect(pair(0, 48)).toEqual([
+      [null, s, e],
+      [0, s, e + 48],
+    ]);
   });
 });
 
@@ -254,12 +291,18 @@ describe('DropoutMeter leaves natural silence alone', () => {
     expect(measure([x, x.slice()]).eventsTotal).toBe(0);
     // The same talker on the centre of a 5.1 mix with quiet music in left and right.
     const [l, r] = programme(2, 30, 12, -40);
-    expect(measure([l, r, x, new Float32Array(x.length), new Float32Array(x.length), new Float32Array(x.length)]).eventsTotal).toBe(0);
+    expect(
+      measure([l, r, x, new Float32Array(x.length), new Float32Array(x.length), new Float32Array(x.length)])
+        .eventsTotal,
+    ).toBe(0);
   });
 
   it('a fade-out to digital silence at the tail, a hard cut at the tail, digital silence at the head', () => {
     const faded = programme(2, 5, 13);
-    for (const x of faded) { ramp(x, at(3), at(4), 1, 0); x.fill(0, at(4)); }
+    for (const x of faded) {
+      ramp(x, at(3), at(4), 1, 0);
+      x.fill(0, at(4));
+    }
     expect(measure(faded).eventsTotal).toBe(0);
     const cutOff = programme(2, 5, 14);
     for (const x of cutOff) x.fill(0, at(4));
@@ -274,10 +317,16 @@ describe('DropoutMeter leaves natural silence alone', () => {
   it('a 5.1 mix whose surrounds and LFE rest at zero for long stretches with gradual fades; a real loss in the centre is still found', () => {
     const seconds = 40;
     const [l, r, c, lfe, ls, rs] = programme(6, seconds, 16);
-    for (let i = 0; i < lfe.length; i++) lfe[i] = 0.3 * Math.sin((2 * Math.PI * 45 * i) / fs) * (0.6 + 0.4 * Math.sin((2 * Math.PI * i) / fs / 3));
+    for (let i = 0; i < lfe.length; i++)
+      lfe[i] = 0.3 * Math.sin((2 * Math.PI * 45 * i) / fs) * (0.6 + 0.4 * Math.sin((2 * Math.PI * i) / fs / 3));
     // Surrounds: play, fade out over 0.3-2 s, rest at zero, fade back in.
     const rests: [Float32Array, number, number, number][] = [
-      [ls, 3, 15, 0.3], [rs, 3.5, 20, 2], [ls, 22, 30, 1], [rs, 25, 36, 0.5], [lfe, 5, 12, 0.4], [lfe, 18, 33, 1.5],
+      [ls, 3, 15, 0.3],
+      [rs, 3.5, 20, 2],
+      [ls, 22, 30, 1],
+      [rs, 25, 36, 0.5],
+      [lfe, 5, 12, 0.4],
+      [lfe, 18, 33, 1.5],
     ];
     for (const [x, from, to, fade] of rests) {
       ramp(x, at(from - fade), at(from), 1, 0);
@@ -299,7 +348,10 @@ describe('DropoutMeter leaves natural silence alone', () => {
     }
     // Precondition: zero runs of at least 1 ms between +/-1 LSB samples inside the fade.
     let longestZeros = 0;
-    for (let i = at(1), run = 0; i < at(2.99); i++) { run = left[i] === 0 ? run + 1 : 0; longestZeros = Math.max(longestZeros, run); }
+    for (let i = at(1), run = 0; i < at(2.99); i++) {
+      run = left[i] === 0 ? run + 1 : 0;
+      longestZeros = Math.max(longestZeros, run);
+    }
     expect(longestZeros).toBeGreaterThanOrEqual(48);
     expect(measure([left, right]).eventsTotal).toBe(0);
     // Even with the threshold below one LSB, so that the zero runs themselves are the runs.
@@ -320,7 +372,11 @@ function varied(channels: number): Float32Array[] {
   last.fill(0, at(2), at(2.1));
   xs[0].fill(0, at(2.6), at(2.6) + 48);
   xs[0].fill(0, at(2.7), at(2.7) + 43);
-  for (const x of xs) { ramp(x, at(2.98), at(3), 1, 0); x.fill(0, at(3), at(3.1)); ramp(x, at(3.1), at(3.12), 0, 1); }
+  for (const x of xs) {
+    ramp(x, at(2.98), at(3), 1, 0);
+    x.fill(0, at(3), at(3.1));
+    ramp(x, at(3.1), at(3.12), 0, 1);
+  }
   ramp(xs[0], at(3.5) - 96, at(3.5), 1, 0);
   xs[0].fill(0, at(3.5), at(3.6));
   for (let i = at(3.8); i < at(3.9); i++) last[i] = Math.round(last[i] * 16) / 1e4; // coarse, near-threshold steps
@@ -361,7 +417,9 @@ describe('DropoutMeter equals the straightforward reference', () => {
 
   it('refuses bad options', () => {
     expect(() => new DropoutMeter(info(2), { minDurationSeconds: -1 })).toThrow(/minDurationSeconds/);
-    expect(() => new DropoutMeter(info(2), { minDurationSeconds: 2, maxDurationSeconds: 1 })).toThrow(/maxDurationSeconds/);
+    expect(() => new DropoutMeter(info(2), { minDurationSeconds: 2, maxDurationSeconds: 1 })).toThrow(
+      /maxDurationSeconds/,
+    );
     expect(() => new DropoutMeter(info(2), { thresholdDbfs: Number.NaN })).toThrow(/finite/);
   });
 });

@@ -4,7 +4,8 @@ import { ENVELOPE_CHUNK_FRAMES, EnvelopeBuilder } from '../../src/analysis/envel
 import { seededRandom } from '../../src/selftest/signals.ts';
 
 function plain(x: Float32Array): { max: number[]; min: number[] } {
-  const max: number[] = [], min: number[] = [];
+  const max: number[] = [],
+    min: number[] = [];
   for (let s = 0; s < x.length; s += ENVELOPE_CHUNK_FRAMES) {
     const chunk = Array.from(x.subarray(s, s + ENVELOPE_CHUNK_FRAMES), Math.abs);
     max.push(Math.max(...chunk));
@@ -22,7 +23,12 @@ describe('EnvelopeBuilder', () => {
 
   function check(frames: number, random: () => number): void {
     const x = Float32Array.from({ length: frames }, () => (random() - 0.5) * 2);
-    x[5] = -1; x[40] = 1; x[41] = -0; x[70] = 1e-40; x[frames - 1] = -0.75; x[100] = 0;
+    x[5] = -1;
+    x[40] = 1;
+    x[41] = -0;
+    x[70] = 1e-40;
+    x[frames - 1] = -0.75;
+    x[100] = 0;
     const y = Float32Array.from(x, (v) => -v * 0.5);
     const envelope = new EnvelopeBuilder().build({ channelData: [x, y], frames });
     expect(envelope.chunks).toBe(Math.ceil(frames / 32));

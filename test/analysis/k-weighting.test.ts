@@ -19,7 +19,8 @@ describe('K-weighting derived for any sample rate', () => {
   });
 
   it('keeps the 48 kHz frequency response at 44.1 and 96 kHz (BS.1770-5 Annex 1: "same frequency response")', () => {
-    const response = (rate: number, f: number) => 20 * Math.log10(biquadGain(shelfCoefficients(rate), f, rate) * biquadGain(highpassCoefficients(rate), f, rate));
+    const response = (rate: number, f: number) =>
+      20 * Math.log10(biquadGain(shelfCoefficients(rate), f, rate) * biquadGain(highpassCoefficients(rate), f, rate));
     for (const f of [20, 100, 997, 2000, 8000, 15000]) {
       expect(Math.abs(response(44100, f) - response(48000, f))).toBeLessThan(0.05);
       expect(Math.abs(response(96000, f) - response(48000, f))).toBeLessThan(0.05);

@@ -3,11 +3,20 @@
 import { readdirSync, readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
 import { highpassCoefficients, shelfCoefficients } from '../../src/analysis/k-weighting.ts';
-import { KERNEL_FRAMES, KWeightingKernel, kWeightingLoop, type KWeightingLoop } from '../../src/analysis/kernels/k-weighting.ts';
+import {
+  KERNEL_FRAMES,
+  KWeightingKernel,
+  kWeightingLoop,
+  type KWeightingLoop,
+} from '../../src/analysis/kernels/k-weighting.ts';
 import { seededRandom } from '../../src/selftest/signals.ts';
 import { KERNEL_DIRS, kernelModuleText } from '../../bin/build-kernels.js';
 import { convertS24Stereo } from '../../src/decode/kernels/s24-stereo.ts';
-import { BALLISTICS_CHUNK_FRAMES, BallisticsKernel, type BallisticsPoles } from '../../src/analysis/kernels/ballistics.ts';
+import {
+  BALLISTICS_CHUNK_FRAMES,
+  BallisticsKernel,
+  type BallisticsPoles,
+} from '../../src/analysis/kernels/ballistics.ts';
 import { RECONSTRUCTION_KERNEL_FRAMES } from '../../src/analysis/kernels/reconstructed-peak.ts';
 import { ReconstructedPeakMeter } from '../../src/analysis/reconstructed-peak.ts';
 import { ReconstructedPeakMeter as PreKernelMeter } from '../helpers/reference-meters/reconstructed-peak-baseline.ts';
@@ -15,14 +24,21 @@ import { KERNEL_MEMORY } from '../../src/analysis/kernels/memory.ts';
 
 /** The JavaScript loop the ballistics kernel replaced: one chunk's four sums, two frames a step. */
 function scalarChunkSums(p: BallisticsPoles, x: Float32Array, from: number): number[] {
-  let hf = 0, hs = 0, hv = 0, gv = 0;
+  let hf = 0,
+    hs = 0,
+    hv = 0,
+    gv = 0;
   for (let j = from; j < from + BALLISTICS_CHUNK_FRAMES; j += 2) {
-    const x0 = x[j], x1 = x[j + 1];
-    const q0 = x0 * x0, q1 = x1 * x1;
-    const r0 = Math.abs(x0), r1 = Math.abs(x1);
+    const x0 = x[j],
+      x1 = x[j + 1];
+    const q0 = x0 * x0,
+      q1 = x1 * x1;
+    const r0 = Math.abs(x0),
+      r1 = Math.abs(x1);
     hf = p.fast2 * hf + (p.fast * q0 + q1);
     hs = p.slow2 * hs + (p.slow * q0 + q1);
-    const ar0 = p.vu * r0, q = ar0 + r1;
+    const ar0 = p.vu * r0,
+      q = ar0 + r1;
     gv = p.vu2 * gv + (p.twoVu2 * hv + (ar0 + q));
     hv = p.vu2 * hv + q;
   }
@@ -31,7 +47,12 @@ function scalarChunkSums(p: BallisticsPoles, x: Float32Array, from: number): num
 import { join } from 'node:path';
 
 /** The scalar loop the kernel replaced (one channel per loop, adding into power in channel order). */
-function scalarKWeighting(loop: KWeightingLoop, weights: number[], channels: Float32Array[], pieces: number[]): Float64Array {
+function scalarKWeighting(
+  loop: KWeightingLoop,
+  weights: number[],
+  channels: Float32Array[],
+  pieces: number[],
+): Float64Array {
   const frames = channels[0].length;
   const power = new Float64Array(frames);
   const state = weights.map(() => ({ s1a: 0, s1b: 0, s2a: 0, s2b: 0 }));
@@ -43,7 +64,9 @@ function scalarKWeighting(loop: KWeightingLoop, weights: number[], channels: Flo
       const g = weights[c] * b0Squared;
       let { s1a, s1b, s2a, s2b } = state[c];
       for (let n = from; n < to; n++) {
-        const xn = x[n], sa = s1a, ta = s2a;
+        const xn = x[n],
+          sa = s1a,
+          ta = s2a;
         const y1 = xn + sa;
         s1a = c1 * xn + s1b - a1 * sa;
         s1b = c2 * xn - a2 * sa;
@@ -59,7 +82,12 @@ function scalarKWeighting(loop: KWeightingLoop, weights: number[], channels: Flo
   return power;
 }
 
-function kernelKWeighting(loop: KWeightingLoop, weights: number[], channels: Float32Array[], pieces: number[]): Float64Array {
+function kernelKWeighting(
+  loop: KWeightingLoop,
+  weights: number[],
+  channels: Float32Array[],
+  pieces: number[],
+): Float64Array {
   const kernel = new KWeightingKernel(loop, weights, 144_000);
   const frames = channels[0].length;
   const power = new Float64Array(frames);
@@ -74,18 +102,29 @@ function kernelKWeighting(loop: KWeightingLoop, weights: number[], channels: Flo
 
 describe('WebAssembly kernels', () => {
   it('are committed as `npm run kernels` writes them from their .wat sources', async () => {
-    const sources = KERNEL_DIRS.flatMap((dir) => readdirSync(dir).filter((f) => f.endsWith('.wat')).map((f) => join(dir, f)));
+    const sources = KERNEL_DIRS.flatMap((dir) =>
+      readdirSync(dir)
+        .filter((f) => f.endsWith('.wat'))
+        .map((f) => join(dir, f)),
+    );
     expect(sources.map((p) => p.split('/').slice(-3).join('/')).sort()).toEqual([
-      'analysis/kernels/ballistics.wat', 'analysis/kernels/envelope.wat', 'analysis/kernels/k-weighting.wat', 'analysis/kernels/pair-sums.wat',
-      'analysis/kernels/reconstructed-peak.wat', 'analysis/kernels/sums.wat',
+      'analysis/kernels/ballistics.wat',
+      'analysis/kernels/envelope.wat',
+      'analysis/kernels/k-weighting.wat',
+      'analysis/kernels/pair-sums.wat',
+      'analysis/kernels/reconstructed-peak.wat',
+      'analysis/kernels/sums.wat',
       'decode/kernels/s24-stereo.wat',
     ]);
-    for (const wat of sources) expect(readFileSync(wat.replace(/\.wat$/, '.wasm.ts'), 'utf8')).toBe(await kernelModuleText(wat));
+    for (const wat of sources)
+      expect(readFileSync(wat.replace(/\.wat$/, '.wasm.ts'), 'utf8')).toBe(await kernelModuleText(wat));
   });
 
-  it('lay out their memory as the loaders\' table says (the .wat comment names each region, the code addresses it)', () => {
+  it("lay out their memory as the loaders' table says (the .wat comment names each region, the code addresses it)", () => {
     const dir = KERNEL_DIRS.find((d) => d.endsWith(join('analysis', 'kernels')))!;
-    const wats = readdirSync(dir).filter((f) => f.endsWith('.wat')).map((f) => f.replace(/\.wat$/, ''));
+    const wats = readdirSync(dir)
+      .filter((f) => f.endsWith('.wat'))
+      .map((f) => f.replace(/\.wat$/, ''));
     expect(wats.sort()).toEqual(Object.keys(KERNEL_MEMORY).sort());
     for (const [name, regions] of Object.entries(KERNEL_MEMORY)) {
       const lines = readFileSync(join(dir, `${name}.wat`), 'utf8').split('\n');
@@ -93,8 +132,14 @@ describe('WebAssembly kernels', () => {
       const memoryAt = comment.findIndex((l) => l.includes('Memory (bytes'));
       // The comment's regions: NAME offset pairs from the Memory line up to the blank comment line after it.
       const end = comment.findIndex((l, i) => i > memoryAt && l.trim() === ';;');
-      const commented = Object.fromEntries([...comment.slice(memoryAt, end < 0 ? undefined : end).join(' ')
-        .matchAll(/\b([A-Z][A-Z0-9_]*) +(\d+)\b/g)].map(([, region, offset]) => [region, Number(offset)]));
+      const commented = Object.fromEntries(
+        [
+          ...comment
+            .slice(memoryAt, end < 0 ? undefined : end)
+            .join(' ')
+            .matchAll(/\b([A-Z][A-Z0-9_]*) +(\d+)\b/g),
+        ].map(([, region, offset]) => [region, Number(offset)]),
+      );
       expect(commented, name).toEqual(regions);
       const code = lines.filter((l) => !l.trimStart().startsWith(';;')).join('\n');
       for (const [region, offset] of Object.entries(regions)) {
@@ -109,12 +154,15 @@ describe('WebAssembly kernels', () => {
     const bytes = Uint8Array.from({ length: 6 * frames + 16 }, () => Math.floor(random() * 256));
     // Full-scale extremes and zero in the first frames: 0x7fffff, -0x800000, 0, -1.
     bytes.set([0xff, 0xff, 0x7f, 0x00, 0x00, 0x80, 0, 0, 0, 0xff, 0xff, 0xff], 0);
-    const left = new Float32Array(frames + 3), right = new Float32Array(frames + 3);
+    const left = new Float32Array(frames + 3),
+      right = new Float32Array(frames + 3);
     const done = convertS24Stereo(bytes, frames, left, right, 3);
     expect(done).toBe(frames - (frames % 4));
-    const sample = (i: number) => (((bytes[3 * i + 2] << 24) | (bytes[3 * i + 1] << 16) | (bytes[3 * i] << 8)) >> 8) / 8_388_608;
+    const sample = (i: number) =>
+      (((bytes[3 * i + 2] << 24) | (bytes[3 * i + 1] << 16) | (bytes[3 * i] << 8)) >> 8) / 8_388_608;
     for (let f = 0; f < done; f++) {
-      if (left[3 + f] !== Math.fround(sample(2 * f)) || right[3 + f] !== Math.fround(sample(2 * f + 1))) throw new Error(`frame ${f} differs`);
+      if (left[3 + f] !== Math.fround(sample(2 * f)) || right[3 + f] !== Math.fround(sample(2 * f + 1)))
+        throw new Error(`frame ${f} differs`);
     }
     expect([left[3], right[3], left[4], right[4]]).toEqual([8_388_607 / 8_388_608, -1, 0, -1 / 8_388_608]);
   });
@@ -127,7 +175,9 @@ describe('WebAssembly kernels', () => {
     const random = seededRandom(11);
     const chunks = 256;
     const a = Float32Array.from({ length: chunks * 64 }, (_, i) => (i < 64 ? 1 : i < 128 ? 0 : random() * 2 - 1));
-    const b = Float32Array.from({ length: chunks * 64 }, (_, i) => (i < 64 ? -1 : Math.fround((random() * 2 - 1) * 1e-4)));
+    const b = Float32Array.from({ length: chunks * 64 }, (_, i) =>
+      i < 64 ? -1 : Math.fround((random() * 2 - 1) * 1e-4),
+    );
     for (const fs of [44_100, 48_000]) {
       const p = poles(fs);
       const kernel = new BallisticsKernel(p);
@@ -149,10 +199,18 @@ describe('WebAssembly kernels', () => {
       // BS.1770-5 Table 3: 1.0 for front channels, 1.41 for the surrounds.
       for (const weights of [[1], [1, 1], [1, 1, 1, 1.41, 1.41]]) {
         const frames = 3 * KERNEL_FRAMES + 1234;
-        const channels = weights.map((_, c) => Float32Array.from({ length: frames }, (_v, i) => (i > 500 * c ? 2 * random() - 1 : 0) * (c + 1) / weights.length));
-        channels[0][7] = 1; channels[0][8] = -1; // full-scale steps
+        const channels = weights.map((_, c) =>
+          Float32Array.from(
+            { length: frames },
+            (_v, i) => ((i > 500 * c ? 2 * random() - 1 : 0) * (c + 1)) / weights.length,
+          ),
+        );
+        channels[0][7] = 1;
+        channels[0][8] = -1; // full-scale steps
         for (const pieces of [[KERNEL_FRAMES], [1, 4097, 333, KERNEL_FRAMES]]) {
-          expect(Array.from(kernelKWeighting(loop, weights, channels, pieces))).toEqual(Array.from(scalarKWeighting(loop, weights, channels, pieces)));
+          expect(Array.from(kernelKWeighting(loop, weights, channels, pieces))).toEqual(
+            Array.from(scalarKWeighting(loop, weights, channels, pieces)),
+          );
         }
       }
     }
@@ -165,10 +223,13 @@ describe('WebAssembly kernels', () => {
     expect(power.every((p) => p === 0)).toBe(true);
   });
 
-  it('reconstructed peak: every frame\'s reading equals the JavaScript loop it replaced bit for bit (across kernel pieces, 3 channels, extremes)', () => {
+  it("reconstructed peak: every frame's reading equals the JavaScript loop it replaced bit for bit (across kernel pieces, 3 channels, extremes)", () => {
     const random = seededRandom(31);
     const frames = 2 * RECONSTRUCTION_KERNEL_FRAMES + 777;
-    const smooth = (scale: number) => { let y = 0; return Float32Array.from({ length: frames }, () => (y = 0.95 * y + scale * (random() - 0.5))); };
+    const smooth = (scale: number) => {
+      let y = 0;
+      return Float32Array.from({ length: frames }, () => (y = 0.95 * y + scale * (random() - 0.5)));
+    };
     const channels = [smooth(0.6), Float32Array.from({ length: frames }, () => random() * 2 - 1), smooth(1e-30)];
     channels[1].set([1, -1, 1, -1, 0, 1, 1, 1, -1], 5000); // full-scale steps
     channels[2].fill(0, 100, 3000); // digital silence inside a channel
@@ -182,7 +243,8 @@ describe('WebAssembly kernels', () => {
       for (let from = 0, p = 0; from < frames; p++) {
         const to = Math.min(frames, from + pieces[p % pieces.length]);
         const block = { channelData: channels.map((x) => x.subarray(from, to)), frames: to - from };
-        kernel.push(block); loop.push(block);
+        kernel.push(block);
+        loop.push(block);
         from = to;
       }
       const [a, b] = [kernel.result(), loop.result()];

@@ -31,7 +31,7 @@ function signal(frames: number, f: (i: number) => number): Float32Array {
 const sine997 = (amplitude: number) => signal(fs, (i) => amplitude * Math.sin((2 * Math.PI * 997 * i) / fs));
 const period = 480; // 100 Hz at 48 kHz
 const triangle = signal(fs, (i) => 1 - 4 * Math.abs(((i + period / 4) % period) / period - 0.5));
-const square = (a: number) => signal(fs, (i) => ((i % period) < period / 2 ? a : -a));
+const square = (a: number) => signal(fs, (i) => (i % period < period / 2 ? a : -a));
 const sawtooth = signal(fs, (i) => -1 + (2 * (i % period)) / period);
 
 describe('LevelMeter', () => {

@@ -11,8 +11,15 @@ function measure(labels: ChannelLabel[], blocks: Iterable<PcmBlock>, sampleRate 
 
 const fullScale997 = (channels: number, loudChannel: number, seconds = 10, sampleRate = 48000) =>
   toneBlocks({
-    sampleRate, channels,
-    segments: [{ seconds, frequencyHz: 997, peakDbfs: Array.from({ length: channels }, (_, c) => (c === loudChannel ? 0 : null)) } as ToneSegment],
+    sampleRate,
+    channels,
+    segments: [
+      {
+        seconds,
+        frequencyHz: 997,
+        peakDbfs: Array.from({ length: channels }, (_, c) => (c === loudChannel ? 0 : null)),
+      } as ToneSegment,
+    ],
   });
 
 describe('LoudnessMeter (ITU-R BS.1770-5)', () => {
@@ -20,7 +27,9 @@ describe('LoudnessMeter (ITU-R BS.1770-5)', () => {
     expect(measure(['M'], fullScale997(1, 0)).integratedLufs).toBeCloseTo(-3.01, 1);
     expect(Math.abs(measure(['M'], fullScale997(1, 0)).integratedLufs! + 3.01)).toBeLessThan(0.05);
     expect(Math.abs(measure(['L', 'R'], fullScale997(2, 0)).integratedLufs! + 3.01)).toBeLessThan(0.05);
-    expect(Math.abs(measure(['L', 'R', 'C', 'LFE', 'Ls', 'Rs'], fullScale997(6, 2)).integratedLufs! + 3.01)).toBeLessThan(0.05);
+    expect(
+      Math.abs(measure(['L', 'R', 'C', 'LFE', 'Ls', 'Rs'], fullScale997(6, 2)).integratedLufs! + 3.01),
+    ).toBeLessThan(0.05);
   });
 
   it('holds -3.01 LKFS at 44.1, 88.2, 96 and 192 kHz too (BS.1770-5 Annex 1: same response at every rate)', () => {
@@ -37,13 +46,19 @@ describe('LoudnessMeter (ITU-R BS.1770-5)', () => {
   });
 
   it('gives null, never -Infinity, for digital silence and for programme below the absolute gate (BS.1770-5 eq. (6))', () => {
-    const silent = measure(['L', 'R'], toneBlocks({ sampleRate: 48000, channels: 2, segments: [{ seconds: 5, peakDbfs: null }] }));
+    const silent = measure(
+      ['L', 'R'],
+      toneBlocks({ sampleRate: 48000, channels: 2, segments: [{ seconds: 5, peakDbfs: null }] }),
+    );
     expect(silent.integratedLufs).toBeNull();
     expect(silent.loudnessRangeLu).toBeNull();
     expect(silent.maxMomentaryLufs).toBeNull();
     expect(silent.momentaryLufs.length).toBe(50);
     expect(silent.momentaryLufs.every((v) => Number.isNaN(v))).toBe(true);
-    const quiet = measure(['L', 'R'], toneBlocks({ sampleRate: 48000, channels: 2, segments: [{ seconds: 5, peakDbfs: -75 }] }));
+    const quiet = measure(
+      ['L', 'R'],
+      toneBlocks({ sampleRate: 48000, channels: 2, segments: [{ seconds: 5, peakDbfs: -75 }] }),
+    );
     expect(quiet.integratedLufs).toBeNull();
     expect(quiet.maxMomentaryLufs).toBeCloseTo(-75, 0);
     expect(JSON.stringify(quiet)).not.toContain('Infinity');
@@ -51,17 +66,25 @@ describe('LoudnessMeter (ITU-R BS.1770-5)', () => {
 
   it('leaves the series empty (NaN, null in the document) once the windows hold only the silence after a tone, never a value at or below -70 LUFS (BS.1770-5 eq. (6))', () => {
     // After sound stops the K filter's output decays through ever smaller powers (it read -3157.70 LUFS).
-    const r = measure(['L', 'R'], toneBlocks({ sampleRate: 48000, channels: 2, segments: [
-      { seconds: 5, frequencyHz: 997, peakDbfs: [-20, -20] },
-      { seconds: 10, peakDbfs: null },
-    ] }));
+    const r = measure(
+      ['L', 'R'],
+      toneBlocks({
+        sampleRate: 48000,
+        channels: 2,
+        segments: [
+          { seconds: 5, frequencyHz: 997, peakDbfs: [-20, -20] },
+          { seconds: 10, peakDbfs: null },
+        ],
+      }),
+    );
     expect(r.momentaryLufs.length).toBe(150);
     // Value k ends at (k + 1) / 10 s. The 5.0-5.4 s window (k = 53) still holds the filter's ring-down
     // of the tone (-62.7 LUFS, a real reading); from 5.1-5.5 s on it read -250.8 falling to -3168.7.
     // Short-term windows lie in the silence from k = 79 (5.0-8.0 s, which read -71.4).
     expect([...r.momentaryLufs.subarray(54)].every(Number.isNaN)).toBe(true);
     expect([...r.shortTermLufs.subarray(79)].every(Number.isNaN)).toBe(true);
-    for (const series of [r.momentaryLufs, r.shortTermLufs]) for (const v of series) if (!Number.isNaN(v)) expect(v).toBeGreaterThan(-70);
+    for (const series of [r.momentaryLufs, r.shortTermLufs])
+      for (const v of series) if (!Number.isNaN(v)) expect(v).toBeGreaterThan(-70);
     // Two channels of a -20 dBFS sine: -23.01 LKFS each, summed +3.01 dB (BS.1770-5 eqs. (2), (4)).
     expect(r.momentaryLufs[45]).toBeCloseTo(-20, 1);
     // The gated reading is what it was before series points were gated (-20.13: the fade's blocks
@@ -70,14 +93,20 @@ describe('LoudnessMeter (ITU-R BS.1770-5)', () => {
   });
 
   it('uses only complete 400 ms blocks: a 300 ms file has no integrated or momentary value (BS.1770-5 eq. (3))', () => {
-    const short = measure(['M'], toneBlocks({ sampleRate: 48000, channels: 1, segments: [{ seconds: 0.3, peakDbfs: -20 }] }));
+    const short = measure(
+      ['M'],
+      toneBlocks({ sampleRate: 48000, channels: 1, segments: [{ seconds: 0.3, peakDbfs: -20 }] }),
+    );
     expect(short.integratedLufs).toBeNull();
     expect(short.maxMomentaryLufs).toBeNull();
     expect(short.gatingBlocks).toBe(0);
   });
 
   it('steps gating blocks every 100 ms with 75 % overlap (BS.1770-5 eq. (3)): 10 s gives 97 blocks', () => {
-    const result = measure(['M'], toneBlocks({ sampleRate: 48000, channels: 1, segments: [{ seconds: 10, peakDbfs: -20 }] }));
+    const result = measure(
+      ['M'],
+      toneBlocks({ sampleRate: 48000, channels: 1, segments: [{ seconds: 10, peakDbfs: -20 }] }),
+    );
     expect(result.gatingBlocks).toBe(97);
     expect(result.momentaryLufs).toHaveLength(100);
     expect(result.shortTermLufs).toHaveLength(100);
@@ -102,15 +131,38 @@ describe('LoudnessMeter (ITU-R BS.1770-5)', () => {
 
   it('finds the loudest momentary window to the sample, not on the 100 ms grid (EBU Tech 3341 case 13 rationale)', () => {
     // 400 ms of -23 dBFS stereo starting 50 ms off the grid, a 100 ms grid would read -23.58.
-    const result = measure(['L', 'R'], toneBlocks({ sampleRate: 48000, channels: 2, segments: [{ seconds: 0.05, peakDbfs: null }, { seconds: 0.4, peakDbfs: -23 }, { seconds: 1, peakDbfs: null }] }));
+    const result = measure(
+      ['L', 'R'],
+      toneBlocks({
+        sampleRate: 48000,
+        channels: 2,
+        segments: [
+          { seconds: 0.05, peakDbfs: null },
+          { seconds: 0.4, peakDbfs: -23 },
+          { seconds: 1, peakDbfs: null },
+        ],
+      }),
+    );
     expect(result.maxMomentaryLufs!).toBeCloseTo(-23, 1);
     expect(result.maxMomentaryAtSeconds!).toBeCloseTo(0.45, 3);
   });
 
   it('reports stretches of short-term loudness above a limit as events (EBU Tech 3343 short-form max short-term rule)', () => {
     // 10 s at -30 dBFS, 5 s at -12 dBFS, 10 s at -30 dBFS stereo: 1 kHz, so LUFS ~ dBFS.
-    const meter = new LoudnessMeter({ sampleRate: 48000, channels: 2, channelLabels: ['L', 'R'] }, { shortTermLimitLufs: -18 });
-    for (const block of toneBlocks({ sampleRate: 48000, channels: 2, segments: [{ seconds: 10, peakDbfs: -30 }, { seconds: 5, peakDbfs: -12 }, { seconds: 10, peakDbfs: -30 }] })) meter.push(block);
+    const meter = new LoudnessMeter(
+      { sampleRate: 48000, channels: 2, channelLabels: ['L', 'R'] },
+      { shortTermLimitLufs: -18 },
+    );
+    for (const block of toneBlocks({
+      sampleRate: 48000,
+      channels: 2,
+      segments: [
+        { seconds: 10, peakDbfs: -30 },
+        { seconds: 5, peakDbfs: -12 },
+        { seconds: 10, peakDbfs: -30 },
+      ],
+    }))
+      meter.push(block);
     const { events } = meter.result();
     expect(events).toHaveLength(1);
     expect(events[0].kind).toBe('loud_short_term');
@@ -138,7 +190,9 @@ describe('kthSmallestAbove (the LRA percentiles without a sort or a copy)', () =
     for (const [input, gate] of inputs) {
       const above = input.filter((v) => v > gate).sort();
       const largest = above[above.length - 1];
-      for (const k of [0, 1, Math.floor(above.length / 10), Math.floor(above.length * 0.95), above.length - 1].filter((i) => i < above.length)) {
+      for (const k of [0, 1, Math.floor(above.length / 10), Math.floor(above.length * 0.95), above.length - 1].filter(
+        (i) => i < above.length,
+      )) {
         expect(kthSmallestAbove(input, gate, largest, k)).toBe(above[k]);
       }
     }

@@ -4,24 +4,42 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import {
-  gridPhaseKernels, HALF_SAMPLE_TAPS, RECONSTRUCTION_GAIN_BOUND, REFINEMENT_CAP, ReconstructedPeakMeter,
-  type ReconstructedPeakOptions, type ReconstructedPeakResult,
+  gridPhaseKernels,
+  HALF_SAMPLE_TAPS,
+  RECONSTRUCTION_GAIN_BOUND,
+  REFINEMENT_CAP,
+  ReconstructedPeakMeter,
+  type ReconstructedPeakOptions,
+  type ReconstructedPeakResult,
 } from '../../src/analysis/reconstructed-peak.ts';
 import { TruePeakMeter } from '../../src/analysis/true-peak.ts';
 import { complianceCases } from '../../src/selftest/cases.ts';
 import { programmeBlocks, seededRandom } from '../../src/selftest/signals.ts';
 import { writeWavFile } from '../../src/encode/wav.ts';
-import { bandLimitedPeak, frameReadings, ReconstructedPeakMeter as PlainMeter } from '../helpers/reference-meters/reconstructed-peak.ts';
+import {
+  bandLimitedPeak,
+  frameReadings,
+  ReconstructedPeakMeter as PlainMeter,
+} from '../helpers/reference-meters/reconstructed-peak.ts';
 import { ReconstructedPeakMeter as PreKernelMeter } from '../helpers/reference-meters/reconstructed-peak-baseline.ts';
 import { BLOCK_CUTS, cut, expectClose, testSignals } from '../helpers/test-signals.ts';
 import { hasTool } from '../helpers/tools.ts';
 
 const RATES = [32000, 44100, 48000, 88200, 96000, 176400, 192000];
-const info = (channels: number, sampleRate = 48000) => ({ sampleRate, channels, channelLabels: Array.from({ length: channels }, () => 'unknown' as const) });
+const info = (channels: number, sampleRate = 48000) => ({
+  sampleRate,
+  channels,
+  channelLabels: Array.from({ length: channels }, () => 'unknown' as const),
+});
 const db = (v: number) => 20 * Math.log10(v);
 const samplePeak = (x: Float32Array) => x.reduce((m, v) => Math.max(m, Math.abs(v)), 0);
 
-function measure(channels: Float32Array[], sampleRate = 48000, options: ReconstructedPeakOptions = {}, sizes = [1 << 20]): ReconstructedPeakResult {
+function measure(
+  channels: Float32Array[],
+  sampleRate = 48000,
+  options: ReconstructedPeakOptions = {},
+  sizes = [1 << 20],
+): ReconstructedPeakResult {
   const meter = new ReconstructedPeakMeter(info(channels.length, sampleRate), options);
   for (const block of cut(channels, sizes)) meter.push(block);
   return meter.result();
@@ -29,7 +47,14 @@ function measure(channels: Float32Array[], sampleRate = 48000, options: Reconstr
 const peakOf = (x: Float32Array, sampleRate = 48000) => measure([x], sampleRate).peakDbtp!;
 
 /** A sine with raised-cosine fades (no onset transient adds to its peak). */
-function sine(sampleRate: number, hz: number, amplitude: number, phase: number, frames = 4096, fade = 1000): Float32Array {
+function sine(
+  sampleRate: number,
+  hz: number,
+  amplitude: number,
+  phase: number,
+  frames = 4096,
+  fade = 1000,
+): Float32Array {
   return Float32Array.from({ length: frames }, (_, n) => {
     const edge = Math.min(n, frames - 1 - n);
     const gain = edge < fade ? 0.5 - 0.5 * Math.cos((Math.PI * edge) / fade) : 1;
@@ -44,9 +69,11 @@ function sine(sampleRate: number, hz: number, amplitude: number, phase: number, 
  */
 function limitedMaster(frames: number, seed: number): Float32Array {
   const random = seededRandom(seed);
-  const half = 127, band = 0.42;
+  const half = 127,
+    band = 0.42;
   const lowpass = Float64Array.from({ length: 2 * half + 1 }, (_, i) => {
-    const t = i - half, r = t / (half + 1);
+    const t = i - half,
+      r = t / (half + 1);
     const sinc = t === 0 ? 1 : Math.sin(2 * Math.PI * band * t) / (2 * Math.PI * band * t);
     return 2 * band * sinc * (0.42 + 0.5 * Math.cos(Math.PI * r) + 0.08 * Math.cos(2 * Math.PI * r)); // Blackman
   });
@@ -58,7 +85,8 @@ function limitedMaster(frames: number, seed: number): Float32Array {
     return (state = 0.9 * state + y);
   });
   const gain = 10 ** (-3 / 20) / Math.sqrt(noise.reduce((s, v) => s + v * v, 0) / frames);
-  const ceiling = 10 ** (-1 / 20), hold = 32;
+  const ceiling = 10 ** (-1 / 20),
+    hold = 32;
   const need = noise.map((v) => Math.min(1, ceiling / Math.abs(v * gain)));
   const span = (n: number, f: (k: number) => number, reduce: (a: number, b: number) => number, start: number) => {
     let acc = start;
@@ -66,7 +94,19 @@ function limitedMaster(frames: number, seed: number): Float32Array {
     return acc;
   };
   const held = need.map((_, n) => span(n, (k) => need[k], Math.min, 1));
-  return Float32Array.from(noise, (v, n) => v * gain * (span(n, (k) => held[k], (a, b) => a + b, 0) / (2 * hold + 1)));
+  return Float32Array.from(
+    noise,
+    (v, n) =>
+      v *
+      gain *
+      (span(
+        n,
+        (k) => held[k],
+        (a, b) => a + b,
+        0,
+      ) /
+        (2 * hold + 1)),
+  );
 }
 
 describe('ReconstructedPeakMeter: design and error budget', () => {
@@ -83,8 +123,13 @@ describe('ReconstructedPeakMeter: design and error budget', () => {
     let worst = 0;
     gridPhaseKernels().forEach((kernel, q) => {
       for (let f = 0; f <= 0.45; f += 0.0005) {
-        let re = 0, im = 0;
-        kernel.forEach((h, i) => { const w = 2 * Math.PI * f * (i - 17 - q / 8); re += h * Math.cos(w); im += h * Math.sin(w); });
+        let re = 0,
+          im = 0;
+        kernel.forEach((h, i) => {
+          const w = 2 * Math.PI * f * (i - 17 - q / 8);
+          re += h * Math.cos(w);
+          im += h * Math.sin(w);
+        });
         worst = Math.max(worst, Math.hypot(re - 1, im));
       }
     });
@@ -106,7 +151,7 @@ describe('ReconstructedPeakMeter: design and error budget', () => {
 });
 
 describe('ReconstructedPeakMeter: accuracy', () => {
-  it('reads a sine at its amplitude within 0.05 dB at every rate, 997 Hz to 0.45 fs (handbook: a sampled sine\'s continuous peak is its amplitude)', () => {
+  it("reads a sine at its amplitude within 0.05 dB at every rate, 997 Hz to 0.45 fs (handbook: a sampled sine's continuous peak is its amplitude)", () => {
     for (const rate of RATES) {
       for (const hz of [997, rate / 8, rate / 6, rate / 4, 0.4 * rate, 0.45 * rate]) {
         for (let p = 0; p < 6; p++) {
@@ -133,7 +178,8 @@ describe('ReconstructedPeakMeter: accuracy', () => {
       cases.push([`${rate} fs/8 67.5deg`, sine(rate, rate / 8, 0.9, (3 * Math.PI) / 8, 2048, 500), rate]);
       cases.push([`${rate} 0.4 fs`, sine(rate, 0.4 * rate, 0.9, 0.7, 2048, 500), rate]);
     }
-    for (const seed of [1, 2, 3]) cases.push([`limited master ${seed}`, limitedMaster(4096, seed), [44100, 48000, 96000][seed - 1]]);
+    for (const seed of [1, 2, 3])
+      cases.push([`limited master ${seed}`, limitedMaster(4096, seed), [44100, 48000, 96000][seed - 1]]);
     // Intersample over: fs/4 at 45 degrees, samples at +-0.997, peak 1.41 (EBU Tech 3341 case 19).
     cases.push(['fs/4 1.41 FS', sine(48000, 12000, 1.41, Math.PI / 4, 2048, 500), 48000]);
     for (const [name, x, rate] of cases) {
@@ -160,28 +206,40 @@ describe('ReconstructedPeakMeter: accuracy', () => {
     }
   });
 
-  it.skipIf(!hasTool('sox'))('agrees with sox upsampling 16x (sox reference, within 0.05 dB plus its 16x grid loss)', async () => {
-    const dir = mkdtempSync(join(tmpdir(), 'earmark-reconstructed-'));
-    try {
-      for (const [name, x, rate] of [
-        ['limited master', limitedMaster(8192, 4), 48000], ['0.4 fs sine', sine(44100, 0.4 * 44100, 0.9, 0.3), 44100], ['fs/6 sine', sine(32000, 32000 / 6, 0.9, 0), 32000],
-      ] as const) {
-        const input = join(dir, 'in.wav'), output = join(dir, 'out.wav');
-        // A quarter of the level (exact) keeps sox's fixed-point path clear of full scale.
-        await writeWavFile(input, { sampleRate: rate, channels: 1, bitsPerSample: 32, float: true }, [[x.map((v) => v / 4)]]);
-        expect(spawnSync('sox', [input, '-e', 'floating-point', '-b', '32', output, 'rate', '-v', '-L', String(16 * rate)]).status).toBe(0);
-        const stat = spawnSync('sox', [output, '-n', 'stat'], { encoding: 'utf8' }).stderr;
-        const amplitude = (label: string) => Math.abs(Number(new RegExp(`${label} amplitude:\\s+(\\S+)`).exec(stat)![1]));
-        const soxDbtp = db(4 * Math.max(amplitude('Maximum'), amplitude('Minimum')));
-        const gridLoss = -db(Math.cos(Math.PI * 0.45 / 16)); // 0.034 dB at most, BS.1770-5 Annex 2 Attachment 1
-        const difference = peakOf(x, rate) - soxDbtp;
-        expect(difference, name).toBeGreaterThan(-0.05);
-        expect(difference, name).toBeLessThan(0.05 + gridLoss);
+  it.skipIf(!hasTool('sox'))(
+    'agrees with sox upsampling 16x (sox reference, within 0.05 dB plus its 16x grid loss)',
+    async () => {
+      const dir = mkdtempSync(join(tmpdir(), 'earmark-reconstructed-'));
+      try {
+        for (const [name, x, rate] of [
+          ['limited master', limitedMaster(8192, 4), 48000],
+          ['0.4 fs sine', sine(44100, 0.4 * 44100, 0.9, 0.3), 44100],
+          ['fs/6 sine', sine(32000, 32000 / 6, 0.9, 0), 32000],
+        ] as const) {
+          const input = join(dir, 'in.wav'),
+            output = join(dir, 'out.wav');
+          // A quarter of the level (exact) keeps sox's fixed-point path clear of full scale.
+          await writeWavFile(input, { sampleRate: rate, channels: 1, bitsPerSample: 32, float: true }, [
+            [x.map((v) => v / 4)],
+          ]);
+          expect(
+            spawnSync('sox', [input, '-e', 'floating-point', '-b', '32', output, 'rate', '-v', '-L', String(16 * rate)])
+              .status,
+          ).toBe(0);
+          const stat = spawnSync('sox', [output, '-n', 'stat'], { encoding: 'utf8' }).stderr;
+          const amplitude = (label: string) =>
+            Math.abs(Number(new RegExp(`${label} amplitude:\\s+(\\S+)`).exec(stat)![1]));
+          const soxDbtp = db(4 * Math.max(amplitude('Maximum'), amplitude('Minimum')));
+          const gridLoss = -db(Math.cos((Math.PI * 0.45) / 16)); // 0.034 dB at most, BS.1770-5 Annex 2 Attachment 1
+          const difference = peakOf(x, rate) - soxDbtp;
+          expect(difference, name).toBeGreaterThan(-0.05);
+          expect(difference, name).toBeLessThan(0.05 + gridLoss);
+        }
+      } finally {
+        rmSync(dir, { recursive: true, force: true });
       }
-    } finally {
-      rmSync(dir, { recursive: true, force: true });
-    }
-  });
+    },
+  );
 });
 
 describe('ReconstructedPeakMeter: behaviour', () => {
@@ -219,7 +277,12 @@ describe('ReconstructedPeakMeter: behaviour', () => {
       const x = Float32Array.from({ length: frames }, () => random() - 0.5);
       const plain = new PlainMeter(info(1), { overCeilingDbtp: -12 });
       plain.push({ channelData: [x], frames });
-      expectClose({ ...measure([x], 48000, { overCeilingDbtp: -12 }, [3]), prunedFrames: 0 }, plain.result(), 1e-9, `${frames} frames`);
+      expectClose(
+        { ...measure([x], 48000, { overCeilingDbtp: -12 }, [3]), prunedFrames: 0 },
+        plain.result(),
+        1e-9,
+        `${frames} frames`,
+      );
     }
   });
 
@@ -227,9 +290,13 @@ describe('ReconstructedPeakMeter: behaviour', () => {
     const signals = testSignals(2, 2);
     for (const [name, channels] of Object.entries(signals)) {
       // Everything but the pruning count (chunks follow the blocks), to the bit.
-      const read = (sizes?: number[]) => ({ ...measure(channels, 48000, { overCeilingDbtp: -3 }, sizes), prunedFrames: 0 });
+      const read = (sizes?: number[]) => ({
+        ...measure(channels, 48000, { overCeilingDbtp: -3 }, sizes),
+        prunedFrames: 0,
+      });
       const whole = read();
-      for (const sizes of [...BLOCK_CUTS, [1], [31, 0, 33, 2]]) expect(read(sizes), `${name} ${sizes.join(',')}`).toEqual(whole);
+      for (const sizes of [...BLOCK_CUTS, [1], [31, 0, 33, 2]])
+        expect(read(sizes), `${name} ${sizes.join(',')}`).toEqual(whole);
     }
   });
 
@@ -246,11 +313,15 @@ describe('ReconstructedPeakMeter: behaviour', () => {
 
   it('reports overs above the ceiling as reconstructed_over events merged within overMergeSeconds, counting raw detections', () => {
     // Three 10 ms bursts of an fs/4 sine at 1.2 FS (+1.58 dBTP, samples at 0.85): at 0.1 s, 0.13 s and 0.4 s.
-    const frames = 24000, x = new Float32Array(frames);
+    const frames = 24000,
+      x = new Float32Array(frames);
     for (const start of [4800, 6240, 19200]) x.set(sine(48000, 12000, 1.2, Math.PI / 4, 480, 100), start);
     const overFrames = frameReadings(x).filter((v) => db(v) > -1).length;
     const merged = measure([x], 48000, { overCeilingDbtp: -1 });
-    expect(merged.events.map((e) => [e.kind, e.channel])).toEqual([['reconstructed_over', 0], ['reconstructed_over', 0]]);
+    expect(merged.events.map((e) => [e.kind, e.channel])).toEqual([
+      ['reconstructed_over', 0],
+      ['reconstructed_over', 0],
+    ]);
     expect(merged.events[0].startSeconds).toBeGreaterThan(0.1);
     expect(merged.events[0].endSeconds).toBeLessThan(0.141);
     expect(merged.events[1].startSeconds).toBeGreaterThan(0.4);
@@ -268,10 +339,20 @@ describe('ReconstructedPeakMeter: behaviour', () => {
 
 describe('ReconstructedPeakMeter: the WebAssembly kernel changes no reading', () => {
   /** Both meters over the same blocks: every field but the pruning count, to the bit. */
-  function expectSameAsPreKernel(channels: Float32Array[], sampleRate: number, options: ReconstructedPeakOptions, sizes: number[], name: string): ReconstructedPeakResult {
+  function expectSameAsPreKernel(
+    channels: Float32Array[],
+    sampleRate: number,
+    options: ReconstructedPeakOptions,
+    sizes: number[],
+    name: string,
+  ): ReconstructedPeakResult {
     const stream = info(channels.length, sampleRate);
-    const optimised = new ReconstructedPeakMeter(stream, options), before = new PreKernelMeter(stream, options);
-    for (const block of cut(channels, sizes)) { optimised.push(block); before.push(block); }
+    const optimised = new ReconstructedPeakMeter(stream, options),
+      before = new PreKernelMeter(stream, options);
+    for (const block of cut(channels, sizes)) {
+      optimised.push(block);
+      before.push(block);
+    }
     const result = optimised.result();
     expect({ ...result, prunedFrames: 0 }, name).toEqual({ ...before.result(), prunedFrames: 0 });
     return result;
@@ -281,20 +362,42 @@ describe('ReconstructedPeakMeter: the WebAssembly kernel changes no reading', ()
     const random = seededRandom(17);
     const ceiling = 10 ** (-1 / 20);
     // The benchmark's brick-wall master: programme +12 dB into a hard limit at -1 dBFS.
-    const hot = [...programmeBlocks({ sampleRate: 48000, channels: 2, seconds: 3, seed: 7, levelDbfs: -16, blockFrames: 1 << 20 })][0]
-      .channelData.map((x) => x.map((v) => Math.max(-ceiling, Math.min(ceiling, v * 4))));
+    const hot = [
+      ...programmeBlocks({ sampleRate: 48000, channels: 2, seconds: 3, seed: 7, levelDbfs: -16, blockFrames: 1 << 20 }),
+    ][0].channelData.map((x) => x.map((v) => Math.max(-ceiling, Math.min(ceiling, v * 4))));
     const signals: Record<string, [Float32Array[], number]> = {
       ...Object.fromEntries(Object.entries(testSignals(2, 3)).map(([name, channels]) => [name, [channels, 48000]])),
       hot: [hot, 48000],
       'limited 44.1k mono': [[limitedMaster(40000, 5)], 44100],
-      'limited 96k, three channels': [[limitedMaster(30000, 6), limitedMaster(30000, 7).map((v) => -v / 3), new Float32Array(30000)], 96000],
-      'full-band noise': [[Float32Array.from({ length: 20000 }, () => random() * 2 - 1), Float32Array.from({ length: 20000 }, () => (random() - 0.5) * 1e-3)], 48000],
-      'fs/2 and fs/4 at 1.41': [[Float32Array.from({ length: 5000 }, (_, n) => (n % 2 ? 0.9 : -0.9)), sine(48000, 12000, 1.41, Math.PI / 4, 5000, 100)], 48000],
+      'limited 96k, three channels': [
+        [limitedMaster(30000, 6), limitedMaster(30000, 7).map((v) => -v / 3), new Float32Array(30000)],
+        96000,
+      ],
+      'full-band noise': [
+        [
+          Float32Array.from({ length: 20000 }, () => random() * 2 - 1),
+          Float32Array.from({ length: 20000 }, () => (random() - 0.5) * 1e-3),
+        ],
+        48000,
+      ],
+      'fs/2 and fs/4 at 1.41': [
+        [
+          Float32Array.from({ length: 5000 }, (_, n) => (n % 2 ? 0.9 : -0.9)),
+          sine(48000, 12000, 1.41, Math.PI / 4, 5000, 100),
+        ],
+        48000,
+      ],
     };
     for (const [name, [channels, rate]] of Object.entries(signals)) {
       for (const overCeilingDbtp of [-1, -6, 0.5]) {
         for (const sizes of [[1 << 20], [16384], [16385, 31, 1, 40000], [1000], [1, 3, 35, 36, 37, 500]]) {
-          expectSameAsPreKernel(channels, rate, { overCeilingDbtp, maxEvents: 1e6 }, sizes, `${name} ${overCeilingDbtp} dBTP ${sizes.join(',')}`);
+          expectSameAsPreKernel(
+            channels,
+            rate,
+            { overCeilingDbtp, maxEvents: 1e6 },
+            sizes,
+            `${name} ${overCeilingDbtp} dBTP ${sizes.join(',')}`,
+          );
         }
       }
     }
@@ -317,16 +420,21 @@ describe('ReconstructedPeakMeter: the WebAssembly kernel changes no reading', ()
     }
   });
 
-  it('every frame\'s reading equals the pre-kernel one to the bit (a ceiling far below the signal makes each frame an event of its own)', () => {
+  it("every frame's reading equals the pre-kernel one to the bit (a ceiling far below the signal makes each frame an event of its own)", () => {
     const random = seededRandom(23);
     const x = Float32Array.from(limitedMaster(20000, 8), (v, n) => (n > 15000 ? (random() - 0.5) * 2 : v));
     // A negative merge window keeps every over apart; nothing can be pruned below this ceiling.
     const options = { overCeilingDbtp: -200, overMergeSeconds: -1, maxEvents: 1e6 };
     for (const sizes of [[1 << 20], [16383, 7]]) {
-      const result = expectSameAsPreKernel([x, x.map((v) => v / 8)], 48000, options, sizes, `per frame ${sizes.join(',')}`);
+      const result = expectSameAsPreKernel(
+        [x, x.map((v) => v / 8)],
+        48000,
+        options,
+        sizes,
+        `per frame ${sizes.join(',')}`,
+      );
       expect(result.eventsTotal).toBe(2 * 20000);
       expect(result.prunedFrames).toBe(0);
     }
   });
 });
-

@@ -13,8 +13,12 @@ import { referenceTruePeak } from '../helpers/reference-meters/peak-reference.ts
 
 const RATE = 48_000;
 let dir = '';
-beforeAll(async () => { dir = await mkdtemp(join(tmpdir(), 'earmark-event-log-')); });
-afterAll(async () => { await rm(dir, { recursive: true, force: true }); });
+beforeAll(async () => {
+  dir = await mkdtemp(join(tmpdir(), 'earmark-event-log-'));
+});
+afterAll(async () => {
+  await rm(dir, { recursive: true, force: true });
+});
 
 async function analyse(name: string, x: Float32Array, options: AnalyzeFileOptions = {}): Promise<AnalysisDocument> {
   const path = join(dir, `${name}.wav`);
@@ -27,8 +31,10 @@ function manyClipRuns(): Float32Array {
   return Float32Array.from({ length: 2 * RATE }, (_, i) => (i % 16 < 3 ? 1 : 0));
 }
 
-const startOrder = (a: { startFrame: number; channel: number | null }, b: { startFrame: number; channel: number | null }) =>
-  a.startFrame - b.startFrame || (a.channel ?? -1) - (b.channel ?? -1);
+const startOrder = (
+  a: { startFrame: number; channel: number | null },
+  b: { startFrame: number; channel: number | null },
+) => a.startFrame - b.startFrame || (a.channel ?? -1) - (b.channel ?? -1);
 
 describe('event caps: counts go on past the kept events', () => {
   it(`the document keeps the first ${MAX_DOCUMENT_EVENTS} events in start order and counts every one`, async () => {
@@ -48,7 +54,7 @@ describe('event caps: counts go on past the kept events', () => {
     expect(kept.length).toBeGreaterThan(MAX_DOCUMENT_EVENTS - 10);
   }, 30_000);
 
-  it('a meter\'s own cap keeps its first events; the count, the summary and the truncation flag go on', async () => {
+  it("a meter's own cap keeps its first events; the count, the summary and the truncation flag go on", async () => {
     const doc = await analyse('capped-runs', manyClipRuns(), { analysis: { clipping: { maxEvents: 7 } } });
     const kept = doc.events.filter((e) => e.kind === 'clipping');
     expect(kept.map((e) => e.startFrame)).toEqual([0, 16, 32, 48, 64, 80, 96]);
@@ -74,21 +80,30 @@ describe('over events merge within the merge window', () => {
 
   it('overs 2401 frames apart are one event, 2402 apart two; counts and peaks per event', async () => {
     // First impulse's last over is at its own frame; the next one's first over is 6 frames before it.
-    const first = 1_000, joined = first + mergeFrames + 1 + 6, apart = joined + mergeFrames + 2 + 6;
+    const first = 1_000,
+      joined = first + mergeFrames + 1 + 6,
+      apart = joined + mergeFrames + 2 + 6;
     const x = impulsesAt([first, joined, apart]);
     const doc = await analyse('overs', x, { analysis: { reconstructedPeak: { overCeilingDbtp: 10 } } });
     const overs = doc.events.filter((e) => e.kind === 'true_peak_over');
-    expect(overs.map((e) => [e.startFrame, e.endFrame, e.count])).toEqual([[first - 6, joined + 1, 6], [apart - 6, apart + 1, 3]]);
+    expect(overs.map((e) => [e.startFrame, e.endFrame, e.count])).toEqual([
+      [first - 6, joined + 1, 6],
+      [apart - 6, apart + 1, 3],
+    ]);
     for (const e of overs) expect(e.peakValue).toBe(0); // the impulse itself, 1.0
     expect(doc.summary.truePeakOvers).toBe(2);
     expect(doc.eventCounts.true_peak_over).toBe(2);
     // The reference's merge agrees.
-    expect(referenceTruePeak([x], RATE, -1).overs.map((e) => [e.startFrame, e.endFrame, e.count])).toEqual(overs.map((e) => [e.startFrame, e.endFrame, e.count]));
+    expect(referenceTruePeak([x], RATE, -1).overs.map((e) => [e.startFrame, e.endFrame, e.count])).toEqual(
+      overs.map((e) => [e.startFrame, e.endFrame, e.count]),
+    );
   }, 30_000);
 
   it('merged over events past the true-peak cap are counted, not kept', async () => {
     const x = impulsesAt([1_000, 10_000, 20_000, 30_000, 40_000]);
-    const doc = await analyse('capped-overs', x, { analysis: { truePeak: { maxEvents: 2 }, reconstructedPeak: { maxEvents: 1 } } });
+    const doc = await analyse('capped-overs', x, {
+      analysis: { truePeak: { maxEvents: 2 }, reconstructedPeak: { maxEvents: 1 } },
+    });
     expect(doc.events.filter((e) => e.kind === 'true_peak_over').map((e) => e.startFrame)).toEqual([994, 9_994]);
     expect([doc.summary.truePeakOvers, doc.eventCounts.true_peak_over]).toEqual([5, 5]);
     expect(doc.events.filter((e) => e.kind === 'reconstructed_over').length).toBe(1);

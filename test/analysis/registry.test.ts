@@ -22,7 +22,7 @@ function eventfulOptions(maxEvents: number): AnalysisOptions {
 }
 
 describe('meter registry', () => {
-  it('gives each meter that lists events its own place among the document\'s counts', () => {
+  it("gives each meter that lists events its own place among the document's counts", () => {
     const orders = METER_NAMES.flatMap((name) => METERS[name].events?.countOrder ?? []);
     expect(new Set(orders).size).toBe(orders.length);
   });
@@ -34,7 +34,13 @@ describe('meter registry', () => {
       let read = false;
       const meter = METERS[name].create(info, {});
       for (const block of cut(programme, [16_384])) {
-        const shared: PcmBlock = { ...block, get envelope() { read = true; return builder.build(block); } };
+        const shared: PcmBlock = {
+          ...block,
+          get envelope() {
+            read = true;
+            return builder.build(block);
+          },
+        };
         meter.push(shared);
       }
       meter.result();
@@ -66,7 +72,11 @@ describe('meter registry', () => {
     // Every meter that lists events found some, so the kind checks above were not vacuous.
     for (const name of METER_NAMES) {
       const kinds: readonly string[] = METERS[name].events?.kinds ?? [];
-      if (kinds.length > 0) expect(kinds.some((k) => found.has(k)), name).toBe(true);
+      if (kinds.length > 0)
+        expect(
+          kinds.some((k) => found.has(k)),
+          name,
+        ).toBe(true);
     }
   });
 });

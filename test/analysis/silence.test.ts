@@ -6,7 +6,12 @@ const fs = 8000;
 const stereo: StreamInfo = { sampleRate: fs, channels: 2, channelLabels: defaultChannelLabels(2) };
 const mono: StreamInfo = { sampleRate: fs, channels: 1, channelLabels: defaultChannelLabels(1) };
 
-function measure(info: StreamInfo, channels: Float32Array[], blockFrames: number, options?: SilenceMeterOptions): SilenceResult {
+function measure(
+  info: StreamInfo,
+  channels: Float32Array[],
+  blockFrames: number,
+  options?: SilenceMeterOptions,
+): SilenceResult {
   const meter = new SilenceMeter(info, options);
   const total = channels[0].length;
   for (let s = 0; s < total; s += blockFrames) {
@@ -18,7 +23,8 @@ function measure(info: StreamInfo, channels: Float32Array[], blockFrames: number
 
 /** Square wave of +/-amplitude between two times (seconds); a square never dips below its amplitude. */
 function tone(x: Float32Array, fromSeconds: number, toSeconds: number, amplitude: number): void {
-  for (let i = Math.round(fromSeconds * fs); i < Math.round(toSeconds * fs); i++) x[i] = i % 16 < 8 ? amplitude : -amplitude;
+  for (let i = Math.round(fromSeconds * fs); i < Math.round(toSeconds * fs); i++)
+    x[i] = i % 16 < 8 ? amplitude : -amplitude;
 }
 
 const spans = (r: SilenceResult) => r.events.map((e) => [e.channel, e.startFrame, e.endFrame]);
@@ -95,9 +101,17 @@ describe('SilenceMeter', () => {
   it('decides per sample: one sample at the threshold splits a region; one just below does not', () => {
     const x = new Float32Array(6 * fs);
     x[3 * fs] = 0.001; // exactly -60 dBFS (Float32 rounds it up a hair): not below
-    expect(spans(measure(mono, [x], 4096))).toEqual([[null, 0, 24_000], [0, 0, 24_000], [null, 24_001, 48_000], [0, 24_001, 48_000]]);
+    expect(spans(measure(mono, [x], 4096))).toEqual([
+      [null, 0, 24_000],
+      [0, 0, 24_000],
+      [null, 24_001, 48_000],
+      [0, 24_001, 48_000],
+    ]);
     x[3 * fs] = 0.000_99;
-    expect(spans(measure(mono, [x], 4096))).toEqual([[null, 0, 48_000], [0, 0, 48_000]]);
+    expect(spans(measure(mono, [x], 4096))).toEqual([
+      [null, 0, 48_000],
+      [0, 0, 48_000],
+    ]);
   });
 
   it('treats an all-silent stream as head = tail = duration', () => {
@@ -112,7 +126,10 @@ describe('SilenceMeter', () => {
   it('follows the configured threshold and minimum duration', () => {
     const r = measure(stereo, [left, right], 4096, { thresholdDbfs: -80, minDurationSeconds: 1 });
     // -70 dBFS is no longer silent; the 1.5 s zero gap now qualifies.
-    expect(spans(r).filter(([c]) => c === null)).toEqual([[null, 56_000, 68_000], [null, 80_000, 96_000]]);
+    expect(spans(r).filter(([c]) => c === null)).toEqual([
+      [null, 56_000, 68_000],
+      [null, 80_000, 96_000],
+    ]);
   });
 
   it('caps the event list but keeps counting', () => {

@@ -3,7 +3,11 @@ import { ANNEX2_GAIN_BOUND, ANNEX2_PHASE0, ANNEX2_PHASE1, TruePeakMeter } from '
 import { programmeBlocks } from '../../src/selftest/signals.ts';
 import { naiveTruePeak } from '../helpers/naive-true-peak.ts';
 
-const info = (channels: number, sampleRate = 48000) => ({ sampleRate, channels, channelLabels: Array.from({ length: channels }, () => 'unknown' as const) });
+const info = (channels: number, sampleRate = 48000) => ({
+  sampleRate,
+  channels,
+  channelLabels: Array.from({ length: channels }, () => 'unknown' as const),
+});
 
 describe('TruePeakMeter (ITU-R BS.1770-5 Annex 2)', () => {
   it('uses the Annex 2 example filter: phase sums 1.00159 and 0.97302 (Annex 2, section 3)', () => {
@@ -15,7 +19,9 @@ describe('TruePeakMeter (ITU-R BS.1770-5 Annex 2)', () => {
 
   it('matches a direct four-phase evaluation exactly on programme, brick-wall loud and quiet material, any block size', () => {
     for (const levelDbfs of [-30, -12, -3]) {
-      const [block] = [...programmeBlocks({ sampleRate: 48000, channels: 2, seconds: 3, seed: 11, levelDbfs, blockFrames: 1 << 20 })];
+      const [block] = [
+        ...programmeBlocks({ sampleRate: 48000, channels: 2, seconds: 3, seed: 11, levelDbfs, blockFrames: 1 << 20 }),
+      ];
       // Hard-limit the loud variant so most spans sit near the ceiling.
       const channels = block.channelData.map((x) => x.map((v) => Math.max(-0.9, Math.min(0.9, v))));
       const expected = channels.map((x) => naiveTruePeak(x).peak);
@@ -26,13 +32,17 @@ describe('TruePeakMeter (ITU-R BS.1770-5 Annex 2)', () => {
           meter.push({ channelData: channels.map((x) => x.subarray(start, start + frames)), frames });
         }
         const result = meter.result();
-        result.channelTruePeakDbtp.forEach((db, c) => expect(Math.abs(10 ** (db! / 20) - expected[c])).toBeLessThan(1e-12));
+        result.channelTruePeakDbtp.forEach((db, c) =>
+          expect(Math.abs(10 ** (db! / 20) - expected[c])).toBeLessThan(1e-12),
+        );
       }
     }
   });
 
   it('reports every over above the ceiling, merged into spans, and none in pruned spans', () => {
-    const [block] = [...programmeBlocks({ sampleRate: 48000, channels: 1, seconds: 4, seed: 5, levelDbfs: -9, blockFrames: 1 << 20 })];
+    const [block] = [
+      ...programmeBlocks({ sampleRate: 48000, channels: 1, seconds: 4, seed: 5, levelDbfs: -9, blockFrames: 1 << 20 }),
+    ];
     const x = block.channelData[0];
     const ceilingDbtp = -3;
     const naive = naiveTruePeak(x).perSample;

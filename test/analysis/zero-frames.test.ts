@@ -12,12 +12,21 @@ function nonFinitePaths(value: unknown, path = '$'): string[] {
   return Object.entries(value).flatMap(([k, v]) => nonFinitePaths(v, `${path}.${k}`));
 }
 
-const layouts: [string, ChannelLabel[]][] = [['mono', ['M']], ['stereo', ['L', 'R']], ['5.1', ['L', 'R', 'C', 'LFE', 'Ls', 'Rs']]];
+const layouts: [string, ChannelLabel[]][] = [
+  ['mono', ['M']],
+  ['stereo', ['L', 'R']],
+  ['5.1', ['L', 'R', 'C', 'LFE', 'Ls', 'Rs']],
+];
 
 describe('every meter on zero frames', () => {
   it.each(layouts)('%s, with and without a declared length: results without NaN or Infinity', (_, labels) => {
     for (const expectedFrames of [undefined, 48_000]) {
-      const info: StreamInfo = { sampleRate: 48000, channels: labels.length, channelLabels: labels, ...(expectedFrames ? { expectedFrames } : {}) };
+      const info: StreamInfo = {
+        sampleRate: 48000,
+        channels: labels.length,
+        channelLabels: labels,
+        ...(expectedFrames ? { expectedFrames } : {}),
+      };
       const runner = new AnalysisRunner(info);
       const m = runner.result();
       expect(m.frames).toBe(0);
@@ -36,7 +45,13 @@ describe('every meter on zero frames', () => {
 
   it('loudness and levels read null where there is nothing to measure', () => {
     const m = new AnalysisRunner({ sampleRate: 48000, channels: 2, channelLabels: ['L', 'R'] }).result();
-    expect(m.loudness).toMatchObject({ integratedLufs: null, loudnessRangeLu: null, maxMomentaryLufs: null, maxShortTermLufs: null, gatingBlocks: 0 });
+    expect(m.loudness).toMatchObject({
+      integratedLufs: null,
+      loudnessRangeLu: null,
+      maxMomentaryLufs: null,
+      maxShortTermLufs: null,
+      gatingBlocks: 0,
+    });
     expect(m.loudness.momentaryLufs.length).toBe(0);
     expect(m.truePeak.truePeakDbtp).toBeNull();
   });

@@ -7,9 +7,19 @@ const keys = JSON.stringify([{ key: 'k-0123456789abcdef', tenant: 't1', scopes: 
 describe('loadConfig', () => {
   it('has the documented defaults', () => {
     const c = loadConfig({});
-    expect(c).toMatchObject({ port: 8080, redisUrl: 'redis://127.0.0.1:6379', redisUrlExplicit: false, workerConcurrency: 1, retentionHours: 24, uploadLimitBytes: 2 * 1024 ** 3, apiKeys: [] });
+    expect(c).toMatchObject({
+      port: 8080,
+      redisUrl: 'redis://127.0.0.1:6379',
+      redisUrlExplicit: false,
+      workerConcurrency: 1,
+      retentionHours: 24,
+      uploadLimitBytes: 2 * 1024 ** 3,
+      apiKeys: [],
+    });
     expect(loadConfig({ REDIS_URL: 'redis://cache:6380' }).redisUrlExplicit).toBe(true);
-    expect(loadConfig({ EARMARK_API_KEYS: keys }).apiKeys).toEqual([{ key: 'k-0123456789abcdef', tenant: 't1', scopes: ['read'] }]);
+    expect(loadConfig({ EARMARK_API_KEYS: keys }).apiKeys).toEqual([
+      { key: 'k-0123456789abcdef', tenant: 't1', scopes: ['read'] },
+    ]);
   });
 
   it.each([
@@ -25,7 +35,11 @@ describe('loadConfig', () => {
     ['EARMARK_LOG_LEVEL', 'loud'],
   ])('%s=%s stops start-up with a message naming it', (name, value) => {
     let thrown: unknown;
-    try { loadConfig({ [name]: value }); } catch (error) { thrown = error; }
+    try {
+      loadConfig({ [name]: value });
+    } catch (error) {
+      thrown = error;
+    }
     expect(thrown).toBeInstanceOf(ConfigError);
     expect((thrown as ConfigError).variable).toBe(name);
     expect((thrown as Error).message.startsWith(`${name}:`)).toBe(true);

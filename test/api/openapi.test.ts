@@ -20,14 +20,22 @@ describe('openapi/openapi.yaml', () => {
   });
 
   it('documents every route with an operation id, a scope or open access, and problem responses', () => {
-    const doc = buildOpenApiDocument() as { paths: Record<string, Record<string, { operationId: string; responses: Record<string, unknown>; security: unknown[] }>> };
+    const doc = buildOpenApiDocument() as {
+      paths: Record<
+        string,
+        Record<string, { operationId: string; responses: Record<string, unknown>; security: unknown[] }>
+      >;
+    };
     for (const spec of allSpecs) {
       const op = doc.paths[spec.url.replace(/:(\w+)/g, '{$1}')][spec.method.toLowerCase()];
       expect(op.operationId).toBe(spec.operationId);
       if (spec.scope) expect(Object.keys(op.responses)).toContain('401');
       else expect(op.security).toEqual([]);
     }
-    const open = allSpecs.filter((s) => s.scope === null).map((s) => s.url).sort();
+    const open = allSpecs
+      .filter((s) => s.scope === null)
+      .map((s) => s.url)
+      .sort();
     expect(open).toEqual(['/', '/assets/:name', '/healthz', '/jobs/:id', '/openapi.json', '/readyz']);
   });
 });

@@ -32,8 +32,15 @@ describe('validation errors name the field as the client wrote it', () => {
     expect(fieldOf(undefined, 'querystring')).toBe('querystring');
   });
   it('the problem says what is wrong with it', () => {
-    const unknown = validationProblem([{ instancePath: '', params: { additionalProperty: 'extra' }, message: 'must NOT have additional properties' }], 'body');
-    expect(unknown).toMatchObject({ code: 'validation_failed', message: 'extra is not a known field', details: { field: 'extra' } });
+    const unknown = validationProblem(
+      [{ instancePath: '', params: { additionalProperty: 'extra' }, message: 'must NOT have additional properties' }],
+      'body',
+    );
+    expect(unknown).toMatchObject({
+      code: 'validation_failed',
+      message: 'extra is not a known field',
+      details: { field: 'extra' },
+    });
     const bad = validationProblem([{ instancePath: '/limit', params: {}, message: 'must be <= 100' }], 'querystring');
     expect(bad).toMatchObject({ message: 'limit must be <= 100', details: { field: 'limit' } });
   });

@@ -69,7 +69,17 @@ const REFUSED: Array<[string, string]> = [
   ['not-an-address', 'does not parse: refused'],
 ];
 
-const PUBLIC = ['93.184.216.34', '8.8.8.8', '172.32.0.1', '100.128.0.1', '192.0.3.1', '198.20.0.1', '2001:4860:4860::8888', '2a00:1450:4001::1', '::ffff:8.8.8.8'];
+const PUBLIC = [
+  '93.184.216.34',
+  '8.8.8.8',
+  '172.32.0.1',
+  '100.128.0.1',
+  '192.0.3.1',
+  '198.20.0.1',
+  '2001:4860:4860::8888',
+  '2a00:1450:4001::1',
+  '::ffff:8.8.8.8',
+];
 
 describe('special-purpose blocks', () => {
   const policy = new UrlPolicy([]);
@@ -87,30 +97,49 @@ describe('special-purpose blocks', () => {
 function fakeResolver(addresses: string[], asked: string[] = []): Resolver {
   return (host, callback) => {
     asked.push(host);
-    callback(null, addresses.map((address) => ({ address, family: address.includes(':') ? 6 : 4 })));
+    callback(
+      null,
+      addresses.map((address) => ({ address, family: address.includes(':') ? 6 : 4 })),
+    );
   };
 }
 
 describe('URLs: literal hosts and names after resolution', () => {
-  const urlForms = REFUSED.filter(([a]) => a !== 'not-an-address' && !a.includes('%'))
-    .map(([a]) => (a.includes(':') ? `http://[${a}]:8080/a.wav` : `http://${a}:8080/a.wav`));
+  const urlForms = REFUSED.filter(([a]) => a !== 'not-an-address' && !a.includes('%')).map(([a]) =>
+    a.includes(':') ? `http://[${a}]:8080/a.wav` : `http://${a}:8080/a.wav`,
+  );
 
   it.each(urlForms)('refuses the literal URL %s without resolving', async (url) => {
     const asked: string[] = [];
     const policy = new UrlPolicy([], fakeResolver(['8.8.8.8'], asked));
-    await expect(policy.check(url, 'sourceUrl')).rejects.toMatchObject({ code: 'source_refused', details: { field: 'sourceUrl' } });
+    await expect(policy.check(url, 'sourceUrl')).rejects.toMatchObject({
+      code: 'source_refused',
+      details: { field: 'sourceUrl' },
+    });
     expect(asked).toEqual([]);
   });
 
   it.each(REFUSED.filter(([a]) => a !== 'not-an-address'))('refuses a name that resolves to %s', async (address) => {
     const policy = new UrlPolicy([], fakeResolver([address]));
-    await expect(policy.check('https://media.example.test/a.wav', 'callbackUrl')).rejects.toMatchObject({ code: 'source_refused', details: { field: 'callbackUrl' } });
+    await expect(policy.check('https://media.example.test/a.wav', 'callbackUrl')).rejects.toMatchObject({
+      code: 'source_refused',
+      details: { field: 'callbackUrl' },
+    });
   });
 
   it('refuses a name when any one of its addresses is refused, allows all-public names', async () => {
-    await expect(new UrlPolicy([], fakeResolver(['8.8.8.8', '64:ff9b::a00:1'])).check('https://m.example.test/', 'sourceUrl')).rejects.toBeInstanceOf(EarmarkError);
-    await expect(new UrlPolicy([], fakeResolver(['8.8.8.8', '2001:4860:4860::8888'])).check('https://m.example.test/', 'sourceUrl')).resolves.toBeInstanceOf(URL);
-    await expect(new UrlPolicy([], fakeResolver([])).check('https://m.example.test/', 'sourceUrl')).rejects.toMatchObject({ code: 'source_refused' });
+    await expect(
+      new UrlPolicy([], fakeResolver(['8.8.8.8', '64:ff9b::a00:1'])).check('https://m.example.test/', 'sourceUrl'),
+    ).rejects.toBeInstanceOf(EarmarkError);
+    await expect(
+      new UrlPolicy([], fakeResolver(['8.8.8.8', '2001:4860:4860::8888'])).check(
+        'https://m.example.test/',
+        'sourceUrl',
+      ),
+    ).resolves.toBeInstanceOf(URL);
+    await expect(
+      new UrlPolicy([], fakeResolver([])).check('https://m.example.test/', 'sourceUrl'),
+    ).rejects.toMatchObject({ code: 'source_refused' });
   });
 
   it('the lookup hook handed to http.request refuses at connect time', async () => {
@@ -122,7 +151,10 @@ describe('URLs: literal hosts and names after resolution', () => {
 
 describe('allowlist', () => {
   it('permits hosts, addresses and CIDRs (also in mapped form), nothing more', async () => {
-    const allow = new UrlPolicy(['127.0.0.1', '10.20.0.0/16', 'media.internal', 'fd00:1::/32'], fakeResolver(['10.9.9.9']));
+    const allow = new UrlPolicy(
+      ['127.0.0.1', '10.20.0.0/16', 'media.internal', 'fd00:1::/32'],
+      fakeResolver(['10.9.9.9']),
+    );
     expect(allow.addressAllowed('127.0.0.1', '127.0.0.1')).toBe(true);
     expect(allow.addressAllowed('::ffff:127.0.0.1', 'x')).toBe(true);
     expect(allow.addressAllowed('127.0.0.2', 'x')).toBe(false);
@@ -135,7 +167,9 @@ describe('allowlist', () => {
     expect(allow.addressAllowed('64:ff9b::7f00:1', 'x')).toBe(false);
     expect(allow.addressAllowed('10.9.9.9', 'media.internal')).toBe(true);
     await expect(allow.check('http://media.internal/a.wav', 'sourceUrl')).resolves.toBeInstanceOf(URL);
-    await expect(allow.check('http://other.internal/a.wav', 'sourceUrl')).rejects.toMatchObject({ code: 'source_refused' });
+    await expect(allow.check('http://other.internal/a.wav', 'sourceUrl')).rejects.toMatchObject({
+      code: 'source_refused',
+    });
     await expect(allow.check('http://127.0.0.1:9/a.wav', 'sourceUrl')).resolves.toBeInstanceOf(URL);
   });
 

@@ -20,20 +20,33 @@ import { hasTool } from '../helpers/tools.ts';
 
 const CHROMIUM = '/usr/bin/chromium';
 /** The little of the page's DOM the tests touch (the Node tsconfig has no DOM types). */
-interface PageGlobals { document: { getElementById(id: string): { src: string } }; getComputedStyle(node: unknown): { getPropertyValue(name: string): string } }
+interface PageGlobals {
+  document: { getElementById(id: string): { src: string } };
+  getComputedStyle(node: unknown): { getPropertyValue(name: string): string };
+}
 const OUTPUT_DIR = join(process.cwd(), 'test-output');
 const SAMPLE_RATE = 48000;
 const dir = mkdtempSync(join(tmpdir(), 'earmark-browser-'));
 
 /** 20 s of programme with full-scale clipping runs at 5 s (left) and 12 s (right). */
 async function writeClippedProgramme(path: string): Promise<void> {
-  const clipAt = [{ channel: 0, frame: 5 * SAMPLE_RATE, value: 1 }, { channel: 1, frame: 12 * SAMPLE_RATE, value: -1 }];
+  const clipAt = [
+    { channel: 0, frame: 5 * SAMPLE_RATE, value: 1 },
+    { channel: 1, frame: 12 * SAMPLE_RATE, value: -1 },
+  ];
   let position = 0;
   const blocks = (function* () {
-    for (const block of programmeBlocks({ sampleRate: SAMPLE_RATE, channels: 2, seconds: 20, seed: 42, levelDbfs: -20 })) {
+    for (const block of programmeBlocks({
+      sampleRate: SAMPLE_RATE,
+      channels: 2,
+      seconds: 20,
+      seed: 42,
+      levelDbfs: -20,
+    })) {
       const data = block.channelData.map((x) => Float32Array.from(x));
       for (const clip of clipAt) {
-        for (let n = clip.frame; n < clip.frame + 24; n++) if (n >= position && n < position + block.frames) data[clip.channel][n - position] = clip.value;
+        for (let n = clip.frame; n < clip.frame + 24; n++)
+          if (n >= position && n < position + block.frames) data[clip.channel][n - position] = clip.value;
       }
       position += block.frames;
       yield data;
@@ -48,7 +61,11 @@ describe.skipIf(!hasTool('chromium'))('pages in Chromium', () => {
   let browser: Browser;
   const external: string[] = [];
 
-  async function openPage(path: string, viewport = { width: 1280, height: 800 }, prepare?: (page: Page) => Promise<void>): Promise<Page> {
+  async function openPage(
+    path: string,
+    viewport = { width: 1280, height: 800 },
+    prepare?: (page: Page) => Promise<void>,
+  ): Promise<Page> {
     const page = await browser.newPage({ viewport });
     page.on('pageerror', (error) => console.error('pageerror', error.message));
     await prepare?.(page);
@@ -67,7 +84,15 @@ describe.skipIf(!hasTool('chromium'))('pages in Chromium', () => {
     service = await startService();
     browser = await chromium.launch({
       executablePath: CHROMIUM,
-      args: ['--headless', '--no-sandbox', '--disable-gpu', '--disable-background-networking', '--disable-component-update', '--disable-sync', '--no-first-run'],
+      args: [
+        '--headless',
+        '--no-sandbox',
+        '--disable-gpu',
+        '--disable-background-networking',
+        '--disable-component-update',
+        '--disable-sync',
+        '--no-first-run',
+      ],
     });
   });
 
@@ -106,7 +131,10 @@ describe.skipIf(!hasTool('chromium'))('pages in Chromium', () => {
     const submitted = await api.upload(wav, { profile: 'podcast' }, KEYS.alpha);
     expect(submitted.status).toBe(202);
     const id = submitted.body.id as string;
-    const finished = await until(async () => { const job = (await api.get(`/v1/jobs/${id}`, KEYS.alpha)).body; return job.state === 'completed' || job.state === 'failed' ? job : null; });
+    const finished = await until(async () => {
+      const job = (await api.get(`/v1/jobs/${id}`, KEYS.alpha)).body;
+      return job.state === 'completed' || job.state === 'failed' ? job : null;
+    });
     expect(finished.error).toBeNull();
     const report = (await api.get(`/v1/jobs/${id}/report`, KEYS.alpha)).body;
     expect(report.flags.length).toBeGreaterThan(0);
@@ -119,14 +147,22 @@ describe.skipIf(!hasTool('chromium'))('pages in Chromium', () => {
     expect(await page.locator('#em-checks-body tr').count()).toBe(report.checks.length);
     expect(await page.textContent('#em-flag-counts')).toBe(flagCountsText(report));
     const first = await page.innerText('#em-flags .em-flag-go >> nth=0');
-    for (const part of [`#${report.flags[0].number}`, report.flags[0].severity.toUpperCase(), report.flags[0].title, report.flags[0].startTimecode]) expect(first).toContain(part);
+    for (const part of [
+      `#${report.flags[0].number}`,
+      report.flags[0].severity.toUpperCase(),
+      report.flags[0].title,
+      report.flags[0].startTimecode,
+    ])
+      expect(first).toContain(part);
 
     // Click the last flag: the cursor becomes visible at that flag's time.
     const last = report.flags.length - 1;
     await page.locator('#em-flags .em-flag-go').nth(last).click();
     const cursor = page.locator('#em-plot-cursor');
     expect(await cursor.getAttribute('visibility')).toBe('visible');
-    const [left, width, duration, x] = await Promise.all(['data-plot-left', 'data-plot-width', 'data-duration', 'x1'].map((a) => cursor.getAttribute(a)));
+    const [left, width, duration, x] = await Promise.all(
+      ['data-plot-left', 'data-plot-width', 'data-duration', 'x1'].map((a) => cursor.getAttribute(a)),
+    );
     const expectedX = Number(left) + (report.flags[last].startSeconds / Number(duration)) * Number(width);
     expect(Number(x)).toBeCloseTo(expectedX, 3);
     await page.screenshot({ path: join(OUTPUT_DIR, 'report-1280x800.png'), fullPage: true });
@@ -139,7 +175,9 @@ describe.skipIf(!hasTool('chromium'))('pages in Chromium', () => {
     // Listen: the page loads an excerpt into the player, with the level caution beside it.
     expect(await page.textContent('.em-caution')).toMatch(/playback level down/);
     await page.locator('#em-flags .em-listen').first().click();
-    await page.waitForFunction(() => (globalThis as unknown as PageGlobals).document.getElementById('em-player').src.startsWith('blob:'));
+    await page.waitForFunction(() =>
+      (globalThis as unknown as PageGlobals).document.getElementById('em-player').src.startsWith('blob:'),
+    );
     await page.setViewportSize({ width: 390, height: 844 });
     await page.screenshot({ path: join(OUTPUT_DIR, 'report-narrow.png'), fullPage: true });
     await page.close();
@@ -147,34 +185,65 @@ describe.skipIf(!hasTool('chromium'))('pages in Chromium', () => {
     // The excerpt endpoint itself: a WAV of the requested span that our decoder (and a browser) can play.
     const flag = report.flags[0];
     const start = Math.max(0, flag.startSeconds - 1);
-    const excerpt = await api.checked((await import('supertest')).default(service.url)
-      .get(`/v1/jobs/${id}/excerpt?startSeconds=${start}&endSeconds=${start + 3}`).set('authorization', `Bearer ${KEYS.alpha}`)
-      .buffer(true).parse((res, done) => { const chunks: Buffer[] = []; res.on('data', (c: Buffer) => chunks.push(c)); res.on('end', () => done(null, Buffer.concat(chunks))); }));
+    const excerpt = await api.checked(
+      (await import('supertest'))
+        .default(service.url)
+        .get(`/v1/jobs/${id}/excerpt?startSeconds=${start}&endSeconds=${start + 3}`)
+        .set('authorization', `Bearer ${KEYS.alpha}`)
+        .buffer(true)
+        .parse((res, done) => {
+          const chunks: Buffer[] = [];
+          res.on('data', (c: Buffer) => chunks.push(c));
+          res.on('end', () => done(null, Buffer.concat(chunks)));
+        }),
+    );
     expect(excerpt.status).toBe(200);
     expect(excerpt.headers['content-type']).toBe('audio/wav');
     const excerptPath = join(dir, 'excerpt.wav');
     await writeFile(excerptPath, excerpt.body as Buffer);
     const decoded = await openAudioFile(excerptPath);
-    expect(decoded.format).toMatchObject({ container: 'wav', sampleRate: SAMPLE_RATE, channels: 2, frames: 3 * SAMPLE_RATE });
+    expect(decoded.format).toMatchObject({
+      container: 'wav',
+      sampleRate: SAMPLE_RATE,
+      channels: 2,
+      frames: 3 * SAMPLE_RATE,
+    });
   });
 
   it('report page of a damaged file (made-up v2 report): headline first, integrity panel next; remarks, counts and a marginal check', async () => {
     const id = 'j_sampleversiontworeport00';
     const report = sampleReport();
-    const job = { id, state: 'completed', progressPercent: 100, verdict: report.verdict, headline: report.headline, error: null };
+    const job = {
+      id,
+      state: 'completed',
+      progressPercent: 100,
+      verdict: report.verdict,
+      headline: report.headline,
+      error: null,
+    };
     // The API's answers for a made-up job, served inside the browser: every report-v2 field's
     // rendering is checked without needing one file that produces all of them.
     const page = await openPage(`/jobs/${id}`, undefined, async (p) => {
-      await p.route((url) => url.pathname.startsWith(`/v1/jobs/${id}`), (route) => {
-        const path = new URL(route.request().url()).pathname;
-        if (path.endsWith('/plot.svg')) return route.fulfill({ contentType: 'image/svg+xml', body: renderReportPlot(report) });
-        return route.fulfill({ contentType: 'application/json', body: JSON.stringify(path.endsWith('/report') ? report : job) });
-      });
+      await p.route(
+        (url) => url.pathname.startsWith(`/v1/jobs/${id}`),
+        (route) => {
+          const path = new URL(route.request().url()).pathname;
+          if (path.endsWith('/plot.svg'))
+            return route.fulfill({ contentType: 'image/svg+xml', body: renderReportPlot(report) });
+          return route.fulfill({
+            contentType: 'application/json',
+            body: JSON.stringify(path.endsWith('/report') ? report : job),
+          });
+        },
+      );
     });
     await page.waitForSelector('#em-report-body:not([hidden]) .em-plot');
 
     // The first line a reader sees is the headline, the next the integrity problem, both above the readings.
-    const lines = (await page.innerText('main')).split('\n').map((l) => l.trim()).filter(Boolean);
+    const lines = (await page.innerText('main'))
+      .split('\n')
+      .map((l) => l.trim())
+      .filter(Boolean);
     expect(lines[0]).toBe(`FAIL ${report.headline}`);
     expect(lines[1]).toBe('Damaged file: this fails the report');
     expect(await page.getAttribute('#em-headline', 'class')).toContain('em-headline-fail');
@@ -192,19 +261,39 @@ describe.skipIf(!hasTool('chromium'))('pages in Chromium', () => {
     const remarks = page.locator('#em-flags li[data-severity="remark"]');
     expect(await remarks.count()).toBe(2);
     const dropout = await remarks.nth(1).innerText();
-    for (const part of ['#4', 'REMARK', 'Dropout', '00:00:03:00 – 00:00:04:05', 'ch 2 R', '× 37', '37 very short dropouts']) expect(dropout).toContain(part);
+    for (const part of [
+      '#4',
+      'REMARK',
+      'Dropout',
+      '00:00:03:00 – 00:00:04:05',
+      'ch 2 R',
+      '× 37',
+      '37 very short dropouts',
+    ])
+      expect(dropout).toContain(part);
     expect(await remarks.nth(0).innerText()).toContain('worst -38.1 dBFS');
     expect(await page.innerText('#em-flags li[data-severity="warn"]')).toContain('ch 1 L · × 3 · worst -0.4 dBTP');
     // A remark has its own, quieter look: a dotted edge where a fail has a solid one, an outlined label.
-    const style = (selector: string, property: string) => page.locator(selector).first().evaluate((node, name) => (globalThis as unknown as PageGlobals).getComputedStyle(node).getPropertyValue(name), property);
+    const style = (selector: string, property: string) =>
+      page
+        .locator(selector)
+        .first()
+        .evaluate(
+          (node, name) => (globalThis as unknown as PageGlobals).getComputedStyle(node).getPropertyValue(name),
+          property,
+        );
     expect(await style('#em-flags li[data-severity="remark"]', 'border-left-style')).toBe('dotted');
     expect(await style('#em-flags li[data-severity="fail"]', 'border-left-style')).toBe('solid');
     expect(await style('.em-sev-badge-remark', 'background-color')).toBe('rgba(0, 0, 0, 0)');
     expect(await style('.em-sev-badge-fail', 'background-color')).not.toBe('rgba(0, 0, 0, 0)');
     // Text alternatives: the message describes the flag's button; Listen names its flag.
     const go = page.locator('#em-flags li[data-severity="remark"] .em-flag-go').nth(1);
-    expect(await page.textContent(`#${await go.getAttribute('aria-describedby')}`)).toBe('37 very short dropouts on channel 2 R.');
-    expect(await page.getAttribute('#em-flags li[data-flag-index="3"] .em-listen', 'aria-label')).toBe('Listen to flag #4, Dropout, at 00:00:03:00');
+    expect(await page.textContent(`#${await go.getAttribute('aria-describedby')}`)).toBe(
+      '37 very short dropouts on channel 2 R.',
+    );
+    expect(await page.getAttribute('#em-flags li[data-flag-index="3"] .em-listen', 'aria-label')).toBe(
+      'Listen to flag #4, Dropout, at 00:00:03:00',
+    );
 
     // The plot: one marker per flag, the remarks fainter.
     expect(await page.locator('.em-plot .em-flag').count()).toBe(4);
@@ -234,7 +323,10 @@ describe.skipIf(!hasTool('chromium'))('pages in Chromium', () => {
     const submitted = await api.upload(junk, { profile: 'podcast' }, KEYS.alpha);
     expect(submitted.status).toBe(202);
     const id = submitted.body.id as string;
-    const failed = await until(async () => { const job = (await api.get(`/v1/jobs/${id}`, KEYS.alpha)).body; return job.state === 'failed' ? job : null; });
+    const failed = await until(async () => {
+      const job = (await api.get(`/v1/jobs/${id}`, KEYS.alpha)).body;
+      return job.state === 'failed' ? job : null;
+    });
     expect(failed.error.code).toBe('unsupported_format');
 
     const page = await openPage(`/jobs/${id}`);
@@ -262,7 +354,10 @@ describe.skipIf(!hasTool('chromium'))('pages in Chromium', () => {
     const submitted = await api.upload(wav, { profile: 'ebu-r128' }, KEYS.alpha);
     expect(submitted.status).toBe(202);
     const id = submitted.body.id as string;
-    const job = await until(async () => { const j = (await api.get(`/v1/jobs/${id}`, KEYS.alpha)).body; return j.state === 'completed' || j.state === 'failed' ? j : null; });
+    const job = await until(async () => {
+      const j = (await api.get(`/v1/jobs/${id}`, KEYS.alpha)).body;
+      return j.state === 'completed' || j.state === 'failed' ? j : null;
+    });
     expect(job).toMatchObject({ state: 'completed', verdict: 'fail', headline: expect.any(String) });
     const report = (await api.get(`/v1/jobs/${id}/report`, KEYS.alpha)).body;
     expect(report.integrity.intact).toBe(false);
@@ -277,7 +372,10 @@ describe.skipIf(!hasTool('chromium'))('pages in Chromium', () => {
 
     const page = await openPage(`/jobs/${id}`);
     await page.waitForSelector('#em-report-body:not([hidden])');
-    const lines = (await page.innerText('main')).split('\n').map((l) => l.trim()).filter(Boolean);
+    const lines = (await page.innerText('main'))
+      .split('\n')
+      .map((l) => l.trim())
+      .filter(Boolean);
     expect(lines[0]).toBe(report.headline);
     expect(lines[1]).toMatch(/^Damaged file/);
     const problems = await page.innerText('#em-integrity-problems');

@@ -10,7 +10,18 @@ import { toneBlocks } from '../../src/selftest/signals.ts';
 function capture() {
   const out: string[] = [];
   const err: string[] = [];
-  return { io: { stdout: (t: string) => { out.push(t); }, stderr: (t: string) => { err.push(t); } }, out: () => out.join(''), err: () => err.join('') };
+  return {
+    io: {
+      stdout: (t: string) => {
+        out.push(t);
+      },
+      stderr: (t: string) => {
+        err.push(t);
+      },
+    },
+    out: () => out.join(''),
+    err: () => err.join(''),
+  };
 }
 
 const dir = mkdtempSync(join(tmpdir(), 'earmark-cli-'));
@@ -18,7 +29,10 @@ const tonePath = join(dir, 'tone.wav');
 
 beforeAll(async () => {
   // EBU Tech 3341 case 1 signal: stereo 1 kHz at -23 dBFS, 20 s -> -23.0 LUFS.
-  const blocks = (function* () { for (const b of toneBlocks({ sampleRate: 48000, channels: 2, segments: [{ seconds: 20, peakDbfs: -23 }] })) yield b.channelData as Float32Array[]; })();
+  const blocks = (function* () {
+    for (const b of toneBlocks({ sampleRate: 48000, channels: 2, segments: [{ seconds: 20, peakDbfs: -23 }] }))
+      yield b.channelData as Float32Array[];
+  })();
   await writeWavFile(tonePath, { sampleRate: 48000, channels: 2, bitsPerSample: 24, float: false }, blocks);
 });
 
@@ -60,7 +74,10 @@ describe('earmark analyze', () => {
 
   it('escapes control characters of the file name in the readable output', async () => {
     const hostile = join(dir, 'ident\u001b[31m\nFAKE LINE.wav');
-    const blocks = (function* () { for (const b of toneBlocks({ sampleRate: 48000, channels: 1, segments: [{ seconds: 1, peakDbfs: -20 }] })) yield b.channelData as Float32Array[]; })();
+    const blocks = (function* () {
+      for (const b of toneBlocks({ sampleRate: 48000, channels: 1, segments: [{ seconds: 1, peakDbfs: -20 }] }))
+        yield b.channelData as Float32Array[];
+    })();
     await writeWavFile(hostile, { sampleRate: 48000, channels: 1, bitsPerSample: 16, float: false }, blocks);
     const c = capture();
     expect(await main(['analyze', hostile], c.io)).toBe(0);
@@ -94,7 +111,9 @@ describe('earmark analyze', () => {
     const result = spawnSync(process.execPath, ['bin/earmark.js', 'analyze', tonePath, '--json'], { encoding: 'utf8' });
     expect(result.status).toBe(0);
     expect(JSON.parse(result.stdout).format.channels).toBe(2);
-    const bad = spawnSync(process.execPath, ['bin/earmark.js', 'analyze', join(dir, 'missing.wav')], { encoding: 'utf8' });
+    const bad = spawnSync(process.execPath, ['bin/earmark.js', 'analyze', join(dir, 'missing.wav')], {
+      encoding: 'utf8',
+    });
     expect(bad.status).toBe(3);
     expect(bad.stderr).toMatch(/^error file_not_found/);
     expect(execFileSync('npx', ['--no-install', 'earmark', 'help'], { encoding: 'utf8' })).toMatch(/usage/);

@@ -16,7 +16,8 @@ const wav = join(dir, 'programme.wav');
 
 beforeAll(async () => {
   const blocks = (function* () {
-    for (const b of programmeBlocks({ sampleRate: 48000, channels: 2, seconds: 8, seed: 5 })) yield b.channelData as Float32Array[];
+    for (const b of programmeBlocks({ sampleRate: 48000, channels: 2, seconds: 8, seed: 5 }))
+      yield b.channelData as Float32Array[];
   })();
   await writeWavFile(wav, { sampleRate: 48000, channels: 2, bitsPerSample: 24, float: false }, blocks);
   const built = spawnSync(process.execPath, ['bin/build.js', out], { encoding: 'utf8' });
@@ -44,7 +45,11 @@ describe('dist bundles', () => {
   }, 60_000);
 
   it('check a file against a built-in profile (the profile schema is found from the bundle)', () => {
-    const run = spawnSync(process.execPath, [join(out, 'earmark.mjs'), 'check', wav, '--profile', 'ebu-r128', '--json'], { encoding: 'utf8' });
+    const run = spawnSync(
+      process.execPath,
+      [join(out, 'earmark.mjs'), 'check', wav, '--profile', 'ebu-r128', '--json'],
+      { encoding: 'utf8' },
+    );
     expect([0, 1, 2]).toContain(run.status); // pass, warn or fail: a verdict either way, not an error (3)
     const report = JSON.parse(run.stdout) as { profile: { id: string } };
     expect(report.profile.id).toBe('ebu-r128');

@@ -9,7 +9,16 @@ import type { QcReport } from '../../src/profiles/index.ts';
 import { tempDir, writeTone } from '../profiles/helpers.ts';
 
 function capture(): CliIo & { out: string; err: string } {
-  const io = { out: '', err: '', stdout: (t: string) => { io.out += t; }, stderr: (t: string) => { io.err += t; } };
+  const io = {
+    out: '',
+    err: '',
+    stdout: (t: string) => {
+      io.out += t;
+    },
+    stderr: (t: string) => {
+      io.err += t;
+    },
+  };
   return io;
 }
 
@@ -34,7 +43,9 @@ describe('earmark check', () => {
   it('exit 2 on fail, naming the failed check with its explanation', async () => {
     const io = capture();
     expect(await main(['check', loud, '--profile', 'ebu-r128'], io)).toBe(2);
-    expect(io.out).toContain('programme-loudness: Integrated loudness -20.4 LUFS is 2.6 LU above the -23 LUFS target (tolerance ±1.0 LU)');
+    expect(io.out).toContain(
+      'programme-loudness: Integrated loudness -20.4 LUFS is 2.6 LU above the -23 LUFS target (tolerance ±1.0 LU)',
+    );
     expect(io.out).toMatch(/gain +-2\.6\d dB to -23 LUFS/);
   });
 
@@ -52,7 +63,12 @@ describe('earmark check', () => {
     await main(['analyze', loud, '--json'], analysis);
     for (const key of Object.keys(JSON.parse(analysis.out))) expect(report).toHaveProperty(key);
     expect(report.verdict).toBe('fail');
-    expect(report.profile).toEqual({ id: 'ebu-r128', version: '1.0.0', name: 'EBU R 128 programme', basis: 'EBU R 128 V5 (2023) items h and m' });
+    expect(report.profile).toEqual({
+      id: 'ebu-r128',
+      version: '1.0.0',
+      name: 'EBU R 128 programme',
+      basis: 'EBU R 128 V5 (2023) items h and m',
+    });
     expect(report.file?.sha256).toMatch(/^[0-9a-f]{64}$/);
     expect(report.engine.version).toBeTruthy();
     expect(report.timecode.frameRate).toBe('29.97-df');
@@ -61,11 +77,31 @@ describe('earmark check', () => {
 
   it('a house profile file works; a bad one is exit 3 naming the field', async () => {
     const good = join(dir, 'house.json');
-    writeFileSync(good, JSON.stringify({ id: 'house', name: 'House', version: '0.1.0', description: '', basis: 'house rule', rules: [{ id: 'tp', type: 'true-peak', severity: 'warn', maxDbtp: -30 }] }));
+    writeFileSync(
+      good,
+      JSON.stringify({
+        id: 'house',
+        name: 'House',
+        version: '0.1.0',
+        description: '',
+        basis: 'house rule',
+        rules: [{ id: 'tp', type: 'true-peak', severity: 'warn', maxDbtp: -30 }],
+      }),
+    );
     const io = capture();
     expect(await main(['check', onTarget, '--profile', good], io)).toBe(1);
     const bad = join(dir, 'bad.json');
-    writeFileSync(bad, JSON.stringify({ id: 'house', name: 'House', version: '0.1.0', description: '', basis: 'house rule', rules: [{ id: 'tp', type: 'true-peak', severity: 'warn', maxDbtp: 'low' }] }));
+    writeFileSync(
+      bad,
+      JSON.stringify({
+        id: 'house',
+        name: 'House',
+        version: '0.1.0',
+        description: '',
+        basis: 'house rule',
+        rules: [{ id: 'tp', type: 'true-peak', severity: 'warn', maxDbtp: 'low' }],
+      }),
+    );
     const err = capture();
     expect(await main(['check', onTarget, '--profile', bad], err)).toBe(3);
     expect(err.err).toMatch(/^error invalid_profile: .*rules\[0\]\.maxDbtp/);
@@ -90,7 +126,8 @@ describe('earmark profiles', () => {
   it('lists the built-ins and prints one as JSON to copy', async () => {
     const io = capture();
     expect(await main(['profiles'], io)).toBe(0);
-    for (const id of ['ebu-r128', 'ebu-r128-short-form', 'atsc-a85', 'streaming-aes', 'podcast']) expect(io.out).toContain(id);
+    for (const id of ['ebu-r128', 'ebu-r128-short-form', 'atsc-a85', 'streaming-aes', 'podcast'])
+      expect(io.out).toContain(id);
     const one = capture();
     expect(await main(['profiles', 'atsc-a85'], one)).toBe(0);
     expect(JSON.parse(one.out).timecode).toEqual({ frameRate: '29.97-df' });

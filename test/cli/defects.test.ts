@@ -17,7 +17,8 @@ function earmark(...args: string[]): { status: number | null; lines: string[] } 
 }
 
 beforeAll(async () => {
-  for (const name of ['clean', 'truncated', 'dropout', 'gap', 'clip', 'phase'] as const) paths.set(name, (await writeDefectFile(dir, name)).path);
+  for (const name of ['clean', 'truncated', 'dropout', 'gap', 'clip', 'phase'] as const)
+    paths.set(name, (await writeDefectFile(dir, name)).path);
 });
 afterAll(cleanup);
 
@@ -26,26 +27,38 @@ describe('earmark check on damaged deliveries', () => {
     const { status, lines } = earmark('check', paths.get('truncated')!, '--profile', 'ebu-r128');
     expect(status).toBe(2);
     expect(lines[0]).toMatch(/^FAIL: damaged file at 00:00:10:00: audio ends at 10\.000 s/);
-    expect(lines.some((l) => /^ {2}#1 +00:00:10:00 - 00:00:10:00 {2}fail {4}Audio ends early {2}ch all {2}\[integrity\]$/.test(l))).toBe(true);
+    expect(
+      lines.some((l) =>
+        /^ {2}#1 +00:00:10:00 - 00:00:10:00 {2}fail {4}Audio ends early {2}ch all {2}\[integrity\]$/.test(l),
+      ),
+    ).toBe(true);
   });
 
   it('a clean file passes and prints its readings with units', () => {
     const { status, lines } = earmark('check', paths.get('clean')!, '--profile', 'ebu-r128');
     expect(status).toBe(0);
     expect(lines[0]).toMatch(/^PASS: all 3 checks met; integrated -23\.0 LUFS, true peak -23\.0 dBTP$/);
-    expect(lines).toContainEqual(expect.stringMatching(/^readings integrated -23\.0 LUFS, LRA \d+\.\d LU, true peak -23\.0 dBTP \(reconstructed -23\.0 dBTP\), sample peak -23\.0 dBFS$/));
+    expect(lines).toContainEqual(
+      expect.stringMatching(
+        /^readings integrated -23\.0 LUFS, LRA \d+\.\d LU, true peak -23\.0 dBTP \(reconstructed -23\.0 dBTP\), sample peak -23\.0 dBFS$/,
+      ),
+    );
   });
 
   it('a dropout in R fails the broadcast delivery with a flag at 00:00:08:00 in channel 2 R', () => {
     const { status, lines } = earmark('check', paths.get('dropout')!, '--profile', 'delivery-broadcast-stereo');
     expect(status).toBe(2);
-    expect(lines).toContainEqual(expect.stringMatching(/00:00:08:00 - 00:00:08:12 {2}fail {4}Dropout {2}ch 2 R {2}\[no-dropouts\]/));
+    expect(lines).toContainEqual(
+      expect.stringMatching(/00:00:08:00 - 00:00:08:12 {2}fail {4}Dropout {2}ch 2 R {2}\[no-dropouts\]/),
+    );
   });
 
   it('an 11 s gap warns under the broadcast delivery (dead air, common practice)', () => {
     const { status, lines } = earmark('check', paths.get('gap')!, '--profile', 'delivery-broadcast-stereo');
     expect(status).toBe(1);
-    expect(lines).toContainEqual(expect.stringMatching(/00:00:08:00 - 00:00:19:00 {2}warn {4}Gap in programme {2}ch all {2}\[no-dead-air\]/));
+    expect(lines).toContainEqual(
+      expect.stringMatching(/00:00:08:00 - 00:00:19:00 {2}warn {4}Gap in programme {2}ch all {2}\[no-dead-air\]/),
+    );
   });
 
   it('clip runs are shown under ebu-r128 as remarks, the overs as failures', () => {
@@ -58,7 +71,9 @@ describe('earmark check on damaged deliveries', () => {
   it('an anti-phase passage warns under the broadcast delivery, naming both channels', () => {
     const { status, lines } = earmark('check', paths.get('phase')!, '--profile', 'delivery-broadcast-stereo');
     expect(status).toBe(1);
-    expect(lines.some((l) => /warn +Anti-phase passage {2}ch 1 L \/ 2 R {2}worst -1\.00 correlation/.test(l))).toBe(true);
+    expect(lines.some((l) => /warn +Anti-phase passage {2}ch 1 L \/ 2 R {2}worst -1\.00 correlation/.test(l))).toBe(
+      true,
+    );
   });
 
   it('analyze lists the dropout as an event in channel 2 R', () => {

@@ -18,7 +18,12 @@ const tmpFile = (): string => join(dir, `f${counter++}.aiff`);
 const be16 = (v: number): number[] => [(v >> 8) & 0xff, v & 0xff];
 const be32 = (v: number): number[] => [(v >>> 24) & 0xff, (v >>> 16) & 0xff, (v >>> 8) & 0xff, v & 0xff];
 const id = (s: string): number[] => [...s].map((c) => c.charCodeAt(0));
-const chunk = (name: string, body: number[]): number[] => [...id(name), ...be32(body.length), ...body, ...(body.length % 2 ? [0] : [])];
+const chunk = (name: string, body: number[]): number[] => [
+  ...id(name),
+  ...be32(body.length),
+  ...body,
+  ...(body.length % 2 ? [0] : []),
+];
 
 // 80-bit extended bytes for common rates: Apple AIFF 1.3 sample files and common practice (from memory).
 const RATE_44100 = [0x40, 0x0e, 0xac, 0x44, 0, 0, 0, 0, 0, 0];
@@ -26,8 +31,15 @@ const RATE_48000 = [0x40, 0x0e, 0xbb, 0x80, 0, 0, 0, 0, 0, 0];
 
 /** COMM (AIFF 1.3 section "Common Chunk"): channels, frames, bits, 80-bit rate; AIFF-C adds type + pstring. */
 const comm = (channels: number, frames: number, bits: number, rate = RATE_44100, compression?: string): number[] =>
-  chunk('COMM', [...be16(channels), ...be32(frames), ...be16(bits), ...rate, ...(compression ? [...id(compression), 0, 0] : [])]);
-const ssnd = (data: number[], offset = 0): number[] => chunk('SSND', [...be32(offset), ...be32(0), ...new Array(offset).fill(0xee), ...data]);
+  chunk('COMM', [
+    ...be16(channels),
+    ...be32(frames),
+    ...be16(bits),
+    ...rate,
+    ...(compression ? [...id(compression), 0, 0] : []),
+  ]);
+const ssnd = (data: number[], offset = 0): number[] =>
+  chunk('SSND', [...be32(offset), ...be32(0), ...new Array(offset).fill(0xee), ...data]);
 const form = (type: 'AIFF' | 'AIFC', chunks: number[][]): Uint8Array => {
   const body = chunks.flat();
   return new Uint8Array([...id('FORM'), ...be32(body.length + 4), ...id(type), ...body]);
@@ -47,14 +59,19 @@ async function decode(bytes: Uint8Array): Promise<{ decoded: DecodedAudio; chann
 }
 
 async function expectCode(promise: Promise<unknown>, code: string, message?: RegExp): Promise<void> {
-  const error = await promise.then(() => null, (e: unknown) => e);
+  const error = await promise.then(
+    () => null,
+    (e: unknown) => e,
+  );
   expect(error).toBeInstanceOf(EarmarkError);
   expect((error as EarmarkError).code).toBe(code);
   if (message) expect((error as EarmarkError).message).toMatch(message);
 }
 
 function ffmpegPlanar(path: string, channels: number): Float32Array[] {
-  const raw = execFileSync('/usr/bin/ffmpeg', ['-v', 'error', '-i', path, '-f', 'f32le', '-c:a', 'pcm_f32le', '-'], { maxBuffer: 64 * 1024 * 1024 });
+  const raw = execFileSync('/usr/bin/ffmpeg', ['-v', 'error', '-i', path, '-f', 'f32le', '-c:a', 'pcm_f32le', '-'], {
+    maxBuffer: 64 * 1024 * 1024,
+  });
   const all = new Float32Array(raw.buffer, raw.byteOffset, raw.length / 4);
   return Array.from({ length: channels }, (_, c) => all.filter((_, i) => i % channels === c));
 }
@@ -71,7 +88,10 @@ describe('80-bit IEEE 754 extended sample rate (Apple AIFF 1.3 / IEEE 754 double
     expect(readExtended80(new Uint8Array(10), 0)).toBe(0);
   });
   it('round-trips the encoder for integer and fractional rates', () => {
-    for (const rate of [1, 8000, 11025, 22050, 22254.545454545454, 44100, 48000, 88200, 96000, 176400, 192000, 352800, 384000, 705600, 768000, 1536000]) {
+    for (const rate of [
+      1, 8000, 11025, 22050, 22254.545454545452, 44100, 48000, 88200, 96000, 176400, 192000, 352800, 384000, 705600,
+      768000, 1536000,
+    ]) {
       expect(readExtended80(extended80(rate), 0)).toBe(rate);
     }
     expect([...extended80(44100)]).toEqual(RATE_44100);
@@ -85,20 +105,25 @@ describe('80-bit IEEE 754 extended sample rate (Apple AIFF 1.3 / IEEE 754 double
       [...extended80(2_000_000)],
       [0x00, 0x01, 0x80, 0, 0, 0, 0, 0, 0, 0],
     ];
-    for (const rate of bad) await expectCode(decode(form('AIFF', [comm(1, 1, 16, rate), ssnd([0, 0])])), 'corrupt_file', /sample rate/);
+    for (const rate of bad)
+      await expectCode(decode(form('AIFF', [comm(1, 1, 16, rate), ssnd([0, 0])])), 'corrupt_file', /sample rate/);
   });
 });
 
-describe('sample encodings (AIFF: big-endian signed two\'s complement, 8-bit signed; AIFF-C types)', () => {
+describe("sample encodings (AIFF: big-endian signed two's complement, 8-bit signed; AIFF-C types)", () => {
   it('AIFF 8, 16, 24, 32-bit big-endian', async () => {
     const a8 = await decode(form('AIFF', [comm(1, 4, 8), ssnd([0x80, 0xff, 0x00, 0x7f])]));
     expect(a8.decoded.format.encoding).toBe('pcm_s8');
     expect([...a8.channels[0]]).toEqual([-128, -1, 0, 127].map((x) => x / 128));
-    const a16 = await decode(form('AIFF', [comm(2, 2, 16), ssnd([...be16(-32768), ...be16(32767), ...be16(-1), ...be16(1)])]));
+    const a16 = await decode(
+      form('AIFF', [comm(2, 2, 16), ssnd([...be16(-32768), ...be16(32767), ...be16(-1), ...be16(1)])]),
+    );
     expect([...a16.channels[0]]).toEqual([-1, -1 / 32768]);
     expect([...a16.channels[1]]).toEqual([32767 / 32768, 1 / 32768]);
     const v24 = [-8388608, 8388607, -2, 70000, 5];
-    const a24 = await decode(form('AIFF', [comm(1, 5, 24), ssnd(v24.flatMap((v) => [(v >> 16) & 0xff, (v >> 8) & 0xff, v & 0xff]))]));
+    const a24 = await decode(
+      form('AIFF', [comm(1, 5, 24), ssnd(v24.flatMap((v) => [(v >> 16) & 0xff, (v >> 8) & 0xff, v & 0xff]))]),
+    );
     expect(a24.decoded.format.encoding).toBe('pcm_s24be');
     expect([...a24.channels[0]]).toEqual(v24.map((x) => x / 8388608));
     const v32 = [-2147483648, 2147483647, 77];
@@ -116,14 +141,24 @@ describe('sample encodings (AIFF: big-endian signed two\'s complement, 8-bit sig
       const { channels } = await decode(form('AIFC', [comm(1, 2, 16, RATE_48000, type), ssnd(pcm)]));
       expect([...channels[0]]).toEqual([1000 / 32768, -1000 / 32768]);
     }
-    const sowt = await decode(form('AIFC', [comm(1, 2, 24, RATE_48000, 'sowt'), ssnd([0x01, 0x02, 0x03, 0xff, 0xff, 0xff])]));
+    const sowt = await decode(
+      form('AIFC', [comm(1, 2, 24, RATE_48000, 'sowt'), ssnd([0x01, 0x02, 0x03, 0xff, 0xff, 0xff])]),
+    );
     expect(sowt.decoded.format.encoding).toBe('pcm_s24le');
     expect([...sowt.channels[0]]).toEqual([0x030201 / 8388608, -1 / 8388608]);
     const values = [0.5, -0.125, 3];
     const f32 = new Uint8Array(12);
     const f64 = new Uint8Array(24);
-    values.forEach((v, i) => { new DataView(f32.buffer).setFloat32(i * 4, v); new DataView(f64.buffer).setFloat64(i * 8, v); });
-    for (const [type, bytes, bits] of [['fl32', f32, 32], ['FL32', f32, 32], ['fl64', f64, 64], ['FL64', f64, 64]] as const) {
+    values.forEach((v, i) => {
+      new DataView(f32.buffer).setFloat32(i * 4, v);
+      new DataView(f64.buffer).setFloat64(i * 8, v);
+    });
+    for (const [type, bytes, bits] of [
+      ['fl32', f32, 32],
+      ['FL32', f32, 32],
+      ['fl64', f64, 64],
+      ['FL64', f64, 64],
+    ] as const) {
       const { channels, decoded } = await decode(form('AIFC', [comm(1, 3, bits, RATE_48000, type), ssnd([...bytes])]));
       expect(decoded.format.encoding).toBe(`pcm_f${bits}be`);
       expect([...channels[0]]).toEqual(values);
@@ -131,12 +166,24 @@ describe('sample encodings (AIFF: big-endian signed two\'s complement, 8-bit sig
   });
   it('other AIFF-C types (ulaw, alaw, ima4) are unsupported_encoding', async () => {
     for (const type of ['ulaw', 'alaw', 'ima4']) {
-      await expectCode(decode(form('AIFC', [comm(1, 2, 16, RATE_48000, type), ssnd([0, 0])])), 'unsupported_encoding', new RegExp(type));
+      await expectCode(
+        decode(form('AIFC', [comm(1, 2, 16, RATE_48000, type), ssnd([0, 0])])),
+        'unsupported_encoding',
+        new RegExp(type),
+      );
     }
   });
   it('project writer round-trips AIFF and AIFF-C sowt/fl32', async () => {
     const left = Float32Array.from({ length: 300 }, (_, i) => ((i % 200) - 100) / 128);
-    for (const [bits, compression] of [[8, undefined], [16, undefined], [24, undefined], [16, 'sowt'], [24, 'sowt'], [32, 'fl32'], [64, 'fl64']] as const) {
+    for (const [bits, compression] of [
+      [8, undefined],
+      [16, undefined],
+      [24, undefined],
+      [16, 'sowt'],
+      [24, 'sowt'],
+      [32, 'fl32'],
+      [64, 'fl64'],
+    ] as const) {
       const path = tmpFile();
       await writeAiffFile(path, { sampleRate: 96000, channels: 1, bitsPerSample: bits, compression }, [[left]]);
       const decoded = await openAudioFile(path);
@@ -149,19 +196,30 @@ describe('sample encodings (AIFF: big-endian signed two\'s complement, 8-bit sig
 describe('chunk structure', () => {
   const pcm = [...be16(5), ...be16(-5)];
   it('SSND offset skips leading bytes; unknown and odd chunks are skipped', async () => {
-    const { channels } = await decode(form('AIFF', [chunk('ANNO', [1, 2, 3]), comm(1, 2, 16), chunk('MARK', [0, 0]), ssnd(pcm, 6)]));
+    const { channels } = await decode(
+      form('AIFF', [chunk('ANNO', [1, 2, 3]), comm(1, 2, 16), chunk('MARK', [0, 0]), ssnd(pcm, 6)]),
+    );
     expect([...channels[0]]).toEqual([5 / 32768, -5 / 32768]);
   });
   it('SSND before COMM works in a file, is corrupt_file from a stream', async () => {
     const bytes = form('AIFF', [ssnd(pcm), comm(1, 2, 16)]);
     const { channels } = await decode(bytes);
     expect([...channels[0]]).toEqual([5 / 32768, -5 / 32768]);
-    async function* once(): AsyncGenerator<Uint8Array> { yield bytes; }
+    async function* once(): AsyncGenerator<Uint8Array> {
+      yield bytes;
+    }
     await expectCode(openPcmStream(once()), 'corrupt_file', /SSND comes before COMM/);
   });
   it('truncated sound data: truncated_data with atFrame; SSND shorter than COMM declares: truncated_data where it ends', async () => {
     const cut = form('AIFF', [comm(2, 1000, 16)]);
-    const withData = new Uint8Array([...cut, ...id('SSND'), ...be32(8 + 4000), ...be32(0), ...be32(0), ...new Array(4 * 300 + 2).fill(0)]);
+    const withData = new Uint8Array([
+      ...cut,
+      ...id('SSND'),
+      ...be32(8 + 4000),
+      ...be32(0),
+      ...be32(0),
+      ...new Array(4 * 300 + 2).fill(0),
+    ]);
     const t = await decode(withData);
     expect(t.decoded.format.frames).toBe(1000);
     expect(t.decoded.framesDecoded).toBe(300);
@@ -191,18 +249,53 @@ describe('files from other writers', () => {
     const path = tmpFile();
     execFileSync('/usr/bin/sox', ['-n', '-r', '44100', '-c', '2', '-b', '16', path, 'synth', '0.1', 'sine', '1000']);
     const decoded = await openAudioFile(path);
-    expect(decoded.format).toMatchObject({ container: 'aiff', sampleRate: 44100, channels: 2, frames: 4410, encoding: 'pcm_s16be' });
+    expect(decoded.format).toMatchObject({
+      container: 'aiff',
+      sampleRate: 44100,
+      channels: 2,
+      frames: 4410,
+      encoding: 'pcm_s16be',
+    });
     expect(await collect(decoded)).toEqual(ffmpegPlanar(path, 2));
   });
   it('sox 24-bit AIFF-C NONE and ffmpeg AIFF-C sowt / fl32 / 24-bit AIFF', async () => {
     const soxPath = join(dir, 'sox.aifc');
-    execFileSync('/usr/bin/sox', ['-n', '-r', '48000', '-c', '1', '-b', '24', '-t', 'aifc', soxPath, 'synth', '0.05', 'sine', '440']);
+    execFileSync('/usr/bin/sox', [
+      '-n',
+      '-r',
+      '48000',
+      '-c',
+      '1',
+      '-b',
+      '24',
+      '-t',
+      'aifc',
+      soxPath,
+      'synth',
+      '0.05',
+      'sine',
+      '440',
+    ]);
     const sox = await openAudioFile(soxPath);
     expect(sox.format).toMatchObject({ container: 'aifc', sampleRate: 48000, encoding: 'pcm_s24be' });
     expect(await collect(sox)).toEqual(ffmpegPlanar(soxPath, 1));
     for (const codec of ['pcm_s16le', 'pcm_f32be', 'pcm_s24be', 'pcm_s32be']) {
       const path = tmpFile();
-      execFileSync('/usr/bin/ffmpeg', ['-v', 'error', '-f', 'lavfi', '-i', 'sine=frequency=300:sample_rate=22050:duration=0.1', '-ac', '2', '-c:a', codec, '-f', 'aiff', path]);
+      execFileSync('/usr/bin/ffmpeg', [
+        '-v',
+        'error',
+        '-f',
+        'lavfi',
+        '-i',
+        'sine=frequency=300:sample_rate=22050:duration=0.1',
+        '-ac',
+        '2',
+        '-c:a',
+        codec,
+        '-f',
+        'aiff',
+        path,
+      ]);
       const decoded = await openAudioFile(path);
       expect(decoded.format.sampleRate).toBe(22050);
       expect(await collect(decoded)).toEqual(ffmpegPlanar(path, 2));

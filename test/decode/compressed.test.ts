@@ -26,10 +26,14 @@ function encode(name: string, source: string, codecArgs: string[], channels = 2)
 }
 /** ffmpeg's own decode as planar float (relies on: ffmpeg f32le output is interleaved native-endian float). */
 function reference(path: string, channels: number): Float32Array[] {
-  const raw = execFileSync('ffmpeg', ['-v', 'error', '-i', path, '-f', 'f32le', '-ac', String(channels), '-'], { maxBuffer: 1 << 28 });
+  const raw = execFileSync('ffmpeg', ['-v', 'error', '-i', path, '-f', 'f32le', '-ac', String(channels), '-'], {
+    maxBuffer: 1 << 28,
+  });
   const inter = new Float32Array(raw.buffer, raw.byteOffset, raw.byteLength / 4);
   const frames = inter.length / channels;
-  return Array.from({ length: channels }, (_, c) => Float32Array.from({ length: frames }, (_, i) => inter[i * channels + c]));
+  return Array.from({ length: channels }, (_, c) =>
+    Float32Array.from({ length: frames }, (_, i) => inter[i * channels + c]),
+  );
 }
 async function decodeAll(d: DecodedAudio): Promise<Float32Array[]> {
   const parts: Float32Array[][] = [];
@@ -37,7 +41,10 @@ async function decodeAll(d: DecodedAudio): Promise<Float32Array[]> {
   return Array.from({ length: d.format.channels }, (_, c) => {
     const out = new Float32Array(parts.reduce((n, p) => n + p[c].length, 0));
     let at = 0;
-    for (const p of parts) { out.set(p[c], at); at += p[c].length; }
+    for (const p of parts) {
+      out.set(p[c], at);
+      at += p[c].length;
+    }
     return out;
   });
 }
@@ -54,7 +61,10 @@ async function expectTypedOrTruncated(path: string, container: Container): Promi
   }
 }
 async function expectTypedError(path: string, container: Container, code?: string): Promise<void> {
-  const run = async () => { const d = await openAudioFileAs(path, container); await decodeAll(d); };
+  const run = async () => {
+    const d = await openAudioFileAs(path, container);
+    await decodeAll(d);
+  };
   await expect(run()).rejects.toBeInstanceOf(EarmarkError);
   if (code) await expect(run()).rejects.toMatchObject({ code });
 }
@@ -66,13 +76,33 @@ function cut(path: string, fraction: number): string {
 }
 
 describe.skipIf(!hasFfmpeg)('compressed decoders against ffmpeg', () => {
-  beforeAll(() => { dir = mkdtempSync(join(tmpdir(), 'earmark-compressed-')); });
-  afterAll(() => { if (dir) rmSync(dir, { recursive: true, force: true }); });
+  beforeAll(() => {
+    dir = mkdtempSync(join(tmpdir(), 'earmark-compressed-'));
+  });
+  afterAll(() => {
+    if (dir) rmSync(dir, { recursive: true, force: true });
+  });
 
-  it.each([[16, 's16'], [24, 's32']])('FLAC %i-bit is bit-exact', async (bits, fmt) => {
-    const f = encode(`f${bits}.flac`, STEREO, ['-c:a', 'flac', '-sample_fmt', fmt, ...(bits === 24 ? ['-bits_per_raw_sample', '24'] : [])]);
+  it.each([
+    [16, 's16'],
+    [24, 's32'],
+  ])('FLAC %i-bit is bit-exact', async (bits, fmt) => {
+    const f = encode(`f${bits}.flac`, STEREO, [
+      '-c:a',
+      'flac',
+      '-sample_fmt',
+      fmt,
+      ...(bits === 24 ? ['-bits_per_raw_sample', '24'] : []),
+    ]);
     const d = await openAudioFileAs(f, 'flac', { maxBlockFrames: 4096 });
-    expect(d.format).toMatchObject({ encoding: 'flac', sampleRate: 48000, channels: 2, bitsPerSample: bits, frames: 240000, durationSeconds: 5 });
+    expect(d.format).toMatchObject({
+      encoding: 'flac',
+      sampleRate: 48000,
+      channels: 2,
+      bitsPerSample: bits,
+      frames: 240000,
+      durationSeconds: 5,
+    });
     const ours = await decodeAll(d);
     const ref = reference(f, 2);
     expect(d.framesDecoded).toBe(ref[0].length);
@@ -91,17 +121,20 @@ describe.skipIf(!hasFfmpeg)('compressed decoders against ffmpeg', () => {
     ['v.ogg', STEREO, 'ogg', ['-c:a', 'libvorbis', '-q:a', '4'], 2, 'vorbis', 2048],
     ['o.opus', STEREO, 'ogg', ['-c:a', 'libopus', '-b:a', '96k'], 2, 'opus', 960],
   ];
-  it.each(lossy)('%s: rate, channels, frame count and level match ffmpeg', async (name, src, container, args, channels, encoding, slack) => {
-    const f = encode(name, src, args, channels);
-    const d = await openAudioFileAs(f, container);
-    expect(d.format).toMatchObject({ container, encoding, sampleRate: 48000, channels, bitsPerSample: null });
-    const ours = await decodeAll(d);
-    const ref = reference(f, channels);
-    expect(ours.length).toBe(channels);
-    expect(Math.abs(d.framesDecoded - ref[0].length)).toBeLessThanOrEqual(slack);
-    for (let c = 0; c < channels; c++) expect(Math.abs(rmsDb(ours[c]) - rmsDb(ref[c]))).toBeLessThan(0.1);
-    expect(d.warnings.filter((w) => w.code !== 'channels_restored')).toEqual([]);
-  });
+  it.each(lossy)(
+    '%s: rate, channels, frame count and level match ffmpeg',
+    async (name, src, container, args, channels, encoding, slack) => {
+      const f = encode(name, src, args, channels);
+      const d = await openAudioFileAs(f, container);
+      expect(d.format).toMatchObject({ container, encoding, sampleRate: 48000, channels, bitsPerSample: null });
+      const ours = await decodeAll(d);
+      const ref = reference(f, channels);
+      expect(ours.length).toBe(channels);
+      expect(Math.abs(d.framesDecoded - ref[0].length)).toBeLessThanOrEqual(slack);
+      for (let c = 0; c < channels; c++) expect(Math.abs(rmsDb(ours[c]) - rmsDb(ref[c]))).toBeLessThan(0.1);
+      expect(d.warnings.filter((w) => w.code !== 'channels_restored')).toEqual([]);
+    },
+  );
 
   it('keeps identical-channel stereo MP3 as two channels', async () => {
     const d = await openAudioFileAs(join(dir, 'dual.mp3'), 'mp3');
@@ -113,14 +146,24 @@ describe.skipIf(!hasFfmpeg)('compressed decoders against ffmpeg', () => {
   it('yields blocks no longer than maxBlockFrames and frees on early stop', async () => {
     const d = await openAudioFileAs(join(dir, 'cbr.mp3'), 'mp3', { maxBlockFrames: 1000 });
     let n = 0;
-    for await (const b of d.blocks) { expect(b.frames).toBeLessThanOrEqual(1000); if (++n === 3) break; }
+    for await (const b of d.blocks) {
+      expect(b.frames).toBeLessThanOrEqual(1000);
+      if (++n === 3) break;
+    }
     expect(d.framesDecoded).toBe(3000);
   });
 
-  it.each([['f16.flac', 'flac'], ['cbr.mp3', 'mp3'], ['vbr.mp3', 'mp3'], ['front.m4a', 'm4a'], ['end.m4a', 'm4a'], ['v.ogg', 'ogg'], ['o.opus', 'ogg']] as const)(
-    '%s cut at 50 %% warns or throws, never a silent short result', async (name, container) => {
-      await expectTypedOrTruncated(cut(join(dir, name), 0.5), container);
-    });
+  it.each([
+    ['f16.flac', 'flac'],
+    ['cbr.mp3', 'mp3'],
+    ['vbr.mp3', 'mp3'],
+    ['front.m4a', 'm4a'],
+    ['end.m4a', 'm4a'],
+    ['v.ogg', 'ogg'],
+    ['o.opus', 'ogg'],
+  ] as const)('%s cut at 50 %% warns or throws, never a silent short result', async (name, container) => {
+    await expectTypedOrTruncated(cut(join(dir, name), 0.5), container);
+  });
 
   it('a cut FLAC reports truncated_data at the frame it stopped', async () => {
     const d = await openAudioFileAs(cut(join(dir, 'f16.flac'), 0.5), 'flac');
@@ -128,28 +171,41 @@ describe.skipIf(!hasFfmpeg)('compressed decoders against ffmpeg', () => {
     expect(d.warnings).toEqual([expect.objectContaining({ code: 'truncated_data', atFrame: d.framesDecoded })]);
   });
 
-  it.each([['f16.flac', 'flac'], ['cbr.mp3', 'mp3'], ['front.m4a', 'm4a'], ['v.ogg', 'ogg'], ['o.opus', 'ogg']] as const)(
-    '%s with random bytes after the first 64 throws a typed error', async (name, container) => {
-      const b = readFileSync(join(dir, name));
-      const junk = Buffer.concat([b.subarray(0, 64), Buffer.from(Array.from({ length: b.length - 64 }, () => (Math.random() * 256) | 0))]);
-      const out = join(dir, `junk-${name}`);
-      writeFileSync(out, junk);
-      await expectTypedError(out, container);
-    });
+  it.each([
+    ['f16.flac', 'flac'],
+    ['cbr.mp3', 'mp3'],
+    ['front.m4a', 'm4a'],
+    ['v.ogg', 'ogg'],
+    ['o.opus', 'ogg'],
+  ] as const)('%s with random bytes after the first 64 throws a typed error', async (name, container) => {
+    const b = readFileSync(join(dir, name));
+    const junk = Buffer.concat([
+      b.subarray(0, 64),
+      Buffer.from(Array.from({ length: b.length - 64 }, () => (Math.random() * 256) | 0)),
+    ]);
+    const out = join(dir, `junk-${name}`);
+    writeFileSync(out, junk);
+    await expectTypedError(out, container);
+  });
 
-  it.each([['f16.flac', 'flac'], ['cbr.mp3', 'mp3'], ['front.m4a', 'm4a']] as const)(
-    '%s damaged in the middle throws corrupt_file', async (name, container) => {
-      const b = Buffer.from(readFileSync(join(dir, name)));
-      const at = Math.floor(b.length / 3);
-      for (let i = 0; i < 4000; i++) b[at + i] = (Math.random() * 256) | 0;
-      const out = join(dir, `mid-${name}`);
-      writeFileSync(out, b);
-      await expectTypedError(out, container, 'corrupt_file');
-    });
+  it.each([
+    ['f16.flac', 'flac'],
+    ['cbr.mp3', 'mp3'],
+    ['front.m4a', 'm4a'],
+  ] as const)('%s damaged in the middle throws corrupt_file', async (name, container) => {
+    const b = Buffer.from(readFileSync(join(dir, name)));
+    const at = Math.floor(b.length / 3);
+    for (let i = 0; i < 4000; i++) b[at + i] = (Math.random() * 256) | 0;
+    const out = join(dir, `mid-${name}`);
+    writeFileSync(out, b);
+    await expectTypedError(out, container, 'corrupt_file');
+  });
 
   it('refuses a whole-file M4A over the decoded-size cap before decoding', async () => {
     const f = join(dir, 'end.m4a');
     expect(statSync(f).size).toBeGreaterThan(0);
-    await expect(openAudioFileAs(f, 'm4a', { maxDecodedBytes: 1_000_000 })).rejects.toMatchObject({ code: 'decoded_size_exceeded' });
+    await expect(openAudioFileAs(f, 'm4a', { maxDecodedBytes: 1_000_000 })).rejects.toMatchObject({
+      code: 'decoded_size_exceeded',
+    });
   });
 });

@@ -21,8 +21,15 @@ async function drain(d: DecodedAudio): Promise<void> {
 /** Frames ffmpeg decodes from `path`: the sum of nb_samples over its decoded frames. */
 function ffmpegFrames(path: string): number {
   // Its complaints about the cut last packet are expected: stderr is not shown.
-  const out = execFileSync('ffprobe', ['-v', 'error', '-select_streams', 'a', '-show_entries', 'frame=nb_samples', '-of', 'csv=p=0', path], { stdio: ['ignore', 'pipe', 'ignore'] });
-  return out.toString().split('\n').reduce((sum, line) => sum + (Number(line) || 0), 0);
+  const out = execFileSync(
+    'ffprobe',
+    ['-v', 'error', '-select_streams', 'a', '-show_entries', 'frame=nb_samples', '-of', 'csv=p=0', path],
+    { stdio: ['ignore', 'pipe', 'ignore'] },
+  );
+  return out
+    .toString()
+    .split('\n')
+    .reduce((sum, line) => sum + (Number(line) || 0), 0);
 }
 function cutCopy(name: string, args: string[]): string {
   const whole = join(dir, name);
@@ -34,8 +41,12 @@ function cutCopy(name: string, args: string[]): string {
 }
 
 describe.skipIf(!hasFfmpeg)('cut files: truncated_data at the frame the audio stops', () => {
-  beforeAll(() => { dir = mkdtempSync(join(tmpdir(), 'earmark-cut-')); });
-  afterAll(() => { if (dir) rmSync(dir, { recursive: true, force: true }); });
+  beforeAll(() => {
+    dir = mkdtempSync(join(tmpdir(), 'earmark-cut-'));
+  });
+  afterAll(() => {
+    if (dir) rmSync(dir, { recursive: true, force: true });
+  });
 
   // [file, ffmpeg arguments, frames ours may differ from ffmpeg's]
   const cases: [string, string[], number][] = [
@@ -54,24 +65,35 @@ describe.skipIf(!hasFfmpeg)('cut files: truncated_data at the frame the audio st
     ['opus.opus', ['-c:a', 'libopus'], 0],
     ['opus.webm', ['-c:a', 'libopus'], 0],
   ];
-  it.each(cases)('%s cut at half its bytes', async (name, args, slack) => {
-    const path = cutCopy(name, args);
-    const d = await openAudioFile(path);
-    await drain(d);
-    expect(d.framesDecoded).toBeGreaterThan(0);
-    expect(Math.abs(d.framesDecoded - ffmpegFrames(path))).toBeLessThanOrEqual(slack);
-    expect(d.warnings).toEqual([expect.objectContaining({ code: 'truncated_data', atFrame: d.framesDecoded })]);
-  }, 20_000);
+  it.each(cases)(
+    '%s cut at half its bytes',
+    async (name, args, slack) => {
+      const path = cutCopy(name, args);
+      const d = await openAudioFile(path);
+      await drain(d);
+      expect(d.framesDecoded).toBeGreaterThan(0);
+      expect(Math.abs(d.framesDecoded - ffmpegFrames(path))).toBeLessThanOrEqual(slack);
+      expect(d.warnings).toEqual([expect.objectContaining({ code: 'truncated_data', atFrame: d.framesDecoded })]);
+    },
+    20_000,
+  );
 });
 
 describe('declared lengths and tiny WAVs', () => {
   let dir = '';
-  beforeAll(() => { dir = mkdtempSync(join(tmpdir(), 'earmark-tiny-')); });
-  afterAll(() => { if (dir) rmSync(dir, { recursive: true, force: true }); });
+  beforeAll(() => {
+    dir = mkdtempSync(join(tmpdir(), 'earmark-tiny-'));
+  });
+  afterAll(() => {
+    if (dir) rmSync(dir, { recursive: true, force: true });
+  });
 
   it('RF64 whose ds64 sample count is more than its data holds: truncated_data where the data ends', async () => {
     const frames = 1000;
-    const bytes = Buffer.concat([wavHeader({ sampleRate: 48000, channels: 2, bitsPerSample: 16, float: false, frames, rf64: true }), Buffer.alloc(frames * 4)]);
+    const bytes = Buffer.concat([
+      wavHeader({ sampleRate: 48000, channels: 2, bitsPerSample: 16, float: false, frames, rf64: true }),
+      Buffer.alloc(frames * 4),
+    ]);
     // EBU Tech 3306 ds64: after its 8-byte header, riffSize (8), dataSize (8), sampleCount (8).
     const ds64Body = bytes.indexOf('ds64') + 8;
     bytes.writeUInt32LE(frames + 500, ds64Body + 16);
@@ -89,12 +111,23 @@ describe('declared lengths and tiny WAVs', () => {
     const d = await openAudioFile(path);
     let blocks = 0;
     for await (const _ of d.blocks) blocks++;
-    expect({ blocks, frames: d.framesDecoded, declared: d.format.frames, warnings: d.warnings }).toEqual({ blocks: 0, frames: 0, declared: 0, warnings: [] });
+    expect({ blocks, frames: d.framesDecoded, declared: d.format.frames, warnings: d.warnings }).toEqual({
+      blocks: 0,
+      frames: 0,
+      declared: 0,
+      warnings: [],
+    });
   });
 
   it('a WAV with a header and one frame decodes that frame', async () => {
     const path = join(dir, 'one-frame.wav');
-    writeFileSync(path, Buffer.concat([wavHeader({ sampleRate: 48000, channels: 2, bitsPerSample: 16, float: false, frames: 1 }), encodePcmFrames([Float32Array.of(0.5), Float32Array.of(-0.25)], 16, false)]));
+    writeFileSync(
+      path,
+      Buffer.concat([
+        wavHeader({ sampleRate: 48000, channels: 2, bitsPerSample: 16, float: false, frames: 1 }),
+        encodePcmFrames([Float32Array.of(0.5), Float32Array.of(-0.25)], 16, false),
+      ]),
+    );
     const d = await openAudioFile(path);
     const got: number[][] = [];
     for await (const b of d.blocks) got.push(b.channelData.map((c) => c[0]));

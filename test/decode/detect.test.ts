@@ -17,9 +17,18 @@ const bytes = (...parts: (string | number[])[]): Uint8Array =>
 
 /** ID3v2.4 header (id3.org "ID3 tag version 2.4.0 - Main Structure" 3.1): synchsafe 28-bit size. */
 const id3 = (bodyBytes: number, footer = false): number[] => [
-  0x49, 0x44, 0x33, 4, 0, footer ? 0x10 : 0,
-  (bodyBytes >> 21) & 0x7f, (bodyBytes >> 14) & 0x7f, (bodyBytes >> 7) & 0x7f, bodyBytes & 0x7f,
-  ...new Array(bodyBytes).fill(0), ...(footer ? [0x33, 0x44, 0x49, 4, 0, 0x10, 0, 0, 0, 0] : []),
+  0x49,
+  0x44,
+  0x33,
+  4,
+  0,
+  footer ? 0x10 : 0,
+  (bodyBytes >> 21) & 0x7f,
+  (bodyBytes >> 14) & 0x7f,
+  (bodyBytes >> 7) & 0x7f,
+  bodyBytes & 0x7f,
+  ...new Array(bodyBytes).fill(0),
+  ...(footer ? [0x33, 0x44, 0x49, 4, 0, 0x10, 0, 0, 0, 0] : []),
 ];
 
 /** MPEG-1 layer III, 128 kbit/s, 44.1 kHz, no padding (ISO/IEC 11172-3 2.4.1.3): 144*128000/44100 = 417 bytes. */
@@ -87,7 +96,14 @@ describe('detectContainer on synthetic headers', () => {
 });
 
 describe('files written by ffmpeg', () => {
-  const encoders = new Set(hasTool('ffmpeg') ? execFileSync('/usr/bin/ffmpeg', ['-v', 'error', '-encoders']).toString().split('\n').map((l) => l.trim().split(/\s+/)[1]) : []);
+  const encoders = new Set(
+    hasTool('ffmpeg')
+      ? execFileSync('/usr/bin/ffmpeg', ['-v', 'error', '-encoders'])
+          .toString()
+          .split('\n')
+          .map((l) => l.trim().split(/\s+/)[1])
+      : [],
+  );
   const cases: [string, string[], Container, string][] = [
     ['x.flac', ['-c:a', 'flac'], 'flac', 'flac'],
     ['x.mp3', ['-c:a', 'libmp3lame', '-metadata', 'title=Invented demo'], 'mp3', 'libmp3lame'],
@@ -102,26 +118,66 @@ describe('files written by ffmpeg', () => {
     ['x.aiff', ['-c:a', 'pcm_s16be'], 'aiff', 'pcm_s16be'],
   ];
   for (const [name, args, container, encoder] of cases) {
-    it.runIf(encoders.has(encoder))(`${name} -> ${container}, from the bytes even under a misleading name`, async () => {
-      const path = join(dir, name);
-      execFileSync('/usr/bin/ffmpeg', ['-v', 'error', '-y', '-f', 'lavfi', '-i', 'sine=frequency=440:sample_rate=48000:duration=0.2', ...args, path]);
-      expect(detectContainer(readFileSync(path).subarray(0, 4096))).toBe(container);
-      const misnamed = join(dir, `${name}.txt`);
-      writeFileSync(misnamed, readFileSync(path));
-      expect((await openAudioFile(misnamed)).format.container).toBe(container);
-    });
+    it.runIf(encoders.has(encoder))(
+      `${name} -> ${container}, from the bytes even under a misleading name`,
+      async () => {
+        const path = join(dir, name);
+        execFileSync('/usr/bin/ffmpeg', [
+          '-v',
+          'error',
+          '-y',
+          '-f',
+          'lavfi',
+          '-i',
+          'sine=frequency=440:sample_rate=48000:duration=0.2',
+          ...args,
+          path,
+        ]);
+        expect(detectContainer(readFileSync(path).subarray(0, 4096))).toBe(container);
+        const misnamed = join(dir, `${name}.txt`);
+        writeFileSync(misnamed, readFileSync(path));
+        expect((await openAudioFile(misnamed)).format.container).toBe(container);
+      },
+    );
   }
-  it.runIf(encoders.has('libmp3lame'))('an ID3v2 tag longer than the detection head is followed by openAudioFile', async () => {
-    const path = join(dir, 'long-tag.mp3');
-    execFileSync('/usr/bin/ffmpeg', ['-v', 'error', '-y', '-f', 'lavfi', '-i', 'sine=duration=0.2', '-c:a', 'libmp3lame', '-metadata', `comment=${'invented demo text '.repeat(600)}`, path]);
-    const head = readFileSync(path).subarray(0, 4096);
-    expect(id3v2Length(head)).toBeGreaterThan(4096);
-    expect(detectContainer(head)).toBeNull();
-    expect((await openAudioFile(path)).format.container).toBe('mp3');
-  });
+  it.runIf(encoders.has('libmp3lame'))(
+    'an ID3v2 tag longer than the detection head is followed by openAudioFile',
+    async () => {
+      const path = join(dir, 'long-tag.mp3');
+      execFileSync('/usr/bin/ffmpeg', [
+        '-v',
+        'error',
+        '-y',
+        '-f',
+        'lavfi',
+        '-i',
+        'sine=duration=0.2',
+        '-c:a',
+        'libmp3lame',
+        '-metadata',
+        `comment=${'invented demo text '.repeat(600)}`,
+        path,
+      ]);
+      const head = readFileSync(path).subarray(0, 4096);
+      expect(id3v2Length(head)).toBeGreaterThan(4096);
+      expect(detectContainer(head)).toBeNull();
+      expect((await openAudioFile(path)).format.container).toBe('mp3');
+    },
+  );
   it('FLAC behind a synthetic ID3v2 tag', async () => {
     const flac = join(dir, 'tagged.flac');
-    execFileSync('/usr/bin/ffmpeg', ['-v', 'error', '-y', '-f', 'lavfi', '-i', 'sine=duration=0.1', '-c:a', 'flac', join(dir, 'plain.flac')]);
+    execFileSync('/usr/bin/ffmpeg', [
+      '-v',
+      'error',
+      '-y',
+      '-f',
+      'lavfi',
+      '-i',
+      'sine=duration=0.1',
+      '-c:a',
+      'flac',
+      join(dir, 'plain.flac'),
+    ]);
     writeFileSync(flac, new Uint8Array([...id3(6000), ...readFileSync(join(dir, 'plain.flac'))]));
     expect((await openAudioFile(flac)).format.container).toBe('flac');
   });

@@ -21,11 +21,22 @@ function encode(name: string, source: string, args: string[]): string {
 }
 /** Samples per channel as ffmpeg's FLAC decoder delivers them: the sum of nb_samples over decoded frames. */
 function ffprobeDecodedFrames(path: string): number {
-  const out = execFileSync('ffprobe', ['-v', 'error', '-select_streams', 'a', '-show_entries', 'frame=nb_samples', '-of', 'csv=p=0', path], { maxBuffer: 1 << 26 });
-  return out.toString().split('\n').reduce((sum, line) => sum + (Number(line) || 0), 0);
+  const out = execFileSync(
+    'ffprobe',
+    ['-v', 'error', '-select_streams', 'a', '-show_entries', 'frame=nb_samples', '-of', 'csv=p=0', path],
+    { maxBuffer: 1 << 26 },
+  );
+  return out
+    .toString()
+    .split('\n')
+    .reduce((sum, line) => sum + (Number(line) || 0), 0);
 }
 function ffprobeDeclaredFrames(path: string): number {
-  return Number(execFileSync('ffprobe', ['-v', 'error', '-show_entries', 'stream=duration_ts', '-of', 'csv=p=0', path]).toString().trim());
+  return Number(
+    execFileSync('ffprobe', ['-v', 'error', '-show_entries', 'stream=duration_ts', '-of', 'csv=p=0', path])
+      .toString()
+      .trim(),
+  );
 }
 async function drain(d: DecodedAudio, onBlock?: () => void): Promise<void> {
   for await (const _ of d.blocks) onBlock?.();
@@ -44,7 +55,12 @@ function frameStarts(b: Uint8Array): number[] {
   return starts;
 }
 /** Decodes `bytes` through the slicer in input chunks of `chunkBytes`, as openCompressed feeds the package. */
-async function decodeSliced(bytes: Uint8Array, chunkBytes: number, channels: number, slices?: number[]): Promise<Float32Array[]> {
+async function decodeSliced(
+  bytes: Uint8Array,
+  chunkBytes: number,
+  channels: number,
+  slices?: number[],
+): Promise<Float32Array[]> {
   const codec = await decoder();
   const slicer = new FlacInputSlicer(channels);
   const parts: Float32Array[][] = [];
@@ -65,17 +81,30 @@ async function decodeSliced(bytes: Uint8Array, chunkBytes: number, channels: num
   return Array.from({ length: channels }, (_, c) => {
     const out = new Float32Array(parts.reduce((n, p) => n + (p[c]?.length ?? 0), 0));
     let at = 0;
-    for (const p of parts) if (p[c]) { out.set(p[c], at); at += p[c].length; }
+    for (const p of parts)
+      if (p[c]) {
+        out.set(p[c], at);
+        at += p[c].length;
+      }
     return out;
   });
 }
 
 describe.skipIf(!hasFfmpeg)('long FLAC', () => {
-  beforeAll(() => { dir = mkdtempSync(join(tmpdir(), 'earmark-flac-long-')); });
-  afterAll(() => { if (dir) rmSync(dir, { recursive: true, force: true }); });
+  beforeAll(() => {
+    dir = mkdtempSync(join(tmpdir(), 'earmark-flac-long-'));
+  });
+  afterAll(() => {
+    if (dir) rmSync(dir, { recursive: true, force: true });
+  });
 
   it('no input slice ends inside a frame header, whatever the input chunk size', async () => {
-    const path = encode('tone.flac', 'aevalsrc=0.5*sin(2*PI*1000*t)|0.3*sin(2*PI*440*t):s=48000:d=3', ['-c:a', 'flac', '-frame_size', '256']);
+    const path = encode('tone.flac', 'aevalsrc=0.5*sin(2*PI*1000*t)|0.3*sin(2*PI*440*t):s=48000:d=3', [
+      '-c:a',
+      'flac',
+      '-frame_size',
+      '256',
+    ]);
     const bytes = new Uint8Array(readFileSync(path));
     const starts = frameStarts(bytes);
     expect(starts.length).toBe(Math.ceil((3 * 48000) / 256));
@@ -88,7 +117,8 @@ describe.skipIf(!hasFfmpeg)('long FLAC', () => {
       const cut = ends.filter((end) => starts.some((s) => end > s && end < s + FLAC_MAX_HEADER_BYTES));
       expect(cut, `chunks of ${chunkBytes} bytes`).toEqual([]);
       expect(sliced[0].length, `chunks of ${chunkBytes} bytes`).toBe(whole[0].length);
-      for (let c = 0; c < 2; c++) expect(Buffer.compare(Buffer.from(sliced[c].buffer), Buffer.from(whole[c].buffer))).toBe(0);
+      for (let c = 0; c < 2; c++)
+        expect(Buffer.compare(Buffer.from(sliced[c].buffer), Buffer.from(whole[c].buffer))).toBe(0);
     }
   });
 
@@ -97,7 +127,14 @@ describe.skipIf(!hasFfmpeg)('long FLAC', () => {
   // 2 h 58 min (10700 s reproduced it, 10690 s did not). 256-frame frames move the boundaries:
   // 600 s reproduced it (one frame short), 590 s did not. Silence encodes in about half a second.
   it('600 s of silence in 256-frame FLAC frames decodes to exactly the declared frames', async () => {
-    const path = encode('silence-600s.flac', 'anullsrc=r=48000:cl=stereo', ['-t', '600', '-c:a', 'flac', '-frame_size', '256']);
+    const path = encode('silence-600s.flac', 'anullsrc=r=48000:cl=stereo', [
+      '-t',
+      '600',
+      '-c:a',
+      'flac',
+      '-frame_size',
+      '256',
+    ]);
     const declared = ffprobeDeclaredFrames(path);
     expect(declared).toBe(600 * 48000);
     const d = await openAudioFileAs(path, 'flac');
@@ -113,16 +150,25 @@ describe.skipIf(!hasFfmpeg)('long FLAC', () => {
   it.each([
     ['silence-1800s.flac', 'flac', ['-c:a', 'flac']],
     ['silence-1800s.oga', 'ogg', ['-c:a', 'flac', '-f', 'ogg']],
-  ] as const)('%s decodes with bounded memory', async (name, container, args) => {
-    const path = encode(name, 'anullsrc=r=48000:cl=stereo', ['-t', '1800', ...args]);
-    const d = await openAudioFileAs(path, container);
-    const used = () => { const m = process.memoryUsage(); return m.heapUsed + m.arrayBuffers; };
-    const before = used();
-    let peak = before;
-    await drain(d, () => { peak = Math.max(peak, used()); });
-    expect(d.framesDecoded).toBe(1800 * 48000);
-    if (process.env.EARMARK_PRINT_MEMORY) console.log(name, 'peak growth MB', ((peak - before) / 1e6).toFixed(1));
-    // Garbage counts until a collection runs (V8 starts one after about 64 MB of new external memory, from memory).
-    expect(peak - before).toBeLessThan(160 * 1024 * 1024);
-  }, 30_000);
+  ] as const)(
+    '%s decodes with bounded memory',
+    async (name, container, args) => {
+      const path = encode(name, 'anullsrc=r=48000:cl=stereo', ['-t', '1800', ...args]);
+      const d = await openAudioFileAs(path, container);
+      const used = () => {
+        const m = process.memoryUsage();
+        return m.heapUsed + m.arrayBuffers;
+      };
+      const before = used();
+      let peak = before;
+      await drain(d, () => {
+        peak = Math.max(peak, used());
+      });
+      expect(d.framesDecoded).toBe(1800 * 48000);
+      if (process.env.EARMARK_PRINT_MEMORY) console.log(name, 'peak growth MB', ((peak - before) / 1e6).toFixed(1));
+      // Garbage counts until a collection runs (V8 starts one after about 64 MB of new external memory, from memory).
+      expect(peak - before).toBeLessThan(160 * 1024 * 1024);
+    },
+    30_000,
+  );
 });

@@ -17,18 +17,38 @@ let dir = '';
 async function digest(path: string): Promise<{ frames: number; sha1: string; warnings: string[] }> {
   const d = await openAudioFileAs(path, 'm4a');
   const h = createHash('sha1');
-  for await (const b of d.blocks) for (const c of b.channelData) h.update(new Uint8Array(c.buffer, c.byteOffset, b.frames * 4));
+  for await (const b of d.blocks)
+    for (const c of b.channelData) h.update(new Uint8Array(c.buffer, c.byteOffset, b.frames * 4));
   return { frames: d.framesDecoded, sha1: h.digest('hex'), warnings: d.warnings.map((w) => w.code) };
 }
 
 describe.skipIf(!hasFfmpeg)('M4A with the index at the end', () => {
-  beforeAll(() => { dir = mkdtempSync(join(tmpdir(), 'earmark-m4a-last-')); });
-  afterAll(() => { if (dir) rmSync(dir, { recursive: true, force: true }); });
+  beforeAll(() => {
+    dir = mkdtempSync(join(tmpdir(), 'earmark-m4a-last-'));
+  });
+  afterAll(() => {
+    if (dir) rmSync(dir, { recursive: true, force: true });
+  });
 
   it('decodes to the same samples as its index-first copy', async () => {
     const last = join(dir, 'last.m4a');
     const first = join(dir, 'first.m4a');
-    execFileSync('ffmpeg', ['-v', 'error', '-y', '-f', 'lavfi', '-i', 'sine=f=997:r=48000', '-t', '20', '-ac', '2', '-c:a', 'aac', last]);
+    execFileSync('ffmpeg', [
+      '-v',
+      'error',
+      '-y',
+      '-f',
+      'lavfi',
+      '-i',
+      'sine=f=997:r=48000',
+      '-t',
+      '20',
+      '-ac',
+      '2',
+      '-c:a',
+      'aac',
+      last,
+    ]);
     execFileSync('ffmpeg', ['-v', 'error', '-y', '-i', last, '-c', 'copy', '-movflags', '+faststart', first]);
     const p = await probeMp4(last, readFileSync(last).length);
     expect(p.moovFirst).toBe(false);
@@ -40,7 +60,20 @@ describe.skipIf(!hasFfmpeg)('M4A with the index at the end', () => {
 
   it('a falsified mdhd duration is corrupt_file before any decoding', async () => {
     const path = join(dir, 'falsified.m4a');
-    execFileSync('ffmpeg', ['-v', 'error', '-y', '-f', 'lavfi', '-i', 'anullsrc=r=48000:cl=stereo', '-t', '60', '-c:a', 'aac', path]);
+    execFileSync('ffmpeg', [
+      '-v',
+      'error',
+      '-y',
+      '-f',
+      'lavfi',
+      '-i',
+      'anullsrc=r=48000:cl=stereo',
+      '-t',
+      '60',
+      '-c:a',
+      'aac',
+      path,
+    ]);
     const b = new Uint8Array(readFileSync(path));
     const mdhd = Buffer.from(b).indexOf('mdhd') - 4;
     const v = new DataView(b.buffer);

@@ -10,7 +10,12 @@ import { DECODERS, openAudioFile, type Container } from '../../src/decode/index.
 
 const dir = mkdtempSync(join(tmpdir(), 'earmark-registry-'));
 afterAll(() => rmSync(dir, { recursive: true, force: true }));
-const encoders = new Set(execFileSync('/usr/bin/ffmpeg', ['-v', 'error', '-encoders']).toString().split('\n').map((l) => l.trim().split(/\s+/)[1]));
+const encoders = new Set(
+  execFileSync('/usr/bin/ffmpeg', ['-v', 'error', '-encoders'])
+    .toString()
+    .split('\n')
+    .map((l) => l.trim().split(/\s+/)[1]),
+);
 
 /** One ffmpeg recipe per registry entry: file name, encoder, muxer arguments. */
 const SAMPLES: Record<Container, [string, string, string[]]> = {
@@ -31,7 +36,21 @@ const SAMPLES: Record<Container, [string, string, string[]]> = {
 function make(container: Container): string {
   const [name, encoder, args] = SAMPLES[container];
   const path = join(dir, name);
-  execFileSync('/usr/bin/ffmpeg', ['-v', 'error', '-y', '-f', 'lavfi', '-i', 'sine=frequency=440:sample_rate=48000:duration=0.3', '-ac', '2', '-c:a', encoder, ...args, path]);
+  execFileSync('/usr/bin/ffmpeg', [
+    '-v',
+    'error',
+    '-y',
+    '-f',
+    'lavfi',
+    '-i',
+    'sine=frequency=440:sample_rate=48000:duration=0.3',
+    '-ac',
+    '2',
+    '-c:a',
+    encoder,
+    ...args,
+    path,
+  ]);
   if (container === 'bw64') {
     const bytes = readFileSync(path);
     bytes.write('BW64', 0, 'latin1');
@@ -46,17 +65,23 @@ describe('decoder registry', () => {
     expect(Object.keys(DECODERS).sort()).toEqual(containers.sort());
   });
   for (const container of containers) {
-    it.runIf(encoders.has(SAMPLES[container][1]))(`${container}: detected from its bytes, probe agrees with open`, async () => {
-      const path = make(container);
-      expect(detectContainer(readFileSync(path).subarray(0, 4096))).toBe(container);
-      const opened = await openAudioFile(path);
-      expect(opened.format.container).toBe(container);
-      const probed = await DECODERS[container].probe({ path, container, sizeBytes: statSync(path).size });
-      expect(probed).toEqual(opened.format);
-    });
+    it.runIf(encoders.has(SAMPLES[container][1]))(
+      `${container}: detected from its bytes, probe agrees with open`,
+      async () => {
+        const path = make(container);
+        expect(detectContainer(readFileSync(path).subarray(0, 4096))).toBe(container);
+        const opened = await openAudioFile(path);
+        expect(opened.format.container).toBe(container);
+        const probed = await DECODERS[container].probe({ path, container, sizeBytes: statSync(path).size });
+        expect(probed).toEqual(opened.format);
+      },
+    );
   }
   it('PCM containers, FLAC and MP3 can seek; the rest decode from the start', () => {
-    const seeking = Object.entries(DECODERS).filter(([, d]) => d.seek).map(([c]) => c).sort();
+    const seeking = Object.entries(DECODERS)
+      .filter(([, d]) => d.seek)
+      .map(([c]) => c)
+      .sort();
     expect(seeking).toEqual(['aifc', 'aiff', 'bw64', 'flac', 'mp3', 'rf64', 'wav']);
   });
 });

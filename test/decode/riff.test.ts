@@ -24,19 +24,50 @@ const le64 = (v: number): number[] => [...le32(v % 2 ** 32), ...le32(Math.floor(
 const id = (s: string): number[] => [...s].map((c) => c.charCodeAt(0));
 
 /** A chunk: id, 32-bit LE size, body, pad byte when the size is odd (Microsoft RIFF: chunks are word aligned). */
-function chunk(name: string, body: number[] | Uint8Array, { pad = true, size }: { pad?: boolean; size?: number } = {}): number[] {
+function chunk(
+  name: string,
+  body: number[] | Uint8Array,
+  { pad = true, size }: { pad?: boolean; size?: number } = {},
+): number[] {
   const bytes = [...body];
   return [...id(name), ...le32(size ?? bytes.length), ...bytes, ...(pad && bytes.length % 2 ? [0] : [])];
 }
 
 /** WAVEFORMATEX (mmreg.h): tag, channels, rate, byte rate, block align, bits. */
-function fmtBody(tag: number, channels: number, sampleRate: number, bits: number, blockAlign = channels * Math.ceil(bits / 8)): number[] {
-  return [...le16(tag), ...le16(channels), ...le32(sampleRate), ...le32(sampleRate * blockAlign), ...le16(blockAlign), ...le16(bits)];
+function fmtBody(
+  tag: number,
+  channels: number,
+  sampleRate: number,
+  bits: number,
+  blockAlign = channels * Math.ceil(bits / 8),
+): number[] {
+  return [
+    ...le16(tag),
+    ...le16(channels),
+    ...le32(sampleRate),
+    ...le32(sampleRate * blockAlign),
+    ...le16(blockAlign),
+    ...le16(bits),
+  ];
 }
 
 /** WAVE_FORMAT_EXTENSIBLE (ksmedia.h): cbSize 22, valid bits, channel mask, sub-format GUID. */
-function extensibleBody(channels: number, sampleRate: number, bits: number, mask: number, subTag = 1, guidTail = [0x00, 0x00, 0x00, 0x00, 0x10, 0x00, 0x80, 0x00, 0x00, 0xaa, 0x00, 0x38, 0x9b, 0x71]): number[] {
-  return [...fmtBody(0xfffe, channels, sampleRate, bits), ...le16(22), ...le16(bits), ...le32(mask), ...le16(subTag), ...guidTail];
+function extensibleBody(
+  channels: number,
+  sampleRate: number,
+  bits: number,
+  mask: number,
+  subTag = 1,
+  guidTail = [0x00, 0x00, 0x00, 0x00, 0x10, 0x00, 0x80, 0x00, 0x00, 0xaa, 0x00, 0x38, 0x9b, 0x71],
+): number[] {
+  return [
+    ...fmtBody(0xfffe, channels, sampleRate, bits),
+    ...le16(22),
+    ...le16(bits),
+    ...le32(mask),
+    ...le16(subTag),
+    ...guidTail,
+  ];
 }
 
 function riff(chunks: number[][], form = 'RIFF'): Uint8Array {
@@ -54,7 +85,10 @@ async function collect(decoded: DecodedAudio): Promise<Float32Array[]> {
   return Array.from({ length: decoded.format.channels }, (_, c) => {
     const out = new Float32Array(parts.reduce((n, p) => n + p[c].length, 0));
     let o = 0;
-    for (const p of parts) { out.set(p[c], o); o += p[c].length; }
+    for (const p of parts) {
+      out.set(p[c], o);
+      o += p[c].length;
+    }
     return out;
   });
 }
@@ -67,7 +101,10 @@ async function decodeBytes(bytes: Uint8Array): Promise<{ decoded: DecodedAudio; 
 }
 
 async function expectCode(promise: Promise<unknown>, code: string, message?: RegExp): Promise<void> {
-  const error = await promise.then(() => null, (e: unknown) => e);
+  const error = await promise.then(
+    () => null,
+    (e: unknown) => e,
+  );
   expect(error).toBeInstanceOf(EarmarkError);
   expect((error as EarmarkError).code).toBe(code);
   if (message) expect((error as EarmarkError).message).toMatch(message);
@@ -77,12 +114,14 @@ const openBytes = (bytes: Uint8Array): Promise<unknown> => decodeBytes(bytes);
 
 /** Interleaved raw ffmpeg float output as planar arrays (ffmpeg -f f32le: native little-endian float). */
 function ffmpegPlanar(path: string, channels: number): Float32Array[] {
-  const raw = execFileSync('/usr/bin/ffmpeg', ['-v', 'error', '-i', path, '-f', 'f32le', '-c:a', 'pcm_f32le', '-'], { maxBuffer: 64 * 1024 * 1024 });
+  const raw = execFileSync('/usr/bin/ffmpeg', ['-v', 'error', '-i', path, '-f', 'f32le', '-c:a', 'pcm_f32le', '-'], {
+    maxBuffer: 64 * 1024 * 1024,
+  });
   const all = new Float32Array(raw.buffer, raw.byteOffset, raw.length / 4);
   return Array.from({ length: channels }, (_, c) => all.filter((_, i) => i % channels === c));
 }
 
-describe('PCM encodings round-trip exactly (Microsoft WAVE PCM: 8-bit unsigned offset 128, wider signed LE two\'s complement; from memory)', () => {
+describe("PCM encodings round-trip exactly (Microsoft WAVE PCM: 8-bit unsigned offset 128, wider signed LE two's complement; from memory)", () => {
   it('8-bit unsigned: (x - 128) / 128', async () => {
     const data = [0, 1, 127, 128, 129, 255];
     const { channels, decoded } = await decodeBytes(riff([chunk('fmt ', fmtBody(1, 1, 8000, 8)), chunk('data', data)]));
@@ -93,8 +132,17 @@ describe('PCM encodings round-trip exactly (Microsoft WAVE PCM: 8-bit unsigned o
   it('16-bit: x / 32768, stereo deinterleaved', async () => {
     const values = [-32768, 32767, -1, 1, 0, 12345];
     const data = values.flatMap(le16);
-    const { channels, decoded } = await decodeBytes(riff([chunk('fmt ', fmtBody(1, 2, 48000, 16)), chunk('data', data)]));
-    expect(decoded.format).toMatchObject({ encoding: 'pcm_s16le', sampleRate: 48000, channels: 2, frames: 3, bitsPerSample: 16, channelLabels: ['L', 'R'] });
+    const { channels, decoded } = await decodeBytes(
+      riff([chunk('fmt ', fmtBody(1, 2, 48000, 16)), chunk('data', data)]),
+    );
+    expect(decoded.format).toMatchObject({
+      encoding: 'pcm_s16le',
+      sampleRate: 48000,
+      channels: 2,
+      frames: 3,
+      bitsPerSample: 16,
+      channelLabels: ['L', 'R'],
+    });
     expect([...channels[0]]).toEqual([-32768, -1, 0].map((x) => x / 32768));
     expect([...channels[1]]).toEqual([32767, 1, 12345].map((x) => x / 32768));
   });
@@ -102,9 +150,14 @@ describe('PCM encodings round-trip exactly (Microsoft WAVE PCM: 8-bit unsigned o
   it('24-bit: x / 8388608, odd frame counts and every channel count path', async () => {
     for (const channelCount of [1, 2, 3, 6]) {
       const frames = 7;
-      const values = Array.from({ length: frames * channelCount }, (_, i) => [-8388608, 8388607, -1, 1, 0, 4660, -300000][i % 7] + (i % 3) - (i % 7 === 1 ? 2 : 0));
+      const values = Array.from(
+        { length: frames * channelCount },
+        (_, i) => [-8388608, 8388607, -1, 1, 0, 4660, -300000][i % 7] + (i % 3) - (i % 7 === 1 ? 2 : 0),
+      );
       const data = values.flatMap((v) => [v & 0xff, (v >> 8) & 0xff, (v >> 16) & 0xff]);
-      const { channels } = await decodeBytes(riff([chunk('fmt ', fmtBody(1, channelCount, 48000, 24)), chunk('data', data)]));
+      const { channels } = await decodeBytes(
+        riff([chunk('fmt ', fmtBody(1, channelCount, 48000, 24)), chunk('data', data)]),
+      );
       for (let c = 0; c < channelCount; c++) {
         expect([...channels[c]]).toEqual(values.filter((_, i) => i % channelCount === c).map((x) => x / 8388608));
       }
@@ -113,7 +166,9 @@ describe('PCM encodings round-trip exactly (Microsoft WAVE PCM: 8-bit unsigned o
 
   it('32-bit int: x / 2147483648 rounded to float32', async () => {
     const values = [-2147483648, 2147483647, -1, 1, 0, 123456789];
-    const { channels } = await decodeBytes(riff([chunk('fmt ', fmtBody(1, 1, 48000, 32)), chunk('data', values.flatMap(le32))]));
+    const { channels } = await decodeBytes(
+      riff([chunk('fmt ', fmtBody(1, 1, 48000, 32)), chunk('data', values.flatMap(le32))]),
+    );
     expect([...channels[0]]).toEqual(values.map((x) => Math.fround(x / 2147483648)));
   });
 
@@ -132,14 +187,24 @@ describe('PCM encodings round-trip exactly (Microsoft WAVE PCM: 8-bit unsigned o
   it('converts unaligned and big-endian input through the same paths', () => {
     const values = [-32768, 1, 32767, -2];
     const bytes = new Uint8Array(1 + values.length * 2);
-    values.forEach((v, i) => { bytes[1 + 2 * i] = (v >> 8) & 0xff; bytes[2 + 2 * i] = v & 0xff; });
+    values.forEach((v, i) => {
+      bytes[1 + 2 * i] = (v >> 8) & 0xff;
+      bytes[2 + 2 * i] = v & 0xff;
+    });
     const out = [new Float32Array(2), new Float32Array(2)];
     convertInterleaved(bytes.subarray(1), 2, 2, { kind: 'int', bytesPerSample: 2, bigEndian: true }, out, 0);
     expect([...out[0], ...out[1]]).toEqual([-32768, 32767, 1, -2].map((x) => x / 32768));
   });
 
   it('the project encoder writes what the decoder reads back, every format', async () => {
-    for (const [bits, float] of [[8, false], [16, false], [24, false], [32, false], [32, true], [64, true]] as const) {
+    for (const [bits, float] of [
+      [8, false],
+      [16, false],
+      [24, false],
+      [32, false],
+      [32, true],
+      [64, true],
+    ] as const) {
       const step = float ? 0.125 : 2 / 2 ** bits;
       const left = Float32Array.from({ length: 64 }, (_, i) => -1 + i * step * 3);
       const right = Float32Array.from({ length: 64 }, (_, i) => 0.5 - i * step);
@@ -155,7 +220,9 @@ describe('PCM encodings round-trip exactly (Microsoft WAVE PCM: 8-bit unsigned o
 
 describe('WAVE_FORMAT_EXTENSIBLE (Microsoft ksmedia.h SPEAKER_* channel mask bits and KSDATAFORMAT_SUBTYPE GUIDs)', () => {
   const labelsFor = async (mask: number, channels: number): Promise<unknown> => {
-    const { decoded } = await decodeBytes(riff([chunk('fmt ', extensibleBody(channels, 48000, 16, mask)), chunk('data', new Array(channels * 2).fill(0))]));
+    const { decoded } = await decodeBytes(
+      riff([chunk('fmt ', extensibleBody(channels, 48000, 16, mask)), chunk('data', new Array(channels * 2).fill(0))]),
+    );
     expect(decoded.format.channelMask).toBe(mask);
     return decoded.format.channelLabels;
   };
@@ -168,12 +235,27 @@ describe('WAVE_FORMAT_EXTENSIBLE (Microsoft ksmedia.h SPEAKER_* channel mask bit
   });
   it('centre-only mono, top and centre positions, mask shorter than the channel count, zero mask', async () => {
     expect(await labelsFor(0x4, 1)).toEqual(['M']);
-    expect(await labelsFor(0x1c0 | 0x800 | 0x3f000, 9)).toEqual(['Lc', 'Rc', 'Cs', 'Tc', 'Tfl', 'Tfc', 'Tfr', 'Tbl', 'Tbc']);
+    expect(await labelsFor(0x1c0 | 0x800 | 0x3f000, 9)).toEqual([
+      'Lc',
+      'Rc',
+      'Cs',
+      'Tc',
+      'Tfl',
+      'Tfc',
+      'Tfr',
+      'Tbl',
+      'Tbc',
+    ]);
     expect(await labelsFor(0x3, 3)).toEqual(['L', 'R', 'unknown']);
     expect(await labelsFor(0, 2)).toEqual(['L', 'R']);
   });
   it('float sub-format GUID decodes float; 24-in-32 container uses the container width', async () => {
-    const f = await decodeBytes(riff([chunk('fmt ', extensibleBody(1, 48000, 32, 0x4, 3)), chunk('data', new Uint8Array(new Float32Array([0.75]).buffer))]));
+    const f = await decodeBytes(
+      riff([
+        chunk('fmt ', extensibleBody(1, 48000, 32, 0x4, 3)),
+        chunk('data', new Uint8Array(new Float32Array([0.75]).buffer)),
+      ]),
+    );
     expect(f.channels[0][0]).toBe(0.75);
     const body = extensibleBody(1, 48000, 32, 0x4);
     body.splice(18, 2, ...le16(24)); // wValidBitsPerSample 24 in a 32-bit container
@@ -184,16 +266,29 @@ describe('WAVE_FORMAT_EXTENSIBLE (Microsoft ksmedia.h SPEAKER_* channel mask bit
   });
   it('unknown sub-format GUID is unsupported_encoding', async () => {
     const ambisonic = [0x21, 0x07, 0xd3, 0x11, 0x86, 0x44, 0xc8, 0xc1, 0xca, 0x00, 0x00, 0x00, 0x00, 0x00];
-    await expectCode(openBytes(riff([chunk('fmt ', extensibleBody(4, 48000, 16, 0, 1, ambisonic)), chunk('data', new Array(8).fill(0))])), 'unsupported_encoding');
+    await expectCode(
+      openBytes(
+        riff([chunk('fmt ', extensibleBody(4, 48000, 16, 0, 1, ambisonic)), chunk('data', new Array(8).fill(0))]),
+      ),
+      'unsupported_encoding',
+    );
   });
 });
 
 describe('RF64 / BW64 (EBU Tech 3306 ds64 chunk; ITU-R BS.2088 BW64 uses the same ds64)', () => {
-  const ds64 = (riffBytes: number, dataBytes: number, frames: number): number[] => chunk('ds64', [...le64(riffBytes), ...le64(dataBytes), ...le64(frames), ...le32(0)]);
+  const ds64 = (riffBytes: number, dataBytes: number, frames: number): number[] =>
+    chunk('ds64', [...le64(riffBytes), ...le64(dataBytes), ...le64(frames), ...le32(0)]);
 
   it('small RF64 and BW64 files use the ds64 data size', async () => {
     for (const form of ['RF64', 'BW64']) {
-      const bytes = riff([ds64(100, 8, 2), chunk('fmt ', fmtBody(1, 2, 48000, 16)), chunk('data', [...le16(1), ...le16(2), ...le16(3), ...le16(4)], { size: 0xffffffff })], form);
+      const bytes = riff(
+        [
+          ds64(100, 8, 2),
+          chunk('fmt ', fmtBody(1, 2, 48000, 16)),
+          chunk('data', [...le16(1), ...le16(2), ...le16(3), ...le16(4)], { size: 0xffffffff }),
+        ],
+        form,
+      );
       const { decoded, channels } = await decodeBytes(bytes);
       expect(decoded.format.container).toBe(form.toLowerCase());
       expect(decoded.format.frames).toBe(2);
@@ -203,7 +298,10 @@ describe('RF64 / BW64 (EBU Tech 3306 ds64 chunk; ITU-R BS.2088 BW64 uses the sam
 
   it('data over 4 GiB declared in ds64, stream cut short: frames from ds64, truncated_data at the cut', async () => {
     const dataBytes = 5 * 2 ** 30; // 5 GiB of stereo 16-bit
-    const header = riff([ds64(dataBytes + 72, dataBytes, dataBytes / 4), chunk('fmt ', fmtBody(1, 2, 48000, 16))], 'RF64');
+    const header = riff(
+      [ds64(dataBytes + 72, dataBytes, dataBytes / 4), chunk('fmt ', fmtBody(1, 2, 48000, 16))],
+      'RF64',
+    );
     const dataHeader = new Uint8Array([...id('data'), ...le32(0xffffffff)]);
     const present = new Uint8Array(10_001 * 4 + 3); // 10001 frames and a partial frame
     const decoded = await openPcmStream(streamOf(header, dataHeader, present));
@@ -217,7 +315,10 @@ describe('RF64 / BW64 (EBU Tech 3306 ds64 chunk; ITU-R BS.2088 BW64 uses the sam
   it('a sparse 4.5 GiB RF64 file opens, streams its first block and closes on early exit', async () => {
     const path = tmpFile();
     const frames = Math.floor((4.5 * 2 ** 30) / 4);
-    writeFileSync(path, wavHeader({ sampleRate: 48000, channels: 2, bitsPerSample: 16, float: false, frames, rf64: true }));
+    writeFileSync(
+      path,
+      wavHeader({ sampleRate: 48000, channels: 2, bitsPerSample: 16, float: false, frames, rf64: true }),
+    );
     await truncate(path, 4.5 * 2 ** 30 + 80);
     const fds = (): number => (existsSync('/proc/self/fd') ? readdirSync('/proc/self/fd').length : 0);
     const before = fds();
@@ -234,14 +335,32 @@ describe('RF64 / BW64 (EBU Tech 3306 ds64 chunk; ITU-R BS.2088 BW64 uses the sam
 
   it('ffmpeg -rf64 always output decodes like ffmpeg decodes it', async () => {
     const path = tmpFile();
-    execFileSync('/usr/bin/ffmpeg', ['-v', 'error', '-f', 'lavfi', '-i', 'sine=frequency=997:sample_rate=48000:duration=0.2', '-ac', '2', '-c:a', 'pcm_s24le', '-rf64', 'always', path]);
+    execFileSync('/usr/bin/ffmpeg', [
+      '-v',
+      'error',
+      '-f',
+      'lavfi',
+      '-i',
+      'sine=frequency=997:sample_rate=48000:duration=0.2',
+      '-ac',
+      '2',
+      '-c:a',
+      'pcm_s24le',
+      '-rf64',
+      'always',
+      path,
+    ]);
     const decoded = await openAudioFile(path);
     expect(decoded.format.container).toBe('rf64');
     expect(await collect(decoded)).toEqual(ffmpegPlanar(path, 2));
   });
 
   it('RF64 without ds64 is corrupt_file', async () => {
-    await expectCode(openBytes(riff([chunk('fmt ', fmtBody(1, 1, 48000, 16)), chunk('data', [0, 0], { size: 0xffffffff })], 'RF64')), 'corrupt_file', /ds64/);
+    await expectCode(
+      openBytes(riff([chunk('fmt ', fmtBody(1, 1, 48000, 16)), chunk('data', [0, 0], { size: 0xffffffff })], 'RF64')),
+      'corrupt_file',
+      /ds64/,
+    );
   });
 });
 
@@ -249,12 +368,32 @@ describe('BWF bext (EBU Tech 3285: TimeReference low/high at byte 338 of the chu
   it('reads a 64-bit TimeReference written by the project encoder', async () => {
     const timeReferenceSamples = 86_399 * 192_000 + 17; // past 2^32, so the high word matters
     const path = tmpFile();
-    await writeWavFile(path, { sampleRate: 192000, channels: 1, bitsPerSample: 24, float: false, timeReferenceSamples }, [[new Float32Array(10)]]);
+    await writeWavFile(
+      path,
+      { sampleRate: 192000, channels: 1, bitsPerSample: 24, float: false, timeReferenceSamples },
+      [[new Float32Array(10)]],
+    );
     expect((await openAudioFile(path)).format.timeReferenceSamples).toBe(timeReferenceSamples);
   });
   it('reads the TimeReference ffmpeg writes with -write_bext 1', async () => {
     const path = tmpFile();
-    execFileSync('/usr/bin/ffmpeg', ['-v', 'error', '-f', 'lavfi', '-i', 'anullsrc=r=48000:cl=mono', '-t', '0.05', '-c:a', 'pcm_s16le', '-write_bext', '1', '-metadata', 'time_reference=1728000000', path]);
+    execFileSync('/usr/bin/ffmpeg', [
+      '-v',
+      'error',
+      '-f',
+      'lavfi',
+      '-i',
+      'anullsrc=r=48000:cl=mono',
+      '-t',
+      '0.05',
+      '-c:a',
+      'pcm_s16le',
+      '-write_bext',
+      '1',
+      '-metadata',
+      'time_reference=1728000000',
+      path,
+    ]);
     const decoded = await openAudioFile(path);
     expect(decoded.format.timeReferenceSamples).toBe(1_728_000_000);
     expect(decoded.format.frames).toBe(2400);
@@ -262,7 +401,9 @@ describe('BWF bext (EBU Tech 3285: TimeReference low/high at byte 338 of the chu
   it('finds a bext chunk placed after the data in a file, none without bext', async () => {
     const body = new Array(602).fill(0);
     body.splice(338, 8, ...le64(48000 * 3600));
-    const { decoded } = await decodeBytes(riff([chunk('fmt ', fmtBody(1, 1, 48000, 16)), chunk('data', [1, 0, 2]), chunk('bext', body)]));
+    const { decoded } = await decodeBytes(
+      riff([chunk('fmt ', fmtBody(1, 1, 48000, 16)), chunk('data', [1, 0, 2]), chunk('bext', body)]),
+    );
     expect(decoded.format.timeReferenceSamples).toBe(48000 * 3600);
     const plain = await decodeBytes(riff([chunk('fmt ', fmtBody(1, 1, 48000, 16)), chunk('data', [1, 0])]));
     expect(plain.decoded.format.timeReferenceSamples).toBeNull();
@@ -272,24 +413,40 @@ describe('BWF bext (EBU Tech 3285: TimeReference low/high at byte 338 of the chu
 describe('chunk walking (Microsoft RIFF: unknown chunks skipped, odd sizes padded to even)', () => {
   const pcm = [...le16(100), ...le16(-100)];
   it('unknown and odd-sized chunks before fmt and data', async () => {
-    const bytes = riff([chunk('JUNK', [1, 2, 3]), chunk('zzzz', [9]), chunk('fmt ', fmtBody(1, 1, 44100, 16)), chunk('LIST', [1, 2, 3, 4, 5]), chunk('data', pcm)]);
+    const bytes = riff([
+      chunk('JUNK', [1, 2, 3]),
+      chunk('zzzz', [9]),
+      chunk('fmt ', fmtBody(1, 1, 44100, 16)),
+      chunk('LIST', [1, 2, 3, 4, 5]),
+      chunk('data', pcm),
+    ]);
     const { channels, decoded } = await decodeBytes(bytes);
     expect([...channels[0]]).toEqual([100 / 32768, -100 / 32768]);
     expect(decoded.warnings).toEqual([]);
   });
   it('missing pad byte before data: samples right, odd_chunk_padding_missing warning', async () => {
-    const bytes = riff([chunk('fmt ', fmtBody(1, 1, 44100, 16)), chunk('abcd', [7, 7, 7], { pad: false }), chunk('data', pcm)]);
+    const bytes = riff([
+      chunk('fmt ', fmtBody(1, 1, 44100, 16)),
+      chunk('abcd', [7, 7, 7], { pad: false }),
+      chunk('data', pcm),
+    ]);
     const { channels, decoded } = await decodeBytes(bytes);
     expect([...channels[0]]).toEqual([100 / 32768, -100 / 32768]);
     expect(decoded.warnings.map((w) => w.code)).toEqual(['odd_chunk_padding_missing']);
   });
   it('odd-sized data chunk: frames from whole block-aligned bytes', async () => {
-    const { decoded, channels } = await decodeBytes(riff([chunk('fmt ', fmtBody(1, 1, 44100, 16)), chunk('data', [...pcm, 5])]));
+    const { decoded, channels } = await decodeBytes(
+      riff([chunk('fmt ', fmtBody(1, 1, 44100, 16)), chunk('data', [...pcm, 5])]),
+    );
     expect(decoded.format.frames).toBe(2);
     expect(channels[0].length).toBe(2);
   });
   it('data before fmt is corrupt_file; no data, no fmt, cut header are corrupt_file', async () => {
-    await expectCode(openBytes(riff([chunk('data', pcm), chunk('fmt ', fmtBody(1, 1, 44100, 16))])), 'corrupt_file', /before the fmt/);
+    await expectCode(
+      openBytes(riff([chunk('data', pcm), chunk('fmt ', fmtBody(1, 1, 44100, 16))])),
+      'corrupt_file',
+      /before the fmt/,
+    );
     await expectCode(openBytes(riff([chunk('fmt ', fmtBody(1, 1, 44100, 16))])), 'corrupt_file', /no data/);
     await expectCode(openBytes(riff([chunk('LIST', [1, 2])])), 'corrupt_file', /no fmt/);
     await expectCode(openBytes(riff([chunk('fmt ', fmtBody(1, 1, 44100, 16)).slice(0, 12)])), 'corrupt_file');
@@ -298,7 +455,10 @@ describe('chunk walking (Microsoft RIFF: unknown chunks skipped, odd sizes padde
 
 describe('truncation policy', () => {
   it('data larger than the file: decode what is there, drop the partial frame, warn with atFrame', async () => {
-    const bytes = riff([chunk('fmt ', fmtBody(1, 2, 48000, 24)), [...id('data'), ...le32(6 * 1000), ...new Array(6 * 500 + 4).fill(0)]]);
+    const bytes = riff([
+      chunk('fmt ', fmtBody(1, 2, 48000, 24)),
+      [...id('data'), ...le32(6 * 1000), ...new Array(6 * 500 + 4).fill(0)],
+    ]);
     const { decoded, channels } = await decodeBytes(bytes);
     expect(decoded.format.frames).toBe(1000);
     expect(channels[0].length).toBe(500);
@@ -353,7 +513,19 @@ describe('files from other writers decode to the samples ffmpeg decodes', () => 
     it(`ffmpeg ${codec} stereo and 5.1 (extensible)`, async () => {
       for (const layout of ['stereo', '5.1']) {
         const path = tmpFile();
-        execFileSync('/usr/bin/ffmpeg', ['-v', 'error', '-f', 'lavfi', '-i', 'sine=frequency=1000:sample_rate=48000:duration=0.3', '-af', `volume=0.9,aformat=channel_layouts=${layout}`, '-c:a', codec, path]);
+        execFileSync('/usr/bin/ffmpeg', [
+          '-v',
+          'error',
+          '-f',
+          'lavfi',
+          '-i',
+          'sine=frequency=1000:sample_rate=48000:duration=0.3',
+          '-af',
+          `volume=0.9,aformat=channel_layouts=${layout}`,
+          '-c:a',
+          codec,
+          path,
+        ]);
         const channels = layout === 'stereo' ? 2 : 6;
         const decoded = await openAudioFile(path);
         expect(decoded.format.channels).toBe(channels);
@@ -363,9 +535,28 @@ describe('files from other writers decode to the samples ffmpeg decodes', () => 
     });
   }
   it.runIf(hasTool('sox'))('sox 16/24/32-bit and float WAVs', async () => {
-    for (const args of [['-b', '16'], ['-b', '24'], ['-b', '32'], ['-e', 'floating-point', '-b', '32']]) {
+    for (const args of [
+      ['-b', '16'],
+      ['-b', '24'],
+      ['-b', '32'],
+      ['-e', 'floating-point', '-b', '32'],
+    ]) {
       const path = tmpFile();
-      execFileSync('/usr/bin/sox', ['-n', '-r', '44100', '-c', '2', ...args, path, 'synth', '0.1', 'sine', '1000', 'gain', '-1']);
+      execFileSync('/usr/bin/sox', [
+        '-n',
+        '-r',
+        '44100',
+        '-c',
+        '2',
+        ...args,
+        path,
+        'synth',
+        '0.1',
+        'sine',
+        '1000',
+        'gain',
+        '-1',
+      ]);
       const decoded = await openAudioFile(path);
       expect(decoded.format.sampleRate).toBe(44100);
       expect(decoded.format.frames).toBe(4410);
@@ -395,12 +586,20 @@ describe('streaming bounds', () => {
     const frames = 30 * 60 * sampleRate;
     const header = wavHeader({ sampleRate, channels: 2, bitsPerSample: 24, float: false, frames });
     const chunkFrames = 40_000;
-    const body = encodePcmFrames([Float32Array.from({ length: chunkFrames }, (_, i) => Math.sin(i / 10) * 0.5), new Float32Array(chunkFrames)], 24, false);
+    const body = encodePcmFrames(
+      [Float32Array.from({ length: chunkFrames }, (_, i) => Math.sin(i / 10) * 0.5), new Float32Array(chunkFrames)],
+      24,
+      false,
+    );
     async function* source(): AsyncGenerator<Uint8Array> {
       yield header;
-      for (let done = 0; done < frames; done += chunkFrames) yield body.subarray(0, Math.min(chunkFrames, frames - done) * 6);
+      for (let done = 0; done < frames; done += chunkFrames)
+        yield body.subarray(0, Math.min(chunkFrames, frames - done) * 6);
     }
-    const used = (): number => { const m = process.memoryUsage(); return m.heapUsed + m.arrayBuffers; };
+    const used = (): number => {
+      const m = process.memoryUsage();
+      return m.heapUsed + m.arrayBuffers;
+    };
     const decoded = await openPcmStream(source());
     const baseline = used();
     let peak = baseline;
@@ -417,7 +616,9 @@ describe('streaming bounds', () => {
 
   it('stopping early closes the file handle', async () => {
     const path = tmpFile();
-    await writeWavFile(path, { sampleRate: 48000, channels: 1, bitsPerSample: 16, float: false }, [[new Float32Array(200_000)]]);
+    await writeWavFile(path, { sampleRate: 48000, channels: 1, bitsPerSample: 16, float: false }, [
+      [new Float32Array(200_000)],
+    ]);
     const fds = (): number => readdirSync('/proc/self/fd').length;
     const before = fds();
     const decoded = await openAudioFile(path);

@@ -13,9 +13,13 @@ let file = '';
 beforeAll(async () => {
   dir = await mkdtemp(join(tmpdir(), 'earmark-threads-'));
   file = join(dir, 'clipped.wav');
-  await writeWavFile(file, { sampleRate: 48_000, channels: 2, bitsPerSample: 24, float: false }, [testSignals(2, 5).clipped]);
+  await writeWavFile(file, { sampleRate: 48_000, channels: 2, bitsPerSample: 24, float: false }, [
+    testSignals(2, 5).clipped,
+  ]);
 });
-afterAll(async () => { await rm(dir, { recursive: true, force: true }); });
+afterAll(async () => {
+  await rm(dir, { recursive: true, force: true });
+});
 
 const withoutTiming = ({ analysisSeconds: _, ...rest }: { analysisSeconds: number }) => rest;
 
@@ -30,7 +34,12 @@ describe('analysis threads', () => {
   it('earmark analyze --threads 2 prints the same JSON; bad values are refused', async () => {
     const run = async (args: string[]) => {
       let out = '';
-      const code = await main(['analyze', file, '--json', ...args], { stdout: (t) => { out += t; }, stderr: () => {} });
+      const code = await main(['analyze', file, '--json', ...args], {
+        stdout: (t) => {
+          out += t;
+        },
+        stderr: () => {},
+      });
       return { code, doc: code === 0 ? withoutTiming(JSON.parse(out)) : null };
     };
     const serial = await run([]);

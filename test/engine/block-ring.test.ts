@@ -8,7 +8,9 @@ import { BlockRing, createRing, RING_SLOTS } from '../../src/engine/block-ring.t
 import { ParallelAnalysisRunner } from '../../src/engine/parallel-runner.ts';
 
 const block = (frames: number, seed: number) => {
-  const channelData = [0, 1].map((c) => Float32Array.from({ length: frames }, (_, i) => Math.sin(seed + i * (0.01 + c * 0.003))));
+  const channelData = [0, 1].map((c) =>
+    Float32Array.from({ length: frames }, (_, i) => Math.sin(seed + i * (0.01 + c * 0.003))),
+  );
   return { channelData, frames };
 };
 
@@ -28,8 +30,12 @@ describe('block ring', () => {
       expect(read.channelData.map((x) => Array.from(x))).toEqual(written.channelData.map((x) => Array.from(x)));
       expect(read.envelope!.chunks).toBe(Math.ceil(frames / 32));
       for (let c = 0; c < 2; c++) {
-        expect(Array.from(read.envelope!.maxAbs[c].subarray(0, read.envelope!.chunks))).toEqual(Array.from(envelope.maxAbs[c].subarray(0, envelope.chunks)));
-        expect(Array.from(read.envelope!.minAbs[c].subarray(0, read.envelope!.chunks))).toEqual(Array.from(envelope.minAbs[c].subarray(0, envelope.chunks)));
+        expect(Array.from(read.envelope!.maxAbs[c].subarray(0, read.envelope!.chunks))).toEqual(
+          Array.from(envelope.maxAbs[c].subarray(0, envelope.chunks)),
+        );
+        expect(Array.from(read.envelope!.minAbs[c].subarray(0, read.envelope!.chunks))).toEqual(
+          Array.from(envelope.minAbs[c].subarray(0, envelope.chunks)),
+        );
       }
       expect(Array.from(read.envelope!.blockMaxAbs)).toEqual(Array.from(envelope.blockMaxAbs));
       reader.release(0, index);
@@ -65,7 +71,11 @@ describe('block ring', () => {
     const one = { channelData: [new Float32Array(8)], frames: 8 };
     for (let i = 0; i < RING_SLOTS; i++) ring.publish(i, one, undefined);
     let writable = false;
-    const waiting = ring.waitWritable(RING_SLOTS, 2, () => {}).then(() => { writable = true; });
+    const waiting = ring
+      .waitWritable(RING_SLOTS, 2, () => {})
+      .then(() => {
+        writable = true;
+      });
     ring.release(0, 0);
     await new Promise((r) => setTimeout(r, 20));
     expect(writable).toBe(false); // reader 1 still holds block 0
@@ -79,7 +89,9 @@ describe('block ring', () => {
     const one = { channelData: [new Float32Array(8)], frames: 8 };
     for (let i = 0; i < RING_SLOTS; i++) ring.publish(i, one, undefined);
     let failed = false;
-    const waiting = ring.waitWritable(RING_SLOTS, 1, () => { if (failed) throw new Error('reader failed'); });
+    const waiting = ring.waitWritable(RING_SLOTS, 1, () => {
+      if (failed) throw new Error('reader failed');
+    });
     failed = true;
     ring.wakeWriter(0);
     await expect(waiting).rejects.toThrow('reader failed');
@@ -88,10 +100,17 @@ describe('block ring', () => {
 
 describe('parallel runner shutdown', () => {
   const open: ParallelAnalysisRunner[] = [];
-  afterAll(async () => { await Promise.all(open.map((r) => r.close())); });
+  afterAll(async () => {
+    await Promise.all(open.map((r) => r.close()));
+  });
 
   it('closes mid-stream without a result and without hanging its threads', async () => {
-    const runner = new ParallelAnalysisRunner({ sampleRate: 48_000, channels: 2, channelLabels: defaultChannelLabels(2) }, {}, 2, { maxBlockFrames: 4096 });
+    const runner = new ParallelAnalysisRunner(
+      { sampleRate: 48_000, channels: 2, channelLabels: defaultChannelLabels(2) },
+      {},
+      2,
+      { maxBlockFrames: 4096 },
+    );
     open.push(runner);
     for (let i = 0; i < 10; i++) await runner.push(block(4096, i));
     // A hang here fails on the test's timeout: the readers stop on the cancel mark.
@@ -100,18 +119,30 @@ describe('parallel runner shutdown', () => {
   }, 30_000);
 
   it('a meter thread that dies mid-stream fails the analysis with internal_error instead of hanging it', async () => {
-    const runner = new ParallelAnalysisRunner({ sampleRate: 48_000, channels: 2, channelLabels: defaultChannelLabels(2) }, {}, 2, { maxBlockFrames: 4096 });
+    const runner = new ParallelAnalysisRunner(
+      { sampleRate: 48_000, channels: 2, channelLabels: defaultChannelLabels(2) },
+      {},
+      2,
+      { maxBlockFrames: 4096 },
+    );
     open.push(runner);
     await runner.push(block(4096, 0));
     // The worker thread ends as if it had crashed (terminated from outside, no result posted).
     await (runner as unknown as { threads: { close(): Promise<number> }[] }).threads[0].close();
-    const pushing = (async () => { for (let i = 1; i < 50; i++) await runner.push(block(4096, i)); })();
+    const pushing = (async () => {
+      for (let i = 1; i < 50; i++) await runner.push(block(4096, i));
+    })();
     await expect(pushing).rejects.toMatchObject({ code: 'internal_error' });
     await expect(runner.result()).rejects.toMatchObject({ code: 'internal_error' });
   }, 30_000);
 
   it('refuses a block larger than it was sized for', async () => {
-    const runner = new ParallelAnalysisRunner({ sampleRate: 48_000, channels: 2, channelLabels: defaultChannelLabels(2) }, {}, 2, { maxBlockFrames: 1024 });
+    const runner = new ParallelAnalysisRunner(
+      { sampleRate: 48_000, channels: 2, channelLabels: defaultChannelLabels(2) },
+      {},
+      2,
+      { maxBlockFrames: 1024 },
+    );
     open.push(runner);
     await expect(runner.push(block(1025, 0))).rejects.toThrow(RangeError);
   }, 30_000);

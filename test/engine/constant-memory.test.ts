@@ -13,7 +13,10 @@ import { encodePcmFrames, wavHeader } from '../../src/encode/wav.ts';
 
 setFlagsFromString('--expose-gc');
 const collectGarbage = runInNewContext('gc') as () => void;
-const retainedHeapBytes = () => { collectGarbage(); return process.memoryUsage().heapUsed; };
+const retainedHeapBytes = () => {
+  collectGarbage();
+  return process.memoryUsage().heapUsed;
+};
 
 const SAMPLE_RATE = 8000;
 const CHANNELS = 2;
@@ -22,13 +25,22 @@ const CHUNK_FRAMES = 8000;
 
 /** WAV bytes: a fixed noise second re-used with a slowly changing gain (cheap to generate). */
 async function* wavStream(): AsyncGenerator<Uint8Array> {
-  yield wavHeader({ sampleRate: SAMPLE_RATE, channels: CHANNELS, bitsPerSample: 16, float: false, frames: SAMPLE_RATE * SECONDS });
+  yield wavHeader({
+    sampleRate: SAMPLE_RATE,
+    channels: CHANNELS,
+    bitsPerSample: 16,
+    float: false,
+    frames: SAMPLE_RATE * SECONDS,
+  });
   let seed = 1;
-  const noise = Float32Array.from({ length: CHUNK_FRAMES }, () => { seed = (seed * 16807) % 2147483647; return seed / 2147483647 - 0.5; });
+  const noise = Float32Array.from({ length: CHUNK_FRAMES }, () => {
+    seed = (seed * 16807) % 2147483647;
+    return seed / 2147483647 - 0.5;
+  });
   for (let second = 0; second < SECONDS; second++) {
     const gain = 0.2 + 0.15 * Math.sin(second / 30);
     const left = noise.map((v) => v * gain);
-    const right = noise.map((v, i) => noise[(i + 17) % CHUNK_FRAMES] * gain);
+    const right = noise.map((_v, i) => noise[(i + 17) % CHUNK_FRAMES] * gain);
     yield encodePcmFrames([left, right], 16, false);
   }
 }
@@ -36,7 +48,11 @@ async function* wavStream(): AsyncGenerator<Uint8Array> {
 describe('constant memory over a 2-hour stream', () => {
   it('keeps retained heap growth under 8 MB between 15 minutes and 2 hours', async () => {
     const decoded = await openPcmStream(wavStream());
-    const runner = new AnalysisRunner({ sampleRate: SAMPLE_RATE, channels: CHANNELS, channelLabels: defaultChannelLabels(CHANNELS) });
+    const runner = new AnalysisRunner({
+      sampleRate: SAMPLE_RATE,
+      channels: CHANNELS,
+      channelLabels: defaultChannelLabels(CHANNELS),
+    });
     let heapAt15Minutes = 0;
     let frames = 0;
     for await (const block of decoded.blocks) {

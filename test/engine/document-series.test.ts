@@ -13,11 +13,27 @@ function analyse() {
   const info = { sampleRate: SAMPLE_RATE, channels: 2, channelLabels: defaultChannelLabels(2) };
   const runner = new AnalysisRunner(info);
   // 1 s of digital silence, then 5 s of 1 kHz at -20 dBFS peak in both channels.
-  for (const block of toneBlocks({ sampleRate: SAMPLE_RATE, channels: 2, segments: [{ seconds: 1, peakDbfs: null }, { seconds: 5, peakDbfs: -20 }] })) runner.push(block);
+  for (const block of toneBlocks({
+    sampleRate: SAMPLE_RATE,
+    channels: 2,
+    segments: [
+      { seconds: 1, peakDbfs: null },
+      { seconds: 5, peakDbfs: -20 },
+    ],
+  }))
+    runner.push(block);
   const measurements = runner.result();
   const format: AudioFormat = {
-    container: 'wav', encoding: 'pcm_f32le', sampleRate: SAMPLE_RATE, channels: 2, bitsPerSample: 32, frames: 6 * SAMPLE_RATE,
-    durationSeconds: 6, channelLabels: info.channelLabels, channelMask: null, timeReferenceSamples: null,
+    container: 'wav',
+    encoding: 'pcm_f32le',
+    sampleRate: SAMPLE_RATE,
+    channels: 2,
+    bitsPerSample: 32,
+    frames: 6 * SAMPLE_RATE,
+    durationSeconds: 6,
+    channelLabels: info.channelLabels,
+    channelMask: null,
+    timeReferenceSamples: null,
   };
   return { measurements, document: buildAnalysisDocument(format, measurements, [], null, 0) };
 }
@@ -42,11 +58,13 @@ describe('analysis document loudness series', () => {
     expect(shortTerm[2]!).toBeCloseTo(-21.76, 1);
     expect(shortTerm[5]!).toBeCloseTo(-20, 1);
     // The 1 Hz points are the meter's 10 Hz values at whole seconds.
-    for (let s = 3; s <= 6; s++) expect(shortTerm[s - 1]).toBe(Math.round(measurements.loudness.shortTermLufs[10 * s - 1] * 100) / 100);
+    for (let s = 3; s <= 6; s++)
+      expect(shortTerm[s - 1]).toBe(Math.round(measurements.loudness.shortTermLufs[10 * s - 1] * 100) / 100);
   });
 
   it('rounds every point to 0.01 and holds only numbers and null, which JSON keeps as they are (common practice)', () => {
-    for (const v of [...momentary, ...shortTerm]) if (v !== null) expect(Math.abs(v * 100 - Math.round(v * 100))).toBeLessThan(1e-6);
+    for (const v of [...momentary, ...shortTerm])
+      if (v !== null) expect(Math.abs(v * 100 - Math.round(v * 100))).toBeLessThan(1e-6);
     // NaN or Infinity would come back from JSON as null and differ here.
     expect(JSON.parse(JSON.stringify(document.series))).toEqual(document.series);
   });

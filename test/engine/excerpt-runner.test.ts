@@ -11,7 +11,11 @@ import { ExcerptRunner } from '../../src/engine/excerpt-runner.ts';
 const dir = mkdtempSync(join(tmpdir(), 'earmark-excerpt-runner-'));
 const path = join(dir, 'ramp.wav');
 const runners: ExcerptRunner[] = [];
-const runner = (options: ConstructorParameters<typeof ExcerptRunner>[0] = {}) => { const r = new ExcerptRunner(options); runners.push(r); return r; };
+const runner = (options: ConstructorParameters<typeof ExcerptRunner>[0] = {}) => {
+  const r = new ExcerptRunner(options);
+  runners.push(r);
+  return r;
+};
 
 beforeAll(async () => {
   const frames = 20 * 48000;
@@ -25,14 +29,18 @@ beforeAll(async () => {
   await writeWavFile(path, { sampleRate: 48000, channels: 2, bitsPerSample: 16, float: false }, blocks);
 });
 
-afterAll(async () => { await Promise.all(runners.map((r) => r.close())); });
+afterAll(async () => {
+  await Promise.all(runners.map((r) => r.close()));
+});
 
 describe('ExcerptRunner', () => {
   it('returns the WAV the engine cuts in process, and typed errors', async () => {
     const r = runner();
     const threaded = await r.cut(path, 3.25, 5.75);
     const local = await cutExcerpt(path, 3.25, 5.75);
-    expect([threaded.startSeconds, threaded.endSeconds, threaded.sampleRate, threaded.channels]).toEqual([3.25, 5.75, 48000, 2]);
+    expect([threaded.startSeconds, threaded.endSeconds, threaded.sampleRate, threaded.channels]).toEqual([
+      3.25, 5.75, 48000, 2,
+    ]);
     expect(Buffer.compare(Buffer.from(threaded.wav), Buffer.from(local.wav))).toBe(0);
     await expect(r.cut(path, 30, 31)).rejects.toMatchObject({ code: 'invalid_argument' });
     await expect(r.cut(join(dir, 'missing.wav'), 0, 1)).rejects.toMatchObject({ code: 'file_not_found' });

@@ -33,10 +33,17 @@ describe('cutExcerpt', () => {
     const out = join(dir, 'excerpt.wav');
     await writeFile(out, excerpt.wav);
     const decoded = await openAudioFile(out);
-    expect(decoded.format).toMatchObject({ container: 'wav', sampleRate: 48000, channels: 2, bitsPerSample: 24, frames: 2.5 * 48000 });
+    expect(decoded.format).toMatchObject({
+      container: 'wav',
+      sampleRate: 48000,
+      channels: 2,
+      bitsPerSample: 24,
+      frames: 2.5 * 48000,
+    });
     const firstFrames: number[][] = [];
     for await (const block of decoded.blocks) {
-      if (firstFrames.length === 0) firstFrames.push([block.channelData[0][0], block.channelData[0][1], block.channelData[1][1]]);
+      if (firstFrames.length === 0)
+        firstFrames.push([block.channelData[0][0], block.channelData[0][1], block.channelData[1][1]]);
     }
     // Frame 3.25 * 48000 = 156000 -> 156000 mod 1000 = 0 -> value 0; frame 156001 -> 0.0005 (right: -0.0005).
     expect(firstFrames[0][0]).toBeCloseTo(0, 6);
@@ -50,7 +57,10 @@ describe('cutExcerpt', () => {
     expect(tail.endSeconds).toBe(2);
     await expect(cutExcerpt(path, 3, 4)).rejects.toMatchObject({ code: 'invalid_argument' });
     await expect(cutExcerpt(path, 1, 0.5)).rejects.toMatchObject({ code: 'invalid_argument' });
-    await expect(cutExcerpt(path, 0, 60)).rejects.toMatchObject({ code: 'invalid_argument', details: { field: 'endSeconds' } });
+    await expect(cutExcerpt(path, 0, 60)).rejects.toMatchObject({
+      code: 'invalid_argument',
+      details: { field: 'endSeconds' },
+    });
     await expect(cutExcerpt(path, Number.NaN, 1)).rejects.toMatchObject({ code: 'invalid_argument' });
   });
 });

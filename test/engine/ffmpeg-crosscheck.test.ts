@@ -15,18 +15,34 @@ import { hasTool } from '../helpers/tools.ts';
 const hasFfmpeg = hasTool('ffmpeg');
 
 function ffmpegEbur128(path: string): { integrated: number; lra: number; truePeak: number } {
-  const result = spawnSync('ffmpeg', ['-nostdin', '-hide_banner', '-i', path, '-af', 'ebur128=peak=true', '-f', 'null', '-'], { encoding: 'utf8' });
+  const result = spawnSync(
+    'ffmpeg',
+    ['-nostdin', '-hide_banner', '-i', path, '-af', 'ebur128=peak=true', '-f', 'null', '-'],
+    { encoding: 'utf8' },
+  );
   const summary = result.stderr.slice(result.stderr.lastIndexOf('Summary:'));
   const read = (pattern: RegExp) => Number(pattern.exec(summary)?.[1]);
-  return { integrated: read(/I:\s+(-?[\d.]+) LUFS/), lra: read(/LRA:\s+(-?[\d.]+) LU/), truePeak: read(/Peak:\s+(-?[\d.]+) dBFS/) };
+  return {
+    integrated: read(/I:\s+(-?[\d.]+) LUFS/),
+    lra: read(/LRA:\s+(-?[\d.]+) LU/),
+    truePeak: read(/Peak:\s+(-?[\d.]+) dBFS/),
+  };
 }
 
 describe.skipIf(!hasFfmpeg)('agreement with ffmpeg ebur128', () => {
   const dir = mkdtempSync(join(tmpdir(), 'earmark-ffmpeg-'));
-  for (const [sampleRate, channels] of [[44100, 2], [48000, 1], [48000, 2], [96000, 2]] as const) {
+  for (const [sampleRate, channels] of [
+    [44100, 2],
+    [48000, 1],
+    [48000, 2],
+    [96000, 2],
+  ] as const) {
     it(`${sampleRate} Hz ${channels} ch, 24-bit: integrated, LRA and true peak`, async () => {
       const path = join(dir, `programme-${sampleRate}-${channels}.wav`);
-      const blocks = (function* () { for (const b of programmeBlocks({ sampleRate, channels, seconds: 75, seed: sampleRate + channels })) yield b.channelData as Float32Array[]; })();
+      const blocks = (function* () {
+        for (const b of programmeBlocks({ sampleRate, channels, seconds: 75, seed: sampleRate + channels }))
+          yield b.channelData as Float32Array[];
+      })();
       await writeWavFile(path, { sampleRate, channels, bitsPerSample: 24, float: false }, blocks);
       const reference = ffmpegEbur128(path);
       const ours = await analyzeFile(path, { hash: false });

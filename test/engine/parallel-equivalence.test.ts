@@ -13,7 +13,9 @@ const options: AnalysisOptions = {
 };
 const sizes = [4_097, 1, 7, 19_999];
 const open: ParallelAnalysisRunner[] = [];
-afterAll(async () => { await Promise.all(open.map((r) => r.close())); });
+afterAll(async () => {
+  await Promise.all(open.map((r) => r.close()));
+});
 
 describe('meter groups', () => {
   it('give every meter to exactly one thread', () => {

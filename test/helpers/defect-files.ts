@@ -24,20 +24,40 @@ export interface DefectFile {
 }
 
 /** `edit` gets the channel, the frame, this channel's sample and L's sample. */
-interface Spec { seconds: number; edit: (c: number, n: number, x: number, left: number) => number; at: [number, number]; channel: number | null }
+interface Spec {
+  seconds: number;
+  edit: (c: number, n: number, x: number, left: number) => number;
+  at: [number, number];
+  channel: number | null;
+}
 
 const s = (seconds: number) => Math.round(seconds * RATE);
 
 const SPECS: Record<Exclude<DefectName, 'truncated'>, Spec> = {
   clean: { seconds: 20, edit: (_c, _n, x) => x, at: [0, 0], channel: null },
   // 0.5 s of digital zero in R only, cut mid-waveform: a dropout.
-  dropout: { seconds: 20, edit: (c, n, x) => (c === 1 && n >= s(8.0003) && n < s(8.5003) ? 0 : x), at: [s(8.0003), s(8.5003)], channel: 1 },
+  dropout: {
+    seconds: 20,
+    edit: (c, n, x) => (c === 1 && n >= s(8.0003) && n < s(8.5003) ? 0 : x),
+    at: [s(8.0003), s(8.5003)],
+    channel: 1,
+  },
   // 11 s of digital silence in both channels inside the programme: dead air.
   gap: { seconds: 30, edit: (_c, n, x) => (n >= s(8) && n < s(19) ? 0 : x), at: [s(8), s(19)], channel: null },
   // Five runs of 10 samples flat at full scale in L, 1 s apart.
-  clip: { seconds: 20, edit: (c, n, x) => (c === 0 && n >= s(5) && (n - s(5)) % RATE < 10 && n < s(10) ? 1 : x), at: [s(5), s(9) + 10], channel: 0 },
+  clip: {
+    seconds: 20,
+    edit: (c, n, x) => (c === 0 && n >= s(5) && (n - s(5)) % RATE < 10 && n < s(10) ? 1 : x),
+    at: [s(5), s(9) + 10],
+    channel: 0,
+  },
   // R is -L for 6 s: correlation -1, an anti-phase passage.
-  phase: { seconds: 20, edit: (c, n, x, left) => (c === 1 && n >= s(8) && n < s(14) ? -left : x), at: [s(8), s(14)], channel: null },
+  phase: {
+    seconds: 20,
+    edit: (c, n, x, left) => (c === 1 && n >= s(8) && n < s(14) ? -left : x),
+    at: [s(8), s(14)],
+    channel: null,
+  },
   // R is -L throughout: an inverted channel.
   inverted: { seconds: 20, edit: (c, _n, x, left) => (c === 1 ? -left : x), at: [0, s(20)], channel: 1 },
 };
@@ -71,7 +91,11 @@ export async function writeDefectFile(dir: string, name: DefectName): Promise<De
     const dataBytes = s(20) * 2 * 3;
     const header = statSync(path).size - dataBytes;
     const fd = openSync(path, 'r+');
-    try { ftruncateSync(fd, header + dataBytes / 2); } finally { closeSync(fd); }
+    try {
+      ftruncateSync(fd, header + dataBytes / 2);
+    } finally {
+      closeSync(fd);
+    }
     return { path, atSample: s(10), endSample: s(10), channel: null };
   }
   const spec = SPECS[name];

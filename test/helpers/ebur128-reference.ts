@@ -15,7 +15,9 @@ export interface Ebur128Reference {
 }
 
 // Minimal WebAssembly typing: the ES lib set used here does not declare it.
-declare const WebAssembly: { instantiate(bytes: Uint8Array, imports: object): Promise<{ instance: { exports: object } }> };
+declare const WebAssembly: {
+  instantiate(bytes: Uint8Array, imports: object): Promise<{ instance: { exports: object } }>;
+};
 
 interface GlueModule {
   __setWasm(exports: object): void;

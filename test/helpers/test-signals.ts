@@ -22,13 +22,15 @@ export function testSignals(channels: number, seconds = 8): Record<string, Float
   // Clipped: driven into hard clipping at exactly full scale.
   const clipped = programme(channels, seconds, -4, 12).map((x) => x.map((v) => Math.max(-1, Math.min(1, v))));
   // Gaps of digital silence and of low noise (below and above -60 dBFS), some in one channel only.
-  const gaps = programme(channels, seconds, -24, 13).map((x, c) => x.map((v, i) => {
-    const t = i / SAMPLE_RATE;
-    if (t < 0.5 || (t > 2 && t < 4.5)) return 0;
-    if (t > 5 && t < 5.7 && c === 0) return 1e-4 * (random() - 0.5);
-    if (t > 6 && t < 6.003) return 0.002 * (random() - 0.5);
-    return v;
-  }));
+  const gaps = programme(channels, seconds, -24, 13).map((x, c) =>
+    x.map((v, i) => {
+      const t = i / SAMPLE_RATE;
+      if (t < 0.5 || (t > 2 && t < 4.5)) return 0;
+      if (t > 5 && t < 5.7 && c === 0) return 1e-4 * (random() - 0.5);
+      if (t > 6 && t < 6.003) return 0.002 * (random() - 0.5);
+      return v;
+    }),
+  );
   return { programme: programme(channels, seconds, -20, 10), loud, clipped, gaps };
 }
 
@@ -50,13 +52,20 @@ export function expectClose(actual: unknown, expected: unknown, tolerance = 1e-9
   if (typeof expected === 'number' && typeof actual === 'number') {
     if (Object.is(actual, expected)) return;
     const scale = Math.max(1, Math.abs(expected));
-    if (!(Math.abs(actual - expected) <= tolerance * scale)) throw new Error(`${path}: ${actual} differs from reference ${expected}`);
+    if (!(Math.abs(actual - expected) <= tolerance * scale))
+      throw new Error(`${path}: ${actual} differs from reference ${expected}`);
     return;
   }
   if (expected !== null && typeof expected === 'object') {
     if (actual === null || typeof actual !== 'object') throw new Error(`${path}: ${String(actual)} is not an object`);
     const keys = new Set([...Object.keys(expected), ...Object.keys(actual)]);
-    for (const key of keys) expectClose((actual as Record<string, unknown>)[key], (expected as Record<string, unknown>)[key], tolerance, `${path}.${key}`);
+    for (const key of keys)
+      expectClose(
+        (actual as Record<string, unknown>)[key],
+        (expected as Record<string, unknown>)[key],
+        tolerance,
+        `${path}.${key}`,
+      );
     return;
   }
   if (actual !== expected) throw new Error(`${path}: ${String(actual)} differs from reference ${String(expected)}`);

@@ -6,39 +6,153 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { BUILTIN_PROFILES, builtinProfile } from '../../src/profiles/index.ts';
 import { checkFile, checkOf, tempDir, writeTone } from './helpers.ts';
 
-interface Case { profile: string; rule: string; peakDbfs: number; passes: boolean; source: string }
+interface Case {
+  profile: string;
+  rule: string;
+  peakDbfs: number;
+  passes: boolean;
+  source: string;
+}
 
 // Margins: 0.15 LU for loudness, 0.1 dB for true peak (the meter reads a tone within 0.01 of its level).
 const cases: Case[] = [
   // EBU R 128 V5 (2023) item h: -23.0 LUFS, +/-1.0 LU where exact normalisation is not achievable.
-  { profile: 'ebu-r128', rule: 'programme-loudness', peakDbfs: -22.15, passes: true, source: 'EBU R 128 V5 (2023) item h' },
-  { profile: 'ebu-r128', rule: 'programme-loudness', peakDbfs: -21.85, passes: false, source: 'EBU R 128 V5 (2023) item h' },
-  { profile: 'ebu-r128', rule: 'programme-loudness', peakDbfs: -23.85, passes: true, source: 'EBU R 128 V5 (2023) item h' },
-  { profile: 'ebu-r128', rule: 'programme-loudness', peakDbfs: -24.15, passes: false, source: 'EBU R 128 V5 (2023) item h' },
+  {
+    profile: 'ebu-r128',
+    rule: 'programme-loudness',
+    peakDbfs: -22.15,
+    passes: true,
+    source: 'EBU R 128 V5 (2023) item h',
+  },
+  {
+    profile: 'ebu-r128',
+    rule: 'programme-loudness',
+    peakDbfs: -21.85,
+    passes: false,
+    source: 'EBU R 128 V5 (2023) item h',
+  },
+  {
+    profile: 'ebu-r128',
+    rule: 'programme-loudness',
+    peakDbfs: -23.85,
+    passes: true,
+    source: 'EBU R 128 V5 (2023) item h',
+  },
+  {
+    profile: 'ebu-r128',
+    rule: 'programme-loudness',
+    peakDbfs: -24.15,
+    passes: false,
+    source: 'EBU R 128 V5 (2023) item h',
+  },
   // EBU R 128 V5 (2023) item m: max true peak -1 dBTP.
   { profile: 'ebu-r128', rule: 'true-peak', peakDbfs: -1.1, passes: true, source: 'EBU R 128 V5 (2023) item m' },
   { profile: 'ebu-r128', rule: 'true-peak', peakDbfs: -0.9, passes: false, source: 'EBU R 128 V5 (2023) item m' },
   // EBU Tech 3343 9.1 (short-form): -23.0 LUFS, -1 dBTP, max short-term -18.0 LUFS.
-  { profile: 'ebu-r128-short-form', rule: 'programme-loudness', peakDbfs: -22.15, passes: true, source: 'EBU Tech 3343 9.1, R 128 item h' },
-  { profile: 'ebu-r128-short-form', rule: 'programme-loudness', peakDbfs: -24.15, passes: false, source: 'EBU Tech 3343 9.1, R 128 item h' },
+  {
+    profile: 'ebu-r128-short-form',
+    rule: 'programme-loudness',
+    peakDbfs: -22.15,
+    passes: true,
+    source: 'EBU Tech 3343 9.1, R 128 item h',
+  },
+  {
+    profile: 'ebu-r128-short-form',
+    rule: 'programme-loudness',
+    peakDbfs: -24.15,
+    passes: false,
+    source: 'EBU Tech 3343 9.1, R 128 item h',
+  },
   { profile: 'ebu-r128-short-form', rule: 'true-peak', peakDbfs: -1.1, passes: true, source: 'EBU Tech 3343 9.1' },
   { profile: 'ebu-r128-short-form', rule: 'true-peak', peakDbfs: -0.9, passes: false, source: 'EBU Tech 3343 9.1' },
-  { profile: 'ebu-r128-short-form', rule: 'short-term-max', peakDbfs: -18.15, passes: true, source: 'EBU Tech 3343 9.1' },
-  { profile: 'ebu-r128-short-form', rule: 'short-term-max', peakDbfs: -17.85, passes: false, source: 'EBU Tech 3343 9.1' },
+  {
+    profile: 'ebu-r128-short-form',
+    rule: 'short-term-max',
+    peakDbfs: -18.15,
+    passes: true,
+    source: 'EBU Tech 3343 9.1',
+  },
+  {
+    profile: 'ebu-r128-short-form',
+    rule: 'short-term-max',
+    peakDbfs: -17.85,
+    passes: false,
+    source: 'EBU Tech 3343 9.1',
+  },
   // ATSC A/85:2013: -24 LKFS +/-2 dB (secondary copy); -2 dBTP (from memory, unverified).
-  { profile: 'atsc-a85', rule: 'programme-loudness', peakDbfs: -22.15, passes: true, source: 'ATSC A/85:2013 (secondary)' },
-  { profile: 'atsc-a85', rule: 'programme-loudness', peakDbfs: -21.85, passes: false, source: 'ATSC A/85:2013 (secondary)' },
-  { profile: 'atsc-a85', rule: 'programme-loudness', peakDbfs: -25.85, passes: true, source: 'ATSC A/85:2013 (secondary)' },
-  { profile: 'atsc-a85', rule: 'programme-loudness', peakDbfs: -26.15, passes: false, source: 'ATSC A/85:2013 (secondary)' },
+  {
+    profile: 'atsc-a85',
+    rule: 'programme-loudness',
+    peakDbfs: -22.15,
+    passes: true,
+    source: 'ATSC A/85:2013 (secondary)',
+  },
+  {
+    profile: 'atsc-a85',
+    rule: 'programme-loudness',
+    peakDbfs: -21.85,
+    passes: false,
+    source: 'ATSC A/85:2013 (secondary)',
+  },
+  {
+    profile: 'atsc-a85',
+    rule: 'programme-loudness',
+    peakDbfs: -25.85,
+    passes: true,
+    source: 'ATSC A/85:2013 (secondary)',
+  },
+  {
+    profile: 'atsc-a85',
+    rule: 'programme-loudness',
+    peakDbfs: -26.15,
+    passes: false,
+    source: 'ATSC A/85:2013 (secondary)',
+  },
   { profile: 'atsc-a85', rule: 'true-peak', peakDbfs: -2.1, passes: true, source: 'ATSC A/85:2013 (from memory)' },
   { profile: 'atsc-a85', rule: 'true-peak', peakDbfs: -1.9, passes: false, source: 'ATSC A/85:2013 (from memory)' },
   // AES TD1004.1.15-10: between -20 and -16 LUFS, true peak <= -1.0 dBTP (secondary quotations).
-  { profile: 'streaming-aes', rule: 'programme-loudness', peakDbfs: -16.15, passes: true, source: 'AES TD1004.1.15-10 (secondary)' },
-  { profile: 'streaming-aes', rule: 'programme-loudness', peakDbfs: -15.85, passes: false, source: 'AES TD1004.1.15-10 (secondary)' },
-  { profile: 'streaming-aes', rule: 'programme-loudness', peakDbfs: -19.85, passes: true, source: 'AES TD1004.1.15-10 (secondary)' },
-  { profile: 'streaming-aes', rule: 'programme-loudness', peakDbfs: -20.15, passes: false, source: 'AES TD1004.1.15-10 (secondary)' },
-  { profile: 'streaming-aes', rule: 'true-peak', peakDbfs: -1.1, passes: true, source: 'AES TD1004.1.15-10 (secondary)' },
-  { profile: 'streaming-aes', rule: 'true-peak', peakDbfs: -0.9, passes: false, source: 'AES TD1004.1.15-10 (secondary)' },
+  {
+    profile: 'streaming-aes',
+    rule: 'programme-loudness',
+    peakDbfs: -16.15,
+    passes: true,
+    source: 'AES TD1004.1.15-10 (secondary)',
+  },
+  {
+    profile: 'streaming-aes',
+    rule: 'programme-loudness',
+    peakDbfs: -15.85,
+    passes: false,
+    source: 'AES TD1004.1.15-10 (secondary)',
+  },
+  {
+    profile: 'streaming-aes',
+    rule: 'programme-loudness',
+    peakDbfs: -19.85,
+    passes: true,
+    source: 'AES TD1004.1.15-10 (secondary)',
+  },
+  {
+    profile: 'streaming-aes',
+    rule: 'programme-loudness',
+    peakDbfs: -20.15,
+    passes: false,
+    source: 'AES TD1004.1.15-10 (secondary)',
+  },
+  {
+    profile: 'streaming-aes',
+    rule: 'true-peak',
+    peakDbfs: -1.1,
+    passes: true,
+    source: 'AES TD1004.1.15-10 (secondary)',
+  },
+  {
+    profile: 'streaming-aes',
+    rule: 'true-peak',
+    peakDbfs: -0.9,
+    passes: false,
+    source: 'AES TD1004.1.15-10 (secondary)',
+  },
   // Podcast: common practice, -16 LUFS stereo +/-1 LU, -1 dBTP.
   { profile: 'podcast', rule: 'programme-loudness', peakDbfs: -15.15, passes: true, source: 'common practice' },
   { profile: 'podcast', rule: 'programme-loudness', peakDbfs: -14.85, passes: false, source: 'common practice' },
@@ -51,7 +165,8 @@ const cases: Case[] = [
 const { dir, cleanup } = tempDir();
 const files = new Map<number, string>();
 beforeAll(async () => {
-  for (const level of new Set(cases.map((c) => c.peakDbfs))) files.set(level, await writeTone(dir, { segments: [{ seconds: 6, peakDbfs: level }] }));
+  for (const level of new Set(cases.map((c) => c.peakDbfs)))
+    files.set(level, await writeTone(dir, { segments: [{ seconds: 6, peakDbfs: level }] }));
 });
 afterAll(cleanup);
 
@@ -66,7 +181,10 @@ describe('built-in profiles', () => {
   it('covers every standard-only built-in with its loudness and true-peak limit (delivery profiles: delivery.test.ts)', () => {
     for (const p of BUILTIN_PROFILES.filter((x) => !x.id.startsWith('delivery-'))) {
       for (const r of p.rules.filter((x) => x.type !== 'channels' && x.type !== 'clipping')) {
-        expect(cases.some((c) => c.profile === p.id && c.rule === r.id), `${p.id} ${r.id}`).toBe(true);
+        expect(
+          cases.some((c) => c.profile === p.id && c.rule === r.id),
+          `${p.id} ${r.id}`,
+        ).toBe(true);
       }
     }
   });
@@ -80,7 +198,9 @@ describe('built-in profiles', () => {
   it('explains an integrated-loudness failure in one line', async () => {
     const path = await writeTone(dir, { segments: [{ seconds: 6, peakDbfs: -20.4 }] });
     const check = checkOf(await checkFile(path, builtinProfile('ebu-r128')), 'programme-loudness');
-    expect(check.explanation).toBe('Integrated loudness -20.4 LUFS is 2.6 LU above the -23 LUFS target (tolerance ±1.0 LU)');
+    expect(check.explanation).toBe(
+      'Integrated loudness -20.4 LUFS is 2.6 LU above the -23 LUFS target (tolerance ±1.0 LU)',
+    );
   });
 
   it('podcast warns on mono and on clipping, both common practice', async () => {

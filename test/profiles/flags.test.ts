@@ -8,9 +8,16 @@ import { checkFile, checkOf, SAMPLE_RATE, setRange, tempDir, writeTone } from '.
 const { dir, cleanup } = tempDir();
 afterAll(cleanup);
 
-const house = (rules: Rule[], frameRate: '25' | '29.97-df' = '25'): Profile => parseProfile({
-  id: 'test-house', name: 'Test house rules', version: '1.0.0', description: 'test', basis: 'house rule', timecode: { frameRate }, rules,
-});
+const house = (rules: Rule[], frameRate: '25' | '29.97-df' = '25'): Profile =>
+  parseProfile({
+    id: 'test-house',
+    name: 'Test house rules',
+    version: '1.0.0',
+    description: 'test',
+    basis: 'house rule',
+    timecode: { frameRate },
+    rules,
+  });
 const clipRule: Rule = { id: 'no-clips', type: 'clipping', severity: 'fail', maxRuns: 0, minRunSamples: 3 };
 // A ceiling above full scale: the clip runs below make no true-peak overs, so the flags are the runs alone.
 const highCeiling: Rule = { id: 'tp-high', type: 'true-peak', severity: 'fail', maxDbtp: 3 };
@@ -27,11 +34,26 @@ describe('flags', () => {
     const report = await checkFile(path, clipHouse());
     expect(report.verdict).toBe('fail');
     expect(report.flags).toHaveLength(1);
-    expect(report.flags[0]).toMatchObject({ kind: 'clipping', ruleId: 'no-clips', severity: 'fail', channel: 0, startSample: 600000, endSample: 600010, startSeconds: 12.5, startTimecode: '00:00:12:12', count: 1, detections: 10 });
+    expect(report.flags[0]).toMatchObject({
+      kind: 'clipping',
+      ruleId: 'no-clips',
+      severity: 'fail',
+      channel: 0,
+      startSample: 600000,
+      endSample: 600010,
+      startSeconds: 12.5,
+      startTimecode: '00:00:12:12',
+      count: 1,
+      detections: 10,
+    });
   });
 
   it('counts from the BWF time reference: 10:00:00:00 + 12.5 s = 10:00:12:12 (EBU Tech 3285 TimeReference)', async () => {
-    const path = await writeTone(dir, { segments: [{ seconds: 20, peakDbfs: -20 }], edit: clipsAt([600000]), timeReferenceSamples: 10 * 3600 * SAMPLE_RATE });
+    const path = await writeTone(dir, {
+      segments: [{ seconds: 20, peakDbfs: -20 }],
+      edit: clipsAt([600000]),
+      timeReferenceSamples: 10 * 3600 * SAMPLE_RATE,
+    });
     const report = await checkFile(path, clipHouse());
     expect(report.timecode).toMatchObject({ originSeconds: 36000, originTimecode: '10:00:00:00' });
     expect(report.flags[0].startTimecode).toBe('10:00:12:12');
@@ -40,7 +62,11 @@ describe('flags', () => {
 
   it('29.97 drop-frame across a minute: origin 00:00:59;20 + 30 frames = 00:01:00;22 (SMPTE ST 12-1 drop-frame rule)', async () => {
     const origin = 1790 * 1601.6; // frame 1790 at 48 kHz: 1601.6 samples per 30000/1001 fps frame (exact here)
-    const path = await writeTone(dir, { segments: [{ seconds: 3, peakDbfs: -20 }], edit: clipsAt([48048]), timeReferenceSamples: origin });
+    const path = await writeTone(dir, {
+      segments: [{ seconds: 3, peakDbfs: -20 }],
+      edit: clipsAt([48048]),
+      timeReferenceSamples: origin,
+    });
     const report = await checkFile(path, clipHouse('29.97-df'));
     expect(report.timecode.originTimecode).toBe('00:00:59;20');
     expect(report.flags[0].startTimecode).toBe('00:01:00;22');
@@ -69,8 +95,17 @@ describe('flags', () => {
   });
 
   it('keeps fail flags before warn flags when capping', async () => {
-    const path = await writeTone(dir, { segments: [{ seconds: 10, peakDbfs: -20 }, { seconds: 0.2, peakDbfs: -0.5 }], edit: clipsAt([48000, 96000, 144000]) });
-    const profile = house([{ ...clipRule, severity: 'warn' }, { id: 'tp', type: 'true-peak', severity: 'fail', maxDbtp: -1 }]);
+    const path = await writeTone(dir, {
+      segments: [
+        { seconds: 10, peakDbfs: -20 },
+        { seconds: 0.2, peakDbfs: -0.5 },
+      ],
+      edit: clipsAt([48000, 96000, 144000]),
+    });
+    const profile = house([
+      { ...clipRule, severity: 'warn' },
+      { id: 'tp', type: 'true-peak', severity: 'fail', maxDbtp: -1 },
+    ]);
     const report = await checkFile(path, profile, { maxFlags: 2 });
     // 3 warn clip flags; 5 fail true-peak flags (each full-scale clip is also an over, plus the burst on 2 channels)
     expect(report.flags.map((f) => f.kind)).toEqual(['true_peak_over', 'true_peak_over']);
@@ -78,7 +113,13 @@ describe('flags', () => {
   });
 
   it('true-peak overs become flags per channel at the over, with the ceiling from the profile', async () => {
-    const path = await writeTone(dir, { segments: [{ seconds: 5, peakDbfs: -20 }, { seconds: 0.2, peakDbfs: -0.5 }, { seconds: 5, peakDbfs: -20 }] });
+    const path = await writeTone(dir, {
+      segments: [
+        { seconds: 5, peakDbfs: -20 },
+        { seconds: 0.2, peakDbfs: -0.5 },
+        { seconds: 5, peakDbfs: -20 },
+      ],
+    });
     const report = await checkFile(path, builtinProfile('ebu-r128'));
     const overs = report.flags.filter((f) => f.kind === 'true_peak_over');
     expect(overs.map((f) => f.channel)).toEqual([0, 1]);
@@ -92,11 +133,20 @@ describe('flags', () => {
   });
 
   it('a 3 s drop-out inside the programme is a silence_gap flag at 5 s - 8 s; head silence required but missing', async () => {
-    const path = await writeTone(dir, { segments: [{ seconds: 5, peakDbfs: -20 }, { seconds: 3, peakDbfs: null }, { seconds: 5, peakDbfs: -20 }] });
-    const report = await checkFile(path, house([
-      { id: 'gap', type: 'silence-gap', severity: 'fail', maxSeconds: 2 },
-      { id: 'lead-in', type: 'head-silence', severity: 'warn', minSeconds: 1 },
-    ]));
+    const path = await writeTone(dir, {
+      segments: [
+        { seconds: 5, peakDbfs: -20 },
+        { seconds: 3, peakDbfs: null },
+        { seconds: 5, peakDbfs: -20 },
+      ],
+    });
+    const report = await checkFile(
+      path,
+      house([
+        { id: 'gap', type: 'silence-gap', severity: 'fail', maxSeconds: 2 },
+        { id: 'lead-in', type: 'head-silence', severity: 'warn', minSeconds: 1 },
+      ]),
+    );
     const gap = report.flags.find((f) => f.kind === 'silence_gap');
     expect(gap?.startSeconds).toBeCloseTo(5, 3);
     expect(gap?.endSeconds).toBeCloseTo(8, 3);
@@ -106,7 +156,13 @@ describe('flags', () => {
   });
 
   it('loud short-term stretches over -18 LUFS are flagged (EBU Tech 3343 9.1)', async () => {
-    const path = await writeTone(dir, { segments: [{ seconds: 6, peakDbfs: -25 }, { seconds: 4, peakDbfs: -16 }, { seconds: 6, peakDbfs: -25 }] });
+    const path = await writeTone(dir, {
+      segments: [
+        { seconds: 6, peakDbfs: -25 },
+        { seconds: 4, peakDbfs: -16 },
+        { seconds: 6, peakDbfs: -25 },
+      ],
+    });
     const report = await checkFile(path, builtinProfile('ebu-r128-short-form'));
     const loud = report.flags.filter((f) => f.kind === 'loud_short_term');
     expect(loud).toHaveLength(1);
@@ -118,7 +174,9 @@ describe('flags', () => {
     const path = await writeTone(dir, { segments: [{ seconds: 6, peakDbfs: -23 }], edit: clipsAt([100000]) });
     const report = await checkFile(path, builtinProfile('ebu-r128'));
     // Still visible, as a remark that does not touch the verdict.
-    expect(report.flags.filter((f) => f.kind === 'clipping').map((f) => [f.severity, f.ruleId])).toEqual([['remark', null]]);
+    expect(report.flags.filter((f) => f.kind === 'clipping').map((f) => [f.severity, f.ruleId])).toEqual([
+      ['remark', null],
+    ]);
     expect(report.summary.clippingRuns).toBe(1);
   });
 });
@@ -135,7 +193,13 @@ describe('correction', () => {
   });
 
   it('says when the gain alone would break the ceiling (a limiter is needed)', async () => {
-    const path = await writeTone(dir, { segments: [{ seconds: 6, peakDbfs: -32 }, { seconds: 0.005, peakDbfs: -3 }, { seconds: 4, peakDbfs: -32 }] });
+    const path = await writeTone(dir, {
+      segments: [
+        { seconds: 6, peakDbfs: -32 },
+        { seconds: 0.005, peakDbfs: -3 },
+        { seconds: 4, peakDbfs: -32 },
+      ],
+    });
     const report = await checkFile(path, builtinProfile('ebu-r128'));
     const k = report.correction!;
     expect(k.gainDb).toBeGreaterThan(7);

@@ -6,7 +6,13 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { analyzeFile } from '../../src/engine/analyze-file.ts';
 import { writeWavFile } from '../../src/encode/wav.ts';
-import { analysisOptionsForProfile, evaluate, type EvaluateOptions, type Profile, type QcReport } from '../../src/profiles/index.ts';
+import {
+  analysisOptionsForProfile,
+  evaluate,
+  type EvaluateOptions,
+  type Profile,
+  type QcReport,
+} from '../../src/profiles/index.ts';
 import { toneBlocks, type ToneSegment } from '../../src/selftest/signals.ts';
 
 export const SAMPLE_RATE = 48000;
@@ -32,17 +38,28 @@ export async function writeTone(dir: string, spec: ToneFile): Promise<string> {
   const bits = spec.bitsPerSample ?? 32;
   function* blocks() {
     let start = 0;
-    for (const block of toneBlocks({ sampleRate: SAMPLE_RATE, channels: spec.channels ?? 2, segments: spec.segments })) {
+    for (const block of toneBlocks({
+      sampleRate: SAMPLE_RATE,
+      channels: spec.channels ?? 2,
+      segments: spec.segments,
+    })) {
       const data = [...block.channelData];
       spec.edit?.(data, start);
       start += block.frames;
       yield data;
     }
   }
-  await writeWavFile(path, {
-    sampleRate: SAMPLE_RATE, channels: spec.channels ?? 2, bitsPerSample: bits, float: bits === 32,
-    ...(spec.timeReferenceSamples !== undefined ? { timeReferenceSamples: spec.timeReferenceSamples } : {}),
-  }, blocks());
+  await writeWavFile(
+    path,
+    {
+      sampleRate: SAMPLE_RATE,
+      channels: spec.channels ?? 2,
+      bitsPerSample: bits,
+      float: bits === 32,
+      ...(spec.timeReferenceSamples !== undefined ? { timeReferenceSamples: spec.timeReferenceSamples } : {}),
+    },
+    blocks(),
+  );
   return path;
 }
 
@@ -56,7 +73,8 @@ export function setRange(from: number, to: number, value: number, channels: numb
   return (channelData: Float32Array[], startFrame: number) => {
     for (const c of channels) {
       const data = channelData[c];
-      for (let f = Math.max(from, startFrame); f < Math.min(to, startFrame + data.length); f++) data[f - startFrame] = value;
+      for (let f = Math.max(from, startFrame); f < Math.min(to, startFrame + data.length); f++)
+        data[f - startFrame] = value;
     }
   };
 }

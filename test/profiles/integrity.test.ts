@@ -13,10 +13,15 @@ import { checkFile, checkOf, tempDir, writeTone } from './helpers.ts';
 const { dir, cleanup } = tempDir();
 afterAll(cleanup);
 
-const custom = (extra: Profile['rules'] = []): Profile => parseProfile({
-  id: 'house-format-only', name: 'Format only', version: '1.0.0', description: 'test', basis: 'house rule',
-  rules: [{ id: 'rate', type: 'sample-rate', severity: 'fail', allowedHz: [48000] }, ...extra],
-});
+const custom = (extra: Profile['rules'] = []): Profile =>
+  parseProfile({
+    id: 'house-format-only',
+    name: 'Format only',
+    version: '1.0.0',
+    description: 'test',
+    basis: 'house rule',
+    rules: [{ id: 'rate', type: 'sample-rate', severity: 'fail', allowedHz: [48000] }, ...extra],
+  });
 
 /** A WAV whose header declares `declaredFrames` but whose data chunk holds `frames` (16-bit stereo). */
 function rawWav(name: string, frames: number, declaredFrames = frames): string {
@@ -39,7 +44,11 @@ describe('integrity in every verdict', () => {
       const flag = report.flags.find((f) => f.kind === 'data_ends_early');
       expect(flag).toMatchObject({ severity: 'fail', startSample: 480000, channelName: 'all' });
       // 480000 samples at 48 kHz = 10 s: 00:00:10:00 at 25 fps, 00:00:09;29 at 29.97 drop-frame (299.7 frames; SMPTE ST 12-1).
-      expect(report.headline).toMatch(builtin.timecode?.frameRate === '29.97-df' ? /^FAIL: damaged file at 00:00:09;29/ : /^FAIL: damaged file at 00:00:10:00/);
+      expect(report.headline).toMatch(
+        builtin.timecode?.frameRate === '29.97-df'
+          ? /^FAIL: damaged file at 00:00:09;29/
+          : /^FAIL: damaged file at 00:00:10:00/,
+      );
       expect(formatReport(report).split('\n')[0]).toBe(report.headline);
     }
   });
@@ -48,7 +57,17 @@ describe('integrity in every verdict', () => {
     const file = await writeDefectFile(dir, 'truncated');
     const strict = await checkFile(file.path, custom());
     expect(strict.verdict).toBe('fail');
-    const lowered = await checkFile(file.path, custom([{ id: 'file-ok', type: 'integrity', severity: 'warn', source: 'house rule: archive ingest keeps partial files' }]));
+    const lowered = await checkFile(
+      file.path,
+      custom([
+        {
+          id: 'file-ok',
+          type: 'integrity',
+          severity: 'warn',
+          source: 'house rule: archive ingest keeps partial files',
+        },
+      ]),
+    );
     expect(lowered.verdict).toBe('warn');
     expect(checkOf(lowered, 'file-ok')).toMatchObject({ passed: false, severity: 'warn' });
     expect(lowered.integrity.severity).toBe('warn');
@@ -92,12 +111,23 @@ describe('integrity in every verdict', () => {
     for (let i = 0; i < frames; i++) x[i] = 0.1 * Math.sin((2 * Math.PI * 997 * i) / 48000);
     x.fill(Number.NaN, 48000, 48010);
     const path = join(dir, 'nan.wav');
-    writeFileSync(path, Buffer.concat([wavHeader({ sampleRate: 48000, channels: 1, bitsPerSample: 32, float: true, frames }), encodePcmFrames([x], 32, true)]));
+    writeFileSync(
+      path,
+      Buffer.concat([
+        wavHeader({ sampleRate: 48000, channels: 1, bitsPerSample: 32, float: true, frames }),
+        encodePcmFrames([x], 32, true),
+      ]),
+    );
     for (const profile of [builtinProfile('ebu-r128'), custom()]) {
       const report = await checkFile(path, profile);
       expect(report.verdict).toBe('fail');
       expect(report.integrity.problems).toMatchObject([{ code: 'non_finite_samples', atSample: 48000 }]);
-      expect(report.flags[0]).toMatchObject({ kind: 'non_finite_samples', startSample: 48000, endSample: 48000, severity: 'fail' });
+      expect(report.flags[0]).toMatchObject({
+        kind: 'non_finite_samples',
+        startSample: 48000,
+        endSample: 48000,
+        severity: 'fail',
+      });
       expect(JSON.stringify(report)).not.toMatch(/-?Infinity"|:NaN/);
     }
   });

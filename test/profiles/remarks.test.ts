@@ -20,7 +20,15 @@ describe('remarks under a standard-only profile', () => {
     // Five 10-sample runs 1 s apart: more than the 0.5 s merge gap, so five flags (common practice: 3 samples make a run).
     expect(clips).toHaveLength(5);
     for (const f of clips) {
-      expect(f).toMatchObject({ severity: 'remark', ruleId: null, channel: 0, channelName: '1 L', count: 1, detections: 10, unit: 'dBFS' });
+      expect(f).toMatchObject({
+        severity: 'remark',
+        ruleId: null,
+        channel: 0,
+        channelName: '1 L',
+        count: 1,
+        detections: 10,
+        unit: 'dBFS',
+      });
       expect(f.worstValue).toBeCloseTo(0, 4); // full scale in 24-bit: 20 log10(8388607/8388608)
     }
     expect(clips[0]).toMatchObject({ startSample: 240000, endSample: 240010 });
@@ -40,7 +48,9 @@ describe('remarks under a standard-only profile', () => {
     expect(report.flags).toEqual([]);
     const text = formatReport(report);
     expect(text.split('\n')[0]).toMatch(/^PASS: all 3 checks met; integrated -23\.0 LUFS, true peak -23\.0 dBTP$/);
-    expect(text).toMatch(/readings integrated -23\.0 LUFS, LRA [0-9.]+ LU, true peak -23\.0 dBTP \(reconstructed -23\.0 dBTP\), sample peak -23\.0 dBFS/);
+    expect(text).toMatch(
+      /readings integrated -23\.0 LUFS, LRA [0-9.]+ LU, true peak -23\.0 dBTP \(reconstructed -23\.0 dBTP\), sample peak -23\.0 dBFS/,
+    );
   });
 
   it('a mid-programme gap, an anti-phase passage and an inverted channel are remarks under ebu-r128, and the verdict stays pass', async () => {
@@ -58,7 +68,12 @@ describe('remarks under a standard-only profile', () => {
     expect(phase.verdict).toBe('pass');
     const anti = phase.flags.filter((f) => f.kind === 'phase_problem');
     expect(anti.length).toBeGreaterThan(0);
-    expect(anti[0]).toMatchObject({ severity: 'remark', channelName: '1 L', otherChannelName: '2 R', unit: 'correlation' });
+    expect(anti[0]).toMatchObject({
+      severity: 'remark',
+      channelName: '1 L',
+      otherChannelName: '2 R',
+      unit: 'correlation',
+    });
     expect(anti[0].worstValue).toBeLessThan(-0.99);
     expect(anti[0].startSeconds).toBeGreaterThanOrEqual(7);
     expect(anti[anti.length - 1].endSeconds).toBeLessThanOrEqual(15);
@@ -72,17 +87,31 @@ describe('remarks under a standard-only profile', () => {
     const plain = await checkFile(file.path, r128);
     expect(plain.verdict).toBe('pass');
     const remark = plain.flags.find((f) => f.kind === 'dropout');
-    expect(remark).toMatchObject({ severity: 'remark', channel: 1, channelName: '2 R', startSample: file.atSample, endSample: file.endSample });
+    expect(remark).toMatchObject({
+      severity: 'remark',
+      channel: 1,
+      channelName: '2 R',
+      startSample: file.atSample,
+      endSample: file.endSample,
+    });
     const delivery = await checkFile(file.path, builtinProfile('delivery-broadcast-stereo'));
     expect(delivery.verdict).toBe('fail');
     expect(checkOf(delivery, 'no-dropouts')).toMatchObject({ passed: false, measured: 1 });
-    expect(delivery.flags.find((f) => f.kind === 'dropout')).toMatchObject({ severity: 'fail', ruleId: 'no-dropouts', startTimecode: '00:00:08:00' });
+    expect(delivery.flags.find((f) => f.kind === 'dropout')).toMatchObject({
+      severity: 'fail',
+      ruleId: 'no-dropouts',
+      startTimecode: '00:00:08:00',
+    });
   });
 
   it('a dropout rule scoped to other channels leaves a dropout in R as a remark', async () => {
     const file = await writeDefectFile(dir, 'dropout');
     const scoped: Profile = parseProfile({
-      id: 'house-left-only', name: 'L only', version: '1.0.0', description: 'test', basis: 'house rule',
+      id: 'house-left-only',
+      name: 'L only',
+      version: '1.0.0',
+      description: 'test',
+      basis: 'house rule',
       rules: [{ id: 'left-dropouts', type: 'dropouts', severity: 'fail', channels: ['L'] }],
     });
     const report = await checkFile(file.path, scoped);
@@ -92,11 +121,24 @@ describe('remarks under a standard-only profile', () => {
   });
 
   it('head and tail silence of 3 s are remarks under ebu-r128 (over the 2 s silence minimum, common practice)', async () => {
-    const path = await writeTone(dir, { segments: [{ seconds: 3, peakDbfs: null }, { seconds: 10, peakDbfs: -23 }, { seconds: 3, peakDbfs: null }] });
+    const path = await writeTone(dir, {
+      segments: [
+        { seconds: 3, peakDbfs: null },
+        { seconds: 10, peakDbfs: -23 },
+        { seconds: 3, peakDbfs: null },
+      ],
+    });
     const report = await checkFile(path, r128);
-    expect(report.flags.filter((f) => f.kind === 'head_silence' || f.kind === 'tail_silence').map((f) => [f.kind, f.severity, f.startSample, f.endSample]))
+    expect(
+      report.flags
+        .filter((f) => f.kind === 'head_silence' || f.kind === 'tail_silence')
+        .map((f) => [f.kind, f.severity, f.startSample, f.endSample]),
+    )
       // The tone's first sample (sin 0) is itself silent, so the head ends one sample after 3 s.
-      .toEqual([['head_silence', 'remark', 0, 144001], ['tail_silence', 'remark', 624000, 768000]]);
+      .toEqual([
+        ['head_silence', 'remark', 0, 144001],
+        ['tail_silence', 'remark', 624000, 768000],
+      ]);
   });
 });
 
@@ -104,11 +146,24 @@ describe('measurement tolerance (EBU R 128 items h and i)', () => {
   it('-24.1 LUFS is marginal (warn) under a -23 +/-1 LU target with +/-0.2 LU measurement tolerance; -24.3 fails', async () => {
     const profile = builtinProfile('delivery-broadcast-stereo');
     // 997 Hz stereo sine: peak dBFS = LUFS (BS.1770-5).
-    const marginal = await checkFile(await writeTone(dir, { segments: [{ seconds: 10, peakDbfs: -24.1, frequencyHz: 997 }] }), profile);
-    expect(checkOf(marginal, 'programme-loudness')).toMatchObject({ outcome: 'marginal', passed: false, severity: 'warn' });
-    const beyond = await checkFile(await writeTone(dir, { segments: [{ seconds: 10, peakDbfs: -24.3, frequencyHz: 997 }] }), profile);
+    const marginal = await checkFile(
+      await writeTone(dir, { segments: [{ seconds: 10, peakDbfs: -24.1, frequencyHz: 997 }] }),
+      profile,
+    );
+    expect(checkOf(marginal, 'programme-loudness')).toMatchObject({
+      outcome: 'marginal',
+      passed: false,
+      severity: 'warn',
+    });
+    const beyond = await checkFile(
+      await writeTone(dir, { segments: [{ seconds: 10, peakDbfs: -24.3, frequencyHz: 997 }] }),
+      profile,
+    );
     expect(checkOf(beyond, 'programme-loudness')).toMatchObject({ outcome: 'fail', passed: false, severity: 'fail' });
-    const inside = await checkFile(await writeTone(dir, { segments: [{ seconds: 10, peakDbfs: -23.9, frequencyHz: 997 }] }), profile);
+    const inside = await checkFile(
+      await writeTone(dir, { segments: [{ seconds: 10, peakDbfs: -23.9, frequencyHz: 997 }] }),
+      profile,
+    );
     expect(checkOf(inside, 'programme-loudness')).toMatchObject({ outcome: 'pass', passed: true });
   });
 });

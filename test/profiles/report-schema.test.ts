@@ -21,7 +21,11 @@ describe('openapi/report.schema.json', () => {
 
   it('validates a failing report with flags, and rejects fields it does not know', async () => {
     // Clipped tone with BWF time reference: flags, timecode origin, correction all present.
-    const path = await writeTone(dir, { segments: [{ seconds: 6, peakDbfs: -3 }], edit: setRange(48000, 48100, 1), timeReferenceSamples: 48000 * 3600 });
+    const path = await writeTone(dir, {
+      segments: [{ seconds: 6, peakDbfs: -3 }],
+      edit: setRange(48000, 48100, 1),
+      timeReferenceSamples: 48000 * 3600,
+    });
     const report = await checkFile(path, builtinProfile('ebu-r128-short-form'));
     expect(report.flags.length).toBeGreaterThan(0);
     const json = JSON.parse(JSON.stringify(report));
@@ -33,7 +37,12 @@ describe('openapi/report.schema.json', () => {
   it('validates what `earmark check --json` prints', async () => {
     const path = await writeTone(dir, { segments: [{ seconds: 4, peakDbfs: -23 }] });
     let out = '';
-    const code = await main(['check', path, '--profile', 'ebu-r128', '--json'], { stdout: (t) => { out += t; }, stderr: () => undefined });
+    const code = await main(['check', path, '--profile', 'ebu-r128', '--json'], {
+      stdout: (t) => {
+        out += t;
+      },
+      stderr: () => undefined,
+    });
     expect([0, 1, 2]).toContain(code);
     expect(validate(JSON.parse(out)), ajv.errorsText(validate.errors)).toBe(true);
   });

@@ -6,10 +6,12 @@ import { RULES, RULE_TYPES } from '../../src/profiles/rules/index.ts';
 
 /** Every `type` value the schema's rule definitions accept. */
 function schemaRuleTypes(): string[] {
-  const defs = Object.values(profileSchema.$defs ?? {}) as Array<{ properties?: { type?: { const?: string; enum?: string[] } } }>;
+  const defs = Object.values(profileSchema.$defs ?? {}) as Array<{
+    properties?: { type?: { const?: string; enum?: string[] } };
+  }>;
   return defs.flatMap((d) => {
     const type = d.properties?.type;
-    return type?.const !== undefined ? [type.const] : type?.enum ?? [];
+    return type?.const !== undefined ? [type.const] : (type?.enum ?? []);
   });
 }
 

@@ -4,7 +4,13 @@
 // one hour = 107892 frames. The 59.94 figures (4 numbers dropped) are from memory.
 
 import { describe, expect, it } from 'vitest';
-import { FRAME_RATES, frameRate, framesAtSample, timecodeAtSample, timecodeFromFrames } from '../../src/profiles/index.ts';
+import {
+  FRAME_RATES,
+  frameRate,
+  framesAtSample,
+  timecodeAtSample,
+  timecodeFromFrames,
+} from '../../src/profiles/index.ts';
 
 const df = FRAME_RATES['29.97-df'];
 
@@ -48,6 +54,8 @@ describe('timecode', () => {
   });
 
   it('rejects an unknown rate with a typed error', () => {
-    expect(() => frameRate('29.97')).toThrowError(expect.objectContaining({ code: 'invalid_argument', details: { field: 'fps' } }));
+    expect(() => frameRate('29.97')).toThrowError(
+      expect.objectContaining({ code: 'invalid_argument', details: { field: 'fps' } }),
+    );
   });
 });

@@ -17,10 +17,19 @@ let worker: ServiceProcess;
 let cases: MalformedCase[];
 
 beforeAll(async () => {
-  svc = await startService({ worker: false, env: { EARMARK_RATE_LIMIT_PER_MINUTE: '0', EARMARK_UPLOAD_LIMIT_BYTES: String(64 * 1024 * 1024), EARMARK_WORKER_CONCURRENCY: '2' } });
+  svc = await startService({
+    worker: false,
+    env: {
+      EARMARK_RATE_LIMIT_PER_MINUTE: '0',
+      EARMARK_UPLOAD_LIMIT_BYTES: String(64 * 1024 * 1024),
+      EARMARK_WORKER_CONCURRENCY: '2',
+    },
+  });
   api = client(svc.url);
   // Only regular files can be uploaded (the directory and missing-file cases are CLI-only).
-  cases = (await generateMalformedCases(join(svc.dir, 'cases'))).filter((c) => statSync(c.path, { throwIfNoEntry: false })?.isFile());
+  cases = (await generateMalformedCases(join(svc.dir, 'cases'))).filter((c) =>
+    statSync(c.path, { throwIfNoEntry: false })?.isFile(),
+  );
   worker = spawnService('worker', { ...svc.env, EARMARK_LOG_LEVEL: 'info' });
 });
 
@@ -45,26 +54,48 @@ describe('malformed inputs through the API', () => {
     expect(submitted.filter((s) => s.status !== 202).map((s) => `${s.c.id}: ${s.status}`)).toEqual([]);
     const wrong: string[] = [];
     await inBatches(submitted, 8, async ({ c, id }) => {
-      const job = await waitFor(`job of ${c.id}`, async () => {
-        const body = (await api.get(`/v1/jobs/${id}`, KEYS.alpha)).body as { state: string; error?: { code: string; message: string } };
-        return body.state === 'completed' || body.state === 'failed' ? body : null;
-      }, 120_000, 200);
+      const job = await waitFor(
+        `job of ${c.id}`,
+        async () => {
+          const body = (await api.get(`/v1/jobs/${id}`, KEYS.alpha)).body as {
+            state: string;
+            error?: { code: string; message: string };
+          };
+          return body.state === 'completed' || body.state === 'failed' ? body : null;
+        },
+        120_000,
+        200,
+      );
       const expected = expectedOf(c);
       const got = job.state === 'completed' ? 'ok' : `error:${job.error?.code}`;
-      if ((expected.startsWith('ok') ? 'ok' : expected) !== got) wrong.push(`${c.id}: expected ${expected}, got ${got} ${job.error?.message ?? ''}`);
+      if ((expected.startsWith('ok') ? 'ok' : expected) !== got)
+        wrong.push(`${c.id}: expected ${expected}, got ${got} ${job.error?.message ?? ''}`);
       // The client sees its own file name, never our storage path.
-      if (job.error && job.error.message.includes(svc.dir)) wrong.push(`${c.id}: storage path in the error`);
+      if (job.error?.message.includes(svc.dir)) wrong.push(`${c.id}: storage path in the error`);
     });
     expect(wrong).toEqual([]);
     expect(alive(worker.pid)).toBe(true);
     const crashes = worker.lines.filter((l) => /"level":(50|60)/.test(l));
     expect(crashes).toEqual([]);
 
-    const valid = await api.upload(await writeSine(join(svc.dir, 'after.wav'), -23, 3), { profile: 'ebu-r128' }, KEYS.alpha);
-    const after = await waitFor('the valid job after the hostile ones', async () => { const b = (await api.get(`/v1/jobs/${valid.body.id}`, KEYS.alpha)).body; return b.state === 'completed' ? b : null; }, 60_000);
+    const valid = await api.upload(
+      await writeSine(join(svc.dir, 'after.wav'), -23, 3),
+      { profile: 'ebu-r128' },
+      KEYS.alpha,
+    );
+    const after = await waitFor(
+      'the valid job after the hostile ones',
+      async () => {
+        const b = (await api.get(`/v1/jobs/${valid.body.id}`, KEYS.alpha)).body;
+        return b.state === 'completed' ? b : null;
+      },
+      60_000,
+    );
     expect(after.verdict).toBe('pass');
     expect(worker.lines.some((l) => l.includes(valid.body.id) && l.includes('job completed'))).toBe(true);
     const failed = submitted.length - submitted.filter((s) => expectedOf(s.c).startsWith('ok')).length;
-    console.log(`[api malformed] cases ${submitted.length}, failed jobs with their code ${failed}, completed ${submitted.length - failed}, wrong 0, worker pid ${worker.pid} alive, crashes 0, valid job after: ${after.verdict}`);
+    console.log(
+      `[api malformed] cases ${submitted.length}, failed jobs with their code ${failed}, completed ${submitted.length - failed}, wrong 0, worker pid ${worker.pid} alive, crashes 0, valid job after: ${after.verdict}`,
+    );
   }, 240_000);
 });

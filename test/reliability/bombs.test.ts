@@ -29,7 +29,10 @@ let cases: BombCase[] = [];
 const figures: string[] = [];
 
 async function analyzeInChild(path: string): Promise<BombOutcome> {
-  const { stdout } = await run(process.execPath, ['bin/run.js', 'fixtures/bombs.ts', 'analyze', path], { cwd: ROOT, maxBuffer: 1 << 20 });
+  const { stdout } = await run(process.execPath, ['bin/run.js', 'fixtures/bombs.ts', 'analyze', path], {
+    cwd: ROOT,
+    maxBuffer: 1 << 20,
+  });
   return JSON.parse(stdout.trim().split('\n').pop() ?? '') as BombOutcome;
 }
 
@@ -44,10 +47,34 @@ describe.skipIf(!hasFfmpeg)('bombs', () => {
   });
 
   it('covers every kind of bomb', () => {
-    expect(cases.map((c) => c.id)).toEqual(['flac-max-frames', 'm4a-falsified-duration', 'm4a-index-last', 'opus-silence', 'vorbis-silence', 'webm-opus-silence', 'mp3-silence', 'adts-silence', 'wav-4gib-claim', 'rf64-4tib-claim', 'aiff-huge-claim']);
+    expect(cases.map((c) => c.id)).toEqual([
+      'flac-max-frames',
+      'm4a-falsified-duration',
+      'm4a-index-last',
+      'opus-silence',
+      'vorbis-silence',
+      'webm-opus-silence',
+      'mp3-silence',
+      'adts-silence',
+      'wav-4gib-claim',
+      'rf64-4tib-claim',
+      'aiff-huge-claim',
+    ]);
   });
 
-  for (const id of ['flac-max-frames', 'm4a-falsified-duration', 'm4a-index-last', 'opus-silence', 'vorbis-silence', 'webm-opus-silence', 'mp3-silence', 'adts-silence', 'wav-4gib-claim', 'rf64-4tib-claim', 'aiff-huge-claim']) {
+  for (const id of [
+    'flac-max-frames',
+    'm4a-falsified-duration',
+    'm4a-index-last',
+    'opus-silence',
+    'vorbis-silence',
+    'webm-opus-silence',
+    'mp3-silence',
+    'adts-silence',
+    'wav-4gib-claim',
+    'rf64-4tib-claim',
+    'aiff-huge-claim',
+  ]) {
     it(`${id}: peak RSS within the bound, a report or a typed error`, async () => {
       const c = cases.find((k) => k.id === id)!;
       const o = await analyzeInChild(c.path);
@@ -62,7 +89,9 @@ describe.skipIf(!hasFfmpeg)('bombs', () => {
     for (const id of ['opus-silence', 'wav-4gib-claim']) {
       const d = await openAudioFile(cases.find((k) => k.id === id)!.path, { maxDecodedSeconds: 0.05 });
       let frames = 0;
-      const drained = (async () => { for await (const b of d.blocks) frames += b.frames; })();
+      const drained = (async () => {
+        for await (const b of d.blocks) frames += b.frames;
+      })();
       await expect(drained, id).rejects.toMatchObject({ code: 'decoded_size_exceeded' });
       // Stopped within one output (block or decoder call) of the cap, not at the end of the file.
       expect(frames, id).toBeLessThan(48000 * 60);
@@ -89,7 +118,11 @@ describe('an analysis child above its RSS limit after a job', () => {
         let child: number[] = [];
         const view = await until(async () => {
           child = child.length ? child : childPids(process.pid);
-          const body = (await (await fetch(`${service.url}/v1/jobs/${id}`, { headers: auth })).json()) as { state: string; verdict: string | null; attempts?: unknown };
+          const body = (await (await fetch(`${service.url}/v1/jobs/${id}`, { headers: auth })).json()) as {
+            state: string;
+            verdict: string | null;
+            attempts?: unknown;
+          };
           return body.state === 'completed' || body.state === 'failed' ? body : null;
         }, 50);
         expect(view.state).toBe('completed');

@@ -19,7 +19,13 @@ describe('mutation fuzzer', () => {
   });
 
   it('counts a hanging and a dying worker without stopping the run', async () => {
-    const r = await runFuzz({ cases: 6, seed: 1, workers: 1, caseTimeoutMs: 3000, simulate: (i) => (i === 1 ? 'hang' : i === 3 ? 'crash' : undefined) });
+    const r = await runFuzz({
+      cases: 6,
+      seed: 1,
+      workers: 1,
+      caseTimeoutMs: 3000,
+      simulate: (i) => (i === 1 ? 'hang' : i === 3 ? 'crash' : undefined),
+    });
     expect(r.cases).toBe(6);
     expect(r.hangs).toBe(1);
     expect(r.crashes).toBe(1);

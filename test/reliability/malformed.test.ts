@@ -20,7 +20,8 @@ describe('malformed inputs', () => {
   it('covers at least 40 cases across every container', () => {
     expect(cases.length).toBeGreaterThanOrEqual(40);
     const containers = new Set(cases.map((c) => c.container));
-    for (const c of ['wav', 'rf64', 'bw64', 'aiff', 'aifc', 'flac', 'mp3', 'm4a', 'aac', 'ogg', 'webm', 'caf']) expect(containers).toContain(c);
+    for (const c of ['wav', 'rf64', 'bw64', 'aiff', 'aifc', 'flac', 'mp3', 'm4a', 'aac', 'ogg', 'webm', 'caf'])
+      expect(containers).toContain(c);
     expect(new Set(cases.map((c) => c.id)).size).toBe(cases.length);
   });
 
@@ -28,7 +29,8 @@ describe('malformed inputs', () => {
     const wrong: string[] = [];
     for (const c of cases) {
       const o = await analyzeOutcome(c.path, c.decode);
-      if (!matches(o, c.expected)) wrong.push(`${c.id}: expected ${c.expected}, got ${describeOutcome(o)} ${o.message ?? ''}`);
+      if (!matches(o, c.expected))
+        wrong.push(`${c.id}: expected ${c.expected}, got ${describeOutcome(o)} ${o.message ?? ''}`);
     }
     expect(wrong).toEqual([]);
   });
@@ -40,9 +42,11 @@ describe('malformed inputs', () => {
       const expected = c.cliExpected ?? c.expected;
       if (!matches(o, expected)) wrong.push(`${c.id}: expected ${expected}, got ${describeOutcome(o)}`);
       if (o.kind.startsWith('error:')) {
-        if (o.exitCode !== 3 || o.stdout !== '') wrong.push(`${c.id}: exit ${o.exitCode}, stdout ${JSON.stringify(o.stdout)}`);
+        if (o.exitCode !== 3 || o.stdout !== '')
+          wrong.push(`${c.id}: exit ${o.exitCode}, stdout ${JSON.stringify(o.stdout)}`);
         // One line, no control characters: a hostile file name cannot forge log lines or terminal escapes.
-        if (/[\u0000-\u001f\u007f-\u009f]/.test(o.stderr.slice(0, -1)) || !o.stderr.endsWith('\n')) wrong.push(`${c.id}: unsafe stderr ${JSON.stringify(o.stderr)}`);
+        if (/[\u0000-\u001f\u007f-\u009f]/.test(o.stderr.slice(0, -1)) || !o.stderr.endsWith('\n'))
+          wrong.push(`${c.id}: unsafe stderr ${JSON.stringify(o.stderr)}`);
       }
     }
     expect(wrong).toEqual([]);
@@ -66,8 +70,19 @@ describe('regressions', () => {
   it('a float WAV stream with a NaN sample is measured with 0 there and reported (stream path too)', async () => {
     const bytes = wavBytes(seedSamples(0.05), 32, true);
     new DataView(bytes.buffer).setFloat32(bytes.length - 40, NaN, true);
-    const decoded = await openPcmStream((async function* () { yield bytes; })());
-    for await (const block of decoded.blocks) for (const ch of block.channelData) expect(ch.every(Number.isFinite)).toBe(true);
-    expect(decoded.warnings).toEqual([expect.objectContaining({ code: 'non_finite_samples', count: 1, atFrame: decoded.framesDecoded - 40 / 4 / decoded.format.channels })]);
+    const decoded = await openPcmStream(
+      (async function* () {
+        yield bytes;
+      })(),
+    );
+    for await (const block of decoded.blocks)
+      for (const ch of block.channelData) expect(ch.every(Number.isFinite)).toBe(true);
+    expect(decoded.warnings).toEqual([
+      expect.objectContaining({
+        code: 'non_finite_samples',
+        count: 1,
+        atFrame: decoded.framesDecoded - 40 / 4 / decoded.format.channels,
+      }),
+    ]);
   });
 });

@@ -42,8 +42,13 @@ beforeAll(async () => {
   originUrl = `http://127.0.0.1:${(origin.address() as { port: number }).port}`;
   svc = await startService({
     env: {
-      EARMARK_RATE_LIMIT_PER_MINUTE: '0', EARMARK_UPLOAD_LIMIT_BYTES: String(LIMIT), EARMARK_BODY_TIMEOUT_MS: String(BODY_TIMEOUT_MS),
-      EARMARK_FETCH_TIMEOUT_MS: '1000', EARMARK_FETCH_DEADLINE_MS: '2500', EARMARK_JOB_ATTEMPTS: '2', EARMARK_FETCH_LIMIT_BYTES: String(256 * LIMIT),
+      EARMARK_RATE_LIMIT_PER_MINUTE: '0',
+      EARMARK_UPLOAD_LIMIT_BYTES: String(LIMIT),
+      EARMARK_BODY_TIMEOUT_MS: String(BODY_TIMEOUT_MS),
+      EARMARK_FETCH_TIMEOUT_MS: '1000',
+      EARMARK_FETCH_DEADLINE_MS: '2500',
+      EARMARK_JOB_ATTEMPTS: '2',
+      EARMARK_FETCH_LIMIT_BYTES: String(256 * LIMIT),
     },
   });
   api = client(svc.url);
@@ -63,7 +68,10 @@ function rawConnection(): Promise<{ socket: Socket; received: () => string; clos
   return new Promise((resolve, reject) => {
     const socket = connect(port(), '127.0.0.1');
     let text = '';
-    socket.on('data', (chunk) => { text += chunk.toString('latin1'); received.set(socket, text); });
+    socket.on('data', (chunk) => {
+      text += chunk.toString('latin1');
+      received.set(socket, text);
+    });
     socket.on('error', () => undefined); // a reset after the answer is expected
     const closed = new Promise<void>((done) => socket.once('close', () => done()));
     socket.once('connect', () => resolve({ socket, received: () => text, closed }));
@@ -72,35 +80,61 @@ function rawConnection(): Promise<{ socket: Socket; received: () => string; clos
 }
 
 const BOUNDARY = 'earmark-test-boundary';
-const multipartHead = (contentLength: number | null) => [
-  'POST /v1/jobs HTTP/1.1', 'Host: 127.0.0.1', `Authorization: Bearer ${KEYS.alpha}`,
-  `Content-Type: multipart/form-data; boundary=${BOUNDARY}`,
-  contentLength === null ? 'Transfer-Encoding: chunked' : `Content-Length: ${contentLength}`, '', '',
-].join('\r\n');
-const partsBefore = Buffer.from(`--${BOUNDARY}\r\nContent-Disposition: form-data; name="profile"\r\n\r\nebu-r128\r\n--${BOUNDARY}\r\nContent-Disposition: form-data; name="file"; filename="a.wav"\r\nContent-Type: audio/wav\r\n\r\n`);
-const chunk = (bytes: Buffer) => Buffer.concat([Buffer.from(`${bytes.length.toString(16)}\r\n`), bytes, Buffer.from('\r\n')]);
+const multipartHead = (contentLength: number | null) =>
+  [
+    'POST /v1/jobs HTTP/1.1',
+    'Host: 127.0.0.1',
+    `Authorization: Bearer ${KEYS.alpha}`,
+    `Content-Type: multipart/form-data; boundary=${BOUNDARY}`,
+    contentLength === null ? 'Transfer-Encoding: chunked' : `Content-Length: ${contentLength}`,
+    '',
+    '',
+  ].join('\r\n');
+const partsBefore = Buffer.from(
+  `--${BOUNDARY}\r\nContent-Disposition: form-data; name="profile"\r\n\r\nebu-r128\r\n--${BOUNDARY}\r\nContent-Disposition: form-data; name="file"; filename="a.wav"\r\nContent-Type: audio/wav\r\n\r\n`,
+);
+const chunk = (bytes: Buffer) =>
+  Buffer.concat([Buffer.from(`${bytes.length.toString(16)}\r\n`), bytes, Buffer.from('\r\n')]);
 const statusOf = (text: string) => Number(/^HTTP\/1\.1 (\d{3})/.exec(text)?.[1] ?? 0);
 const bodyOf = (text: string) => JSON.parse(text.slice(text.indexOf('\r\n\r\n') + 4)) as Record<string, unknown>;
 /** Resolves once the data is taken, or when the server stops reading (a refused body): then
  * the caller looks at what came back. */
-const write = (socket: Socket, data: Buffer | string) => new Promise<void>((resolve) => {
-  if (socket.destroyed || socket.write(data)) { resolve(); return; }
-  const done = () => { clearInterval(poll); socket.off('drain', done).off('close', done); resolve(); };
-  const poll = setInterval(() => { if (statusOf(received.get(socket) ?? '') !== 0) done(); }, 20);
-  socket.once('drain', done).once('close', done);
-});
+const write = (socket: Socket, data: Buffer | string) =>
+  new Promise<void>((resolve) => {
+    if (socket.destroyed || socket.write(data)) {
+      resolve();
+      return;
+    }
+    const done = () => {
+      clearInterval(poll);
+      socket.off('drain', done).off('close', done);
+      resolve();
+    };
+    const poll = setInterval(() => {
+      if (statusOf(received.get(socket) ?? '') !== 0) done();
+    }, 20);
+    socket.once('drain', done).once('close', done);
+  });
 const received = new WeakMap<Socket, string>();
 
 async function jobOutcome(id: string) {
   return until(async () => {
-    const body = (await api.get(`/v1/jobs/${id}`, KEYS.alpha)).body as { state: string; attemptsMade: number; error?: { code: string; message: string } };
+    const body = (await api.get(`/v1/jobs/${id}`, KEYS.alpha)).body as {
+      state: string;
+      attemptsMade: number;
+      error?: { code: string; message: string };
+    };
     return body.state === 'failed' || body.state === 'completed' ? body : null;
   }, 200);
 }
 
 describe('sourceUrl deadlines', () => {
   it('a source dripping 1 KiB every 0.2 s fails as source_stalled after its retries (the overall deadline)', async () => {
-    const submit = await api.postJson('/v1/jobs', { sourceUrl: `${originUrl}/drip.wav`, profile: 'ebu-r128' }, KEYS.alpha);
+    const submit = await api.postJson(
+      '/v1/jobs',
+      { sourceUrl: `${originUrl}/drip.wav`, profile: 'ebu-r128' },
+      KEYS.alpha,
+    );
     expect(submit.status).toBe(202);
     const job = await jobOutcome(submit.body.id);
     expect(job.state).toBe('failed');
@@ -112,7 +146,11 @@ describe('sourceUrl deadlines', () => {
   }, 30_000);
 
   it('a source that stalls after 100 bytes fails as source_stalled (idle timeout), retried, not validation_failed', async () => {
-    const submit = await api.postJson('/v1/jobs', { sourceUrl: `${originUrl}/stall.wav`, profile: 'ebu-r128' }, KEYS.alpha);
+    const submit = await api.postJson(
+      '/v1/jobs',
+      { sourceUrl: `${originUrl}/stall.wav`, profile: 'ebu-r128' },
+      KEYS.alpha,
+    );
     const job = await jobOutcome(submit.body.id);
     expect(job.error?.code).toBe('source_stalled');
     expect(job.attemptsMade).toBe(2);
@@ -120,7 +158,11 @@ describe('sourceUrl deadlines', () => {
   }, 30_000);
 
   it('a source whose connection drops mid-file fails as source_fetch_failed, retried (the network, not the client)', async () => {
-    const submit = await api.postJson('/v1/jobs', { sourceUrl: `${originUrl}/cut.wav`, profile: 'ebu-r128' }, KEYS.alpha);
+    const submit = await api.postJson(
+      '/v1/jobs',
+      { sourceUrl: `${originUrl}/cut.wav`, profile: 'ebu-r128' },
+      KEYS.alpha,
+    );
     const job = await jobOutcome(submit.body.id);
     expect(job.error?.code).toBe('source_fetch_failed');
     expect(job.attemptsMade).toBe(2);
@@ -141,7 +183,8 @@ describe('upload deadlines and limits', () => {
   const sendPastLimit = async (c: Awaited<ReturnType<typeof rawConnection>>) => {
     await write(c.socket, multipartHead(4 * LIMIT));
     await write(c.socket, partsBefore);
-    for (let sent = 0; sent < 1.5 * LIMIT && statusOf(c.received()) === 0; sent += 64 * 1024) await write(c.socket, Buffer.alloc(64 * 1024, 1));
+    for (let sent = 0; sent < 1.5 * LIMIT && statusOf(c.received()) === 0; sent += 64 * 1024)
+      await write(c.socket, Buffer.alloc(64 * 1024, 1));
   };
 
   it('an over-limit upload whose client then disconnects: the temp file is removed', async () => {
@@ -205,20 +248,30 @@ describe('upload deadlines and limits', () => {
   it('100 stalled uploads: every one closed with 408 after the body timeout; temp files and descriptors back to where they were', async () => {
     const fds = () => readdirSync('/proc/self/fd').length;
     const before = fds();
-    const conns = await Promise.all(Array.from({ length: 100 }, async () => {
-      const c = await rawConnection();
-      await write(c.socket, multipartHead(LIMIT - 1024));
-      await write(c.socket, partsBefore);
-      await write(c.socket, Buffer.alloc(16 * 1024, 1));
-      return c;
-    }));
-    const peakTmp = await until(async () => { const n = tmpFiles().length; return n >= 100 ? n : null; }, 20);
+    const conns = await Promise.all(
+      Array.from({ length: 100 }, async () => {
+        const c = await rawConnection();
+        await write(c.socket, multipartHead(LIMIT - 1024));
+        await write(c.socket, partsBefore);
+        await write(c.socket, Buffer.alloc(16 * 1024, 1));
+        return c;
+      }),
+    );
+    const peakTmp = await until(async () => {
+      const n = tmpFiles().length;
+      return n >= 100 ? n : null;
+    }, 20);
     const peakFds = fds();
     await Promise.all(conns.map((c) => c.closed));
     expect(conns.map((c) => statusOf(c.received())).filter((st) => st !== 408)).toEqual([]);
     await until(async () => tmpFiles().length === 0, 50);
-    const after = await until(async () => { const n = fds(); return n <= before + 5 ? n : null; }, 50);
-    console.log(`[deadlines stalled uploads] 100 stalled: peak ${peakTmp} temp files, descriptors ${before} -> ${peakFds} -> ${after} (this process holds both ends); after the body timeout: 100 x 408, 0 temp files`);
+    const after = await until(async () => {
+      const n = fds();
+      return n <= before + 5 ? n : null;
+    }, 50);
+    console.log(
+      `[deadlines stalled uploads] 100 stalled: peak ${peakTmp} temp files, descriptors ${before} -> ${peakFds} -> ${after} (this process holds both ends); after the body timeout: 100 x 408, 0 temp files`,
+    );
   });
 
   it('headers larger than the parser allows: 431 problem+json', async () => {
@@ -254,7 +307,18 @@ describe('upload deadlines and limits', () => {
 
   it('an unterminated chunked JSON body over 1 MiB gets 413', async () => {
     const c = await rawConnection();
-    await write(c.socket, ['POST /v1/jobs HTTP/1.1', 'Host: 127.0.0.1', `Authorization: Bearer ${KEYS.alpha}`, 'Content-Type: application/json', 'Transfer-Encoding: chunked', '', ''].join('\r\n'));
+    await write(
+      c.socket,
+      [
+        'POST /v1/jobs HTTP/1.1',
+        'Host: 127.0.0.1',
+        `Authorization: Bearer ${KEYS.alpha}`,
+        'Content-Type: application/json',
+        'Transfer-Encoding: chunked',
+        '',
+        '',
+      ].join('\r\n'),
+    );
     await write(c.socket, chunk(Buffer.from('{"profile":"')));
     let sent = 0;
     while (statusOf(c.received()) === 0 && sent < 8 * LIMIT && !c.socket.destroyed) {
@@ -271,17 +335,24 @@ describe('upload deadlines and limits', () => {
 
 describe('the whole-request timeout', () => {
   it('an upload that keeps dripping past EARMARK_REQUEST_TIMEOUT_MS gets 408 problem+json and its temp file goes', async () => {
-    const slow = await startService({ worker: false, env: { EARMARK_RATE_LIMIT_PER_MINUTE: '0', EARMARK_REQUEST_TIMEOUT_MS: '1500', EARMARK_BODY_TIMEOUT_MS: '10000' } });
+    const slow = await startService({
+      worker: false,
+      env: { EARMARK_RATE_LIMIT_PER_MINUTE: '0', EARMARK_REQUEST_TIMEOUT_MS: '1500', EARMARK_BODY_TIMEOUT_MS: '10000' },
+    });
     try {
       const socket = connect(Number(new URL(slow.url).port), '127.0.0.1');
       let text = '';
-      socket.on('data', (d) => { text += d.toString('latin1'); });
+      socket.on('data', (d) => {
+        text += d.toString('latin1');
+      });
       socket.on('error', () => undefined);
       const closed = new Promise<void>((done) => socket.once('close', () => done()));
       socket.write(multipartHead(LIMIT));
       socket.write(partsBefore);
       // 1 KiB every 0.2 s: never idle, never done.
-      const timer = setInterval(() => { if (!socket.destroyed) socket.write(Buffer.alloc(1024, 1)); }, 200);
+      const timer = setInterval(() => {
+        if (!socket.destroyed) socket.write(Buffer.alloc(1024, 1));
+      }, 200);
       await closed;
       clearInterval(timer);
       expect(statusOf(text)).toBe(408);
@@ -323,7 +394,12 @@ describe('typed errors for what the parser and router refuse', () => {
   it('a 2 MB multipart field name: typed 4xx, at most 200 characters of it in the body', async () => {
     const name = 'z'.repeat(2_000_000);
     // A valid form but for one extra field with that name.
-    const body = Buffer.concat([partsBefore, Buffer.from(`RIFF\r\n--${BOUNDARY}\r\nContent-Disposition: form-data; name="${name}"\r\n\r\nx\r\n--${BOUNDARY}--\r\n`)]);
+    const body = Buffer.concat([
+      partsBefore,
+      Buffer.from(
+        `RIFF\r\n--${BOUNDARY}\r\nContent-Disposition: form-data; name="${name}"\r\n\r\nx\r\n--${BOUNDARY}--\r\n`,
+      ),
+    ]);
     const c = await rawConnection();
     c.socket.write(multipartHead(body.length));
     c.socket.write(body);
@@ -335,21 +411,36 @@ describe('typed errors for what the parser and router refuse', () => {
     const text = c.received().slice(c.received().indexOf('\r\n\r\n') + 4);
     expect(text.split('z').length - 1).toBeLessThanOrEqual(200);
     c.socket.destroy();
-    console.log(`[deadlines field name] ${status} ${String(bodyOf(c.received()).code)} "${String(bodyOf(c.received()).detail)}", ${text.split("z").length - 1} characters of the name in a ${text.length}-character body`);
+    console.log(
+      `[deadlines field name] ${status} ${String(bodyOf(c.received()).code)} "${String(bodyOf(c.received()).detail)}", ${text.split('z').length - 1} characters of the name in a ${text.length}-character body`,
+    );
   });
 
   it.each([
     ['a field', (name: string) => `Content-Disposition: form-data; name="${name}"\r\n\r\nx`],
-    ['a file part', (name: string) => `Content-Disposition: form-data; name="${name}"; filename="a.wav"\r\nContent-Type: audio/wav\r\n\r\nRIFF`],
-  ])('a 10,000-character name of %s the parser accepts: at most 200 characters of it in the body', async (_kind, part) => {
-    const name = 'z'.repeat(10_000);
-    const body = `--${BOUNDARY}\r\nContent-Disposition: form-data; name="profile"\r\n\r\nebu-r128\r\n--${BOUNDARY}\r\n${part(name)}\r\n--${BOUNDARY}--\r\n`;
-    const res = await request(svc.url).post('/v1/jobs').set('authorization', `Bearer ${KEYS.alpha}`).set('content-type', `multipart/form-data; boundary=${BOUNDARY}`).send(body);
-    expect(res.status).toBe(400);
-    expect(res.headers['content-type']).toContain('application/problem+json');
-    expect(res.text.split('z').length - 1).toBeLessThanOrEqual(200);
-    console.log(`[deadlines long name] ${_kind}: ${res.status} ${res.body.code}, ${res.text.split('z').length - 1} characters of the name in the body`);
-  });
+    [
+      'a file part',
+      (name: string) =>
+        `Content-Disposition: form-data; name="${name}"; filename="a.wav"\r\nContent-Type: audio/wav\r\n\r\nRIFF`,
+    ],
+  ])(
+    'a 10,000-character name of %s the parser accepts: at most 200 characters of it in the body',
+    async (_kind, part) => {
+      const name = 'z'.repeat(10_000);
+      const body = `--${BOUNDARY}\r\nContent-Disposition: form-data; name="profile"\r\n\r\nebu-r128\r\n--${BOUNDARY}\r\n${part(name)}\r\n--${BOUNDARY}--\r\n`;
+      const res = await request(svc.url)
+        .post('/v1/jobs')
+        .set('authorization', `Bearer ${KEYS.alpha}`)
+        .set('content-type', `multipart/form-data; boundary=${BOUNDARY}`)
+        .send(body);
+      expect(res.status).toBe(400);
+      expect(res.headers['content-type']).toContain('application/problem+json');
+      expect(res.text.split('z').length - 1).toBeLessThanOrEqual(200);
+      console.log(
+        `[deadlines long name] ${_kind}: ${res.status} ${res.body.code}, ${res.text.split('z').length - 1} characters of the name in the body`,
+      );
+    },
+  );
 });
 
 describe('partial uploads left by a killed process', () => {

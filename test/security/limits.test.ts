@@ -57,10 +57,21 @@ describe('per-key rate limit', () => {
 describe('prototype-poisoning keys in profiles', () => {
   let base: Record<string, unknown>;
   beforeAll(async () => {
-    const { id: _id, version: _v, ...rest } = (await api.get('/v1/profiles/ebu-r128', KEYS.alpha)).body.profile as Record<string, unknown>;
+    const {
+      id: _id,
+      version: _v,
+      ...rest
+    } = (await api.get('/v1/profiles/ebu-r128', KEYS.alpha)).body.profile as Record<string, unknown>;
     base = rest;
   });
-  const putRaw = (id: string, raw: string) => api.checked(request(svc.url).put(`/v1/profiles/${id}`).set('authorization', `Bearer ${KEYS.alphaAdmin}`).set('content-type', 'application/json').send(raw));
+  const putRaw = (id: string, raw: string) =>
+    api.checked(
+      request(svc.url)
+        .put(`/v1/profiles/${id}`)
+        .set('authorization', `Bearer ${KEYS.alphaAdmin}`)
+        .set('content-type', 'application/json')
+        .send(raw),
+    );
 
   it('the control: the copied profile is accepted as it is', async () => {
     expect((await putRaw('own-copy', JSON.stringify(base))).status).toBe(200);
@@ -69,7 +80,11 @@ describe('prototype-poisoning keys in profiles', () => {
   it.each([
     ['__proto__ at the top', (j: string) => j.replace('{', '{"__proto__":{"admin":true},'), '__proto__'],
     ['__proto__ in a rule', (j: string) => j.replace('"rules":[{', '"rules":[{"__proto__":{"x":1},'), '__proto__'],
-    ['constructor.prototype at the top', (j: string) => j.replace('{', '{"constructor":{"prototype":{"x":1}},'), 'constructor'],
+    [
+      'constructor.prototype at the top',
+      (j: string) => j.replace('{', '{"constructor":{"prototype":{"x":1}},'),
+      'constructor',
+    ],
     ['a plain constructor key', (j: string) => j.replace('{', '{"constructor":"x",'), 'constructor'],
     ['a prototype key in a rule', (j: string) => j.replace('"rules":[{', '"rules":[{"prototype":1,'), 'prototype'],
   ])('%s: 400 naming the field, nothing stored', async (_name, poison, field) => {
@@ -111,19 +126,30 @@ describe('multipart limits and stored names', () => {
     }
     // A 70 KB field: the server answers as soon as the field passes its limit, so the client may
     // still be sending (a broken pipe, seen in CI) or read the typed 4xx; either way nothing is kept.
-    const oversize = await post().field('profile', 'ebu-r128').field('externalId', 'x'.repeat(70 * 1024)).attach('file', tinyWav)
-      .then((r) => `${r.status} ${r.body.code}`, (e: Error) => `client: ${e.message}`);
+    const oversize = await post()
+      .field('profile', 'ebu-r128')
+      .field('externalId', 'x'.repeat(70 * 1024))
+      .attach('file', tinyWav)
+      .then(
+        (r) => `${r.status} ${r.body.code}`,
+        (e: Error) => `client: ${e.message}`,
+      );
     expect(oversize).toMatch(/^4\d\d [a-z_]+$|^client: write EPIPE|^client: .*ECONNRESET/);
     // Past the parser's own limit (110 parts) it stops reading: the server still answers (a
     // typed 400, or a broken pipe while the client is still sending), keeps nothing, and lives on.
     let flood = post().field('profile', 'ebu-r128');
     for (let i = 0; i < 130; i++) flood = flood.field(`f${i}`, 'x');
-    const flooded = await flood.attach('file', wav).then((r) => `${r.status} ${r.body.code}`, (e: Error) => `client: ${e.message}`);
+    const flooded = await flood.attach('file', wav).then(
+      (r) => `${r.status} ${r.body.code}`,
+      (e: Error) => `client: ${e.message}`,
+    );
     expect(flooded).toMatch(/^400 validation_failed|^client: write EPIPE|^client: .*ECONNRESET/);
     expect((await api.get('/healthz')).status).toBe(200);
     expect(uploads().length).toBe(before);
     expect(tmp()).toEqual([]);
-    console.log(`[security multipart] ${outcomes.map((r) => `${r.status} ${r.body.code}`).join('; ')}; 70 KB field: ${oversize}; 130 fields: ${flooded}`);
+    console.log(
+      `[security multipart] ${outcomes.map((r) => `${r.status} ${r.body.code}`).join('; ')}; 70 KB field: ${oversize}; 130 fields: ${flooded}`,
+    );
   });
 
   it('stores uploads under generated names only, whatever the client calls the file', async () => {

@@ -10,7 +10,12 @@ export const SAMPLE_RATE = 48_000;
 
 export async function writeSine(path: string, peakDbfs: number, seconds: number): Promise<string> {
   const blocks = function* () {
-    for (const block of toneBlocks({ sampleRate: SAMPLE_RATE, channels: 2, segments: [{ seconds, peakDbfs, frequencyHz: 997 }] })) yield [...block.channelData];
+    for (const block of toneBlocks({
+      sampleRate: SAMPLE_RATE,
+      channels: 2,
+      segments: [{ seconds, peakDbfs, frequencyHz: 997 }],
+    }))
+      yield [...block.channelData];
   };
   await writeWavFile(path, { sampleRate: SAMPLE_RATE, channels: 2, bitsPerSample: 24, float: false }, blocks());
   return path;

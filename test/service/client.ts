@@ -7,7 +7,12 @@ export interface Client {
   del(path: string, key?: string): Promise<Response>;
   put(path: string, body: unknown, key?: string): Promise<Response>;
   postJson(path: string, body: unknown, key?: string, headers?: Record<string, string>): Promise<Response>;
-  upload(filePath: string, fields: Record<string, string>, key?: string, headers?: Record<string, string>): Promise<Response>;
+  upload(
+    filePath: string,
+    fields: Record<string, string>,
+    key?: string,
+    headers?: Record<string, string>,
+  ): Promise<Response>;
   checked(test: Test): Promise<Response>;
 }
 
@@ -23,7 +28,12 @@ export function client(baseUrl: string): Client {
     get: (path, key) => checked(auth(request(baseUrl).get(path), key)),
     del: (path, key) => checked(auth(request(baseUrl).delete(path), key)),
     put: (path, body, key) => checked(auth(request(baseUrl).put(path), key).send(body as object)),
-    postJson: (path, body, key, headers = {}) => checked(auth(request(baseUrl).post(path), key).set(headers).send(body as object)),
+    postJson: (path, body, key, headers = {}) =>
+      checked(
+        auth(request(baseUrl).post(path), key)
+          .set(headers)
+          .send(body as object),
+      ),
     upload: (filePath, fields, key, headers = {}) => {
       let test = auth(request(baseUrl).post('/v1/jobs'), key).set(headers);
       for (const [name, value] of Object.entries(fields)) test = test.field(name, value);

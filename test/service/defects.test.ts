@@ -13,7 +13,16 @@ let service: TestService;
 let api: Client;
 const files = new Map<DefectName, DefectFile>();
 
-interface ReportFlag { kind: string; severity: string; channelName: string; startSample: number; endSample: number; startTimecode: string; number: number; count: number }
+interface ReportFlag {
+  kind: string;
+  severity: string;
+  channelName: string;
+  startSample: number;
+  endSample: number;
+  startTimecode: string;
+  number: number;
+  count: number;
+}
 
 async function run(path: string, profile: string) {
   const submit = await api.upload(path, { profile }, KEYS.alpha);
@@ -22,7 +31,8 @@ async function run(path: string, profile: string) {
     const res = await api.get(`/v1/jobs/${submit.body.id}`, KEYS.alpha);
     return res.body.state === 'completed' || res.body.state === 'failed' ? res.body : null;
   });
-  const report = job.state === 'completed' ? (await api.get(`/v1/jobs/${submit.body.id}/report`, KEYS.alpha)).body : null;
+  const report =
+    job.state === 'completed' ? (await api.get(`/v1/jobs/${submit.body.id}/report`, KEYS.alpha)).body : null;
   return { job, report };
 }
 
@@ -30,7 +40,8 @@ beforeAll(async () => {
   // The 30 s gap file is 8.6 MB of 24-bit stereo.
   service = await startService({ env: { EARMARK_UPLOAD_LIMIT_BYTES: String(16 * 1024 * 1024) } });
   api = client(service.url);
-  for (const name of ['truncated', 'dropout', 'gap', 'clip', 'phase'] as const) files.set(name, await writeDefectFile(service.dir, name));
+  for (const name of ['truncated', 'dropout', 'gap', 'clip', 'phase'] as const)
+    files.set(name, await writeDefectFile(service.dir, name));
 });
 
 afterAll(async () => {
@@ -48,7 +59,13 @@ describe('defect journey', () => {
 
   it('a 50-byte WAV (header and one frame) completes as a failing report, never a pass', async () => {
     const path = join(service.dir, 'tiny.wav');
-    writeFileSync(path, Buffer.concat([wavHeader({ sampleRate: 48000, channels: 1, bitsPerSample: 16, float: false, frames: 1 }), encodePcmFrames([new Float32Array([0.5])], 16, false)]));
+    writeFileSync(
+      path,
+      Buffer.concat([
+        wavHeader({ sampleRate: 48000, channels: 1, bitsPerSample: 16, float: false, frames: 1 }),
+        encodePcmFrames([new Float32Array([0.5])], 16, false),
+      ]),
+    );
     const { job, report } = await run(path, 'ebu-r128');
     expect(job).toMatchObject({ state: 'completed', verdict: 'fail' });
     expect(report.integrity.problems.map((p: { code: string }) => p.code)).toEqual(['too_short']);
@@ -58,11 +75,21 @@ describe('defect journey', () => {
     const dropout = files.get('dropout')!;
     const d = await run(dropout.path, 'delivery-broadcast-stereo');
     expect(d.job.verdict).toBe('fail');
-    expect(d.report.flags.find((f: ReportFlag) => f.kind === 'dropout')).toMatchObject({ severity: 'fail', channelName: '2 R', startSample: dropout.atSample, endSample: dropout.endSample, startTimecode: '00:00:08:00' });
+    expect(d.report.flags.find((f: ReportFlag) => f.kind === 'dropout')).toMatchObject({
+      severity: 'fail',
+      channelName: '2 R',
+      startSample: dropout.atSample,
+      endSample: dropout.endSample,
+      startTimecode: '00:00:08:00',
+    });
 
     const gap = await run(files.get('gap')!.path, 'delivery-broadcast-stereo');
     expect(gap.job.verdict).toBe('warn');
-    expect(gap.report.flags.find((f: ReportFlag) => f.kind === 'silence_gap')).toMatchObject({ severity: 'warn', channelName: 'all', startTimecode: '00:00:08:00' });
+    expect(gap.report.flags.find((f: ReportFlag) => f.kind === 'silence_gap')).toMatchObject({
+      severity: 'warn',
+      channelName: 'all',
+      startTimecode: '00:00:08:00',
+    });
 
     const clip = await run(files.get('clip')!.path, 'ebu-r128');
     const clips = clip.report.flags.filter((f: ReportFlag) => f.kind === 'clipping');
@@ -71,6 +98,9 @@ describe('defect journey', () => {
 
     const phase = await run(files.get('phase')!.path, 'delivery-broadcast-stereo');
     expect(phase.job.verdict).toBe('warn');
-    expect(phase.report.flags.find((f: ReportFlag) => f.kind === 'phase_problem')).toMatchObject({ severity: 'warn', channelName: '1 L' });
+    expect(phase.report.flags.find((f: ReportFlag) => f.kind === 'phase_problem')).toMatchObject({
+      severity: 'warn',
+      channelName: '1 L',
+    });
   });
 });

@@ -29,7 +29,12 @@ afterAll(async () => {
 function spawnWorker(shutdownTimeoutMs: number): { child: ChildProcess; exited: Promise<number | null> } {
   const child = spawn(process.execPath, ['bin/run.js', 'workers/worker.ts'], {
     cwd: new URL('../..', import.meta.url).pathname,
-    env: { ...process.env, ...service.env, EARMARK_SHUTDOWN_TIMEOUT_MS: String(shutdownTimeoutMs), EARMARK_LOG_LEVEL: 'silent' },
+    env: {
+      ...process.env,
+      ...service.env,
+      EARMARK_SHUTDOWN_TIMEOUT_MS: String(shutdownTimeoutMs),
+      EARMARK_LOG_LEVEL: 'silent',
+    },
     stdio: 'ignore',
   });
   const exited = new Promise<number | null>((resolve) => child.on('exit', (code) => resolve(code)));

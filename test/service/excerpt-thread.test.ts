@@ -24,7 +24,22 @@ beforeAll(async () => {
   service = await startService();
   api = client(service.url);
   bomb = join(service.dir, 'silent-long.flac');
-  const made = spawnSync('ffmpeg', ['-loglevel', 'error', '-y', '-f', 'lavfi', '-i', 'anullsrc=r=48000:cl=stereo', '-t', String(BOMB_SECONDS), '-c:a', 'flac', '-frame_size', '65535', bomb]);
+  const made = spawnSync('ffmpeg', [
+    '-loglevel',
+    'error',
+    '-y',
+    '-f',
+    'lavfi',
+    '-i',
+    'anullsrc=r=48000:cl=stereo',
+    '-t',
+    String(BOMB_SECONDS),
+    '-c:a',
+    'flac',
+    '-frame_size',
+    '65535',
+    bomb,
+  ]);
   expect(made.status).toBe(0);
   const submit = await api.upload(bomb, { profile: 'ebu-r128' }, KEYS.alpha);
   expect(submit.status).toBe(202);
@@ -47,13 +62,25 @@ describe.skipIf(!hasFfmpeg)('excerpts off the event loop', () => {
     const startSeconds = BOMB_SECONDS - 10;
     const rssBefore = process.memoryUsage().rss;
     let rssPeak = rssBefore;
-    const sampler = setInterval(() => { rssPeak = Math.max(rssPeak, process.memoryUsage().rss); }, 10);
+    const sampler = setInterval(() => {
+      rssPeak = Math.max(rssPeak, process.memoryUsage().rss);
+    }, 10);
     let inProgress = true;
     const started = performance.now();
-    const excerpt = fetch(`${service.url}/v1/jobs/${jobId}/excerpt?startSeconds=${startSeconds}&endSeconds=${startSeconds + 10}`, {
-      headers: { authorization: `Bearer ${KEYS.alpha}` },
-    }).then(async (res) => ({ status: res.status, type: res.headers.get('content-type'), body: new Uint8Array(await res.arrayBuffer()) }))
-      .finally(() => { inProgress = false; });
+    const excerpt = fetch(
+      `${service.url}/v1/jobs/${jobId}/excerpt?startSeconds=${startSeconds}&endSeconds=${startSeconds + 10}`,
+      {
+        headers: { authorization: `Bearer ${KEYS.alpha}` },
+      },
+    )
+      .then(async (res) => ({
+        status: res.status,
+        type: res.headers.get('content-type'),
+        body: new Uint8Array(await res.arrayBuffer()),
+      }))
+      .finally(() => {
+        inProgress = false;
+      });
     const health: { status: number; ms: number; during: boolean }[] = [];
     while (inProgress) {
       const t0 = performance.now();
@@ -66,9 +93,11 @@ describe.skipIf(!hasFfmpeg)('excerpts off the event loop', () => {
     clearInterval(sampler);
     const during = health.filter((h) => h.during);
     const ms = during.map((h) => h.ms).sort((a, b) => a - b);
-    console.log(`[excerpt of a ${BOMB_SECONDS} s silent FLAC at ${startSeconds} s: ${excerptMs.toFixed(0)} ms; /healthz answers during it ${during.length}, ` +
-      `all 200: ${during.every((h) => h.status === 200)}, median ${ms[Math.floor(ms.length / 2)]?.toFixed(1)} ms, max ${ms.at(-1)?.toFixed(1)} ms; ` +
-      `API process RSS ${mib(rssBefore)} -> peak ${mib(rssPeak)} MiB (+${mib(rssPeak - rssBefore)}), after ${mib(process.memoryUsage().rss)} MiB]`);
+    console.log(
+      `[excerpt of a ${BOMB_SECONDS} s silent FLAC at ${startSeconds} s: ${excerptMs.toFixed(0)} ms; /healthz answers during it ${during.length}, ` +
+        `all 200: ${during.every((h) => h.status === 200)}, median ${ms[Math.floor(ms.length / 2)]?.toFixed(1)} ms, max ${ms.at(-1)?.toFixed(1)} ms; ` +
+        `API process RSS ${mib(rssBefore)} -> peak ${mib(rssPeak)} MiB (+${mib(rssPeak - rssBefore)}), after ${mib(process.memoryUsage().rss)} MiB]`,
+    );
     expect(got.status).toBe(200);
     expect(got.type).toBe('audio/wav');
     // The loop was free: health answers arrived while the excerpt was being cut, every one 200.
@@ -85,7 +114,11 @@ describe.skipIf(!hasFfmpeg)('excerpts off the event loop', () => {
     const headers = { authorization: `Bearer ${KEYS.alpha}` };
     // Two running and four waiting fill the runner; each is dropped while in flight.
     const gone = Array.from({ length: 6 }, () => new AbortController());
-    const requests = gone.map((c) => fetch(url, { headers, signal: c.signal }).then((r) => r.arrayBuffer()).catch(() => null));
+    const requests = gone.map((c) =>
+      fetch(url, { headers, signal: c.signal })
+        .then((r) => r.arrayBuffer())
+        .catch(() => null),
+    );
     await new Promise((resolve) => setTimeout(resolve, 100));
     for (const c of gone) c.abort();
     await Promise.all(requests);

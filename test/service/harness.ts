@@ -47,9 +47,19 @@ export function testEnv(dir: string, extra: Record<string, string> = {}): Record
   };
 }
 
-export interface TestService { url: string; config: Config; env: Record<string, string>; dir: string; api: RunningApi; worker: WorkerRuntime | null; close(): Promise<void> }
+export interface TestService {
+  url: string;
+  config: Config;
+  env: Record<string, string>;
+  dir: string;
+  api: RunningApi;
+  worker: WorkerRuntime | null;
+  close(): Promise<void>;
+}
 
-export async function startService(options: { worker?: boolean; env?: Record<string, string> } = {}): Promise<TestService> {
+export async function startService(
+  options: { worker?: boolean; env?: Record<string, string> } = {},
+): Promise<TestService> {
   const dir = mkdtempSync(join(tmpdir(), 'earmark-svc-'));
   const env = testEnv(dir, options.env);
   const config = loadConfig(env);
@@ -57,7 +67,12 @@ export async function startService(options: { worker?: boolean; env?: Record<str
   const worker = options.worker === false ? null : await startWorker(config, log);
   const api = await startApi(config, log);
   return {
-    url: api.url, config, env, dir, api, worker,
+    url: api.url,
+    config,
+    env,
+    dir,
+    api,
+    worker,
     async close() {
       await api.close();
       await worker?.close();

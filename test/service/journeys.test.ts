@@ -50,7 +50,13 @@ describe('upload and report', () => {
     expect(submit.status).toBe(202);
     expect(submit.headers.location).toBe(`/v1/jobs/${submit.body.id}`);
     const done = await finished(submit.body.id);
-    expect(done.body).toMatchObject({ state: 'completed', verdict: 'pass', progressPercent: 100, externalId: 'ext-001', profile: { id: 'ebu-r128', version: '1.0.0' } });
+    expect(done.body).toMatchObject({
+      state: 'completed',
+      verdict: 'pass',
+      progressPercent: 100,
+      externalId: 'ext-001',
+      profile: { id: 'ebu-r128', version: '1.0.0' },
+    });
     const report = await api.get(`/v1/jobs/${submit.body.id}/report`, KEYS.alpha);
     expect(report.status).toBe(200);
     expect(report.body.verdict).toBe('pass');
@@ -61,7 +67,9 @@ describe('upload and report', () => {
     // The hash the API took while storing the upload, carried to the worker: the bytes' own SHA-256.
     expect(report.body.file.sha256).toBe(createHash('sha256').update(readFileSync(files.pass)).digest('hex'));
     // Identical L and R: dual mono, shown as a remark that leaves the verdict a pass.
-    expect(report.body.flags.map((f: { kind: string; severity: string }) => [f.kind, f.severity])).toEqual([['duplicate_channel', 'remark']]);
+    expect(report.body.flags.map((f: { kind: string; severity: string }) => [f.kind, f.severity])).toEqual([
+      ['duplicate_channel', 'remark'],
+    ]);
   });
 
   it('a loud FLAC fails loudness and true peak, with true-peak flags', async () => {
@@ -71,7 +79,10 @@ describe('upload and report', () => {
     expect(done.body).toMatchObject({ state: 'completed', verdict: 'fail' });
     const report = (await api.get(`/v1/jobs/${submit.body.id}/report`, KEYS.alpha)).body;
     expect(report.format.container).toBe('flac');
-    const failed = report.checks.filter((c: { passed: boolean }) => !c.passed).map((c: { ruleId: string }) => c.ruleId).sort();
+    const failed = report.checks
+      .filter((c: { passed: boolean }) => !c.passed)
+      .map((c: { ruleId: string }) => c.ruleId)
+      .sort();
     expect(failed).toEqual(['programme-loudness', 'true-peak']);
     // A sine's true peak is at least its sample peak (BS.1770-5 Annex 2): about -0.5 dBTP, above the -1 dBTP ceiling of R 128.
     expect(report.summary.truePeakDbtp).toBeGreaterThan(-1);
@@ -103,7 +114,9 @@ describe('upload and report', () => {
   });
 
   it('bad requests get typed problems: unknown profile 422, missing file 400, no key 401', async () => {
-    expect((await api.upload(files.pass, { profile: 'no-such-profile' }, KEYS.alpha)).body.code).toBe('unknown_profile');
+    expect((await api.upload(files.pass, { profile: 'no-such-profile' }, KEYS.alpha)).body.code).toBe(
+      'unknown_profile',
+    );
     const noFile = await api.postJson('/v1/jobs', { profile: 'ebu-r128' }, KEYS.alpha);
     expect(noFile.status).toBe(400);
     expect(noFile.body).toMatchObject({ code: 'validation_failed', field: 'sourceUrl' });
@@ -117,7 +130,8 @@ describe('sourceUrl', () => {
   let originUrl: string;
   beforeAll(async () => {
     origin = createServer((req, res) => {
-      if (req.url === '/media/pass.wav') return createReadStream(files.pass).pipe(res.writeHead(200, { 'content-type': 'audio/wav' }));
+      if (req.url === '/media/pass.wav')
+        return createReadStream(files.pass).pipe(res.writeHead(200, { 'content-type': 'audio/wav' }));
       res.writeHead(404).end();
     });
     await new Promise<void>((resolve) => origin.listen(0, '127.0.0.1', resolve));
@@ -126,16 +140,29 @@ describe('sourceUrl', () => {
   afterAll(() => new Promise<void>((resolve) => origin.close(() => resolve())));
 
   it('fetches an allowlisted local URL and analyses it', async () => {
-    const submit = await api.postJson('/v1/jobs', { sourceUrl: `${originUrl}/media/pass.wav`, profile: 'ebu-r128', metadata: { desk: 'ingest-2' } }, KEYS.alpha);
+    const submit = await api.postJson(
+      '/v1/jobs',
+      { sourceUrl: `${originUrl}/media/pass.wav`, profile: 'ebu-r128', metadata: { desk: 'ingest-2' } },
+      KEYS.alpha,
+    );
     expect(submit.status).toBe(202);
     const done = await finished(submit.body.id);
-    expect(done.body).toMatchObject({ state: 'completed', verdict: 'pass', source: { kind: 'url' }, metadata: { desk: 'ingest-2' } });
+    expect(done.body).toMatchObject({
+      state: 'completed',
+      verdict: 'pass',
+      source: { kind: 'url' },
+      metadata: { desk: 'ingest-2' },
+    });
     const report = (await api.get(`/v1/jobs/${submit.body.id}/report`, KEYS.alpha)).body;
     expect(report.file.sha256).toBe(createHash('sha256').update(readFileSync(files.pass)).digest('hex'));
   });
 
   it('a 404 from the origin fails the job with source_fetch_failed', async () => {
-    const submit = await api.postJson('/v1/jobs', { sourceUrl: `${originUrl}/media/missing.wav`, profile: 'ebu-r128' }, KEYS.alpha);
+    const submit = await api.postJson(
+      '/v1/jobs',
+      { sourceUrl: `${originUrl}/media/missing.wav`, profile: 'ebu-r128' },
+      KEYS.alpha,
+    );
     const done = await finished(submit.body.id);
     expect(done.body.error).toMatchObject({ code: 'source_fetch_failed' });
     // A 404 is the origin's answer, not a transient fault: no retry.
@@ -143,10 +170,18 @@ describe('sourceUrl', () => {
   });
 
   it('refuses link-local and private addresses that are not allowlisted', async () => {
-    const metadataService = await api.postJson('/v1/jobs', { sourceUrl: 'http://169.254.169.254/latest', profile: 'ebu-r128' }, KEYS.alpha);
+    const metadataService = await api.postJson(
+      '/v1/jobs',
+      { sourceUrl: 'http://169.254.169.254/latest', profile: 'ebu-r128' },
+      KEYS.alpha,
+    );
     expect(metadataService.status).toBe(422);
     expect(metadataService.body).toMatchObject({ code: 'source_refused', field: 'sourceUrl' });
-    const privateNet = await api.postJson('/v1/jobs', { sourceUrl: 'http://10.1.2.3/a.wav', profile: 'ebu-r128' }, KEYS.alpha);
+    const privateNet = await api.postJson(
+      '/v1/jobs',
+      { sourceUrl: 'http://10.1.2.3/a.wav', profile: 'ebu-r128' },
+      KEYS.alpha,
+    );
     expect(privateNet.body.code).toBe('source_refused');
     const scheme = await api.postJson('/v1/jobs', { sourceUrl: 'file:///etc/passwd', profile: 'ebu-r128' }, KEYS.alpha);
     expect(scheme.body.code).toBe('source_refused');
@@ -193,7 +228,10 @@ describe('tenants and scopes', () => {
 
 describe('profiles', () => {
   const house = (targetLufs: number) => ({
-    name: 'House loudness', version: '0.0.1', description: 'Invented house rule for the tests', basis: 'house rule',
+    name: 'House loudness',
+    version: '0.0.1',
+    description: 'Invented house rule for the tests',
+    basis: 'house rule',
     rules: [{ id: 'loudness', type: 'integrated-loudness', severity: 'fail', targetLufs, toleranceLu: 1 }],
   });
 
@@ -206,7 +244,9 @@ describe('profiles', () => {
     expect((await api.get('/v1/profiles/house-loud', KEYS.alpha)).body.profile.rules[0].targetLufs).toBe(-16);
     expect((await api.get('/v1/profiles/house-loud', KEYS.beta)).status).toBe(404);
     const list = await api.get('/v1/profiles', KEYS.alpha);
-    expect(list.body.items.map((e: { profile: { id: string } }) => e.profile.id)).toEqual(expect.arrayContaining(['ebu-r128', 'house-loud']));
+    expect(list.body.items.map((e: { profile: { id: string } }) => e.profile.id)).toEqual(
+      expect.arrayContaining(['ebu-r128', 'house-loud']),
+    );
 
     // -23 LUFS against a -16 +/-1 LU target (version 2): fail, and the report says version 2.
     const submit = await api.upload(files.pass, { profile: 'house-loud' }, KEYS.alpha);
@@ -233,7 +273,9 @@ describe('webhooks', () => {
     const received: Array<{ headers: IncomingMessage['headers']; body: string; answered: number }> = [];
     const receiver = createServer((req, res) => {
       let body = '';
-      req.on('data', (c) => { body += c; });
+      req.on('data', (c) => {
+        body += c;
+      });
       req.on('end', () => {
         const answered = received.length === 0 ? 500 : 204;
         received.push({ headers: req.headers, body, answered });
@@ -253,12 +295,29 @@ describe('webhooks', () => {
       const [first, second] = received;
       expect(first.headers['earmark-delivery']).toBe(second.headers['earmark-delivery']);
       for (const r of received) {
-        expect(verify(WEBHOOK_SECRET, String(r.headers['earmark-signature']), r.body, Math.floor(Date.now() / 1000))).toBe(true);
-        expect(verify('some-other-secret-value-000', String(r.headers['earmark-signature']), r.body, Math.floor(Date.now() / 1000))).toBe(false);
+        expect(
+          verify(WEBHOOK_SECRET, String(r.headers['earmark-signature']), r.body, Math.floor(Date.now() / 1000)),
+        ).toBe(true);
+        expect(
+          verify(
+            'some-other-secret-value-000',
+            String(r.headers['earmark-signature']),
+            r.body,
+            Math.floor(Date.now() / 1000),
+          ),
+        ).toBe(false);
       }
       const payload = JSON.parse(second.body);
-      expect(payload).toMatchObject({ event: 'job.completed', job: { id: submit.body.id, verdict: 'pass', state: 'completed' } });
-      expect(job.body.callback.deliveries.map((d: { outcome: string; statusCode: number }) => [d.outcome, d.statusCode])).toEqual([['retrying', 500], ['delivered', 204]]);
+      expect(payload).toMatchObject({
+        event: 'job.completed',
+        job: { id: submit.body.id, verdict: 'pass', state: 'completed' },
+      });
+      expect(
+        job.body.callback.deliveries.map((d: { outcome: string; statusCode: number }) => [d.outcome, d.statusCode]),
+      ).toEqual([
+        ['retrying', 500],
+        ['delivered', 204],
+      ]);
     } finally {
       await new Promise<void>((resolve) => receiver.close(() => resolve()));
     }
@@ -267,7 +326,12 @@ describe('webhooks', () => {
 
 describe('listing, queue, health, metrics', () => {
   it('lists newest first with cursor pagination and filters', async () => {
-    const all = (await api.get('/v1/jobs?limit=100', KEYS.alpha)).body.items as Array<{ id: string; createdAt: string; verdict: string | null; state: string }>;
+    const all = (await api.get('/v1/jobs?limit=100', KEYS.alpha)).body.items as Array<{
+      id: string;
+      createdAt: string;
+      verdict: string | null;
+      state: string;
+    }>;
     expect(all.length).toBeGreaterThanOrEqual(5);
     const created = all.map((j) => j.createdAt);
     expect([...created].sort().reverse()).toEqual(created);
@@ -284,7 +348,11 @@ describe('listing, queue, health, metrics', () => {
     expect(failed.length).toBeGreaterThan(0);
     expect(failed.every((j: { state: string }) => j.state === 'failed')).toBe(true);
     const passes = (await api.get('/v1/jobs?verdict=pass&profile=ebu-r128&limit=100', KEYS.alpha)).body.items;
-    expect(passes.every((j: { verdict: string; profile: { id: string } }) => j.verdict === 'pass' && j.profile.id === 'ebu-r128')).toBe(true);
+    expect(
+      passes.every(
+        (j: { verdict: string; profile: { id: string } }) => j.verdict === 'pass' && j.profile.id === 'ebu-r128',
+      ),
+    ).toBe(true);
     expect((await api.get('/v1/jobs?limit=0', KEYS.alpha)).body.code).toBe('validation_failed');
     expect((await api.get('/v1/jobs?cursor=bm9wZQ', KEYS.alpha)).body.field).toBe('cursor');
   });

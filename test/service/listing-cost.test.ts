@@ -12,11 +12,17 @@ describe('GET /v1/jobs', () => {
     svc = await startService({ worker: false, env: { EARMARK_RATE_LIMIT_PER_MINUTE: '0' } });
     api = client(svc.url);
   });
-  afterAll(async () => { await svc?.close(); });
+  afterAll(async () => {
+    await svc?.close();
+  });
 
   it('lists 50 jobs with 3 Redis commands (152 when each job was read on its own)', async () => {
     for (let i = 0; i < 50; i++) {
-      const res = await api.postJson('/v1/jobs', { sourceUrl: `http://127.0.0.1:9/take-${i}.wav`, profile: 'ebu-r128' }, KEYS.alpha);
+      const res = await api.postJson(
+        '/v1/jobs',
+        { sourceUrl: `http://127.0.0.1:9/take-${i}.wav`, profile: 'ebu-r128' },
+        KEYS.alpha,
+      );
       expect(res.status).toBe(202);
     }
     // Once first, so Redis has the script and the count is the steady state (no NOSCRIPT retry).
@@ -24,7 +30,10 @@ describe('GET /v1/jobs', () => {
     const redis = svc.api.deps.redis;
     const sent: string[] = [];
     const send = redis.sendCommand.bind(redis);
-    redis.sendCommand = (command, stream) => { sent.push(command.name); return send(command, stream); };
+    redis.sendCommand = (command, stream) => {
+      sent.push(command.name);
+      return send(command, stream);
+    };
     try {
       const res = await api.get('/v1/jobs?limit=50', KEYS.alpha);
       expect(res.body.items).toHaveLength(50);

@@ -6,9 +6,16 @@ import { Ajv2020 } from 'ajv/dist/2020.js';
 import type { Response } from 'supertest';
 import { parse } from 'yaml';
 
-type Doc = { paths: Record<string, Record<string, { responses: Record<string, { content?: Record<string, { schema: unknown }> }> }>> };
+type Doc = {
+  paths: Record<
+    string,
+    Record<string, { responses: Record<string, { content?: Record<string, { schema: unknown }> }> }>
+  >;
+};
 
-export const openapiDocument = parse(readFileSync(new URL('../../openapi/openapi.yaml', import.meta.url), 'utf8')) as Doc & Record<string, unknown>;
+export const openapiDocument = parse(
+  readFileSync(new URL('../../openapi/openapi.yaml', import.meta.url), 'utf8'),
+) as Doc & Record<string, unknown>;
 
 const ajv = new Ajv2020({ strict: false, validateFormats: false, discriminator: true, allErrors: true });
 ajv.addSchema(openapiDocument as object, 'openapi');
@@ -35,7 +42,10 @@ export function assertConforms(res: Response): void {
   }
   const type = String(res.headers['content-type'] ?? '').split(';')[0];
   const documented = Object.keys(response.content);
-  if (!documented.includes(type)) throw new Error(`OpenAPI: ${req.method} ${template} ${res.status} sent ${type}, documented ${documented.join(', ')}`);
+  if (!documented.includes(type))
+    throw new Error(
+      `OpenAPI: ${req.method} ${template} ${res.status} sent ${type}, documented ${documented.join(', ')}`,
+    );
   // HTML, SVG and audio bodies are documented by content type: check that one is there.
   if (type !== 'text/plain' && !type.includes('json')) {
     const bytes = Buffer.isBuffer(res.body) ? res.body.length : (res.text ?? '').length;
@@ -46,5 +56,8 @@ export function assertConforms(res: Response): void {
   const validate = ajv.getSchema(ref);
   if (!validate) throw new Error(`OpenAPI: no schema at ${ref}`);
   const body = type === 'text/plain' ? res.text : res.body;
-  if (!validate(body)) throw new Error(`OpenAPI: ${req.method} ${template} ${res.status} body does not match: ${ajv.errorsText(validate.errors)}`);
+  if (!validate(body))
+    throw new Error(
+      `OpenAPI: ${req.method} ${template} ${res.status} body does not match: ${ajv.errorsText(validate.errors)}`,
+    );
 }

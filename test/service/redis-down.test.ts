@@ -13,17 +13,27 @@ let redis: ChildProcess;
 let service: TestService;
 let port: number;
 
-const freePort = () => new Promise<number>((resolve) => {
-  const s = createServer().listen(0, '127.0.0.1', () => { const p = (s.address() as { port: number }).port; s.close(() => resolve(p)); });
-});
-const answers = (p: number) => new Promise<boolean>((resolve) => {
-  const s = new Socket();
-  s.once('error', () => resolve(false)).connect(p, '127.0.0.1', () => { s.destroy(); resolve(true); });
-});
+const freePort = () =>
+  new Promise<number>((resolve) => {
+    const s = createServer().listen(0, '127.0.0.1', () => {
+      const p = (s.address() as { port: number }).port;
+      s.close(() => resolve(p));
+    });
+  });
+const answers = (p: number) =>
+  new Promise<boolean>((resolve) => {
+    const s = new Socket();
+    s.once('error', () => resolve(false)).connect(p, '127.0.0.1', () => {
+      s.destroy();
+      resolve(true);
+    });
+  });
 
 beforeAll(async () => {
   port = await freePort();
-  redis = spawn('redis-server', ['--port', String(port), '--bind', '127.0.0.1', '--save', '', '--appendonly', 'no'], { stdio: 'ignore' });
+  redis = spawn('redis-server', ['--port', String(port), '--bind', '127.0.0.1', '--save', '', '--appendonly', 'no'], {
+    stdio: 'ignore',
+  });
   await until(() => answers(port));
   service = await startService({ worker: false, env: { REDIS_URL: `redis://127.0.0.1:${port}` } });
 });

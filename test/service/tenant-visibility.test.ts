@@ -32,22 +32,43 @@ const API_KEYS = JSON.stringify([
 ]);
 
 const series = (text: string, name: string) => text.split('\n').filter((l) => l.startsWith(name));
-const value = (text: string, line: string) => Number(text.split('\n').find((l) => l.startsWith(`${line} `))?.split(' ').pop());
+const value = (text: string, line: string) =>
+  Number(
+    text
+      .split('\n')
+      .find((l) => l.startsWith(`${line} `))
+      ?.split(' ')
+      .pop(),
+  );
 
 describe('without a worker: queued jobs per tenant', () => {
   let svc: TestService;
   let api: Client;
   beforeAll(async () => {
-    svc = await startService({ worker: false, env: { EARMARK_API_KEYS: API_KEYS, EARMARK_RATE_LIMIT_PER_MINUTE: '0' } });
+    svc = await startService({
+      worker: false,
+      env: { EARMARK_API_KEYS: API_KEYS, EARMARK_RATE_LIMIT_PER_MINUTE: '0' },
+    });
     api = client(svc.url);
   });
-  afterAll(async () => { await svc?.close(); });
+  afterAll(async () => {
+    await svc?.close();
+  });
 
   it('each tenant sees its own waiting jobs; the operator sees all; index entries of removed jobs drop out', async () => {
     const wav = await writeSine(join(svc.dir, 'a.wav'), -23, 1);
-    for (const key of [K.alpha, K.alpha, K.alpha, K.beta]) expect((await api.upload(wav, { profile: 'ebu-r128' }, key)).status).toBe(202);
+    for (const key of [K.alpha, K.alpha, K.alpha, K.beta])
+      expect((await api.upload(wav, { profile: 'ebu-r128' }, key)).status).toBe(202);
     const alpha = (await api.get('/v1/queue', K.alpha)).body;
-    expect(alpha).toMatchObject({ view: 'tenant', waiting: 3, active: 0, delayed: 0, completed: 0, failed: 0, finishedLastMinute: 0 });
+    expect(alpha).toMatchObject({
+      view: 'tenant',
+      waiting: 3,
+      active: 0,
+      delayed: 0,
+      completed: 0,
+      failed: 0,
+      finishedLastMinute: 0,
+    });
     expect((await api.get('/v1/queue?view=tenant', K.beta)).body).toMatchObject({ view: 'tenant', waiting: 1 });
     expect((await api.get('/v1/queue', K.ops)).body).toMatchObject({ view: 'tenant', waiting: 0 });
     expect((await api.get('/v1/queue?view=all', K.ops)).body).toMatchObject({ view: 'all', waiting: 4 });
@@ -58,7 +79,10 @@ describe('without a worker: queued jobs per tenant', () => {
     expect((await api.get('/v1/queue?view=everyone', K.alpha)).status).toBe(400);
 
     // A repeated Idempotency-Key answers 200 with the first job: not a new submission.
-    for (let i = 0; i < 2; i++) expect((await api.upload(wav, { profile: 'ebu-r128' }, K.beta, { 'idempotency-key': 'vis-once' })).status).toBe(i === 0 ? 202 : 200);
+    for (let i = 0; i < 2; i++)
+      expect((await api.upload(wav, { profile: 'ebu-r128' }, K.beta, { 'idempotency-key': 'vis-once' })).status).toBe(
+        i === 0 ? 202 : 200,
+      );
     const alphaMetrics = (await api.get('/metrics', K.alphaMetrics)).text;
     expect(value(alphaMetrics, 'earmark_tenant_jobs{state="waiting"}')).toBe(3);
     expect(value(alphaMetrics, 'earmark_jobs_submitted_total')).toBe(3);
@@ -102,14 +126,21 @@ describe('with a worker: finished jobs, requests and the operator view', () => {
     svc = await startService({ env: { EARMARK_API_KEYS: API_KEYS, EARMARK_RATE_LIMIT_PER_MINUTE: '0' } });
     api = client(svc.url);
   });
-  afterAll(async () => { await svc?.close(); });
+  afterAll(async () => {
+    await svc?.close();
+  });
 
-  it('a tenant\'s /v1/queue and /metrics show only its own jobs and requests', async () => {
+  it("a tenant's /v1/queue and /metrics show only its own jobs and requests", async () => {
     const wav = await writeSine(join(svc.dir, 'ok.wav'), -23, 2);
     const junk = join(svc.dir, 'junk.wav');
     writeFileSync(junk, 'not audio, just text\n'.repeat(20));
     const ids: Array<[string, string]> = [];
-    for (const [file, key] of [[wav, K.alpha], [wav, K.alpha], [junk, K.alpha], [wav, K.beta]] as const) {
+    for (const [file, key] of [
+      [wav, K.alpha],
+      [wav, K.alpha],
+      [junk, K.alpha],
+      [wav, K.beta],
+    ] as const) {
       const res = await api.upload(file, { profile: 'ebu-r128' }, key);
       expect(res.status).toBe(202);
       ids.push([res.body.id, key]);
@@ -119,10 +150,22 @@ describe('with a worker: finished jobs, requests and the operator view', () => {
     }
 
     const alpha = (await api.get('/v1/queue', K.alpha)).body;
-    expect(alpha).toMatchObject({ view: 'tenant', waiting: 0, active: 0, completed: 2, failed: 1, finishedLastMinute: 3 });
+    expect(alpha).toMatchObject({
+      view: 'tenant',
+      waiting: 0,
+      active: 0,
+      completed: 2,
+      failed: 1,
+      finishedLastMinute: 3,
+    });
     expect(alpha.workers).toBeGreaterThanOrEqual(1);
     expect((await api.get('/v1/queue', K.beta)).body).toMatchObject({ completed: 1, failed: 0, finishedLastMinute: 1 });
-    expect((await api.get('/v1/queue?view=all', K.ops)).body).toMatchObject({ view: 'all', completed: 3, failed: 1, finishedLastMinute: 4 });
+    expect((await api.get('/v1/queue?view=all', K.ops)).body).toMatchObject({
+      view: 'all',
+      completed: 3,
+      failed: 1,
+      finishedLastMinute: 4,
+    });
 
     const beta = (await api.get('/metrics', K.betaMetrics)).text;
     expect(value(beta, 'earmark_tenant_jobs{state="completed"}')).toBe(1);
@@ -130,7 +173,9 @@ describe('with a worker: finished jobs, requests and the operator view', () => {
     expect(value(beta, 'earmark_tenant_jobs_finished_last_minute')).toBe(1);
     // Beta's own submissions only: one 202 on POST /v1/jobs, none of alpha's three.
     expect(value(beta, 'earmark_http_requests_total{method="POST",route="/v1/jobs",status="202"}')).toBe(1);
-    expect(value(beta, 'earmark_http_request_duration_seconds_count{method="POST",route="/v1/jobs",status="202"}')).toBe(1);
+    expect(
+      value(beta, 'earmark_http_request_duration_seconds_count{method="POST",route="/v1/jobs",status="202"}'),
+    ).toBe(1);
     expect(value(beta, 'earmark_jobs_submitted_total')).toBe(1);
     expect(beta).not.toMatch(/tenant="/);
     expect(series(beta, 'earmark_jobs_total')).toEqual([]);
@@ -152,10 +197,16 @@ describe('with a worker: finished jobs, requests and the operator view', () => {
     const buckets = series(all, 'earmark_analysis_seconds_bucket').map((l) => Number(l.split(' ').pop()));
     expect(buckets.length).toBeGreaterThan(2);
     expect(buckets).toEqual([...buckets].sort((a, b) => a - b));
-    expect(value(all, 'earmark_http_request_duration_seconds_count{method="POST",route="/v1/jobs",status="202"}')).toBe(4);
+    expect(value(all, 'earmark_http_request_duration_seconds_count{method="POST",route="/v1/jobs",status="202"}')).toBe(
+      4,
+    );
     expect(value(all, 'earmark_jobs_submitted_total{tenant="beta"}')).toBe(1);
     expect(series(all, 'process_cpu_user_seconds_total').length).toBe(1);
-    expect(value(all, 'earmark_http_requests_total{tenant="alpha",method="POST",route="/v1/jobs",status="202"}')).toBe(3);
-    expect(value(all, 'earmark_http_requests_total{tenant="beta",method="POST",route="/v1/jobs",status="202"}')).toBe(1);
+    expect(value(all, 'earmark_http_requests_total{tenant="alpha",method="POST",route="/v1/jobs",status="202"}')).toBe(
+      3,
+    );
+    expect(value(all, 'earmark_http_requests_total{tenant="beta",method="POST",route="/v1/jobs",status="202"}')).toBe(
+      1,
+    );
   });
 });

@@ -1,10 +1,22 @@
 // The pages' wording (src/views/assets/format.js): pure functions, so checked here without a browser.
 import { describe, expect, it } from 'vitest';
-import { channelText, countText, failureHint, flagCountsText, flagDetails, flagLabel, flagView, headlineNamesVerdict, outcomeText, spanText, worstValueText } from '../../src/views/assets/format.js';
+import {
+  channelText,
+  countText,
+  failureHint,
+  flagCountsText,
+  flagDetails,
+  flagLabel,
+  flagView,
+  headlineNamesVerdict,
+  outcomeText,
+  spanText,
+  worstValueText,
+} from '../../src/views/assets/format.js';
 import { sampleFlags } from './sample-report.ts';
 
 describe('flag wording', () => {
-  it('prints a flag\'s span, channel, count and worst value in reading order', () => {
+  it("prints a flag's span, channel, count and worst value in reading order", () => {
     expect(flagDetails(sampleFlags[1])).toEqual(['00:00:01:05 – 00:00:01:13', 'ch 1 L', '× 3', 'worst -0.4 dBTP']);
     expect(flagLabel(sampleFlags[3])).toBe('#4 Dropout (remark), 00:00:03:00 – 00:00:04:05, ch 2 R, × 37');
   });
@@ -29,19 +41,40 @@ describe('flag wording', () => {
   });
 
   it('reads a v1 flag (peakValue, mergedEvents, no number or title) with the same words', () => {
-    const v1 = { kind: 'true_peak_over', severity: 'fail', channel: 1, startTimecode: '00:00:01:00', endTimecode: '00:00:01:00', peakValue: 0.3, mergedEvents: 4 };
+    const v1 = {
+      kind: 'true_peak_over',
+      severity: 'fail',
+      channel: 1,
+      startTimecode: '00:00:01:00',
+      endTimecode: '00:00:01:00',
+      peakValue: 0.3,
+      mergedEvents: 4,
+    };
     const view = flagView(v1, 6);
-    expect(view).toMatchObject({ number: 7, title: 'True peak over', channelName: '2', worstValue: 0.3, count: 4, unit: null });
+    expect(view).toMatchObject({
+      number: 7,
+      title: 'True peak over',
+      channelName: '2',
+      worstValue: 0.3,
+      count: 4,
+      unit: null,
+    });
     expect(flagView({ ...v1, channel: null }, 0).channelName).toBe('all');
   });
 });
 
 describe('counts, outcomes and failure hints', () => {
   it('counts flags by severity, remarks pluralised', () => {
-    expect(flagCountsText({ flagCounts: { fail: 3, warn: 1, remark: 12 }, flags: [] })).toBe('3 fail · 1 warn · 12 remarks');
-    expect(flagCountsText({ flagCounts: { fail: 0, warn: 0, remark: 1 }, flags: [] })).toBe('0 fail · 0 warn · 1 remark');
+    expect(flagCountsText({ flagCounts: { fail: 3, warn: 1, remark: 12 }, flags: [] })).toBe(
+      '3 fail · 1 warn · 12 remarks',
+    );
+    expect(flagCountsText({ flagCounts: { fail: 0, warn: 0, remark: 1 }, flags: [] })).toBe(
+      '0 fail · 0 warn · 1 remark',
+    );
     // A v1 report has no counts: they come from its flags.
-    expect(flagCountsText({ flags: [{ severity: 'fail' }, { severity: 'fail' }, { severity: 'warn' }] })).toBe('2 fail · 1 warn · 0 remarks');
+    expect(flagCountsText({ flags: [{ severity: 'fail' }, { severity: 'fail' }, { severity: 'warn' }] })).toBe(
+      '2 fail · 1 warn · 0 remarks',
+    );
   });
 
   it('adds a verdict badge to the headline only when its words do not name the verdict', () => {

@@ -31,10 +31,14 @@ describe('renderLoudnessPlot', () => {
   });
 
   it('draws remarks fainter and beneath fail and warn markers, and counts them apart in the title', () => {
-    const svg = renderLoudnessPlot(input({ flags: [
-      ...input().flags,
-      { kind: 'dc_offset', severity: 'remark', startSeconds: 11, endSeconds: 14, label: '#3 DC offset (remark)' },
-    ] }));
+    const svg = renderLoudnessPlot(
+      input({
+        flags: [
+          ...input().flags,
+          { kind: 'dc_offset', severity: 'remark', startSeconds: 11, endSeconds: 14, label: '#3 DC offset (remark)' },
+        ],
+      }),
+    );
     expect(svg).toMatch(/<g class="em-flag em-flag-dc_offset em-sev-remark" data-flag-index="2" opacity="0.45">/);
     expect(svg).not.toMatch(/em-sev-fail"[^>]*opacity/);
     // Painted first, so the clipping marker at 12 s stays on top of it.
@@ -52,7 +56,13 @@ describe('renderLoudnessPlot', () => {
     const svg = renderLoudnessPlot(input());
     expect(svg).toContain('class="em-target-band"');
     expect(svg.match(/class="em-momentary"/g)?.length).toBe(1);
-    const gap = input({ momentary: { pointsPerSecond: 10, firstAtSeconds: 0.1, lufs: [...Array(200).fill(-20), ...Array(200).fill(null), ...Array(200).fill(-20)] } });
+    const gap = input({
+      momentary: {
+        pointsPerSecond: 10,
+        firstAtSeconds: 0.1,
+        lufs: [...Array(200).fill(-20), ...Array(200).fill(null), ...Array(200).fill(-20)],
+      },
+    });
     expect(renderLoudnessPlot(gap).match(/class="em-momentary"/g)?.length).toBe(2);
   });
 
@@ -65,7 +75,13 @@ describe('renderLoudnessPlot', () => {
 
   it('reduces a 3-hour series to at most two points per pixel column', () => {
     const long = Array.from({ length: 3 * 3600 * 10 }, (_, i) => -30 + 10 * Math.sin(i / 50));
-    const svg = renderLoudnessPlot(input({ durationSeconds: 3 * 3600, momentary: { pointsPerSecond: 10, firstAtSeconds: 0.1, lufs: long }, widthPx: 800 }));
+    const svg = renderLoudnessPlot(
+      input({
+        durationSeconds: 3 * 3600,
+        momentary: { pointsPerSecond: 10, firstAtSeconds: 0.1, lufs: long },
+        widthPx: 800,
+      }),
+    );
     const points = /class="em-momentary" points="([^"]*)"/.exec(svg)?.[1].split(' ') ?? [];
     expect(points.length).toBeLessThanOrEqual(2 * (800 - 56 - 16 + 1));
     expect(points.length).toBeGreaterThan(700);
@@ -73,7 +89,14 @@ describe('renderLoudnessPlot', () => {
 
   it('is a pure function: same input, same SVG; and valid for an all-silent file', () => {
     expect(renderLoudnessPlot(input())).toBe(renderLoudnessPlot(input()));
-    const silent = renderLoudnessPlot(input({ momentary: { pointsPerSecond: 10, firstAtSeconds: 0.1, lufs: Array(100).fill(null) }, shortTerm: { pointsPerSecond: 1, firstAtSeconds: 1, lufs: Array(10).fill(null) }, targetBand: undefined, flags: [] }));
+    const silent = renderLoudnessPlot(
+      input({
+        momentary: { pointsPerSecond: 10, firstAtSeconds: 0.1, lufs: Array(100).fill(null) },
+        shortTerm: { pointsPerSecond: 1, firstAtSeconds: 1, lufs: Array(10).fill(null) },
+        targetBand: undefined,
+        flags: [],
+      }),
+    );
     expect(silent).toContain('<svg');
     expect(silent).not.toContain('NaN');
     expect(silent).not.toContain('Infinity');

@@ -10,7 +10,9 @@ describe('report plot', () => {
     const svg = renderReportPlot(sampleReport());
     expect(svg.match(/<g class="em-flag /g)).toHaveLength(sampleFlags.length);
     for (const flag of sampleFlags) expect(svg).toContain(`<title>${escapeXml(flagLabel(flag))}</title>`);
-    expect(svg).toContain('#2 True peak over the ceiling (warn), 00:00:01:05 – 00:00:01:13, ch 1 L, × 3, worst -0.4 dBTP');
+    expect(svg).toContain(
+      '#2 True peak over the ceiling (warn), 00:00:01:05 – 00:00:01:13, ch 1 L, × 3, worst -0.4 dBTP',
+    );
   });
 
   it('passes remarks through as remarks and draws them fainter', () => {
@@ -20,7 +22,7 @@ describe('report plot', () => {
     expect(svg.match(/em-sev-remark" data-flag-index="\d" opacity="0.45"/g)).toHaveLength(2);
   });
 
-  it('places markers in the file\'s time: the 5 s cut of a 20 s file is a quarter of the way across', () => {
+  it("places markers in the file's time: the 5 s cut of a 20 s file is a quarter of the way across", () => {
     const input = plotInputFor(sampleReport(), 1000);
     expect(input.durationSeconds).toBe(20);
     // plot area 56..984 (928 px): 5 s of 20 s -> 56 + 232 = 288.

@@ -14,7 +14,13 @@ const tc = (seconds: number) => {
   return `${pad(Math.floor(frames / 90000))}:${pad(Math.floor(frames / 1500) % 60)}:${pad(Math.floor(frames / 25) % 60)}:${pad(frames % 25)}`;
 };
 
-function flag(number: number, fields: Pick<Flag, 'kind' | 'title' | 'severity' | 'ruleId' | 'channel' | 'channelName' | 'worstValue' | 'unit' | 'count' | 'message'> & { startSeconds: number; endSeconds: number; otherChannel?: number; otherChannelName?: string }): Flag {
+function flag(
+  number: number,
+  fields: Pick<
+    Flag,
+    'kind' | 'title' | 'severity' | 'ruleId' | 'channel' | 'channelName' | 'worstValue' | 'unit' | 'count' | 'message'
+  > & { startSeconds: number; endSeconds: number; otherChannel?: number; otherChannelName?: string },
+): Flag {
   return {
     number,
     ...fields,
@@ -27,10 +33,62 @@ function flag(number: number, fields: Pick<Flag, 'kind' | 'title' | 'severity' |
 }
 
 export const sampleFlags: Flag[] = [
-  flag(1, { kind: 'data_ends_early', title: 'Audio ends early', severity: 'fail', ruleId: null, channel: null, channelName: 'all', startSeconds: 5, endSeconds: 5, worstValue: null, unit: null, count: 1, message: 'Audio ends at 00:00:05:00; the file declares 00:00:20:00 (15 s missing).' }),
-  flag(2, { kind: 'true_peak_over', title: 'True peak over the ceiling', severity: 'warn', ruleId: 'true-peak', channel: 0, channelName: '1 L', startSeconds: 1.2, endSeconds: 1.5, worstValue: -0.42, unit: 'dBTP', count: 3, message: 'True peak -0.4 dBTP over the -1.0 dBTP ceiling, 3 overs.' }),
-  flag(3, { kind: 'dc_offset', title: 'DC offset', severity: 'remark', ruleId: null, channel: 1, channelName: '2 R', startSeconds: 0, endSeconds: 5, worstValue: -38.1, unit: 'dBFS', count: 1, message: 'Channel 2 R has a DC offset of -38.1 dBFS.' }),
-  flag(4, { kind: 'dropout', title: 'Dropout', severity: 'remark', ruleId: null, channel: 1, channelName: '2 R', startSeconds: 3, endSeconds: 4.2, worstValue: null, unit: null, count: 37, message: '37 very short dropouts on channel 2 R.' }),
+  flag(1, {
+    kind: 'data_ends_early',
+    title: 'Audio ends early',
+    severity: 'fail',
+    ruleId: null,
+    channel: null,
+    channelName: 'all',
+    startSeconds: 5,
+    endSeconds: 5,
+    worstValue: null,
+    unit: null,
+    count: 1,
+    message: 'Audio ends at 00:00:05:00; the file declares 00:00:20:00 (15 s missing).',
+  }),
+  flag(2, {
+    kind: 'true_peak_over',
+    title: 'True peak over the ceiling',
+    severity: 'warn',
+    ruleId: 'true-peak',
+    channel: 0,
+    channelName: '1 L',
+    startSeconds: 1.2,
+    endSeconds: 1.5,
+    worstValue: -0.42,
+    unit: 'dBTP',
+    count: 3,
+    message: 'True peak -0.4 dBTP over the -1.0 dBTP ceiling, 3 overs.',
+  }),
+  flag(3, {
+    kind: 'dc_offset',
+    title: 'DC offset',
+    severity: 'remark',
+    ruleId: null,
+    channel: 1,
+    channelName: '2 R',
+    startSeconds: 0,
+    endSeconds: 5,
+    worstValue: -38.1,
+    unit: 'dBFS',
+    count: 1,
+    message: 'Channel 2 R has a DC offset of -38.1 dBFS.',
+  }),
+  flag(4, {
+    kind: 'dropout',
+    title: 'Dropout',
+    severity: 'remark',
+    ruleId: null,
+    channel: 1,
+    channelName: '2 R',
+    startSeconds: 3,
+    endSeconds: 4.2,
+    worstValue: null,
+    unit: null,
+    count: 37,
+    message: '37 very short dropouts on channel 2 R.',
+  }),
 ];
 
 export const sampleReportOwn: ReportOwn = {
@@ -40,12 +98,42 @@ export const sampleReportOwn: ReportOwn = {
   integrity: {
     intact: false,
     severity: 'fail',
-    problems: [{ code: 'data_ends_early', atSample: 5 * SAMPLE_RATE, atSeconds: 5, atTimecode: '00:00:05:00', message: 'audio ends at 5.000 s but the file declares 20.000 s (720000 frames missing)' }],
+    problems: [
+      {
+        code: 'data_ends_early',
+        atSample: 5 * SAMPLE_RATE,
+        atSeconds: 5,
+        atTimecode: '00:00:05:00',
+        message: 'audio ends at 5.000 s but the file declares 20.000 s (720000 frames missing)',
+      },
+    ],
   },
   profile: { id: 'podcast', version: '1', name: 'Podcast', basis: 'house rule' },
   checks: [
-    { ruleId: 'integrated', type: 'integrated-loudness', severity: 'fail', source: null, measured: -23.4, unit: 'LUFS', limit: { targetLufs: -23, toleranceLu: 1 }, outcome: 'pass', passed: true, explanation: 'Integrated -23.4 LUFS, target -23 ± 1 LU' },
-    { ruleId: 'true-peak', type: 'true-peak', severity: 'warn', source: null, measured: -0.42, unit: 'dBTP', limit: { max: -1 }, outcome: 'marginal', passed: false, explanation: 'True peak -0.4 dBTP, ceiling -1.0 dBTP (within the measurement tolerance)' },
+    {
+      ruleId: 'integrated',
+      type: 'integrated-loudness',
+      severity: 'fail',
+      source: null,
+      measured: -23.4,
+      unit: 'LUFS',
+      limit: { targetLufs: -23, toleranceLu: 1 },
+      outcome: 'pass',
+      passed: true,
+      explanation: 'Integrated -23.4 LUFS, target -23 ± 1 LU',
+    },
+    {
+      ruleId: 'true-peak',
+      type: 'true-peak',
+      severity: 'warn',
+      source: null,
+      measured: -0.42,
+      unit: 'dBTP',
+      limit: { max: -1 },
+      outcome: 'marginal',
+      passed: false,
+      explanation: 'True peak -0.4 dBTP, ceiling -1.0 dBTP (within the measurement tolerance)',
+    },
   ],
   flags: sampleFlags,
   flagsTotal: sampleFlags.length,
@@ -64,15 +152,44 @@ export function sampleReport(): QcReport {
     engine: { name: 'earmark', version: '0.1.0' },
     file: { name: 'harbour-promo-cut.wav', sizeBytes: 960_044 },
     format: {
-      container: 'wav', encoding: 'pcm_s16le', sampleRate: SAMPLE_RATE, channels: 2, bitsPerSample: 16, frames: 20 * SAMPLE_RATE, durationSeconds: 20,
-      channelLabels: ['L', 'R'], channelMask: null, timeReferenceSamples: null, framesDecoded: 5 * SAMPLE_RATE, timeReferenceSeconds: null,
+      container: 'wav',
+      encoding: 'pcm_s16le',
+      sampleRate: SAMPLE_RATE,
+      channels: 2,
+      bitsPerSample: 16,
+      frames: 20 * SAMPLE_RATE,
+      durationSeconds: 20,
+      channelLabels: ['L', 'R'],
+      channelMask: null,
+      timeReferenceSamples: null,
+      framesDecoded: 5 * SAMPLE_RATE,
+      timeReferenceSeconds: null,
     },
     summary: {
-      integratedLufs: -23.4, loudnessRangeLu: 2.1, maxMomentaryLufs: -21, maxMomentaryAtSeconds: 2, maxShortTermLufs: -23, maxShortTermAtSeconds: 4,
-      truePeakDbtp: -0.42, truePeakAtSeconds: 1.3, samplePeakDbfs: -0.6, rmsDbfs: -26, rmsAes17Db: -23, headSilenceSeconds: 0, tailSilenceSeconds: 0,
-      longestInternalGapSeconds: 0, allSilent: false, clippingRuns: 0, clippedSamples: 0, truePeakOvers: 3, deadChannels: [],
+      integratedLufs: -23.4,
+      loudnessRangeLu: 2.1,
+      maxMomentaryLufs: -21,
+      maxMomentaryAtSeconds: 2,
+      maxShortTermLufs: -23,
+      maxShortTermAtSeconds: 4,
+      truePeakDbtp: -0.42,
+      truePeakAtSeconds: 1.3,
+      samplePeakDbfs: -0.6,
+      rmsDbfs: -26,
+      rmsAes17Db: -23,
+      headSilenceSeconds: 0,
+      tailSilenceSeconds: 0,
+      longestInternalGapSeconds: 0,
+      allSilent: false,
+      clippingRuns: 0,
+      clippedSamples: 0,
+      truePeakOvers: 3,
+      deadChannels: [],
     },
-    series: { momentary: { pointsPerSecond: 10, firstAtSeconds: 0.4, lufs: momentary }, shortTerm: { pointsPerSecond: 1, firstAtSeconds: 3, lufs: shortTerm } },
+    series: {
+      momentary: { pointsPerSecond: 10, firstAtSeconds: 0.4, lufs: momentary },
+      shortTerm: { pointsPerSecond: 1, firstAtSeconds: 3, lufs: shortTerm },
+    },
   } as unknown as AnalysisDocument;
   return { ...analysis, ...sampleReportOwn };
 }

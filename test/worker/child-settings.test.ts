@@ -2,7 +2,15 @@
 import { describe, expect, it } from 'vitest';
 import { parseChildSettings } from '../../src/worker/child-settings.ts';
 
-const good = { storageDir: '/srv/earmark', urlAllowlist: ['media.example.test', '10.0.0.0/8'], fetchLimitBytes: 1000, fetchTimeoutMs: 5000, childRssLimitMb: 256, maxDecodedSeconds: 3600, fetchDeadlineMs: 60000 };
+const good = {
+  storageDir: '/srv/earmark',
+  urlAllowlist: ['media.example.test', '10.0.0.0/8'],
+  fetchLimitBytes: 1000,
+  fetchTimeoutMs: 5000,
+  childRssLimitMb: 256,
+  maxDecodedSeconds: 3600,
+  fetchDeadlineMs: 60000,
+};
 const parse = (value: unknown, inherited = {}) => parseChildSettings(JSON.stringify(value), inherited);
 
 describe('child settings', () => {
@@ -12,7 +20,12 @@ describe('child settings', () => {
 
   it('takes absent optional settings from the inherited environment, else the schema defaults', () => {
     const { childRssLimitMb: _r, maxDecodedSeconds: _m, fetchDeadlineMs: _f, ...required } = good;
-    expect(parse(required, { EARMARK_CHILD_RSS_LIMIT_MB: '128' })).toEqual({ ...required, childRssLimitMb: 128, maxDecodedSeconds: 86_400, fetchDeadlineMs: 600_000 });
+    expect(parse(required, { EARMARK_CHILD_RSS_LIMIT_MB: '128' })).toEqual({
+      ...required,
+      childRssLimitMb: 128,
+      maxDecodedSeconds: 86_400,
+      fetchDeadlineMs: 600_000,
+    });
   });
 
   it.each([
@@ -33,7 +46,11 @@ describe('child settings', () => {
     ['an unknown setting', { redisUrl: 'redis://x' }, /redisUrl is not a known setting/],
   ])('refuses %s, naming it', (_, change, message) => {
     let thrown: unknown;
-    try { parse({ ...good, ...change }); } catch (e) { thrown = e; }
+    try {
+      parse({ ...good, ...change });
+    } catch (e) {
+      thrown = e;
+    }
     expect(thrown).toMatchObject({ name: 'ConfigError', variable: 'EARMARK_CHILD_SETTINGS' });
     expect(String(thrown)).toMatch(message);
   });

@@ -10,14 +10,23 @@ import { deliver } from '../../src/worker/webhooks.ts';
 let server: Server;
 let port = 0;
 beforeAll(async () => {
-  server = createServer((req, res) => { req.resume(); res.statusCode = req.url === '/ok' ? 204 : 500; res.end(); });
+  server = createServer((req, res) => {
+    req.resume();
+    res.statusCode = req.url === '/ok' ? 204 : 500;
+    res.end();
+  });
   await new Promise<void>((resolve) => server.listen(0, '127.0.0.1', resolve));
   port = (server.address() as AddressInfo).port;
 });
 afterAll(() => new Promise<void>((resolve) => server.close(() => resolve())));
 
-const send = (policy: UrlPolicy, url: string) => deliver(policy, { url, secret: 's', deliveryId: 'd', event: 'job.completed', body: '{}', timeoutMs: 2000 });
-const failure = (run: Promise<unknown>) => run.then(() => null, (e: EarmarkError) => e);
+const send = (policy: UrlPolicy, url: string) =>
+  deliver(policy, { url, secret: 's', deliveryId: 'd', event: 'job.completed', body: '{}', timeoutMs: 2000 });
+const failure = (run: Promise<unknown>) =>
+  run.then(
+    () => null,
+    (e: EarmarkError) => e,
+  );
 
 describe('webhook delivery errors', () => {
   const loopback = new UrlPolicy(['127.0.0.1/32']);

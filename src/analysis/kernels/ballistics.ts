@@ -13,7 +13,13 @@ export const BALLISTICS_KERNEL_FRAMES = 16384;
 
 /** The poles and their products the sums are made of (ballistics.ts). */
 export interface BallisticsPoles {
-  fast: number; fast2: number; slow: number; slow2: number; vu: number; vu2: number; twoVu2: number;
+  fast: number;
+  fast2: number;
+  slow: number;
+  slow2: number;
+  vu: number;
+  vu2: number;
+  twoVu2: number;
 }
 
 export class BallisticsKernel {

@@ -25,15 +25,25 @@ const PAGE_BYTES = 65536;
  *   sb' = y - a2*z stays as it is, one multiply shorter than substituted.
  */
 export interface KWeightingLoop {
-  c1: number; c2: number; a1: number; a2: number;
-  h1: number; ha1: number; ha2: number;
+  c1: number;
+  c2: number;
+  a1: number;
+  a2: number;
+  h1: number;
+  ha1: number;
+  ha2: number;
   b0Squared: number;
 }
 
 export function kWeightingLoop(shelf: Biquad, highpass: Biquad): KWeightingLoop {
   return {
-    c1: shelf.b1 / shelf.b0 - shelf.a1, c2: shelf.b2 / shelf.b0 - shelf.a2, a1: shelf.a1, a2: shelf.a2,
-    h1: highpass.b1 - highpass.a1, ha1: highpass.a1, ha2: highpass.a2,
+    c1: shelf.b1 / shelf.b0 - shelf.a1,
+    c2: shelf.b2 / shelf.b0 - shelf.a2,
+    a1: shelf.a1,
+    a2: shelf.a2,
+    h1: highpass.b1 - highpass.a1,
+    ha1: highpass.a1,
+    ha2: highpass.a2,
     b0Squared: shelf.b0 * shelf.b0,
   };
 }
@@ -41,7 +51,16 @@ export function kWeightingLoop(shelf: Biquad, highpass: Biquad): KWeightingLoop 
 interface KernelExports {
   memory: WebAssembly.Memory;
   filterPair(frames: number, pair: number, first: number): void;
-  slide(from: number, count: number, ring: number, sPos: number, mPos: number, seen: number, mFrames: number, sFrames: number): void;
+  slide(
+    from: number,
+    count: number,
+    ring: number,
+    sPos: number,
+    mPos: number,
+    seen: number,
+    mFrames: number,
+    sFrames: number,
+  ): void;
 }
 
 /** Filter and sliding-window state for a fixed set of channels; one instance (and its own
@@ -61,7 +80,7 @@ export class KWeightingKernel {
    * `weights[i]` is the BS.1770 weight of the i-th channel passed to filter(); `ringFrames` the
    * length of the sliding windows' power history (the 3 s window).
    */
-  constructor(loop: KWeightingLoop, private readonly weights: readonly number[], ringFrames: number) {
+  constructor(loop: KWeightingLoop, weights: readonly number[], ringFrames: number) {
     this.exports = instantiateKernel<KernelExports>(WASM_BASE64);
     this.pairs = Math.ceil(weights.length / 2);
     this.ringOffset = Math.ceil((PAIRS + this.pairs * PAIR_BYTES) / 64) * 64;

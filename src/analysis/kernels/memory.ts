@@ -3,12 +3,21 @@
 // test/analysis/kernels.test.ts checks its comment and its address literals against this table.
 
 export const KERNEL_MEMORY = {
-  'sums': { IN: 0, SUM: 65536, SQUARES: 65552 },
+  sums: { IN: 0, SUM: 65536, SQUARES: 65552 },
   'pair-sums': { A: 0, B: 65536, SQUARES: 131072, PRODUCT: 131088 },
-  'ballistics': { A: 0, B: 65536, OUT: 131072 },
-  'envelope': { IN: 0, MAX: 65536, MIN: 67584 },
+  ballistics: { A: 0, B: 65536, OUT: 131072 },
+  envelope: { IN: 0, MAX: 65536, MIN: 67584 },
   'k-weighting': { IN_A: 0, IN_B: 65536, POWER: 131072, COEF: 262144, WINDOW: 262208, PAIRS: 262272 },
   'reconstructed-peak': {
-    IN: 0, ENV: 65536, C1: 67584, C2: 68096, ST: 68352, SCR: 68448, X: 68608, U: 200192, OE: 331776, OP: 397312,
+    IN: 0,
+    ENV: 65536,
+    C1: 67584,
+    C2: 68096,
+    ST: 68352,
+    SCR: 68448,
+    X: 68608,
+    U: 200192,
+    OE: 331776,
+    OP: 397312,
   },
 } as const satisfies Record<string, Record<string, number>>;

@@ -16,7 +16,16 @@ const { IN, ENV, C1, C2, ST: STATE, X, OE: OVER_FRAMES, OP: OVER_PEAKS } = KERNE
 
 /** The state slots one channel carries between calls, in the .wat's order. */
 export const CHANNEL_SLOTS = 5;
-export const SLOT = { maximum: 0, maximumFrame: 1, gate: 2, samplePeak: 3, historyMax: 4, pruned: 5, position: 6, ceiling: 7 } as const;
+export const SLOT = {
+  maximum: 0,
+  maximumFrame: 1,
+  gate: 2,
+  samplePeak: 3,
+  historyMax: 4,
+  pruned: 5,
+  position: 6,
+  ceiling: 7,
+} as const;
 
 export interface ReconstructionConstants {
   /** Stage 1's 32 taps in input order, x[m - 15] .. x[m + 16]. */
@@ -62,7 +71,10 @@ export class ReconstructionKernel {
     // Each weight splatted into both lanes.
     const splat = (at: number, values: Float64Array) => {
       const view = new Float64Array(buffer, at, 2 * values.length);
-      values.forEach((v, i) => { view[2 * i] = v; view[2 * i + 1] = v; });
+      values.forEach((v, i) => {
+        view[2 * i] = v;
+        view[2 * i + 1] = v;
+      });
     };
     splat(C1, constants.stage1);
     splat(C2, constants.s);

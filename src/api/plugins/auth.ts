@@ -8,18 +8,28 @@ import type { ApiKey, Scope } from '../../config/index.ts';
 import { EarmarkError } from '../../errors/index.ts';
 
 /** keyId: a digest prefix naming the key in rate limits, never the key itself. */
-export interface Principal { tenant: string; keyId: string; scopes: Scope[] }
+export interface Principal {
+  tenant: string;
+  keyId: string;
+  scopes: Scope[];
+}
 
 declare module 'fastify' {
-  interface FastifyRequest { principal: Principal | null }
+  interface FastifyRequest {
+    principal: Principal | null;
+  }
 }
 
 const digest = (s: string) => createHash('sha256').update(s).digest();
 
-export function findKey(keys: Array<{ digest: Buffer; entry: ApiKey }>, presented: string): { entry: ApiKey; keyId: string } | null {
+export function findKey(
+  keys: Array<{ digest: Buffer; entry: ApiKey }>,
+  presented: string,
+): { entry: ApiKey; keyId: string } | null {
   const given = digest(presented);
   let found: { entry: ApiKey; keyId: string } | null = null;
-  for (const k of keys) if (timingSafeEqual(k.digest, given)) found = { entry: k.entry, keyId: k.digest.toString('hex').slice(0, 12) };
+  for (const k of keys)
+    if (timingSafeEqual(k.digest, given)) found = { entry: k.entry, keyId: k.digest.toString('hex').slice(0, 12) };
   return found;
 }
 
@@ -44,19 +54,22 @@ export const AUTH_PLUGIN = 'earmark-auth';
 
 export function authPlugin(apiKeys: ApiKey[]) {
   const keys = apiKeys.map((entry) => ({ digest: digest(entry.key), entry }));
-  return fp(async (app) => {
-    app.decorateRequest('principal', null);
-    app.addHook('onRequest', async (request) => {
-      const scope = request.routeOptions.config?.scope;
-      if (!scope) return;
-      const header = request.headers.authorization ?? '';
-      const match = /^Bearer ([\x21-\x7e]{1,512})$/.exec(header);
-      const found = match ? findKey(keys, match[1]) : null;
-      if (!found) throw new EarmarkError('unauthorized', 'send a valid API key as "Authorization: Bearer <key>"');
-      const { entry, keyId } = found;
-      request.principal = { tenant: entry.tenant, keyId, scopes: entry.scopes };
-      request.log = request.log.child({ tenant: entry.tenant });
-      requireScope(request.principal, scope);
-    });
-  }, { name: AUTH_PLUGIN, fastify: '5.x' });
+  return fp(
+    async (app) => {
+      app.decorateRequest('principal', null);
+      app.addHook('onRequest', async (request) => {
+        const scope = request.routeOptions.config?.scope;
+        if (!scope) return;
+        const header = request.headers.authorization ?? '';
+        const match = /^Bearer ([\x21-\x7e]{1,512})$/.exec(header);
+        const found = match ? findKey(keys, match[1]) : null;
+        if (!found) throw new EarmarkError('unauthorized', 'send a valid API key as "Authorization: Bearer <key>"');
+        const { entry, keyId } = found;
+        request.principal = { tenant: entry.tenant, keyId, scopes: entry.scopes };
+        request.log = request.log.child({ tenant: entry.tenant });
+        requireScope(request.principal, scope);
+      });
+    },
+    { name: AUTH_PLUGIN, fastify: '5.x' },
+  );
 }

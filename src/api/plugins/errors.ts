@@ -35,14 +35,17 @@ export function problemBody(error: EarmarkError, request: FastifyRequest | null)
 /** A complete problem+json response for a raw socket (no request object: the parser refused it). */
 export function rawProblem(error: EarmarkError): string {
   const body = JSON.stringify(problemBody(error, null));
-  const reason = error.status === 408 ? 'Request Timeout' : error.status === 431 ? 'Request Header Fields Too Large' : 'Bad Request';
+  const reason =
+    error.status === 408 ? 'Request Timeout' : error.status === 431 ? 'Request Header Fields Too Large' : 'Bad Request';
   return `HTTP/1.1 ${error.status} ${reason}\r\nContent-Type: application/problem+json\r\nContent-Length: ${Buffer.byteLength(body)}\r\nConnection: close\r\n\r\n${body}`;
 }
 
 /** Errors of Node's HTTP parser (bad header bytes, headers too large, the request timeout). */
 export function clientProblem(error: NodeJS.ErrnoException): EarmarkError {
-  if (error.code === 'ERR_HTTP_REQUEST_TIMEOUT') return new EarmarkError('request_timeout', 'the whole request did not arrive within the request timeout');
-  if (error.code === 'HPE_HEADER_OVERFLOW') return new EarmarkError('headers_too_large', 'the request line and headers are larger than allowed');
+  if (error.code === 'ERR_HTTP_REQUEST_TIMEOUT')
+    return new EarmarkError('request_timeout', 'the whole request did not arrive within the request timeout');
+  if (error.code === 'HPE_HEADER_OVERFLOW')
+    return new EarmarkError('headers_too_large', 'the request line and headers are larger than allowed');
   return new EarmarkError('validation_failed', 'the request is not valid HTTP/1.1');
 }
 
@@ -56,7 +59,10 @@ export function sendProblem(reply: FastifyReply, request: FastifyRequest, error:
     reply.removeHeader('connection');
     drainThenClose(request, reply);
   }
-  return reply.code(body.status as number).type('application/problem+json').send(JSON.stringify(body));
+  return reply
+    .code(body.status as number)
+    .type('application/problem+json')
+    .send(JSON.stringify(body));
 }
 
 /** Past this, the rest of a refused body is not read: the connection is closed. */
@@ -95,29 +101,43 @@ function fromFastify(error: FastifyError): EarmarkError {
     FST_FILES_LIMIT: ['file', 'send exactly one file part, named "file"'],
     FST_PROTO_VIOLATION: ['request', 'a form field name is a reserved name'],
   };
-  if (error.code === 'FST_ERR_MAX_PARAM_LENGTH') return new EarmarkError('uri_too_long', 'a path segment is longer than allowed');
+  if (error.code === 'FST_ERR_MAX_PARAM_LENGTH')
+    return new EarmarkError('uri_too_long', 'a path segment is longer than allowed');
   if (error.code === 'FST_ERR_BAD_URL') return new EarmarkError('validation_failed', 'the path is not a valid URL');
   // The multipart parser's own errors are plain Errors: a broken body is the client's.
-  if (!error.code && /^(Multipart: )?Boundary not found|Unexpected end of (form|multipart data)|Malformed part header|Part terminated early|Unsupported content type/i.test(error.message)) {
+  if (
+    !error.code &&
+    /^(Multipart: )?Boundary not found|Unexpected end of (form|multipart data)|Malformed part header|Part terminated early|Unsupported content type/i.test(
+      error.message,
+    )
+  ) {
     return new EarmarkError('validation_failed', 'the multipart body is malformed', { field: 'body' });
   }
   const limit = error.code ? multipartLimits[error.code] : undefined;
   if (limit) return new EarmarkError('validation_failed', limit[1], { field: limit[0] });
   const code = error.code ? byFastifyCode[error.code] : undefined;
-  if (code) return new EarmarkError(code, code === 'validation_failed' ? 'the body is not valid JSON' : errorCatalogue[code].title);
-  if (error.statusCode === 400 || (error as { name?: string }).name === 'SyntaxError') return new EarmarkError('validation_failed', 'the request is malformed');
+  if (code)
+    return new EarmarkError(
+      code,
+      code === 'validation_failed' ? 'the body is not valid JSON' : errorCatalogue[code].title,
+    );
+  if (error.statusCode === 400 || (error as { name?: string }).name === 'SyntaxError')
+    return new EarmarkError('validation_failed', 'the request is malformed');
   if (error.statusCode === 413) return new EarmarkError('payload_too_large', errorCatalogue.payload_too_large.title);
   return new EarmarkError('internal_error', 'internal error');
 }
 
 /** ioredis errors while the API's connection is down (no offline queue). */
 function isRedisDown(error: Error): boolean {
-  return /Stream isn't writeable|enableOfflineQueue|Connection is closed|MaxRetriesPerRequest|ECONNREFUSED/i.test(error.message);
+  return /Stream isn't writeable|enableOfflineQueue|Connection is closed|MaxRetriesPerRequest|ECONNREFUSED/i.test(
+    error.message,
+  );
 }
 
 export function toProblem(thrown: FastifyError): EarmarkError {
   if (isEarmarkError(thrown)) return thrown;
-  if (isRedisDown(thrown)) return new EarmarkError('service_unavailable', 'the queue store (Redis) is not reachable; retry later');
+  if (isRedisDown(thrown))
+    return new EarmarkError('service_unavailable', 'the queue store (Redis) is not reachable; retry later');
   return fromFastify(thrown);
 }
 
@@ -130,12 +150,22 @@ export function frameworkProblem(thrown: FastifyError, request: FastifyRequest, 
 
 export const ERRORS_PLUGIN = 'earmark-errors';
 
-export const errorsPlugin = fp(async (app) => {
-  app.setErrorHandler((thrown: FastifyError, request, reply) => {
-    const error = toProblem(thrown);
-    if (error.status >= 500) request.log.error({ code: error.code, err: { message: thrown.message, name: thrown.name } }, 'request failed');
-    else request.log.info({ code: error.code }, 'request refused');
-    return sendProblem(reply, request, error);
-  });
-  app.setNotFoundHandler((request, reply) => sendProblem(reply, request, new EarmarkError('not_found', `no route ${request.method} ${request.url.split('?')[0]}`)));
-}, { name: ERRORS_PLUGIN, fastify: '5.x' });
+export const errorsPlugin = fp(
+  async (app) => {
+    app.setErrorHandler((thrown: FastifyError, request, reply) => {
+      const error = toProblem(thrown);
+      if (error.status >= 500)
+        request.log.error({ code: error.code, err: { message: thrown.message, name: thrown.name } }, 'request failed');
+      else request.log.info({ code: error.code }, 'request refused');
+      return sendProblem(reply, request, error);
+    });
+    app.setNotFoundHandler((request, reply) =>
+      sendProblem(
+        reply,
+        request,
+        new EarmarkError('not_found', `no route ${request.method} ${request.url.split('?')[0]}`),
+      ),
+    );
+  },
+  { name: ERRORS_PLUGIN, fastify: '5.x' },
+);

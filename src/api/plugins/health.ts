@@ -6,11 +6,21 @@ import * as S from '../schemas.ts';
 
 export const healthSpecs = {
   live: {
-    method: 'GET', url: '/healthz', operationId: 'healthz', tag: 'health', scope: null, summary: 'The process is alive',
+    method: 'GET',
+    url: '/healthz',
+    operationId: 'healthz',
+    tag: 'health',
+    scope: null,
+    summary: 'The process is alive',
     responses: { 200: { description: 'Alive', schema: S.Health } },
   },
   ready: {
-    method: 'GET', url: '/readyz', operationId: 'readyz', tag: 'health', scope: null, summary: 'Redis answers and storage is writable',
+    method: 'GET',
+    url: '/readyz',
+    operationId: 'readyz',
+    tag: 'health',
+    scope: null,
+    summary: 'Redis answers and storage is writable',
     responses: { 200: { description: 'Ready', schema: S.Health }, 503: { description: 'Not ready', schema: S.Health } },
   },
 } satisfies Record<string, RouteSpec>;
@@ -20,7 +30,9 @@ async function redisAnswers(deps: AppDeps): Promise<boolean> {
   try {
     return await Promise.race([
       deps.redis.ping().then((r) => r === 'PONG'),
-      new Promise<boolean>((resolve) => { timer = setTimeout(() => resolve(false), 1_000); }),
+      new Promise<boolean>((resolve) => {
+        timer = setTimeout(() => resolve(false), 1_000);
+      }),
     ]);
   } catch {
     return false;

@@ -12,11 +12,20 @@ import { readMultipart } from '../upload-form.ts';
 import { validationProblem } from '../validation.ts';
 import { principalOf, requireScope } from './auth.ts';
 
-const idempotencyHeader = { 'Idempotency-Key': { description: 'Repeat a submission safely: the same key returns the job made the first time.', schema: { type: 'string', maxLength: 200 } } };
+const idempotencyHeader = {
+  'Idempotency-Key': {
+    description: 'Repeat a submission safely: the same key returns the job made the first time.',
+    schema: { type: 'string', maxLength: 200 },
+  },
+};
 
 export const jobSpecs = {
   submit: {
-    method: 'POST', url: '/v1/jobs', operationId: 'submitJob', tag: 'jobs', scope: 'submit',
+    method: 'POST',
+    url: '/v1/jobs',
+    operationId: 'submitJob',
+    tag: 'jobs',
+    scope: 'submit',
     summary: 'Submit a file (multipart upload) or a sourceUrl (JSON) for QC against a profile',
     body: { 'application/json': S.SubmitJson, 'multipart/form-data': S.SubmitMultipart },
     headers: idempotencyHeader,
@@ -27,21 +36,45 @@ export const jobSpecs = {
     },
   },
   get: {
-    method: 'GET', url: '/v1/jobs/:id', operationId: 'getJob', tag: 'jobs', scope: 'read', summary: 'Job state, progress, verdict and webhook deliveries',
-    params: S.JobIdParams, responses: { 200: { description: 'The job', schema: S.Job }, ...S.problems(400, 401, 403, 404, 503) },
+    method: 'GET',
+    url: '/v1/jobs/:id',
+    operationId: 'getJob',
+    tag: 'jobs',
+    scope: 'read',
+    summary: 'Job state, progress, verdict and webhook deliveries',
+    params: S.JobIdParams,
+    responses: { 200: { description: 'The job', schema: S.Job }, ...S.problems(400, 401, 403, 404, 503) },
   },
   report: {
-    method: 'GET', url: '/v1/jobs/:id/report', operationId: 'getJobReport', tag: 'jobs', scope: 'read', summary: 'The QC report of a completed job',
-    params: S.JobIdParams, responses: { 200: { description: 'The report', schema: S.Report }, ...S.problems(400, 401, 403, 404, 409, 503) },
+    method: 'GET',
+    url: '/v1/jobs/:id/report',
+    operationId: 'getJobReport',
+    tag: 'jobs',
+    scope: 'read',
+    summary: 'The QC report of a completed job',
+    params: S.JobIdParams,
+    responses: { 200: { description: 'The report', schema: S.Report }, ...S.problems(400, 401, 403, 404, 409, 503) },
   },
   list: {
-    method: 'GET', url: '/v1/jobs', operationId: 'listJobs', tag: 'jobs', scope: 'read', summary: 'The tenant\'s jobs, newest first, with cursor pagination',
-    querystring: S.ListJobsQuery, responses: { 200: { description: 'A page of jobs', schema: S.JobList }, ...S.problems(400, 401, 403, 503) },
+    method: 'GET',
+    url: '/v1/jobs',
+    operationId: 'listJobs',
+    tag: 'jobs',
+    scope: 'read',
+    summary: "The tenant's jobs, newest first, with cursor pagination",
+    querystring: S.ListJobsQuery,
+    responses: { 200: { description: 'A page of jobs', schema: S.JobList }, ...S.problems(400, 401, 403, 503) },
   },
   queue: {
-    method: 'GET', url: '/v1/queue', operationId: 'getQueue', tag: 'jobs', scope: 'read',
-    summary: 'The tenant\'s queue counts (every tenant\'s with view=all and the operator scope), workers seen and jobs finished in the last minute',
-    querystring: S.ViewQuery, responses: { 200: { description: 'Queue status', schema: S.QueueStatus }, ...S.problems(400, 401, 403, 503) },
+    method: 'GET',
+    url: '/v1/queue',
+    operationId: 'getQueue',
+    tag: 'jobs',
+    scope: 'read',
+    summary:
+      "The tenant's queue counts (every tenant's with view=all and the operator scope), workers seen and jobs finished in the last minute",
+    querystring: S.ViewQuery,
+    responses: { 200: { description: 'Queue status', schema: S.QueueStatus }, ...S.problems(400, 401, 403, 503) },
   },
 } satisfies Record<string, RouteSpec>;
 
@@ -57,62 +90,101 @@ function decodeCursor(raw: string): IndexCursor {
 export function jobsPlugin(deps: AppDeps, uploadLimitBytes: number, bodyTimeoutMs = 60_000) {
   // Shorter than the idle timeout, so a stalled over-limit upload hears 413, not 408.
   const drainIdleMs = Math.min(5_000, Math.floor(bodyTimeoutMs / 2));
-  return routesPlugin('earmark-jobs', async (app) => {
-    route(app, jobSpecs.submit, async (request, reply) => {
-      const { tenant } = principalOf(request);
-      const idempotencyKey = typeof request.headers['idempotency-key'] === 'string' ? request.headers['idempotency-key'].slice(0, 200) : undefined;
-      let result;
-      if (request.isMultipart()) {
-        const { stored, fileName, input } = await readMultipart(deps, request, uploadLimitBytes, drainIdleMs);
-        try {
-          result = await submitJob(deps, tenant, input, { kind: 'upload', storageKey: stored.key, fileName, sizeBytes: stored.sizeBytes, sha256: stored.sha256 }, idempotencyKey);
-        } catch (error) {
-          await deps.storage.remove(stored.key).catch(() => undefined);
-          throw error;
+  return routesPlugin(
+    'earmark-jobs',
+    async (app) => {
+      route(app, jobSpecs.submit, async (request, reply) => {
+        const { tenant } = principalOf(request);
+        const idempotencyKey =
+          typeof request.headers['idempotency-key'] === 'string'
+            ? request.headers['idempotency-key'].slice(0, 200)
+            : undefined;
+        let result: Awaited<ReturnType<typeof submitJob>>;
+        if (request.isMultipart()) {
+          const { stored, fileName, input } = await readMultipart(deps, request, uploadLimitBytes, drainIdleMs);
+          try {
+            result = await submitJob(
+              deps,
+              tenant,
+              input,
+              { kind: 'upload', storageKey: stored.key, fileName, sizeBytes: stored.sizeBytes, sha256: stored.sha256 },
+              idempotencyKey,
+            );
+          } catch (error) {
+            await deps.storage.remove(stored.key).catch(() => undefined);
+            throw error;
+          }
+          if (result.duplicate) await deps.storage.remove(stored.key).catch(() => undefined);
+        } else {
+          const body = request.body;
+          if (!validateJson(body)) throw validationProblem(validateJson.errors, 'body');
+          const { sourceUrl, ...input } = body;
+          result = await submitJob(deps, tenant, input, { kind: 'url', url: sourceUrl }, idempotencyKey);
         }
-        if (result.duplicate) await deps.storage.remove(stored.key).catch(() => undefined);
-      } else {
-        const body = request.body;
-        if (!validateJson(body)) throw validationProblem(validateJson.errors, 'body');
-        const { sourceUrl, ...input } = body;
-        result = await submitJob(deps, tenant, input, { kind: 'url', url: sourceUrl }, idempotencyKey);
-      }
-      request.log.info({ jobId: result.id, duplicate: result.duplicate }, 'job submitted');
-      if (!result.duplicate) deps.metrics.jobSubmitted(tenant);
-      const statusUrl = `/v1/jobs/${result.id}`;
-      const state = result.duplicate ? (await deps.jobs.stateOf(tenant, result.id)) ?? 'queued' : 'queued';
-      return reply.code(result.duplicate ? 200 : 202).header('location', statusUrl).send({ id: result.id, state, statusUrl, duplicate: result.duplicate });
-    });
+        request.log.info({ jobId: result.id, duplicate: result.duplicate }, 'job submitted');
+        if (!result.duplicate) deps.metrics.jobSubmitted(tenant);
+        const statusUrl = `/v1/jobs/${result.id}`;
+        const state = result.duplicate ? ((await deps.jobs.stateOf(tenant, result.id)) ?? 'queued') : 'queued';
+        return reply
+          .code(result.duplicate ? 200 : 202)
+          .header('location', statusUrl)
+          .send({ id: result.id, state, statusUrl, duplicate: result.duplicate });
+      });
 
-    route(app, jobSpecs.get, async (request) => deps.jobs.view(principalOf(request).tenant, request.params.id));
+      route(app, jobSpecs.get, async (request) => deps.jobs.view(principalOf(request).tenant, request.params.id));
 
-    route(app, jobSpecs.report, async (request, reply) =>
-      reply.type('application/json').send(await deps.jobs.report(principalOf(request).tenant, request.params.id)));
+      route(app, jobSpecs.report, async (request, reply) =>
+        reply.type('application/json').send(await deps.jobs.report(principalOf(request).tenant, request.params.id)),
+      );
 
-    route(app, jobSpecs.list, async (request) => {
-      const { cursor, ...filters } = request.query;
-      const page = await deps.jobs.list(principalOf(request).tenant, { ...filters, cursor: cursor ? decodeCursor(cursor) : null });
-      return { items: page.items, nextCursor: page.next ? encodeCursor(page.next) : null };
-    });
+      route(app, jobSpecs.list, async (request) => {
+        const { cursor, ...filters } = request.query;
+        const page = await deps.jobs.list(principalOf(request).tenant, {
+          ...filters,
+          cursor: cursor ? decodeCursor(cursor) : null,
+        });
+        return { items: page.items, nextCursor: page.next ? encodeCursor(page.next) : null };
+      });
 
-    route(app, jobSpecs.queue, async (request) => {
-      const principal = principalOf(request);
-      const { view } = request.query;
-      const workers = (await deps.queue.getWorkers()).length;
-      const since = Date.now() - 60_000;
-      if (view === 'all') {
-        requireScope(principal, 'operator');
-        const counts = await deps.queue.getJobCounts('waiting', 'active', 'delayed', 'completed', 'failed', 'prioritized');
+      route(app, jobSpecs.queue, async (request) => {
+        const principal = principalOf(request);
+        const { view } = request.query;
+        const workers = (await deps.queue.getWorkers()).length;
+        const since = Date.now() - 60_000;
+        if (view === 'all') {
+          requireScope(principal, 'operator');
+          const counts = await deps.queue.getJobCounts(
+            'waiting',
+            'active',
+            'delayed',
+            'completed',
+            'failed',
+            'prioritized',
+          );
+          return {
+            view,
+            waiting: (counts.waiting ?? 0) + (counts.prioritized ?? 0),
+            active: counts.active ?? 0,
+            delayed: counts.delayed ?? 0,
+            completed: counts.completed ?? 0,
+            failed: counts.failed ?? 0,
+            workers,
+            finishedLastMinute: await deps.store.outcomes.finishedSince(since),
+          };
+        }
+        const c = await deps.store.index.counts(principal.tenant, bullKeys(deps.queue), since);
         return {
-          view, waiting: (counts.waiting ?? 0) + (counts.prioritized ?? 0), active: counts.active ?? 0, delayed: counts.delayed ?? 0,
-          completed: counts.completed ?? 0, failed: counts.failed ?? 0, workers, finishedLastMinute: await deps.store.outcomes.finishedSince(since),
+          view,
+          waiting: c.waiting + c.prioritized,
+          active: c.active,
+          delayed: c.delayed,
+          completed: c.completed,
+          failed: c.failed,
+          workers,
+          finishedLastMinute: c.finishedSince,
         };
-      }
-      const c = await deps.store.index.counts(principal.tenant, bullKeys(deps.queue), since);
-      return {
-        view, waiting: c.waiting + c.prioritized, active: c.active, delayed: c.delayed,
-        completed: c.completed, failed: c.failed, workers, finishedLastMinute: c.finishedSince,
-      };
-    });
-  }, ['@fastify/multipart']);
+      });
+    },
+    ['@fastify/multipart'],
+  );
 }

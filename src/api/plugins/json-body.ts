@@ -8,7 +8,9 @@ import { EarmarkError } from '../../errors/index.ts';
 import { poisonKeyOf } from '../validation.ts';
 
 class PoisonKey extends Error {
-  constructor(readonly key: string) { super(key); }
+  constructor(readonly key: string) {
+    super(key);
+  }
 }
 
 function revive(_key: string, value: unknown): unknown {
@@ -22,18 +24,27 @@ export function parseJsonBody(body: string): unknown {
   try {
     return JSON.parse(body, revive);
   } catch (error) {
-    if (error instanceof PoisonKey) throw new EarmarkError('validation_failed', `the body has a "${error.key}" key, which is not allowed`, { field: error.key });
+    if (error instanceof PoisonKey)
+      throw new EarmarkError('validation_failed', `the body has a "${error.key}" key, which is not allowed`, {
+        field: error.key,
+      });
     throw new EarmarkError('validation_failed', 'the body is not valid JSON', { field: 'body' });
   }
 }
 
-export const jsonBodyPlugin = fp(async (app) => {
-  app.removeContentTypeParser('application/json');
-  app.addContentTypeParser('application/json', { parseAs: 'string' }, (_request, body, done) => {
-    try {
-      done(null, parseJsonBody(String(body)));
-    } catch (error) {
-      done(error instanceof Error ? error : new EarmarkError('validation_failed', 'the body is not valid JSON'), undefined);
-    }
-  });
-}, { name: 'earmark-json-body', fastify: '5.x' });
+export const jsonBodyPlugin = fp(
+  async (app) => {
+    app.removeContentTypeParser('application/json');
+    app.addContentTypeParser('application/json', { parseAs: 'string' }, (_request, body, done) => {
+      try {
+        done(null, parseJsonBody(String(body)));
+      } catch (error) {
+        done(
+          error instanceof Error ? error : new EarmarkError('validation_failed', 'the body is not valid JSON'),
+          undefined,
+        );
+      }
+    });
+  },
+  { name: 'earmark-json-body', fastify: '5.x' },
+);

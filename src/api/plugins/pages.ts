@@ -19,21 +19,48 @@ const ASSET_TYPES: Record<string, string> = {
 const ASSET_NAMES = Object.keys(ASSET_TYPES);
 const html = { description: 'HTML page', schema: { type: 'string' }, contentType: 'text/html' };
 /** No inline script, no third-party origins: the pages load only from this server. */
-const CONTENT_SECURITY_POLICY = "default-src 'self'; img-src 'self' data:; media-src 'self' blob:; style-src 'self' 'unsafe-inline'; object-src 'none'; base-uri 'none'; frame-ancestors 'none'";
+const CONTENT_SECURITY_POLICY =
+  "default-src 'self'; img-src 'self' data:; media-src 'self' blob:; style-src 'self' 'unsafe-inline'; object-src 'none'; base-uri 'none'; frame-ancestors 'none'";
 
 export const pageSpecs = {
   dashboard: {
-    method: 'GET', url: '/', operationId: 'dashboardPage', tag: 'pages', scope: null, summary: 'The queue dashboard (data is fetched with an API key entered in the page)',
+    method: 'GET',
+    url: '/',
+    operationId: 'dashboardPage',
+    tag: 'pages',
+    scope: null,
+    summary: 'The queue dashboard (data is fetched with an API key entered in the page)',
     responses: { 200: html },
   },
   report: {
-    method: 'GET', url: '/jobs/:id', operationId: 'reportPage', tag: 'pages', scope: null, summary: 'The per-job report page',
-    params: S.JobIdParams, responses: { 200: html, 400: { description: 'Problem', schema: S.Problem, contentType: 'application/problem+json' } },
+    method: 'GET',
+    url: '/jobs/:id',
+    operationId: 'reportPage',
+    tag: 'pages',
+    scope: null,
+    summary: 'The per-job report page',
+    params: S.JobIdParams,
+    responses: {
+      200: html,
+      400: { description: 'Problem', schema: S.Problem, contentType: 'application/problem+json' },
+    },
   },
   asset: {
-    method: 'GET', url: '/assets/:name', operationId: 'pageAsset', tag: 'pages', scope: null, summary: 'Stylesheet and scripts of the pages',
-    params: { type: 'object', required: ['name'], properties: { name: { type: 'string', enum: ASSET_NAMES } } } as const,
-    responses: { 200: { description: 'Asset', schema: { type: 'string' }, contentType: 'text/plain' }, 400: { description: 'Problem', schema: S.Problem, contentType: 'application/problem+json' } },
+    method: 'GET',
+    url: '/assets/:name',
+    operationId: 'pageAsset',
+    tag: 'pages',
+    scope: null,
+    summary: 'Stylesheet and scripts of the pages',
+    params: {
+      type: 'object',
+      required: ['name'],
+      properties: { name: { type: 'string', enum: ASSET_NAMES } },
+    } as const,
+    responses: {
+      200: { description: 'Asset', schema: { type: 'string' }, contentType: 'text/plain' },
+      400: { description: 'Problem', schema: S.Problem, contentType: 'application/problem+json' },
+    },
   },
 } satisfies Record<string, RouteSpec>;
 
@@ -46,14 +73,24 @@ export function pagesPlugin() {
   };
   return routesPlugin('earmark-pages', async (app) => {
     route(app, pageSpecs.dashboard, async (_request, reply) =>
-      reply.type('text/html; charset=utf-8').header('content-security-policy', CONTENT_SECURITY_POLICY).send(dashboardPage()));
+      reply
+        .type('text/html; charset=utf-8')
+        .header('content-security-policy', CONTENT_SECURITY_POLICY)
+        .send(dashboardPage()),
+    );
     route(app, pageSpecs.report, async (request, reply) => {
       const { id } = request.params;
-      return reply.type('text/html; charset=utf-8').header('content-security-policy', CONTENT_SECURITY_POLICY).send(reportPage(id));
+      return reply
+        .type('text/html; charset=utf-8')
+        .header('content-security-policy', CONTENT_SECURITY_POLICY)
+        .send(reportPage(id));
     });
     route(app, pageSpecs.asset, async (request, reply) => {
       const { name } = request.params;
-      return reply.type(ASSET_TYPES[name]).header('cache-control', 'no-cache').send(await asset(name));
+      return reply
+        .type(ASSET_TYPES[name])
+        .header('cache-control', 'no-cache')
+        .send(await asset(name));
     });
   });
 }

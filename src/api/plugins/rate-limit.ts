@@ -12,18 +12,24 @@ import { AUTH_PLUGIN } from './auth.ts';
 const WINDOW_MS = 60_000;
 
 export function rateLimitPlugin(perMinute: number) {
-  return fp(async (app) => {
-    if (perMinute === 0) return;
-    await app.register(rateLimit, {
-      global: true,
-      max: perMinute,
-      timeWindow: WINDOW_MS,
-      hook: 'onRequest',
-      allowList: (request) => request.principal === null,
-      keyGenerator: (request) => `${request.principal?.tenant ?? '-'}:${request.principal?.keyId ?? '-'}`,
-      // The plugin has set Retry-After (seconds) already; the error handler sends the problem.
-      errorResponseBuilder: (_request, context) =>
-        new EarmarkError('rate_limited', `at most ${context.max} requests per minute for this API key; retry in ${context.after}`),
-    });
-  }, { name: 'earmark-rate-limit', fastify: '5.x', dependencies: [AUTH_PLUGIN] });
+  return fp(
+    async (app) => {
+      if (perMinute === 0) return;
+      await app.register(rateLimit, {
+        global: true,
+        max: perMinute,
+        timeWindow: WINDOW_MS,
+        hook: 'onRequest',
+        allowList: (request) => request.principal === null,
+        keyGenerator: (request) => `${request.principal?.tenant ?? '-'}:${request.principal?.keyId ?? '-'}`,
+        // The plugin has set Retry-After (seconds) already; the error handler sends the problem.
+        errorResponseBuilder: (_request, context) =>
+          new EarmarkError(
+            'rate_limited',
+            `at most ${context.max} requests per minute for this API key; retry in ${context.after}`,
+          ),
+      });
+    },
+    { name: 'earmark-rate-limit', fastify: '5.x', dependencies: [AUTH_PLUGIN] },
+  );
 }

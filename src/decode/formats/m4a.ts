@@ -10,12 +10,22 @@ async function probeM4a(path: string, fileBytes: number): Promise<Probe> {
   const slack = m.encoding === 'flac' || m.encoding === 'alac' ? 0 : 4096;
   // mdhd is one patchable number; the sample table is what the decoder will actually produce.
   if (m.frames !== null && tableFrames !== null && tableFrames > m.frames + Math.max(slack, m.frames / 100)) {
-    throw new EarmarkError('corrupt_file',
+    throw new EarmarkError(
+      'corrupt_file',
       `MP4 sample table holds ${(tableFrames / m.sampleRate).toFixed(1)} s of audio but mdhd declares ${(m.frames / m.sampleRate).toFixed(1)} s`,
-      { declaredFrames: m.frames, tableFrames });
+      { declaredFrames: m.frames, tableFrames },
+    );
   }
-  return { codec: 'mp4', ...m, tableFrames, bitsPerSample: null, framesSlack: slack, wholeFile: !moovFirst, endMissing: cut,
-    ...(moovFirst ? {} : { mp4Layout: layout }) };
+  return {
+    codec: 'mp4',
+    ...m,
+    tableFrames,
+    bitsPerSample: null,
+    framesSlack: slack,
+    wholeFile: !moovFirst,
+    endMissing: cut,
+    ...(moovFirst ? {} : { mp4Layout: layout }),
+  };
 }
 
 export const m4a = compressedDecoder({

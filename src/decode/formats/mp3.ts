@@ -19,10 +19,21 @@ async function probe(path: string, fileBytes: number): Promise<Probe> {
   const m = probeMp3(skip + 65536 > head.length ? await readHead(path, skip) : head.subarray(skip), 0);
   const h = m.header;
   // Without a Xing/Info/VBRI byte count, the last frame's own length tells a cut.
-  const endMissing = m.streamBytes !== null ? fileBytes - skip < m.streamBytes - h.frameBytes
-    : frameChainCut(await readTail(path, fileBytes), (b, o) => parseMpegHeader(b, o)?.frameBytes ?? 0);
-  return { codec: 'mp3', encoding: h.layer === 3 ? 'mp3' : `mp${h.layer}`, sampleRate: h.sampleRate, channels: h.channels,
-    bitsPerSample: null, frames: m.frames, framesSlack: 2 * h.samplesPerFrame, wholeFile: false, endMissing };
+  const endMissing =
+    m.streamBytes !== null
+      ? fileBytes - skip < m.streamBytes - h.frameBytes
+      : frameChainCut(await readTail(path, fileBytes), (b, o) => parseMpegHeader(b, o)?.frameBytes ?? 0);
+  return {
+    codec: 'mp3',
+    encoding: h.layer === 3 ? 'mp3' : `mp${h.layer}`,
+    sampleRate: h.sampleRate,
+    channels: h.channels,
+    bitsPerSample: null,
+    frames: m.frames,
+    framesSlack: 2 * h.samplesPerFrame,
+    wholeFile: false,
+    endMissing,
+  };
 }
 
 export const mp3 = compressedDecoder({

@@ -5,7 +5,8 @@ import type { Decoder } from '../decoder.ts';
 import { pcmDecoder } from '../pcm/decoder.ts';
 import { parseRiff } from '../riff.ts';
 
-const wave = (riffId: string): Decoder => pcmDecoder((head) => hasAscii(head, 8, 'WAVE') && hasAscii(head, 0, riffId), parseRiff);
+const wave = (riffId: string): Decoder =>
+  pcmDecoder((head) => hasAscii(head, 8, 'WAVE') && hasAscii(head, 0, riffId), parseRiff);
 
 export const wav = wave('RIFF');
 export const rf64 = wave('RF64');

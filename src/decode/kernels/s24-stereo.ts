@@ -6,7 +6,8 @@ import { WASM_BASE64 } from './s24-stereo.wasm.ts';
 /** Frames per kernel call. */
 export const S24_KERNEL_FRAMES = 16384;
 
-let instance: { input: Uint8Array; left: Float32Array; right: Float32Array; convert: (frames: number) => void } | null = null;
+let instance: { input: Uint8Array; left: Float32Array; right: Float32Array; convert: (frames: number) => void } | null =
+  null;
 
 /** One instance per thread: a conversion runs start to end in one synchronous call, so decodes that
  * interleave at their awaits never share it mid-call. */
@@ -27,7 +28,13 @@ function kernel(): NonNullable<typeof instance> {
  * Converts the whole multiples of four frames of `bytes` (interleaved little-endian 24-bit stereo)
  * into left[at...] and right[at...]; returns how many frames it converted.
  */
-export function convertS24Stereo(bytes: Uint8Array, frames: number, left: Float32Array, right: Float32Array, at: number): number {
+export function convertS24Stereo(
+  bytes: Uint8Array,
+  frames: number,
+  left: Float32Array,
+  right: Float32Array,
+  at: number,
+): number {
   const k = kernel();
   let done = 0;
   while (frames - done >= 4) {

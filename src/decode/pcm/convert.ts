@@ -13,13 +13,20 @@ const hostLittleEndian = new Uint8Array(new Uint16Array([1]).buffer)[0] === 1;
 let alignedScratch = new ArrayBuffer(0);
 
 /** Little-endian, 8-byte aligned view of `byteLength` bytes: `bytes` itself when possible, else a scratch copy. */
-function littleEndianAligned(bytes: Uint8Array, byteLength: number, sampleBytes: number, bigEndian: boolean): Uint8Array {
+function littleEndianAligned(
+  bytes: Uint8Array,
+  byteLength: number,
+  sampleBytes: number,
+  bigEndian: boolean,
+): Uint8Array {
   const swap = bigEndian === hostLittleEndian;
   if (!swap && bytes.byteOffset % 8 === 0) return bytes;
   if (alignedScratch.byteLength < byteLength) alignedScratch = new ArrayBuffer(byteLength);
   const dst = new Uint8Array(alignedScratch, 0, byteLength);
   if (!swap) dst.set(bytes.subarray(0, byteLength));
-  else for (let i = 0; i < byteLength; i += sampleBytes) for (let k = 0; k < sampleBytes; k++) dst[i + k] = bytes[i + sampleBytes - 1 - k];
+  else
+    for (let i = 0; i < byteLength; i += sampleBytes)
+      for (let k = 0; k < sampleBytes; k++) dst[i + k] = bytes[i + sampleBytes - 1 - k];
   return dst;
 }
 
@@ -27,25 +34,44 @@ function littleEndianAligned(bytes: Uint8Array, byteLength: number, sampleBytes:
 function fromI16(src: Int16Array, ch: number, frames: number, out: readonly Float32Array[], o0: number): void {
   const k = 1 / 32768;
   if (ch === 2) {
-    const l = out[0], r = out[1];
-    for (let f = 0, i = 0; f < frames; f++, i += 2) { l[o0 + f] = src[i] * k; r[o0 + f] = src[i + 1] * k; }
+    const l = out[0],
+      r = out[1];
+    for (let f = 0, i = 0; f < frames; f++, i += 2) {
+      l[o0 + f] = src[i] * k;
+      r[o0 + f] = src[i + 1] * k;
+    }
     return;
   }
-  for (let c = 0; c < ch; c++) { const d = out[c]; for (let f = 0, i = c; f < frames; f++, i += ch) d[o0 + f] = src[i] * k; }
+  for (let c = 0; c < ch; c++) {
+    const d = out[c];
+    for (let f = 0, i = c; f < frames; f++, i += ch) d[o0 + f] = src[i] * k;
+  }
 }
 
 function fromI32(src: Int32Array, ch: number, frames: number, out: readonly Float32Array[], o0: number): void {
   const k = 1 / 2147483648;
-  for (let c = 0; c < ch; c++) { const d = out[c]; for (let f = 0, i = c; f < frames; f++, i += ch) d[o0 + f] = src[i] * k; }
+  for (let c = 0; c < ch; c++) {
+    const d = out[c];
+    for (let f = 0, i = c; f < frames; f++, i += ch) d[o0 + f] = src[i] * k;
+  }
 }
 
 function fromF32(src: Float32Array, ch: number, frames: number, out: readonly Float32Array[], o0: number): void {
-  if (ch === 1) { out[0].set(src.subarray(0, frames), o0); return; }
-  for (let c = 0; c < ch; c++) { const d = out[c]; for (let f = 0, i = c; f < frames; f++, i += ch) d[o0 + f] = src[i]; }
+  if (ch === 1) {
+    out[0].set(src.subarray(0, frames), o0);
+    return;
+  }
+  for (let c = 0; c < ch; c++) {
+    const d = out[c];
+    for (let f = 0, i = c; f < frames; f++, i += ch) d[o0 + f] = src[i];
+  }
 }
 
 function fromF64(src: Float64Array, ch: number, frames: number, out: readonly Float32Array[], o0: number): void {
-  for (let c = 0; c < ch; c++) { const d = out[c]; for (let f = 0, i = c; f < frames; f++, i += ch) d[o0 + f] = src[i]; }
+  for (let c = 0; c < ch; c++) {
+    const d = out[c];
+    for (let f = 0, i = c; f < frames; f++, i += ch) d[o0 + f] = src[i];
+  }
 }
 
 /** Little-endian 24-bit from 32-bit words: 4 samples per 3 words, far fewer loads than byte access. */
@@ -56,27 +82,40 @@ function fromS24(b: Uint8Array, ch: number, frames: number, out: readonly Float3
   const w = new Int32Array(b.buffer, b.byteOffset, groups * 3);
   if (ch === 2) {
     // Whole groups of four frames by the SIMD kernel; the rest (at most three frames) below.
-    const l = out[0], r = out[1];
+    const l = out[0],
+      r = out[1];
     const converted = convertS24Stereo(b, frames, l, r, o0);
     for (let g = converted / 2, f = o0 + converted, j = 3 * g; g < groups; g++, f += 2, j += 3) {
-      const w0 = w[j], w1 = w[j + 1], w2 = w[j + 2];
+      const w0 = w[j],
+        w1 = w[j + 1],
+        w2 = w[j + 2];
       l[f] = ((w0 << 8) >> 8) * k;
       r[f] = ((((w0 >>> 24) | (w1 << 8)) << 8) >> 8) * k;
       l[f + 1] = ((((w1 >>> 16) | (w2 << 16)) << 8) >> 8) * k;
       r[f + 1] = (w2 >> 8) * k;
     }
   } else {
-    let c = 0, f = o0;
-    const put = (v: number): void => { out[c][f] = v * k; if (++c === ch) { c = 0; f++; } };
+    let c = 0,
+      f = o0;
+    const put = (v: number): void => {
+      out[c][f] = v * k;
+      if (++c === ch) {
+        c = 0;
+        f++;
+      }
+    };
     for (let g = 0, j = 0; g < groups; g++, j += 3) {
-      const w0 = w[j], w1 = w[j + 1], w2 = w[j + 2];
+      const w0 = w[j],
+        w1 = w[j + 1],
+        w2 = w[j + 2];
       put((w0 << 8) >> 8);
       put((((w0 >>> 24) | (w1 << 8)) << 8) >> 8);
       put((((w1 >>> 16) | (w2 << 16)) << 8) >> 8);
       put(w2 >> 8);
     }
   }
-  for (let s = groups * 4; s < samples; s++) { // up to 3 leftover samples
+  for (let s = groups * 4; s < samples; s++) {
+    // up to 3 leftover samples
     const i = s * 3;
     out[s % ch][o0 + Math.floor(s / ch)] = (((b[i + 2] << 24) | (b[i + 1] << 16) | (b[i] << 8)) >> 8) * k;
   }
@@ -86,13 +125,21 @@ function fromS24(b: Uint8Array, ch: number, frames: number, out: readonly Float3
  * Deinterleaves `frames` frames from `bytes` into `out[c][outOffset...]` as float.
  * Integer scales are powers of two, so 8-24 bit results are exact.
  */
-export function convertInterleaved(bytes: Uint8Array, frames: number, channels: number, layout: SampleLayout, out: readonly Float32Array[], outOffset: number): void {
+export function convertInterleaved(
+  bytes: Uint8Array,
+  frames: number,
+  channels: number,
+  layout: SampleLayout,
+  out: readonly Float32Array[],
+  outOffset: number,
+): void {
   const bps = layout.bytesPerSample;
   if (bps === 1) {
     const k = 0.0078125; // 1/128
     for (let c = 0; c < channels; c++) {
       const d = out[c];
-      if (layout.kind === 'uint8') for (let f = 0, i = c; f < frames; f++, i += channels) d[outOffset + f] = (bytes[i] - 128) * k;
+      if (layout.kind === 'uint8')
+        for (let f = 0, i = c; f < frames; f++, i += channels) d[outOffset + f] = (bytes[i] - 128) * k;
       else for (let f = 0, i = c; f < frames; f++, i += channels) d[outOffset + f] = ((bytes[i] << 24) >> 24) * k;
     }
     return;

@@ -28,22 +28,38 @@ export function pcmDecoder(detect: (head: Uint8Array) => boolean, parse: PcmHead
     async open(file, handle, options) {
       const plan = await parse(ByteReader.fromFile(handle, file.sizeBytes), file.container);
       const { path, sizeBytes } = file;
-      return checkedFloats(plan, streamPcm(plan, async () => ByteReader.fromFile(await open(path, 'r'), sizeBytes, plan.dataOffset), options));
+      return checkedFloats(
+        plan,
+        streamPcm(plan, async () => ByteReader.fromFile(await open(path, 'r'), sizeBytes, plan.dataOffset), options),
+      );
     },
     async openStream(reader, container, options) {
       const plan = await parse(reader, container);
-      return checkedFloats(plan, streamPcm(plan, async () => reader, options));
+      return checkedFloats(
+        plan,
+        streamPcm(plan, async () => reader, options),
+      );
     },
     async seek(path, startFrame, options, format) {
-      return { audio: await openPcmAt(path, parse, format.container, startFrame, options), firstFrame: startFrame, method: 'pcm_offset' };
+      return {
+        audio: await openPcmAt(path, parse, format.container, startFrame, options),
+        firstFrame: startFrame,
+        method: 'pcm_offset',
+      };
     },
   };
 }
 
-async function openPcmAt(path: string, parse: PcmHeaderParser, container: Container, frame: number, options: DecodeOptions): Promise<DecodedAudio> {
+async function openPcmAt(
+  path: string,
+  parse: PcmHeaderParser,
+  container: Container,
+  frame: number,
+  options: DecodeOptions,
+): Promise<DecodedAudio> {
   const sizeBytes = (await stat(path)).size;
   const handle = await open(path, 'r');
-  let plan;
+  let plan: Awaited<ReturnType<typeof parse>>;
   try {
     plan = await parse(ByteReader.fromFile(handle, sizeBytes), container);
   } finally {
@@ -51,6 +67,14 @@ async function openPcmAt(path: string, parse: PcmHeaderParser, container: Contai
   }
   // The frame's first byte: data offset + frame * blockAlign; past the end there is nothing to read.
   const skipBytes = Math.min(frame * plan.blockAlign, plan.dataBytes);
-  const moved = { ...plan, dataOffset: plan.dataOffset + skipBytes, dataBytes: plan.dataBytes - skipBytes, warnings: [] };
-  return checkedFloats(moved, streamPcm(moved, async () => ByteReader.fromFile(await open(path, 'r'), sizeBytes, moved.dataOffset), options));
+  const moved = {
+    ...plan,
+    dataOffset: plan.dataOffset + skipBytes,
+    dataBytes: plan.dataBytes - skipBytes,
+    warnings: [],
+  };
+  return checkedFloats(
+    moved,
+    streamPcm(moved, async () => ByteReader.fromFile(await open(path, 'r'), sizeBytes, moved.dataOffset), options),
+  );
 }

@@ -23,17 +23,24 @@ export interface PcmPlan {
  * The block's Float32Arrays are reused for the next block (saves a fifth of decode time in
  * allocation and GC): consumers read a block during push() and copy what they keep.
  */
-export function streamPcm(plan: PcmPlan, openReader: () => Promise<ByteReader>, options: DecodeOptions = {}): DecodedAudio {
+export function streamPcm(
+  plan: PcmPlan,
+  openReader: () => Promise<ByteReader>,
+  options: DecodeOptions = {},
+): DecodedAudio {
   const maxBlockFrames = options.maxBlockFrames ?? DEFAULT_MAX_BLOCK_FRAMES;
   if (!Number.isInteger(maxBlockFrames) || maxBlockFrames < 1) {
-    throw new EarmarkError('invalid_argument', `maxBlockFrames must be a positive integer, got ${maxBlockFrames}`, { field: 'maxBlockFrames' });
+    throw new EarmarkError('invalid_argument', `maxBlockFrames must be a positive integer, got ${maxBlockFrames}`, {
+      field: 'maxBlockFrames',
+    });
   }
   const { channels } = plan.format;
   const { blockAlign, layout } = plan;
   const warnings = [...plan.warnings];
   const declaredFrames = Math.floor(plan.dataBytes / blockAlign);
   const maxFrames = Math.floor((options.maxDecodedSeconds ?? DEFAULT_MAX_DECODED_SECONDS) * plan.format.sampleRate);
-  if (!(maxFrames > 0)) throw new EarmarkError('invalid_argument', 'maxDecodedSeconds must be positive', { field: 'maxDecodedSeconds' });
+  if (!(maxFrames > 0))
+    throw new EarmarkError('invalid_argument', 'maxDecodedSeconds must be positive', { field: 'maxDecodedSeconds' });
   let framesDecoded = 0;
 
   async function* blocks(): AsyncGenerator<PcmBlock> {
@@ -71,10 +78,17 @@ export function streamPcm(plan: PcmPlan, openReader: () => Promise<ByteReader>, 
         framesDecoded += filled;
         // Checked on frames read, not on the header's claim: a cut file that claims days is still read.
         if (framesDecoded > maxFrames) {
-          throw new EarmarkError('decoded_size_exceeded', `decoded audio exceeds the cap of ${maxFrames} frames (${(maxFrames / plan.format.sampleRate).toFixed(0)} s)`,
-            { atFrame: framesDecoded - filled, maxDecodedFrames: maxFrames });
+          throw new EarmarkError(
+            'decoded_size_exceeded',
+            `decoded audio exceeds the cap of ${maxFrames} frames (${(maxFrames / plan.format.sampleRate).toFixed(0)} s)`,
+            { atFrame: framesDecoded - filled, maxDecodedFrames: maxFrames },
+          );
         }
-        if (filled > 0) yield { channelData: filled === channelData[0].length ? channelData : channelData.map((a) => a.subarray(0, filled)), frames: filled };
+        if (filled > 0)
+          yield {
+            channelData: filled === channelData[0].length ? channelData : channelData.map((a) => a.subarray(0, filled)),
+            frames: filled,
+          };
       }
     } finally {
       await reader.close();
@@ -90,4 +104,3 @@ export function streamPcm(plan: PcmPlan, openReader: () => Promise<ByteReader>, 
     },
   };
 }
-

@@ -9,7 +9,13 @@ export const clipping: RuleSpec<ClippingRule> = {
   check: (rule, doc) => {
     const runs = doc.summary.clippingRuns;
     const { minRunSamples, thresholdDbfs } = doc.settings.clipping;
-    return count(runs === 1 ? 'clipping run' : 'clipping runs', runs, rule.maxRuns ?? DEFAULT_MAX_CLIP_RUNS, 'runs', ` of ${minRunSamples}+ samples at or above ${fmt(thresholdDbfs, 2)} dBFS`);
+    return count(
+      runs === 1 ? 'clipping run' : 'clipping runs',
+      runs,
+      rule.maxRuns ?? DEFAULT_MAX_CLIP_RUNS,
+      'runs',
+      ` of ${minRunSamples}+ samples at or above ${fmt(thresholdDbfs, 2)} dBFS`,
+    );
   },
   settings: (rule, at) => [
     { setting: 'clipRun', field: `${at}.minRunSamples`, value: rule.minRunSamples },
@@ -20,7 +26,10 @@ export const clipping: RuleSpec<ClippingRule> = {
     const minRun = rules.find((r) => r.minRunSamples !== undefined)?.minRunSamples;
     const threshold = rules.find((r) => r.thresholdDbfs !== undefined)?.thresholdDbfs;
     if (minRun !== undefined || threshold !== undefined) {
-      options.clipping = { ...(minRun !== undefined ? { minRunSamples: minRun } : {}), ...(threshold !== undefined ? { thresholdDbfs: threshold } : {}) };
+      options.clipping = {
+        ...(minRun !== undefined ? { minRunSamples: minRun } : {}),
+        ...(threshold !== undefined ? { thresholdDbfs: threshold } : {}),
+      };
     }
   },
   events: ['clipping'],

@@ -8,7 +8,16 @@ export const deadChannel: RuleSpec<DeadChannelRule> = {
   check: (_rule, doc) => {
     const dead = doc.summary.deadChannels;
     const passed = dead.length === 0;
-    return { measured: dead, unit: 'channels', limit: { max: 0 }, outcome: verdictOf(passed), passed, explanation: passed ? 'No channel is digital silence throughout' : `Channel ${dead.map((c) => channelName(doc, c)).join(', ')} is digital silence throughout` };
+    return {
+      measured: dead,
+      unit: 'channels',
+      limit: { max: 0 },
+      outcome: verdictOf(passed),
+      passed,
+      explanation: passed
+        ? 'No channel is digital silence throughout'
+        : `Channel ${dead.map((c) => channelName(doc, c)).join(', ')} is digital silence throughout`,
+    };
   },
   events: ['dead_channel'],
 };

@@ -4,7 +4,11 @@ import type { CheckLimit } from '../report.ts';
 import type { Draft } from './rule-spec.ts';
 
 export const notMeasurable = (what: string, unit: string, limit: CheckLimit, why: string, passed = true): Draft => ({
-  measured: null, unit, limit, outcome: 'not_measurable', passed,
+  measured: null,
+  unit,
+  limit,
+  outcome: 'not_measurable',
+  passed,
   explanation: `${what} is not measurable (${why}); ${passed ? 'the rule is not applied' : 'the rule fails'}`,
 });
 
@@ -23,16 +27,30 @@ export function atMost(what: string, value: number | null, max: number, unit: st
 }
 
 /** Range check with either end optional; `unitGap` names the unit of the distance (LU, s). */
-export function within(what: string, value: number, min: number | undefined, max: number | undefined, unit: string, unitGap: string): Draft {
+export function within(
+  what: string,
+  value: number,
+  min: number | undefined,
+  max: number | undefined,
+  unit: string,
+  unitGap: string,
+): Draft {
   const limit = { ...(min !== undefined ? { min } : {}), ...(max !== undefined ? { max } : {}) };
   const lowBy = min !== undefined ? min - value : -Infinity;
   const highBy = max !== undefined ? value - max : -Infinity;
   const passed = lowBy <= 0 && highBy <= 0;
-  const range = min !== undefined && max !== undefined ? `${fmtLimit(min)} to ${fmtLimit(max)} ${unit}` : min !== undefined ? `at least ${fmtLimit(min)} ${unit}` : `at most ${fmtLimit(max ?? 0)} ${unit}`;
+  const range =
+    min !== undefined && max !== undefined
+      ? `${fmtLimit(min)} to ${fmtLimit(max)} ${unit}`
+      : min !== undefined
+        ? `at least ${fmtLimit(min)} ${unit}`
+        : `at most ${fmtLimit(max ?? 0)} ${unit}`;
   let explanation: string;
   if (passed) explanation = `${what} ${fmt(value)} ${unit} is within ${range}`;
-  else if (min !== undefined && lowBy > 0) explanation = `${what} ${fmtAgainst(value, min)} ${unit} is ${fmtGap(lowBy)} ${unitGap} below the ${fmtLimit(min)} ${unit} minimum`;
-  else explanation = `${what} ${fmtAgainst(value, max ?? 0)} ${unit} is ${fmtGap(highBy)} ${unitGap} above the ${fmtLimit(max ?? 0)} ${unit} maximum`;
+  else if (min !== undefined && lowBy > 0)
+    explanation = `${what} ${fmtAgainst(value, min)} ${unit} is ${fmtGap(lowBy)} ${unitGap} below the ${fmtLimit(min)} ${unit} minimum`;
+  else
+    explanation = `${what} ${fmtAgainst(value, max ?? 0)} ${unit} is ${fmtGap(highBy)} ${unitGap} above the ${fmtLimit(max ?? 0)} ${unit} maximum`;
   return { measured: value, unit, limit, outcome: verdictOf(passed), passed, explanation };
 }
 
@@ -42,7 +60,12 @@ export function count(what: string, n: number, max: number, unit: string, detail
   return { measured: n, unit, limit: { max }, outcome: verdictOf(passed), passed, explanation };
 }
 
-export function membership(what: string, value: number | string, allowed: Array<number | string>, unit: string | null): Draft {
+export function membership(
+  what: string,
+  value: number | string,
+  allowed: Array<number | string>,
+  unit: string | null,
+): Draft {
   const passed = allowed.includes(value);
   const shown = `${value}${unit ? ` ${unit}` : ''}`;
   const explanation = passed ? `${what} ${shown} is allowed` : `${what} ${shown} is not one of ${allowed.join(', ')}`;

@@ -5,7 +5,8 @@ import type { DropoutRule } from '../types.ts';
 import { count } from './drafts.ts';
 import type { RuleSpec } from './rule-spec.ts';
 
-const inScope = (rule: DropoutRule, doc: AnalysisDocument, channel: number) => !rule.channels || rule.channels.some((l) => l === doc.format.channelLabels[channel]);
+const inScope = (rule: DropoutRule, doc: AnalysisDocument, channel: number) =>
+  !rule.channels || rule.channels.some((l) => l === doc.format.channelLabels[channel]);
 
 export const dropouts: RuleSpec<DropoutRule> = {
   check: (rule, doc) => {
@@ -16,7 +17,13 @@ export const dropouts: RuleSpec<DropoutRule> = {
       ...(doc.summary.allChannelDropouts > 0 ? [`${doc.summary.allChannelDropouts} in all channels`] : []),
       ...perChannel.map((c) => `${c.dropouts} in ${channelName(doc, c.index)}`),
     ];
-    return count(n === 1 ? `dropout${scope}` : `dropouts${scope}`, n, rule.maxCount ?? 0, 'dropouts', where.length > 0 ? ` (${where.join(', ')})` : '');
+    return count(
+      n === 1 ? `dropout${scope}` : `dropouts${scope}`,
+      n,
+      rule.maxCount ?? 0,
+      'dropouts',
+      where.length > 0 ? ` (${where.join(', ')})` : '',
+    );
   },
   events: ['dropout'],
   breaks: (rule, e, doc) => e.channel === null || inScope(rule, doc, e.channel),

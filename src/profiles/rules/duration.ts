@@ -5,6 +5,14 @@ import { rangeIssues } from './issues.ts';
 import type { RuleSpec } from './rule-spec.ts';
 
 export const duration: RuleSpec<DurationRule> = {
-  check: (rule, doc) => within('Duration', doc.format.durationSeconds ?? doc.format.framesDecoded / doc.format.sampleRate, rule.minSeconds, rule.maxSeconds, 's', 's'),
+  check: (rule, doc) =>
+    within(
+      'Duration',
+      doc.format.durationSeconds ?? doc.format.framesDecoded / doc.format.sampleRate,
+      rule.minSeconds,
+      rule.maxSeconds,
+      's',
+      's',
+    ),
   issues: (rule, at) => rangeIssues(at, 'minSeconds', 'maxSeconds', rule.minSeconds, rule.maxSeconds),
 };

@@ -11,7 +11,11 @@ function edge(what: string, seconds: (doc: AnalysisDocument) => number): RuleSpe
     check: (rule, doc) => within(what, seconds(doc), rule.minSeconds, rule.maxSeconds, 's', 's'),
     issues: (rule, at) => rangeIssues(at, 'minSeconds', 'maxSeconds', rule.minSeconds, rule.maxSeconds),
     settings: (rule, at) => silenceThresholdSetting(rule.thresholdDbfs, at),
-    analysis: (rules, options) => applySilenceThreshold(rules.map((r) => r.thresholdDbfs), options),
+    analysis: (rules, options) =>
+      applySilenceThreshold(
+        rules.map((r) => r.thresholdDbfs),
+        options,
+      ),
   };
 }
 

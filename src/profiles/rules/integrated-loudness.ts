@@ -12,7 +12,8 @@ import type { Draft, ProfileIssue, RuleSpec } from './rule-spec.ts';
 export function whyNoLoudness(doc: AnalysisDocument): string {
   const frames = doc.format.framesDecoded;
   if (frames === 0) return 'the file holds no audio';
-  if (frames < 0.4 * doc.format.sampleRate) return `the audio is ${fmt(frames / doc.format.sampleRate, 3)} s long, shorter than one 400 ms gating block`;
+  if (frames < 0.4 * doc.format.sampleRate)
+    return `the audio is ${fmt(frames / doc.format.sampleRate, 3)} s long, shorter than one 400 ms gating block`;
   if (doc.summary.samplePeakDbfs === null) return 'the file is digital silence throughout';
   return 'no 400 ms block is above the -70 LUFS absolute gate';
 }
@@ -20,9 +21,17 @@ export function whyNoLoudness(doc: AnalysisDocument): string {
 function check(rule: IntegratedLoudnessRule, doc: AnalysisDocument): Draft {
   const value = doc.summary.integratedLufs;
   const { targetLufs, toleranceLu } = rule;
-  const limit: CheckLimit = targetLufs !== undefined && toleranceLu !== undefined ? { targetLufs, toleranceLu } : { ...(rule.minLufs !== undefined ? { min: rule.minLufs } : {}), ...(rule.maxLufs !== undefined ? { max: rule.maxLufs } : {}), ...(targetLufs !== undefined ? { targetLufs } : {}) };
+  const limit: CheckLimit =
+    targetLufs !== undefined && toleranceLu !== undefined
+      ? { targetLufs, toleranceLu }
+      : {
+          ...(rule.minLufs !== undefined ? { min: rule.minLufs } : {}),
+          ...(rule.maxLufs !== undefined ? { max: rule.maxLufs } : {}),
+          ...(targetLufs !== undefined ? { targetLufs } : {}),
+        };
   if (value === null) return notMeasurable('Integrated loudness', 'LUFS', limit, whyNoLoudness(doc), false);
-  if (targetLufs === undefined || toleranceLu === undefined) return { ...within('Integrated loudness', value, rule.minLufs, rule.maxLufs, 'LUFS', 'LU'), limit };
+  if (targetLufs === undefined || toleranceLu === undefined)
+    return { ...within('Integrated loudness', value, rule.minLufs, rule.maxLufs, 'LUFS', 'LU'), limit };
   const measurementTolerance = rule.measurementToleranceLu ?? 0;
   const deviation = value - targetLufs;
   const gap = Math.abs(deviation);
@@ -31,13 +40,19 @@ function check(rule: IntegratedLoudnessRule, doc: AnalysisDocument): Draft {
   const side = deviation > 0 ? 'above' : 'below';
   const gapText = fmtAgainst(gap, toleranceLu);
   const tol = `tolerance ±${fmt(toleranceLu)} LU${measurementTolerance > 0 ? `, measurement tolerance ±${fmt(measurementTolerance)} LU` : ''}`;
-  let explanation = passed && fmt(gap) === '0.0'
-    ? `Integrated loudness ${fmt(value)} LUFS is on the ${fmtLimit(targetLufs)} LUFS target (${tol})`
-    : `Integrated loudness ${fmt(value)} LUFS is ${gapText} LU ${side} the ${fmtLimit(targetLufs)} LUFS target (${tol})`;
+  let explanation =
+    passed && fmt(gap) === '0.0'
+      ? `Integrated loudness ${fmt(value)} LUFS is on the ${fmtLimit(targetLufs)} LUFS target (${tol})`
+      : `Integrated loudness ${fmt(value)} LUFS is ${gapText} LU ${side} the ${fmtLimit(targetLufs)} LUFS target (${tol})`;
   if (marginal) explanation += ': outside the tolerance but inside the measurement tolerance, so a warning';
   if (measurementTolerance > 0) limit.measurementToleranceLu = measurementTolerance;
   return {
-    measured: value, unit: 'LUFS', limit, outcome: marginal ? 'marginal' : verdictOf(passed), passed, explanation,
+    measured: value,
+    unit: 'LUFS',
+    limit,
+    outcome: marginal ? 'marginal' : verdictOf(passed),
+    passed,
+    explanation,
     ...(marginal ? { severity: 'warn' as const } : {}),
   };
 }
@@ -46,10 +61,22 @@ function check(rule: IntegratedLoudnessRule, doc: AnalysisDocument): Draft {
 function issues(rule: IntegratedLoudnessRule, at: string): ProfileIssue[] {
   const out: ProfileIssue[] = [];
   const range = rule.minLufs !== undefined || rule.maxLufs !== undefined;
-  if (!range && rule.toleranceLu === undefined) out.push({ field: `${at}.toleranceLu`, message: `${at}.toleranceLu is missing: give targetLufs with toleranceLu, or minLufs/maxLufs` });
-  if (range && rule.toleranceLu !== undefined) out.push({ field: `${at}.toleranceLu`, message: `${at}.toleranceLu cannot be combined with minLufs/maxLufs; use one` });
+  if (!range && rule.toleranceLu === undefined)
+    out.push({
+      field: `${at}.toleranceLu`,
+      message: `${at}.toleranceLu is missing: give targetLufs with toleranceLu, or minLufs/maxLufs`,
+    });
+  if (range && rule.toleranceLu !== undefined)
+    out.push({
+      field: `${at}.toleranceLu`,
+      message: `${at}.toleranceLu cannot be combined with minLufs/maxLufs; use one`,
+    });
   out.push(...orderIssues(at, 'minLufs', 'maxLufs', rule.minLufs, rule.maxLufs));
-  if (range && rule.targetLufs !== undefined && ((rule.minLufs ?? -Infinity) > rule.targetLufs || (rule.maxLufs ?? Infinity) < rule.targetLufs)) {
+  if (
+    range &&
+    rule.targetLufs !== undefined &&
+    ((rule.minLufs ?? -Infinity) > rule.targetLufs || (rule.maxLufs ?? Infinity) < rule.targetLufs)
+  ) {
     out.push({ field: `${at}.targetLufs`, message: `${at}.targetLufs lies outside minLufs..maxLufs` });
   }
   return out;

@@ -9,7 +9,11 @@ export function integrityDraft(doc: AnalysisDocument): Draft {
   const problems = doc.integrity.problems;
   const passed = problems.length === 0;
   return {
-    measured: problems.map((p) => p.code), unit: null, limit: { max: 0 }, outcome: verdictOf(passed), passed,
+    measured: problems.map((p) => p.code),
+    unit: null,
+    limit: { max: 0 },
+    outcome: verdictOf(passed),
+    passed,
     explanation: passed ? 'The file is complete and readable' : problems.map((p) => p.message).join('; '),
   };
 }

@@ -7,7 +7,10 @@ import type { RuleSpec } from './rule-spec.ts';
 export const loudnessRange: RuleSpec<LoudnessRangeRule> = {
   check: (rule, doc) => {
     const lra = doc.summary.loudnessRangeLu;
-    const limit = { ...(rule.minLu !== undefined ? { min: rule.minLu } : {}), ...(rule.maxLu !== undefined ? { max: rule.maxLu } : {}) };
+    const limit = {
+      ...(rule.minLu !== undefined ? { min: rule.minLu } : {}),
+      ...(rule.maxLu !== undefined ? { max: rule.maxLu } : {}),
+    };
     if (lra === null) return notMeasurable('Loudness range', 'LU', limit, 'no short-term value passes the gates');
     return within('Loudness range', lra, rule.minLu, rule.maxLu, 'LU', 'LU');
   },

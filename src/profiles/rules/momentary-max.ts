@@ -4,8 +4,17 @@ import { atMost } from './drafts.ts';
 import type { RuleSpec } from './rule-spec.ts';
 
 export const momentaryMax: RuleSpec<MomentaryMaxRule> = {
-  check: (rule, doc) => atMost('Maximum momentary loudness', doc.summary.maxMomentaryLufs, rule.maxLufs, 'LUFS', 'shorter than 400 ms or silent'),
-  analysis: (rules, options) => { options.loudness = { ...options.loudness, momentaryLimitLufs: Math.min(...rules.map((r) => r.maxLufs)) }; },
+  check: (rule, doc) =>
+    atMost(
+      'Maximum momentary loudness',
+      doc.summary.maxMomentaryLufs,
+      rule.maxLufs,
+      'LUFS',
+      'shorter than 400 ms or silent',
+    ),
+  analysis: (rules, options) => {
+    options.loudness = { ...options.loudness, momentaryLimitLufs: Math.min(...rules.map((r) => r.maxLufs)) };
+  },
   events: ['loud_momentary'],
   breaks: (rule, e) => (e.peakValue ?? Infinity) > rule.maxLufs,
 };

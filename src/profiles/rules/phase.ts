@@ -10,7 +10,13 @@ export const phase: RuleSpec<PhaseRule> = {
     const windows = doc.channelPairs.reduce((n, p) => n + p.phaseProblemWindows, 0);
     const lows = doc.channelPairs.map((p) => p.minWindowCorrelation).filter((r): r is number => r !== null);
     const detail = lows.length > 0 ? ` (lowest window correlation ${fmt(Math.min(...lows), 2)})` : '';
-    return count(windows === 1 ? 'window of strongly negative correlation' : 'windows of strongly negative correlation', windows, rule.maxWindows ?? 0, 'windows', detail);
+    return count(
+      windows === 1 ? 'window of strongly negative correlation' : 'windows of strongly negative correlation',
+      windows,
+      rule.maxWindows ?? 0,
+      'windows',
+      detail,
+    );
   },
   settings: (rule, at) => [{ setting: 'phase', field: `${at}.minCorrelation`, value: rule.minCorrelation }],
   analysis: (rules, options) => {

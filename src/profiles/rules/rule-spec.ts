@@ -7,12 +7,21 @@ import type { CheckResult } from '../report.ts';
 import type { Rule, RuleType } from '../types.ts';
 
 /** A check before the rule's id, type, severity and source are added (a marginal reading may set its own severity). */
-export type Draft = Omit<CheckResult, 'ruleId' | 'type' | 'severity' | 'source'> & { severity?: CheckResult['severity'] };
+export type Draft = Omit<CheckResult, 'ruleId' | 'type' | 'severity' | 'source'> & {
+  severity?: CheckResult['severity'];
+};
 
-export interface ProfileIssue { field: string; message: string }
+export interface ProfileIssue {
+  field: string;
+  message: string;
+}
 
 /** One analysis setting a rule feeds: every rule feeding it must give the same value. */
-export interface SettingUse { setting: string; field: string; value: number | undefined }
+export interface SettingUse {
+  setting: string;
+  field: string;
+  value: number | undefined;
+}
 
 export interface RuleSpec<R extends Rule> {
   /** The reading, limit and verdict on one document. */

@@ -3,7 +3,9 @@
 import type { AnalysisOptions } from '../../analysis/runner.ts';
 import type { SettingUse } from './rule-spec.ts';
 
-export const silenceThresholdSetting = (value: number | undefined, at: string): SettingUse[] => [{ setting: 'silenceThreshold', field: `${at}.thresholdDbfs`, value }];
+export const silenceThresholdSetting = (value: number | undefined, at: string): SettingUse[] => [
+  { setting: 'silenceThreshold', field: `${at}.thresholdDbfs`, value },
+];
 
 /** parseProfile guarantees the rules agree: the first value given is everyone's. */
 export function applySilenceThreshold(thresholds: Array<number | undefined>, options: AnalysisOptions): void {

@@ -17,10 +17,18 @@ export function setupKeyForm(onChange) {
 }
 
 export async function api(path, options = {}) {
-  const response = await fetch(path, { ...options, headers: { ...(options.headers ?? {}), authorization: `Bearer ${apiKey()}` } });
+  const response = await fetch(path, {
+    ...options,
+    headers: { ...(options.headers ?? {}), authorization: `Bearer ${apiKey()}` },
+  });
   if (!response.ok) {
     let detail = `${response.status}`;
-    try { const problem = await response.json(); detail = `${problem.code ?? response.status}: ${problem.detail ?? problem.title ?? ''}`; } catch { /* not JSON */ }
+    try {
+      const problem = await response.json();
+      detail = `${problem.code ?? response.status}: ${problem.detail ?? problem.title ?? ''}`;
+    } catch {
+      /* not JSON */
+    }
     throw new Error(detail);
   }
   return response;
@@ -39,11 +47,16 @@ export function el(tag, attributes = {}, ...children) {
     else if (name.startsWith('on')) node.addEventListener(name.slice(2), value);
     else node.setAttribute(name, value === true ? '' : String(value));
   }
-  for (const child of children.flat()) if (child !== null && child !== undefined) node.append(child instanceof Node ? child : String(child));
+  for (const child of children.flat())
+    if (child !== null && child !== undefined) node.append(child instanceof Node ? child : String(child));
   return node;
 }
 
 export function verdictBadge(verdict, large = false) {
   const label = verdict ?? 'pending';
-  return el('span', { class: `em-verdict em-verdict-${verdict ?? 'none'}${large ? ' em-verdict-large' : ''}` }, label.toUpperCase());
+  return el(
+    'span',
+    { class: `em-verdict em-verdict-${verdict ?? 'none'}${large ? ' em-verdict-large' : ''}` },
+    label.toUpperCase(),
+  );
 }

@@ -25,7 +25,10 @@ export function spanText(flag: Pick<FlagLike, 'startTimecode' | 'endTimecode'>):
 export function countText(flag: Pick<FlagLike, 'count'>): string | null;
 export function flagDetails(flag: FlagLike): string[];
 export function flagLabel(flag: FlagLike): string;
-export function flagCountsText(report: { flagCounts?: Partial<Record<FlagSeverity, number>>; flags: ReadonlyArray<{ severity: string }> }): string;
+export function flagCountsText(report: {
+  flagCounts?: Partial<Record<FlagSeverity, number>>;
+  flags: ReadonlyArray<{ severity: string }>;
+}): string;
 export function headlineNamesVerdict(headline: string, verdict: string | null): boolean;
 export function outcomeText(check: { outcome: string; passed: boolean }): string;
 export function failureHint(code: string): string;

@@ -9,15 +9,17 @@ const capitalised = (text) => text.charAt(0).toUpperCase() + text.slice(1);
  * (peakValue, mergedEvents, no number, title or channel name).
  */
 export function flagView(flag, index) {
-  const channelName = flag.channelName ?? (flag.channel === null || flag.channel === undefined ? 'all' : String(flag.channel + 1));
-  const otherChannelName = flag.otherChannelName ?? (flag.otherChannel === undefined ? undefined : String(flag.otherChannel + 1));
+  const channelName =
+    flag.channelName ?? (flag.channel === null || flag.channel === undefined ? 'all' : String(flag.channel + 1));
+  const otherChannelName =
+    flag.otherChannelName ?? (flag.otherChannel === undefined ? undefined : String(flag.otherChannel + 1));
   return {
     ...flag,
     number: flag.number ?? index + 1,
     title: flag.title ?? capitalised(words(flag.kind)),
     channelName,
     ...(otherChannelName === undefined ? {} : { otherChannelName }),
-    worstValue: flag.worstValue !== undefined ? flag.worstValue : flag.peakValue ?? null,
+    worstValue: flag.worstValue !== undefined ? flag.worstValue : (flag.peakValue ?? null),
     unit: flag.unit ?? null,
     count: flag.count ?? flag.mergedEvents ?? 1,
     message: flag.message ?? '',
@@ -41,7 +43,9 @@ export function channelText(flag) {
 }
 
 export function spanText(flag) {
-  return flag.endTimecode && flag.endTimecode !== flag.startTimecode ? `${flag.startTimecode} – ${flag.endTimecode}` : flag.startTimecode;
+  return flag.endTimecode && flag.endTimecode !== flag.startTimecode
+    ? `${flag.startTimecode} – ${flag.endTimecode}`
+    : flag.startTimecode;
 }
 
 /** "× 37" when the flag merges several events; nothing for one. */
@@ -65,11 +69,17 @@ export function headlineNamesVerdict(headline, verdict) {
   return Boolean(verdict) && headline.toLowerCase().startsWith(String(verdict).toLowerCase());
 }
 
+function countBySeverity(flags) {
+  const counts = {};
+  for (const f of flags) counts[f.severity] = (counts[f.severity] ?? 0) + 1;
+  return counts;
+}
+
 const plural = (n, one, many) => `${n} ${n === 1 ? one : many}`;
 
 /** "3 fail · 1 warn · 12 remarks"; from the flags themselves when a v1 report has no counts. */
 export function flagCountsText(report) {
-  const counts = report.flagCounts ?? report.flags.reduce((acc, f) => ({ ...acc, [f.severity]: (acc[f.severity] ?? 0) + 1 }), {});
+  const counts = report.flagCounts ?? countBySeverity(report.flags);
   return `${counts.fail ?? 0} fail · ${counts.warn ?? 0} warn · ${plural(counts.remark ?? 0, 'remark', 'remarks')}`;
 }
 
@@ -82,10 +92,12 @@ export function outcomeText(check) {
 
 const HINTS = {
   empty_file: 'The file has no bytes. Export it again and submit the new file.',
-  unsupported_format: 'Send WAV (also RF64 and BW64), AIFF or AIFF-C, FLAC, MP3, AAC, M4A, Ogg Vorbis, Ogg Opus, WebM or CAF.',
+  unsupported_format:
+    'Send WAV (also RF64 and BW64), AIFF or AIFF-C, FLAC, MP3, AAC, M4A, Ogg Vorbis, Ogg Opus, WebM or CAF.',
   unsupported_encoding: 'Export as PCM (8 to 32-bit integer) or 32/64-bit float WAV or AIFF, or as FLAC.',
   corrupt_file: 'The file is damaged or inconsistent. Export it again from the source and resubmit.',
-  decoded_size_exceeded: 'The decoded audio is over this service\'s size cap. Send a shorter file, split it, or send a WAV or FLAC export.',
+  decoded_size_exceeded:
+    "The decoded audio is over this service's size cap. Send a shorter file, split it, or send a WAV or FLAC export.",
   file_not_found: 'The stored upload is gone (its retention period may be over). Submit the file again.',
   payload_too_large: 'The file is over the upload limit. Send a smaller file or split it.',
   invalid_profile: 'The profile is not valid. Fix it (see GET /v1/profiles) and submit again.',
@@ -94,7 +106,7 @@ const HINTS = {
   source_refused: 'The URL is not allowed: use an http(s) URL on a permitted public host, not an internal address.',
   source_fetch_failed: 'The URL could not be fetched. Check that it answers with the file, then submit again.',
   storage_full: 'The service ran out of storage. Submit again later, or tell the operator.',
-  storage_unavailable: 'The service\'s storage was not available. Submit again later, or tell the operator.',
+  storage_unavailable: "The service's storage was not available. Submit again later, or tell the operator.",
   service_unavailable: 'A part of the service was not available. Submit again later.',
 };
 

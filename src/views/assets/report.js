@@ -20,8 +20,10 @@ function moveCursor(flag, index) {
   cursor.setAttribute('x2', String(x));
   cursor.setAttribute('visibility', 'visible');
   cursor.dataset.flagIndex = String(index);
-  for (const item of document.querySelectorAll('.em-flags li')) item.classList.toggle('em-selected', item.dataset.flagIndex === String(index));
-  document.getElementById('em-cursor-status').textContent = `Cursor at ${flag.startTimecode}: #${flag.number} ${flag.title} (${flag.severity})`;
+  for (const item of document.querySelectorAll('.em-flags li'))
+    item.classList.toggle('em-selected', item.dataset.flagIndex === String(index));
+  document.getElementById('em-cursor-status').textContent =
+    `Cursor at ${flag.startTimecode}: #${flag.number} ${flag.title} (${flag.severity})`;
 }
 
 async function listen(flag) {
@@ -31,7 +33,9 @@ async function listen(flag) {
   const end = Math.min(start + EXCERPT_MAX_SECONDS, Math.max(flag.endSeconds + EXCERPT_PAD_SECONDS, start + 1));
   status.textContent = 'Loading excerpt…';
   try {
-    const response = await api(`/v1/jobs/${encodeURIComponent(jobId)}/excerpt?startSeconds=${start.toFixed(3)}&endSeconds=${end.toFixed(3)}`);
+    const response = await api(
+      `/v1/jobs/${encodeURIComponent(jobId)}/excerpt?startSeconds=${start.toFixed(3)}&endSeconds=${end.toFixed(3)}`,
+    );
     const blob = await response.blob();
     if (currentAudioUrl) URL.revokeObjectURL(currentAudioUrl);
     currentAudioUrl = URL.createObjectURL(blob);
@@ -54,16 +58,31 @@ function showHeadline(words, tone, badge) {
 function renderIntegrity(report) {
   const panel = document.getElementById('em-integrity');
   const integrity = report.integrity;
-  if (!integrity || integrity.intact) { panel.hidden = true; return; }
+  if (!integrity || integrity.intact) {
+    panel.hidden = true;
+    return;
+  }
   const severity = integrity.severity ?? 'fail';
   panel.className = `em-integrity em-integrity-${severity}`;
-  document.getElementById('em-integrity-title').textContent = severity === 'fail' ? 'Damaged file: this fails the report' : 'Damaged file: this profile counts it as a warning';
-  document.getElementById('em-integrity-note').textContent = 'The audio the file declares is not all there or not all readable. The readings, plot and flags below may not describe the whole file.';
-  document.getElementById('em-integrity-problems').replaceChildren(...integrity.problems.map((problem) =>
-    el('li', { 'data-code': problem.code },
-      el('span', { class: 'em-tc' }, problem.atTimecode ?? text(problem.atSeconds, 3, 's')), ' ',
-      el('span', {}, problem.message), ' ',
-      el('code', { class: 'em-status' }, problem.code))));
+  document.getElementById('em-integrity-title').textContent =
+    severity === 'fail' ? 'Damaged file: this fails the report' : 'Damaged file: this profile counts it as a warning';
+  document.getElementById('em-integrity-note').textContent =
+    'The audio the file declares is not all there or not all readable. The readings, plot and flags below may not describe the whole file.';
+  document
+    .getElementById('em-integrity-problems')
+    .replaceChildren(
+      ...integrity.problems.map((problem) =>
+        el(
+          'li',
+          { 'data-code': problem.code },
+          el('span', { class: 'em-tc' }, problem.atTimecode ?? text(problem.atSeconds, 3, 's')),
+          ' ',
+          el('span', {}, problem.message),
+          ' ',
+          el('code', { class: 'em-status' }, problem.code),
+        ),
+      ),
+    );
   panel.hidden = false;
 }
 
@@ -72,55 +91,119 @@ function renderFailure(job) {
   const message = job.error?.message ?? 'the job failed without a reason';
   showHeadline(`Analysis failed: ${message}`, 'fail', null);
   document.getElementById('em-failure-code').textContent = code;
-  document.getElementById('em-failure-message').textContent = `${message}${job.attemptsMade > 1 ? ` (after ${job.attemptsMade} attempts)` : ''}`;
+  document.getElementById('em-failure-message').textContent =
+    `${message}${job.attemptsMade > 1 ? ` (after ${job.attemptsMade} attempts)` : ''}`;
   document.getElementById('em-failure-hint').textContent = failureHint(code);
   document.getElementById('em-job-failed').hidden = false;
 }
 
 function renderChecks(report) {
-  document.getElementById('em-checks-body').replaceChildren(...report.checks.map((check) =>
-    el('tr', { 'data-rule-id': check.ruleId, 'data-outcome': check.outcome },
-      el('td', {}, check.ruleId),
-      el('td', {}, check.explanation),
-      el('td', {}, check.severity),
-      el('td', { class: `em-outcome-${check.outcome}${check.passed ? ' em-outcome-met' : ''}` }, outcomeText(check)))));
+  document
+    .getElementById('em-checks-body')
+    .replaceChildren(
+      ...report.checks.map((check) =>
+        el(
+          'tr',
+          { 'data-rule-id': check.ruleId, 'data-outcome': check.outcome },
+          el('td', {}, check.ruleId),
+          el('td', {}, check.explanation),
+          el('td', {}, check.severity),
+          el(
+            'td',
+            { class: `em-outcome-${check.outcome}${check.passed ? ' em-outcome-met' : ''}` },
+            outcomeText(check),
+          ),
+        ),
+      ),
+    );
 }
 
 function renderSummary(report) {
   const s = report.summary;
   const items = [
-    ['Integrated', text(s.integratedLufs, 1, 'LUFS')], ['Loudness range', text(s.loudnessRangeLu, 1, 'LU')],
-    ['Max short-term', text(s.maxShortTermLufs, 1, 'LUFS')], ['Max momentary', text(s.maxMomentaryLufs, 1, 'LUFS')],
-    ['True peak', text(s.truePeakDbtp, 1, 'dBTP')], ['Sample peak', text(s.samplePeakDbfs, 1, 'dBFS')],
-    ['Duration', `${text(report.format.durationSeconds, 2, 's')}`], ['Format', `${report.format.sampleRate} Hz · ${report.format.channels} ch${report.format.bitsPerSample ? ` · ${report.format.bitsPerSample}-bit` : ''}`],
+    ['Integrated', text(s.integratedLufs, 1, 'LUFS')],
+    ['Loudness range', text(s.loudnessRangeLu, 1, 'LU')],
+    ['Max short-term', text(s.maxShortTermLufs, 1, 'LUFS')],
+    ['Max momentary', text(s.maxMomentaryLufs, 1, 'LUFS')],
+    ['True peak', text(s.truePeakDbtp, 1, 'dBTP')],
+    ['Sample peak', text(s.samplePeakDbfs, 1, 'dBFS')],
+    ['Duration', `${text(report.format.durationSeconds, 2, 's')}`],
+    [
+      'Format',
+      `${report.format.sampleRate} Hz · ${report.format.channels} ch${report.format.bitsPerSample ? ` · ${report.format.bitsPerSample}-bit` : ''}`,
+    ],
   ];
-  if (report.correction) items.push(['Gain to target', `${text(report.correction.gainDb, 1, 'dB')}${report.correction.exceedsCeiling ? ' (needs a limiter)' : ''}`]);
-  document.getElementById('em-metrics').replaceChildren(...items.map(([label, value]) => el('div', {}, el('dt', {}, label), el('dd', {}, value))));
+  if (report.correction)
+    items.push([
+      'Gain to target',
+      `${text(report.correction.gainDb, 1, 'dB')}${report.correction.exceedsCeiling ? ' (needs a limiter)' : ''}`,
+    ]);
+  document
+    .getElementById('em-metrics')
+    .replaceChildren(...items.map(([label, value]) => el('div', {}, el('dt', {}, label), el('dd', {}, value))));
 }
 
 function flagItem(flag, index) {
   const messageId = `em-flag-message-${index}`;
-  return el('li', { 'data-flag-index': String(index), 'data-severity': flag.severity, class: `em-flag-item em-flag-item-${flag.severity}` },
-    el('div', { class: 'em-flag-row' },
-      el('button', { type: 'button', class: 'em-flag-go', onclick: () => moveCursor(flag, index), 'aria-describedby': flag.message ? messageId : null },
-        el('span', { class: 'em-flag-head' },
-          el('span', { class: 'em-flag-number' }, `#${flag.number}`), ' ',
-          el('span', { class: `em-sev em-sev-badge-${flag.severity}` }, flag.severity), ' ',
-          el('span', { class: `em-swatch em-swatch-${flag.kind}`, 'aria-hidden': 'true' }), ' ',
-          el('span', { class: 'em-flag-title' }, flag.title)),
+  return el(
+    'li',
+    {
+      'data-flag-index': String(index),
+      'data-severity': flag.severity,
+      class: `em-flag-item em-flag-item-${flag.severity}`,
+    },
+    el(
+      'div',
+      { class: 'em-flag-row' },
+      el(
+        'button',
+        {
+          type: 'button',
+          class: 'em-flag-go',
+          onclick: () => moveCursor(flag, index),
+          'aria-describedby': flag.message ? messageId : null,
+        },
+        el(
+          'span',
+          { class: 'em-flag-head' },
+          el('span', { class: 'em-flag-number' }, `#${flag.number}`),
+          ' ',
+          el('span', { class: `em-sev em-sev-badge-${flag.severity}` }, flag.severity),
+          ' ',
+          el('span', { class: `em-swatch em-swatch-${flag.kind}`, 'aria-hidden': 'true' }),
+          ' ',
+          el('span', { class: 'em-flag-title' }, flag.title),
+        ),
         ' ',
         el('span', { class: 'em-flag-facts' }, flagDetails(flag).join(' · ')),
-        el('span', { class: 'em-visually-hidden' }, ', show on the plot')),
-      el('button', { type: 'button', class: 'em-quiet em-listen', onclick: () => listen(flag), 'aria-label': `Listen to flag #${flag.number}, ${flag.title}, at ${flag.startTimecode}` }, 'Listen')),
-    flag.message ? el('p', { class: 'em-flag-message', id: messageId }, flag.message) : null);
+        el('span', { class: 'em-visually-hidden' }, ', show on the plot'),
+      ),
+      el(
+        'button',
+        {
+          type: 'button',
+          class: 'em-quiet em-listen',
+          onclick: () => listen(flag),
+          'aria-label': `Listen to flag #${flag.number}, ${flag.title}, at ${flag.startTimecode}`,
+        },
+        'Listen',
+      ),
+    ),
+    flag.message ? el('p', { class: 'em-flag-message', id: messageId }, flag.message) : null,
+  );
 }
 
 function renderFlags(report) {
   const list = document.getElementById('em-flags');
-  document.getElementById('em-flag-counts').textContent = `${flagCountsText(report)}${report.flagsTruncated ? ` (${report.flags.length} of ${report.flagsTotal} listed)` : ''}`;
-  if (report.flags.length === 0) { list.replaceChildren(el('li', { class: 'em-status' }, 'No time-located findings.')); return; }
+  document.getElementById('em-flag-counts').textContent =
+    `${flagCountsText(report)}${report.flagsTruncated ? ` (${report.flags.length} of ${report.flagsTotal} listed)` : ''}`;
+  if (report.flags.length === 0) {
+    list.replaceChildren(el('li', { class: 'em-status' }, 'No time-located findings.'));
+    return;
+  }
   list.replaceChildren(...report.flags.map((raw, index) => flagItem(flagView(raw, index), index)));
-  if (report.flagsTruncated) list.append(el('li', { class: 'em-status' }, `${report.flagsTotal - report.flags.length} more flags not listed.`));
+  if (report.flagsTruncated)
+    list.append(el('li', { class: 'em-status' }, `${report.flagsTotal - report.flags.length} more flags not listed.`));
 }
 
 async function load() {
@@ -137,11 +220,20 @@ async function load() {
       setTimeout(load, 2000);
       return;
     }
-    const [report, plot] = await Promise.all([api(`/v1/jobs/${encodeURIComponent(jobId)}/report`).then((r) => r.json()), api(`/v1/jobs/${encodeURIComponent(jobId)}/plot.svg`).then((r) => r.text())]);
-    if (report.headline) showHeadline(report.headline, report.verdict, headlineNamesVerdict(report.headline, report.verdict) ? null : report.verdict);
+    const [report, plot] = await Promise.all([
+      api(`/v1/jobs/${encodeURIComponent(jobId)}/report`).then((r) => r.json()),
+      api(`/v1/jobs/${encodeURIComponent(jobId)}/plot.svg`).then((r) => r.text()),
+    ]);
+    if (report.headline)
+      showHeadline(
+        report.headline,
+        report.verdict,
+        headlineNamesVerdict(report.headline, report.verdict) ? null : report.verdict,
+      );
     renderIntegrity(report);
     document.getElementById('em-file').textContent = report.file?.name ?? job.id;
-    document.getElementById('em-profile').textContent = `${report.profile.name} (${report.profile.id} v${report.profile.version})`;
+    document.getElementById('em-profile').textContent =
+      `${report.profile.name} (${report.profile.id} v${report.profile.version})`;
     document.getElementById('em-verdict').replaceChildren(verdictBadge(report.verdict, true));
     document.getElementById('em-plot').innerHTML = plot;
     renderSummary(report);

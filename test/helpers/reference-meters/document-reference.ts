@@ -25,12 +25,19 @@ const SERIES_TOLERANCE = 0.005 + 1e-9;
 const CLIP_THRESHOLD_DBFS = -0.01;
 const CLIP_MIN_RUN = 3;
 
-function near(actual: number | null | undefined, expected: number | null | undefined, tolerance: number, path: string): void {
+function near(
+  actual: number | null | undefined,
+  expected: number | null | undefined,
+  tolerance: number,
+  path: string,
+): void {
   if (expected === null || expected === undefined || actual === null || actual === undefined) {
     expect(actual, path).toBe(expected);
     return;
   }
-  expect(Math.abs(actual - expected), `${path}: ${actual} against reference ${expected}`).toBeLessThanOrEqual(tolerance);
+  expect(Math.abs(actual - expected), `${path}: ${actual} against reference ${expected}`).toBeLessThanOrEqual(
+    tolerance,
+  );
 }
 
 const toDb = (linear: number) => (linear > 0 ? 20 * Math.log10(linear) : null);
@@ -40,14 +47,19 @@ type Expected = Omit<Event, 'startSeconds' | 'endSeconds' | 'kind'>;
 
 /** One kind's events, document against reference: frames, channels and counts exact, peaks within tolerance. */
 function sameEvents(doc: AnalysisDocument, kind: Event['kind'], expected: Expected[], rate: number): void {
-  const order = (a: Expected, b: Expected) => a.startFrame - b.startFrame || (a.channel ?? -1) - (b.channel ?? -1) || a.endFrame - b.endFrame;
+  const order = (a: Expected, b: Expected) =>
+    a.startFrame - b.startFrame || (a.channel ?? -1) - (b.channel ?? -1) || a.endFrame - b.endFrame;
   const actual = doc.events.filter((e) => e.kind === kind).sort(order);
   const want = [...expected].sort(order);
-  const describe = (e: Expected) => `${e.channel}/${e.otherChannel ?? '-'} ${e.startFrame}-${e.endFrame} x${e.count ?? '-'}`;
+  const describe = (e: Expected) =>
+    `${e.channel}/${e.otherChannel ?? '-'} ${e.startFrame}-${e.endFrame} x${e.count ?? '-'}`;
   expect(actual.map(describe), `${kind} events`).toEqual(want.map(describe));
   actual.forEach((e, i) => {
     near(e.peakValue, want[i].peakValue, LEVEL_TOLERANCE, `${kind} event ${i} peakValue`);
-    expect([e.startSeconds, e.endSeconds], `${kind} event ${i} seconds`).toEqual([e.startFrame / rate, e.endFrame / rate]);
+    expect([e.startSeconds, e.endSeconds], `${kind} event ${i} seconds`).toEqual([
+      e.startFrame / rate,
+      e.endFrame / rate,
+    ]);
   });
   expect(doc.eventCounts[kind], `eventCounts.${kind}`).toBe(expected.length > 0 ? expected.length : undefined);
 }
@@ -55,7 +67,10 @@ function sameEvents(doc: AnalysisDocument, kind: Event['kind'], expected: Expect
 /** The reported peak position: some channel reads the programme peak at that frame. */
 function peakPlace(reading: PeakReading, atSeconds: number | null, rate: number, path: string): void {
   const peak = Math.max(0, ...reading.channelPeaks);
-  if (peak === 0) { expect(atSeconds, path).toBeNull(); return; }
+  if (peak === 0) {
+    expect(atSeconds, path).toBeNull();
+    return;
+  }
   const frame = Math.round((atSeconds ?? Number.NaN) * rate);
   const best = Math.max(...reading.channelPeaks.map((_, c) => reading.readingAt(c, frame)));
   near(best / peak, 1, LEVEL_TOLERANCE, `${path} (frame ${frame})`);
@@ -64,7 +79,12 @@ function peakPlace(reading: PeakReading, atSeconds: number | null, rate: number,
 export type ReferenceReadings = ReturnType<typeof referenceReadings>;
 
 /** Every reference reading of a stream, computed once for the documents that read it. */
-export function referenceReadings(channels: Float32Array[], labels: readonly string[], rate: number, settings: ReferenceSettings) {
+export function referenceReadings(
+  channels: Float32Array[],
+  labels: readonly string[],
+  rate: number,
+  settings: ReferenceSettings,
+) {
   return {
     frames: channels[0].length,
     loudness: referenceLoudness(channels, labels, rate, settings.loudness),
@@ -79,7 +99,11 @@ export function referenceReadings(channels: Float32Array[], labels: readonly str
   };
 }
 
-export function expectDocumentMatchesReferences(doc: AnalysisDocument, reference: ReferenceReadings, settings: ReferenceSettings): void {
+export function expectDocumentMatchesReferences(
+  doc: AnalysisDocument,
+  reference: ReferenceReadings,
+  settings: ReferenceSettings,
+): void {
   const rate = doc.format.sampleRate;
   const labels = doc.format.channelLabels;
   const { frames, loudness, truePeak, reconstructed, levels, clipping, silence, dropouts, relations } = reference;
@@ -96,10 +120,19 @@ export function expectDocumentMatchesReferences(doc: AnalysisDocument, reference
   near(s.maxShortTermLufs, loudness.maxShortTermLufs, LEVEL_TOLERANCE, 'maxShortTermLufs');
   // Where a maximum is: the window ending there reads the maximum (equal windows may tie).
   for (const [value, at, seconds, path] of [
-    [s.maxMomentaryLufs, s.maxMomentaryAtSeconds, 0.4, 'maxMomentaryAtSeconds'], [s.maxShortTermLufs, s.maxShortTermAtSeconds, 3, 'maxShortTermAtSeconds'],
+    [s.maxMomentaryLufs, s.maxMomentaryAtSeconds, 0.4, 'maxMomentaryAtSeconds'],
+    [s.maxShortTermLufs, s.maxShortTermAtSeconds, 3, 'maxShortTermAtSeconds'],
   ] as const) {
-    if (value === null) { expect(at, path).toBeNull(); continue; }
-    near(loudness.windowLufs(Math.round((at ?? Number.NaN) * rate), Math.round(seconds * rate)), value, LEVEL_TOLERANCE, path);
+    if (value === null) {
+      expect(at, path).toBeNull();
+      continue;
+    }
+    near(
+      loudness.windowLufs(Math.round((at ?? Number.NaN) * rate), Math.round(seconds * rate)),
+      value,
+      LEVEL_TOLERANCE,
+      path,
+    );
   }
   const series = (values: number[]) => values.map((v) => (Number.isNaN(v) ? null : v));
   const momentary = series(loudness.momentary);
@@ -109,17 +142,30 @@ export function expectDocumentMatchesReferences(doc: AnalysisDocument, reference
   doc.series.momentary.lufs.forEach((v, i) => near(v, momentary[i], SERIES_TOLERANCE, `momentary[${i}]`));
   doc.series.shortTerm.lufs.forEach((v, i) => near(v, shortTerm[i], SERIES_TOLERANCE, `shortTerm[${i}]`));
   for (const kind of ['loud_momentary', 'loud_short_term'] as const) {
-    sameEvents(doc, kind, loudness.events.filter((e) => e.kind === kind).map((e) => ({ ...e, channel: null })), rate);
+    sameEvents(
+      doc,
+      kind,
+      loudness.events.filter((e) => e.kind === kind).map((e) => ({ ...e, channel: null })),
+      rate,
+    );
   }
 
   // Peaks.
   near(s.truePeakDbtp, toDb(Math.max(0, ...truePeak.channelPeaks)), LEVEL_TOLERANCE, 'truePeakDbtp');
-  near(s.reconstructedPeakDbtp, toDb(Math.max(0, ...reconstructed.channelPeaks)), LEVEL_TOLERANCE, 'reconstructedPeakDbtp');
+  near(
+    s.reconstructedPeakDbtp,
+    toDb(Math.max(0, ...reconstructed.channelPeaks)),
+    LEVEL_TOLERANCE,
+    'reconstructedPeakDbtp',
+  );
   peakPlace(truePeak, s.truePeakAtSeconds, rate, 'truePeakAtSeconds');
   peakPlace(reconstructed, s.reconstructedPeakAtSeconds, rate, 'reconstructedPeakAtSeconds');
   sameEvents(doc, 'true_peak_over', truePeak.overs, rate);
   sameEvents(doc, 'reconstructed_over', reconstructed.overs, rate);
-  expect([s.truePeakOvers, s.reconstructedOvers], 'over counts').toEqual([truePeak.overs.length, reconstructed.overs.length]);
+  expect([s.truePeakOvers, s.reconstructedOvers], 'over counts').toEqual([
+    truePeak.overs.length,
+    reconstructed.overs.length,
+  ]);
 
   // Levels and time-weighted levels.
   near(s.samplePeakDbfs, toDb(Math.max(0, ...levels.map((l) => l.samplePeak))), LEVEL_TOLERANCE, 'samplePeakDbfs');
@@ -131,14 +177,26 @@ export function expectDocumentMatchesReferences(doc: AnalysisDocument, reference
   sameEvents(doc, 'clipping', clipping, rate);
   sameEvents(doc, 'silence', silence.events, rate);
   sameEvents(doc, 'dropout', dropouts, rate);
-  expect({
-    clippingRuns: s.clippingRuns, clippedSamples: s.clippedSamples, dropouts: s.dropouts, allChannelDropouts: s.allChannelDropouts,
-    headSilenceSeconds: s.headSilenceSeconds, tailSilenceSeconds: s.tailSilenceSeconds, allSilent: s.allSilent,
-    longestInternalGapSeconds: s.longestInternalGapSeconds,
-  }, 'run summary').toEqual({
-    clippingRuns: clipping.length, clippedSamples: clipping.reduce((n, e) => n + e.endFrame - e.startFrame, 0),
-    dropouts: dropouts.length, allChannelDropouts: dropouts.filter((e) => e.channel === null).length,
-    headSilenceSeconds: silence.headFrames / rate, tailSilenceSeconds: silence.tailFrames / rate, allSilent: silence.allSilent,
+  expect(
+    {
+      clippingRuns: s.clippingRuns,
+      clippedSamples: s.clippedSamples,
+      dropouts: s.dropouts,
+      allChannelDropouts: s.allChannelDropouts,
+      headSilenceSeconds: s.headSilenceSeconds,
+      tailSilenceSeconds: s.tailSilenceSeconds,
+      allSilent: s.allSilent,
+      longestInternalGapSeconds: s.longestInternalGapSeconds,
+    },
+    'run summary',
+  ).toEqual({
+    clippingRuns: clipping.length,
+    clippedSamples: clipping.reduce((n, e) => n + e.endFrame - e.startFrame, 0),
+    dropouts: dropouts.length,
+    allChannelDropouts: dropouts.filter((e) => e.channel === null).length,
+    headSilenceSeconds: silence.headFrames / rate,
+    tailSilenceSeconds: silence.tailFrames / rate,
+    allSilent: silence.allSilent,
     longestInternalGapSeconds: silence.longestGapFrames / rate,
   });
 
@@ -153,7 +211,12 @@ export function expectDocumentMatchesReferences(doc: AnalysisDocument, reference
     near(actualMin, minWindowCorrelation, LEVEL_TOLERANCE, `pair ${k} minWindowCorrelation`);
   });
   for (const kind of ['dead_channel', 'duplicate_channel', 'inverted_channel', 'phase_problem'] as const) {
-    sameEvents(doc, kind, relations.events.filter((e) => e.kind === kind), rate);
+    sameEvents(
+      doc,
+      kind,
+      relations.events.filter((e) => e.kind === kind),
+      rate,
+    );
   }
 
   // Per channel.
@@ -178,12 +241,27 @@ export function expectDocumentMatchesReferences(doc: AnalysisDocument, reference
     near(ch.dcOffset, l.dcOffset, 1e-12, `${path} dcOffset`);
     const mine = (events: RunEvent[]) => events.filter((e) => e.channel === c);
     const frameSum = (events: RunEvent[]) => events.reduce((n, e) => n + e.endFrame - e.startFrame, 0);
-    expect({
-      index: ch.index, label: ch.label, clippingRuns: ch.clippingRuns, clippedSamples: ch.clippedSamples, dropouts: ch.dropouts,
-      droppedSeconds: ch.droppedSeconds, silentSeconds: ch.silentSeconds, dead: ch.dead,
-    }, path).toEqual({
-      index: c, label: labels[c], clippingRuns: mine(clipping).length, clippedSamples: frameSum(mine(clipping)), dropouts: mine(dropouts).length,
-      droppedSeconds: frameSum(mine(dropouts)) / rate, silentSeconds: silence.silentFrames[c] / rate, dead: relations.deadChannels.includes(c),
+    expect(
+      {
+        index: ch.index,
+        label: ch.label,
+        clippingRuns: ch.clippingRuns,
+        clippedSamples: ch.clippedSamples,
+        dropouts: ch.dropouts,
+        droppedSeconds: ch.droppedSeconds,
+        silentSeconds: ch.silentSeconds,
+        dead: ch.dead,
+      },
+      path,
+    ).toEqual({
+      index: c,
+      label: labels[c],
+      clippingRuns: mine(clipping).length,
+      clippedSamples: frameSum(mine(clipping)),
+      dropouts: mine(dropouts).length,
+      droppedSeconds: frameSum(mine(dropouts)) / rate,
+      silentSeconds: silence.silentFrames[c] / rate,
+      dead: relations.deadChannels.includes(c),
     });
   });
 
@@ -196,7 +274,18 @@ export function expectDocumentMatchesReferences(doc: AnalysisDocument, reference
     dropouts: { minDurationSeconds: 0.001 },
   });
   // Every kind the document counts is among those compared above.
-  const checked = new Set(['loud_momentary', 'loud_short_term', 'true_peak_over', 'reconstructed_over', 'clipping', 'silence', 'dropout',
-    'dead_channel', 'duplicate_channel', 'inverted_channel', 'phase_problem']);
+  const checked = new Set([
+    'loud_momentary',
+    'loud_short_term',
+    'true_peak_over',
+    'reconstructed_over',
+    'clipping',
+    'silence',
+    'dropout',
+    'dead_channel',
+    'duplicate_channel',
+    'inverted_channel',
+    'phase_problem',
+  ]);
   for (const kind of Object.keys(doc.eventCounts)) expect(checked.has(kind), `event kind ${kind}`).toBe(true);
 }

@@ -8,22 +8,31 @@ import { DROPOUT_DEFAULTS, referenceDropouts } from './run-reference.ts';
 export class DropoutMeter implements Meter<DropoutResult> {
   private readonly blocks: Float32Array[][] = [];
 
-  constructor(private readonly info: StreamInfo, private readonly options: DropoutOptions = {}) {}
+  constructor(
+    private readonly info: StreamInfo,
+    private readonly options: DropoutOptions = {},
+  ) {}
 
   push(block: PcmBlock): void {
     this.blocks.push(block.channelData.map((x) => x.slice(0, block.frames)));
   }
 
   result(): DropoutResult {
-    const o = this.options, rate = this.info.sampleRate;
+    const o = this.options,
+      rate = this.info.sampleRate;
     const channels = Array.from({ length: this.info.channels }, (_, c) => {
       const out = new Float32Array(this.blocks.reduce((n, b) => n + b[c].length, 0));
-      this.blocks.reduce((at, b) => { out.set(b[c], at); return at + b[c].length; }, 0);
+      this.blocks.reduce((at, b) => {
+        out.set(b[c], at);
+        return at + b[c].length;
+      }, 0);
       return out;
     });
     const found = referenceDropouts(channels, rate, {
-      minSeconds: o.minDurationSeconds ?? DROPOUT_DEFAULTS.minSeconds, maxSeconds: o.maxDurationSeconds ?? DROPOUT_DEFAULTS.maxSeconds,
-      thresholdDbfs: o.thresholdDbfs ?? DROPOUT_DEFAULTS.thresholdDbfs, minDropDb: o.minDropDb ?? DROPOUT_DEFAULTS.minDropDb,
+      minSeconds: o.minDurationSeconds ?? DROPOUT_DEFAULTS.minSeconds,
+      maxSeconds: o.maxDurationSeconds ?? DROPOUT_DEFAULTS.maxSeconds,
+      thresholdDbfs: o.thresholdDbfs ?? DROPOUT_DEFAULTS.thresholdDbfs,
+      minDropDb: o.minDropDb ?? DROPOUT_DEFAULTS.minDropDb,
       maxFadeDb: o.maxFadeDb ?? DROPOUT_DEFAULTS.maxFadeDb,
     }).sort((a, b) => a.startFrame - b.startFrame || (a.channel ?? -1) - (b.channel ?? -1));
     const totals = (channel: number | null) => {
@@ -36,8 +45,14 @@ export class DropoutMeter implements Meter<DropoutResult> {
       minDurationSeconds: o.minDurationSeconds ?? DROPOUT_DEFAULTS.minSeconds,
       channels: channels.map((_, c) => ({ channel: c, ...totals(c) })),
       all: totals(null),
-      events: kept.map((e) => ({ kind: 'dropout' as const, ...e, startSeconds: e.startFrame / rate, endSeconds: e.endFrame / rate })),
+      events: kept.map((e) => ({
+        kind: 'dropout' as const,
+        ...e,
+        startSeconds: e.startFrame / rate,
+        endSeconds: e.endFrame / rate,
+      })),
       eventsTotal: found.length,
+      eventsByKind: found.length ? { dropout: found.length } : {},
       eventsTruncated: found.length > kept.length,
     };
   }

@@ -20,8 +20,14 @@ export interface ChannelLevels {
 }
 
 export function referenceLevels(x: Float32Array): ChannelLevels {
-  let peak = 0, sum = 0, sumSquares = 0;
-  for (const v of x) { peak = Math.max(peak, Math.abs(v)); sum += v; sumSquares += v * v; }
+  let peak = 0,
+    sum = 0,
+    sumSquares = 0;
+  for (const v of x) {
+    peak = Math.max(peak, Math.abs(v));
+    sum += v;
+    sumSquares += v * v;
+  }
   const meanSquare = x.length > 0 ? sumSquares / x.length : 0;
   const dcOffset = x.length > 0 ? sum / x.length : 0;
   const rmsDbfs = db10(meanSquare);
@@ -42,11 +48,16 @@ export function programmeRmsDbfs(levels: ChannelLevels[]): number | null {
   return db10(levels.reduce((s, l) => s + l.meanSquare, 0) / Math.max(1, levels.length));
 }
 
-export interface TimeWeightedMaxima { maxFastDbfs: number | null; maxSlowDbfs: number | null; maxVuDbfs: number | null }
+export interface TimeWeightedMaxima {
+  maxFastDbfs: number | null;
+  maxSlowDbfs: number | null;
+  maxVuDbfs: number | null;
+}
 
 /** t / tau where the critically damped step response 1 - (1 + t/tau) e^(-t/tau) reaches 99 %, by bisection. */
 function ninetyNinePercentRatio(): number {
-  let low = 1, high = 20;
+  let low = 1,
+    high = 20;
   for (let i = 0; i < 200; i++) {
     const middle = (low + high) / 2;
     if (1 - (1 + middle) * Math.exp(-middle) < 0.99) low = middle;
@@ -57,14 +68,28 @@ function ninetyNinePercentRatio(): number {
 
 export function referenceTimeWeighted(x: Float32Array, sampleRate: number): TimeWeightedMaxima {
   const gain = (tauSeconds: number) => 1 - Math.exp(-1 / (tauSeconds * sampleRate));
-  const bf = gain(0.125), bs = gain(1), bv = gain(0.3 / ninetyNinePercentRatio());
-  let fast = 0, slow = 0, vu1 = 0, vu2 = 0, maxFast = 0, maxSlow = 0, maxVu = 0;
+  const bf = gain(0.125),
+    bs = gain(1),
+    bv = gain(0.3 / ninetyNinePercentRatio());
+  let fast = 0,
+    slow = 0,
+    vu1 = 0,
+    vu2 = 0,
+    maxFast = 0,
+    maxSlow = 0,
+    maxVu = 0;
   for (const v of x) {
     fast += bf * (v * v - fast);
     slow += bs * (v * v - slow);
     vu1 += bv * (Math.abs(v) - vu1);
     vu2 += bv * (vu1 - vu2);
-    maxFast = Math.max(maxFast, fast); maxSlow = Math.max(maxSlow, slow); maxVu = Math.max(maxVu, vu2);
+    maxFast = Math.max(maxFast, fast);
+    maxSlow = Math.max(maxSlow, slow);
+    maxVu = Math.max(maxVu, vu2);
   }
-  return { maxFastDbfs: db10(maxFast), maxSlowDbfs: db10(maxSlow), maxVuDbfs: db20(maxVu * (Math.PI / (2 * Math.SQRT2))) };
+  return {
+    maxFastDbfs: db10(maxFast),
+    maxSlowDbfs: db10(maxSlow),
+    maxVuDbfs: db20(maxVu * (Math.PI / (2 * Math.SQRT2))),
+  };
 }

@@ -9,14 +9,22 @@ import { gridPhaseKernels, REFINEMENT_CAP } from '../../../src/analysis/reconstr
  * phase p is tap 4k + p). Phases 2 and 3 are phases 1 and 0 reversed (the filter is linear phase).
  */
 export const ANNEX2_PHASES: readonly (readonly number[])[] = [
-  [0.0017089843750, 0.0109863281250, -0.0196533203125, 0.0332031250000, -0.0594482421875, 0.1373291015625,
-    0.9721679687500, -0.1022949218750, 0.0476074218750, -0.0266113281250, 0.0148925781250, -0.0083007812500],
-  [-0.0291748046875, 0.0292968750000, -0.0517578125000, 0.0891113281250, -0.1665039062500, 0.4650878906250,
-    0.7797851562500, -0.2003173828125, 0.1015625000000, -0.0582275390625, 0.0330810546875, -0.0189208984375],
-  [-0.0189208984375, 0.0330810546875, -0.0582275390625, 0.1015625000000, -0.2003173828125, 0.7797851562500,
-    0.4650878906250, -0.1665039062500, 0.0891113281250, -0.0517578125000, 0.0292968750000, -0.0291748046875],
-  [-0.0083007812500, 0.0148925781250, -0.0266113281250, 0.0476074218750, -0.1022949218750, 0.9721679687500,
-    0.1373291015625, -0.0594482421875, 0.0332031250000, -0.0196533203125, 0.0109863281250, 0.0017089843750],
+  [
+    0.001708984375, 0.010986328125, -0.0196533203125, 0.033203125, -0.0594482421875, 0.1373291015625, 0.97216796875,
+    -0.102294921875, 0.047607421875, -0.026611328125, 0.014892578125, -0.00830078125,
+  ],
+  [
+    -0.0291748046875, 0.029296875, -0.0517578125, 0.089111328125, -0.16650390625, 0.465087890625, 0.77978515625,
+    -0.2003173828125, 0.1015625, -0.0582275390625, 0.0330810546875, -0.0189208984375,
+  ],
+  [
+    -0.0189208984375, 0.0330810546875, -0.0582275390625, 0.1015625, -0.2003173828125, 0.77978515625, 0.465087890625,
+    -0.16650390625, 0.089111328125, -0.0517578125, 0.029296875, -0.0291748046875,
+  ],
+  [
+    -0.00830078125, 0.014892578125, -0.026611328125, 0.047607421875, -0.102294921875, 0.97216796875, 0.1373291015625,
+    -0.0594482421875, 0.033203125, -0.0196533203125, 0.010986328125, 0.001708984375,
+  ],
 ];
 
 /** Input samples between an interpolated value and the input sample that completes it (half the 12 taps). */
@@ -35,17 +43,32 @@ export function annex2Interpolated(x: Float32Array): Float64Array {
   return out;
 }
 
-export interface OverEvent { channel: number; startFrame: number; endFrame: number; peakValue: number; count: number }
+export interface OverEvent {
+  channel: number;
+  startFrame: number;
+  endFrame: number;
+  peakValue: number;
+  count: number;
+}
 
 /**
  * Overs of one channel: readings above the ceiling, at the frames given; an over at most
  * mergeFrames + 1 frames after the previous one joins its event (the meters' documented merge).
  */
-export function mergeOvers(channel: number, overs: [frame: number, linear: number][], mergeFrames: number): OverEvent[] {
+export function mergeOvers(
+  channel: number,
+  overs: [frame: number, linear: number][],
+  mergeFrames: number,
+): OverEvent[] {
   const events: OverEvent[] = [];
   let open: (OverEvent & { last: number; peak: number }) | null = null;
   for (const [frame, value] of overs) {
-    if (open && frame - open.last <= mergeFrames + 1) { open.last = frame; open.count++; open.peak = Math.max(open.peak, value); continue; }
+    if (open && frame - open.last <= mergeFrames + 1) {
+      open.last = frame;
+      open.count++;
+      open.peak = Math.max(open.peak, value);
+      continue;
+    }
     if (open) events.push(close(open));
     open = { channel, startFrame: frame, endFrame: frame + 1, peakValue: 0, count: 1, last: frame, peak: value };
   }
@@ -54,7 +77,13 @@ export function mergeOvers(channel: number, overs: [frame: number, linear: numbe
 }
 
 function close(open: OverEvent & { last: number; peak: number }): OverEvent {
-  return { channel: open.channel, startFrame: open.startFrame, endFrame: open.last + 1, peakValue: 20 * Math.log10(open.peak), count: open.count };
+  return {
+    channel: open.channel,
+    startFrame: open.startFrame,
+    endFrame: open.last + 1,
+    peakValue: 20 * Math.log10(open.peak),
+    count: open.count,
+  };
 }
 
 export interface PeakReading {
@@ -66,7 +95,12 @@ export interface PeakReading {
 }
 
 /** Annex 2 true peak. A sample's own value belongs to its frame; an interpolated value to ANNEX2_DELAY_FRAMES before the sample completing it. */
-export function referenceTruePeak(channels: Float32Array[], sampleRate: number, ceilingDbtp: number, mergeSeconds = 0.05): PeakReading {
+export function referenceTruePeak(
+  channels: Float32Array[],
+  sampleRate: number,
+  ceilingDbtp: number,
+  mergeSeconds = 0.05,
+): PeakReading {
   const ceiling = 10 ** (ceilingDbtp / 20);
   const interpolated = channels.map(annex2Interpolated);
   // Nothing is read after the last sample, so the last values interpolated are those it completes.
@@ -83,7 +117,8 @@ export function referenceTruePeak(channels: Float32Array[], sampleRate: number, 
     readingAt,
     overs: channels.flatMap((x, c) => {
       const overs: [number, number][] = [];
-      for (let n = 0; n < x.length; n++) if (reading(c, n) > ceiling) overs.push([Math.max(0, n - ANNEX2_DELAY_FRAMES), reading(c, n)]);
+      for (let n = 0; n < x.length; n++)
+        if (reading(c, n) > ceiling) overs.push([Math.max(0, n - ANNEX2_DELAY_FRAMES), reading(c, n)]);
       return mergeOvers(c, overs, mergeFrames);
     }),
   };
@@ -98,7 +133,8 @@ export function referenceTruePeak(channels: Float32Array[], sampleRate: number, 
  */
 export function reconstructedReadings(x: Float32Array): Float64Array {
   const kernels = gridPhaseKernels();
-  const frames = x.length, pad = 18;
+  const frames = x.length,
+    pad = 18;
   const padded = new Float64Array(frames + 2 * pad + 2);
   padded.set(x, pad);
   // grid[8 (n + 1) + q] holds the value at n + q/8, for n = -1 .. frames.
@@ -117,7 +153,8 @@ export function reconstructedReadings(x: Float32Array): Float64Array {
     for (let i = 8 * (n + 1); i < 8 * (n + 2); i++) {
       const [a, b, c] = [Math.abs(grid[i - 1]), Math.abs(grid[i]), Math.abs(grid[i + 1])];
       const curvature = 2 * b - a - c;
-      const value = b >= a && b >= c && curvature > 0 ? Math.min(b + (a - c) ** 2 / (8 * curvature), b * REFINEMENT_CAP) : b;
+      const value =
+        b >= a && b >= c && curvature > 0 ? Math.min(b + (a - c) ** 2 / (8 * curvature), b * REFINEMENT_CAP) : b;
       peak = Math.max(peak, value);
     }
     readings[n] = peak;
@@ -126,13 +163,24 @@ export function reconstructedReadings(x: Float32Array): Float64Array {
 }
 
 /** The reconstructed peak: frame n reads the band-limited waveform over [n, n + 1). */
-export function referenceReconstructedPeak(channels: Float32Array[], sampleRate: number, ceilingDbtp: number, mergeSeconds = 0.05): PeakReading {
+export function referenceReconstructedPeak(
+  channels: Float32Array[],
+  sampleRate: number,
+  ceilingDbtp: number,
+  mergeSeconds = 0.05,
+): PeakReading {
   const ceiling = 10 ** (ceilingDbtp / 20);
   const readings = channels.map(reconstructedReadings);
   const mergeFrames = Math.round(mergeSeconds * sampleRate);
   return {
     channelPeaks: readings.map((r) => r.reduce((m, v) => Math.max(m, v), 0)),
     readingAt: (c, f) => readings[c][f],
-    overs: readings.flatMap((r, c) => mergeOvers(c, [...r].flatMap((v, n): [number, number][] => (v > ceiling ? [[n, v]] : [])), mergeFrames)),
+    overs: readings.flatMap((r, c) =>
+      mergeOvers(
+        c,
+        [...r].flatMap((v, n): [number, number][] => (v > ceiling ? [[n, v]] : [])),
+        mergeFrames,
+      ),
+    ),
   };
 }

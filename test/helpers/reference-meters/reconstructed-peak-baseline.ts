@@ -7,7 +7,12 @@
 import type { Meter, PcmBlock, StreamInfo } from '../../../src/analysis/audio.ts';
 import type { AnalysisEvent } from '../../../src/analysis/events.ts';
 import {
-  HALF_SAMPLE_TAPS, REFINEMENT_CAP, STAGE2_HALF_WIDTH, quarterPhaseTaps, type ReconstructedPeakOptions, type ReconstructedPeakResult,
+  HALF_SAMPLE_TAPS,
+  REFINEMENT_CAP,
+  STAGE2_HALF_WIDTH,
+  quarterPhaseTaps,
+  type ReconstructedPeakOptions,
+  type ReconstructedPeakResult,
 } from '../../../src/analysis/reconstructed-peak.ts';
 import { mergeOvers } from './peak-reference.ts';
 
@@ -23,7 +28,8 @@ const h = [0, 1, 2, 3].map((k) => g2[w + 1 + k]);
 
 /** Frame n's reading: the largest of its eight grid values n + q/8, each local maximum raised by a capped parabola. */
 export function baselineReadings(samples: Float32Array): Float64Array {
-  const frames = samples.length, pad = 20;
+  const frames = samples.length,
+    pad = 20;
   const x = new Float64Array(frames + 2 * pad); // zeros outside the stream
   x.set(samples, pad);
   const u = new Float64Array(frames + 2 * pad);
@@ -34,8 +40,15 @@ export function baselineReadings(samples: Float32Array): Float64Array {
   }
   /** Grid values at e + 1/8 .. e + 7/8 (padded index e) but the half-way sample u[e]. */
   const quarters = (e: number) => {
-    const x0 = x[e - 1], x1 = x[e], x2 = x[e + 1], x3 = x[e + 2];
-    const ua = u[e - 2], ub = u[e - 1], uc = u[e], ud = u[e + 1], ue = u[e + 2];
+    const x0 = x[e - 1],
+      x1 = x[e],
+      x2 = x[e + 1],
+      x3 = x[e + 2];
+    const ua = u[e - 2],
+      ub = u[e - 1],
+      uc = u[e],
+      ud = u[e + 1],
+      ue = u[e + 2];
     const sa = s[0] * (uc + x1) + s[1] * (x2 + ub) + s[2] * (ud + x0) + s[3] * (x3 + ua);
     const da = d[0] * (uc - x1) + d[1] * (x2 - ub) + d[2] * (ud - x0) + d[3] * (x3 - ua);
     const ya = h[0] * (uc + x1) + h[1] * (x2 + ub) + h[2] * (ud + x0) + h[3] * (x3 + ua);
@@ -53,7 +66,9 @@ export function baselineReadings(samples: Float32Array): Float64Array {
     const g = [previous, x[e], q1, q2, q3, u[e], q5, q6, q7, x[e + 1]];
     let peak = 0;
     for (let q = 1; q <= 8; q++) {
-      const a = Math.abs(g[q - 1]), b = Math.abs(g[q]), c = Math.abs(g[q + 1]);
+      const a = Math.abs(g[q - 1]),
+        b = Math.abs(g[q]),
+        c = Math.abs(g[q + 1]);
       let value = b;
       if (b >= a && b >= c) {
         const curvature = 2 * b - a - c;
@@ -71,7 +86,10 @@ export function baselineReadings(samples: Float32Array): Float64Array {
 export class ReconstructedPeakMeter implements Meter<ReconstructedPeakResult> {
   private readonly blocks: Float32Array[][] = [];
 
-  constructor(private readonly info: StreamInfo, private readonly options: ReconstructedPeakOptions = {}) {}
+  constructor(
+    private readonly info: StreamInfo,
+    private readonly options: ReconstructedPeakOptions = {},
+  ) {}
 
   push(block: PcmBlock): void {
     this.blocks.push(block.channelData.map((x) => x.slice(0, block.frames)));
@@ -82,21 +100,35 @@ export class ReconstructedPeakMeter implements Meter<ReconstructedPeakResult> {
     const ceilingDbtp = this.options.overCeilingDbtp ?? -1;
     const ceiling = 10 ** (ceilingDbtp / 20);
     const mergeFrames = Math.round((this.options.overMergeSeconds ?? 0.05) * rate);
-    const maxima: number[] = [], maxFrames: number[] = [];
+    const maxima: number[] = [],
+      maxFrames: number[] = [];
     const overs: AnalysisEvent[] = [];
     for (let c = 0; c < this.info.channels; c++) {
       const x = new Float32Array(this.blocks.reduce((n, b) => n + b[c].length, 0));
-      this.blocks.reduce((at, b) => { x.set(b[c], at); return at + b[c].length; }, 0);
+      this.blocks.reduce((at, b) => {
+        x.set(b[c], at);
+        return at + b[c].length;
+      }, 0);
       const readings = cachedReadings(x);
-      let max = 0, maxFrame = 0;
+      let max = 0,
+        maxFrame = 0;
       const over: [number, number][] = [];
       readings.forEach((v, n) => {
-        if (v > max) { max = v; maxFrame = n; }
+        if (v > max) {
+          max = v;
+          maxFrame = n;
+        }
         if (v > ceiling) over.push([n, v]);
       });
-      maxima.push(max); maxFrames.push(maxFrame);
+      maxima.push(max);
+      maxFrames.push(maxFrame);
       for (const e of mergeOvers(c, over, mergeFrames)) {
-        overs.push({ kind: 'reconstructed_over', ...e, startSeconds: e.startFrame / rate, endSeconds: e.endFrame / rate });
+        overs.push({
+          kind: 'reconstructed_over',
+          ...e,
+          startSeconds: e.startFrame / rate,
+          endSeconds: e.endFrame / rate,
+        });
       }
     }
     overs.sort((a, b) => a.startFrame - b.startFrame || (a.channel ?? 0) - (b.channel ?? 0));
@@ -112,6 +144,7 @@ export class ReconstructedPeakMeter implements Meter<ReconstructedPeakResult> {
       // Past the cap the earliest events are kept; the count goes on.
       events: overs.slice(0, this.options.maxEvents ?? 10_000),
       eventsTotal: overs.length,
+      eventsByKind: overs.length ? { reconstructed_over: overs.length } : {},
       eventsTruncated: overs.length > (this.options.maxEvents ?? 10_000),
       prunedFrames: 0,
     };

@@ -7,13 +7,20 @@
 import type { Meter, PcmBlock, StreamInfo } from '../../../src/analysis/audio.ts';
 import { EventLog } from '../../../src/analysis/events.ts';
 import {
-  gridPhaseKernels, REFINEMENT_CAP, RECONSTRUCTION_OVERSAMPLING,
-  type ReconstructedPeakOptions, type ReconstructedPeakResult,
+  gridPhaseKernels,
+  REFINEMENT_CAP,
+  RECONSTRUCTION_OVERSAMPLING,
+  type ReconstructedPeakOptions,
+  type ReconstructedPeakResult,
 } from '../../../src/analysis/reconstructed-peak.ts';
 
 function besselI0(x: number): number {
-  let sum = 1, term = 1;
-  for (let k = 1; k < 60; k++) { term *= (x / (2 * k)) ** 2; sum += term; }
+  let sum = 1,
+    term = 1;
+  for (let k = 1; k < 60; k++) {
+    term *= (x / (2 * k)) ** 2;
+    sum += term;
+  }
   return sum;
 }
 
@@ -21,15 +28,23 @@ function besselI0(x: number): number {
  * Largest |y(t)| for t = n + q/oversampling, 0 <= t < N, of y(t) = sum_k x[k] sinc(t - k) w(t - k)
  * (zeros outside the signal), and the frame n where it is first reached.
  */
-export function bandLimitedPeak(x: Float32Array | Float64Array, oversampling = 64, halfWidth = 128, beta = 10): { peak: number; frame: number } {
+export function bandLimitedPeak(
+  x: Float32Array | Float64Array,
+  oversampling = 64,
+  halfWidth = 128,
+  beta = 10,
+): { peak: number; frame: number } {
   const taps = 2 * halfWidth;
-  const table = Array.from({ length: oversampling }, (_, q) => Float64Array.from({ length: taps }, (_, i) => {
-    const t = q / oversampling + halfWidth - 1 - i; // distance from tap k = n - halfWidth + 1 + i
-    const r = t / halfWidth;
-    const sinc = t === 0 ? 1 : Math.sin(Math.PI * t) / (Math.PI * t);
-    return Math.abs(r) >= 1 ? 0 : sinc * besselI0(beta * Math.sqrt(1 - r * r)) / besselI0(beta);
-  }));
-  let peak = 0, frame = 0;
+  const table = Array.from({ length: oversampling }, (_, q) =>
+    Float64Array.from({ length: taps }, (_, i) => {
+      const t = q / oversampling + halfWidth - 1 - i; // distance from tap k = n - halfWidth + 1 + i
+      const r = t / halfWidth;
+      const sinc = t === 0 ? 1 : Math.sin(Math.PI * t) / (Math.PI * t);
+      return Math.abs(r) >= 1 ? 0 : (sinc * besselI0(beta * Math.sqrt(1 - r * r))) / besselI0(beta);
+    }),
+  );
+  let peak = 0,
+    frame = 0;
   for (let n = 0; n < x.length; n++) {
     for (let q = 0; q < oversampling; q++) {
       const h = table[q];
@@ -38,7 +53,10 @@ export function bandLimitedPeak(x: Float32Array | Float64Array, oversampling = 6
         const k = n - halfWidth + 1 + i;
         if (k >= 0 && k < x.length) y += h[i] * x[k];
       }
-      if (Math.abs(y) > peak) { peak = Math.abs(y); frame = n; }
+      if (Math.abs(y) > peak) {
+        peak = Math.abs(y);
+        frame = n;
+      }
     }
   }
   return { peak, frame };
@@ -63,7 +81,8 @@ export function frameReadings(x: Float32Array): Float64Array {
       const [a, b, c] = [Math.abs(g[q - 1]), Math.abs(g[q]), Math.abs(g[q + 1])];
       let value = b;
       // A local maximum: the vertex of the parabola through it and its neighbours, capped.
-      if (b >= a && b >= c && 2 * b - a - c > 0) value = Math.min(b + (a - c) ** 2 / (8 * (2 * b - a - c)), b * REFINEMENT_CAP);
+      if (b >= a && b >= c && 2 * b - a - c > 0)
+        value = Math.min(b + (a - c) ** 2 / (8 * (2 * b - a - c)), b * REFINEMENT_CAP);
       peak = Math.max(peak, value);
     }
     readings[n] = peak;
@@ -76,37 +95,61 @@ export class ReconstructedPeakMeter implements Meter<ReconstructedPeakResult> {
   private readonly ceilingDbtp: number;
   private readonly mergeFrames: number;
 
-  constructor(private readonly info: StreamInfo, private readonly options: ReconstructedPeakOptions = {}) {
+  constructor(
+    private readonly info: StreamInfo,
+    private readonly options: ReconstructedPeakOptions = {},
+  ) {
     this.samples = Array.from({ length: info.channels }, () => []);
     this.ceilingDbtp = options.overCeilingDbtp ?? -1;
     this.mergeFrames = Math.round((options.overMergeSeconds ?? 0.05) * info.sampleRate);
   }
 
   push(block: PcmBlock): void {
-    block.channelData.forEach((x, c) => { for (let i = 0; i < block.frames; i++) this.samples[c].push(x[i]); });
+    block.channelData.forEach((x, c) => {
+      for (let i = 0; i < block.frames; i++) this.samples[c].push(x[i]);
+    });
   }
 
   result(): ReconstructedPeakResult {
     const ceiling = Math.pow(10, this.ceilingDbtp / 20);
     const log = new EventLog(this.info.sampleRate, this.options.maxEvents);
-    const maxima: number[] = [], frames: number[] = [];
+    const maxima: number[] = [],
+      frames: number[] = [];
     this.samples.forEach((samples, channel) => {
       const readings = frameReadings(Float32Array.from(samples));
-      let max = 0, maxFrame = 0;
+      let max = 0,
+        maxFrame = 0;
       let open: { start: number; last: number; count: number; peak: number } | null = null;
       const close = () => {
-        if (open) log.add({ kind: 'reconstructed_over', channel, startFrame: open.start, endFrame: open.last + 1, peakValue: 20 * Math.log10(open.peak), count: open.count });
+        if (open)
+          log.add({
+            kind: 'reconstructed_over',
+            channel,
+            startFrame: open.start,
+            endFrame: open.last + 1,
+            peakValue: 20 * Math.log10(open.peak),
+            count: open.count,
+          });
         open = null;
       };
       readings.forEach((v, n) => {
-        if (v > max) { max = v; maxFrame = n; }
+        if (v > max) {
+          max = v;
+          maxFrame = n;
+        }
         if (v <= ceiling) return;
-        if (open && n - open.last <= this.mergeFrames + 1) { open.last = n; open.count++; open.peak = Math.max(open.peak, v); return; }
+        if (open && n - open.last <= this.mergeFrames + 1) {
+          open.last = n;
+          open.count++;
+          open.peak = Math.max(open.peak, v);
+          return;
+        }
         close();
         open = { start: n, last: n, count: 1, peak: v };
       });
       close();
-      maxima.push(max); frames.push(maxFrame);
+      maxima.push(max);
+      frames.push(maxFrame);
     });
     const toDb = (v: number) => (v > 0 ? 20 * Math.log10(v) : null);
     const best = maxima.reduce((b, v, c) => (v > maxima[b] ? c : b), 0);
@@ -118,6 +161,7 @@ export class ReconstructedPeakMeter implements Meter<ReconstructedPeakResult> {
       overCeilingDbtp: this.ceilingDbtp,
       events: [...log.events].sort((a, b) => a.startFrame - b.startFrame || (a.channel ?? 0) - (b.channel ?? 0)),
       eventsTotal: log.total,
+      eventsByKind: log.total ? { reconstructed_over: log.total } : {},
       eventsTruncated: log.truncated,
       prunedFrames: 0,
     };
