@@ -14,8 +14,15 @@ export type FromExcerptThread =
   | { type: 'done'; wav: Uint8Array; startSeconds: number; endSeconds: number; sampleRate: number; channels: number }
   | { type: 'error'; error: WireError };
 
-const { path, startSeconds, endSeconds } = workerData as ExcerptThreadData;
+function isExcerptThreadData(value: unknown): value is ExcerptThreadData {
+  if (!value || typeof value !== 'object') return false;
+  const v: Partial<Record<keyof ExcerptThreadData, unknown>> = value;
+  return typeof v.path === 'string' && Number.isFinite(v.startSeconds) && Number.isFinite(v.endSeconds);
+}
+
 try {
+  if (!isExcerptThreadData(workerData)) throw new Error('the excerpt thread was started without its span');
+  const { path, startSeconds, endSeconds } = workerData;
   const excerpt = await cutExcerpt(path, startSeconds, endSeconds);
   const message: FromExcerptThread = { type: 'done', ...excerpt };
   parentPort!.postMessage(message, [excerpt.wav.buffer as ArrayBuffer]);

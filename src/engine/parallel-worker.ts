@@ -29,9 +29,29 @@ function meterAll({ info, options, meters, ring: shape, reader }: MeterThreadDat
   return ring.cancelled ? null : runner.partialResult();
 }
 
+/** The parent builds this object; the check keeps a wrong start from reading a ring that is not one. */
+function isMeterThreadData(value: unknown): value is MeterThreadData {
+  if (!value || typeof value !== 'object') return false;
+  const v: Partial<Record<keyof MeterThreadData, unknown>> = value;
+  const ring: unknown = v.ring;
+  return (
+    !!v.info &&
+    typeof v.info === 'object' &&
+    !!v.options &&
+    typeof v.options === 'object' &&
+    Array.isArray(v.meters) &&
+    Number.isInteger(v.reader) &&
+    !!ring &&
+    typeof ring === 'object' &&
+    'buffer' in ring &&
+    ring.buffer instanceof SharedArrayBuffer
+  );
+}
+
 const port = parentPort!;
 try {
-  const result = meterAll(workerData as MeterThreadData);
+  if (!isMeterThreadData(workerData)) throw new Error('the meter thread was started without its ring and meters');
+  const result = meterAll(workerData);
   if (result) port.postMessage({ type: 'result', result } satisfies FromWorker);
 } catch (error) {
   port.postMessage({ type: 'error', error: toWireError(error) } satisfies FromWorker);

@@ -64,7 +64,9 @@ export class ProfileStore {
       this.redis.lindex(this.versionsKey(tenant, id), -1),
       this.redis.llen(this.versionsKey(tenant, id)),
     ]);
-    return last ? { profile: JSON.parse(last) as Profile, builtin: false, versions: count } : null;
+    return last
+      ? { profile: parseProfile(JSON.parse(last), `stored profile ${id}`), builtin: false, versions: count }
+      : null;
   }
 
   /** Validates (invalid_profile naming the field) and stores a new version. */
@@ -86,7 +88,7 @@ export class ProfileStore {
     const profile = parseProfile({ ...input, id, version: `${next}.0.0` });
     // Saving the same content again is not a new version: reports keep naming the one they used.
     if (last !== null) {
-      const previous = JSON.parse(last) as Profile;
+      const previous = parseProfile(JSON.parse(last), `stored profile ${id}`);
       if (sameContent(previous, profile)) {
         await this.redis.sadd(this.liveKey(tenant), id);
         return { profile: previous, builtin: false, versions: stored };
