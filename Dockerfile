@@ -2,7 +2,10 @@
 FROM node:20-bookworm-slim AS deps
 WORKDIR /app
 COPY package.json package-lock.json ./
-RUN npm ci --omit=dev --no-audit --no-fund
+# No lifecycle scripts here: `prepare` bundles src/, which this stage does not have (the runtime
+# stage builds the bundles below); the packages need none of theirs (esbuild finds its platform
+# binary package, msgpackr its prebuilt one).
+RUN npm ci --omit=dev --no-audit --no-fund --ignore-scripts
 
 FROM node:20-bookworm-slim AS runtime
 ENV NODE_ENV=production

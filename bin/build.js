@@ -1,7 +1,8 @@
 #!/usr/bin/env node
 // `npm run build`: bundles the CLI, the analysis and excerpt threads and the benchmark child into dist/*.mjs
 // (`node bin/build.js <folder>` for another folder). Packages stay external: node_modules is
-// resolved at run time as usual.
+// resolved at run time as usual. npm runs it as `prepare` after `npm ci` and `npm install`, so the
+// `earmark` command starts from the bundles on a fresh install (esbuild is a runtime dependency).
 import { build } from 'esbuild';
 import { existsSync } from 'node:fs';
 import { join, resolve } from 'node:path';
@@ -13,6 +14,11 @@ const outdir = process.argv[2] ? resolve(process.argv[2]) : DIST;
 const entries = Object.entries({ ...ENTRIES, 'excerpt-thread': 'src/engine/excerpt-thread.ts' }).filter(([, source]) =>
   existsSync(join(ROOT, source)),
 );
+// An install without the sources (a dependencies-only stage) has nothing to bundle.
+if (entries.length === 0) {
+  console.log('no sources to bundle');
+  process.exit(0);
+}
 await build({
   entryPoints: Object.fromEntries(entries.map(([name, source]) => [name, join(ROOT, source)])),
   outdir,
