@@ -3,6 +3,7 @@
 import { readSync } from 'node:fs';
 import { open, type FileHandle } from 'node:fs/promises';
 import { EarmarkError } from '../errors/index.ts';
+import type { ByteObserver } from './types.ts';
 
 export const DEFAULT_READ_BYTES = 1024 * 1024;
 
@@ -28,6 +29,7 @@ export class ByteReader {
   /** Source offset of the first byte not yet in the buffer. */
   private sourcePosition: number;
   private sourceEnded = false;
+  private observer: ByteObserver | null = null;
 
   private constructor(source: FileSource | StreamSource, startPosition: number, capacityBytes: number) {
     this.source = source;
@@ -48,6 +50,12 @@ export class ByteReader {
   static fromStream(stream: AsyncIterable<Uint8Array>, capacityBytes = DEFAULT_READ_BYTES): ByteReader {
     const iterator = stream[Symbol.asyncIterator]();
     return new ByteReader({ kind: 'stream', iterator, pending: null, pendingOffset: 0, done: false }, 0, capacityBytes);
+  }
+
+  /** Tells `observer` of every span read from the source from now on (skipped bytes are not read). */
+  observe(observer: ByteObserver | undefined): this {
+    this.observer = observer ?? null;
+    return this;
   }
 
   /** Largest request read()/peek() accept. */
@@ -155,6 +163,7 @@ export class ByteReader {
       // The service analyses in its own sandboxed process, so no server loop waits on it.
       const bytesRead = readSync(source.handle.fd, this.buffer, this.end, want, this.sourcePosition);
       if (bytesRead === 0) this.sourceEnded = true; // file shrank under us
+      this.observer?.(this.sourcePosition, this.buffer.subarray(this.end, this.end + bytesRead));
       this.end += bytesRead;
       this.sourcePosition += bytesRead;
       return;
@@ -165,6 +174,7 @@ export class ByteReader {
       return;
     }
     this.buffer.set(chunk, this.end);
+    this.observer?.(this.sourcePosition, chunk);
     this.end += chunk.length;
     this.sourcePosition += chunk.length;
   }

@@ -11,6 +11,7 @@ import {
   DEFAULT_MAX_DECODED_BYTES,
   DEFAULT_MAX_DECODED_SECONDS,
   type AudioFormat,
+  type ByteObserver,
   type Container,
   type DecodeOptions,
   type DecodedAudio,
@@ -110,7 +111,7 @@ async function openCompressed(
   );
   return {
     format,
-    blocks: decodeBlocks(path, compressed.slicer(p.channels), p, fileBytes, check),
+    blocks: decodeBlocks(path, compressed.slicer(p.channels), p, fileBytes, check, options.onBytes),
     warnings,
     get framesDecoded() {
       return check.framesOut;
@@ -124,6 +125,7 @@ async function* decodeBlocks(
   p: Probe,
   fileBytes: number,
   check: OutputCheck,
+  onBytes: ByteObserver | undefined,
 ): AsyncGenerator<PcmBlock> {
   const codec = await loadCodec(p.codec);
   const layout = p.mp4Layout;
@@ -140,6 +142,7 @@ async function* decodeBlocks(
     let fed = 0;
     if (layout) {
       const head = await readRange(path, 0, layout.firstMdat);
+      onBytes?.(0, head);
       const moov = await faststartMoov(path, layout);
       const first = new Uint8Array(head.length + moov.length);
       first.set(head);
@@ -149,8 +152,11 @@ async function* decodeBlocks(
     for (const [from, to] of ranges) {
       if (to <= from) continue;
       const stream = createReadStream(path, { start: from, end: to - 1, highWaterMark: INPUT_CHUNK_BYTES });
+      let position = from;
       try {
         for await (const chunk of stream as AsyncIterable<Buffer>) {
+          onBytes?.(position, chunk);
+          position += chunk.byteLength;
           fed += chunk.byteLength;
           const last = fed >= total;
           // Copy: fs Buffers may sit at any offset of a shared pool; decoders want a plain, own buffer.

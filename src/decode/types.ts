@@ -64,6 +64,9 @@ export interface SeekedAudio {
   method: 'pcm_offset' | 'flac_frame' | 'mp3_frame' | 'from_start';
 }
 
+/** Called with the file offset of each span of bytes a decoder reads, in the order read; the view is valid during the call. */
+export type ByteObserver = (position: number, bytes: Uint8Array) => void;
+
 export interface DecodeOptions {
   /** Largest block handed to meters (frames). Default 65536. */
   maxBlockFrames?: number;
@@ -80,6 +83,11 @@ export interface DecodeOptions {
    * declare or decode to days). Default DEFAULT_MAX_DECODED_SECONDS.
    */
   maxDecodedSeconds?: number;
+  /**
+   * Told of the bytes the decode reads from the file (headers and audio; not the out-of-order
+   * reads of probes and seeks), so a hash needs no second read (file-hash.ts).
+   */
+  onBytes?: ByteObserver;
 }
 
 export const DEFAULT_MAX_BLOCK_FRAMES = 65536;

@@ -1,4 +1,4 @@
-// One file, one pass: decode blocks and feed them to every meter, hashing the bytes alongside.
+// One file, one pass: decode blocks and feed them to every meter, hashing the bytes the decoder reads.
 
 import { createHash } from 'node:crypto';
 import { createReadStream } from 'node:fs';
@@ -8,6 +8,7 @@ import { setImmediate as nextTurn } from 'node:timers/promises';
 import { AnalysisRunner, type AnalysisOptions, type Measurements } from '../analysis/runner.ts';
 import { ParallelAnalysisRunner } from './parallel-runner.ts';
 import { openAudioFile } from '../decode/index.ts';
+import { FileHash } from '../decode/file-hash.ts';
 import { DEFAULT_MAX_BLOCK_FRAMES, type DecodeOptions } from '../decode/types.ts';
 import { EarmarkError } from '../errors/index.ts';
 import { buildAnalysisDocument, type AnalysisDocument } from './document.ts';
@@ -17,7 +18,7 @@ export interface AnalyzeFileOptions {
   decode?: DecodeOptions;
   /** Name to report instead of the path's base name (the service stores uploads under generated names). */
   displayName?: string;
-  /** Compute the file's SHA-256 (a second, cheap read of the bytes). Default true. */
+  /** Compute the file's SHA-256 (from the bytes decoding reads; see FileHash). Default true. */
   hash?: boolean;
   /** The file's SHA-256 as already known (the service hashed the upload as it stored it): reported, not recomputed. */
   knownSha256?: string;
@@ -34,18 +35,20 @@ async function sha256File(path: string): Promise<string> {
   return hash.digest('hex');
 }
 
+/** The digest from the decoder's reads; a file that changed while read is hashed again as it is now. */
+async function digest(fileHash: FileHash, path: string): Promise<string | undefined> {
+  const fromDecode = await fileHash.digest().catch(() => null);
+  return fromDecode ?? sha256File(path).catch(() => undefined);
+}
+
 export async function analyzeFile(path: string, options: AnalyzeFileOptions = {}): Promise<AnalysisDocument> {
   const started = performance.now();
-  const hashing =
-    options.knownSha256 !== undefined
-      ? Promise.resolve(options.knownSha256)
-      : options.hash === false
-        ? Promise.resolve(undefined)
-        : sha256File(path).catch(() => undefined);
+  const fileHash = options.knownSha256 === undefined && options.hash !== false ? new FileHash(path) : null;
   // With threads the decoder writes each block straight into the runner's shared ring.
   let runner: AnalysisRunner | ParallelAnalysisRunner | null = null;
   const blockArrays = () => (runner instanceof ParallelAnalysisRunner ? runner.nextBlockArrays() : null);
-  const decoded = await openAudioFile(path, { ...options.decode, blockArrays });
+  const onBytes = fileHash?.onBytes;
+  const decoded = await openAudioFile(path, { ...options.decode, blockArrays, ...(onBytes ? { onBytes } : {}) });
   const { format } = decoded;
   const info = {
     sampleRate: format.sampleRate,
@@ -80,7 +83,7 @@ export async function analyzeFile(path: string, options: AnalyzeFileOptions = {}
     if (runner instanceof ParallelAnalysisRunner) await runner.close();
   }
   const { size } = await stat(path);
-  const sha256 = await hashing;
+  const sha256 = options.knownSha256 ?? (fileHash ? await digest(fileHash, path) : undefined);
   const file = { name: options.displayName ?? basename(path), sizeBytes: size, ...(sha256 ? { sha256 } : {}) };
   return buildAnalysisDocument(format, measurements, decoded.warnings, file, (performance.now() - started) / 1000);
 }

@@ -26,12 +26,12 @@ export function pcmDecoder(detect: (head: Uint8Array) => boolean, parse: PcmHead
       }
     },
     async open(file, handle, options) {
-      const plan = await parse(ByteReader.fromFile(handle, file.sizeBytes), file.container);
+      const { onBytes } = options;
+      const plan = await parse(ByteReader.fromFile(handle, file.sizeBytes).observe(onBytes), file.container);
       const { path, sizeBytes } = file;
-      return checkedFloats(
-        plan,
-        streamPcm(plan, async () => ByteReader.fromFile(await open(path, 'r'), sizeBytes, plan.dataOffset), options),
-      );
+      const openReader = async () =>
+        ByteReader.fromFile(await open(path, 'r'), sizeBytes, plan.dataOffset).observe(onBytes);
+      return checkedFloats(plan, streamPcm(plan, openReader, options));
     },
     async openStream(reader, container, options) {
       const plan = await parse(reader, container);
