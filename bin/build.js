@@ -2,13 +2,17 @@
 // `npm run build`: bundles the CLI, the analysis and excerpt threads and the benchmark child into dist/*.mjs
 // (`node bin/build.js <folder>` for another folder). Packages stay external: node_modules is
 // resolved at run time as usual. npm runs it as `prepare` after `npm ci` and `npm install`, so the
-// `earmark` command starts from the bundles on a fresh install (esbuild is a runtime dependency).
+// `earmark` command starts from the bundles on a fresh install (esbuild is a runtime dependency);
+// there `--if-stale` skips the build when dist/ is current (npx links the project and prepares it
+// again on its first run).
 import { build } from 'esbuild';
 import { existsSync } from 'node:fs';
 import { join, resolve } from 'node:path';
-import { DIST, ENTRIES, ROOT } from './bundles.js';
+import { currentBundle, DIST, ENTRIES, ROOT } from './bundles.js';
 
-const outdir = process.argv[2] ? resolve(process.argv[2]) : DIST;
+const args = process.argv.slice(2);
+const folder = args.find((arg) => !arg.startsWith('--'));
+const outdir = folder ? resolve(folder) : DIST;
 // The image ships without bench/: bundle what is there.
 // The excerpt thread is started by path from whatever bundle holds excerpt-runner.ts.
 const entries = Object.entries({ ...ENTRIES, 'excerpt-thread': 'src/engine/excerpt-thread.ts' }).filter(([, source]) =>
@@ -17,6 +21,10 @@ const entries = Object.entries({ ...ENTRIES, 'excerpt-thread': 'src/engine/excer
 // An install without the sources (a dependencies-only stage) has nothing to bundle.
 if (entries.length === 0) {
   console.log('no sources to bundle');
+  process.exit(0);
+}
+if (args.includes('--if-stale') && outdir === DIST && entries.every(([name]) => currentBundle(name) !== null)) {
+  console.log(`bundles in ${outdir} are current`);
   process.exit(0);
 }
 await build({
