@@ -10,8 +10,11 @@ import { closeSync, openSync, readSync } from 'node:fs';
 import { open } from 'node:fs/promises';
 import type { ByteObserver } from './types.ts';
 
-/** Largest gap read on the spot; a farther span waits for a sequential reader to reach it. */
-export const GAP_FILL_MAX_BYTES = 8 * 1024 * 1024;
+/**
+ * Largest gap read on the spot; a farther span waits for a sequential reader to reach it. Small,
+ * since a header scan that skips an audio chunk shorter than this has that chunk read twice.
+ */
+export const GAP_FILL_MAX_BYTES = 1024 * 1024;
 const READ_BYTES = 1024 * 1024;
 
 export class FileHash {
