@@ -1,7 +1,9 @@
 // `npm run bench:user`: the command a user runs, `npx earmark analyze <file> --json`, timed as a
 // whole process (npx, start-up, decode, meters, hashing) beside `ffmpeg -af ebur128=peak=true` on
 // the same file, runs alternating so both see the same machine load. Wall time and peak RSS
-// (/usr/bin/time -v) per run; medians and ratios per file.
+// (/usr/bin/time -v) per run; medians and ratios per file. The RSS of an npx run is that of the
+// largest process in its tree, which is npm's own (about 90 MiB) when ours is smaller, so each
+// run also starts `node bin/earmark.js` directly (what npx runs) for the command's own peak RSS.
 // A benchmark, not a test: it prints figures and never fails on them.
 //
 // Files: the paths given as arguments, else two pink-noise WAVs made once with sox in the cache
@@ -70,6 +72,7 @@ const figures = (r: RunFigures) => `${r.seconds.toFixed(2)} s ${r.peakRssMib.toF
 
 async function benchFile(file: string): Promise<void> {
   const ours = checkouts.map((): RunFigures[] => []);
+  const direct = checkouts.map((): RunFigures[] => []);
   const theirs: RunFigures[] = [];
   const ffmpegArgs = [
     '-nostdin',
@@ -84,11 +87,13 @@ async function benchFile(file: string): Promise<void> {
     '-',
   ];
   for (let i = 0; i < runs; i++) {
-    for (const [k, checkout] of checkouts.entries())
+    for (const [k, checkout] of checkouts.entries()) {
       ours[k].push(await timed('npx', ['earmark', 'analyze', file, '--json'], checkout));
+      direct[k].push(await timed(process.execPath, ['bin/earmark.js', 'analyze', file, '--json'], checkout));
+    }
     theirs.push(await timed('ffmpeg', ffmpegArgs, checkouts[0]));
-    const mine = ours.map((runsOf, k) => `earmark[${k}] ${figures(runsOf[i])}`).join(', ');
-    console.log(`  run ${i + 1}: ${mine}, ffmpeg ${figures(theirs[i])}`);
+    const mine = ours.map((runsOf, k) => `earmark[${k}] ${figures(runsOf[i])} (direct ${figures(direct[k][i])})`);
+    console.log(`  run ${i + 1}: ${mine.join(', ')}, ffmpeg ${figures(theirs[i])}`);
   }
   const ffmpegSeconds = median(theirs.map((r) => r.seconds));
   const ffmpegRss = median(theirs.map((r) => r.peakRssMib));
@@ -101,6 +106,12 @@ async function benchFile(file: string): Promise<void> {
     console.log(
       `  earmark[${k}]: median ${seconds.toFixed(2)} s (ratio of medians ${(seconds / ffmpegSeconds).toFixed(3)}, ` +
         `median of run ratios ${ratio.toFixed(3)}), peak RSS ${rss.toFixed(0)} MiB (${(rss / ffmpegRss).toFixed(2)}x ffmpeg)`,
+    );
+    const directSeconds = median(direct[k].map((r) => r.seconds));
+    const directRss = median(direct[k].map((r) => r.peakRssMib));
+    console.log(
+      `  earmark[${k}] without npx: median ${directSeconds.toFixed(2)} s (${(directSeconds / ffmpegSeconds).toFixed(3)}), ` +
+        `own peak RSS ${directRss.toFixed(0)} MiB (${(directRss / ffmpegRss).toFixed(2)}x ffmpeg)`,
     );
   }
 }
