@@ -1,0 +1,76 @@
+// The Annex 2 true peak meter's WebAssembly kernel (true-peak.wat): one call runs the chunk loop
+// and the 4x interpolation over a channel's piece of a block. f64x2 lanes hold two neighbouring
+// frames, each with the scalar loop's operations in its order, so every reading equals the
+// JavaScript loop's to the bit (test/analysis/true-peak.test.ts); V8 does not vectorise JavaScript.
+
+import { instantiateKernel } from './instantiate.ts';
+import { KERNEL_MEMORY } from './memory.ts';
+import { WASM_BASE64 } from './true-peak.wasm.ts';
+
+/** Frames per call; a whole number of envelope chunks. */
+export const TRUE_PEAK_KERNEL_FRAMES = 16384;
+/** Samples before each piece that its first frames' taps reach (the .wat's IN[0, 11)). */
+export const TRUE_PEAK_HISTORY_FRAMES = 11;
+const { IN, ENV, C, ST: STATE, OE: OVER_FRAMES, OP: OVER_PEAKS } = KERNEL_MEMORY['true-peak'];
+
+/** The state slots, in the .wat's order. */
+export const TRUE_PEAK_SLOT = {
+  maximum: 0,
+  maximumFrame: 1,
+  historyMax: 2,
+  pruned: 3,
+  position: 4,
+  ceiling: 5,
+  gainBound: 6,
+} as const;
+
+export interface TruePeakConstants {
+  /** Halved pair sums and differences of phase 0 and phase 1, 6 each. */
+  s0: Float64Array;
+  d0: Float64Array;
+  s1: Float64Array;
+  d1: Float64Array;
+  ceiling: number;
+  gainBound: number;
+}
+
+interface KernelExports {
+  scan(frames: number): number;
+}
+
+export class TruePeakKernel {
+  private readonly exports: KernelExports;
+  /** The history samples, then the piece (written before scan()). */
+  readonly input: Float32Array;
+  /** The piece's chunk maxima (envelope.ts). */
+  readonly chunkMax: Float32Array;
+  readonly state: Float64Array;
+  /** After scan(): the overs found, as frames of the piece and values. */
+  readonly overFrames: Int32Array;
+  readonly overPeaks: Float64Array;
+
+  constructor(constants: TruePeakConstants) {
+    const exports = instantiateKernel<KernelExports>(WASM_BASE64);
+    this.exports = exports;
+    const buffer = exports.memory.buffer;
+    this.input = new Float32Array(buffer, IN, TRUE_PEAK_HISTORY_FRAMES + TRUE_PEAK_KERNEL_FRAMES + 1);
+    this.chunkMax = new Float32Array(buffer, ENV, TRUE_PEAK_KERNEL_FRAMES / 32);
+    this.state = new Float64Array(buffer, STATE, 7);
+    this.overFrames = new Int32Array(buffer, OVER_FRAMES, TRUE_PEAK_KERNEL_FRAMES);
+    this.overPeaks = new Float64Array(buffer, OVER_PEAKS, TRUE_PEAK_KERNEL_FRAMES);
+    const weights = new Float64Array(buffer, C, 48);
+    [constants.s0, constants.d0, constants.s1, constants.d1].forEach((values, set) =>
+      values.forEach((v, i) => {
+        weights[12 * set + 2 * i] = v;
+        weights[12 * set + 2 * i + 1] = v;
+      }),
+    );
+    this.state[TRUE_PEAK_SLOT.ceiling] = constants.ceiling;
+    this.state[TRUE_PEAK_SLOT.gainBound] = constants.gainBound;
+  }
+
+  /** Reads `frames` <= TRUE_PEAK_KERNEL_FRAMES of input; returns the overs found. */
+  scan(frames: number): number {
+    return this.exports.scan(frames);
+  }
+}

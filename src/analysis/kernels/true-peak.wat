@@ -1,0 +1,153 @@
+;; Annex 2 true peak (true-peak.ts): the chunk loop and the 4x interpolation of one channel's
+;; piece of at most 16384 frames. f64x2 lanes hold two neighbouring frames, each computed with the
+;; scalar loop's operations in its order (no fused multiply-add in WebAssembly, so the IEEE results
+;; are the same bits): S and D of both phase pairs from pre-added and pre-subtracted taps, then
+;; |S| + |D|. A frame whose values cannot beat the gate (min of maximum and ceiling) does nothing,
+;; so one vector test per two frames sends the rare others to the scalar $hit, lane by lane.
+;;
+;; Memory (bytes):
+;;   IN 0 f32[11 + 16384 + 1] the 11 samples before the piece, the piece, one spare for a lone
+;;      last frame's unused lane; ENV 65600 f32[512] the piece's chunk maxima |x| (envelope.ts)
+;;   C 67648 the pair weights s0[6], d0[6], s1[6], d1[6], each splatted (f64x2)
+;;   ST 68032 f64 slots: 0 maximum, 1 its frame, 2 max|x| of the 11 samples before the piece,
+;;      3 pruned frames, 4 position (frame of the piece's first sample), 5 over ceiling, 6 gain bound
+;;   OE 68096 i32 and OP 133632 f64: the overs found (piece frame, value); scan returns their count
+;;
+(module
+  (memory (export "memory") 5)
+  (global $max (mut f64) (f64.const 0))
+  (global $gate (mut f64) (f64.const 0))
+  (global $maxAt (mut i32) (i32.const -1))
+  (global $overs (mut i32) (i32.const 0))
+  (global $ceiling (mut f64) (f64.const 0))
+
+;; One frame's phase values: the scalar loop's test, new maximum and over, in its order.
+  (func $hit (param $n i32) (param $even f64) (param $odd f64) (param $ax f64)
+    (local $peak f64)
+    (if (i32.or (i32.or (f64.gt (local.get $even) (global.get $gate)) (f64.gt (local.get $odd) (global.get $gate)))
+                (f64.gt (local.get $ax) (global.get $gate)))
+      (then
+        (local.set $peak
+          (if (result f64) (f64.gt (local.get $even) (local.get $odd))
+            (then (select (local.get $even) (local.get $ax) (f64.gt (local.get $even) (local.get $ax))))
+            (else (select (local.get $odd) (local.get $ax) (f64.gt (local.get $odd) (local.get $ax))))))
+        (if (f64.gt (local.get $peak) (global.get $max))
+          (then (global.set $max (local.get $peak)) (global.set $maxAt (local.get $n))))
+        (if (f64.gt (local.get $peak) (global.get $ceiling))
+          (then
+            (i32.store offset=68096 (i32.shl (global.get $overs) (i32.const 2)) (local.get $n))
+            (f64.store offset=133632 (i32.shl (global.get $overs) (i32.const 3)) (local.get $peak))
+            (global.set $overs (i32.add (global.get $overs) (i32.const 1)))))
+        (global.set $gate (f64.min (global.get $max) (global.get $ceiling))))))
+
+;; Frames [from, to) of the piece; frame n's taps are IN[n .. n + 11], IN[n + 11] its own sample.
+  (func $interpolate (param $from i32) (param $to i32)
+    (local $n i32) (local $p i32) (local $gate v128) (local $test v128)
+    (local $x0 v128) (local $x1 v128) (local $x2 v128) (local $x3 v128) (local $x4 v128) (local $x5 v128)
+    (local $x6 v128) (local $x7 v128) (local $x8 v128) (local $x9 v128) (local $x10 v128) (local $x11 v128)
+    (local $a0 v128) (local $a1 v128) (local $a2 v128) (local $a3 v128) (local $a4 v128) (local $a5 v128)
+    (local $b0 v128) (local $b1 v128) (local $b2 v128) (local $b3 v128) (local $b4 v128) (local $b5 v128)
+    (local $even v128) (local $odd v128) (local $ax v128)
+    (global.set $gate (f64.min (global.get $max) (global.get $ceiling)))
+    (local.set $gate (f64x2.splat (global.get $gate)))
+    (local.set $n (local.get $from))
+    (block $done
+      (loop $pairs
+        (br_if $done (i32.ge_s (local.get $n) (local.get $to)))
+        (local.set $p (i32.shl (local.get $n) (i32.const 2)))
+        (local.set $x0 (f64x2.promote_low_f32x4 (v128.load64_zero offset=0 (local.get $p))))
+        (local.set $x1 (f64x2.promote_low_f32x4 (v128.load64_zero offset=4 (local.get $p))))
+        (local.set $x2 (f64x2.promote_low_f32x4 (v128.load64_zero offset=8 (local.get $p))))
+        (local.set $x3 (f64x2.promote_low_f32x4 (v128.load64_zero offset=12 (local.get $p))))
+        (local.set $x4 (f64x2.promote_low_f32x4 (v128.load64_zero offset=16 (local.get $p))))
+        (local.set $x5 (f64x2.promote_low_f32x4 (v128.load64_zero offset=20 (local.get $p))))
+        (local.set $x6 (f64x2.promote_low_f32x4 (v128.load64_zero offset=24 (local.get $p))))
+        (local.set $x7 (f64x2.promote_low_f32x4 (v128.load64_zero offset=28 (local.get $p))))
+        (local.set $x8 (f64x2.promote_low_f32x4 (v128.load64_zero offset=32 (local.get $p))))
+        (local.set $x9 (f64x2.promote_low_f32x4 (v128.load64_zero offset=36 (local.get $p))))
+        (local.set $x10 (f64x2.promote_low_f32x4 (v128.load64_zero offset=40 (local.get $p))))
+        (local.set $x11 (f64x2.promote_low_f32x4 (v128.load64_zero offset=44 (local.get $p))))
+        (local.set $a0 (f64x2.add (local.get $x11) (local.get $x0)))
+        (local.set $b0 (f64x2.sub (local.get $x11) (local.get $x0)))
+        (local.set $a1 (f64x2.add (local.get $x10) (local.get $x1)))
+        (local.set $b1 (f64x2.sub (local.get $x10) (local.get $x1)))
+        (local.set $a2 (f64x2.add (local.get $x9) (local.get $x2)))
+        (local.set $b2 (f64x2.sub (local.get $x9) (local.get $x2)))
+        (local.set $a3 (f64x2.add (local.get $x8) (local.get $x3)))
+        (local.set $b3 (f64x2.sub (local.get $x8) (local.get $x3)))
+        (local.set $a4 (f64x2.add (local.get $x7) (local.get $x4)))
+        (local.set $b4 (f64x2.sub (local.get $x7) (local.get $x4)))
+        (local.set $a5 (f64x2.add (local.get $x6) (local.get $x5)))
+        (local.set $b5 (f64x2.sub (local.get $x6) (local.get $x5)))
+        (local.set $even (f64x2.add (f64x2.abs (f64x2.add (f64x2.add (f64x2.add (f64x2.add (f64x2.add (f64x2.mul (v128.load offset=67648 (i32.const 0)) (local.get $a0)) (f64x2.mul (v128.load offset=67664 (i32.const 0)) (local.get $a1))) (f64x2.mul (v128.load offset=67680 (i32.const 0)) (local.get $a2))) (f64x2.mul (v128.load offset=67696 (i32.const 0)) (local.get $a3))) (f64x2.mul (v128.load offset=67712 (i32.const 0)) (local.get $a4))) (f64x2.mul (v128.load offset=67728 (i32.const 0)) (local.get $a5))))
+                                    (f64x2.abs (f64x2.add (f64x2.add (f64x2.add (f64x2.add (f64x2.add (f64x2.mul (v128.load offset=67744 (i32.const 0)) (local.get $b0)) (f64x2.mul (v128.load offset=67760 (i32.const 0)) (local.get $b1))) (f64x2.mul (v128.load offset=67776 (i32.const 0)) (local.get $b2))) (f64x2.mul (v128.load offset=67792 (i32.const 0)) (local.get $b3))) (f64x2.mul (v128.load offset=67808 (i32.const 0)) (local.get $b4))) (f64x2.mul (v128.load offset=67824 (i32.const 0)) (local.get $b5))))))
+        (local.set $odd (f64x2.add (f64x2.abs (f64x2.add (f64x2.add (f64x2.add (f64x2.add (f64x2.add (f64x2.mul (v128.load offset=67840 (i32.const 0)) (local.get $a0)) (f64x2.mul (v128.load offset=67856 (i32.const 0)) (local.get $a1))) (f64x2.mul (v128.load offset=67872 (i32.const 0)) (local.get $a2))) (f64x2.mul (v128.load offset=67888 (i32.const 0)) (local.get $a3))) (f64x2.mul (v128.load offset=67904 (i32.const 0)) (local.get $a4))) (f64x2.mul (v128.load offset=67920 (i32.const 0)) (local.get $a5))))
+                                   (f64x2.abs (f64x2.add (f64x2.add (f64x2.add (f64x2.add (f64x2.add (f64x2.mul (v128.load offset=67936 (i32.const 0)) (local.get $b0)) (f64x2.mul (v128.load offset=67952 (i32.const 0)) (local.get $b1))) (f64x2.mul (v128.load offset=67968 (i32.const 0)) (local.get $b2))) (f64x2.mul (v128.load offset=67984 (i32.const 0)) (local.get $b3))) (f64x2.mul (v128.load offset=68000 (i32.const 0)) (local.get $b4))) (f64x2.mul (v128.load offset=68016 (i32.const 0)) (local.get $b5))))))
+        (local.set $ax (f64x2.abs (local.get $x11)))
+        (local.set $test (v128.or (v128.or (f64x2.gt (local.get $even) (local.get $gate)) (f64x2.gt (local.get $odd) (local.get $gate)))
+                                  (f64x2.gt (local.get $ax) (local.get $gate))))
+        ;; A lane under the gate it was tested against is under every later (higher) gate.
+        (if (v128.any_true (local.get $test))
+          (then
+            (if (i64.ne (i64x2.extract_lane 0 (local.get $test)) (i64.const 0))
+              (then (call $hit (local.get $n) (f64x2.extract_lane 0 (local.get $even)) (f64x2.extract_lane 0 (local.get $odd))
+                              (f64x2.extract_lane 0 (local.get $ax)))))
+            (if (i32.and (i64.ne (i64x2.extract_lane 1 (local.get $test)) (i64.const 0))
+                         (i32.lt_s (i32.add (local.get $n) (i32.const 1)) (local.get $to)))
+              (then (call $hit (i32.add (local.get $n) (i32.const 1)) (f64x2.extract_lane 1 (local.get $even))
+                              (f64x2.extract_lane 1 (local.get $odd)) (f64x2.extract_lane 1 (local.get $ax)))))
+            (local.set $gate (f64x2.splat (global.get $gate)))))
+        (local.set $n (i32.add (local.get $n) (i32.const 2)))
+        (br $pairs))))
+
+;; The piece's 32-frame chunks in order, as TruePeakMeter.scanChunks: the chunk's sample peak,
+;; then the bound test, then the interpolation. Returns the overs found.
+  (func (export "scan") (param $frames i32) (result i32)
+    (local $k i32) (local $from i32) (local $to i32) (local $at i32)
+    (local $sampleMax f64) (local $before f64) (local $bound f64) (local $position f64) (local $gain f64) (local $pruned f64)
+    (local $maxFrame f64)
+    (global.set $max (f64.load offset=68032 (i32.const 0)))
+    (local.set $maxFrame (f64.load offset=68040 (i32.const 0)))
+    (local.set $before (f64.load offset=68048 (i32.const 0)))
+    (local.set $pruned (f64.load offset=68056 (i32.const 0)))
+    (local.set $position (f64.load offset=68064 (i32.const 0)))
+    (global.set $ceiling (f64.load offset=68072 (i32.const 0)))
+    (local.set $gain (f64.load offset=68080 (i32.const 0)))
+    (global.set $overs (i32.const 0))
+    (block $done
+      (loop $chunks
+        (br_if $done (i32.ge_s (local.get $from) (local.get $frames)))
+        (local.set $to (select (i32.add (local.get $from) (i32.const 32)) (local.get $frames)
+                               (i32.lt_s (i32.add (local.get $from) (i32.const 32)) (local.get $frames))))
+        (local.set $sampleMax (f64.promote_f32 (f32.load offset=65600 (i32.shl (local.get $k) (i32.const 2)))))
+        (if (f64.gt (local.get $sampleMax) (global.get $max))
+          (then
+            (local.set $at (local.get $from))
+            (block $found
+              (loop $search
+                (br_if $found (f64.eq (f64.promote_f32 (f32.abs (f32.load offset=44 (i32.shl (local.get $at) (i32.const 2)))))
+                                      (local.get $sampleMax)))
+                (local.set $at (i32.add (local.get $at) (i32.const 1)))
+                (br $search)))
+            (global.set $max (local.get $sampleMax))
+            (local.set $maxFrame (f64.add (local.get $position) (f64.convert_i32_s (local.get $at))))))
+        (local.set $bound (f64.mul (f64.max (local.get $before) (local.get $sampleMax)) (local.get $gain)))
+        (if (i32.or (f64.gt (local.get $bound) (global.get $max)) (f64.gt (local.get $bound) (global.get $ceiling)))
+          (then
+            (global.set $maxAt (i32.const -1))
+            (call $interpolate (local.get $from) (local.get $to))
+            (if (i32.ge_s (global.get $maxAt) (i32.const 0))
+              (then
+                (local.set $maxFrame
+                  (f64.max (f64.const 0)
+                           (f64.sub (f64.add (local.get $position) (f64.convert_i32_s (global.get $maxAt))) (f64.const 6)))))))
+          (else (local.set $pruned (f64.add (local.get $pruned) (f64.convert_i32_s (i32.sub (local.get $to) (local.get $from)))))))
+        (local.set $before (local.get $sampleMax))
+        (local.set $k (i32.add (local.get $k) (i32.const 1)))
+        (local.set $from (i32.add (local.get $from) (i32.const 32)))
+        (br $chunks)))
+    (f64.store offset=68032 (i32.const 0) (global.get $max))
+    (f64.store offset=68040 (i32.const 0) (local.get $maxFrame))
+    (f64.store offset=68048 (i32.const 0) (local.get $before))
+    (f64.store offset=68056 (i32.const 0) (local.get $pruned))
+    (global.get $overs)))
