@@ -10,9 +10,11 @@
 //   maximum and the over ceiling is skipped: |y| <= max|x over the taps| * max_p sum|h_p|.
 //   The bound is checked per 32-frame chunk, from the shared block envelope (envelope.ts), and
 //   first over a whole 16384-frame piece, which then skips the kernel call and its copy.
-// A WebAssembly SIMD kernel (kernels/true-peak.wat) runs the chunk loop and the interpolation,
-// two neighbouring frames per f64x2 vector with the scalar arithmetic in its order, so every
-// reading is the scalar loop's to the bit; one vector test per two frames against the gate.
+// A WebAssembly SIMD kernel (kernels/true-peak.wat) runs the chunk loop and the interpolation: a
+// float32 pass, four frames a vector, with a proven error margin finds the frames that may beat
+// the gate, and only those get the float64 arithmetic above, in its order, so every reading is
+// the scalar loop's to the bit. On a limited master most frames sit under the ceiling but near it,
+// where no bound from max|x| can skip them.
 // A reconstructed waveform passes through its own samples, so the reading is never below the
 // sample peak (the example filter's passband ripple would otherwise under-read by ~0.2 dB).
 
@@ -49,6 +51,8 @@ if (HISTORY !== TRUE_PEAK_HISTORY_FRAMES || ENVELOPE_CHUNK_FRAMES !== 32)
 const sumAbs = (h: number[]) => h.reduce((s, v) => s + Math.abs(v), 0);
 /** Largest possible |y| per unit of max|x|: the bound used for exact pruning. */
 export const ANNEX2_GAIN_BOUND = Math.max(sumAbs(ANNEX2_PHASE0), sumAbs(ANNEX2_PHASE1));
+// The kernel's float32 screening margin (true-peak.wat) assumes a gain bound below 4.
+if (ANNEX2_GAIN_BOUND >= 4) throw new Error('the true-peak screening margin assumes a gain bound below 4');
 
 /** max |x[i]| for i in [from, to). One lane: V8 compiles this tighter than unrolled lanes. */
 function absMax(x: Float32Array, from: number, to: number): number {

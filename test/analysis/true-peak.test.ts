@@ -80,30 +80,35 @@ describe('TruePeakMeter (ITU-R BS.1770-5 Annex 2)', () => {
       const odd = Math.abs(dot(s1, 1)) + Math.abs(dot(d1, -1));
       return Math.max(even, odd, Math.abs(x[n]));
     });
-    const ceilingDbtp = -1;
-    // Adjacent overs form one event (start, count, largest value); reported 6 frames earlier (the filter delay).
-    const expected: number[][] = [];
-    let last = -2;
-    perFrame.forEach((v, n) => {
-      if (!(v > dbToAmplitude(ceilingDbtp))) return;
-      const run = expected.at(-1);
-      if (run && n === last + 1) {
-        run[1]++;
-        run[2] = Math.max(run[2], v);
-      } else expected.push([Math.max(0, n - 6), 1, v]);
-      last = n;
-    });
-    for (const run of expected) run[2] = 20 * Math.log10(run[2]);
-    expect(expected.length).toBeGreaterThan(1000);
-    for (const blockFrames of [1, 31, 16_385, x.length]) {
-      const meter = new TruePeakMeter(info(1), { overCeilingDbtp: ceilingDbtp, overMergeSeconds: 0, maxEvents: 1e6 });
-      for (let start = 0; start < x.length; start += blockFrames) {
-        const frames = Math.min(blockFrames, x.length - start);
-        meter.push({ channelData: [x.subarray(start, start + frames)], frames });
+    // At -1 dBTP most frames sit just under the ceiling; a ceiling 1e-10 dB under a frame's value
+    // makes it an over by far less than float32 rounding, which the kernel's screening must still
+    // hand to the exact arithmetic.
+    const near = [...perFrame].sort((a, b) => b - a)[500];
+    for (const ceilingDbtp of [-1, 20 * Math.log10(near) - 1e-10]) {
+      // Adjacent overs form one event (start, count, largest value); reported 6 frames earlier (the filter delay).
+      const expected: number[][] = [];
+      let last = -2;
+      perFrame.forEach((v, n) => {
+        if (!(v > dbToAmplitude(ceilingDbtp))) return;
+        const run = expected.at(-1);
+        if (run && n === last + 1) {
+          run[1]++;
+          run[2] = Math.max(run[2], v);
+        } else expected.push([Math.max(0, n - 6), 1, v]);
+        last = n;
+      });
+      for (const run of expected) run[2] = 20 * Math.log10(run[2]);
+      expect(expected.length).toBeGreaterThan(ceilingDbtp === -1 ? 1000 : 100);
+      for (const blockFrames of [1, 31, 16_385, x.length]) {
+        const meter = new TruePeakMeter(info(1), { overCeilingDbtp: ceilingDbtp, overMergeSeconds: 0, maxEvents: 1e6 });
+        for (let start = 0; start < x.length; start += blockFrames) {
+          const frames = Math.min(blockFrames, x.length - start);
+          meter.push({ channelData: [x.subarray(start, start + frames)], frames });
+        }
+        const result = meter.result();
+        expect(result.events.map((e) => [e.startFrame, e.count, e.peakValue])).toEqual(expected);
+        expect(10 ** (result.truePeakDbtp! / 20)).toBeCloseTo(Math.max(...perFrame), 12);
       }
-      const result = meter.result();
-      expect(result.events.map((e) => [e.startFrame, e.count, e.peakValue])).toEqual(expected);
-      expect(10 ** (result.truePeakDbtp! / 20)).toBeCloseTo(Math.max(...perFrame), 12);
     }
   });
 

@@ -1,7 +1,8 @@
 // The Annex 2 true peak meter's WebAssembly kernel (true-peak.wat): one call runs the chunk loop
-// and the 4x interpolation over a channel's piece of a block. f64x2 lanes hold two neighbouring
-// frames, each with the scalar loop's operations in its order, so every reading equals the
-// JavaScript loop's to the bit (test/analysis/true-peak.test.ts); V8 does not vectorise JavaScript.
+// and the 4x interpolation over a channel's piece of a block.
+// A float32 pass, four frames a vector, screens out the frames that provably cannot beat the gate;
+// the others are computed with the scalar float64 arithmetic in its order, so every reading is
+// the scalar loop's to the bit (test/analysis/true-peak.test.ts). V8 does not vectorise JavaScript.
 
 import { instantiateKernel } from './instantiate.ts';
 import { KERNEL_MEMORY } from './memory.ts';
@@ -11,7 +12,7 @@ import { WASM_BASE64 } from './true-peak.wasm.ts';
 export const TRUE_PEAK_KERNEL_FRAMES = 16384;
 /** Samples before each piece that its first frames' taps reach (the .wat's IN[0, 11)). */
 export const TRUE_PEAK_HISTORY_FRAMES = 11;
-const { IN, ENV, C, ST: STATE, OE: OVER_FRAMES, OP: OVER_PEAKS } = KERNEL_MEMORY['true-peak'];
+const { IN, ENV, C, W, ST: STATE, OE: OVER_FRAMES, OP: OVER_PEAKS } = KERNEL_MEMORY['true-peak'];
 
 /** The state slots, in the .wat's order. */
 export const TRUE_PEAK_SLOT = {
@@ -53,16 +54,20 @@ export class TruePeakKernel {
     const exports = instantiateKernel<KernelExports>(WASM_BASE64);
     this.exports = exports;
     const buffer = exports.memory.buffer;
-    this.input = new Float32Array(buffer, IN, TRUE_PEAK_HISTORY_FRAMES + TRUE_PEAK_KERNEL_FRAMES + 1);
+    this.input = new Float32Array(buffer, IN, TRUE_PEAK_HISTORY_FRAMES + TRUE_PEAK_KERNEL_FRAMES + 3);
     this.chunkMax = new Float32Array(buffer, ENV, TRUE_PEAK_KERNEL_FRAMES / 32);
     this.state = new Float64Array(buffer, STATE, 7);
     this.overFrames = new Int32Array(buffer, OVER_FRAMES, TRUE_PEAK_KERNEL_FRAMES);
     this.overPeaks = new Float64Array(buffer, OVER_PEAKS, TRUE_PEAK_KERNEL_FRAMES);
-    const weights = new Float64Array(buffer, C, 48);
+    // Each weight splatted: float64 for the exact arithmetic, float32 for the screening pass (exact
+    // there too: the weights are multiples of 2^-17 below 1).
+    const weights = new Float64Array(buffer, C, 48),
+      screening = new Float32Array(buffer, W, 96);
     [constants.s0, constants.d0, constants.s1, constants.d1].forEach((values, set) =>
       values.forEach((v, i) => {
-        weights[12 * set + 2 * i] = v;
-        weights[12 * set + 2 * i + 1] = v;
+        if (Math.fround(v) !== v) throw new Error('a true-peak weight is not exact in float32');
+        weights.fill(v, 12 * set + 2 * i, 12 * set + 2 * i + 2);
+        screening.fill(v, 24 * set + 4 * i, 24 * set + 4 * i + 4);
       }),
     );
     this.state[TRUE_PEAK_SLOT.ceiling] = constants.ceiling;

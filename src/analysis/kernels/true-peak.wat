@@ -1,14 +1,15 @@
 ;; Annex 2 true peak (true-peak.ts): the chunk loop and the 4x interpolation of one channel's
-;; piece of at most 16384 frames. f64x2 lanes hold two neighbouring frames, each computed with the
-;; scalar loop's operations in its order (no fused multiply-add in WebAssembly, so the IEEE results
-;; are the same bits): S and D of both phase pairs from pre-added and pre-subtracted taps, then
-;; |S| + |D|. A frame whose values cannot beat the gate (min of maximum and ceiling) does nothing,
-;; so one vector test per two frames sends the rare others to the scalar $hit, lane by lane.
+;; piece of at most 16384 frames. A frame whose values cannot beat the gate (min of maximum and
+;; ceiling) does nothing, so a float32 pass, four frames a vector, sends only the frames that may
+;; beat it to $exact: the scalar loop's float64 operations in its order (no fused multiply-add in
+;; WebAssembly, so the IEEE results are the same bits), S and D of both phase pairs from
+;; pre-added and pre-subtracted taps, then |S| + |D|, read by $hit in frame order.
 ;;
 ;; Memory (bytes):
-;;   IN 0 f32[11 + 16384 + 1] the 11 samples before the piece, the piece, one spare for a lone
-;;      last frame's unused lane; ENV 65600 f32[512] the piece's chunk maxima |x| (envelope.ts)
-;;   C 67648 the pair weights s0[6], d0[6], s1[6], d1[6], each splatted (f64x2)
+;;   IN 0 f32[11 + 16384 + 3] the 11 samples before the piece, the piece, three spare for the
+;;      unused lanes of a short last vector; ENV 65600 f32[512] the piece's chunk maxima |x| (envelope.ts)
+;;   C 67648 the pair weights s0[6], d0[6], s1[6], d1[6], each splatted (f64x2); W 264704 the same
+;;      as float32, each splatted (f32x4)
 ;;   ST 68032 f64 slots: 0 maximum, 1 its frame, 2 max|x| of the 11 samples before the piece,
 ;;      3 pruned frames, 4 position (frame of the piece's first sample), 5 over ceiling, 6 gain bound
 ;;   OE 68096 i32 and OP 133632 f64: the overs found (piece frame, value); scan returns their count
@@ -41,64 +42,121 @@
         (global.set $gate (f64.min (global.get $max) (global.get $ceiling))))))
 
 ;; Frames [from, to) of the piece; frame n's taps are IN[n .. n + 11], IN[n + 11] its own sample.
-  (func $interpolate (param $from i32) (param $to i32)
-    (local $n i32) (local $p i32) (local $gate v128) (local $test v128)
+;; A float32 pass, four frames a vector, finds the frames that may beat the gate; only those are
+;; computed exactly ($exact) and read ($hit), in frame order. Why the float32 pass cannot miss one
+;; (u = 2^-24; samples and weights are exact in float32: the weights are multiples of 2^-17):
+;; each pair sum or difference, product and partial sum rounds once, so a float32 S or D is within
+;; gamma_7 * sum_k |w_k| |a_k| <= gamma_7 * 2 tapMax * sum_k |w_k| of the exact one (gamma_n =
+;; n u / (1 - n u)), and |S| + |D| adds one rounding; with sum |s| + sum |d| <= the gain bound G
+;; (|s| + |d| = max of the two halved taps) the float32 phase value is within 14 u G tapMax + u G
+;; tapMax < 64 u tapMax of the real one for G < 4 (G is 2.02; the float64 value is within 2^-47
+;; tapMax of the real one). The gate is at most G tapMax whenever a chunk is read (else the chunk
+;; bound skipped it), so rounding gate - 2^-16 tapMax (= 256 u tapMax) to float32 moves it by under
+;; 4 u tapMax: a frame whose exact value beats the gate has a float32 value above that
+;; rounded threshold. |x| is exact in both.
+  (func $interpolate (param $from i32) (param $to i32) (param $tapMax f64)
+    (local $n i32) (local $p i32) (local $lanes i32) (local $low v128) (local $test v128)
     (local $x0 v128) (local $x1 v128) (local $x2 v128) (local $x3 v128) (local $x4 v128) (local $x5 v128)
     (local $x6 v128) (local $x7 v128) (local $x8 v128) (local $x9 v128) (local $x10 v128) (local $x11 v128)
     (local $a0 v128) (local $a1 v128) (local $a2 v128) (local $a3 v128) (local $a4 v128) (local $a5 v128)
     (local $b0 v128) (local $b1 v128) (local $b2 v128) (local $b3 v128) (local $b4 v128) (local $b5 v128)
-    (local $even v128) (local $odd v128) (local $ax v128)
+    (local $margin f64)
+    (local.set $margin (f64.mul (local.get $tapMax) (f64.const 0x1p-16)))
     (global.set $gate (f64.min (global.get $max) (global.get $ceiling)))
-    (local.set $gate (f64x2.splat (global.get $gate)))
+    (local.set $low (f32x4.splat (f32.demote_f64 (f64.sub (global.get $gate) (local.get $margin)))))
     (local.set $n (local.get $from))
     (block $done
-      (loop $pairs
+      (loop $quads
         (br_if $done (i32.ge_s (local.get $n) (local.get $to)))
         (local.set $p (i32.shl (local.get $n) (i32.const 2)))
-        (local.set $x0 (f64x2.promote_low_f32x4 (v128.load64_zero offset=0 (local.get $p))))
-        (local.set $x1 (f64x2.promote_low_f32x4 (v128.load64_zero offset=4 (local.get $p))))
-        (local.set $x2 (f64x2.promote_low_f32x4 (v128.load64_zero offset=8 (local.get $p))))
-        (local.set $x3 (f64x2.promote_low_f32x4 (v128.load64_zero offset=12 (local.get $p))))
-        (local.set $x4 (f64x2.promote_low_f32x4 (v128.load64_zero offset=16 (local.get $p))))
-        (local.set $x5 (f64x2.promote_low_f32x4 (v128.load64_zero offset=20 (local.get $p))))
-        (local.set $x6 (f64x2.promote_low_f32x4 (v128.load64_zero offset=24 (local.get $p))))
-        (local.set $x7 (f64x2.promote_low_f32x4 (v128.load64_zero offset=28 (local.get $p))))
-        (local.set $x8 (f64x2.promote_low_f32x4 (v128.load64_zero offset=32 (local.get $p))))
-        (local.set $x9 (f64x2.promote_low_f32x4 (v128.load64_zero offset=36 (local.get $p))))
-        (local.set $x10 (f64x2.promote_low_f32x4 (v128.load64_zero offset=40 (local.get $p))))
-        (local.set $x11 (f64x2.promote_low_f32x4 (v128.load64_zero offset=44 (local.get $p))))
-        (local.set $a0 (f64x2.add (local.get $x11) (local.get $x0)))
-        (local.set $b0 (f64x2.sub (local.get $x11) (local.get $x0)))
-        (local.set $a1 (f64x2.add (local.get $x10) (local.get $x1)))
-        (local.set $b1 (f64x2.sub (local.get $x10) (local.get $x1)))
-        (local.set $a2 (f64x2.add (local.get $x9) (local.get $x2)))
-        (local.set $b2 (f64x2.sub (local.get $x9) (local.get $x2)))
-        (local.set $a3 (f64x2.add (local.get $x8) (local.get $x3)))
-        (local.set $b3 (f64x2.sub (local.get $x8) (local.get $x3)))
-        (local.set $a4 (f64x2.add (local.get $x7) (local.get $x4)))
-        (local.set $b4 (f64x2.sub (local.get $x7) (local.get $x4)))
-        (local.set $a5 (f64x2.add (local.get $x6) (local.get $x5)))
-        (local.set $b5 (f64x2.sub (local.get $x6) (local.get $x5)))
-        (local.set $even (f64x2.add (f64x2.abs (f64x2.add (f64x2.add (f64x2.add (f64x2.add (f64x2.add (f64x2.mul (v128.load offset=67648 (i32.const 0)) (local.get $a0)) (f64x2.mul (v128.load offset=67664 (i32.const 0)) (local.get $a1))) (f64x2.mul (v128.load offset=67680 (i32.const 0)) (local.get $a2))) (f64x2.mul (v128.load offset=67696 (i32.const 0)) (local.get $a3))) (f64x2.mul (v128.load offset=67712 (i32.const 0)) (local.get $a4))) (f64x2.mul (v128.load offset=67728 (i32.const 0)) (local.get $a5))))
-                                    (f64x2.abs (f64x2.add (f64x2.add (f64x2.add (f64x2.add (f64x2.add (f64x2.mul (v128.load offset=67744 (i32.const 0)) (local.get $b0)) (f64x2.mul (v128.load offset=67760 (i32.const 0)) (local.get $b1))) (f64x2.mul (v128.load offset=67776 (i32.const 0)) (local.get $b2))) (f64x2.mul (v128.load offset=67792 (i32.const 0)) (local.get $b3))) (f64x2.mul (v128.load offset=67808 (i32.const 0)) (local.get $b4))) (f64x2.mul (v128.load offset=67824 (i32.const 0)) (local.get $b5))))))
-        (local.set $odd (f64x2.add (f64x2.abs (f64x2.add (f64x2.add (f64x2.add (f64x2.add (f64x2.add (f64x2.mul (v128.load offset=67840 (i32.const 0)) (local.get $a0)) (f64x2.mul (v128.load offset=67856 (i32.const 0)) (local.get $a1))) (f64x2.mul (v128.load offset=67872 (i32.const 0)) (local.get $a2))) (f64x2.mul (v128.load offset=67888 (i32.const 0)) (local.get $a3))) (f64x2.mul (v128.load offset=67904 (i32.const 0)) (local.get $a4))) (f64x2.mul (v128.load offset=67920 (i32.const 0)) (local.get $a5))))
-                                   (f64x2.abs (f64x2.add (f64x2.add (f64x2.add (f64x2.add (f64x2.add (f64x2.mul (v128.load offset=67936 (i32.const 0)) (local.get $b0)) (f64x2.mul (v128.load offset=67952 (i32.const 0)) (local.get $b1))) (f64x2.mul (v128.load offset=67968 (i32.const 0)) (local.get $b2))) (f64x2.mul (v128.load offset=67984 (i32.const 0)) (local.get $b3))) (f64x2.mul (v128.load offset=68000 (i32.const 0)) (local.get $b4))) (f64x2.mul (v128.load offset=68016 (i32.const 0)) (local.get $b5))))))
-        (local.set $ax (f64x2.abs (local.get $x11)))
-        (local.set $test (v128.or (v128.or (f64x2.gt (local.get $even) (local.get $gate)) (f64x2.gt (local.get $odd) (local.get $gate)))
-                                  (f64x2.gt (local.get $ax) (local.get $gate))))
-        ;; A lane under the gate it was tested against is under every later (higher) gate.
+        (local.set $x0 (v128.load offset=0 (local.get $p)))
+        (local.set $x1 (v128.load offset=4 (local.get $p)))
+        (local.set $x2 (v128.load offset=8 (local.get $p)))
+        (local.set $x3 (v128.load offset=12 (local.get $p)))
+        (local.set $x4 (v128.load offset=16 (local.get $p)))
+        (local.set $x5 (v128.load offset=20 (local.get $p)))
+        (local.set $x6 (v128.load offset=24 (local.get $p)))
+        (local.set $x7 (v128.load offset=28 (local.get $p)))
+        (local.set $x8 (v128.load offset=32 (local.get $p)))
+        (local.set $x9 (v128.load offset=36 (local.get $p)))
+        (local.set $x10 (v128.load offset=40 (local.get $p)))
+        (local.set $x11 (v128.load offset=44 (local.get $p)))
+        (local.set $a0 (f32x4.add (local.get $x11) (local.get $x0)))
+        (local.set $b0 (f32x4.sub (local.get $x11) (local.get $x0)))
+        (local.set $a1 (f32x4.add (local.get $x10) (local.get $x1)))
+        (local.set $b1 (f32x4.sub (local.get $x10) (local.get $x1)))
+        (local.set $a2 (f32x4.add (local.get $x9) (local.get $x2)))
+        (local.set $b2 (f32x4.sub (local.get $x9) (local.get $x2)))
+        (local.set $a3 (f32x4.add (local.get $x8) (local.get $x3)))
+        (local.set $b3 (f32x4.sub (local.get $x8) (local.get $x3)))
+        (local.set $a4 (f32x4.add (local.get $x7) (local.get $x4)))
+        (local.set $b4 (f32x4.sub (local.get $x7) (local.get $x4)))
+        (local.set $a5 (f32x4.add (local.get $x6) (local.get $x5)))
+        (local.set $b5 (f32x4.sub (local.get $x6) (local.get $x5)))
+        (local.set $test
+          (v128.or
+            (v128.or (f32x4.gt (f32x4.add (f32x4.abs (f32x4.add (f32x4.add (f32x4.add (f32x4.add (f32x4.add (f32x4.mul (v128.load offset=264704 (i32.const 0)) (local.get $a0)) (f32x4.mul (v128.load offset=264720 (i32.const 0)) (local.get $a1))) (f32x4.mul (v128.load offset=264736 (i32.const 0)) (local.get $a2))) (f32x4.mul (v128.load offset=264752 (i32.const 0)) (local.get $a3))) (f32x4.mul (v128.load offset=264768 (i32.const 0)) (local.get $a4))) (f32x4.mul (v128.load offset=264784 (i32.const 0)) (local.get $a5))))
+                                          (f32x4.abs (f32x4.add (f32x4.add (f32x4.add (f32x4.add (f32x4.add (f32x4.mul (v128.load offset=264800 (i32.const 0)) (local.get $b0)) (f32x4.mul (v128.load offset=264816 (i32.const 0)) (local.get $b1))) (f32x4.mul (v128.load offset=264832 (i32.const 0)) (local.get $b2))) (f32x4.mul (v128.load offset=264848 (i32.const 0)) (local.get $b3))) (f32x4.mul (v128.load offset=264864 (i32.const 0)) (local.get $b4))) (f32x4.mul (v128.load offset=264880 (i32.const 0)) (local.get $b5)))))
+                               (local.get $low))
+                     (f32x4.gt (f32x4.add (f32x4.abs (f32x4.add (f32x4.add (f32x4.add (f32x4.add (f32x4.add (f32x4.mul (v128.load offset=264896 (i32.const 0)) (local.get $a0)) (f32x4.mul (v128.load offset=264912 (i32.const 0)) (local.get $a1))) (f32x4.mul (v128.load offset=264928 (i32.const 0)) (local.get $a2))) (f32x4.mul (v128.load offset=264944 (i32.const 0)) (local.get $a3))) (f32x4.mul (v128.load offset=264960 (i32.const 0)) (local.get $a4))) (f32x4.mul (v128.load offset=264976 (i32.const 0)) (local.get $a5))))
+                                          (f32x4.abs (f32x4.add (f32x4.add (f32x4.add (f32x4.add (f32x4.add (f32x4.mul (v128.load offset=264992 (i32.const 0)) (local.get $b0)) (f32x4.mul (v128.load offset=265008 (i32.const 0)) (local.get $b1))) (f32x4.mul (v128.load offset=265024 (i32.const 0)) (local.get $b2))) (f32x4.mul (v128.load offset=265040 (i32.const 0)) (local.get $b3))) (f32x4.mul (v128.load offset=265056 (i32.const 0)) (local.get $b4))) (f32x4.mul (v128.load offset=265072 (i32.const 0)) (local.get $b5)))))
+                               (local.get $low)))
+            (f32x4.gt (f32x4.abs (local.get $x11)) (local.get $low))))
         (if (v128.any_true (local.get $test))
           (then
-            (if (i64.ne (i64x2.extract_lane 0 (local.get $test)) (i64.const 0))
-              (then (call $hit (local.get $n) (f64x2.extract_lane 0 (local.get $even)) (f64x2.extract_lane 0 (local.get $odd))
-                              (f64x2.extract_lane 0 (local.get $ax)))))
-            (if (i32.and (i64.ne (i64x2.extract_lane 1 (local.get $test)) (i64.const 0))
-                         (i32.lt_s (i32.add (local.get $n) (i32.const 1)) (local.get $to)))
-              (then (call $hit (i32.add (local.get $n) (i32.const 1)) (f64x2.extract_lane 1 (local.get $even))
-                              (f64x2.extract_lane 1 (local.get $odd)) (f64x2.extract_lane 1 (local.get $ax)))))
-            (local.set $gate (f64x2.splat (global.get $gate)))))
-        (local.set $n (i32.add (local.get $n) (i32.const 2)))
-        (br $pairs))))
+            (local.set $lanes (i32x4.bitmask (local.get $test)))
+            ;; Lanes past the span read spare samples: dropped.
+            (if (i32.lt_s (i32.sub (local.get $to) (local.get $n)) (i32.const 4))
+              (then (local.set $lanes (i32.and (local.get $lanes)
+                (i32.sub (i32.shl (i32.const 1) (i32.sub (local.get $to) (local.get $n))) (i32.const 1))))))
+            (block $read
+              (loop $lane
+                (br_if $read (i32.eqz (local.get $lanes)))
+                (call $exact (i32.add (local.get $n) (i32.ctz (local.get $lanes))))
+                (local.set $lanes (i32.and (local.get $lanes) (i32.sub (local.get $lanes) (i32.const 1))))
+                (br $lane)))
+            (local.set $low (f32x4.splat (f32.demote_f64 (f64.sub (global.get $gate) (local.get $margin)))))))
+        (local.set $n (i32.add (local.get $n) (i32.const 4)))
+        (br $quads))))
+
+;; Frame n exactly, with the scalar loop's operations in its order, then read.
+  (func $exact (param $n i32)
+    (local $p i32)
+    (local $x0 f64) (local $x1 f64) (local $x2 f64) (local $x3 f64) (local $x4 f64) (local $x5 f64)
+    (local $x6 f64) (local $x7 f64) (local $x8 f64) (local $x9 f64) (local $x10 f64) (local $x11 f64)
+    (local $a0 f64) (local $a1 f64) (local $a2 f64) (local $a3 f64) (local $a4 f64) (local $a5 f64)
+    (local $b0 f64) (local $b1 f64) (local $b2 f64) (local $b3 f64) (local $b4 f64) (local $b5 f64)
+    (local.set $p (i32.shl (local.get $n) (i32.const 2)))
+    (local.set $x0 (f64.promote_f32 (f32.load offset=0 (local.get $p))))
+    (local.set $x1 (f64.promote_f32 (f32.load offset=4 (local.get $p))))
+    (local.set $x2 (f64.promote_f32 (f32.load offset=8 (local.get $p))))
+    (local.set $x3 (f64.promote_f32 (f32.load offset=12 (local.get $p))))
+    (local.set $x4 (f64.promote_f32 (f32.load offset=16 (local.get $p))))
+    (local.set $x5 (f64.promote_f32 (f32.load offset=20 (local.get $p))))
+    (local.set $x6 (f64.promote_f32 (f32.load offset=24 (local.get $p))))
+    (local.set $x7 (f64.promote_f32 (f32.load offset=28 (local.get $p))))
+    (local.set $x8 (f64.promote_f32 (f32.load offset=32 (local.get $p))))
+    (local.set $x9 (f64.promote_f32 (f32.load offset=36 (local.get $p))))
+    (local.set $x10 (f64.promote_f32 (f32.load offset=40 (local.get $p))))
+    (local.set $x11 (f64.promote_f32 (f32.load offset=44 (local.get $p))))
+    (local.set $a0 (f64.add (local.get $x11) (local.get $x0)))
+    (local.set $b0 (f64.sub (local.get $x11) (local.get $x0)))
+    (local.set $a1 (f64.add (local.get $x10) (local.get $x1)))
+    (local.set $b1 (f64.sub (local.get $x10) (local.get $x1)))
+    (local.set $a2 (f64.add (local.get $x9) (local.get $x2)))
+    (local.set $b2 (f64.sub (local.get $x9) (local.get $x2)))
+    (local.set $a3 (f64.add (local.get $x8) (local.get $x3)))
+    (local.set $b3 (f64.sub (local.get $x8) (local.get $x3)))
+    (local.set $a4 (f64.add (local.get $x7) (local.get $x4)))
+    (local.set $b4 (f64.sub (local.get $x7) (local.get $x4)))
+    (local.set $a5 (f64.add (local.get $x6) (local.get $x5)))
+    (local.set $b5 (f64.sub (local.get $x6) (local.get $x5)))
+    (call $hit (local.get $n)
+      (f64.add (f64.abs (f64.add (f64.add (f64.add (f64.add (f64.add (f64.mul (f64.load offset=67648 (i32.const 0)) (local.get $a0)) (f64.mul (f64.load offset=67664 (i32.const 0)) (local.get $a1))) (f64.mul (f64.load offset=67680 (i32.const 0)) (local.get $a2))) (f64.mul (f64.load offset=67696 (i32.const 0)) (local.get $a3))) (f64.mul (f64.load offset=67712 (i32.const 0)) (local.get $a4))) (f64.mul (f64.load offset=67728 (i32.const 0)) (local.get $a5))))
+               (f64.abs (f64.add (f64.add (f64.add (f64.add (f64.add (f64.mul (f64.load offset=67744 (i32.const 0)) (local.get $b0)) (f64.mul (f64.load offset=67760 (i32.const 0)) (local.get $b1))) (f64.mul (f64.load offset=67776 (i32.const 0)) (local.get $b2))) (f64.mul (f64.load offset=67792 (i32.const 0)) (local.get $b3))) (f64.mul (f64.load offset=67808 (i32.const 0)) (local.get $b4))) (f64.mul (f64.load offset=67824 (i32.const 0)) (local.get $b5)))))
+      (f64.add (f64.abs (f64.add (f64.add (f64.add (f64.add (f64.add (f64.mul (f64.load offset=67840 (i32.const 0)) (local.get $a0)) (f64.mul (f64.load offset=67856 (i32.const 0)) (local.get $a1))) (f64.mul (f64.load offset=67872 (i32.const 0)) (local.get $a2))) (f64.mul (f64.load offset=67888 (i32.const 0)) (local.get $a3))) (f64.mul (f64.load offset=67904 (i32.const 0)) (local.get $a4))) (f64.mul (f64.load offset=67920 (i32.const 0)) (local.get $a5))))
+               (f64.abs (f64.add (f64.add (f64.add (f64.add (f64.add (f64.mul (f64.load offset=67936 (i32.const 0)) (local.get $b0)) (f64.mul (f64.load offset=67952 (i32.const 0)) (local.get $b1))) (f64.mul (f64.load offset=67968 (i32.const 0)) (local.get $b2))) (f64.mul (f64.load offset=67984 (i32.const 0)) (local.get $b3))) (f64.mul (f64.load offset=68000 (i32.const 0)) (local.get $b4))) (f64.mul (f64.load offset=68016 (i32.const 0)) (local.get $b5)))))
+      (f64.abs (local.get $x11))))
 
 ;; The piece's 32-frame chunks in order, as TruePeakMeter.scanChunks: the chunk's sample peak,
 ;; then the bound test, then the interpolation. Returns the overs found.
@@ -135,7 +193,7 @@
         (if (i32.or (f64.gt (local.get $bound) (global.get $max)) (f64.gt (local.get $bound) (global.get $ceiling)))
           (then
             (global.set $maxAt (i32.const -1))
-            (call $interpolate (local.get $from) (local.get $to))
+            (call $interpolate (local.get $from) (local.get $to) (f64.max (local.get $before) (local.get $sampleMax)))
             (if (i32.ge_s (global.get $maxAt) (i32.const 0))
               (then
                 (local.set $maxFrame
