@@ -121,6 +121,8 @@ export class TruePeakMeter implements Meter<TruePeakResult> {
       d1: pairs(ANNEX2_PHASE1, -1),
       ceiling: this.ceilingLinear,
       gainBound: ANNEX2_GAIN_BOUND,
+      // A negative merge distance keeps overs apart.
+      extendRuns: mergeFrames >= 0,
     });
   }
 
@@ -171,8 +173,12 @@ export class TruePeakMeter implements Meter<TruePeakResult> {
       state[SLOT.pruned] = this.pruned;
       const at = this.position + from;
       state[SLOT.position] = at;
-      const overs = kernel.scan(n);
-      for (let i = 0; i < overs; i++) this.recordOver(channel, at + kernel.overFrames[i], kernel.overPeaks[i]);
+      const runs = kernel.scan(n);
+      for (let i = 0; i < runs; i++) {
+        const first = at + kernel.runFirst[i],
+          last = at + kernel.runLast[i];
+        this.overLog.recordRun(channel, this.reported(first), this.reported(last), last - first + 1, kernel.runPeaks[i]);
+      }
       this.maxima[channel] = state[SLOT.maximum];
       this.maxFrame[channel] = state[SLOT.maximumFrame];
       this.pruned = state[SLOT.pruned];
@@ -186,8 +192,9 @@ export class TruePeakMeter implements Meter<TruePeakResult> {
     return bound > this.maxima[channel] || bound > this.ceilingLinear;
   }
 
-  private recordOver(channel: number, frame: number, peak: number): void {
-    this.overLog.record(channel, Math.max(0, frame - FILTER_DELAY_FRAMES), peak);
+  /** The frame an interpolated value is reported at: back by the filter delay. */
+  private reported(frame: number): number {
+    return Math.max(0, frame - FILTER_DELAY_FRAMES);
   }
 
   result(): TruePeakResult {

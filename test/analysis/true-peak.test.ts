@@ -109,6 +109,13 @@ describe('TruePeakMeter (ITU-R BS.1770-5 Annex 2)', () => {
         expect(result.events.map((e) => [e.startFrame, e.count, e.peakValue])).toEqual(expected);
         expect(10 ** (result.truePeakDbtp! / 20)).toBeCloseTo(Math.max(...perFrame), 12);
       }
+      // A negative merge distance keeps every over its own event.
+      const apart = new TruePeakMeter(info(1), { overCeilingDbtp: ceilingDbtp, overMergeSeconds: -1, maxEvents: 1e6 });
+      apart.push({ channelData: [x], frames: x.length });
+      const single = perFrame.filter((v) => v > dbToAmplitude(ceilingDbtp));
+      expect(apart.result().events.map((e) => [e.count, e.peakValue])).toEqual(
+        Array.from(single, (v) => [1, 20 * Math.log10(v)]),
+      );
     }
   });
 

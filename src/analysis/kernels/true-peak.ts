@@ -12,7 +12,7 @@ import { WASM_BASE64 } from './true-peak.wasm.ts';
 export const TRUE_PEAK_KERNEL_FRAMES = 16384;
 /** Samples before each piece that its first frames' taps reach (the .wat's IN[0, 11)). */
 export const TRUE_PEAK_HISTORY_FRAMES = 11;
-const { IN, ENV, C, W, ST: STATE, OE: OVER_FRAMES, OP: OVER_PEAKS } = KERNEL_MEMORY['true-peak'];
+const { IN, ENV, C, W, ST: STATE, OE: RUN_FIRST, OL: RUN_LAST, OP: RUN_PEAKS } = KERNEL_MEMORY['true-peak'];
 
 /** The state slots, in the .wat's order. */
 export const TRUE_PEAK_SLOT = {
@@ -23,6 +23,7 @@ export const TRUE_PEAK_SLOT = {
   position: 4,
   ceiling: 5,
   gainBound: 6,
+  extendRuns: 7,
 } as const;
 
 export interface TruePeakConstants {
@@ -33,6 +34,8 @@ export interface TruePeakConstants {
   d1: Float64Array;
   ceiling: number;
   gainBound: number;
+  /** Whether overs at consecutive frames may form one run (the over log merges them). */
+  extendRuns: boolean;
 }
 
 interface KernelExports {
@@ -46,9 +49,10 @@ export class TruePeakKernel {
   /** The piece's chunk maxima (envelope.ts). */
   readonly chunkMax: Float32Array;
   readonly state: Float64Array;
-  /** After scan(): the overs found, as frames of the piece and values. */
-  readonly overFrames: Int32Array;
-  readonly overPeaks: Float64Array;
+  /** After scan(): the runs of overs (consecutive frames) found: first and last frame of the piece, largest value. */
+  readonly runFirst: Int32Array;
+  readonly runLast: Int32Array;
+  readonly runPeaks: Float64Array;
 
   constructor(constants: TruePeakConstants) {
     const exports = instantiateKernel<KernelExports>(WASM_BASE64);
@@ -56,9 +60,10 @@ export class TruePeakKernel {
     const buffer = exports.memory.buffer;
     this.input = new Float32Array(buffer, IN, TRUE_PEAK_HISTORY_FRAMES + TRUE_PEAK_KERNEL_FRAMES + 3);
     this.chunkMax = new Float32Array(buffer, ENV, TRUE_PEAK_KERNEL_FRAMES / 32);
-    this.state = new Float64Array(buffer, STATE, 7);
-    this.overFrames = new Int32Array(buffer, OVER_FRAMES, TRUE_PEAK_KERNEL_FRAMES);
-    this.overPeaks = new Float64Array(buffer, OVER_PEAKS, TRUE_PEAK_KERNEL_FRAMES);
+    this.state = new Float64Array(buffer, STATE, 8);
+    this.runFirst = new Int32Array(buffer, RUN_FIRST, TRUE_PEAK_KERNEL_FRAMES);
+    this.runLast = new Int32Array(buffer, RUN_LAST, TRUE_PEAK_KERNEL_FRAMES);
+    this.runPeaks = new Float64Array(buffer, RUN_PEAKS, TRUE_PEAK_KERNEL_FRAMES);
     // Each weight splatted: float64 for the exact arithmetic, float32 for the screening pass (exact
     // there too: the weights are multiples of 2^-17 below 1).
     const weights = new Float64Array(buffer, C, 48),
@@ -72,9 +77,10 @@ export class TruePeakKernel {
     );
     this.state[TRUE_PEAK_SLOT.ceiling] = constants.ceiling;
     this.state[TRUE_PEAK_SLOT.gainBound] = constants.gainBound;
+    this.state[TRUE_PEAK_SLOT.extendRuns] = constants.extendRuns ? 1 : 0;
   }
 
-  /** Reads `frames` <= TRUE_PEAK_KERNEL_FRAMES of input; returns the overs found. */
+  /** Reads `frames` <= TRUE_PEAK_KERNEL_FRAMES of input; returns the runs of overs found. */
   scan(frames: number): number {
     return this.exports.scan(frames);
   }

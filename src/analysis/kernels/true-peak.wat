@@ -11,15 +11,19 @@
 ;;   C 67648 the pair weights s0[6], d0[6], s1[6], d1[6], each splatted (f64x2); W 264704 the same
 ;;      as float32, each splatted (f32x4)
 ;;   ST 68032 f64 slots: 0 maximum, 1 its frame, 2 max|x| of the 11 samples before the piece,
-;;      3 pruned frames, 4 position (frame of the piece's first sample), 5 over ceiling, 6 gain bound
-;;   OE 68096 i32 and OP 133632 f64: the overs found (piece frame, value); scan returns their count
+;;      3 pruned frames, 4 position (frame of the piece's first sample), 5 over ceiling, 6 gain bound,
+;;      7 1 if a run of overs may span frames (else each over is its own run)
+;;   OE 68096 i32, OL 265216 i32 and OP 133632 f64: the runs of overs (consecutive frames) found,
+;;      as first and last piece frame and largest value; scan returns their count
 ;;
 (module
-  (memory (export "memory") 5)
+  (memory (export "memory") 6)
   (global $max (mut f64) (f64.const 0))
   (global $gate (mut f64) (f64.const 0))
   (global $maxAt (mut i32) (i32.const -1))
   (global $overs (mut i32) (i32.const 0))
+  (global $runLast (mut i32) (i32.const 0))
+  (global $extendRuns (mut i32) (i32.const 0))
   (global $ceiling (mut f64) (f64.const 0))
 
 ;; One frame's phase values: the scalar loop's test, new maximum and over, in its order.
@@ -36,9 +40,19 @@
           (then (global.set $max (local.get $peak)) (global.set $maxAt (local.get $n))))
         (if (f64.gt (local.get $peak) (global.get $ceiling))
           (then
-            (i32.store offset=68096 (i32.shl (global.get $overs) (i32.const 2)) (local.get $n))
-            (f64.store offset=133632 (i32.shl (global.get $overs) (i32.const 3)) (local.get $peak))
-            (global.set $overs (i32.add (global.get $overs) (i32.const 1)))))
+            ;; A frame right after the open run's last extends it (OverLog merges them in any case).
+            (if (i32.and (i32.and (i32.gt_s (global.get $overs) (i32.const 0)) (global.get $extendRuns))
+                         (i32.eq (local.get $n) (i32.add (global.get $runLast) (i32.const 1))))
+              (then
+                (if (f64.gt (local.get $peak) (f64.load offset=133632 (i32.shl (i32.sub (global.get $overs) (i32.const 1)) (i32.const 3))))
+                  (then (f64.store offset=133632 (i32.shl (i32.sub (global.get $overs) (i32.const 1)) (i32.const 3)) (local.get $peak))))
+                (i32.store offset=265216 (i32.shl (i32.sub (global.get $overs) (i32.const 1)) (i32.const 2)) (local.get $n)))
+              (else
+                (i32.store offset=68096 (i32.shl (global.get $overs) (i32.const 2)) (local.get $n))
+                (i32.store offset=265216 (i32.shl (global.get $overs) (i32.const 2)) (local.get $n))
+                (f64.store offset=133632 (i32.shl (global.get $overs) (i32.const 3)) (local.get $peak))
+                (global.set $overs (i32.add (global.get $overs) (i32.const 1)))))
+            (global.set $runLast (local.get $n))))
         (global.set $gate (f64.min (global.get $max) (global.get $ceiling))))))
 
 ;; Frames [from, to) of the piece; frame n's taps are IN[n .. n + 11], IN[n + 11] its own sample.
@@ -159,7 +173,7 @@
       (f64.abs (local.get $x11))))
 
 ;; The piece's 32-frame chunks in order, as TruePeakMeter.scanChunks: the chunk's sample peak,
-;; then the bound test, then the interpolation. Returns the overs found.
+;; then the bound test, then the interpolation. Returns the runs of overs found.
   (func (export "scan") (param $frames i32) (result i32)
     (local $k i32) (local $from i32) (local $to i32) (local $at i32)
     (local $sampleMax f64) (local $before f64) (local $bound f64) (local $position f64) (local $gain f64) (local $pruned f64)
@@ -171,6 +185,7 @@
     (local.set $position (f64.load offset=68064 (i32.const 0)))
     (global.set $ceiling (f64.load offset=68072 (i32.const 0)))
     (local.set $gain (f64.load offset=68080 (i32.const 0)))
+    (global.set $extendRuns (f64.ne (f64.load offset=68088 (i32.const 0)) (f64.const 0)))
     (global.set $overs (i32.const 0))
     (block $done
       (loop $chunks
