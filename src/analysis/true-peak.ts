@@ -177,7 +177,13 @@ export class TruePeakMeter implements Meter<TruePeakResult> {
       for (let i = 0; i < runs; i++) {
         const first = at + kernel.runFirst[i],
           last = at + kernel.runLast[i];
-        this.overLog.recordRun(channel, this.reported(first), this.reported(last), last - first + 1, kernel.runPeaks[i]);
+        this.overLog.recordRun(
+          channel,
+          this.reported(first),
+          this.reported(last),
+          last - first + 1,
+          kernel.runPeaks[i],
+        );
       }
       this.maxima[channel] = state[SLOT.maximum];
       this.maxFrame[channel] = state[SLOT.maximumFrame];
