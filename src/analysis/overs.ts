@@ -38,6 +38,21 @@ export class OverLog {
     this.open[channel] = { startFrame: frame, lastFrame: frame, count: 1, peak };
   }
 
+  /** Overs at `count` consecutive frames from `startFrame` to `lastFrame` (equal frames allowed
+   * where positions clamp at 0), largest value `peak`: the same as recording each in turn when the
+   * merge distance is at least 0 (overs a frame apart then always merge); else pass single overs. */
+  recordRun(channel: number, startFrame: number, lastFrame: number, count: number, peak: number): void {
+    const open = this.open[channel];
+    if (open && startFrame - open.lastFrame <= this.mergeFrames + 1) {
+      open.lastFrame = lastFrame;
+      open.count += count;
+      if (peak > open.peak) open.peak = peak;
+      return;
+    }
+    this.close(channel);
+    this.open[channel] = { startFrame, lastFrame, count, peak };
+  }
+
   private close(channel: number): void {
     const open = this.open[channel];
     if (!open) return;

@@ -8,10 +8,13 @@
 //   six multiplies each on pre-added tap pairs.
 // - A span of samples whose interpolated values provably cannot exceed both the running
 //   maximum and the over ceiling is skipped: |y| <= max|x over the taps| * max_p sum|h_p|.
-//   The bound is checked per 32-frame chunk, from the shared block envelope (envelope.ts).
-// The kernel loads its 12 taps per output (fewer register spills than sliding them through
-// locals) and tests one gate per sample;
-// it runs at the scalar floating-point throughput (V8 does not vectorise).
+//   The bound is checked per 32-frame chunk, from the shared block envelope (envelope.ts), and
+//   first over a whole 16384-frame piece, which then skips the kernel call and its copy.
+// A WebAssembly SIMD kernel (kernels/true-peak.wat) runs the chunk loop and the interpolation: a
+// float32 pass, four frames a vector, with a proven error margin finds the frames that may beat
+// the gate, and only those get the float64 arithmetic above, in its order, so every reading is
+// the scalar loop's to the bit. On a limited master most frames sit under the ceiling but near it,
+// where no bound from max|x| can skip them.
 // A reconstructed waveform passes through its own samples, so the reading is never below the
 // sample peak (the example filter's passband ripple would otherwise under-read by ~0.2 dB).
 
@@ -20,6 +23,12 @@ import { ENVELOPE_CHUNK_FRAMES, EnvelopeBuilder } from './envelope.ts';
 import type { EventList } from './events.ts';
 import { OverLog } from './overs.ts';
 import { amplitudeToDb, dbToAmplitude } from './units.ts';
+import {
+  TRUE_PEAK_HISTORY_FRAMES,
+  TRUE_PEAK_KERNEL_FRAMES,
+  TRUE_PEAK_SLOT as SLOT,
+  TruePeakKernel,
+} from './kernels/true-peak.ts';
 
 /** BS.1770-5 Annex 2, section 3: phase 0 and phase 1 of the example filter. */
 export const ANNEX2_PHASE0 = [
@@ -36,10 +45,14 @@ const HISTORY = TAPS - 1;
 const FILTER_DELAY_FRAMES = 6;
 // A chunk's taps lie in it and the chunk before only if a chunk is at least HISTORY frames long.
 if (ENVELOPE_CHUNK_FRAMES < HISTORY) throw new Error('envelope chunks are shorter than the filter history');
+if (HISTORY !== TRUE_PEAK_HISTORY_FRAMES || ENVELOPE_CHUNK_FRAMES !== 32)
+  throw new Error('the true-peak kernel assumes an 11-frame history and 32-frame chunks');
 
 const sumAbs = (h: number[]) => h.reduce((s, v) => s + Math.abs(v), 0);
 /** Largest possible |y| per unit of max|x|: the bound used for exact pruning. */
 export const ANNEX2_GAIN_BOUND = Math.max(sumAbs(ANNEX2_PHASE0), sumAbs(ANNEX2_PHASE1));
+// The kernel's float32 screening margin (true-peak.wat) assumes a gain bound below 4.
+if (ANNEX2_GAIN_BOUND >= 4) throw new Error('the true-peak screening margin assumes a gain bound below 4');
 
 /** max |x[i]| for i in [from, to). One lane: V8 compiles this tighter than unrolled lanes. */
 function absMax(x: Float32Array, from: number, to: number): number {
@@ -76,20 +89,14 @@ export class TruePeakMeter implements Meter<TruePeakResult> {
   private readonly sampleRate: number;
   private readonly ceilingLinear: number;
   private readonly ceilingDbtp: number;
-  private readonly mergeFrames: number;
   private readonly maxima: Float64Array;
   private readonly maxFrame: Float64Array;
   private readonly history: Float32Array[];
   /** max |x| of each channel's HISTORY samples carried from the previous block. */
   private readonly historyMax: Float64Array;
-  /** The previous block's last HISTORY samples, then this block's first chunk. */
-  private readonly head = new Float32Array(HISTORY + ENVELOPE_CHUNK_FRAMES);
   private readonly envelopes = new EnvelopeBuilder();
   private readonly overLog: OverLog;
-  private readonly s0: Float64Array;
-  private readonly d0: Float64Array;
-  private readonly s1: Float64Array;
-  private readonly d1: Float64Array;
+  private readonly kernel: TruePeakKernel;
   private position = 0;
   private pruned = 0;
 
@@ -98,58 +105,90 @@ export class TruePeakMeter implements Meter<TruePeakResult> {
     this.sampleRate = info.sampleRate;
     this.ceilingDbtp = options.overCeilingDbtp ?? -1;
     this.ceilingLinear = dbToAmplitude(this.ceilingDbtp);
-    this.mergeFrames = Math.round((options.overMergeSeconds ?? 0.05) * info.sampleRate);
+    const mergeFrames = Math.round((options.overMergeSeconds ?? 0.05) * info.sampleRate);
     this.maxima = new Float64Array(info.channels);
     this.maxFrame = new Float64Array(info.channels);
     this.history = Array.from({ length: info.channels }, () => new Float32Array(HISTORY));
     this.historyMax = new Float64Array(info.channels);
-    this.overLog = new OverLog('true_peak_over', info.channels, info.sampleRate, this.mergeFrames, options.maxEvents);
+    this.overLog = new OverLog('true_peak_over', info.channels, info.sampleRate, mergeFrames, options.maxEvents);
     // Halved (exact: a power of two), so |S| + |D| is already max(|y0|, |y3|).
     const pairs = (h: number[], sign: number) =>
       Float64Array.from({ length: 6 }, (_, k) => 0.5 * (h[k] + sign * h[TAPS - 1 - k]));
-    this.s0 = pairs(ANNEX2_PHASE0, 1);
-    this.d0 = pairs(ANNEX2_PHASE0, -1);
-    this.s1 = pairs(ANNEX2_PHASE1, 1);
-    this.d1 = pairs(ANNEX2_PHASE1, -1);
+    this.kernel = new TruePeakKernel({
+      s0: pairs(ANNEX2_PHASE0, 1),
+      d0: pairs(ANNEX2_PHASE0, -1),
+      s1: pairs(ANNEX2_PHASE1, 1),
+      d1: pairs(ANNEX2_PHASE1, -1),
+      ceiling: this.ceilingLinear,
+      gainBound: ANNEX2_GAIN_BOUND,
+      // A negative merge distance keeps overs apart.
+      extendRuns: mergeFrames >= 0,
+    });
   }
 
   push(block: PcmBlock): void {
     const frames = block.frames;
     if (frames === 0) return;
     const envelope = this.envelopes.of(block);
-    const head = this.head;
     for (let c = 0; c < this.channels; c++) {
       const x = block.channelData[c];
       const history = this.history[c];
-      // Only the first chunk's taps reach into the previous block: it alone reads a joined copy.
-      head.set(history, 0);
-      head.set(x.subarray(0, Math.min(frames, ENVELOPE_CHUNK_FRAMES)), HISTORY);
-      this.scanChunks(c, x, envelope.maxAbs[c], frames);
+      this.scanPieces(c, x, history, envelope.maxAbs[c], frames);
       if (frames >= HISTORY) history.set(x.subarray(frames - HISTORY, frames));
-      else history.set(head.subarray(frames, frames + HISTORY));
+      else {
+        history.copyWithin(0, frames);
+        history.set(x.subarray(0, frames), HISTORY - frames);
+      }
       this.historyMax[c] = absMax(history, 0, HISTORY);
     }
     this.position += frames;
   }
 
-  /** The block's chunks in order; `head` holds HISTORY samples before frame 0 and the first chunk. */
-  private scanChunks(channel: number, x: Float32Array, chunkMax: Float32Array, frames: number): void {
-    // max |x| of the taps before the chunk: the history, then the previous chunk.
+  /** The block in kernel pieces (whole chunks); the kernel keeps the per-chunk order of the scan. */
+  private scanPieces(channel: number, x: Float32Array, history: Float32Array, chunkMax: Float32Array, frames: number) {
+    const kernel = this.kernel,
+      state = kernel.state;
+    // max |x| of the taps before the piece: the history, then the previous piece's last chunk.
     let before = this.historyMax[channel];
-    for (let k = 0, from = 0; from < frames; k++, from += ENVELOPE_CHUNK_FRAMES) {
-      const to = Math.min(from + ENVELOPE_CHUNK_FRAMES, frames);
-      const sampleMax = chunkMax[k];
-      if (sampleMax > this.maxima[channel]) {
-        let at = from;
-        while (Math.abs(x[at]) !== sampleMax) at++;
-        this.maxima[channel] = sampleMax;
-        this.maxFrame[channel] = this.position + at;
+    for (let from = 0; from < frames; from += TRUE_PEAK_KERNEL_FRAMES) {
+      const n = Math.min(TRUE_PEAK_KERNEL_FRAMES, frames - from);
+      const chunk0 = from / ENVELOPE_CHUNK_FRAMES,
+        chunkEnd = chunk0 + Math.ceil(n / ENVELOPE_CHUNK_FRAMES);
+      let pieceMax = 0;
+      for (let k = chunk0; k < chunkEnd; k++) if (chunkMax[k] > pieceMax) pieceMax = chunkMax[k];
+      // A skipped piece changes nothing else: the bound's gain exceeds 1, so a chunk whose sample
+      // peak beats the running maximum is never skipped.
+      if (!this.mayExceed(Math.max(before, pieceMax), channel)) {
+        this.pruned += n;
+        before = chunkMax[chunkEnd - 1];
+        continue;
       }
-      if (!this.mayExceed(Math.max(before, sampleMax), channel)) this.pruned += to - from;
-      // Taps of frame f: head[f .. f + HISTORY] in the first chunk, x[f - HISTORY .. f] after it.
-      else if (k === 0) this.interpolateSpan(channel, this.head, 0, from, to);
-      else this.interpolateSpan(channel, x, -HISTORY, from, to);
-      before = sampleMax;
+      if (from === 0) kernel.input.set(history, 0);
+      else kernel.input.set(x.subarray(from - HISTORY, from), 0);
+      kernel.input.set(x.subarray(from, from + n), HISTORY);
+      kernel.chunkMax.set(chunkMax.subarray(chunk0, chunkEnd));
+      state[SLOT.maximum] = this.maxima[channel];
+      state[SLOT.maximumFrame] = this.maxFrame[channel];
+      state[SLOT.historyMax] = before;
+      state[SLOT.pruned] = this.pruned;
+      const at = this.position + from;
+      state[SLOT.position] = at;
+      const runs = kernel.scan(n);
+      for (let i = 0; i < runs; i++) {
+        const first = at + kernel.runFirst[i],
+          last = at + kernel.runLast[i];
+        this.overLog.recordRun(
+          channel,
+          this.reported(first),
+          this.reported(last),
+          last - first + 1,
+          kernel.runPeaks[i],
+        );
+      }
+      this.maxima[channel] = state[SLOT.maximum];
+      this.maxFrame[channel] = state[SLOT.maximumFrame];
+      this.pruned = state[SLOT.pruned];
+      before = state[SLOT.historyMax];
     }
   }
 
@@ -159,91 +198,9 @@ export class TruePeakMeter implements Meter<TruePeakResult> {
     return bound > this.maxima[channel] || bound > this.ceilingLinear;
   }
 
-  /** Frames [start, end): the taps of frame f are taps[f + offset .. f + offset + HISTORY]. */
-  private interpolateSpan(channel: number, taps: Float32Array, offset: number, start: number, end: number): void {
-    const { s0, d0, s1, d1 } = this;
-    const s00 = s0[0],
-      s01 = s0[1],
-      s02 = s0[2],
-      s03 = s0[3],
-      s04 = s0[4],
-      s05 = s0[5];
-    const d00 = d0[0],
-      d01 = d0[1],
-      d02 = d0[2],
-      d03 = d0[3],
-      d04 = d0[4],
-      d05 = d0[5];
-    const s10 = s1[0],
-      s11 = s1[1],
-      s12 = s1[2],
-      s13 = s1[3],
-      s14 = s1[4],
-      s15 = s1[5];
-    const d10 = d1[0],
-      d11 = d1[1],
-      d12 = d1[2],
-      d13 = d1[3],
-      d14 = d1[4],
-      d15 = d1[5];
-    const ceiling = this.ceilingLinear;
-    let max = this.maxima[channel],
-      maxAt = -1;
-    // One test per sample: either a new maximum or an over is rare.
-    let gate = Math.min(max, ceiling);
-    for (let n = start, t = start + offset; n < end; n++, t++) {
-      // Twelve loads per output beat sliding the taps through locals: fewer register spills.
-      const x0 = taps[t],
-        x1 = taps[t + 1],
-        x2 = taps[t + 2],
-        x3 = taps[t + 3],
-        x4 = taps[t + 4],
-        x5 = taps[t + 5];
-      const x6 = taps[t + 6],
-        x7 = taps[t + 7],
-        x8 = taps[t + 8],
-        x9 = taps[t + 9],
-        x10 = taps[t + 10],
-        x11 = taps[t + 11];
-      const a0 = x11 + x0,
-        b0 = x11 - x0;
-      const a1 = x10 + x1,
-        b1 = x10 - x1;
-      const a2 = x9 + x2,
-        b2 = x9 - x2;
-      const a3 = x8 + x3,
-        b3 = x8 - x3;
-      const a4 = x7 + x4,
-        b4 = x7 - x4;
-      const a5 = x6 + x5,
-        b5 = x6 - x5;
-      const even =
-        Math.abs(s00 * a0 + s01 * a1 + s02 * a2 + s03 * a3 + s04 * a4 + s05 * a5) +
-        Math.abs(d00 * b0 + d01 * b1 + d02 * b2 + d03 * b3 + d04 * b4 + d05 * b5);
-      const odd =
-        Math.abs(s10 * a0 + s11 * a1 + s12 * a2 + s13 * a3 + s14 * a4 + s15 * a5) +
-        Math.abs(d10 * b0 + d11 * b1 + d12 * b2 + d13 * b3 + d14 * b4 + d15 * b5);
-      // Three tests that are almost never true predict well; picking the largest of the three
-      // first would branch at random (about a third slower).
-      const ax = Math.abs(x11);
-      if (even > gate || odd > gate || ax > gate) {
-        const peak = even > odd ? (even > ax ? even : ax) : odd > ax ? odd : ax;
-        if (peak > max) {
-          max = peak;
-          maxAt = n;
-        }
-        if (peak > ceiling) this.recordOver(channel, this.position + n, peak);
-        gate = Math.min(max, ceiling);
-      }
-    }
-    if (maxAt >= 0) {
-      this.maxima[channel] = max;
-      this.maxFrame[channel] = Math.max(0, this.position + maxAt - FILTER_DELAY_FRAMES);
-    }
-  }
-
-  private recordOver(channel: number, frame: number, peak: number): void {
-    this.overLog.record(channel, Math.max(0, frame - FILTER_DELAY_FRAMES), peak);
+  /** The frame an interpolated value is reported at: back by the filter delay. */
+  private reported(frame: number): number {
+    return Math.max(0, frame - FILTER_DELAY_FRAMES);
   }
 
   result(): TruePeakResult {

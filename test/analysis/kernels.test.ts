@@ -114,6 +114,7 @@ describe('WebAssembly kernels', () => {
       'analysis/kernels/pair-sums.wat',
       'analysis/kernels/reconstructed-peak.wat',
       'analysis/kernels/sums.wat',
+      'analysis/kernels/true-peak.wat',
       'decode/kernels/s24-stereo.wat',
     ]);
     for (const wat of sources)

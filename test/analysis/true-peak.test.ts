@@ -1,6 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { ANNEX2_GAIN_BOUND, ANNEX2_PHASE0, ANNEX2_PHASE1, TruePeakMeter } from '../../src/analysis/true-peak.ts';
 import { programmeBlocks } from '../../src/selftest/signals.ts';
+import { dbToAmplitude } from '../../src/analysis/units.ts';
 import { naiveTruePeak } from '../helpers/naive-true-peak.ts';
 
 const info = (channels: number, sampleRate = 48000) => ({
@@ -54,6 +55,68 @@ describe('TruePeakMeter (ITU-R BS.1770-5 Annex 2)', () => {
     expect(overSamples).toBeGreaterThan(0);
     expect(counted).toBe(overSamples);
     expect(result.events.every((e) => e.kind === 'true_peak_over' && e.peakValue! > ceilingDbtp)).toBe(true);
+  });
+
+  it('gives every interpolated over bit for bit as the scalar S/D arithmetic does, on a limited master, odd blocks', () => {
+    // The scalar form of the kernel's arithmetic: halved pair sums and differences, added in tap order.
+    const pairs = (h: number[], sign: number) => h.slice(0, 6).map((v, k) => 0.5 * (v + sign * h[11 - k]));
+    const [s0, d0, s1, d1] = [
+      pairs(ANNEX2_PHASE0, 1),
+      pairs(ANNEX2_PHASE0, -1),
+      pairs(ANNEX2_PHASE1, 1),
+      pairs(ANNEX2_PHASE1, -1),
+    ];
+    const [block] = [
+      ...programmeBlocks({ sampleRate: 48000, channels: 1, seconds: 2, seed: 7, levelDbfs: 0, blockFrames: 1 << 20 }),
+    ];
+    // Gain into a ceiling, as a brick-wall limiter leaves it: every chunk reaches the ceiling.
+    const ceiling = 10 ** (-1 / 20);
+    const x = block.channelData[0].map((v) => Math.max(-ceiling, Math.min(ceiling, 4 * v)));
+    const tap = (n: number) => (n >= 0 ? x[n] : 0);
+    const perFrame = Float64Array.from(x, (_, n) => {
+      const dot = (w: number[], sign: number) =>
+        w.reduce((sum, wk, k) => sum + wk * (tap(n - k) + sign * tap(n - 11 + k)), 0);
+      const even = Math.abs(dot(s0, 1)) + Math.abs(dot(d0, -1));
+      const odd = Math.abs(dot(s1, 1)) + Math.abs(dot(d1, -1));
+      return Math.max(even, odd, Math.abs(x[n]));
+    });
+    // At -1 dBTP most frames sit just under the ceiling; a ceiling 1e-10 dB under a frame's value
+    // makes it an over by far less than float32 rounding, which the kernel's screening must still
+    // hand to the exact arithmetic.
+    const near = [...perFrame].sort((a, b) => b - a)[500];
+    for (const ceilingDbtp of [-1, 20 * Math.log10(near) - 1e-10]) {
+      // Adjacent overs form one event (start, count, largest value); reported 6 frames earlier (the filter delay).
+      const expected: number[][] = [];
+      let last = -2;
+      perFrame.forEach((v, n) => {
+        if (!(v > dbToAmplitude(ceilingDbtp))) return;
+        const run = expected.at(-1);
+        if (run && n === last + 1) {
+          run[1]++;
+          run[2] = Math.max(run[2], v);
+        } else expected.push([Math.max(0, n - 6), 1, v]);
+        last = n;
+      });
+      for (const run of expected) run[2] = 20 * Math.log10(run[2]);
+      expect(expected.length).toBeGreaterThan(ceilingDbtp === -1 ? 1000 : 100);
+      for (const blockFrames of [1, 31, 16_385, x.length]) {
+        const meter = new TruePeakMeter(info(1), { overCeilingDbtp: ceilingDbtp, overMergeSeconds: 0, maxEvents: 1e6 });
+        for (let start = 0; start < x.length; start += blockFrames) {
+          const frames = Math.min(blockFrames, x.length - start);
+          meter.push({ channelData: [x.subarray(start, start + frames)], frames });
+        }
+        const result = meter.result();
+        expect(result.events.map((e) => [e.startFrame, e.count, e.peakValue])).toEqual(expected);
+        expect(10 ** (result.truePeakDbtp! / 20)).toBeCloseTo(Math.max(...perFrame), 12);
+      }
+      // A negative merge distance keeps every over its own event.
+      const apart = new TruePeakMeter(info(1), { overCeilingDbtp: ceilingDbtp, overMergeSeconds: -1, maxEvents: 1e6 });
+      apart.push({ channelData: [x], frames: x.length });
+      const single = perFrame.filter((v) => v > dbToAmplitude(ceilingDbtp));
+      expect(apart.result().events.map((e) => [e.count, e.peakValue])).toEqual(
+        Array.from(single, (v) => [1, 20 * Math.log10(v)]),
+      );
+    }
   });
 
   it('never reads below the sample peak, and reads an intersample over above 0 dBTP (BS.1770-5 Annex 2)', () => {

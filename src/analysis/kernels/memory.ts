@@ -20,4 +20,5 @@ export const KERNEL_MEMORY = {
     OE: 331776,
     OP: 397312,
   },
+  'true-peak': { IN: 0, ENV: 65600, C: 67648, ST: 68032, OE: 68096, OP: 133632, W: 264704, OL: 265216 },
 } as const satisfies Record<string, Record<string, number>>;
