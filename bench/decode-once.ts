@@ -46,7 +46,8 @@ async function decodeCandidate(name: string, path: string): Promise<number> {
 }
 
 const [way, format, path] = process.argv.slice(2);
-if (!way || !path || !isBenchFormat(format)) throw new Error('usage: decode-once.ts ours|raw|candidate:NAME FORMAT FILE');
+if (!way || !path || !isBenchFormat(format))
+  throw new Error('usage: decode-once.ts ours|raw|candidate:NAME FORMAT FILE');
 const started = performance.now();
 const frames =
   way === 'ours'
@@ -54,9 +55,12 @@ const frames =
     : way === 'raw'
       ? await decodeRaw(format, path)
       : await decodeCandidate(way.replace(/^candidate:/, ''), path);
+const cpu = process.cpuUsage();
 process.stdout.write(
   JSON.stringify({
     decodeSeconds: (performance.now() - started) / 1000,
+    // CPU time of the whole process, start-up included: steadier than wall time on a shared machine.
+    cpuSeconds: (cpu.user + cpu.system) / 1e6,
     frames,
     maxRssKb: process.resourceUsage().maxRSS,
   }),

@@ -6,7 +6,8 @@
 //   ebur128     `ffmpeg -i FILE -af ebur128=peak=true -f null -` (the reference of the performance issue)
 //   candidate:N decoders from outside the project (BENCH_DECODER_CANDIDATES, see decoder-formats.ts)
 // and prints medians: wall seconds of the whole process (start-up included), the child's own decode
-// seconds, and wall time as a ratio to ffmpeg decode and to ebur128. Prints figures, never fails on them.
+// seconds, its CPU seconds (start-up included; steadier than wall time on a shared machine), and
+// wall time as a ratio to ffmpeg decode and to ebur128. Prints figures, never fails on them.
 //
 // Environment: BENCH_RUNS (default 5), BENCH_DIR (cache folder, default $TMPDIR/earmark-decoders),
 // BENCH_MINUTES (default 10), BENCH_FORMATS (comma list, default all), BENCH_DECODER_CANDIDATES.
@@ -72,6 +73,7 @@ async function loadCandidates(): Promise<Candidate[]> {
 interface Sample {
   wallSeconds: number;
   decodeSeconds: number;
+  cpuSeconds: number;
   frames: number;
   maxRssMb: number;
 }
@@ -84,14 +86,19 @@ function parseChild(stdout: string): Omit<Sample, 'wallSeconds'> {
     if (typeof x !== 'number') throw new Error(`child output lacks ${key}: ${stdout}`);
     return x;
   };
-  return { decodeSeconds: get('decodeSeconds'), frames: get('frames'), maxRssMb: get('maxRssKb') / 1024 };
+  return {
+    decodeSeconds: get('decodeSeconds'),
+    cpuSeconds: get('cpuSeconds'),
+    frames: get('frames'),
+    maxRssMb: get('maxRssKb') / 1024,
+  };
 }
 
 function measure(way: string, format: BenchFormat, path: string): Sample {
   if (way === 'ffmpeg' || way === 'ebur128') {
     const filter = way === 'ebur128' ? ['-af', 'ebur128=peak=true'] : [];
     const { wallSeconds } = run('ffmpeg', ['-nostats', '-loglevel', 'error', '-i', path, ...filter, '-f', 'null', '-']);
-    return { wallSeconds, decodeSeconds: Number.NaN, frames: Number.NaN, maxRssMb: Number.NaN };
+    return { wallSeconds, decodeSeconds: Number.NaN, cpuSeconds: Number.NaN, frames: Number.NaN, maxRssMb: Number.NaN };
   }
   const { wallSeconds, stdout } = run(process.execPath, ['bin/run.js', 'bench/decode-once.ts', way, format, path]);
   return { wallSeconds, ...parseChild(stdout) };
@@ -109,10 +116,16 @@ const fmt = (x: number, digits = 2): string => (Number.isNaN(x) ? '-' : x.toFixe
 const source = await sourceFile();
 const candidates = await loadCandidates();
 console.log(`${runs} alternating runs per way, medians; ratios are wall time over ffmpeg's wall time on the same file`);
-console.log('format  way                      wall s  decode s  x ffmpeg  x ebur128  frames     rss MB');
+console.log('format  way                      wall s  decode s  cpu s  x ffmpeg  x ebur128  frames     rss MB');
 for (const format of formats) {
   const path = await encoded(format, source);
-  const ways = ['ours', 'raw', 'ffmpeg', 'ebur128', ...candidates.filter((c) => c.formats.includes(format)).map((c) => `candidate:${c.name}`)];
+  const ways = [
+    'ours',
+    'raw',
+    'ffmpeg',
+    'ebur128',
+    ...candidates.filter((c) => c.formats.includes(format)).map((c) => `candidate:${c.name}`),
+  ];
   const samples = new Map<string, Sample[]>(ways.map((w) => [w, []]));
   for (let i = 0; i < runs; i++) for (const way of ways) samples.get(way)?.push(measure(way, format, path));
   const wall = (way: string): number => median((samples.get(way) ?? []).map((s) => s.wallSeconds));
@@ -125,6 +138,7 @@ for (const format of formats) {
         way.padEnd(24),
         fmt(wall(way)).padStart(6),
         fmt(pick('decodeSeconds')).padStart(9),
+        fmt(pick('cpuSeconds')).padStart(6),
         fmt(wall(way) / wall('ffmpeg')).padStart(9),
         fmt(wall(way) / wall('ebur128')).padStart(10),
         fmt(pick('frames'), 0).padStart(10),
