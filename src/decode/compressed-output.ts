@@ -60,8 +60,9 @@ export class OutputCheck {
     for (let at = 0; at < frames; ) {
       const n = Math.min(frames - at, this.blockFrames - this.filled);
       for (let c = 0; c < channels.length; c++) {
-        this.pending[c].set(channels[c].subarray(at, at + n), this.filled);
-        if (this.flacScale) this.requantize(this.pending[c], this.filled, this.filled + n);
+        const from = channels[c].subarray(at, at + n);
+        if (this.flacScale) requantizeInto(this.pending[c], this.filled, from, this.flacScale);
+        else this.pending[c].set(from, this.filled);
       }
       this.filled += n;
       at += n;
@@ -119,16 +120,8 @@ export class OutputCheck {
     }
   }
 
-  /**
-   * The FLAC decoder scales by 1/(2^(bits-1) - 1); recover the integer and use 1/2^(bits-1) so
-   * output is bit-exact with the usual convention (and -full scale is -1.0, not below it).
-   */
+  /** 2^(bits-1) for FLAC (see requantizeInto), 0 for other codecs. */
   private readonly flacScale: number;
-
-  private requantize(ch: Float32Array, from: number, to: number): void {
-    const m = this.flacScale;
-    for (let i = from; i < to; i++) ch[i] = Math.round(ch[i] * (m - 1)) / m;
-  }
 
   private emit(): PcmBlock {
     const block: PcmBlock = { channelData: this.pending.map((c) => c.subarray(0, this.filled)), frames: this.filled };
@@ -202,4 +195,25 @@ export class OutputCheck {
       );
     }
   }
+}
+
+/**
+ * The FLAC decoder scales by 1/(2^(bits-1) - 1); recover the integer and use 1/2^(bits-1) so
+ * output is bit-exact with the usual convention (and -full scale is -1.0, not below it). Writes
+ * straight into the block: one pass over the samples, not a copy and then a second pass.
+ */
+export function requantizeInto(to: Float32Array, offset: number, from: Float32Array, scale: number): void {
+  const up = scale - 1;
+  for (let i = 0; i < from.length; i++) to[offset + i] = roundHalfUp(from[i] * up) / scale;
+}
+
+/**
+ * Math.round(y), bit for bit. On decoded samples (each a hair above or below an integer, at random)
+ * Math.round measured about 6x slower than Math.floor under Node 20, likely a mispredicted branch
+ * inside it. When the computed |y - r| is under 1/4, r is the one integer within 1/2 of y, which is
+ * Math.round(y); zero (whose sign Math.round keeps), halves, NaN and infinities fall back to it.
+ */
+function roundHalfUp(y: number): number {
+  const r = Math.floor(y + 0.5);
+  return Math.abs(y - r) < 0.25 && r !== 0 ? r : Math.round(y);
 }
