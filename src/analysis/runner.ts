@@ -79,7 +79,7 @@ export const METERS: { readonly [K in MeterName]: MeterDescriptor<Measurements[K
   },
   truePeak: {
     create: (info, o) => new TruePeakMeter(info, o.truePeak),
-    costMsPerMinute: 5.3,
+    costMsPerMinute: 2.8,
     readsEnvelope: true,
     events: { kinds: ['true_peak_over'], countOrder: 0 },
   },
