@@ -5,7 +5,8 @@
 import { spawn, spawnSync, type ChildProcess } from 'node:child_process';
 import { createServer, Socket } from 'node:net';
 
-function answers(host: string, port: number): Promise<boolean> {
+/** Whether something accepts a TCP connection there within a second. */
+export function answers(host: string, port: number): Promise<boolean> {
   return new Promise((resolve) => {
     const socket = new Socket();
     const done = (ok: boolean) => {
@@ -18,13 +19,15 @@ function answers(host: string, port: number): Promise<boolean> {
   });
 }
 
-function freePort(): Promise<number> {
+/** A loopback port free at the moment of asking. */
+export function freePort(): Promise<number> {
   return new Promise((resolve, reject) => {
     const server = createServer();
     server.once('error', reject);
     server.listen(0, '127.0.0.1', () => {
-      const { port } = server.address() as { port: number };
-      server.close(() => resolve(port));
+      const address = server.address();
+      const port = typeof address === 'object' && address !== null ? address.port : 0;
+      server.close(() => (port > 0 ? resolve(port) : reject(new Error('no free port'))));
     });
   });
 }

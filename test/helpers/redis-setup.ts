@@ -4,36 +4,11 @@
 // never share data with, or depend on, a Redis someone else runs.
 
 import { spawn, spawnSync, type ChildProcess } from 'node:child_process';
-import { createServer, Socket } from 'node:net';
 import type { TestProject } from 'vitest/node';
+import { answers, freePort } from '../../src/queue/local-redis.ts';
 import type { TestRedis } from './redis.ts';
 
 const START_BOUND_MS = 10_000;
-
-function answers(host: string, port: number): Promise<boolean> {
-  return new Promise((resolve) => {
-    const socket = new Socket();
-    const done = (ok: boolean) => {
-      socket.destroy();
-      resolve(ok);
-    };
-    socket.setTimeout(1_000, () => done(false));
-    socket.once('error', () => done(false));
-    socket.connect(port, host, () => done(true));
-  });
-}
-
-function freePort(): Promise<number> {
-  return new Promise((resolve, reject) => {
-    const server = createServer();
-    server.once('error', reject);
-    server.listen(0, '127.0.0.1', () => {
-      const address = server.address();
-      const port = typeof address === 'object' && address !== null ? address.port : 0;
-      server.close(() => (port > 0 ? resolve(port) : reject(new Error('no free port'))));
-    });
-  });
-}
 
 function exited(child: ChildProcess): Promise<void> {
   if (child.exitCode !== null || child.signalCode !== null) return Promise.resolve();

@@ -3,19 +3,10 @@
 // partial window judged when it holds at least half a window), flagged when both channels reach
 // -50 dBFS RMS in it and r < -0.5, consecutive flagged windows one event; LFE pairs not judged;
 // exact copies (a = b, a = -b) and near copies (|r| > 0.9999, RMS within 0.01 dB); dead channels.
+import type { ChannelPairRelation } from '../../../src/analysis/channel-relations.ts';
 
-export interface PairReading {
-  channel: number;
-  otherChannel: number;
-  correlation: number | null;
-  identical: boolean;
-  inverted: boolean;
-  nearIdentical: boolean;
-  nearInverted: boolean;
-  phaseChecked: boolean;
-  minWindowCorrelation: number | null;
-  phaseProblemWindows: number;
-}
+/** The document's per-pair shape (a type only: the readings are computed here). */
+export type PairReading = ChannelPairRelation;
 
 export interface RelationEvent {
   kind: 'dead_channel' | 'duplicate_channel' | 'inverted_channel' | 'phase_problem';
