@@ -4,6 +4,7 @@
 import { parseArgs } from 'node:util';
 import { printableName } from './printable.ts';
 import { analyzeFile } from '../engine/analyze-file.ts';
+import { THREADS_FLAG, threadsOption } from './threads.ts';
 import { EarmarkError } from '../errors/index.ts';
 import {
   analysisOptionsForProfile,
@@ -83,7 +84,12 @@ export function formatReport(report: QcReport): string {
   return lines.join('');
 }
 
-const CHECK_FLAGS = { profile: { type: 'string' }, fps: { type: 'string' }, json: { type: 'boolean' } } as const;
+const CHECK_FLAGS = {
+  profile: { type: 'string' },
+  fps: { type: 'string' },
+  json: { type: 'boolean' },
+  ...THREADS_FLAG,
+} as const;
 
 export async function checkCommand(args: string[], io: CliIo): Promise<number> {
   const { values, positionals } = parseArgs({ args, options: CHECK_FLAGS, allowPositionals: true, strict: true });
@@ -95,7 +101,8 @@ export async function checkCommand(args: string[], io: CliIo): Promise<number> {
     });
   const fps = values.fps === undefined ? undefined : frameRate(values.fps, 'fps').id;
   const profile = await resolveProfile(values.profile);
-  const document = await analyzeFile(positionals[0], { analysis: analysisOptionsForProfile(profile) });
+  const threads = threadsOption(values.threads);
+  const document = await analyzeFile(positionals[0], { analysis: analysisOptionsForProfile(profile), threads });
   const report = evaluate(profile, document, fps ? { frameRate: fps } : {});
   io.stdout(values.json ? `${JSON.stringify(report)}\n` : formatReport(report));
   return VERDICT_EXIT_CODES[report.verdict];

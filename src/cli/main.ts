@@ -9,13 +9,14 @@ import { checkCommand } from './check.ts';
 import { formatAnalysis } from './format-analysis.ts';
 import { profilesCommand } from './profiles.ts';
 import { runSelftest } from './selftest.ts';
+import { THREADS_FLAG, threadsOption } from './threads.ts';
 
 export const EXIT_ERROR = 3;
 
 const USAGE = `usage:
   earmark analyze <file> [--json] [--true-peak-ceiling dBTP] [--clip-run N] [--clip-threshold dBFS]
-                         [--silence-threshold dBFS] [--silence-min seconds] [--threads N]
-  earmark check <file> --profile <id|path.json> [--fps rate] [--json]
+                         [--silence-threshold dBFS] [--silence-min seconds] [--threads N|auto]
+  earmark check <file> --profile <id|path.json> [--fps rate] [--json] [--threads N|auto]
       rate: 23.976 24 25 29.97-df 29.97-ndf 30 50 59.94-df 59.94-ndf 60 (default: the profile's)
   earmark profiles [id] [--json]
   earmark selftest [--json]
@@ -86,15 +87,12 @@ const ANALYSIS_FLAGS = {
 async function analyzeCommand(args: string[], io: CliIo): Promise<number> {
   const { values, positionals } = parseArgs({
     args,
-    options: { ...ANALYSIS_FLAGS, threads: { type: 'string' } },
+    options: { ...ANALYSIS_FLAGS, ...THREADS_FLAG },
     allowPositionals: true,
     strict: true,
   });
   if (positionals.length !== 1) throw new EarmarkError('invalid_argument', 'analyze needs exactly one file');
-  const threads = numberOption(values, 'threads') ?? 1;
-  if (!Number.isInteger(threads) || threads < 1 || threads > 16) {
-    throw new EarmarkError('invalid_argument', '--threads must be a whole number from 1 to 16', { field: 'threads' });
-  }
+  const threads = threadsOption(values.threads);
   const document = await analyzeFile(positionals[0], { analysis: analysisOptionsFromArgs(values), threads });
   io.stdout(values.json ? `${JSON.stringify(document)}\n` : formatAnalysis(document));
   return 0;
