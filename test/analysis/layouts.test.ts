@@ -1,0 +1,151 @@
+// Channel weights from loudspeaker positions (ITU-R BS.1770-5 Annex 3 Table 4 over ITU-R BS.2051
+// nominal positions) and the loudness of sines in every channel of 7.1, 7.1.4, 9.1.6 and 22.2.
+import { spawnSync } from 'node:child_process';
+import { mkdtempSync, rmSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { afterAll, describe, expect, it } from 'vitest';
+import type { ChannelLabel } from '../../src/analysis/audio.ts';
+import { biquadGain, channelWeight, highpassCoefficients, shelfCoefficients } from '../../src/analysis/k-weighting.ts';
+import { LAYOUTS, loudnessWeight, SPEAKER_POSITIONS, weightAtPosition } from '../../src/analysis/layouts.ts';
+import { LoudnessMeter } from '../../src/analysis/loudness.ts';
+import { labelsFromChannelMask, openAudioFile } from '../../src/decode/index.ts';
+import { writeWavFile } from '../../src/encode/wav.ts';
+import { toneBlocks } from '../../src/selftest/signals.ts';
+import { hasTool } from '../helpers/tools.ts';
+
+const dir = mkdtempSync(join(tmpdir(), 'earmark-layouts-'));
+afterAll(() => rmSync(dir, { recursive: true, force: true }));
+
+const RATE = 48000;
+const AMPLITUDE = 0.1; // -20 dBFS peak in every channel
+
+const sines = (channels: number, seconds = 2) =>
+  toneBlocks({
+    sampleRate: RATE,
+    channels,
+    segments: [{ seconds, frequencyHz: 997, peakDbfs: 20 * Math.log10(AMPLITUDE) }],
+  });
+
+function integrated(labels: readonly ChannelLabel[], seconds = 2): number | null {
+  const meter = new LoudnessMeter({ sampleRate: RATE, channels: labels.length, channelLabels: labels });
+  for (const block of sines(labels.length, seconds)) meter.push(block);
+  return meter.result().integratedLufs;
+}
+
+/**
+ * ITU-R BS.1770-5 eq. (2): LK = -0.691 + 10 log10(sum Gi zi), zi the mean square of the K-weighted
+ * channel. A sine of amplitude A has mean square A^2/2; at 997 Hz the K filter gains +0.691 dB
+ * (Note 1 to eq. (2)), which the -0.691 cancels: LK = 10 log10(sum Gi A^2/2).
+ */
+const closedForm = (weights: readonly number[]) =>
+  10 * Math.log10(weights.reduce((sum, g) => sum + g, 0) * (AMPLITUDE * AMPLITUDE) / 2);
+
+describe('channel weights from BS.2051 positions (ITU-R BS.1770-5 Annex 3 Table 4)', () => {
+  it('gives 1.41 for azimuth 60-120 degrees either side below 30 degrees elevation, 1.0 elsewhere', () => {
+    // Table 4 rows; the closed bounds at 60 and 120 are from memory.
+    expect(weightAtPosition(90, 0)).toBe(1.41);
+    expect(weightAtPosition(-110, 0)).toBe(1.41);
+    expect(weightAtPosition(60, 0)).toBe(1.41);
+    expect(weightAtPosition(120, 29)).toBe(1.41);
+    expect(weightAtPosition(30, 0)).toBe(1);
+    expect(weightAtPosition(135, 0)).toBe(1);
+    expect(weightAtPosition(-150, 0)).toBe(1);
+    expect(weightAtPosition(90, 30)).toBe(1);
+    expect(weightAtPosition(110, 45)).toBe(1);
+    expect(weightAtPosition(0, 90)).toBe(1);
+    expect(weightAtPosition(250, 0)).toBe(1.41); // -110 degrees
+  });
+
+  it('weights each role by its position; LFE and LFE2 are excluded (BS.1770-5 Annex 1)', () => {
+    const sides: ChannelLabel[] = ['Ls', 'Rs', 'Lss', 'Rss', 'Lw', 'Rw'];
+    for (const label of Object.keys(SPEAKER_POSITIONS) as ChannelLabel[]) {
+      const expected = label === 'LFE' || label === 'LFE2' ? 0 : sides.includes(label) ? 1.41 : 1;
+      expect([label, loudnessWeight(label)]).toEqual([label, expected]);
+      expect(channelWeight(label)).toBe(loudnessWeight(label));
+    }
+  });
+
+  it('keeps the BS.2051 loudspeaker labels beside the positions (BS.2094 common definitions)', () => {
+    expect(SPEAKER_POSITIONS.Ls).toEqual({ bs2051: 'M+110', azimuthDegrees: 110, elevationDegrees: 0 });
+    expect(SPEAKER_POSITIONS.Lss?.bs2051).toBe('M+090');
+    expect(SPEAKER_POSITIONS.Lrs?.bs2051).toBe('M+135');
+    expect(SPEAKER_POSITIONS.Lw?.bs2051).toBe('M+060');
+    expect(SPEAKER_POSITIONS.Tsl?.bs2051).toBe('U+090');
+    expect(SPEAKER_POSITIONS.Bfr?.bs2051).toBe('B-045');
+  });
+});
+
+describe('WAVE channel masks (Microsoft ksmedia.h SPEAKER_* bit order)', () => {
+  it('7.1 (0x63F): side pair SL/SR at 90 degrees 1.41, back pair BL/BR at 135 degrees 1.0', () => {
+    const labels = labelsFromChannelMask(0x63f, 8);
+    expect(labels).toEqual(['L', 'R', 'C', 'LFE', 'Lrs', 'Rrs', 'Lss', 'Rss']);
+    expect(labels.map(channelWeight)).toEqual([1, 1, 1, 0, 1, 1, 1.41, 1.41]);
+    expect(labels).toEqual([...LAYOUTS['7.1']]);
+  });
+
+  it('7.1.4 (0x2D63F): plus TFL TFR TBL TBR on the upper layer (30 degrees elevation) at 1.0', () => {
+    const labels = labelsFromChannelMask(0x2d63f, 12);
+    expect(labels).toEqual(['L', 'R', 'C', 'LFE', 'Lrs', 'Rrs', 'Lss', 'Rss', 'Tfl', 'Tfr', 'Tbl', 'Tbr']);
+    expect(labels.map(channelWeight)).toEqual([1, 1, 1, 0, 1, 1, 1.41, 1.41, 1, 1, 1, 1]);
+    expect(labels).toEqual([...LAYOUTS['7.1.4']]);
+  });
+});
+
+describe('997 Hz sine in every channel reads 10 log10(sum Gi A^2/2) LKFS (ITU-R BS.1770-5 eq. (2))', () => {
+  const cases: [keyof typeof LAYOUTS, number][] = [
+    // sum of Gi over the channels, from Table 4 and the positions above
+    ['7.1', 5 + 2 * 1.41],
+    ['7.1.4', 9 + 2 * 1.41],
+    ['9.1.6', 11 + 4 * 1.41],
+    ['22.2', 18 + 4 * 1.41],
+  ];
+  for (const [layout, sumOfWeights] of cases) {
+    it(`${layout}: sum of weights ${sumOfWeights.toFixed(2)}`, () => {
+      const labels = LAYOUTS[layout];
+      expect(labels.map(channelWeight).reduce((s, g) => s + g, 0)).toBeCloseTo(sumOfWeights, 12);
+      const reading = integrated(labels);
+      expect(reading).not.toBeNull();
+      expect(Math.abs((reading ?? 0) - closedForm(labels.map(channelWeight)))).toBeLessThan(0.01);
+      // Tighter: the derived filter's own gain at 997 Hz in place of the rounded 0.691 dB.
+      const kGainDb =
+        20 * Math.log10(biquadGain(shelfCoefficients(RATE), 997, RATE) * biquadGain(highpassCoefficients(RATE), 997, RATE));
+      expect(Math.abs((reading ?? 0) - (closedForm(labels.map(channelWeight)) - 0.691 + kGainDb))).toBeLessThan(0.002);
+    });
+  }
+});
+
+describe.skipIf(!hasTool('ffmpeg'))('ffmpeg ebur128 on a 7.1 file (Debian ffmpeg)', () => {
+  it('weights the back pair 1.41 too (its BACK_MASK), so it reads 10 log10(8.64/7.82) = 0.43 dB above Table 4', async () => {
+    const path = join(dir, 'sines-7.1.wav');
+    await writeWavFile(
+      path,
+      { sampleRate: RATE, channels: 8, bitsPerSample: 32, float: true, channelMask: 0x63f },
+      (function* () {
+        for (const block of sines(8, 5)) yield [...block.channelData];
+      })(),
+    );
+    const decoded = await openAudioFile(path);
+    expect(decoded.format.channelLabels).toEqual([...LAYOUTS['7.1']]);
+    const ours = integrated(decoded.format.channelLabels, 5) ?? 0;
+    for await (const _ of decoded.blocks); // close the file
+    const stderr = ffmpegEbur128Log(path);
+    const match = /Integrated loudness:\s*\n\s*I:\s*(-?\d+\.\d)\s*LUFS/.exec(stderr);
+    expect(match).not.toBeNull();
+    const ffmpegLufs = Number(match?.[1]);
+    // ffmpeg: L R C 1.0, BL BR SL SR 1.41 (af_ebur128.c BACK_MASK), LFE 0; prints one decimal.
+    expect(Math.abs(ffmpegLufs - closedForm([1, 1, 1, 0, 1.41, 1.41, 1.41, 1.41]))).toBeLessThanOrEqual(0.051);
+    expect(Math.abs(ours - closedForm([1, 1, 1, 0, 1, 1, 1.41, 1.41]))).toBeLessThan(0.01);
+    expect(Math.abs(ffmpegLufs - ours - 10 * Math.log10(8.64 / 7.82))).toBeLessThanOrEqual(0.06);
+  });
+});
+
+/** ffmpeg's ebur128 filter prints its summary on stderr (-af ebur128, default framelog at info). */
+function ffmpegEbur128Log(path: string): string {
+  const run = spawnSync('ffmpeg', ['-nostats', '-hide_banner', '-i', path, '-af', 'ebur128', '-f', 'null', '-'], {
+    encoding: 'utf8',
+    maxBuffer: 64 * 1024 * 1024,
+  });
+  expect(run.status).toBe(0);
+  return run.stderr;
+}
