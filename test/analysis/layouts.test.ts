@@ -39,7 +39,7 @@ function integrated(labels: readonly ChannelLabel[], seconds = 2): number | null
  * (Note 1 to eq. (2)), which the -0.691 cancels: LK = 10 log10(sum Gi A^2/2).
  */
 const closedForm = (weights: readonly number[]) =>
-  10 * Math.log10(weights.reduce((sum, g) => sum + g, 0) * (AMPLITUDE * AMPLITUDE) / 2);
+  10 * Math.log10((weights.reduce((sum, g) => sum + g, 0) * (AMPLITUDE * AMPLITUDE)) / 2);
 
 describe('channel weights from BS.2051 positions (ITU-R BS.1770-5 Annex 3 Table 4)', () => {
   it('gives 1.41 for azimuth 60-120 degrees either side below 30 degrees elevation, 1.0 elsewhere', () => {
@@ -109,7 +109,8 @@ describe('997 Hz sine in every channel reads 10 log10(sum Gi A^2/2) LKFS (ITU-R 
       expect(Math.abs((reading ?? 0) - closedForm(labels.map(channelWeight)))).toBeLessThan(0.01);
       // Tighter: the derived filter's own gain at 997 Hz in place of the rounded 0.691 dB.
       const kGainDb =
-        20 * Math.log10(biquadGain(shelfCoefficients(RATE), 997, RATE) * biquadGain(highpassCoefficients(RATE), 997, RATE));
+        20 *
+        Math.log10(biquadGain(shelfCoefficients(RATE), 997, RATE) * biquadGain(highpassCoefficients(RATE), 997, RATE));
       expect(Math.abs((reading ?? 0) - (closedForm(labels.map(channelWeight)) - 0.691 + kGainDb))).toBeLessThan(0.002);
     });
   }

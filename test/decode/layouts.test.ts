@@ -73,7 +73,12 @@ function bw64(channels: number, samples: Uint8Array, chna: number[], chnaAfterDa
   const data = chunk('data', samples);
   const chnaChunk = chunk('chna', chna);
   const body = chnaAfterData ? [fmt, data, chnaChunk] : [fmt, chnaChunk, data];
-  const ds64 = chunk('ds64', [...le64(4 + 36 + body.reduce((n, p) => n + p.length, 0)), ...le64(samples.length), ...le64(frames), ...le32(0)]);
+  const ds64 = chunk('ds64', [
+    ...le64(4 + 36 + body.reduce((n, p) => n + p.length, 0)),
+    ...le64(samples.length),
+    ...le64(frames),
+    ...le32(0),
+  ]);
   return concat([Uint8Array.from([...ascii('BW64'), ...le32(0xffffffff), ...ascii('WAVE')]), ds64, ...body]);
 }
 
@@ -91,7 +96,11 @@ function sinePcm16(channels: number, seconds: number): Uint8Array {
 
 async function loudnessOf(decoded: DecodedAudio): Promise<number | null> {
   const { format } = decoded;
-  const meter = new LoudnessMeter({ sampleRate: format.sampleRate, channels: format.channels, channelLabels: format.channelLabels });
+  const meter = new LoudnessMeter({
+    sampleRate: format.sampleRate,
+    channels: format.channels,
+    channelLabels: format.channelLabels,
+  });
   for await (const block of decoded.blocks) meter.push(block);
   return meter.result().integratedLufs;
 }
@@ -103,7 +112,10 @@ async function decodeFile(bytes: Uint8Array, layout?: LayoutName): Promise<Decod
 }
 
 // BS.2094 AP_00010009 (22.2, BS.2051 System H): its channel formats in order, as track formats AT_0001xxxx_01.
-const TWENTY_TWO_TWO = [0x18, 0x19, 0x03, 0x20, 0x1c, 0x1d, 0x01, 0x02, 0x09, 0x21, 0x0a, 0x0b, 0x22, 0x23, 0x0e, 0x0c, 0x1e, 0x1f, 0x13, 0x14, 0x11, 0x15, 0x16, 0x17];
+const TWENTY_TWO_TWO = [
+  0x18, 0x19, 0x03, 0x20, 0x1c, 0x1d, 0x01, 0x02, 0x09, 0x21, 0x0a, 0x0b, 0x22, 0x23, 0x0e, 0x0c, 0x1e, 0x1f, 0x13,
+  0x14, 0x11, 0x15, 0x16, 0x17,
+];
 const trackRef = (index: number) => `AT_0001${index.toString(16).padStart(4, '0')}_01`;
 
 describe('BW64 chna chunk (ITU-R BS.2088 / BS.2076 / BS.2094 common definitions)', () => {
@@ -143,7 +155,17 @@ describe('BW64 chna chunk (ITU-R BS.2088 / BS.2076 / BS.2094 common definitions)
 
   it('reads only the entries present when numUIDs claims more (bounded read)', async () => {
     const decoded = await decodeFile(
-      bw64(2, new Uint8Array(2 * 2 * 10), chnaBody([{ track: 1, ref: trackRef(1) }, { track: 2, ref: trackRef(2) }], 65535)),
+      bw64(
+        2,
+        new Uint8Array(2 * 2 * 10),
+        chnaBody(
+          [
+            { track: 1, ref: trackRef(1) },
+            { track: 2, ref: trackRef(2) },
+          ],
+          65535,
+        ),
+      ),
     );
     expect(decoded.format.channelLabels).toEqual(['L', 'R']);
   });
@@ -174,7 +196,7 @@ describe('declared layout (file without a channel mask or chna)', () => {
     expect(String((failure as Error).message)).toContain('7.1 has 8 channels, the file has 6');
   });
 
-  it("a file with its own channel mask keeps it, with a warning when the declaration differs", async () => {
+  it('a file with its own channel mask keeps it, with a warning when the declaration differs', async () => {
     const decoded = await openAudioFile(await plainWav(6, 0x3f), { layout: '2.0' });
     expect(decoded.format.channelLabels).toEqual([...LAYOUTS['5.1']]);
     expect(decoded.format.layoutFrom).toBe('channel_mask');
