@@ -45,7 +45,7 @@ export interface DecodeWarning {
   message: string;
   /** Sample-frame position the warning applies from; every warning of damage has one (where the audio stops or the first bad sample). */
   atFrame?: number;
-  /** How many samples the warning covers (non_finite_samples: all of them, every channel). */
+  /** How many samples the warning covers (non_finite_samples: all of them, every channel); channel_unidentified: how many channels. */
   count?: number;
 }
 

@@ -6,6 +6,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
 import type { ChannelLabel } from '../../src/analysis/audio.ts';
+import { ChannelRelationMeter } from '../../src/analysis/channel-relations.ts';
 import { biquadGain, channelWeight, highpassCoefficients, shelfCoefficients } from '../../src/analysis/k-weighting.ts';
 import { LAYOUTS, loudnessWeight, SPEAKER_POSITIONS, weightAtPosition } from '../../src/analysis/layouts.ts';
 import { LoudnessMeter } from '../../src/analysis/loudness.ts';
@@ -73,6 +74,18 @@ describe('channel weights from BS.2051 positions (ITU-R BS.1770-5 Annex 3 Table 
     expect(SPEAKER_POSITIONS.Lw?.bs2051).toBe('M+060');
     expect(SPEAKER_POSITIONS.Tsl?.bs2051).toBe('U+090');
     expect(SPEAKER_POSITIONS.Bfr?.bs2051).toBe('B-045');
+  });
+});
+
+describe('the second LFE of 22.2', () => {
+  it('is left out of the phase check as LFE is (channel-relations.ts)', () => {
+    const labels: ChannelLabel[] = ['L', 'LFE2', 'LFE'];
+    const meter = new ChannelRelationMeter({ sampleRate: 8000, channels: 3, channelLabels: labels });
+    const loud = Float32Array.from({ length: 8000 * 6 }, (_, i) => 0.3 * Math.sin(i * 0.37) * Math.sin(i * 0.0011));
+    meter.push({ channelData: [loud, loud.map((v) => -v), loud.map((v) => -v)], frames: loud.length });
+    const result = meter.result();
+    expect(result.pairs.map((p) => p.phaseChecked)).toEqual([false, false, false]);
+    expect(result.events.filter((e) => e.kind === 'phase_problem')).toHaveLength(0);
   });
 });
 
