@@ -153,6 +153,26 @@ describe('BW64 chna chunk (ITU-R BS.2088 / BS.2076 / BS.2094 common definitions)
     expect(decoded.format.channelLabels).toEqual([...LAYOUTS['5.1']]);
   });
 
+  it('a malformed chna never throws: too short, stray track indices, junk references', async () => {
+    const short = await decodeFile(bw64(2, new Uint8Array(2 * 2 * 10), [1, 0]));
+    expect(short.format.channelLabels).toEqual(['L', 'R']); // no entries: the default order
+    expect(short.format.layoutFrom).toBeUndefined();
+    const stray = await decodeFile(
+      bw64(
+        2,
+        new Uint8Array(2 * 2 * 10),
+        chnaBody([
+          { track: 0, ref: trackRef(1) },
+          { track: 99, ref: trackRef(2) },
+          { track: 1, ref: '\u00ff\u0001garbage' },
+          { track: 2, ref: 'AT_0001ZZZZ_01' },
+        ]),
+      ),
+    );
+    expect(stray.format.channelLabels).toEqual(['unknown', 'unknown']);
+    expect(stray.warnings.map((w) => [w.code, w.count])).toEqual([['channel_unidentified', 2]]);
+  });
+
   it('reads only the entries present when numUIDs claims more (bounded read)', async () => {
     const decoded = await decodeFile(
       bw64(
