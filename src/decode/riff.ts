@@ -259,7 +259,7 @@ export async function parseRiff(reader: ByteReader, container: Container): Promi
           timeReferenceSamples = u64le(body, BEXT_TIME_REFERENCE_OFFSET);
         break;
       }
-      // BS.2088 puts chna before the data; one after it still names the channels.
+      // A chna after the audio still names the channels (a file is read to its end when it can be).
       if (id === 'chna' && chna === null) await readChna(size);
     } else if (id === 'ds64' && is64) {
       if (size > MAX_HEADER_CHUNK_BYTES)
