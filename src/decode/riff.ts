@@ -314,6 +314,20 @@ export async function parseRiff(reader: ByteReader, container: Container): Promi
   if (fromChna) warnings.push(...fromChna.warnings);
   const hasMask = fmt.channelMask !== null && fmt.channelMask !== 0;
   const layoutFrom: AudioFormat['layoutFrom'] = fromChna ? 'chna' : hasMask ? 'channel_mask' : undefined;
+  const channelLabels =
+    fromChna?.labels ??
+    (fmt.channelMask === null
+      ? defaultChannelLabels(fmt.channels)
+      : labelsFromChannelMask(fmt.channelMask, fmt.channels));
+  const unnamed = layoutFrom === 'channel_mask' ? channelLabels.filter((l) => l === 'unknown').length : 0;
+  if (unnamed > 0) {
+    // WAVE defines mask bits 0-17 only; a channel past the mask's set bits has no speaker either.
+    warnings.push({
+      code: 'channel_unidentified',
+      count: unnamed,
+      message: `channel mask 0x${(fmt.channelMask ?? 0).toString(16).toUpperCase()} names no WAVE speaker for ${unnamed} of ${fmt.channels} channels; read as 'unknown' (weight 1.0)`,
+    });
+  }
   const format: AudioFormat = {
     container,
     encoding: fmt.encoding,
@@ -323,11 +337,7 @@ export async function parseRiff(reader: ByteReader, container: Container): Promi
     frames,
     durationSeconds: frames / fmt.sampleRate,
     // chna names every track by ADM ID; the mask has no bits for 22.2's wides, top sides or bottom.
-    channelLabels:
-      fromChna?.labels ??
-      (fmt.channelMask === null
-        ? defaultChannelLabels(fmt.channels)
-        : labelsFromChannelMask(fmt.channelMask, fmt.channels)),
+    channelLabels,
     ...(layoutFrom ? { layoutFrom } : {}),
     channelMask: fmt.channelMask,
     timeReferenceSamples,

@@ -202,6 +202,14 @@ async function plainWav(channels: number, channelMask?: number): Promise<string>
   return path;
 }
 
+describe('WAVE channel mask bits WAVE does not define (ksmedia.h: SPEAKER_* bits 0-17)', () => {
+  it("a channel past the defined bits is 'unknown', with one warning", async () => {
+    const decoded = await openAudioFile(await plainWav(4, 0x3 | (1 << 18) | (1 << 20)));
+    expect(decoded.format.channelLabels).toEqual<ChannelLabel[]>(['L', 'R', 'unknown', 'unknown']);
+    expect(decoded.warnings.map((w) => [w.code, w.count])).toEqual([['channel_unidentified', 2]]);
+  });
+});
+
 describe('declared layout (file without a channel mask or chna)', () => {
   it('names the channels of an unmasked file', async () => {
     const decoded = await openAudioFile(await plainWav(12), { layout: '7.1.4' });
