@@ -129,37 +129,53 @@ describe('997 Hz sine in every channel reads 10 log10(sum Gi A^2/2) LKFS (ITU-R 
   }
 });
 
-describe.skipIf(!hasTool('ffmpeg'))('ffmpeg ebur128 on a 7.1 file (Debian ffmpeg)', () => {
-  it('weights the back pair 1.41 too (its BACK_MASK), so it reads 10 log10(8.64/7.82) = 0.43 dB above Table 4', async () => {
-    const path = join(dir, 'sines-7.1.wav');
-    await writeWavFile(
-      path,
-      { sampleRate: RATE, channels: 8, bitsPerSample: 32, float: true, channelMask: 0x63f },
-      (function* () {
-        for (const block of sines(8, 5)) yield [...block.channelData];
-      })(),
-    );
-    const decoded = await openAudioFile(path);
-    expect(decoded.format.channelLabels).toEqual([...LAYOUTS['7.1']]);
-    const ours = integrated(decoded.format.channelLabels, 5) ?? 0;
-    for await (const _ of decoded.blocks); // close the file
-    const stderr = ffmpegEbur128Log(path);
-    const match = /Integrated loudness:\s*\n\s*I:\s*(-?\d+\.\d)\s*LUFS/.exec(stderr);
-    expect(match).not.toBeNull();
-    const ffmpegLufs = Number(match?.[1]);
-    // ffmpeg: L R C 1.0, BL BR SL SR 1.41 (af_ebur128.c BACK_MASK), LFE 0; prints one decimal.
-    expect(Math.abs(ffmpegLufs - closedForm([1, 1, 1, 0, 1.41, 1.41, 1.41, 1.41]))).toBeLessThanOrEqual(0.051);
-    expect(Math.abs(ours - closedForm([1, 1, 1, 0, 1, 1, 1.41, 1.41]))).toBeLessThan(0.01);
-    expect(Math.abs(ffmpegLufs - ours - 10 * Math.log10(8.64 / 7.82))).toBeLessThanOrEqual(0.06);
-  });
+describe.skipIf(!hasTool('ffmpeg'))('ffmpeg ebur128 on 7.1 and 7.1.4 files (Debian ffmpeg)', () => {
+  // ffmpeg weights by WAVE speaker, not by position: 1.41 for every back, side and top-back
+  // speaker (af_ebur128.c BACK_MASK), 0 for LFE, 1.0 otherwise. Table 4 gives the back pair
+  // (135 degrees) and the top-back pair (30 degrees up) 1.0.
+  const cases: { layout: '7.1' | '7.1.4'; mask: number; ffmpegWeights: number[] }[] = [
+    { layout: '7.1', mask: 0x63f, ffmpegWeights: [1, 1, 1, 0, 1.41, 1.41, 1.41, 1.41] },
+    { layout: '7.1.4', mask: 0x2d63f, ffmpegWeights: [1, 1, 1, 0, 1.41, 1.41, 1.41, 1.41, 1, 1, 1.41, 1.41] },
+  ];
+  for (const { layout, mask, ffmpegWeights } of cases) {
+    it(`${layout}: ffmpeg reads 10 log10(its sum / Table 4 sum) above us`, async () => {
+      const channels = ffmpegWeights.length;
+      const path = join(dir, `sines-${layout}.wav`);
+      await writeWavFile(
+        path,
+        { sampleRate: RATE, channels, bitsPerSample: 32, float: true, channelMask: mask },
+        (function* () {
+          for (const block of sines(channels, 5)) yield [...block.channelData];
+        })(),
+      );
+      const decoded = await openAudioFile(path);
+      const labels = decoded.format.channelLabels;
+      expect(labels).toEqual([...LAYOUTS[layout]]);
+      const meter = new LoudnessMeter({ sampleRate: RATE, channels, channelLabels: labels });
+      for await (const block of decoded.blocks) meter.push(block);
+      const ours = meter.result().integratedLufs ?? 0;
+      const ffmpegLufs = ffmpegIntegratedLufs(path);
+      // ffmpeg's integrated loudness comes from a histogram of 0.01 LU bins (HIST_GRAIN, from memory).
+      expect(Math.abs(ffmpegLufs - closedForm(ffmpegWeights))).toBeLessThan(0.011);
+      expect(Math.abs(ours - closedForm(labels.map(channelWeight)))).toBeLessThan(0.01);
+      const ratioDb =
+        10 *
+        Math.log10(ffmpegWeights.reduce((a, g) => a + g, 0) / labels.map(channelWeight).reduce((a, g) => a + g, 0));
+      expect(ratioDb).toBeGreaterThan(0.4);
+      expect(Math.abs(ffmpegLufs - ours - ratioDb)).toBeLessThan(0.02);
+    });
+  }
 });
 
-/** ffmpeg's ebur128 filter prints its summary on stderr (-af ebur128, default framelog at info). */
-function ffmpegEbur128Log(path: string): string {
-  const run = spawnSync('ffmpeg', ['-nostats', '-hide_banner', '-i', path, '-af', 'ebur128', '-f', 'null', '-'], {
+/** The last integrated loudness ffmpeg's ebur128 filter reports (frame metadata, 3 decimals). */
+function ffmpegIntegratedLufs(path: string): number {
+  const filter = 'ebur128=metadata=1,ametadata=mode=print:key=lavfi.r128.I';
+  const run = spawnSync('ffmpeg', ['-nostats', '-hide_banner', '-i', path, '-af', filter, '-f', 'null', '-'], {
     encoding: 'utf8',
     maxBuffer: 64 * 1024 * 1024,
   });
   expect(run.status).toBe(0);
-  return run.stderr;
+  const values = [...run.stderr.matchAll(/lavfi\.r128\.I=(-?\d+\.\d+)/g)].map((m) => Number(m[1]));
+  expect(values.length).toBeGreaterThan(0);
+  return values[values.length - 1];
 }
