@@ -15,11 +15,18 @@ export function formatTime(seconds: number): string {
   return `${String(h).padStart(2, '0')}:${String(m).padStart(2, '0')}:${s.toFixed(3).padStart(6, '0')}`;
 }
 
+/** Where the channel roles came from, as the text output says it. */
+const LAYOUT_FROM: Record<NonNullable<AnalysisDocument['format']['layoutFrom']>, string> = {
+  channel_mask: 'from the channel mask',
+  chna: 'from the chna chunk',
+  declared: 'as declared',
+};
+
 export function formatAnalysis(doc: AnalysisDocument): string {
   const f = doc.format;
   const s = doc.summary;
   const lines = [
-    `${printableName(doc.file?.name ?? 'stream')}: ${f.container} ${f.encoding}, ${f.sampleRate} Hz, ${f.channels} ch (${f.channelLabels.join(' ')})` +
+    `${printableName(doc.file?.name ?? 'stream')}: ${f.container} ${f.encoding}, ${f.sampleRate} Hz, ${f.channels} ch (${f.channelLabels.join(' ')}${f.layoutFrom ? `; ${LAYOUT_FROM[f.layoutFrom]}` : ''})` +
       `${f.bitsPerSample ? `, ${f.bitsPerSample}-bit` : ''}, ${formatTime(f.durationSeconds ?? 0)}`,
     '',
     `  Integrated loudness   ${orNone(s.integratedLufs, 'LUFS')}`,

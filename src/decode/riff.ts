@@ -4,6 +4,7 @@ import type { ChannelLabel } from '../analysis/audio.ts';
 import { defaultChannelLabels } from '../analysis/audio.ts';
 import { EarmarkError } from '../errors/index.ts';
 import type { ByteReader } from './byte-reader.ts';
+import { labelsFromChna, MAX_CHNA_READ_BYTES, parseChna, type ChnaTrack } from './chna.ts';
 import { fourcc, u16le, u32le, u64le } from './bytes.ts';
 import { checkStreamNumbers } from './limits.ts';
 import type { SampleLayout } from './pcm/convert.ts';
@@ -221,7 +222,12 @@ export async function parseRiff(reader: ByteReader, container: Container): Promi
   let ds64: Ds64 | null = null;
   let fmt: WaveFmt | null = null;
   let timeReferenceSamples: number | null = null;
+  let chna: ChnaTrack[] | null = null;
   let data: { offset: number; bytes: number } | null = null;
+  const readChna = async (size: number) => {
+    const body = await reader.read(Math.min(size, MAX_CHNA_READ_BYTES));
+    chna ??= parseChna(body);
+  };
 
   for (;;) {
     if (data && !reader.seekable) break;
@@ -253,6 +259,8 @@ export async function parseRiff(reader: ByteReader, container: Container): Promi
           timeReferenceSamples = u64le(body, BEXT_TIME_REFERENCE_OFFSET);
         break;
       }
+      // A chna after the audio still names the channels (a file is read to its end when it can be).
+      if (id === 'chna' && chna === null) await readChna(size);
     } else if (id === 'ds64' && is64) {
       if (size > MAX_HEADER_CHUNK_BYTES)
         throw new EarmarkError('corrupt_file', `ds64 chunk of ${size} bytes is implausible`);
@@ -264,6 +272,8 @@ export async function parseRiff(reader: ByteReader, container: Container): Promi
     } else if (id === 'bext' && size >= BEXT_TIME_REFERENCE_OFFSET + 8) {
       const body = await reader.readExactly(BEXT_TIME_REFERENCE_OFFSET + 8, 'the bext chunk');
       timeReferenceSamples = u64le(body, BEXT_TIME_REFERENCE_OFFSET);
+    } else if (id === 'chna') {
+      await readChna(size);
     } else if (id === 'data') {
       if (!fmt) throw new EarmarkError('corrupt_file', 'data chunk comes before the fmt chunk');
       if (is64 && !ds64) throw new EarmarkError('corrupt_file', `${riffId} file has no ds64 chunk before its data`);
@@ -300,6 +310,24 @@ export async function parseRiff(reader: ByteReader, container: Container): Promi
       message: `ds64 sample count ${ds64.sampleCount} is less than the ${frames} frames of data`,
     });
   }
+  const fromChna = chna ? labelsFromChna(chna, fmt.channels) : null;
+  if (fromChna) warnings.push(...fromChna.warnings);
+  const hasMask = fmt.channelMask !== null && fmt.channelMask !== 0;
+  const layoutFrom: AudioFormat['layoutFrom'] = fromChna ? 'chna' : hasMask ? 'channel_mask' : undefined;
+  const channelLabels =
+    fromChna?.labels ??
+    (fmt.channelMask === null
+      ? defaultChannelLabels(fmt.channels)
+      : labelsFromChannelMask(fmt.channelMask, fmt.channels));
+  const unnamed = layoutFrom === 'channel_mask' ? channelLabels.filter((l) => l === 'unknown').length : 0;
+  if (unnamed > 0) {
+    // WAVE defines mask bits 0-17 only; a channel past the mask's set bits has no speaker either.
+    warnings.push({
+      code: 'channel_unidentified',
+      count: unnamed,
+      message: `channel mask 0x${(fmt.channelMask ?? 0).toString(16).toUpperCase()} names no WAVE speaker for ${unnamed} of ${fmt.channels} channels; read as 'unknown' (weight 1.0)`,
+    });
+  }
   const format: AudioFormat = {
     container,
     encoding: fmt.encoding,
@@ -308,10 +336,9 @@ export async function parseRiff(reader: ByteReader, container: Container): Promi
     bitsPerSample: fmt.bitsPerSample,
     frames,
     durationSeconds: frames / fmt.sampleRate,
-    channelLabels:
-      fmt.channelMask === null
-        ? defaultChannelLabels(fmt.channels)
-        : labelsFromChannelMask(fmt.channelMask, fmt.channels),
+    // chna names every track by ADM ID; the mask has no bits for 22.2's wides, top sides or bottom.
+    channelLabels,
+    ...(layoutFrom ? { layoutFrom } : {}),
     channelMask: fmt.channelMask,
     timeReferenceSamples,
   };

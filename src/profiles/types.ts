@@ -4,6 +4,7 @@
 // is current.
 
 import type { ChannelLabel } from '../analysis/audio.ts';
+import type { LayoutName } from '../analysis/layouts.ts';
 import { DEFAULT_PHASE_THRESHOLD } from '../analysis/channel-relations.ts';
 import type { Container } from '../decode/types.ts';
 
@@ -236,6 +237,10 @@ export interface Profile {
    */
   basis: string;
   timecode?: { frameRate: FrameRateId };
+  /**
+   * Channel layout of delivered files that do not name their channels (no WAVE channel mask, no BW64 chna chunk): sets their channel roles and so their loudness weights (ITU-R BS.1770-5 Annex 3). A file with another channel count is an error (layout_mismatch); a file that names its own channels keeps them.
+   */
+  layout?: LayoutName;
   /** @minItems 1 @maxItems 200 */
   rules: Rule[];
 }
