@@ -17,7 +17,13 @@ export const BEXT_LOUDNESS_NOT_SET = 0x7fff;
 /** iXML is text; more than this is not a metadata chunk we read. */
 export const MAX_IXML_BYTES = 1024 * 1024;
 
-const FIELDS = ['integratedLufs', 'loudnessRangeLu', 'maxTruePeakDbtp', 'maxMomentaryLufs', 'maxShortTermLufs'] as const;
+const FIELDS = [
+  'integratedLufs',
+  'loudnessRangeLu',
+  'maxTruePeakDbtp',
+  'maxMomentaryLufs',
+  'maxShortTermLufs',
+] as const;
 export type DeclaredLoudnessField = (typeof FIELDS)[number];
 export const DECLARED_LOUDNESS_FIELDS: readonly DeclaredLoudnessField[] = FIELDS;
 

@@ -215,7 +215,10 @@ function parseDs64(b: Uint8Array): Ds64 {
 const MAX_HEADER_CHUNK_BYTES = 1024 * 1024;
 
 /** The head of a bext chunk (time reference and loudness), read whatever its size; `size` is what its header declares. */
-async function readBext(reader: ByteReader, size: number): Promise<MetadataReading & { timeReferenceSamples: number | null }> {
+async function readBext(
+  reader: ByteReader,
+  size: number,
+): Promise<MetadataReading & { timeReferenceSamples: number | null }> {
   const body = await reader.read(Math.min(size, BEXT_READ_BYTES));
   const timeReferenceSamples =
     body.length >= BEXT_TIME_REFERENCE_OFFSET + 8 ? u64le(body, BEXT_TIME_REFERENCE_OFFSET) : null;

@@ -74,7 +74,8 @@ function check(rule: DeclaredLoudnessRule, doc: AnalysisDocument): Draft {
       limit: {},
       outcome: 'fail',
       passed: false,
-      explanation: 'The file declares no loudness (no bext version 2 loudness field, no iXML LOUDNESS block), and this rule requires it',
+      explanation:
+        'The file declares no loudness (no bext version 2 loudness field, no iXML LOUDNESS block), and this rule requires it',
     };
   }
   const mismatches = declaredMismatches(doc, rule).sort((a, b) => b.excess - a.excess);
