@@ -218,7 +218,8 @@ describe('bext parser on its own', () => {
 });
 
 describe('iXML LOUDNESS block (element names from memory, not checked against the iXML specification)', () => {
-  const ixml = (inner: string) => new TextEncoder().encode(`<?xml version="1.0" encoding="UTF-8"?><BWFXML>${inner}</BWFXML>`);
+  const ixml = (inner: string) =>
+    new TextEncoder().encode(`<?xml version="1.0" encoding="UTF-8"?><BWFXML>${inner}</BWFXML>`);
   const block = `<LOUDNESS>
     <LOUDNESS_VALUE>-23.00</LOUDNESS_VALUE>
     <LOUDNESS_RANGE> 6.5 </LOUDNESS_RANGE>
