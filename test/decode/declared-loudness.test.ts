@@ -299,3 +299,26 @@ describe('iXML LOUDNESS block (element names from memory, not checked against th
     expect((await openAudioFile(path)).format.declaredLoudness).toEqual([full]);
   });
 });
+
+describe('metadata parsers on arbitrary bytes', () => {
+  it('never throw, and only ever return finite figures or null', () => {
+    let seed = 12345;
+    const next = () => {
+      seed = (seed * 1103515245 + 12345) % 2 ** 31; // a fixed LCG: the same bytes every run
+      return seed / 2 ** 31;
+    };
+    const pieces = ['<LOUDNESS>', '</LOUDNESS>', '<LOUDNESS_VALUE>', '</LOUDNESS_VALUE>', '<!--', '-->', '-23.5', '<'];
+    for (let n = 0; n < 500; n++) {
+      const bytes = new Uint8Array(Math.floor(next() * 700)).map(() => Math.floor(next() * 256));
+      const text = Array.from({ length: 20 }, () => pieces[Math.floor(next() * pieces.length)]).join('');
+      for (const reading of [
+        parseBextLoudness(bytes, bytes.length),
+        parseIxmlLoudness(bytes),
+        parseIxmlLoudness(new TextEncoder().encode(text)),
+      ]) {
+        const values = reading.declared ? Object.values(reading.declared).slice(1) : [];
+        for (const v of values) expect(v === null || Number.isFinite(v)).toBe(true);
+      }
+    }
+  });
+});
