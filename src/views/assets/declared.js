@@ -55,7 +55,7 @@ export function renderDeclaredLoudness(report) {
           'tr',
           {},
           el('td', {}, row.source),
-          el('th', { scope: 'row' }, row.quantity),
+          el('td', {}, row.quantity),
           el('td', { class: 'em-num' }, row.declared),
           el('td', { class: 'em-num' }, row.measured),
           el('td', { class: 'em-num' }, row.difference),
