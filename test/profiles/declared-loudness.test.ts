@@ -20,7 +20,7 @@ const { dir, cleanup } = tempDir();
 afterAll(cleanup);
 let counter = 0;
 
-async function toneWith(metadata: { bextLoudness?: BextLoudnessFields; ixml?: string }, peakDbfs = -20) {
+async function toneWith(metadata: { bextLoudness?: BextLoudnessFields; ixml?: string }, peakDbfs: number | null = -20) {
   const path = `${dir}/declared-${++counter}.wav`;
   const blocks = [...toneBlocks({ sampleRate: 48000, channels: 2, segments: [{ seconds: 10, peakDbfs }] })];
   await writeWavFile(
@@ -171,5 +171,13 @@ describe('declared-loudness rule', () => {
       rules: [{ id: 'd', type: 'declared-loudness', severity: 'warn', integratedToleranceLu: -1 }],
     });
     expect(bad.map((i) => i.field)).toEqual([expect.stringMatching(/integratedToleranceLu/)]);
+  });
+});
+
+describe('declared-loudness rule on digital silence', () => {
+  it('has nothing to compare (no reading): not measurable, not failed', async () => {
+    const report = await check(await toneWith({ bextLoudness: { integratedLufs: -23 } }, null), [rule()]);
+    expect(declaredCheck(report)).toMatchObject({ passed: true, outcome: 'not_measurable' });
+    expect(declaredCheck(report).explanation).toMatch(/no reading to compare the bext figures with/);
   });
 });

@@ -45,7 +45,7 @@ export function declaredMismatches(doc: AnalysisDocument, rule?: DeclaredLoudnes
     rows.flatMap((row): DeclaredMismatch[] => {
       if (row.measuredMinusDeclared === null) return [];
       const toleranceUnits = declaredTolerance(rule, row.field);
-      // Hundredths: bext stores them, so a reading 0.2 LU off a 0.2 LU tolerance is not a float accident.
+      // Rounded to a millionth: a gap of exactly the tolerance (bext stores hundredths) must not fail on float noise.
       const gap = Math.round(Math.abs(row.measuredMinusDeclared) * 1e6) / 1e6;
       return gap > toleranceUnits ? [{ source, row, toleranceUnits, excess: gap - toleranceUnits }] : [];
     }),
@@ -82,6 +82,8 @@ function check(rule: DeclaredLoudnessRule, doc: AnalysisDocument): Draft {
   const worst = mismatches[0];
   const judged = rows.filter((r) => r.measured !== null).length;
   const sources = doc.declaredLoudness.map((d) => sourceName(d.source)).join(' and ');
+  if (judged === 0)
+    return notMeasurable('Declared loudness', 'LUFS', {}, `no reading to compare the ${sources} figures with`, true);
   if (!worst) {
     return {
       measured: judged,
