@@ -6,10 +6,18 @@ import { EarmarkError } from '../errors/index.ts';
 import type { ByteReader } from './byte-reader.ts';
 import { labelsFromChna, MAX_CHNA_READ_BYTES, parseChna, type ChnaTrack } from './chna.ts';
 import { fourcc, u16le, u32le, u64le } from './bytes.ts';
+import {
+  BEXT_READ_BYTES,
+  BEXT_TIME_REFERENCE_OFFSET,
+  MAX_IXML_BYTES,
+  type MetadataReading,
+  parseBextLoudness,
+  parseIxmlLoudness,
+} from './declared-loudness.ts';
 import { checkStreamNumbers } from './limits.ts';
 import type { SampleLayout } from './pcm/convert.ts';
 import type { PcmPlan } from './pcm/stream.ts';
-import type { AudioFormat, Container, DecodeWarning } from './types.ts';
+import type { AudioFormat, Container, DeclaredLoudness, DecodeWarning } from './types.ts';
 
 const WAVE_FORMAT_PCM = 0x0001;
 const WAVE_FORMAT_IEEE_FLOAT = 0x0003;
@@ -206,7 +214,31 @@ function parseDs64(b: Uint8Array): Ds64 {
 }
 
 const MAX_HEADER_CHUNK_BYTES = 1024 * 1024;
-const BEXT_TIME_REFERENCE_OFFSET = 338; // EBU Tech 3285: 256 + 32 + 32 + 10 + 8 bytes of text fields
+
+/** The head of a bext chunk (time reference and loudness), read whatever its size; `size` is what its header declares. */
+async function readBext(
+  reader: ByteReader,
+  size: number,
+): Promise<MetadataReading & { timeReferenceSamples: number | null }> {
+  const body = await reader.read(Math.min(size, BEXT_READ_BYTES));
+  const timeReferenceSamples =
+    body.length >= BEXT_TIME_REFERENCE_OFFSET + 8 ? u64le(body, BEXT_TIME_REFERENCE_OFFSET) : null;
+  return { ...parseBextLoudness(body, size), timeReferenceSamples };
+}
+
+/** An iXML chunk, when it is small enough to be metadata and all there. */
+async function readIxml(reader: ByteReader, size: number): Promise<MetadataReading> {
+  const cap = Math.min(MAX_IXML_BYTES, reader.capacityBytes);
+  const skipped = (message: string): MetadataReading => ({
+    declared: null,
+    warnings: [{ code: 'unreadable_metadata', message }],
+  });
+  if (size > cap) return skipped(`iXML chunk of ${size} bytes is larger than the ${cap} bytes read: not read`);
+  const body = await reader.read(size);
+  if (body.length < size)
+    return skipped(`the file ends inside the iXML chunk after ${body.length} of its ${size} bytes: not read`);
+  return parseIxmlLoudness(body);
+}
 
 /**
  * Reads chunk headers up to the data chunk. With a seekable reader it also looks past the data
@@ -223,6 +255,13 @@ export async function parseRiff(reader: ByteReader, container: Container): Promi
   let fmt: WaveFmt | null = null;
   let timeReferenceSamples: number | null = null;
   let chna: ChnaTrack[] | null = null;
+  const declaredLoudness: DeclaredLoudness[] = [];
+  let bextSeen = false;
+  let ixmlSeen = false;
+  const keep = (reading: MetadataReading) => {
+    warnings.push(...reading.warnings);
+    if (reading.declared) declaredLoudness.push(reading.declared);
+  };
   let data: { offset: number; bytes: number } | null = null;
   const readChna = async (size: number) => {
     const body = await reader.read(Math.min(size, MAX_CHNA_READ_BYTES));
@@ -251,14 +290,17 @@ export async function parseRiff(reader: ByteReader, container: Container): Promi
       size = sized;
     }
     const chunkOffset = reader.position;
-    if (data) {
+    // Metadata may sit before or after the audio; the first chunk of each kind counts.
+    if (id === 'bext' && !bextSeen) {
+      bextSeen = true;
+      const bext = await readBext(reader, size);
+      timeReferenceSamples = bext.timeReferenceSamples;
+      keep(bext);
+    } else if (id === 'iXML' && !ixmlSeen) {
+      ixmlSeen = true;
+      keep(await readIxml(reader, size));
+    } else if (data) {
       // Past the audio: only metadata we can use; anything odd ends the scan quietly.
-      if (id === 'bext' && timeReferenceSamples === null && size >= BEXT_TIME_REFERENCE_OFFSET + 8) {
-        const body = await reader.read(BEXT_TIME_REFERENCE_OFFSET + 8);
-        if (body.length === BEXT_TIME_REFERENCE_OFFSET + 8)
-          timeReferenceSamples = u64le(body, BEXT_TIME_REFERENCE_OFFSET);
-        break;
-      }
       // A chna after the audio still names the channels (a file is read to its end when it can be).
       if (id === 'chna' && chna === null) await readChna(size);
     } else if (id === 'ds64' && is64) {
@@ -269,9 +311,6 @@ export async function parseRiff(reader: ByteReader, container: Container): Promi
       if (size > MAX_HEADER_CHUNK_BYTES)
         throw new EarmarkError('corrupt_file', `fmt chunk of ${size} bytes is implausible`);
       fmt = parseFmt(await reader.readExactly(size, 'the fmt chunk'));
-    } else if (id === 'bext' && size >= BEXT_TIME_REFERENCE_OFFSET + 8) {
-      const body = await reader.readExactly(BEXT_TIME_REFERENCE_OFFSET + 8, 'the bext chunk');
-      timeReferenceSamples = u64le(body, BEXT_TIME_REFERENCE_OFFSET);
     } else if (id === 'chna') {
       await readChna(size);
     } else if (id === 'data') {
@@ -283,6 +322,7 @@ export async function parseRiff(reader: ByteReader, container: Container): Promi
     const consumed = reader.position - chunkOffset;
     const skipped = await reader.skip(size - consumed);
     if (skipped < size - consumed) break;
+    if (data && bextSeen && ixmlSeen && chna !== null) break;
     if (size % 2 === 1) {
       if (!data && (await padMissing(reader))) {
         warnings.push({
@@ -341,6 +381,7 @@ export async function parseRiff(reader: ByteReader, container: Container): Promi
     ...(layoutFrom ? { layoutFrom } : {}),
     channelMask: fmt.channelMask,
     timeReferenceSamples,
+    declaredLoudness,
   };
   return {
     format,

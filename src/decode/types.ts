@@ -28,6 +28,20 @@ export interface AudioFormat {
   channelMask: number | null;
   /** BWF bext TimeReference: samples since midnight of the first sample; null without bext. */
   timeReferenceSamples: number | null;
+  /** Loudness the file's metadata declares (BWF bext v2, iXML), one entry per source that declares any; WAVE family only. */
+  declaredLoudness?: DeclaredLoudness[];
+}
+
+export type DeclaredLoudnessSource = 'bext' | 'ixml';
+
+/** Loudness figures a file's metadata states about itself; null where a field is not set. */
+export interface DeclaredLoudness {
+  source: DeclaredLoudnessSource;
+  integratedLufs: number | null;
+  loudnessRangeLu: number | null;
+  maxTruePeakDbtp: number | null;
+  maxMomentaryLufs: number | null;
+  maxShortTermLufs: number | null;
 }
 
 export type DecodeWarningCode =
@@ -38,7 +52,8 @@ export type DecodeWarningCode =
   | 'odd_chunk_padding_missing'
   | 'non_finite_samples'
   | 'channel_unidentified'
-  | 'declared_layout_unused';
+  | 'declared_layout_unused'
+  | 'unreadable_metadata';
 
 export interface DecodeWarning {
   code: DecodeWarningCode;

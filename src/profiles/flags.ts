@@ -5,6 +5,7 @@
 
 import type { AnalysisEvent, EventKind } from '../analysis/events.ts';
 import { channelName, type AnalysisDocument } from '../engine/document.ts';
+import { declaredLoudnessDrafts } from './declared-flags.ts';
 import { fmt } from './format.ts';
 import type { CheckResult, Flag, FlagKind, FlagSeverity } from './report.ts';
 import { RULES, RULE_TYPES, ruleSpec } from './rules/index.ts';
@@ -43,8 +44,10 @@ export const FLAG_KINDS: Record<FlagKind, { title: string; unit: string | null }
   duplicate_channel: { title: 'Duplicate channel', unit: null },
   inverted_channel: { title: 'Inverted channel', unit: null },
   dc_offset: { title: 'DC offset', unit: 'dBFS' },
+  declared_loudness_mismatch: { title: 'Declared loudness differs', unit: null },
 };
 
+export type FlagDraft = Draft;
 type Draft = Pick<
   Flag,
   | 'kind'
@@ -296,6 +299,7 @@ export function buildFlags(
     ...eventDrafts(profile, doc, byId),
     ...edgeDrafts(profile, doc, byId),
     ...dcDrafts(profile, doc, byId),
+    ...declaredLoudnessDrafts(profile, doc, byId),
   ];
   const merged = merge(drafts, Math.round((options.mergeGapSeconds ?? DEFAULT_FLAG_MERGE_SECONDS) * sampleRate));
   const flagCounts: Record<FlagSeverity, number> = { fail: 0, warn: 0, remark: 0 };

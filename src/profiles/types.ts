@@ -198,6 +198,28 @@ export interface IntegrityRule extends RuleBase {
   type: 'integrity';
 }
 
+/** @minimum 0 @maximum 10 */
+type DeclaredToleranceLu = number;
+/**
+ * Loudness the file's metadata declares (BWF bext v2, iXML LOUDNESS) must match the readings of
+ * the same quantities. A file that declares nothing passes unless requireDeclared.
+ */
+export interface DeclaredLoudnessRule extends RuleBase {
+  type: 'declared-loudness';
+  /** Largest |measured - declared| integrated loudness (default 0.2 LU: EBU R 128 item i's QC tolerance, our choice). */
+  integratedToleranceLu?: DeclaredToleranceLu;
+  /** Loudness range (default 1 LU: EBU Tech 3342's meter tolerance, our choice). */
+  loudnessRangeToleranceLu?: DeclaredToleranceLu;
+  /** Max true peak, in dB (default 0.4 dB: the wider side of EBU Tech 3341's true-peak tolerance, our choice). */
+  truePeakToleranceDb?: DeclaredToleranceLu;
+  /** Max momentary loudness (default 0.2 LU, our choice). */
+  maxMomentaryToleranceLu?: DeclaredToleranceLu;
+  /** Max short-term loudness (default 0.2 LU, our choice). */
+  maxShortTermToleranceLu?: DeclaredToleranceLu;
+  /** Fail a file whose metadata declares no loudness at all (default false). */
+  requireDeclared?: boolean;
+}
+
 /** @discriminator type */
 export type Rule =
   | IntegratedLoudnessRule
@@ -219,7 +241,8 @@ export type Rule =
   | DurationRule
   | ContainerRule
   | DropoutRule
-  | IntegrityRule;
+  | IntegrityRule
+  | DeclaredLoudnessRule;
 
 export type RuleType = Rule['type'];
 
