@@ -43,6 +43,7 @@ export const FLAG_KINDS: Record<FlagKind, { title: string; unit: string | null }
   duplicate_channel: { title: 'Duplicate channel', unit: null },
   inverted_channel: { title: 'Inverted channel', unit: null },
   dc_offset: { title: 'DC offset', unit: 'dBFS' },
+  downmix_clipping: { title: 'Downmix clipping', unit: 'dBFS' },
 };
 
 type Draft = Pick<
@@ -72,6 +73,7 @@ const EVENT_FLAGS: Record<EventKind, FlagKind> = {
   dead_channel: 'dead_channel',
   duplicate_channel: 'duplicate_channel',
   inverted_channel: 'inverted_channel',
+  downmix_clipping: 'downmix_clipping',
 };
 
 /** The rule type that judges each event kind, from the rule registry's `events`. */

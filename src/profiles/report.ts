@@ -58,7 +58,8 @@ export type FlagKind =
   | 'dead_channel'
   | 'duplicate_channel'
   | 'inverted_channel'
-  | 'dc_offset';
+  | 'dc_offset'
+  | 'downmix_clipping';
 
 /** fail and warn come from a broken rule; a remark is a finding no broken rule judges: shown, never counted. */
 export type FlagSeverity = Severity | 'remark';
