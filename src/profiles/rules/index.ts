@@ -8,6 +8,9 @@ import { clipping } from './clipping.ts';
 import { container } from './container.ts';
 import { dcOffset } from './dc-offset.ts';
 import { deadChannel } from './dead-channel.ts';
+import { downmixClipping } from './downmix-clipping.ts';
+import { downmixLoudness } from './downmix-loudness.ts';
+import { downmixTruePeak } from './downmix-true-peak.ts';
 import { dropouts } from './dropouts.ts';
 import { duration } from './duration.ts';
 import { headSilence, tailSilence } from './edge-silence.ts';
@@ -15,6 +18,7 @@ import { integratedLoudness } from './integrated-loudness.ts';
 import { integrity } from './integrity.ts';
 import { loudnessRange } from './loudness-range.ts';
 import { momentaryMax } from './momentary-max.ts';
+import { monoCompatibility } from './mono-compatibility.ts';
 import { phase } from './phase.ts';
 import type { RuleRegistry, RuleSpec } from './rule-spec.ts';
 import { samplePeak } from './sample-peak.ts';
@@ -47,6 +51,10 @@ export const RULES: RuleRegistry = {
   container,
   dropouts,
   integrity,
+  'downmix-loudness': downmixLoudness,
+  'downmix-true-peak': downmixTruePeak,
+  'downmix-clipping': downmixClipping,
+  'mono-compatibility': monoCompatibility,
 };
 
 export function isRuleType(value: string): value is RuleType {
