@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import type { ChannelLabel, PcmBlock } from '../../src/analysis/audio.ts';
+import type { ChannelLabel } from '../../src/analysis/audio.ts';
 import { DEFAULT_DOWNMIX_GAIN_DB, DownmixMeter, loRoMatrix, type DownmixOptions } from '../../src/analysis/downmix.ts';
 import { LoudnessMeter } from '../../src/analysis/loudness.ts';
 import { BLOCK_CUTS, cut, expectClose } from '../helpers/test-signals.ts';
@@ -19,7 +19,12 @@ function sines(channels: { amplitude: number; phase?: number }[], seconds = 10):
   });
 }
 
-function run(labels: ChannelLabel[], data: Float32Array[], options: DownmixOptions = { enabled: true }, sizes = [65_536]) {
+function run(
+  labels: ChannelLabel[],
+  data: Float32Array[],
+  options: DownmixOptions = { enabled: true },
+  sizes = [65_536],
+) {
   const meter = new DownmixMeter({ sampleRate: RATE, channels: labels.length, channelLabels: labels }, options);
   for (const block of cut(data, sizes)) meter.push(block);
   return meter.result();

@@ -13,9 +13,9 @@ import { programmeBlocks } from '../../src/selftest/signals.ts';
 import { hasTool } from '../helpers/tools.ts';
 
 const hasFfmpeg = hasTool('ffmpeg');
-/** ITU-R BS.775 Table 2 / ATSC A/52 section 7.8: -3 dB, as ffmpeg's pan takes it. */
-const GAIN = 0.7071;
-const GAIN_DB = 20 * Math.log10(GAIN);
+/** ITU-R BS.775 Table 2 / ATSC A/52 section 7.8: -3 dB; ffmpeg's pan takes it to 7 places. */
+const GAIN = Math.SQRT1_2.toFixed(7);
+const GAIN_DB = 20 * Math.log10(Number(GAIN));
 
 function ffmpegEbur128(path: string, pan: string): { integrated: number; truePeak: number } {
   // Double samples before pan, so a fold-down over full scale is not clipped before it is read.
@@ -42,7 +42,10 @@ async function writeProgramme(path: string, channels: number, channelMask: numbe
 
 describe.skipIf(!hasFfmpeg)('downmix readings agree with ffmpeg pan + ebur128', () => {
   const dir = mkdtempSync(join(tmpdir(), 'earmark-downmix-'));
-  const options = { hash: false, analysis: { downmix: { enabled: true, centreGainDb: GAIN_DB, surroundGainDb: GAIN_DB } } };
+  const options = {
+    hash: false,
+    analysis: { downmix: { enabled: true, centreGainDb: GAIN_DB, surroundGainDb: GAIN_DB } },
+  };
 
   // WAVE channel masks (ksmedia.h SPEAKER_* bits): 0x3F is FL FR FC LFE BL BR, ffmpeg's "5.1";
   // 0x60F is FL FR FC LFE SL SR, ffmpeg's "5.1(side)". Both surround pairs are Ls/Rs to us.

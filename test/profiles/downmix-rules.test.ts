@@ -33,7 +33,10 @@ const tone = (peakDbfs: (number | null)[], phaseDegrees?: number[]): ToneSegment
 describe('fold-down rules', () => {
   it('turns the readings on only for a profile with a fold-down rule or setting', () => {
     expect(analysisOptionsForProfile(profile).downmix).toEqual({ enabled: true });
-    const plain = parseProfile({ ...profileJson, rules: [{ id: 'tp', type: 'true-peak', severity: 'fail', maxDbtp: -1 }] });
+    const plain = parseProfile({
+      ...profileJson,
+      rules: [{ id: 'tp', type: 'true-peak', severity: 'fail', maxDbtp: -1 }],
+    });
     expect(analysisOptionsForProfile(plain).downmix).toBeUndefined();
     const gains = parseProfile({ ...profileJson, downmix: { centreGainDb: 0, lfeGainDb: -10, channelLoudness: true } });
     expect(analysisOptionsForProfile(gains).downmix).toEqual({
