@@ -175,10 +175,15 @@ export class DownmixMeter implements Meter<DownmixResult> {
       this.outputs = this.mix.map(() => new Float32Array(frames));
     for (let o = 0; o < this.mix.length; o++) {
       const y = this.outputs[o];
-      y.fill(0, 0, frames);
-      for (const { channel, gain } of this.mix[o]) {
-        const x = block.channelData[channel];
-        for (let i = 0; i < frames; i++) y[i] += gain * x[i];
+      const inputs = this.mix[o];
+      // The first input sets the output, the rest add to it: no clearing pass.
+      const first = block.channelData[inputs[0].channel],
+        g0 = inputs[0].gain;
+      for (let i = 0; i < frames; i++) y[i] = g0 * first[i];
+      for (let k = 1; k < inputs.length; k++) {
+        const x = block.channelData[inputs[k].channel],
+          g = inputs[k].gain;
+        for (let i = 0; i < frames; i++) y[i] += g * x[i];
       }
     }
     const mixed: PcmBlock = { channelData: this.outputs.map((y) => y.subarray(0, frames)), frames };
