@@ -15,6 +15,7 @@ export const EXIT_ERROR = 3;
 const USAGE = `usage:
   earmark analyze <file> [--json] [--true-peak-ceiling dBTP] [--clip-run N] [--clip-threshold dBFS]
                          [--silence-threshold dBFS] [--silence-min seconds] [--threads N]
+                         [--downmix] [--channel-loudness]
   earmark check <file> --profile <id|path.json> [--fps rate] [--json]
       rate: 23.976 24 25 29.97-df 29.97-ndf 30 50 59.94-df 59.94-ndf 60 (default: the profile's)
   earmark profiles [id] [--json]
@@ -71,6 +72,9 @@ export function analysisOptionsFromArgs(values: Record<string, unknown>): Analys
       ...(silenceMin !== undefined ? { minDurationSeconds: silenceMin } : {}),
     };
   }
+  // Fold-down readings cost extra K-weighting passes: only when asked.
+  if (values.downmix === true || values['channel-loudness'] === true)
+    options.downmix = { enabled: true, ...(values['channel-loudness'] === true ? { channelLoudness: true } : {}) };
   return options;
 }
 
@@ -81,6 +85,8 @@ const ANALYSIS_FLAGS = {
   'clip-threshold': { type: 'string' },
   'silence-threshold': { type: 'string' },
   'silence-min': { type: 'string' },
+  downmix: { type: 'boolean' },
+  'channel-loudness': { type: 'boolean' },
 } as const;
 
 async function analyzeCommand(args: string[], io: CliIo): Promise<number> {
