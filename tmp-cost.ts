@@ -1,11 +1,17 @@
-const cpuMs = () => { const u = process.cpuUsage(); return (u.user + u.system) / 1000; };
+const cpuMs = () => {
+  const u = process.cpuUsage();
+  return (u.user + u.system) / 1000;
+};
 import type { ChannelLabel, PcmBlock } from './src/analysis/audio.ts';
 import { DownmixMeter } from './src/analysis/downmix.ts';
 import { LoudnessMeter } from './src/analysis/loudness.ts';
 import { programmeBlocks } from './src/selftest/signals.ts';
 
 const rate = 48000;
-for (const labels of [['L', 'R'], ['L', 'R', 'C', 'LFE', 'Ls', 'Rs']] as ChannelLabel[][]) {
+for (const labels of [
+  ['L', 'R'],
+  ['L', 'R', 'C', 'LFE', 'Ls', 'Rs'],
+] as ChannelLabel[][]) {
   const info = { sampleRate: rate, channels: labels.length, channelLabels: labels };
   const blocks: PcmBlock[] = [...programmeBlocks({ sampleRate: rate, channels: labels.length, seconds: 60, seed: 3 })];
   const cases: Record<string, () => { push(b: PcmBlock): void; result(): unknown }> = {
@@ -24,5 +30,9 @@ for (const labels of [['L', 'R'], ['L', 'R', 'C', 'LFE', 'Ls', 'Rs']] as Channel
       (times[name] ??= []).push(cpuMs() - start);
     }
   const median = (xs: number[]) => [...xs].sort((a, b) => a - b)[Math.floor(xs.length / 2)];
-  console.log(labels.length, 'ch, ms per audio minute (median of 5):', Object.fromEntries(Object.entries(times).map(([k, v]) => [k, +median(v).toFixed(1)])));
+  console.log(
+    labels.length,
+    'ch, ms per audio minute (median of 5):',
+    Object.fromEntries(Object.entries(times).map(([k, v]) => [k, +median(v).toFixed(1)])),
+  );
 }

@@ -2,6 +2,7 @@
 // server-rendered loudness plot, flags that move the plot's cursor when chosen, a short
 // listening excerpt per flag, and the checks. A failed job shows its error and what to do.
 import { api, el, setupKeyForm, text, verdictBadge } from './common.js';
+import { renderDownmix } from './downmix.js';
 import { failureHint, flagCountsText, flagDetails, flagView, headlineNamesVerdict, outcomeText } from './format.js';
 
 const jobId = document.body.dataset.jobId;
@@ -239,6 +240,7 @@ async function load() {
     renderSummary(report);
     renderChecks(report);
     renderFlags(report);
+    renderDownmix(report);
     document.getElementById('em-report-body').hidden = false;
     status.textContent = '';
   } catch (error) {
