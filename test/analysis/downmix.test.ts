@@ -2,6 +2,7 @@ import { describe, expect, it } from 'vitest';
 import type { ChannelLabel } from '../../src/analysis/audio.ts';
 import { DEFAULT_DOWNMIX_GAIN_DB, DownmixMeter, loRoMatrix, type DownmixOptions } from '../../src/analysis/downmix.ts';
 import { LoudnessMeter } from '../../src/analysis/loudness.ts';
+import { EarmarkError } from '../../src/errors/index.ts';
 import { BLOCK_CUTS, cut, expectClose } from '../helpers/test-signals.ts';
 
 const RATE = 48_000;
@@ -130,6 +131,14 @@ describe('Lo/Ro downmix (ITU-R BS.775 Table 2; ATSC A/52 section 7.8, clev = sle
     const quad = run(['L', 'R', 'Tfl', 'Tfr'], sines(onlyIn(['L', 'R', 'Tfl', 'Tfr'], { L: 0.5 }), 1));
     expect(quad.kind).toBeNull();
     expect(quad.note).toMatch(/Tfl, Tfr/);
+  });
+
+  it('refuses a gain that is not a number of dB in range with a typed error', () => {
+    const info = { sampleRate: RATE, channels: 6, channelLabels: FIVE_ONE };
+    for (const bad of [Number.NaN, Number.POSITIVE_INFINITY, -61, 21]) {
+      expect(() => new DownmixMeter(info, { enabled: true, centreGainDb: bad })).toThrow(EarmarkError);
+      expect(() => new DownmixMeter(info, { enabled: true, lfeGainDb: bad })).toThrow(/lfeGainDb/);
+    }
   });
 
   it('does nothing unless asked', () => {
