@@ -80,7 +80,7 @@ export function loRoMatrix(labels: readonly ChannelLabel[], gains: DownmixGains)
     unmapped.push(label);
     return [0, 0];
   });
-  if (unmapped.length > 0) return `no downmix gain for channel roles ${unmapped.join(', ')}`;
+  if (unmapped.length > 0) return `no downmix gain for channel roles ${[...new Set(unmapped)].join(', ')}`;
   const has = (wanted: readonly ChannelLabel[]) => labels.some((l) => wanted.includes(l));
   if (!has(['L']) || !has(['R']) || !has(['C']) || !has(LEFT_SURROUNDS) || !has(RIGHT_SURROUNDS))
     return 'the layout is not 5.0/5.1 or wider (L, R, C and a surround pair)';
