@@ -12,7 +12,8 @@ export type EventKind =
   | 'inverted_channel' // a channel that is a polarity-inverted copy of another
   | 'phase_problem' // a window of strongly negative inter-channel correlation
   | 'loud_short_term' // short-term loudness (3 s) above a configured limit
-  | 'loud_momentary'; // momentary loudness (400 ms) above a configured limit
+  | 'loud_momentary' // momentary loudness (400 ms) above a configured limit
+  | 'downmix_clipping'; // run of samples of the Lo/Ro downmix at or over full scale (downmix.ts)
 
 export interface AnalysisEvent {
   kind: EventKind;

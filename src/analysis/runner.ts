@@ -7,6 +7,7 @@ import { ChannelRelationMeter, type ChannelRelationOptions, type ChannelRelation
 import { EnvelopeBuilder } from './envelope.ts';
 import type { EventKind, EventList } from './events.ts';
 import { ClippingMeter, type ClippingMeterOptions, type ClippingResult } from './clipping.ts';
+import { DownmixMeter, type DownmixOptions, type DownmixResult } from './downmix.ts';
 import { DropoutMeter, type DropoutOptions, type DropoutResult } from './dropouts.ts';
 import { LevelMeter, type LevelResult } from './levels.ts';
 import { LoudnessMeter, type LoudnessOptions, type LoudnessResult } from './loudness.ts';
@@ -27,6 +28,7 @@ export interface AnalysisOptions {
   clipping?: ClippingMeterOptions;
   silence?: SilenceMeterOptions;
   channelRelations?: ChannelRelationOptions;
+  downmix?: DownmixOptions;
 }
 
 export interface Measurements {
@@ -40,6 +42,7 @@ export interface Measurements {
   dropouts: DropoutResult;
   silence: SilenceResult;
   channelRelations: ChannelRelationResult;
+  downmix: DownmixResult;
 }
 
 export type MeterName = Exclude<keyof Measurements, 'frames'>;
@@ -112,6 +115,13 @@ export const METERS: { readonly [K in MeterName]: MeterDescriptor<Measurements[K
     costMsPerMinute: 4.5,
     readsEnvelope: false,
     events: { kinds: ['dead_channel', 'duplicate_channel', 'inverted_channel', 'phase_problem'], countOrder: 6 },
+  },
+  // Off unless asked (options.downmix.enabled); its cost when on is in README (Downmix and mono).
+  downmix: {
+    create: (info, o) => new DownmixMeter(info, o.downmix),
+    costMsPerMinute: 0,
+    readsEnvelope: false,
+    events: { kinds: ['downmix_clipping'], countOrder: 7 },
   },
 };
 

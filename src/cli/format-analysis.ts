@@ -46,6 +46,7 @@ export function formatAnalysis(doc: AnalysisDocument): string {
         `  ${String(c.index + 1).padEnd(3)} ${c.label.padEnd(6)} ${num(c.samplePeakDbfs)} ${num(c.truePeakDbtp)} ${num(c.rmsDbfs)} ${num(c.crestFactorDb)} ${c.dcOffset.toExponential(2).padStart(10)}  ${String(c.clippingRuns).padStart(9)}  ${String(c.dropouts).padStart(8)}${c.dead ? '  (dead)' : ''}`,
     ),
   ];
+  lines.push(...downmixLines(doc));
   if (!doc.integrity.intact)
     lines.unshift(...doc.integrity.problems.map((p) => `DAMAGED at ${formatTime(p.atSeconds)}: ${p.message}`));
   const counts = Object.entries(doc.eventCounts);
@@ -74,6 +75,29 @@ function declaredLines(doc: AnalysisDocument): string[] {
     );
     return `  Declared (${source === 'bext' ? 'bext' : 'iXML'})`.padEnd(24) + figures.join('; ');
   });
+}
+
+/** The fold-down readings, when the analysis was asked for them (`--downmix`). */
+function downmixLines(doc: AnalysisDocument): string[] {
+  const d = doc.downmix;
+  if (!d.measured) return [];
+  const lines = [''];
+  if (d.loRo)
+    lines.push(
+      `  Downmix Lo/Ro         ${orNone(d.loRo.integratedLufs, 'LUFS')}, true peak ${fixed(d.loRo.truePeakDbtp, 'dBTP')}, ${d.loRo.clipRuns} clip runs`,
+    );
+  if (d.mono)
+    lines.push(
+      d.mono.cancels
+        ? '  Mono sum L + R        cancels to silence (R is L inverted)'
+        : `  Mono sum L + R        ${orNone(d.mono.integratedLufs, 'LUFS')}, loss ${orNone(d.mono.compatibilityLossLu, 'LU')}`,
+    );
+  if (d.note) lines.push(`  Downmix               ${d.note}`);
+  if (d.channelIntegratedLufs)
+    lines.push(
+      `  Each channel alone    ${d.channelIntegratedLufs.map((l, c) => `${channelName(doc, c)} ${orNone(l, 'LUFS')}`).join(', ')} (not summable)`,
+    );
+  return lines;
 }
 
 function num(value: number | null): string {

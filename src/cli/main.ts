@@ -18,6 +18,7 @@ export const EXIT_ERROR = 3;
 const USAGE = `usage:
   earmark analyze <file> [--json] [--true-peak-ceiling dBTP] [--clip-run N] [--clip-threshold dBFS]
                          [--silence-threshold dBFS] [--silence-min seconds] [--threads N|auto] [--layout name]
+                         [--downmix] [--channel-loudness]
   earmark check <file> --profile <id|path.json> [--fps rate] [--layout name] [--json] [--threads N|auto]
       rate: 23.976 24 25 29.97-df 29.97-ndf 30 50 59.94-df 59.94-ndf 60 (default: the profile's)
       --layout: channel layout of a file without a channel mask or chna chunk: ${LAYOUT_NAMES.join(' ')}
@@ -75,6 +76,9 @@ export function analysisOptionsFromArgs(values: Record<string, unknown>): Analys
       ...(silenceMin !== undefined ? { minDurationSeconds: silenceMin } : {}),
     };
   }
+  // Fold-down readings cost extra K-weighting passes: only when asked.
+  if (values.downmix === true || values['channel-loudness'] === true)
+    options.downmix = { enabled: true, ...(values['channel-loudness'] === true ? { channelLoudness: true } : {}) };
   return options;
 }
 
@@ -86,6 +90,8 @@ const ANALYSIS_FLAGS = {
   'silence-threshold': { type: 'string' },
   'silence-min': { type: 'string' },
   layout: { type: 'string' },
+  downmix: { type: 'boolean' },
+  'channel-loudness': { type: 'boolean' },
 } as const;
 
 async function analyzeCommand(args: string[], io: CliIo): Promise<number> {

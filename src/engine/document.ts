@@ -2,6 +2,7 @@
 // carry their unit. A level of digital silence is null (JSON has no -Infinity).
 
 import type { AnalysisEvent, EventKind } from '../analysis/events.ts';
+import type { DownmixGains } from '../analysis/downmix.ts';
 import { isEventList, METER_NAMES, METERS, type Measurements } from '../analysis/runner.ts';
 import type { AudioFormat, DecodeWarning } from '../decode/types.ts';
 import { compareDeclaredLoudness, type DeclaredLoudnessComparison } from './declared-loudness.ts';
@@ -55,6 +56,68 @@ export interface DocumentIntegrityProblem {
   message: string;
 }
 
+/**
+ * Fold-down readings (analysis/downmix.ts), measured only when asked (a profile's downmix or
+ * mono rules, or the analysis options): each costs extra K-weighting passes.
+ */
+export interface DownmixReadings {
+  measured: boolean;
+  /** ITU-R BS.775 Lo/Ro of a 5.0/5.1-or-wider file; null for other layouts or when not measured. */
+  loRo: {
+    gains: DownmixGains;
+    integratedLufs: number | null;
+    truePeakDbtp: number | null;
+    truePeakAtSeconds: number | null;
+    /** Runs of Lo or Ro samples at or over full scale (each run is a 'downmix_clipping' event). */
+    clipRuns: number;
+    clippedSamples: number;
+    longestClipRunSamples: number;
+  } | null;
+  /** Stereo only: the mono sum L + R, and its loss against the stereo integrated loudness. */
+  mono: {
+    integratedLufs: number | null;
+    /** Stereo integrated loudness minus the mono sum's, in LU: 0 for uncorrelated L and R, -3.01 for identical ones; null when either is not measurable. */
+    compatibilityLossLu: number | null;
+    /** The mono sum does not pass the -70 LUFS absolute gate while the stereo does (e.g. R is L inverted). */
+    cancels: boolean;
+  } | null;
+  /** Each channel alone through K-weighting and the gates (weight 1.0): not summable, as BS.1770 gates after summing. */
+  channelIntegratedLufs: (number | null)[] | null;
+  /** Why a reading is missing, in plain words; null when nothing is. */
+  note: string | null;
+}
+
+/** The document's downmix readings from the meter's result and the programme's own loudness. */
+export function downmixReadings(m: Measurements): DownmixReadings {
+  const d = m.downmix;
+  const stereo = m.loudness.integratedLufs;
+  return {
+    measured: d.enabled,
+    loRo:
+      d.kind === 'lo_ro'
+        ? {
+            gains: d.gains,
+            integratedLufs: d.integratedLufs,
+            truePeakDbtp: d.truePeakDbtp,
+            truePeakAtSeconds: d.truePeakAtSeconds,
+            clipRuns: d.clipRuns,
+            clippedSamples: d.clippedSamples,
+            longestClipRunSamples: d.longestClipRunSamples,
+          }
+        : null,
+    mono:
+      d.kind === 'mono_sum'
+        ? {
+            integratedLufs: d.integratedLufs,
+            compatibilityLossLu: stereo !== null && d.integratedLufs !== null ? stereo - d.integratedLufs : null,
+            cancels: stereo !== null && d.integratedLufs === null,
+          }
+        : null,
+    channelIntegratedLufs: d.channelIntegratedLufs,
+    note: d.note,
+  };
+}
+
 /** One 400 ms gating block (ITU-R BS.1770-5 eq. (3)): audio shorter than this has no loudness at all. */
 export const MIN_MEASURABLE_SECONDS = 0.4;
 
@@ -94,6 +157,7 @@ export interface AnalysisDocument {
   channelPairs: Measurements['channelRelations']['pairs'];
   /** Loudness the file's metadata declares (bext v2, iXML), each figure beside our reading; empty when none. */
   declaredLoudness: DeclaredLoudnessComparison[];
+  downmix: DownmixReadings;
   events: AnalysisEvent[];
   eventCounts: Partial<Record<EventKind, number>>;
   eventsTruncated: boolean;
@@ -286,6 +350,7 @@ export function buildAnalysisDocument(
     }),
     channelPairs: m.channelRelations.pairs,
     declaredLoudness: [],
+    downmix: downmixReadings(m),
     events,
     eventCounts,
     eventsTruncated,

@@ -37,10 +37,13 @@ function startWorker(workerData: MeterThreadData): Worker {
   return new Worker(boot, { eval: true, workerData });
 }
 
-/** Load of each thread for an assignment of meters to threads (thread 0 is the main thread). */
+/** Meters that cost something by default; the others (off unless asked, cost 0) join a group after the search. */
+const COSTED = METER_NAMES.filter((name) => METERS[name].costMsPerMinute > 0);
+
+/** Load of each thread for an assignment of the costed meters to threads (thread 0 is the main thread). */
 function loads(assignment: number[], threads: number, mainCost: number): number[] {
   const load = Array.from({ length: threads }, (_, i) => (i === 0 ? mainCost : 0));
-  METER_NAMES.forEach((name, m) => {
+  COSTED.forEach((name, m) => {
     load[assignment[m]] += METERS[name].costMsPerMinute;
   });
   // A worker thread with no meters is not started (meterGroups drops it).
@@ -52,24 +55,33 @@ const MAX_METER_THREADS = 4;
 
 /**
  * The split of the meters into `threads` groups with the smallest largest load, found by trying
- * every assignment (9 meters: 512 for two threads, 262144 for four); group 0 is the main thread's,
- * which also decodes (and hashes): `decodeCost` in the same units, a WAV's by default.
+ * every assignment of the costed meters (9: 512 for two threads, 262144 for four); group 0 is the
+ * main thread's, which also decodes (and hashes): `decodeCost` in the same units, a WAV's by
+ * default. A meter of no default cost goes to the least loaded group, outside the search (each
+ * would multiply it by the thread count).
  */
 export function meterGroups(threads: number, decodeCost = PCM_DECODE_COST): MeterName[][] {
   const n = Math.max(1, Math.min(Math.floor(threads), MAX_METER_THREADS));
   const mainCost = decodeCost + ENVELOPE_COST;
-  const assignment = new Array<number>(METER_NAMES.length).fill(0);
+  const assignment = new Array<number>(COSTED.length).fill(0);
   let best = [...assignment],
     bestLoad = Math.max(...loads(assignment, n, mainCost));
-  for (let code = 1; code < n ** METER_NAMES.length; code++) {
-    for (let m = 0, c = code; m < METER_NAMES.length; m++, c = Math.floor(c / n)) assignment[m] = c % n;
+  for (let code = 1; code < n ** COSTED.length; code++) {
+    for (let m = 0, c = code; m < COSTED.length; m++, c = Math.floor(c / n)) assignment[m] = c % n;
     const load = Math.max(...loads(assignment, n, mainCost));
     if (load < bestLoad) {
       best = [...assignment];
       bestLoad = load;
     }
   }
-  const groups = Array.from({ length: n }, (_, t) => METER_NAMES.filter((_, m) => best[m] === t));
+  const load = loads(best, n, mainCost);
+  const started = load.map((l, t) => t === 0 || l > 0);
+  const lightest = load.reduce((min, l, t) => (started[t] && l < load[min] ? t : min), 0);
+  const groupOf = (name: MeterName) => {
+    const m = COSTED.indexOf(name);
+    return m < 0 ? lightest : best[m];
+  };
+  const groups = Array.from({ length: n }, (_, t) => METER_NAMES.filter((name) => groupOf(name) === t));
   return groups.filter((g, i) => i === 0 || g.length > 0);
 }
 

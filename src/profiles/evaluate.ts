@@ -1,6 +1,8 @@
 // Measurements + profile -> report. Pure: the same document and profile give the same report
 // (apart from generatedAt), so the CLI, the API and tests share it.
 
+import { DEFAULT_DOWNMIX_GAIN_DB } from '../analysis/downmix.ts';
+import type { AnalysisOptions } from '../analysis/runner.ts';
 import type { AnalysisDocument } from '../engine/document.ts';
 import { EarmarkError } from '../errors/index.ts';
 import { integrityCheck, runCheck } from './checks.ts';
@@ -51,6 +53,32 @@ function assertSettings(profile: Profile, doc: AnalysisDocument): void {
   ) {
     mismatch('truePeak.overCeilingDbtp', wanted.truePeak.overCeilingDbtp, doc.settings.overCeilingDbtp);
   }
+  assertDownmixSettings(profile, doc, wanted);
+}
+
+/** A profile's fold-down rules need the readings, made with the profile's gains. */
+function assertDownmixSettings(profile: Profile, doc: AnalysisDocument, wanted: AnalysisOptions): void {
+  const w = wanted.downmix;
+  if (!w?.enabled) return;
+  const refuse = (what: string) => {
+    throw new EarmarkError(
+      'invalid_argument',
+      `the analysis ${what}, profile ${profile.id} needs it: analyse with analysisOptionsForProfile(profile)`,
+      { field: 'downmix' },
+    );
+  };
+  if (!doc.downmix.measured) refuse('did not measure the downmix');
+  if (w.channelLoudness && doc.downmix.channelIntegratedLufs === null) refuse('did not read per-channel loudness');
+  const gains = doc.downmix.loRo?.gains;
+  if (!gains) return;
+  const differs = (expected: number | undefined, actual: number | null, fallback: number | null) =>
+    Math.abs((expected ?? fallback ?? -Infinity) - (actual ?? -Infinity)) > 1e-6;
+  if (
+    differs(w.centreGainDb, gains.centreGainDb, DEFAULT_DOWNMIX_GAIN_DB) ||
+    differs(w.surroundGainDb, gains.surroundGainDb, DEFAULT_DOWNMIX_GAIN_DB) ||
+    (w.lfeGainDb ?? null) !== gains.lfeGainDb
+  )
+    refuse('used other downmix gains');
 }
 
 export function verdictOf(checks: CheckResult[]): Verdict {

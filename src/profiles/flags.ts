@@ -45,6 +45,7 @@ export const FLAG_KINDS: Record<FlagKind, { title: string; unit: string | null }
   inverted_channel: { title: 'Inverted channel', unit: null },
   dc_offset: { title: 'DC offset', unit: 'dBFS' },
   declared_loudness_mismatch: { title: 'Declared loudness differs', unit: null },
+  downmix_clipping: { title: 'Downmix clipping', unit: 'dBFS' },
 };
 
 export type FlagDraft = Draft;
@@ -75,6 +76,7 @@ const EVENT_FLAGS: Record<EventKind, FlagKind> = {
   dead_channel: 'dead_channel',
   duplicate_channel: 'duplicate_channel',
   inverted_channel: 'inverted_channel',
+  downmix_clipping: 'downmix_clipping',
 };
 
 /** The rule type that judges each event kind, from the rule registry's `events`. */

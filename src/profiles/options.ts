@@ -14,6 +14,16 @@ export function analysisOptionsForProfile(profile: Profile): AnalysisOptions {
     const rules = profile.rules.filter((r) => r.type === type);
     if (rules.length > 0) ruleSpec(rules[0]).analysis?.(rules, options);
   }
+  const d = profile.downmix;
+  if (d) {
+    options.downmix = {
+      ...options.downmix,
+      ...(d.centreGainDb !== undefined ? { centreGainDb: d.centreGainDb } : {}),
+      ...(d.surroundGainDb !== undefined ? { surroundGainDb: d.surroundGainDb } : {}),
+      ...(d.lfeGainDb !== undefined ? { lfeGainDb: d.lfeGainDb } : {}),
+      ...(d.channelLoudness ? { enabled: true, channelLoudness: true } : {}),
+    };
+  }
   return options;
 }
 

@@ -59,7 +59,8 @@ export type FlagKind =
   | 'duplicate_channel'
   | 'inverted_channel'
   | 'dc_offset'
-  | 'declared_loudness_mismatch';
+  | 'declared_loudness_mismatch'
+  | 'downmix_clipping';
 
 /** fail and warn come from a broken rule; a remark is a finding no broken rule judges: shown, never counted. */
 export type FlagSeverity = Severity | 'remark';

@@ -193,6 +193,30 @@ export interface DropoutRule extends RuleBase {
    */
   channels?: ChannelLabel[];
 }
+/** Integrated loudness (ITU-R BS.1770) of the Lo/Ro downmix (ITU-R BS.775) of a 5.0/5.1-or-wider file: targetLufs with toleranceLu. Other layouts: not applied. */
+export interface DownmixLoudnessRule extends RuleBase {
+  type: 'downmix-loudness';
+  targetLufs: Lufs;
+  /** @minimum 0 @maximum 10 */
+  toleranceLu: number;
+}
+/** Maximum true peak (ITU-R BS.1770-5 Annex 2) of the Lo/Ro downmix of a 5.0/5.1-or-wider file. Other layouts: not applied. */
+export interface DownmixTruePeakRule extends RuleBase {
+  type: 'downmix-true-peak';
+  /** @minimum -60 @maximum 6 */
+  maxDbtp: number;
+}
+/** Runs of Lo/Ro downmix samples at or over full scale: at most maxRuns (default 0). Other layouts: not applied. */
+export interface DownmixClippingRule extends RuleBase {
+  type: 'downmix-clipping';
+  maxRuns?: Count;
+}
+/** Stereo only: the mono sum L + R may be at most maxLossLu quieter than the stereo programme (BS.1770 integrated loudness). A sum that cancels to silence fails. */
+export interface MonoCompatibilityRule extends RuleBase {
+  type: 'mono-compatibility';
+  /** @minimum 0 @maximum 40 */
+  maxLossLu: number;
+}
 /** The file itself: cut short, unreadable data, a declared length not reached, non-finite samples, no audio. Fails under every profile; name this rule only to lower it to warn. */
 export interface IntegrityRule extends RuleBase {
   type: 'integrity';
@@ -242,9 +266,25 @@ export type Rule =
   | ContainerRule
   | DropoutRule
   | IntegrityRule
-  | DeclaredLoudnessRule;
+  | DeclaredLoudnessRule
+  | DownmixLoudnessRule
+  | DownmixTruePeakRule
+  | DownmixClippingRule
+  | MonoCompatibilityRule;
 
 export type RuleType = Rule['type'];
+
+/** @minimum -60 @maximum 20 */
+type GainDb = number;
+/** Gains of the Lo/Ro downmix (ITU-R BS.775; ATSC A/52 section 7.8): -3 dB (1/sqrt 2) centre and surround, LFE omitted, when absent. */
+export interface DownmixSettings {
+  centreGainDb?: GainDb;
+  surroundGainDb?: GainDb;
+  /** LFE into both outputs at this gain; omitted (BS.775) when absent. */
+  lfeGainDb?: GainDb;
+  /** Also read each channel's integrated loudness alone (one more K-weighting pass per channel; not summable). */
+  channelLoudness?: boolean;
+}
 
 export interface Profile {
   id: Slug;
@@ -264,6 +304,8 @@ export interface Profile {
    * Channel layout of delivered files that do not name their channels (no WAVE channel mask, no BW64 chna chunk): sets their channel roles and so their loudness weights (ITU-R BS.1770-5 Annex 3). A file with another channel count is an error (layout_mismatch); a file that names its own channels keeps them.
    */
   layout?: LayoutName;
+  /** Fold-down settings; the readings run when a downmix or mono rule asks, or channelLoudness is set. */
+  downmix?: DownmixSettings;
   /** @minItems 1 @maxItems 200 */
   rules: Rule[];
 }

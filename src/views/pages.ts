@@ -2,6 +2,7 @@
 // operator enters once (kept in session storage), so the pages need no cookie or session.
 
 import { declaredLoudnessSection } from './declared-section.ts';
+import { downmixSection } from './downmix-section.ts';
 import { escapeXml } from './loudness-plot.ts';
 
 function shell(title: string, bodyAttributes: string, main: string, script: string): string {
@@ -115,6 +116,7 @@ export function reportPage(jobId: string): string {
   </div>
 </section>
 ${declaredLoudnessSection()}
+${downmixSection()}
 </div>`,
     'report.js',
   );

@@ -18,6 +18,7 @@ function eventfulOptions(maxEvents: number): AnalysisOptions {
     silence: { thresholdDbfs: -40, minDurationSeconds: 0.01, maxEvents },
     dropouts: { maxEvents },
     channelRelations: { phaseThreshold: 0.5, maxEvents },
+    downmix: { enabled: true, maxEvents },
   };
 }
 
@@ -53,8 +54,14 @@ describe('meter registry', () => {
     // R a polarity-inverted copy of L: the relation meter's pair events too.
     const inverted = [signals.programme[0], signals.programme[0].map((v) => -v)];
     const found = new Set<string>();
-    for (const channels of [...Object.values(signals), inverted]) {
-      for (const name of METER_NAMES) {
+    // The downmix meter folds 5.1 down; its clip runs need a surround layout.
+    const surround: StreamInfo = { ...info, channels: 6, channelLabels: ['L', 'R', 'C', 'LFE', 'Ls', 'Rs'] };
+    const runs = [
+      ...[...Object.values(signals), inverted].map((channels) => ({ info, channels, names: METER_NAMES })),
+      { info: surround, channels: testSignals(6, 8).clipped, names: ['downmix' as const] },
+    ];
+    for (const { info, channels, names } of runs) {
+      for (const name of names) {
         const meter = METERS[name].create(info, eventfulOptions(maxEvents));
         for (const block of cut(channels, [65_536])) meter.push(block);
         const result = meter.result();

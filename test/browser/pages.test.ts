@@ -421,6 +421,34 @@ describe.skipIf(!hasTool('chromium'))('pages in Chromium', () => {
     await page.close();
   });
 
+  it('report page of a profile with a mono rule: the fold-down card with the mono sum, its loss and each channel', async () => {
+    const api = client(service.url);
+    const profile = {
+      name: 'Fold-down card',
+      version: '0.0.1',
+      description: 'Invented house rule for the tests',
+      basis: 'house rule',
+      downmix: { channelLoudness: true },
+      rules: [{ id: 'mono', type: 'mono-compatibility', severity: 'warn', maxLossLu: 3 }],
+    };
+    expect((await api.put('/v1/profiles/fold-down-card', profile, KEYS.alphaAdmin)).status).toBe(200);
+    const wav = await writeSine(join(dir, 'jingle-dual-mono.wav'), -20, 4);
+    const submitted = await api.upload(wav, { profile: 'fold-down-card' }, KEYS.alpha);
+    expect(submitted.status).toBe(202);
+    const id = submitted.body.id as string;
+    await until(async () => {
+      const job = (await api.get(`/v1/jobs/${id}`, KEYS.alpha)).body;
+      return job.state === 'completed' ? job : null;
+    });
+    const page = await openPage(`/jobs/${id}`);
+    await page.waitForSelector('#em-downmix:not([hidden])');
+    // Identical L and R: the mono sum L + R reads 3.01 LU above the stereo pair (closed form).
+    expect(await page.textContent('#em-downmix-metrics')).toContain('-3.0 LU');
+    expect(await page.locator('#em-channel-loudness-body tr').count()).toBe(2);
+    expect(await page.isVisible('#em-channel-loudness')).toBe(true);
+    await page.close();
+  });
+
   it('made no request outside the server', () => {
     expect(external).toEqual([]);
   });

@@ -65,6 +65,19 @@ describe('earmark analyze', () => {
     expect(doc.series.momentary.lufs).toHaveLength(200);
   });
 
+  it('measures the fold-down only with --downmix (--channel-loudness adds each channel alone)', async () => {
+    const plain = capture();
+    expect(await main(['analyze', tonePath, '--json'], plain.io)).toBe(0);
+    expect(JSON.parse(plain.out()).downmix).toMatchObject({ measured: false, mono: null, loRo: null });
+    const c = capture();
+    expect(await main(['analyze', tonePath, '--json', '--downmix', '--channel-loudness'], c.io)).toBe(0);
+    const { downmix } = JSON.parse(c.out());
+    // Identical L and R: the mono sum L + R is 3.01 LU louder than the stereo pair (closed form).
+    expect(downmix.mono.compatibilityLossLu).toBeCloseTo(-3.01, 2);
+    // Each channel alone: a -23 dBFS-peak 1 kHz sine reads -26.0 LKFS (BS.1770-5 eq. (2), one channel).
+    for (const lufs of downmix.channelIntegratedLufs) expect(Math.abs(lufs + 26.01)).toBeLessThan(0.1);
+  });
+
   it('prints a readable summary by default', async () => {
     const c = capture();
     expect(await main(['analyze', tonePath], c.io)).toBe(0);

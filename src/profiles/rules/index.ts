@@ -9,6 +9,9 @@ import { container } from './container.ts';
 import { dcOffset } from './dc-offset.ts';
 import { deadChannel } from './dead-channel.ts';
 import { declaredLoudness } from './declared-loudness.ts';
+import { downmixClipping } from './downmix-clipping.ts';
+import { downmixLoudness } from './downmix-loudness.ts';
+import { downmixTruePeak } from './downmix-true-peak.ts';
 import { dropouts } from './dropouts.ts';
 import { duration } from './duration.ts';
 import { headSilence, tailSilence } from './edge-silence.ts';
@@ -16,6 +19,7 @@ import { integratedLoudness } from './integrated-loudness.ts';
 import { integrity } from './integrity.ts';
 import { loudnessRange } from './loudness-range.ts';
 import { momentaryMax } from './momentary-max.ts';
+import { monoCompatibility } from './mono-compatibility.ts';
 import { phase } from './phase.ts';
 import type { RuleRegistry, RuleSpec } from './rule-spec.ts';
 import { samplePeak } from './sample-peak.ts';
@@ -49,6 +53,10 @@ export const RULES: RuleRegistry = {
   dropouts,
   integrity,
   'declared-loudness': declaredLoudness,
+  'downmix-loudness': downmixLoudness,
+  'downmix-true-peak': downmixTruePeak,
+  'downmix-clipping': downmixClipping,
+  'mono-compatibility': monoCompatibility,
 };
 
 export function isRuleType(value: string): value is RuleType {

@@ -3,6 +3,7 @@
 // listening excerpt per flag, and the checks. A failed job shows its error and what to do.
 import { api, el, setupKeyForm, text, verdictBadge } from './common.js';
 import { renderDeclaredLoudness } from './declared.js';
+import { renderDownmix } from './downmix.js';
 import { failureHint, flagCountsText, flagDetails, flagView, headlineNamesVerdict, outcomeText } from './format.js';
 
 const jobId = document.body.dataset.jobId;
@@ -241,6 +242,7 @@ async function load() {
     renderChecks(report);
     renderFlags(report);
     renderDeclaredLoudness(report);
+    renderDownmix(report);
     document.getElementById('em-report-body').hidden = false;
     status.textContent = '';
   } catch (error) {
