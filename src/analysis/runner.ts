@@ -5,6 +5,7 @@
 import type { Meter, PcmBlock, StreamInfo } from './audio.ts';
 import { ChannelRelationMeter, type ChannelRelationOptions, type ChannelRelationResult } from './channel-relations.ts';
 import { EnvelopeBuilder } from './envelope.ts';
+import { HeadMeter, type HeadMeterOptions, type HeadResult } from './head.ts';
 import type { EventKind, EventList } from './events.ts';
 import { ClippingMeter, type ClippingMeterOptions, type ClippingResult } from './clipping.ts';
 import { DropoutMeter, type DropoutOptions, type DropoutResult } from './dropouts.ts';
@@ -27,6 +28,8 @@ export interface AnalysisOptions {
   clipping?: ClippingMeterOptions;
   silence?: SilenceMeterOptions;
   channelRelations?: ChannelRelationOptions;
+  /** The silence threshold is the silence meter's unless set here. */
+  head?: HeadMeterOptions;
 }
 
 export interface Measurements {
@@ -40,6 +43,7 @@ export interface Measurements {
   dropouts: DropoutResult;
   silence: SilenceResult;
   channelRelations: ChannelRelationResult;
+  head: HeadResult;
 }
 
 export type MeterName = Exclude<keyof Measurements, 'frames'>;
@@ -112,6 +116,12 @@ export const METERS: { readonly [K in MeterName]: MeterDescriptor<Measurements[K
     costMsPerMinute: 4.5,
     readsEnvelope: false,
     events: { kinds: ['dead_channel', 'duplicate_channel', 'inverted_channel', 'phase_problem'], countOrder: 6 },
+  },
+  head: {
+    create: (info, o) => new HeadMeter(info, { silenceThresholdDbfs: o.silence?.thresholdDbfs, ...o.head }),
+    costMsPerMinute: 0.3,
+    readsEnvelope: true,
+    events: null,
   },
 };
 
