@@ -84,6 +84,9 @@ export interface HeadResult {
   headPops: number;
   /** The last sine burst after the programme with nothing but silence after it. */
   tailPop: PopReading | null;
+  /** With a tail pop: the end of the last sound before it (the programme's end). */
+  programmeEndFrame: number | null;
+  programmeEndSeconds: number | null;
 }
 
 class ChannelHead {
@@ -336,7 +339,9 @@ export class HeadMeter implements Meter<HeadResult> {
       endSeconds: p.endFrame / rate,
     });
     const headPops = this.pops.filter((p) => start === null || p.startFrame < start);
-    const tail = this.tail.result();
+    const found = this.tail.result();
+    const tail = found && start !== null && found.startFrame >= start ? found : null;
+    const programmeEnd = tail ? this.tail.soundEndBeforeLast : null;
     const lastToneEnd = this.segments.reduce((end, s) => Math.max(end, s.endFrame), -1);
     const segments = [...this.segments].sort((a, b) => a.startFrame - b.startFrame || a.channel - b.channel);
     this.finished = {
@@ -351,7 +356,9 @@ export class HeadMeter implements Meter<HeadResult> {
       toneIntoProgramme: segments.some((s) => s.intoProgramme),
       headPop: headPops.length > 0 ? reading(headPops[0]) : null,
       headPops: start === null ? this.popsTotal : headPops.length,
-      tailPop: tail && start !== null && tail.startFrame >= start ? reading(tail) : null,
+      tailPop: tail ? reading(tail) : null,
+      programmeEndFrame: programmeEnd,
+      programmeEndSeconds: programmeEnd === null ? null : programmeEnd / rate,
     };
     return this.finished;
   }

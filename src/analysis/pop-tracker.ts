@@ -36,6 +36,9 @@ export class TailPopTracker {
   private candidate = false;
   private candidateStart = 0;
   private last: FoundPop | null = null;
+  /** Where the silence before the candidate and before the last pop began (the programme's end for a tail pop). */
+  private candidateAfter = 0;
+  private lastAfter = 0;
 
   constructor(
     private readonly channels: number,
@@ -73,6 +76,7 @@ export class TailPopTracker {
 
   private open(at: number): void {
     this.candidate = true;
+    this.candidateAfter = this.quietSince;
     this.candidateStart = at;
     for (let c = 0; c < this.channels; c++) {
       this.sums[c].reset();
@@ -103,6 +107,12 @@ export class TailPopTracker {
     const start = this.firstLoud();
     const end = this.lastLoud() + 1;
     this.last = start >= 0 && end - start <= this.maxFrames ? popOf(this.sums, start, end, this.sampleRate) : null;
+    this.lastAfter = Math.max(0, this.candidateAfter);
+  }
+
+  /** Where the silence before the last pop began: the end of the last sound before it. */
+  get soundEndBeforeLast(): number {
+    return this.lastAfter;
   }
 
   /** The last pop with nothing but silence after it; the end of the stream closes an open candidate. */

@@ -91,6 +91,8 @@ export interface AnalysisDocument {
   };
   channels: ChannelSummary[];
   channelPairs: Measurements['channelRelations']['pairs'];
+  /** Line-up tone, sync pops and the programme's start (analysis/head.ts). */
+  head: Measurements['head'];
   events: AnalysisEvent[];
   eventCounts: Partial<Record<EventKind, number>>;
   eventsTruncated: boolean;
@@ -281,6 +283,7 @@ export function buildAnalysisDocument(
       };
     }),
     channelPairs: m.channelRelations.pairs,
+    head: m.head,
     events,
     eventCounts,
     eventsTruncated,
