@@ -15,6 +15,7 @@ import {
   type Verdict,
 } from './report.ts';
 import { fmt } from './format.ts';
+import { headTimecodeOf } from './head.ts';
 import { FRAME_RATES, timecodeAtSample, type FrameRate } from './timecode.ts';
 import type { FrameRateId, IntegratedLoudnessRule, Profile } from './types.ts';
 
@@ -144,6 +145,7 @@ export function evaluate(profile: Profile, doc: AnalysisDocument, options: Evalu
       originSeconds: origin === null ? 0 : origin / doc.format.sampleRate,
       originTimecode: timecodeAtSample(0, doc.format.sampleRate, rate, origin),
     },
+    headTimecode: headTimecodeOf(doc, rate),
     generatedAt: (options.now ?? new Date()).toISOString(),
   };
 }

@@ -70,3 +70,11 @@ export function framesFromTimecode(label: string, rate: FrameRate): number {
 export function frameOfSample(doc: AnalysisDocument, sample: number, rate: FrameRate): number {
   return framesAtSample(sample + (doc.format.timeReferenceSamples ?? 0), doc.format.sampleRate, rate);
 }
+
+/** The file's first sample inside frame `frame` (counted from midnight with the time reference); may be negative. */
+export function sampleOfFrame(doc: AnalysisDocument, frame: number, rate: FrameRate): number {
+  const num = BigInt(Math.floor(frame)) * BigInt(doc.format.sampleRate) * BigInt(rate.fpsDenominator);
+  const den = BigInt(rate.fpsNumerator);
+  const first = Number((num + den - 1n) / den);
+  return first - (doc.format.timeReferenceSamples ?? 0);
+}

@@ -13,7 +13,7 @@ export const DEFAULT_POP_OFFSET_SECONDS = 2;
 export const DEFAULT_POP_TOLERANCE_FRAMES = 1;
 
 /** The frame the rule expects the pop to start in, or why there is none. */
-function expectedFrame(rule: SyncPopRule, doc: AnalysisDocument, rate: FrameRate): number | string {
+export function expectedFrame(rule: SyncPopRule, doc: AnalysisDocument, rate: FrameRate): number | string {
   const offsetFrames = Math.round((rule.offsetSeconds ?? DEFAULT_POP_OFFSET_SECONDS) * rate.nominalFps);
   if (rule.position === 'tail') {
     const end = doc.head.programmeEndFrame;
