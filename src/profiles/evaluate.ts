@@ -118,7 +118,10 @@ export function evaluate(profile: Profile, doc: AnalysisDocument, options: Evalu
   const rate: FrameRate = FRAME_RATES[options.frameRate ?? profile.timecode?.frameRate ?? DEFAULT_FRAME_RATE];
   // Integrity first: every profile judges it, whether or not it names it.
   const integrity = integrityCheck(profile, doc);
-  const checks = [integrity, ...profile.rules.filter((r) => r.type !== 'integrity').map((rule) => runCheck(rule, doc, rate))];
+  const checks = [
+    integrity,
+    ...profile.rules.filter((r) => r.type !== 'integrity').map((rule) => runCheck(rule, doc, rate)),
+  ];
   const { flags, flagsTotal, flagCounts } = buildFlags(profile, doc, checks, integrity, rate, options);
   const origin = doc.format.timeReferenceSamples;
   const problems = doc.integrity.problems.map((p) => ({

@@ -33,7 +33,11 @@ export function headDrafts(
   }
   const separation = ruleVerdict(profile, checks, 'tone-separation');
   const lastToneEnd = Math.max(-1, ...head.toneSegments.map((s) => s.endFrame));
-  if (head.programmeStartFrame !== null && lastToneEnd >= 0 && (head.toneIntoProgramme || separation.severity !== 'remark')) {
+  if (
+    head.programmeStartFrame !== null &&
+    lastToneEnd >= 0 &&
+    (head.toneIntoProgramme || separation.severity !== 'remark')
+  ) {
     out.push({
       kind: 'tone_into_programme',
       ...separation,

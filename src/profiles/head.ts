@@ -59,7 +59,9 @@ export function framesFromTimecode(label: string, rate: FrameRate): number {
   const m = /^(\d\d):(\d\d):(\d\d)[:;](\d\d)$/.exec(label);
   const [hh, mm, ss, ff] = m ? m.slice(1).map(Number) : [];
   if (hh === undefined || mm === undefined || ss === undefined || ff === undefined || ff >= rate.nominalFps) {
-    throw new EarmarkError('invalid_argument', `"${label}" is not a timecode at ${rate.id} fps`, { field: 'atTimecode' });
+    throw new EarmarkError('invalid_argument', `"${label}" is not a timecode at ${rate.id} fps`, {
+      field: 'atTimecode',
+    });
   }
   const minutes = 60 * hh + mm;
   const dropped = rate.dropFrames * (minutes - Math.floor(minutes / 10));

@@ -41,7 +41,14 @@ export function toneThenProgramme(
   const programmeFrames = seconds(o.programmeSeconds);
   const pieces: Piece[] = [];
   for (let c = 0; c < channels; c++) {
-    pieces.push({ kind: 'sine', channel: c, startFrame: 0, frames: toneFrames, hz: o.hz ?? 1000, levelDbfs: o.levelDbfs ?? -18 });
+    pieces.push({
+      kind: 'sine',
+      channel: c,
+      startFrame: 0,
+      frames: toneFrames,
+      hz: o.hz ?? 1000,
+      levelDbfs: o.levelDbfs ?? -18,
+    });
     pieces.push({ kind: 'programme', channel: c, startFrame: programmeStart, frames: programmeFrames });
   }
   return compose(channels, programmeStart + programmeFrames, pieces);
