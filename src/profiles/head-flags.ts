@@ -1,6 +1,8 @@
 // Flags of the head (analysis/head.ts): each line-up tone segment, a tone that runs into the
 // programme, each sync pop found, and a pop a sync-pop rule expects but did not find (at the place
-// expected). Judged by the rule of their type when it is broken; otherwise remarks.
+// expected). Judged by the rule of their type when it is broken; otherwise remarks. Only a profile
+// that judges the head (any of those rule types) gets them: a file that is one long test tone is
+// not a line-up for every other profile.
 import type { AnalysisDocument } from '../engine/document.ts';
 import { type FlagDraft, ruleVerdict } from './flags.ts';
 import { sampleOfFrame } from './head.ts';
@@ -10,6 +12,7 @@ import type { FrameRate } from './timecode.ts';
 import type { Profile, Rule } from './types.ts';
 
 const point = { count: 1, detections: 1 };
+const HEAD_RULES = new Set<Rule['type']>(['line-up-tone', 'tone-separation', 'sync-pop']);
 
 export function headDrafts(
   profile: Profile,
@@ -19,6 +22,7 @@ export function headDrafts(
 ): FlagDraft[] {
   const head = doc.head;
   const out: FlagDraft[] = [];
+  if (!profile.rules.some((r) => HEAD_RULES.has(r.type))) return out;
   const tone = ruleVerdict(profile, checks, 'line-up-tone');
   for (const s of head.toneSegments) {
     out.push({
