@@ -338,7 +338,6 @@ export class HeadMeter implements Meter<HeadResult> {
       startSeconds: p.startFrame / rate,
       endSeconds: p.endFrame / rate,
     });
-    const headPops = this.pops.filter((p) => start === null || p.startFrame < start);
     const found = this.tail.result();
     const tail = found && start !== null && found.startFrame >= start ? found : null;
     const programmeEnd = tail ? this.tail.soundEndBeforeLast : null;
@@ -354,8 +353,9 @@ export class HeadMeter implements Meter<HeadResult> {
       programmeStartSeconds: start === null ? null : start / rate,
       toneGapSeconds: start === null || lastToneEnd < 0 ? null : Math.max(0, start - lastToneEnd) / rate,
       toneIntoProgramme: segments.some((s) => s.intoProgramme),
-      headPop: headPops.length > 0 ? reading(headPops[0]) : null,
-      headPops: start === null ? this.popsTotal : headPops.length,
+      // The head ends at the programme start: every pop found lies before it.
+      headPop: this.pops.length > 0 ? reading(this.pops[0]) : null,
+      headPops: this.popsTotal,
       tailPop: tail ? reading(tail) : null,
       programmeEndFrame: programmeEnd,
       programmeEndSeconds: programmeEnd === null ? null : programmeEnd / rate,

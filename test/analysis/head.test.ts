@@ -114,6 +114,23 @@ describe('line-up tone', () => {
   });
 });
 
+describe('bounded state', () => {
+  it('keeps at most 64 tone segments and 8 pops of a long head, counting every one', () => {
+    const pieces: Piece[] = [];
+    let at = 0;
+    for (let k = 0; k < 70; k++, at += seconds(0.55))
+      pieces.push({ kind: 'sine', channel: 0, startFrame: at, frames: seconds(0.45), hz: 1000, levelDbfs: -18 });
+    for (let k = 0; k < 10; k++, at += seconds(0.3))
+      pieces.push({ kind: 'sine', channel: 0, startFrame: at, frames: 1920, hz: 1000, levelDbfs: -18 });
+    pieces.push({ kind: 'programme', channel: 0, startFrame: at + seconds(1), frames: seconds(1) });
+    const head = measure(compose(2, at + seconds(2), pieces));
+    expect([head.toneSegments.length, head.toneSegmentsTotal]).toEqual([64, 70]);
+    expect(head.headPops).toBe(10);
+    expect(head.headPop?.startFrame).toBe(seconds(70 * 0.55) + 1);
+    expect(Math.abs((head.programmeStartSeconds ?? 0) - (at / RATE + 1))).toBeLessThan(10 / RATE);
+  });
+});
+
 describe('sync pop', () => {
   // Common practice: one frame of 1 kHz 2 s before the first frame of action, and 2 s after the last.
   it.each(['25', '29.97-ndf', '29.97-df'] as const)('finds head and tail pops on their frames at %s fps', (id) => {
