@@ -3,7 +3,7 @@
 import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
 import { writeWavFile } from '../../src/encode/wav.ts';
-import { FRAME_RATES, type FrameRate, type Profile, type Rule } from '../../src/profiles/index.ts';
+import { FRAME_RATES, type FrameRate, type Profile, profileIssues, type Rule } from '../../src/profiles/index.ts';
 import { compose, type Piece, RATE, seconds } from '../helpers/head-signals.ts';
 import { checkFile, checkOf, tempDir } from './helpers.ts';
 
@@ -172,5 +172,25 @@ describe('head rules', () => {
     expect(checkOf(report, 'tail-pop').measured).toBe(0);
     expect(report.headTimecode.headPop).toBe('00:00:08;00');
     expect(report.headTimecode.programmeStart).toBe('00:00:10;00');
+  });
+
+  it('fails, without a crash, a timecode that does not exist at the frame rate; the schema refuses a tail pop at a timecode', async () => {
+    const path = await headFile();
+    // Frame 25 does not exist at 25 fps; 00:01:00;00 is a dropped label at 29.97 drop-frame (SMPTE ST 12-1).
+    const report = await checkFile(
+      path,
+      profile([{ id: 'pop', type: 'sync-pop', severity: 'fail', atTimecode: '00:00:04:25' }]),
+    );
+    expect(checkOf(report, 'pop').outcome).toBe('not_measurable');
+    expect(checkOf(report, 'pop').passed).toBe(false);
+    const df = await checkFile(
+      path,
+      profile([{ id: 'pop', type: 'sync-pop', severity: 'fail', atTimecode: '00:01:00;00' }], {
+        frameRate: '29.97-df',
+      }),
+    );
+    expect(checkOf(df, 'pop').explanation).toMatch(/00:01:00;00 is not a timecode at 29.97-df fps/);
+    const tail: Rule = { id: 'pop', type: 'sync-pop', severity: 'fail', position: 'tail', atTimecode: '00:00:04:00' };
+    expect(profileIssues(profile([tail])).map((i) => i.field)).toEqual(['rules[0].atTimecode']);
   });
 });

@@ -12,6 +12,17 @@ import type { Draft, RuleSpec } from './rule-spec.ts';
 export const DEFAULT_POP_OFFSET_SECONDS = 2;
 export const DEFAULT_POP_TOLERANCE_FRAMES = 1;
 
+/** A label's frame, or null when the label does not exist at this rate (frame 25 at 25 fps, a dropped number). */
+function labelFrame(label: string, rate: FrameRate): number | null {
+  try {
+    const frame = framesFromTimecode(label, rate);
+    const plain = (text: string) => text.replace(';', ':');
+    return plain(timecodeFromFrames(frame, rate)) === plain(label) ? frame : null;
+  } catch {
+    return null;
+  }
+}
+
 /** The frame the rule expects the pop to start in, or why there is none. */
 export function expectedFrame(rule: SyncPopRule, doc: AnalysisDocument, rate: FrameRate): number | string {
   const offsetFrames = Math.round((rule.offsetSeconds ?? DEFAULT_POP_OFFSET_SECONDS) * rate.nominalFps);
@@ -19,7 +30,10 @@ export function expectedFrame(rule: SyncPopRule, doc: AnalysisDocument, rate: Fr
     const end = doc.head.programmeEndFrame;
     return end === null ? 'no tail pop after the programme' : frameOfSample(doc, end, rate) + offsetFrames;
   }
-  if (rule.atTimecode !== undefined) return framesFromTimecode(rule.atTimecode, rate);
+  if (rule.atTimecode !== undefined) {
+    const frame = labelFrame(rule.atTimecode, rate);
+    return frame ?? `${rule.atTimecode} is not a timecode at ${rate.id} fps`;
+  }
   const start = doc.head.programmeStartFrame;
   return start === null ? 'no programme start' : frameOfSample(doc, start, rate) - offsetFrames;
 }
@@ -62,4 +76,8 @@ function check(rule: SyncPopRule, doc: AnalysisDocument, rate: FrameRate): Draft
 
 export const syncPop: RuleSpec<SyncPopRule> = {
   check: (rule, doc, context) => check(rule, doc, context.frameRate),
+  issues: (rule, at) =>
+    rule.position === 'tail' && rule.atTimecode !== undefined
+      ? [{ field: `${at}.atTimecode`, message: `${at}.atTimecode is for the head pop; a tail pop is placed by offsetSeconds` }]
+      : [],
 };
