@@ -78,6 +78,11 @@ export const syncPop: RuleSpec<SyncPopRule> = {
   check: (rule, doc, context) => check(rule, doc, context.frameRate),
   issues: (rule, at) =>
     rule.position === 'tail' && rule.atTimecode !== undefined
-      ? [{ field: `${at}.atTimecode`, message: `${at}.atTimecode is for the head pop; a tail pop is placed by offsetSeconds` }]
+      ? [
+          {
+            field: `${at}.atTimecode`,
+            message: `${at}.atTimecode is for the head pop; a tail pop is placed by offsetSeconds`,
+          },
+        ]
       : [],
 };
