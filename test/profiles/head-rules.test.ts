@@ -2,6 +2,7 @@
 // their flags and the report's head timecodes, on generated WAV files with known truth.
 import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
+import { formatReport } from '../../src/cli/check.ts';
 import { writeWavFile } from '../../src/encode/wav.ts';
 import { FRAME_RATES, type FrameRate, type Profile, profileIssues, type Rule } from '../../src/profiles/index.ts';
 import { compose, type Piece, RATE, seconds } from '../helpers/head-signals.ts';
@@ -114,6 +115,9 @@ describe('head rules', () => {
       programmeEnd: '00:00:09:00',
       tailPop: '00:00:11:00',
     });
+    expect(formatReport(report)).toContain(
+      'head     tone 1000.0 Hz at -18.00 dBFS 00:00:00:00 - 00:00:03:00, pop 00:00:04:00, programme from 00:00:06:00, tail pop 00:00:11:00\n',
+    );
     const kinds = report.flags.map((f) => `${f.kind} ${f.severity} ${f.startTimecode}`);
     expect(kinds).toContain('sync_pop remark 00:00:04:00');
     expect(kinds).toContain('sync_pop remark 00:00:11:00');
