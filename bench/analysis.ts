@@ -1,4 +1,5 @@
-// `npm run bench`: full analysis of a deterministic 60-minute 48 kHz stereo 24-bit WAV, timed as
+// `npm run bench:harness` (a diagnostic; the headline is `npm run bench`): full analysis of a
+// deterministic 60-minute 48 kHz stereo 24-bit WAV, timed as
 // a whole process beside `ffmpeg -af ebur128=peak=true` on the same file, runs alternating.
 // A benchmark, not a test: it prints figures and never fails on them.
 //

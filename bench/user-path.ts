@@ -1,16 +1,22 @@
-// `npm run bench:user`: the command a user runs, `npx earmark analyze <file> --json`, timed as a
-// whole process (npx, start-up, decode, meters, hashing) beside `ffmpeg -af ebur128=peak=true` on
-// the same file, runs alternating so both see the same machine load. Wall time and peak RSS
-// (/usr/bin/time -v) per run; medians and ratios per file. The RSS of an npx run is that of the
-// largest process in its tree, which is npm's own (about 90 MiB) when ours is smaller, so each
-// run also starts `node bin/earmark.js` directly (what npx runs) for the command's own peak RSS.
+// `npm run bench` (first half; bench:service is the second): the commands a user runs,
+// `npx earmark analyze <file> --json` and `npx earmark check <file> --profile delivery-online
+// --json`, timed as whole processes (npx, start-up, decode, meters, hashing, report) beside
+// `ffmpeg -af ebur128=peak=true` on the same file, runs alternating so all see the same machine
+// load. Wall time and peak RSS (/usr/bin/time -v) per run; medians of per-run ratios per file,
+// printed against the performance targets. The RSS of an npx run is that of the largest process
+// in its tree, which is npm's own (about 90 MiB) when ours is smaller, so each run also starts
+// `node bin/earmark.js analyze` directly (what npx runs) for the command's own peak RSS.
 // A benchmark, not a test: it prints figures and never fails on them.
 //
-// Files: the paths given as arguments, else two pink-noise WAVs made once with sox in the cache
-// folder (60 minutes 48 kHz/24-bit stereo; 10 minutes 44.1 kHz/16-bit stereo).
+// Files: the paths given as arguments, else the target files, made once in the cache folder:
+// 60 minutes 48 kHz/24-bit pink noise (sox); a 10-minute brick-wall limited master (stereo pink
+// noise +12 dB into ffmpeg's alimiter, 1 ms attack, -1 dBFS); 10 minutes 44.1 kHz/16-bit; and
+// that limited master encoded as FLAC 16-bit, MP3 320k, AAC 256k in M4A and ADTS, Opus 160k and
+// Vorbis q6. BENCH_USER_RSS=1 adds the flatness files (3 hours stereo, 10 minutes 5.1).
 // Environment: BENCH_USER_DIRS (the checkouts whose `npx earmark` runs, comma-separated, each
 // after its own `npm ci`; default this one; several alternate within each run, e.g. before and
-// after a change), BENCH_RUNS (default 5), BENCH_DIR (cache folder).
+// after a change), BENCH_RUNS (default 5), BENCH_DIR (cache folder), BENCH_USER_FILES (a
+// comma-separated subset of the target file names below).
 
 import { spawn, spawnSync } from 'node:child_process';
 import { existsSync } from 'node:fs';
@@ -27,19 +33,130 @@ interface RunFigures {
   peakRssMib: number;
 }
 
-/** A pink-noise WAV from sox in the cache folder, made once. */
-async function pinkWav(name: string, seconds: number, sampleRate: number, bits: number): Promise<string> {
+/** A file in the cache folder, made once by `command` writing to the path it is given. */
+async function cached(name: string, make: (partial: string) => [string, string[]]): Promise<string> {
   const path = join(cacheDir, name);
   if (existsSync(path)) return path;
   await mkdir(cacheDir, { recursive: true });
   console.log(`generating ${path} (once) ...`);
-  const partial = `${path}.partial.wav`;
-  const format = ['-r', `${sampleRate}`, '-b', `${bits}`, '-c', '2'];
-  const synth = ['synth', `${seconds}`, 'pinknoise', 'vol', '0.3'];
-  const made = spawnSync('sox', ['-n', ...format, partial, ...synth], { encoding: 'utf8' });
-  if (made.status !== 0) throw new Error(`sox could not make ${name}: ${made.stderr}`);
+  const partial = join(cacheDir, `partial-${name}`);
+  const [command, args] = make(partial);
+  const made = spawnSync(command, args, { encoding: 'utf8' });
+  if (made.status !== 0) throw new Error(`${command} could not make ${name}: ${made.stderr}`);
   await rename(partial, path);
   return path;
+}
+
+/** Pink noise from sox. */
+const pinkWav = (name: string, seconds: number, sampleRate: number, bits: number, channels = 2) =>
+  cached(name, (partial) => [
+    'sox',
+    [
+      '-n',
+      '-r',
+      `${sampleRate}`,
+      '-b',
+      `${bits}`,
+      '-c',
+      `${channels}`,
+      partial,
+      'synth',
+      `${seconds}`,
+      'pinknoise',
+      'vol',
+      '0.3',
+    ],
+  ]);
+
+const ffmpegQuiet = ['-nostdin', '-v', 'error', '-y'];
+
+/** Stereo pink noise +12 dB into a 1 ms-attack limiter at -1 dBFS: every chunk sits at the ceiling. */
+const limitedMaster = () =>
+  cached('limited-10min-48k-24bit-stereo.wav', (partial) => [
+    'ffmpeg',
+    [
+      ...ffmpegQuiet,
+      ...['-f', 'lavfi', '-i', 'anoisesrc=c=pink:a=0.3:d=600:r=48000:seed=1'],
+      ...['-f', 'lavfi', '-i', 'anoisesrc=c=pink:a=0.3:d=600:r=48000:seed=2'],
+      '-filter_complex',
+      '[0][1]join=inputs=2:channel_layout=stereo,volume=12dB,alimiter=limit=0.891:attack=1:release=50:level=false',
+      ...['-c:a', 'pcm_s24le', '-f', 'wav', partial],
+    ],
+  ]);
+
+/** The limited master encoded at 44.1 kHz: compressed input is what platforms ingest. */
+const encoded = (name: string, source: string, codec: string[], format: string) =>
+  cached(name, (partial) => [
+    'ffmpeg',
+    [...ffmpegQuiet, '-i', source, '-ar', '44100', ...codec, '-f', format, partial],
+  ]);
+
+interface Target {
+  name: string;
+  make: () => Promise<string>;
+  /** The performance issue's ratio target for analyze, against ffmpeg's time. */
+  goal: number;
+}
+
+function targets(): Target[] {
+  const master = limitedMaster;
+  const list: Target[] = [
+    { name: '60-min 48k/24 WAV', make: () => pinkWav('pink-60min-48k-24bit-stereo.wav', 3600, 48000, 24), goal: 0.2 },
+    { name: 'limited master WAV', make: master, goal: 0.35 },
+    {
+      name: '10-min 44.1k/16 WAV',
+      make: () => pinkWav('pink-10min-44k1-16bit-stereo.wav', 600, 44100, 16),
+      goal: 0.25,
+    },
+    {
+      name: 'FLAC 16-bit',
+      make: async () => encoded('limited-10min.flac', await master(), ['-c:a', 'flac', '-sample_fmt', 's16'], 'flac'),
+      goal: 0.5,
+    },
+    {
+      name: 'MP3 320k',
+      make: async () => encoded('limited-10min.mp3', await master(), ['-c:a', 'libmp3lame', '-b:a', '320k'], 'mp3'),
+      goal: 0.5,
+    },
+    {
+      name: 'AAC in M4A',
+      make: async () => encoded('limited-10min.m4a', await master(), ['-c:a', 'aac', '-b:a', '256k'], 'ipod'),
+      goal: 0.5,
+    },
+    {
+      name: 'AAC in ADTS',
+      make: async () => encoded('limited-10min.aac', await master(), ['-c:a', 'aac', '-b:a', '256k'], 'adts'),
+      goal: 0.5,
+    },
+    {
+      name: 'Opus',
+      // Opus runs at 48 kHz; the later -ar wins.
+      make: async () =>
+        encoded('limited-10min.opus', await master(), ['-ar', '48000', '-c:a', 'libopus', '-b:a', '160k'], 'ogg'),
+      goal: 0.5,
+    },
+    {
+      name: 'Vorbis',
+      make: async () => encoded('limited-10min.ogg', await master(), ['-c:a', 'libvorbis', '-q:a', '6'], 'ogg'),
+      goal: 0.5,
+    },
+  ];
+  if (process.env.BENCH_USER_RSS === '1') {
+    list.push(
+      {
+        name: '3-hour 48k/24 WAV',
+        make: () => pinkWav('pink-180min-48k-24bit-stereo.wav', 10800, 48000, 24),
+        goal: 0.2,
+      },
+      {
+        name: '10-min 48k/24 5.1 WAV',
+        make: () => pinkWav('pink-10min-48k-24bit-5.1.wav', 600, 48000, 24, 6),
+        goal: 0.2,
+      },
+    );
+  }
+  const only = process.env.BENCH_USER_FILES?.split(',').map((n) => n.trim());
+  return only ? list.filter((t) => only.includes(t.name)) : list;
 }
 
 /** Runs `command` under /usr/bin/time -v in `cwd`: wall seconds and peak RSS (MiB). */
@@ -70,8 +187,18 @@ const median = (values: number[]) => [...values].sort((a, b) => a - b)[Math.floo
 
 const figures = (r: RunFigures) => `${r.seconds.toFixed(2)} s ${r.peakRssMib.toFixed(0)} MiB`;
 
-async function benchFile(file: string): Promise<void> {
-  const ours = checkouts.map((): RunFigures[] => []);
+interface Row {
+  name: string;
+  ffmpegSeconds: number;
+  analyzeRatio: number;
+  checkRatio: number;
+  goal: number;
+  ownRssMib: number;
+}
+
+async function benchFile(target: Target, file: string): Promise<Row[]> {
+  const analyze = checkouts.map((): RunFigures[] => []);
+  const check = checkouts.map((): RunFigures[] => []);
   const direct = checkouts.map((): RunFigures[] => []);
   const theirs: RunFigures[] = [];
   const ffmpegArgs = [
@@ -86,51 +213,70 @@ async function benchFile(file: string): Promise<void> {
     'null',
     '-',
   ];
+  const profile = ['--profile', 'delivery-online', '--json'];
   for (let i = 0; i < runs; i++) {
     for (const [k, checkout] of checkouts.entries()) {
-      ours[k].push(await timed('npx', ['earmark', 'analyze', file, '--json'], checkout));
+      analyze[k].push(await timed('npx', ['earmark', 'analyze', file, '--json'], checkout));
+      check[k].push(await timed('npx', ['earmark', 'check', file, ...profile], checkout));
       direct[k].push(await timed(process.execPath, ['bin/earmark.js', 'analyze', file, '--json'], checkout));
     }
     theirs.push(await timed('ffmpeg', ffmpegArgs, checkouts[0]));
-    const mine = ours.map((runsOf, k) => `earmark[${k}] ${figures(runsOf[i])} (direct ${figures(direct[k][i])})`);
-    console.log(`  run ${i + 1}: ${mine.join(', ')}, ffmpeg ${figures(theirs[i])}`);
+    const mine = analyze.map(
+      (runsOf, k) =>
+        `earmark[${k}] analyze ${figures(runsOf[i])}, check ${figures(check[k][i])}, direct ${figures(direct[k][i])}`,
+    );
+    console.log(`  run ${i + 1}: ${mine.join('; ')}; ffmpeg ${figures(theirs[i])}`);
   }
   const ffmpegSeconds = median(theirs.map((r) => r.seconds));
-  const ffmpegRss = median(theirs.map((r) => r.peakRssMib));
-  console.log(`  ffmpeg: median ${ffmpegSeconds.toFixed(2)} s, peak RSS ${ffmpegRss.toFixed(0)} MiB`);
-  for (const [k, runsOf] of ours.entries()) {
-    const seconds = median(runsOf.map((r) => r.seconds));
-    const rss = median(runsOf.map((r) => r.peakRssMib));
-    // Per-run ratios to the ffmpeg run beside them, then their median: load drifts between runs.
-    const ratio = median(runsOf.map((r, i) => r.seconds / theirs[i].seconds));
-    console.log(
-      `  earmark[${k}]: median ${seconds.toFixed(2)} s (ratio of medians ${(seconds / ffmpegSeconds).toFixed(3)}, ` +
-        `median of run ratios ${ratio.toFixed(3)}), peak RSS ${rss.toFixed(0)} MiB (${(rss / ffmpegRss).toFixed(2)}x ffmpeg)`,
-    );
-    const directSeconds = median(direct[k].map((r) => r.seconds));
-    const directRss = median(direct[k].map((r) => r.peakRssMib));
-    console.log(
-      `  earmark[${k}] without npx: median ${directSeconds.toFixed(2)} s (${(directSeconds / ffmpegSeconds).toFixed(3)}), ` +
-        `own peak RSS ${directRss.toFixed(0)} MiB (${(directRss / ffmpegRss).toFixed(2)}x ffmpeg)`,
-    );
+  // Per-run ratios to the ffmpeg run beside them, then their median: load drifts between runs.
+  const ratio = (runsOf: RunFigures[]) => median(runsOf.map((r, i) => r.seconds / theirs[i].seconds));
+  return checkouts.map((_, k) => ({
+    name: checkouts.length > 1 ? `${target.name} [${k}]` : target.name,
+    ffmpegSeconds,
+    analyzeRatio: ratio(analyze[k]),
+    checkRatio: ratio(check[k]),
+    goal: target.goal,
+    ownRssMib: median(direct[k].map((r) => r.peakRssMib)),
+  }));
+}
+
+function printTable(rows: Row[]): void {
+  console.log('\n| file | ffmpeg | analyze ratio | goal | met | check ratio | check / analyze | own peak RSS |');
+  console.log('|---|---|---|---|---|---|---|---|');
+  for (const r of rows) {
+    const cells = [
+      r.name,
+      `${r.ffmpegSeconds.toFixed(2)} s`,
+      r.analyzeRatio.toFixed(3),
+      `<= ${r.goal}`,
+      r.analyzeRatio <= r.goal ? 'yes' : 'no',
+      r.checkRatio.toFixed(3),
+      `${(r.checkRatio / r.analyzeRatio).toFixed(3)}${Math.abs(r.checkRatio / r.analyzeRatio - 1) <= 0.1 ? '' : ' (over 10 %)'}`,
+      `${r.ownRssMib.toFixed(0)} MiB${r.ownRssMib <= 100 ? '' : ' (over 100)'}`,
+    ];
+    console.log(`| ${cells.join(' | ')} |`);
   }
 }
 
 async function main(): Promise<void> {
-  const files = process.argv.slice(2).map((f) => resolve(f));
-  if (files.length === 0) {
-    files.push(await pinkWav('pink-60min-48k-24bit-stereo.wav', 3600, 48000, 24));
-    files.push(await pinkWav('pink-10min-44k1-16bit-stereo.wav', 600, 44100, 16));
+  const paths = process.argv.slice(2).map((f) => resolve(f));
+  const chosen: { target: Target; file: string }[] = [];
+  if (paths.length > 0) {
+    for (const file of paths) chosen.push({ target: { name: file, make: async () => file, goal: 0.5 }, file });
+  } else {
+    for (const target of targets()) chosen.push({ target, file: await target.make() });
   }
   for (const [k, checkout] of checkouts.entries()) {
     const bundled = existsSync(join(checkout, 'dist', 'earmark.mjs')) ? 'dist/ present' : 'no dist/';
     console.log(`earmark[${k}]: ${checkout} (${bundled})`);
   }
   console.log(`${runs} alternating runs per file`);
-  for (const file of files) {
-    console.log(file);
-    await benchFile(file);
+  const rows: Row[] = [];
+  for (const { target, file } of chosen) {
+    console.log(`${target.name}: ${file}`);
+    rows.push(...(await benchFile(target, file)));
   }
+  printTable(rows);
 }
 
 await main();

@@ -14,7 +14,10 @@ export interface PcmBlock {
 /**
  * Speaker roles. Names follow common broadcast shorthand. `M` is a mono channel.
  * `Ls`/`Rs` are the surround pair of a 5.1 layout (WAVE back or side positions),
- * `Lss`/`Rss` side and `Lrs`/`Rrs` rear surrounds of 7.1.
+ * `Lss`/`Rss` side and `Lrs`/`Rrs` rear surrounds of 7.1, `Lw`/`Rw` front wides,
+ * `Lsc`/`Rsc` screen edges, `T*` the upper layer (`Tsl`/`Tsr` top sides), `B*` the bottom
+ * layer, `LFE2` the second LFE of 22.2. Each role's nominal ITU-R BS.2051 position is in
+ * layouts.ts.
  */
 export type ChannelLabel =
   | 'M'
@@ -38,6 +41,16 @@ export type ChannelLabel =
   | 'Tbl'
   | 'Tbc'
   | 'Tbr'
+  | 'Lw'
+  | 'Rw'
+  | 'Lsc'
+  | 'Rsc'
+  | 'Tsl'
+  | 'Tsr'
+  | 'Bfl'
+  | 'Bfc'
+  | 'Bfr'
+  | 'LFE2'
   | 'unknown';
 
 /** What meters need to know about the stream before the first block. */

@@ -11,6 +11,7 @@
 
 import type { Meter, PcmBlock, StreamInfo } from './audio.ts';
 import { EventLog, type EventList } from './events.ts';
+import { isLowFrequencyChannel } from './layouts.ts';
 import { PairSumsKernel } from './kernels/pair-sums.ts';
 import { dbToPower, powerToDb } from './units.ts';
 import { EarmarkError } from '../errors/index.ts';
@@ -110,7 +111,8 @@ export class ChannelRelationMeter implements Meter<ChannelRelationResult> {
       for (let b = a + 1; b < n; b++) {
         this.pairA[k] = a;
         this.pairB[k] = b;
-        this.pairPhase[k] = info.channelLabels[a] === 'LFE' || info.channelLabels[b] === 'LFE' ? 0 : 1;
+        this.pairPhase[k] =
+          isLowFrequencyChannel(info.channelLabels[a]) || isLowFrequencyChannel(info.channelLabels[b]) ? 0 : 1;
         k++;
       }
     }

@@ -4,6 +4,9 @@
 // through the bilinear transform with frequency pre-warping; the prototype parameters below
 // reproduce the published 48 kHz tables to about 1e-15.
 
+import type { ChannelLabel } from './audio.ts';
+import { loudnessWeight } from './layouts.ts';
+
 export interface Biquad {
   b0: number;
   b1: number;
@@ -57,19 +60,10 @@ export function biquadGain(filter: Biquad, frequencyHz: number, sampleRate: numb
   return num / den;
 }
 
-/** BS.1770-5 Table 3 channel weights from speaker roles; LFE is excluded (weight 0). */
-export function channelWeight(label: string): number {
-  switch (label) {
-    case 'LFE':
-      return 0;
-    // Surrounds at about +-110 deg (Annex 3: azimuth 60-120 deg gets 1.41).
-    case 'Ls':
-    case 'Rs':
-    case 'Lss':
-    case 'Rss':
-      return 1.41;
-    // Rear surrounds of 7.1 sit beyond 120 deg: weight 1.0 per Annex 3.
-    default:
-      return 1;
-  }
+/**
+ * BS.1770-5 channel weight Gi of a speaker role, from its nominal position (Annex 3 Table 4;
+ * layouts.ts): 1.41 at the sides, 1.0 elsewhere, LFE excluded (0).
+ */
+export function channelWeight(label: ChannelLabel): number {
+  return loudnessWeight(label);
 }

@@ -4,9 +4,11 @@
 import { parseArgs } from 'node:util';
 import { printableName } from './printable.ts';
 import { analyzeFile } from '../engine/analyze-file.ts';
+import { THREADS_FLAG, threadsOption } from './threads.ts';
 import { EarmarkError } from '../errors/index.ts';
 import {
   analysisOptionsForProfile,
+  decodeOptionsForProfile,
   evaluate,
   frameRate,
   resolveProfile,
@@ -15,6 +17,7 @@ import {
   type Verdict,
 } from '../profiles/index.ts';
 import { fmt } from '../profiles/format.ts';
+import { layoutOption } from './layout-option.ts';
 import type { CliIo } from './main.ts';
 
 export const VERDICT_EXIT_CODES: Record<Verdict, number> = { pass: 0, warn: 1, fail: 2 };
@@ -106,7 +109,13 @@ export function formatReport(report: QcReport): string {
   return lines.join('');
 }
 
-const CHECK_FLAGS = { profile: { type: 'string' }, fps: { type: 'string' }, json: { type: 'boolean' } } as const;
+const CHECK_FLAGS = {
+  profile: { type: 'string' },
+  fps: { type: 'string' },
+  layout: { type: 'string' },
+  json: { type: 'boolean' },
+  ...THREADS_FLAG,
+} as const;
 
 export async function checkCommand(args: string[], io: CliIo): Promise<number> {
   const { values, positionals } = parseArgs({ args, options: CHECK_FLAGS, allowPositionals: true, strict: true });
@@ -118,7 +127,14 @@ export async function checkCommand(args: string[], io: CliIo): Promise<number> {
     });
   const fps = values.fps === undefined ? undefined : frameRate(values.fps, 'fps').id;
   const profile = await resolveProfile(values.profile);
-  const document = await analyzeFile(positionals[0], { analysis: analysisOptionsForProfile(profile) });
+  const threads = threadsOption(values.threads);
+  // --layout overrides the profile's declared layout.
+  const layout = layoutOption(values);
+  const document = await analyzeFile(positionals[0], {
+    analysis: analysisOptionsForProfile(profile),
+    decode: layout ? { layout } : decodeOptionsForProfile(profile),
+    threads,
+  });
   const report = evaluate(profile, document, fps ? { frameRate: fps } : {});
   io.stdout(values.json ? `${JSON.stringify(report)}\n` : formatReport(report));
   return VERDICT_EXIT_CODES[report.verdict];

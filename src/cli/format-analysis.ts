@@ -1,5 +1,6 @@
 // Plain-text summary of an analysis document for people at a terminal.
 import { printableName } from './printable.ts';
+import { DECLARED_FIELD_TITLES } from '../engine/declared-loudness.ts';
 import { channelName, type AnalysisDocument } from '../engine/document.ts';
 
 /** A level of digital silence (null) in words, never -inf. */
@@ -15,11 +16,18 @@ export function formatTime(seconds: number): string {
   return `${String(h).padStart(2, '0')}:${String(m).padStart(2, '0')}:${s.toFixed(3).padStart(6, '0')}`;
 }
 
+/** Where the channel roles came from, as the text output says it. */
+const LAYOUT_FROM: Record<NonNullable<AnalysisDocument['format']['layoutFrom']>, string> = {
+  channel_mask: 'from the channel mask',
+  chna: 'from the chna chunk',
+  declared: 'as declared',
+};
+
 export function formatAnalysis(doc: AnalysisDocument): string {
   const f = doc.format;
   const s = doc.summary;
   const lines = [
-    `${printableName(doc.file?.name ?? 'stream')}: ${f.container} ${f.encoding}, ${f.sampleRate} Hz, ${f.channels} ch (${f.channelLabels.join(' ')})` +
+    `${printableName(doc.file?.name ?? 'stream')}: ${f.container} ${f.encoding}, ${f.sampleRate} Hz, ${f.channels} ch (${f.channelLabels.join(' ')}${f.layoutFrom ? `; ${LAYOUT_FROM[f.layoutFrom]}` : ''})` +
       `${f.bitsPerSample ? `, ${f.bitsPerSample}-bit` : ''}, ${formatTime(f.durationSeconds ?? 0)}`,
     '',
     `  Integrated loudness   ${orNone(s.integratedLufs, 'LUFS')}`,
@@ -30,6 +38,7 @@ export function formatAnalysis(doc: AnalysisDocument): string {
     `  Sample peak           ${fixed(s.samplePeakDbfs, 'dBFS')}`,
     `  RMS (all channels)    ${fixed(s.rmsDbfs, 'dBFS')}`,
     `  Head / tail silence   ${s.headSilenceSeconds.toFixed(2)} s / ${s.tailSilenceSeconds.toFixed(2)} s`,
+    ...declaredLines(doc),
     '',
     '  ch  label  peak dBFS  TP dBTP   RMS dBFS  crest dB  DC          clip runs  dropouts',
     ...doc.channels.map(
@@ -54,6 +63,17 @@ export function formatAnalysis(doc: AnalysisDocument): string {
   if (doc.events.length > 20) lines.push(`    ... ${doc.events.length - 20} more (use --json)`);
   for (const w of doc.warnings) lines.push(`  warning ${w.code}: ${w.message}`);
   return `${lines.join('\n')}\n`;
+}
+
+/** What the file's metadata declares beside our reading, one line per source (bext v2, iXML). */
+function declaredLines(doc: AnalysisDocument): string[] {
+  return doc.declaredLoudness.map(({ source, rows }) => {
+    const figures = rows.map(
+      (r) =>
+        `${DECLARED_FIELD_TITLES[r.field].toLowerCase()} declared ${r.declared.toFixed(2)}, measured ${r.measured === null ? 'none' : r.measured.toFixed(1)} ${r.unit}`,
+    );
+    return `  Declared (${source === 'bext' ? 'bext' : 'iXML'})`.padEnd(24) + figures.join('; ');
+  });
 }
 
 function num(value: number | null): string {

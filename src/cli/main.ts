@@ -2,21 +2,25 @@
 // 3 error (bad input, bad profile, bad arguments). Errors print "error <code>: <message>" on stderr.
 
 import { parseArgs } from 'node:util';
+import { LAYOUT_NAMES } from '../analysis/layouts.ts';
 import type { AnalysisOptions } from '../analysis/runner.ts';
 import { analyzeFile } from '../engine/analyze-file.ts';
 import { EarmarkError, toEarmarkError } from '../errors/index.ts';
 import { checkCommand } from './check.ts';
 import { formatAnalysis } from './format-analysis.ts';
+import { layoutOption } from './layout-option.ts';
 import { profilesCommand } from './profiles.ts';
 import { runSelftest } from './selftest.ts';
+import { THREADS_FLAG, threadsOption } from './threads.ts';
 
 export const EXIT_ERROR = 3;
 
 const USAGE = `usage:
   earmark analyze <file> [--json] [--true-peak-ceiling dBTP] [--clip-run N] [--clip-threshold dBFS]
-                         [--silence-threshold dBFS] [--silence-min seconds] [--threads N]
-  earmark check <file> --profile <id|path.json> [--fps rate] [--json]
+                         [--silence-threshold dBFS] [--silence-min seconds] [--threads N|auto] [--layout name]
+  earmark check <file> --profile <id|path.json> [--fps rate] [--layout name] [--json] [--threads N|auto]
       rate: 23.976 24 25 29.97-df 29.97-ndf 30 50 59.94-df 59.94-ndf 60 (default: the profile's)
+      --layout: channel layout of a file without a channel mask or chna chunk: ${LAYOUT_NAMES.join(' ')}
   earmark profiles [id] [--json]
   earmark selftest [--json]
 exit codes: 0 ok (check: pass), 1 check: warn, 2 check: fail, 3 error (bad input, bad profile, bad arguments)`;
@@ -81,21 +85,24 @@ const ANALYSIS_FLAGS = {
   'clip-threshold': { type: 'string' },
   'silence-threshold': { type: 'string' },
   'silence-min': { type: 'string' },
+  layout: { type: 'string' },
 } as const;
 
 async function analyzeCommand(args: string[], io: CliIo): Promise<number> {
   const { values, positionals } = parseArgs({
     args,
-    options: { ...ANALYSIS_FLAGS, threads: { type: 'string' } },
+    options: { ...ANALYSIS_FLAGS, ...THREADS_FLAG },
     allowPositionals: true,
     strict: true,
   });
   if (positionals.length !== 1) throw new EarmarkError('invalid_argument', 'analyze needs exactly one file');
-  const threads = numberOption(values, 'threads') ?? 1;
-  if (!Number.isInteger(threads) || threads < 1 || threads > 16) {
-    throw new EarmarkError('invalid_argument', '--threads must be a whole number from 1 to 16', { field: 'threads' });
-  }
-  const document = await analyzeFile(positionals[0], { analysis: analysisOptionsFromArgs(values), threads });
+  const threads = threadsOption(values.threads);
+  const layout = layoutOption(values);
+  const document = await analyzeFile(positionals[0], {
+    analysis: analysisOptionsFromArgs(values),
+    threads,
+    ...(layout ? { decode: { layout } } : {}),
+  });
   io.stdout(values.json ? `${JSON.stringify(document)}\n` : formatAnalysis(document));
   return 0;
 }

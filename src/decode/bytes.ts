@@ -2,6 +2,8 @@
 // fields are little-endian, AIFF, MP4, FLAC, MPEG and CAF headers big-endian.
 
 export const u16le = (b: Uint8Array, o: number): number => b[o] | (b[o + 1] << 8);
+/** Two's-complement 16-bit. */
+export const i16le = (b: Uint8Array, o: number): number => (u16le(b, o) << 16) >> 16;
 export const u16be = (b: Uint8Array, o: number): number => (b[o] << 8) | b[o + 1];
 export const u24be = (b: Uint8Array, o: number): number => (b[o] << 16) | (b[o + 1] << 8) | b[o + 2];
 export const u32le = (b: Uint8Array, o: number): number =>

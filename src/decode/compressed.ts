@@ -41,13 +41,14 @@ export interface CompressedFormat {
   slicer(channels: number): InputSlicer;
 }
 
-type CompressedDecoderSpec = CompressedFormat & Pick<Decoder, 'detect' | 'detectAfterId3' | 'seek'>;
+type CompressedDecoderSpec = CompressedFormat & Pick<Decoder, 'detect' | 'detectAfterId3' | 'seek' | 'costMsPerMinute'>;
 
 /** A registry entry for a compressed format: `open` and `probe` run the shared loop with the format's parts. */
 export function compressedDecoder(spec: CompressedDecoderSpec): Decoder {
-  const { detect, detectAfterId3, seek } = spec;
+  const { detect, detectAfterId3, seek, costMsPerMinute } = spec;
   return {
     detect,
+    costMsPerMinute,
     ...(detectAfterId3 ? { detectAfterId3 } : {}),
     ...(seek ? { seek } : {}),
     probe: async (file) => (await probeFile(file.path, file.container, spec)).format,

@@ -12,6 +12,12 @@ export interface AudioFile {
 }
 
 export interface Decoder {
+  /**
+   * Rough decode time in ms per 48 kHz stereo audio minute on one thread, in the units of the
+   * meters' costMsPerMinute (analysis/runner.ts): the thread planner keeps the meters off the
+   * decoding thread by it. From bench:decoders (10-minute 44.1 kHz files, decode alone).
+   */
+  costMsPerMinute: number;
   /** Whether the file's first bytes (DETECT_HEAD_BYTES of them) carry this container's signature. */
   detect(head: Uint8Array): boolean;
   /** Whether `rest`, the bytes after an ID3v2 tag, starts this container; only formats a tag may precede have it. */

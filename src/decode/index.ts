@@ -3,6 +3,7 @@
 import { open, stat, type FileHandle } from 'node:fs/promises';
 import { EarmarkError } from '../errors/index.ts';
 import { ByteReader } from './byte-reader.ts';
+import { applyDeclaredLayout } from './declared-layout.ts';
 import { DETECT_HEAD_BYTES, detectAfterId3, detectContainer } from './detect.ts';
 import { id3v2Length } from './bytes.ts';
 import { DECODERS } from './registry.ts';
@@ -93,7 +94,8 @@ async function openWith(path: string, knownContainer: Container | null, options:
     const container = knownContainer ?? (await detectFile(handle));
     if (container === null)
       throw new EarmarkError('unsupported_format', `${safeName(path)} is not in a recognised audio format`);
-    return await DECODERS[container].open({ path, container, sizeBytes }, handle, options);
+    const audio = await DECODERS[container].open({ path, container, sizeBytes }, handle, options);
+    return applyDeclaredLayout(audio, options.layout);
   } finally {
     await handle.close();
   }
@@ -119,7 +121,7 @@ export async function openPcmStream(
         container ? `${container} streams need a file path` : 'the stream is not in a recognised PCM format',
       );
     }
-    return await decoder.openStream(reader, container, options);
+    return applyDeclaredLayout(await decoder.openStream(reader, container, options), options.layout);
   } catch (error) {
     await reader.close();
     throw error;

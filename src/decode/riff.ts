@@ -4,11 +4,20 @@ import type { ChannelLabel } from '../analysis/audio.ts';
 import { defaultChannelLabels } from '../analysis/audio.ts';
 import { EarmarkError } from '../errors/index.ts';
 import type { ByteReader } from './byte-reader.ts';
+import { labelsFromChna, MAX_CHNA_READ_BYTES, parseChna, type ChnaTrack } from './chna.ts';
 import { fourcc, u16le, u32le, u64le } from './bytes.ts';
+import {
+  BEXT_READ_BYTES,
+  BEXT_TIME_REFERENCE_OFFSET,
+  MAX_IXML_BYTES,
+  type MetadataReading,
+  parseBextLoudness,
+  parseIxmlLoudness,
+} from './declared-loudness.ts';
 import { checkStreamNumbers } from './limits.ts';
 import type { SampleLayout } from './pcm/convert.ts';
 import type { PcmPlan } from './pcm/stream.ts';
-import type { AudioFormat, Container, DecodeWarning } from './types.ts';
+import type { AudioFormat, Container, DeclaredLoudness, DecodeWarning } from './types.ts';
 
 const WAVE_FORMAT_PCM = 0x0001;
 const WAVE_FORMAT_IEEE_FLOAT = 0x0003;
@@ -205,7 +214,31 @@ function parseDs64(b: Uint8Array): Ds64 {
 }
 
 const MAX_HEADER_CHUNK_BYTES = 1024 * 1024;
-const BEXT_TIME_REFERENCE_OFFSET = 338; // EBU Tech 3285: 256 + 32 + 32 + 10 + 8 bytes of text fields
+
+/** The head of a bext chunk (time reference and loudness), read whatever its size; `size` is what its header declares. */
+async function readBext(
+  reader: ByteReader,
+  size: number,
+): Promise<MetadataReading & { timeReferenceSamples: number | null }> {
+  const body = await reader.read(Math.min(size, BEXT_READ_BYTES));
+  const timeReferenceSamples =
+    body.length >= BEXT_TIME_REFERENCE_OFFSET + 8 ? u64le(body, BEXT_TIME_REFERENCE_OFFSET) : null;
+  return { ...parseBextLoudness(body, size), timeReferenceSamples };
+}
+
+/** An iXML chunk, when it is small enough to be metadata and all there. */
+async function readIxml(reader: ByteReader, size: number): Promise<MetadataReading> {
+  const cap = Math.min(MAX_IXML_BYTES, reader.capacityBytes);
+  const skipped = (message: string): MetadataReading => ({
+    declared: null,
+    warnings: [{ code: 'unreadable_metadata', message }],
+  });
+  if (size > cap) return skipped(`iXML chunk of ${size} bytes is larger than the ${cap} bytes read: not read`);
+  const body = await reader.read(size);
+  if (body.length < size)
+    return skipped(`the file ends inside the iXML chunk after ${body.length} of its ${size} bytes: not read`);
+  return parseIxmlLoudness(body);
+}
 
 /**
  * Reads chunk headers up to the data chunk. With a seekable reader it also looks past the data
@@ -221,7 +254,19 @@ export async function parseRiff(reader: ByteReader, container: Container): Promi
   let ds64: Ds64 | null = null;
   let fmt: WaveFmt | null = null;
   let timeReferenceSamples: number | null = null;
+  let chna: ChnaTrack[] | null = null;
+  const declaredLoudness: DeclaredLoudness[] = [];
+  let bextSeen = false;
+  let ixmlSeen = false;
+  const keep = (reading: MetadataReading) => {
+    warnings.push(...reading.warnings);
+    if (reading.declared) declaredLoudness.push(reading.declared);
+  };
   let data: { offset: number; bytes: number } | null = null;
+  const readChna = async (size: number) => {
+    const body = await reader.read(Math.min(size, MAX_CHNA_READ_BYTES));
+    chna ??= parseChna(body);
+  };
 
   for (;;) {
     if (data && !reader.seekable) break;
@@ -245,14 +290,19 @@ export async function parseRiff(reader: ByteReader, container: Container): Promi
       size = sized;
     }
     const chunkOffset = reader.position;
-    if (data) {
+    // Metadata may sit before or after the audio; the first chunk of each kind counts.
+    if (id === 'bext' && !bextSeen) {
+      bextSeen = true;
+      const bext = await readBext(reader, size);
+      timeReferenceSamples = bext.timeReferenceSamples;
+      keep(bext);
+    } else if (id === 'iXML' && !ixmlSeen) {
+      ixmlSeen = true;
+      keep(await readIxml(reader, size));
+    } else if (data) {
       // Past the audio: only metadata we can use; anything odd ends the scan quietly.
-      if (id === 'bext' && timeReferenceSamples === null && size >= BEXT_TIME_REFERENCE_OFFSET + 8) {
-        const body = await reader.read(BEXT_TIME_REFERENCE_OFFSET + 8);
-        if (body.length === BEXT_TIME_REFERENCE_OFFSET + 8)
-          timeReferenceSamples = u64le(body, BEXT_TIME_REFERENCE_OFFSET);
-        break;
-      }
+      // A chna after the audio still names the channels (a file is read to its end when it can be).
+      if (id === 'chna' && chna === null) await readChna(size);
     } else if (id === 'ds64' && is64) {
       if (size > MAX_HEADER_CHUNK_BYTES)
         throw new EarmarkError('corrupt_file', `ds64 chunk of ${size} bytes is implausible`);
@@ -261,9 +311,8 @@ export async function parseRiff(reader: ByteReader, container: Container): Promi
       if (size > MAX_HEADER_CHUNK_BYTES)
         throw new EarmarkError('corrupt_file', `fmt chunk of ${size} bytes is implausible`);
       fmt = parseFmt(await reader.readExactly(size, 'the fmt chunk'));
-    } else if (id === 'bext' && size >= BEXT_TIME_REFERENCE_OFFSET + 8) {
-      const body = await reader.readExactly(BEXT_TIME_REFERENCE_OFFSET + 8, 'the bext chunk');
-      timeReferenceSamples = u64le(body, BEXT_TIME_REFERENCE_OFFSET);
+    } else if (id === 'chna') {
+      await readChna(size);
     } else if (id === 'data') {
       if (!fmt) throw new EarmarkError('corrupt_file', 'data chunk comes before the fmt chunk');
       if (is64 && !ds64) throw new EarmarkError('corrupt_file', `${riffId} file has no ds64 chunk before its data`);
@@ -273,6 +322,7 @@ export async function parseRiff(reader: ByteReader, container: Container): Promi
     const consumed = reader.position - chunkOffset;
     const skipped = await reader.skip(size - consumed);
     if (skipped < size - consumed) break;
+    if (data && bextSeen && ixmlSeen && chna !== null) break;
     if (size % 2 === 1) {
       if (!data && (await padMissing(reader))) {
         warnings.push({
@@ -300,6 +350,24 @@ export async function parseRiff(reader: ByteReader, container: Container): Promi
       message: `ds64 sample count ${ds64.sampleCount} is less than the ${frames} frames of data`,
     });
   }
+  const fromChna = chna ? labelsFromChna(chna, fmt.channels) : null;
+  if (fromChna) warnings.push(...fromChna.warnings);
+  const hasMask = fmt.channelMask !== null && fmt.channelMask !== 0;
+  const layoutFrom: AudioFormat['layoutFrom'] = fromChna ? 'chna' : hasMask ? 'channel_mask' : undefined;
+  const channelLabels =
+    fromChna?.labels ??
+    (fmt.channelMask === null
+      ? defaultChannelLabels(fmt.channels)
+      : labelsFromChannelMask(fmt.channelMask, fmt.channels));
+  const unnamed = layoutFrom === 'channel_mask' ? channelLabels.filter((l) => l === 'unknown').length : 0;
+  if (unnamed > 0) {
+    // WAVE defines mask bits 0-17 only; a channel past the mask's set bits has no speaker either.
+    warnings.push({
+      code: 'channel_unidentified',
+      count: unnamed,
+      message: `channel mask 0x${(fmt.channelMask ?? 0).toString(16).toUpperCase()} names no WAVE speaker for ${unnamed} of ${fmt.channels} channels; read as 'unknown' (weight 1.0)`,
+    });
+  }
   const format: AudioFormat = {
     container,
     encoding: fmt.encoding,
@@ -308,12 +376,12 @@ export async function parseRiff(reader: ByteReader, container: Container): Promi
     bitsPerSample: fmt.bitsPerSample,
     frames,
     durationSeconds: frames / fmt.sampleRate,
-    channelLabels:
-      fmt.channelMask === null
-        ? defaultChannelLabels(fmt.channels)
-        : labelsFromChannelMask(fmt.channelMask, fmt.channels),
+    // chna names every track by ADM ID; the mask has no bits for 22.2's wides, top sides or bottom.
+    channelLabels,
+    ...(layoutFrom ? { layoutFrom } : {}),
     channelMask: fmt.channelMask,
     timeReferenceSamples,
+    declaredLoudness,
   };
   return {
     format,

@@ -1,4 +1,5 @@
 import type { ChannelLabel, PcmBlock } from '../analysis/audio.ts';
+import type { LayoutName } from '../analysis/layouts.ts';
 import type { DECODERS } from './registry.ts';
 
 // One per entry of the decoder registry (registry.ts).
@@ -18,10 +19,29 @@ export interface AudioFormat {
   frames: number | null;
   durationSeconds: number | null;
   channelLabels: ChannelLabel[];
+  /**
+   * Where channelLabels come from: the WAVE channel mask, the BW64 chna chunk, or a declared
+   * layout (DecodeOptions.layout); absent when they are the default order for the channel count.
+   */
+  layoutFrom?: 'channel_mask' | 'chna' | 'declared';
   /** WAVE_FORMAT_EXTENSIBLE dwChannelMask, when present. */
   channelMask: number | null;
   /** BWF bext TimeReference: samples since midnight of the first sample; null without bext. */
   timeReferenceSamples: number | null;
+  /** Loudness the file's metadata declares (BWF bext v2, iXML), one entry per source that declares any; WAVE family only. */
+  declaredLoudness?: DeclaredLoudness[];
+}
+
+export type DeclaredLoudnessSource = 'bext' | 'ixml';
+
+/** Loudness figures a file's metadata states about itself; null where a field is not set. */
+export interface DeclaredLoudness {
+  source: DeclaredLoudnessSource;
+  integratedLufs: number | null;
+  loudnessRangeLu: number | null;
+  maxTruePeakDbtp: number | null;
+  maxMomentaryLufs: number | null;
+  maxShortTermLufs: number | null;
 }
 
 export type DecodeWarningCode =
@@ -30,14 +50,17 @@ export type DecodeWarningCode =
   | 'channels_restored'
   | 'frames_mismatch'
   | 'odd_chunk_padding_missing'
-  | 'non_finite_samples';
+  | 'non_finite_samples'
+  | 'channel_unidentified'
+  | 'declared_layout_unused'
+  | 'unreadable_metadata';
 
 export interface DecodeWarning {
   code: DecodeWarningCode;
   message: string;
   /** Sample-frame position the warning applies from; every warning of damage has one (where the audio stops or the first bad sample). */
   atFrame?: number;
-  /** How many samples the warning covers (non_finite_samples: all of them, every channel). */
+  /** How many samples the warning covers (non_finite_samples: all of them, every channel); channel_unidentified: how many channels. */
   count?: number;
 }
 
@@ -88,6 +111,11 @@ export interface DecodeOptions {
    * reads of probes and seeks), so a hash needs no second read (file-hash.ts).
    */
   onBytes?: ByteObserver;
+  /**
+   * The channel layout of a file that does not say (no WAVE channel mask, no chna chunk); a file
+   * that says keeps its own. A channel count other than the layout's is a layout_mismatch error.
+   */
+  layout?: LayoutName;
 }
 
 export const DEFAULT_MAX_BLOCK_FRAMES = 65536;

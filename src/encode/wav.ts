@@ -14,6 +14,21 @@ export interface WavHeaderOptions {
   channelMask?: number;
   /** Adds a bext chunk (EBU Tech 3285, version 0) with this TimeReference. */
   timeReferenceSamples?: number;
+  /** Adds a bext chunk of version 2 (EBU Tech 3285 v2) with these loudness fields; null or absent writes 0x7FFF (not set). */
+  bextLoudness?: BextLoudnessFields;
+  /** The bext Version field; default 2 with bextLoudness, else 0. */
+  bextVersion?: number;
+  /** Adds an iXML chunk with this text (UTF-8) before the data. */
+  ixml?: string;
+}
+
+/** Values in LUFS, LU and dBTP; written x 100 as int16 (EBU Tech 3285 v2). */
+export interface BextLoudnessFields {
+  integratedLufs?: number | null;
+  loudnessRangeLu?: number | null;
+  maxTruePeakDbtp?: number | null;
+  maxMomentaryLufs?: number | null;
+  maxShortTermLufs?: number | null;
 }
 
 class ByteWriter {
@@ -30,6 +45,10 @@ class ByteWriter {
   }
   u16(v: number, le: boolean): void {
     this.view.setUint16(this.offset, v, le);
+    this.offset += 2;
+  }
+  i16le(v: number): void {
+    this.view.setInt16(this.offset, v, true);
     this.offset += 2;
   }
   u32(v: number, le: boolean): void {
@@ -55,9 +74,12 @@ export function wavHeader(o: WavHeaderOptions): Uint8Array {
   const dataBytes = o.frames * blockAlign;
   const extensible = o.channelMask !== undefined;
   const fmtBytes = extensible ? 40 : o.float ? 18 : 16;
-  const bextBytes = o.timeReferenceSamples !== undefined ? 8 + BEXT_BYTES : 0;
+  const hasBext = o.timeReferenceSamples !== undefined || o.bextLoudness !== undefined || o.bextVersion !== undefined;
+  const bextBytes = hasBext ? 8 + BEXT_BYTES : 0;
+  const ixml = o.ixml === undefined ? null : new TextEncoder().encode(o.ixml);
+  const ixmlBytes = ixml ? 8 + ixml.length + (ixml.length % 2) : 0;
   const ds64Bytes = o.rf64 ? 8 + 28 : 0;
-  const headerBytes = 12 + ds64Bytes + 8 + fmtBytes + bextBytes + 8;
+  const headerBytes = 12 + ds64Bytes + 8 + fmtBytes + bextBytes + ixmlBytes + 8;
   const riffBytes = headerBytes - 8 + dataBytes + (dataBytes % 2);
   if (!o.rf64 && riffBytes > 0xffffffff)
     throw new EarmarkError('invalid_argument', `${dataBytes} data bytes need RF64`);
@@ -88,12 +110,23 @@ export function wavHeader(o: WavHeaderOptions): Uint8Array {
     w.u16(o.float ? 3 : 1, true);
     for (const b of KSDATAFORMAT_TAIL) w.bytes[w.offset++] = b;
   }
-  if (o.timeReferenceSamples !== undefined) {
+  if (hasBext) {
     w.id('bext');
     w.u32(BEXT_BYTES, true);
     w.skip(338); // Description, Originator, OriginatorReference, OriginationDate, OriginationTime
-    w.u64le(o.timeReferenceSamples);
-    w.skip(BEXT_BYTES - 338 - 8); // Version 0 and the rest left zero
+    w.u64le(o.timeReferenceSamples ?? 0);
+    w.u16(o.bextVersion ?? (o.bextLoudness ? 2 : 0), true);
+    w.skip(64); // UMID
+    const l = o.bextLoudness ?? {};
+    for (const v of [l.integratedLufs, l.loudnessRangeLu, l.maxTruePeakDbtp, l.maxMomentaryLufs, l.maxShortTermLufs])
+      w.i16le(v === null || v === undefined ? 0x7fff : Math.round(v * 100));
+    w.skip(BEXT_BYTES - 422); // Reserved, no CodingHistory
+  }
+  if (ixml) {
+    w.id('iXML');
+    w.u32(ixml.length, true);
+    w.bytes.set(ixml, w.offset);
+    w.skip(ixml.length + (ixml.length % 2));
   }
   w.id('data');
   w.u32(o.rf64 ? 0xffffffff : dataBytes, true);

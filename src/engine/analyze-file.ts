@@ -7,6 +7,7 @@ import { basename } from 'node:path';
 import { setImmediate as nextTurn } from 'node:timers/promises';
 import { AnalysisRunner, type AnalysisOptions, type Measurements } from '../analysis/runner.ts';
 import { ParallelAnalysisRunner } from './parallel-runner.ts';
+import { decodeCostFor, threadsFor, type ThreadChoice } from './thread-plan.ts';
 import { openAudioFile } from '../decode/index.ts';
 import { FileHash } from '../decode/file-hash.ts';
 import { DEFAULT_MAX_BLOCK_FRAMES, type DecodeOptions } from '../decode/types.ts';
@@ -25,8 +26,9 @@ export interface AnalyzeFileOptions {
   /** Called with 0..1 as decoding proceeds, at most every ~5 % when the length is known. */
   onProgress?: (fraction: number) => void;
   signal?: AbortSignal;
-  /** Threads to spread the meters over (whole meters per thread; same readings). Default 1. */
-  threads?: number;
+  /** Threads to spread the meters over (whole meters per thread; same readings), or `auto`
+   * (thread-plan.ts). Default 1. */
+  threads?: ThreadChoice;
 }
 
 async function sha256File(path: string): Promise<string> {
@@ -56,12 +58,12 @@ export async function analyzeFile(path: string, options: AnalyzeFileOptions = {}
     channelLabels: format.channelLabels,
     ...(format.frames ? { expectedFrames: format.frames } : {}),
   };
-  const threads = options.threads ?? 1;
+  const threads = threadsFor(options.threads, format);
   const maxBlockFrames = options.decode?.maxBlockFrames ?? DEFAULT_MAX_BLOCK_FRAMES;
-  runner =
-    threads > 1
-      ? new ParallelAnalysisRunner(info, options.analysis, threads, { maxBlockFrames })
-      : new AnalysisRunner(info, options.analysis);
+  if (threads > 1) {
+    const decodeCostMsPerMinute = decodeCostFor(format, (await stat(path)).size, fileHash !== null);
+    runner = new ParallelAnalysisRunner(info, options.analysis, threads, { maxBlockFrames, decodeCostMsPerMinute });
+  } else runner = new AnalysisRunner(info, options.analysis);
   let measurements: Measurements;
   try {
     const expectedFrames = format.frames ?? 0;

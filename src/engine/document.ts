@@ -4,6 +4,7 @@
 import type { AnalysisEvent, EventKind } from '../analysis/events.ts';
 import { isEventList, METER_NAMES, METERS, type Measurements } from '../analysis/runner.ts';
 import type { AudioFormat, DecodeWarning } from '../decode/types.ts';
+import { compareDeclaredLoudness, type DeclaredLoudnessComparison } from './declared-loudness.ts';
 
 export const ENGINE_NAME = 'earmark';
 export const ENGINE_VERSION = '0.1.0';
@@ -61,7 +62,7 @@ export interface AnalysisDocument {
   schemaVersion: number;
   engine: { name: string; version: string };
   file: FileInfo | null;
-  format: AudioFormat & { framesDecoded: number; timeReferenceSeconds: number | null };
+  format: Omit<AudioFormat, 'declaredLoudness'> & { framesDecoded: number; timeReferenceSeconds: number | null };
   summary: {
     integratedLufs: number | null;
     loudnessRangeLu: number | null;
@@ -93,6 +94,8 @@ export interface AnalysisDocument {
   channelPairs: Measurements['channelRelations']['pairs'];
   /** Line-up tone, sync pops and the programme's start (analysis/head.ts). */
   head: Measurements['head'];
+  /** Loudness the file's metadata declares (bext v2, iXML), each figure beside our reading; empty when none. */
+  declaredLoudness: DeclaredLoudnessComparison[];
   events: AnalysisEvent[];
   eventCounts: Partial<Record<EventKind, number>>;
   eventsTruncated: boolean;
@@ -221,12 +224,13 @@ export function buildAnalysisDocument(
   const rate = format.sampleRate;
   const { events, eventCounts, eventsTruncated } = collectEvents(m);
   const dead = new Set(m.channelRelations.deadChannels);
-  return {
+  const { declaredLoudness, ...formatFields } = format;
+  const doc: AnalysisDocument = {
     schemaVersion: DOCUMENT_SCHEMA_VERSION,
     engine: { name: ENGINE_NAME, version: ENGINE_VERSION },
     file,
     format: {
-      ...format,
+      ...formatFields,
       framesDecoded: m.frames,
       durationSeconds: m.frames / rate,
       timeReferenceSeconds: format.timeReferenceSamples === null ? null : format.timeReferenceSamples / rate,
@@ -284,6 +288,7 @@ export function buildAnalysisDocument(
     }),
     channelPairs: m.channelRelations.pairs,
     head: m.head,
+    declaredLoudness: [],
     events,
     eventCounts,
     eventsTruncated,
@@ -302,4 +307,6 @@ export function buildAnalysisDocument(
     warnings,
     analysisSeconds,
   };
+  doc.declaredLoudness = compareDeclaredLoudness(declaredLoudness ?? [], doc.summary);
+  return doc;
 }

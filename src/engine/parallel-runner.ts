@@ -22,8 +22,9 @@ import type { FromWorker, MeterThreadData } from './parallel-worker.ts';
 /** The decoders' default largest block (decode/types.ts DEFAULT_MAX_BLOCK_FRAMES). */
 const DEFAULT_RING_FRAMES = 65536;
 /** In ms per stereo audio minute, as each meter's costMsPerMinute (runner.ts METERS): the main
- * thread decodes into the ring (10.5) and builds the shared envelope (2). */
-const MAIN_THREAD_COST = 12.5;
+ * thread decodes (a WAV: 10.5; decode/decoder.ts costMsPerMinute) and builds the shared envelope. */
+const ENVELOPE_COST = 2;
+const PCM_DECODE_COST = 10.5;
 /** A worker's first meter reads each block from the other core's cache: measured as about 1.5. */
 const WORKER_THREAD_COST = 1.5;
 // From the TypeScript sources the worker loads them through tsx, as bin/run.js does for
@@ -37,8 +38,8 @@ function startWorker(workerData: MeterThreadData): Worker {
 }
 
 /** Load of each thread for an assignment of meters to threads (thread 0 is the main thread). */
-function loads(assignment: number[], threads: number): number[] {
-  const load = Array.from({ length: threads }, (_, i) => (i === 0 ? MAIN_THREAD_COST : 0));
+function loads(assignment: number[], threads: number, mainCost: number): number[] {
+  const load = Array.from({ length: threads }, (_, i) => (i === 0 ? mainCost : 0));
   METER_NAMES.forEach((name, m) => {
     load[assignment[m]] += METERS[name].costMsPerMinute;
   });
@@ -51,16 +52,18 @@ const MAX_METER_THREADS = 4;
 
 /**
  * The split of the meters into `threads` groups with the smallest largest load, found by trying
- * every assignment (9 meters: 512 for two threads, 262144 for four); group 0 is the main thread's.
+ * every assignment (9 meters: 512 for two threads, 262144 for four); group 0 is the main thread's,
+ * which also decodes (and hashes): `decodeCost` in the same units, a WAV's by default.
  */
-export function meterGroups(threads: number): MeterName[][] {
+export function meterGroups(threads: number, decodeCost = PCM_DECODE_COST): MeterName[][] {
   const n = Math.max(1, Math.min(Math.floor(threads), MAX_METER_THREADS));
+  const mainCost = decodeCost + ENVELOPE_COST;
   const assignment = new Array<number>(METER_NAMES.length).fill(0);
   let best = [...assignment],
-    bestLoad = Math.max(...loads(assignment, n));
+    bestLoad = Math.max(...loads(assignment, n, mainCost));
   for (let code = 1; code < n ** METER_NAMES.length; code++) {
     for (let m = 0, c = code; m < METER_NAMES.length; m++, c = Math.floor(c / n)) assignment[m] = c % n;
-    const load = Math.max(...loads(assignment, n));
+    const load = Math.max(...loads(assignment, n, mainCost));
     if (load < bestLoad) {
       best = [...assignment];
       bestLoad = load;
@@ -143,6 +146,9 @@ function take<K extends MeterName>(
 export interface ParallelRunnerOptions {
   /** Largest block that will be pushed (the decoder's maxBlockFrames); sizes the shared ring. */
   maxBlockFrames?: number;
+  /** The main thread's own work besides its meters, in ms per stereo audio minute: decoding and
+   * hashing (thread-plan.ts). Default: a WAV's decode. */
+  decodeCostMsPerMinute?: number;
 }
 
 export class ParallelAnalysisRunner {
@@ -156,9 +162,9 @@ export class ParallelAnalysisRunner {
     readonly info: StreamInfo,
     options: AnalysisOptions = {},
     threads = 2,
-    { maxBlockFrames = DEFAULT_RING_FRAMES }: ParallelRunnerOptions = {},
+    { maxBlockFrames = DEFAULT_RING_FRAMES, decodeCostMsPerMinute }: ParallelRunnerOptions = {},
   ) {
-    const [mine, ...theirs] = meterGroups(Math.max(1, Math.floor(threads)));
+    const [mine, ...theirs] = meterGroups(Math.max(1, Math.floor(threads)), decodeCostMsPerMinute);
     this.main = new AnalysisRunner(info, options, mine);
     // The envelope is built once, here, and shared with every thread through the ring.
     this.envelopes = new EnvelopeBuilder();

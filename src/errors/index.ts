@@ -28,6 +28,11 @@ export const errorCatalogue = {
     retryable: false,
   },
   file_not_found: { status: 404, title: 'The file does not exist or cannot be read', retryable: false },
+  layout_mismatch: {
+    status: 422,
+    title: 'The declared channel layout has a different channel count from the file',
+    retryable: false,
+  },
   // Arguments and profiles
   invalid_argument: { status: 400, title: 'An argument is invalid', retryable: false },
   invalid_profile: { status: 400, title: 'The delivery profile is invalid', retryable: false },

@@ -5,6 +5,7 @@
 
 import type { AnalysisEvent, EventKind } from '../analysis/events.ts';
 import { channelName, type AnalysisDocument } from '../engine/document.ts';
+import { declaredLoudnessDrafts } from './declared-flags.ts';
 import { fmt } from './format.ts';
 import type { CheckResult, Flag, FlagKind, FlagSeverity } from './report.ts';
 import { RULES, RULE_TYPES, ruleSpec } from './rules/index.ts';
@@ -49,9 +50,11 @@ export const FLAG_KINDS: Record<FlagKind, { title: string; unit: string | null }
   tone_into_programme: { title: 'Tone into programme', unit: null },
   sync_pop: { title: 'Sync pop', unit: 'dBFS' },
   sync_pop_missing: { title: 'Sync pop missing', unit: null },
+  declared_loudness_mismatch: { title: 'Declared loudness differs', unit: null },
 };
 
-export type FlagDraft = Pick<
+export type FlagDraft = Draft;
+type Draft = Pick<
   Flag,
   | 'kind'
   | 'ruleId'
@@ -64,7 +67,6 @@ export type FlagDraft = Pick<
   | 'count'
   | 'detections'
 > & { message?: string };
-type Draft = FlagDraft;
 
 /** The flag kind each engine event becomes. */
 const EVENT_FLAGS: Record<EventKind, FlagKind> = {
@@ -306,6 +308,7 @@ export function buildFlags(
     ...edgeDrafts(profile, doc, byId),
     ...dcDrafts(profile, doc, byId),
     ...headDrafts(profile, doc, byId, rate),
+    ...declaredLoudnessDrafts(profile, doc, byId),
   ];
   const merged = merge(drafts, Math.round((options.mergeGapSeconds ?? DEFAULT_FLAG_MERGE_SECONDS) * sampleRate));
   const flagCounts: Record<FlagSeverity, number> = { fail: 0, warn: 0, remark: 0 };

@@ -2,7 +2,7 @@
 export { BUILTIN_PROFILES, builtinProfile, resolveProfile } from './builtins.ts';
 export { correctionFor, evaluate, verdictOf, DEFAULT_FRAME_RATE, type EvaluateOptions } from './evaluate.ts';
 export { DEFAULT_FLAG_MERGE_SECONDS, DEFAULT_MAX_FLAGS, type FlagOptions } from './flags.ts';
-export { analysisOptionsForProfile } from './options.ts';
+export { analysisOptionsForProfile, decodeOptionsForProfile } from './options.ts';
 export type * from './report.ts';
 export { REPORT_VERSION } from './report.ts';
 export { loadProfileFile, parseProfile, profileIssues, profileSchema, type ProfileIssue } from './schema.ts';

@@ -4,6 +4,7 @@
 // of one kind: the strictest limit wins.
 
 import type { AnalysisOptions } from '../analysis/runner.ts';
+import type { DecodeOptions } from '../decode/types.ts';
 import { RULE_TYPES, ruleSpec } from './rules/index.ts';
 import type { Profile } from './types.ts';
 
@@ -14,4 +15,9 @@ export function analysisOptionsForProfile(profile: Profile): AnalysisOptions {
     if (rules.length > 0) ruleSpec(rules[0]).analysis?.(rules, options);
   }
   return options;
+}
+
+/** Decode settings a profile needs: the layout of files that do not name their channels. */
+export function decodeOptionsForProfile(profile: Profile): Pick<DecodeOptions, 'layout'> {
+  return profile.layout ? { layout: profile.layout } : {};
 }

@@ -63,7 +63,8 @@ export type FlagKind =
   | 'line_up_tone'
   | 'tone_into_programme'
   | 'sync_pop'
-  | 'sync_pop_missing';
+  | 'sync_pop_missing'
+  | 'declared_loudness_mismatch';
 
 /** fail and warn come from a broken rule; a remark is a finding no broken rule judges: shown, never counted. */
 export type FlagSeverity = Severity | 'remark';

@@ -4,6 +4,7 @@
 // is current.
 
 import type { ChannelLabel } from '../analysis/audio.ts';
+import type { LayoutName } from '../analysis/layouts.ts';
 import { DEFAULT_PHASE_THRESHOLD } from '../analysis/channel-relations.ts';
 import type { Container } from '../decode/types.ts';
 
@@ -251,6 +252,28 @@ export interface IntegrityRule extends RuleBase {
   type: 'integrity';
 }
 
+/** @minimum 0 @maximum 10 */
+type DeclaredToleranceLu = number;
+/**
+ * Loudness the file's metadata declares (BWF bext v2, iXML LOUDNESS) must match the readings of
+ * the same quantities. A file that declares nothing passes unless requireDeclared.
+ */
+export interface DeclaredLoudnessRule extends RuleBase {
+  type: 'declared-loudness';
+  /** Largest |measured - declared| integrated loudness (default 0.2 LU: EBU R 128 item i's QC tolerance, our choice). */
+  integratedToleranceLu?: DeclaredToleranceLu;
+  /** Loudness range (default 1 LU: EBU Tech 3342's meter tolerance, our choice). */
+  loudnessRangeToleranceLu?: DeclaredToleranceLu;
+  /** Max true peak, in dB (default 0.4 dB: the wider side of EBU Tech 3341's true-peak tolerance, our choice). */
+  truePeakToleranceDb?: DeclaredToleranceLu;
+  /** Max momentary loudness (default 0.2 LU, our choice). */
+  maxMomentaryToleranceLu?: DeclaredToleranceLu;
+  /** Max short-term loudness (default 0.2 LU, our choice). */
+  maxShortTermToleranceLu?: DeclaredToleranceLu;
+  /** Fail a file whose metadata declares no loudness at all (default false). */
+  requireDeclared?: boolean;
+}
+
 /** @discriminator type */
 export type Rule =
   | IntegratedLoudnessRule
@@ -275,7 +298,8 @@ export type Rule =
   | LineUpToneRule
   | ToneSeparationRule
   | SyncPopRule
-  | IntegrityRule;
+  | IntegrityRule
+  | DeclaredLoudnessRule;
 
 export type RuleType = Rule['type'];
 
@@ -293,6 +317,10 @@ export interface Profile {
    */
   basis: string;
   timecode?: { frameRate: FrameRateId };
+  /**
+   * Channel layout of delivered files that do not name their channels (no WAVE channel mask, no BW64 chna chunk): sets their channel roles and so their loudness weights (ITU-R BS.1770-5 Annex 3). A file with another channel count is an error (layout_mismatch); a file that names its own channels keeps them.
+   */
+  layout?: LayoutName;
   /** @minItems 1 @maxItems 200 */
   rules: Rule[];
 }

@@ -1,6 +1,7 @@
 // The two HTML pages. They hold no data: the page script fetches it with the API key the
 // operator enters once (kept in session storage), so the pages need no cookie or session.
 
+import { declaredLoudnessSection } from './declared-section.ts';
 import { escapeXml } from './loudness-plot.ts';
 
 function shell(title: string, bodyAttributes: string, main: string, script: string): string {
@@ -118,6 +119,7 @@ export function reportPage(jobId: string): string {
   <table><thead><tr><th scope="col">Rule</th><th scope="col">Finding</th><th scope="col">Severity</th><th scope="col">Outcome</th></tr></thead><tbody id="em-checks-body"></tbody></table>
   </div>
 </section>
+${declaredLoudnessSection()}
 </div>`,
     'report.js',
   );

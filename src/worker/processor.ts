@@ -7,7 +7,7 @@ import { UnrecoverableError, type SandboxedJob } from 'bullmq';
 import { analyzeFile } from '../engine/analyze-file.ts';
 import { isRetryable, toEarmarkError } from '../errors/index.ts';
 import { UrlPolicy } from '../net/url-guard.ts';
-import { analysisOptionsForProfile, evaluate } from '../profiles/index.ts';
+import { analysisOptionsForProfile, decodeOptionsForProfile, evaluate } from '../profiles/index.ts';
 import { ANALYZE_JOB_V1, encodeFailure, type AnalyzeJobV1, type AnalyzeResultV1 } from '../queue/contract.ts';
 import { openStorage } from '../storage/index.ts';
 import { readChildSettings } from './child-settings.ts';
@@ -67,7 +67,7 @@ export default async function analyzeJob(job: SandboxedJob<AnalyzeJobV1, Analyze
     const doc = await analyzeFile(path, {
       analysis: analysisOptionsForProfile(data.profile),
       displayName: fileName,
-      decode: { maxDecodedSeconds: config.maxDecodedSeconds },
+      decode: { maxDecodedSeconds: config.maxDecodedSeconds, ...decodeOptionsForProfile(data.profile) },
       ...(knownSha256 ? { knownSha256 } : {}),
       onProgress: (fraction) => {
         const percent = Math.floor(fraction * 100);

@@ -9,7 +9,7 @@ import { chromium, type Browser, type Page } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { openAudioFile } from '../../src/decode/index.ts';
 import { writeWavFile } from '../../src/encode/wav.ts';
-import { programmeBlocks } from '../../src/selftest/signals.ts';
+import { programmeBlocks, toneBlocks } from '../../src/selftest/signals.ts';
 import { client } from '../service/client.ts';
 import { KEYS, startService, until, type TestService } from '../service/harness.ts';
 import { writeSine } from '../service/audio.ts';
@@ -385,6 +385,43 @@ describe.skipIf(!hasTool('chromium'))('pages in Chromium', () => {
     const problems = await page.innerText('#em-integrity-problems');
     for (const problem of report.integrity.problems) expect(problems).toContain(problem.atTimecode);
     await page.screenshot({ path: join(OUTPUT_DIR, 'report-cut-file.png'), fullPage: true });
+    await page.close();
+  });
+
+  it('a file that declares its loudness in bext v2: the report page puts each figure beside the reading', async () => {
+    // Stereo 1 kHz at -20 dBFS peak reads -20.0 LUFS (EBU Tech 3341 Table 1 case 1 style); it declares -23.00.
+    const wav = join(dir, 'declared.wav');
+    const blocks = [...toneBlocks({ sampleRate: SAMPLE_RATE, channels: 2, segments: [{ seconds: 5, peakDbfs: -20 }] })];
+    await writeWavFile(
+      wav,
+      {
+        sampleRate: SAMPLE_RATE,
+        channels: 2,
+        bitsPerSample: 16,
+        float: false,
+        bextLoudness: { integratedLufs: -23, maxTruePeakDbtp: -20 },
+      },
+      blocks.map((b) => [...b.channelData]),
+    );
+    const api = client(service.url);
+    const submitted = await api.upload(wav, { profile: 'ebu-r128' }, KEYS.alpha);
+    const id = submitted.body.id as string;
+    await until(async () => {
+      const j = (await api.get(`/v1/jobs/${id}`, KEYS.alpha)).body;
+      return j.state === 'completed' || j.state === 'failed' ? j : null;
+    });
+    const page = await openPage(`/jobs/${id}`);
+    await page.waitForSelector('#em-declared:not([hidden])');
+    const rows = await page.locator('#em-declared-body tr').allInnerTexts();
+    expect(rows.map((r) => r.split('\t').map((c) => c.trim()))).toEqual([
+      ['BWF bext', 'Integrated loudness', '-23.00 LUFS', '-20.0 LUFS', '+3.0 LU'],
+      ['BWF bext', 'Max true peak', '-20.00 dBTP', '-20.0 dBTP', '0.0 dB'],
+    ]);
+    // No rule of ebu-r128 judges it: the 3 LU difference is a remark the note points at.
+    expect(await page.textContent('#em-declared-note')).toMatch(
+      /^1 declared figure differs from the reading: see flag #\d+\.$/,
+    );
+    await page.screenshot({ path: join(OUTPUT_DIR, 'report-declared-loudness.png'), fullPage: true });
     await page.close();
   });
 

@@ -1,4 +1,5 @@
-// analyzeFile and `earmark analyze --threads` give the same document with one thread or several.
+// analyzeFile and `earmark analyze --threads` give the same document with one thread or several,
+// and `auto` (the CLI's default) the same again.
 import { mkdtemp, rm } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
@@ -42,10 +43,12 @@ describe('analysis threads', () => {
       });
       return { code, doc: code === 0 ? withoutTiming(JSON.parse(out)) : null };
     };
-    const serial = await run([]);
+    const serial = await run(['--threads', '1']);
     const parallel = await run(['--threads', '2']);
+    const auto = await run(['--threads', 'auto']);
     expect(parallel.code).toBe(0);
     expect(parallel.doc).toEqual(serial.doc);
-    for (const bad of ['0', '1.5', 'two']) expect((await run(['--threads', bad])).code).toBe(3);
+    expect(auto.doc).toEqual(serial.doc);
+    for (const bad of ['0', '1.5', 'two', '', '17']) expect((await run(['--threads', bad])).code).toBe(3);
   }, 60_000);
 });

@@ -32,6 +32,12 @@ describe('meter groups', () => {
     expect(main).not.toContain('loudness');
     expect(main.length).toBeGreaterThan(0);
   });
+
+  it('leave the decoding thread no meters when decoding alone outweighs them (a compressed file)', () => {
+    const [main, worker] = meterGroups(2, 200);
+    expect(main).toEqual([]);
+    expect(worker.sort()).toEqual([...METER_NAMES].sort());
+  });
 });
 
 describe.each([1, 2, 6])('parallel analysis equals the serial runner (%i channels)', (channels) => {

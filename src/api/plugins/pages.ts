@@ -16,6 +16,7 @@ const ASSET_TYPES: Record<string, string> = {
   'report.js': 'text/javascript; charset=utf-8',
   'format.js': 'text/javascript; charset=utf-8',
   'head-strip.js': 'text/javascript; charset=utf-8',
+  'declared.js': 'text/javascript; charset=utf-8',
 };
 const ASSET_NAMES = Object.keys(ASSET_TYPES);
 const html = { description: 'HTML page', schema: { type: 'string' }, contentType: 'text/html' };

@@ -37,6 +37,7 @@ function probeAdts(head: Uint8Array): Probe {
 }
 
 export const aac = compressedDecoder({
+  costMsPerMinute: 230,
   detect: (head) => framedStream(head, 0, adtsFrameBytes),
   detectAfterId3: (rest) => adtsFrameBytes(rest, 0) > 0,
   probe: async (path, fileBytes) => ({

@@ -7,6 +7,7 @@ import { flacEndMissing, probeFlac } from '../flac-probe.ts';
 import { openFlacAt } from '../flac-seek.ts';
 
 export const flac = compressedDecoder({
+  costMsPerMinute: 190,
   detect: (head) => hasAscii(head, 0, 'fLaC'),
   detectAfterId3: (rest) => hasAscii(rest, 0, 'fLaC'),
   async probe(path, fileBytes) {

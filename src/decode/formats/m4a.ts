@@ -29,6 +29,7 @@ async function probeM4a(path: string, fileBytes: number): Promise<Probe> {
 }
 
 export const m4a = compressedDecoder({
+  costMsPerMinute: 250,
   // The ftyp box type right after the first box's size.
   detect: (head) => hasAscii(head, 4, 'ftyp'),
   probe: probeM4a,

@@ -37,6 +37,7 @@ async function probe(path: string, fileBytes: number): Promise<Probe> {
 }
 
 export const mp3 = compressedDecoder({
+  costMsPerMinute: 240,
   // Bare: a valid layer III frame, followed by another where the head reaches.
   detect: (head) => framedStream(head, 0, layer3FrameBytes),
   // After a tag any frame sync is accepted.

@@ -79,6 +79,7 @@ async function lastPage(
 }
 
 export const ogg = compressedDecoder({
+  costMsPerMinute: 230,
   // Capture pattern and stream structure version 0.
   detect: (head) => hasAscii(head, 0, 'OggS') && head[4] === 0,
   probe: async (path, fileBytes) => probeOgg(path, await readHead(path), fileBytes),

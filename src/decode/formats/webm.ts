@@ -4,6 +4,7 @@ import { readHead } from '../compressed-probe.ts';
 import { probeWebm } from '../compressed-webm.ts';
 
 export const webm = compressedDecoder({
+  costMsPerMinute: 230,
   // The EBML header element id.
   detect: (head) => head.length >= 4 && head[0] === 0x1a && head[1] === 0x45 && head[2] === 0xdf && head[3] === 0xa3,
   probe: async (path) => ({

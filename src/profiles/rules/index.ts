@@ -8,6 +8,7 @@ import { clipping } from './clipping.ts';
 import { container } from './container.ts';
 import { dcOffset } from './dc-offset.ts';
 import { deadChannel } from './dead-channel.ts';
+import { declaredLoudness } from './declared-loudness.ts';
 import { dropouts } from './dropouts.ts';
 import { duration } from './duration.ts';
 import { headSilence, tailSilence } from './edge-silence.ts';
@@ -53,6 +54,7 @@ export const RULES: RuleRegistry = {
   'tone-separation': toneSeparation,
   'sync-pop': syncPop,
   integrity,
+  'declared-loudness': declaredLoudness,
 };
 
 export function isRuleType(value: string): value is RuleType {

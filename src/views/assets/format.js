@@ -99,6 +99,8 @@ const HINTS = {
   decoded_size_exceeded:
     "The decoded audio is over this service's size cap. Send a shorter file, split it, or send a WAV or FLAC export.",
   file_not_found: 'The stored upload is gone (its retention period may be over). Submit the file again.',
+  layout_mismatch:
+    "The profile declares a channel layout with another channel count, and the file does not name its channels. Use a profile for the file's layout, or export it with a channel mask.",
   payload_too_large: 'The file is over the upload limit. Send a smaller file or split it.',
   invalid_profile: 'The profile is not valid. Fix it (see GET /v1/profiles) and submit again.',
   unknown_profile: 'No profile has this id. Choose one listed by GET /v1/profiles.',

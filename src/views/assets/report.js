@@ -3,6 +3,7 @@
 // listening excerpt per flag, and the checks. A failed job shows its error and what to do.
 import { api, el, setupKeyForm, text, verdictBadge } from './common.js';
 import { hasHead, headFacts, headStripSvg } from './head-strip.js';
+import { renderDeclaredLoudness } from './declared.js';
 import { failureHint, flagCountsText, flagDetails, flagView, headlineNamesVerdict, outcomeText } from './format.js';
 
 const jobId = document.body.dataset.jobId;
@@ -249,6 +250,7 @@ async function load() {
     renderHead(report);
     renderChecks(report);
     renderFlags(report);
+    renderDeclaredLoudness(report);
     document.getElementById('em-report-body').hidden = false;
     status.textContent = '';
   } catch (error) {

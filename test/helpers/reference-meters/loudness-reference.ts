@@ -56,10 +56,10 @@ export function derivedStages(sampleRate: number): [Biquad, Biquad] {
   return [shelf, { b0: 1, b1: -2, b2: 1, a1: (2 * (k * k - 1)) / a0, a2: (1 - k / highpassQ + k * k) / a0 }];
 }
 
-/** BS.1770-5 Table 3 weights by speaker role (Annex 3: 1.41 at 60-120 deg azimuth): surrounds 1.41, LFE left out, the rest 1.0. */
+/** BS.1770-5 Table 3 weights by speaker role (Annex 3: 1.41 at 60-120 deg azimuth): surrounds, sides and the 60 deg wides 1.41, LFE left out, the rest 1.0. */
 export function channelWeight(label: string): number {
-  if (label === 'LFE') return 0;
-  return ['Ls', 'Rs', 'Lss', 'Rss'].includes(label) ? 1.41 : 1;
+  if (label === 'LFE' || label === 'LFE2') return 0;
+  return ['Ls', 'Rs', 'Lss', 'Rss', 'Lw', 'Rw'].includes(label) ? 1.41 : 1;
 }
 
 function filter(x: ArrayLike<number>, stage: Biquad): Float64Array {

@@ -44,7 +44,7 @@ export function referenceRelations(
   for (let a = 0; a < channels.length; a++) {
     for (let b = a + 1; b < channels.length; b++) {
       const [xa, xb] = [channels[a], channels[b]];
-      const phaseChecked = labels[a] !== 'LFE' && labels[b] !== 'LFE';
+      const phaseChecked = ![labels[a], labels[b]].some((l) => l === 'LFE' || l === 'LFE2');
       let minWindowCorrelation: number | null = null,
         phaseProblemWindows = 0;
       let open: (RelationEvent & { peakValue: number; count: number }) | null = null;
