@@ -190,7 +190,7 @@ describe('against ffmpeg', () => {
   it.skipIf(!hasTool('ffmpeg'))("reads ffmpeg's own 1 kHz sine as its astats filter does", async () => {
     const { dir, cleanup } = tempDir();
     try {
-      // ffmpeg's sine source (amplitude 1/8, about -18.06 dBFS), 3 s, then 2 s of silence, 24-bit.
+      // ffmpeg's sine source (its default amplitude, 1/8 from memory: astats reads -18.06 dBFS), 3 s, then 2 s of silence, 24-bit.
       const path = join(dir, 'tone.wav');
       const make = [
         '-hide_banner',
