@@ -35,6 +35,27 @@ function flagLine(f: Flag): string {
   return `  #${String(f.number).padEnd(3)} ${f.startTimecode} - ${f.endTimecode}  ${f.severity.padEnd(6)}  ${f.title}  ch ${f.channelName}${other}${worst}${count}${f.ruleId ? `  [${f.ruleId}]` : ''}\n`;
 }
 
+/** The head readings, when the profile judges the head (line-up tone, tone separation, sync pops). */
+function headLine(report: QcReport): string | null {
+  if (!report.checks.some((c) => c.type === 'line-up-tone' || c.type === 'tone-separation' || c.type === 'sync-pop'))
+    return null;
+  const h = report.head;
+  const t = report.headTimecode;
+  const main = h.toneSegments.reduce<(typeof h.toneSegments)[number] | null>(
+    (a, b) => (a === null || b.endFrame - b.startFrame > a.endFrame - a.startFrame ? b : a),
+    null,
+  );
+  const parts = [
+    main
+      ? `tone ${fmt(main.frequencyHz, 1)} Hz at ${fmt(main.rmsAes17Db, 2)} dBFS ${t.toneStart} - ${t.toneEnd}`
+      : 'no tone',
+    ...(t.headPop ? [`pop ${t.headPop}`] : []),
+    t.programmeStart ? `programme from ${t.programmeStart}` : 'no programme found',
+    ...(t.tailPop ? [`tail pop ${t.tailPop}`] : []),
+  ];
+  return `head     ${parts.join(', ')}\n`;
+}
+
 export function formatReport(report: QcReport): string {
   const lines: string[] = [];
   const s = report.summary;
@@ -73,6 +94,8 @@ export function formatReport(report: QcReport): string {
           : ` (ceiling ${k.ceilingDbtp} dBTP)`;
     lines.push(`gain     ${k.gainDb > 0 ? '+' : ''}${fmt(k.gainDb, 2)} dB to ${k.targetLufs} LUFS; ${tp}${ceiling}\n`);
   }
+  const head = headLine(report);
+  if (head) lines.push(head);
   const tc = report.timecode;
   const n = report.flagCounts;
   lines.push(

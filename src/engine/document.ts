@@ -155,6 +155,8 @@ export interface AnalysisDocument {
   };
   channels: ChannelSummary[];
   channelPairs: Measurements['channelRelations']['pairs'];
+  /** Line-up tone, sync pops and the programme's start (analysis/head.ts). */
+  head: Measurements['head'];
   /** Loudness the file's metadata declares (bext v2, iXML), each figure beside our reading; empty when none. */
   declaredLoudness: DeclaredLoudnessComparison[];
   downmix: DownmixReadings;
@@ -349,6 +351,7 @@ export function buildAnalysisDocument(
       };
     }),
     channelPairs: m.channelRelations.pairs,
+    head: m.head,
     declaredLoudness: [],
     downmix: downmixReadings(m),
     events,

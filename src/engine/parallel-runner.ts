@@ -37,8 +37,9 @@ function startWorker(workerData: MeterThreadData): Worker {
   return new Worker(boot, { eval: true, workerData });
 }
 
-/** Meters that cost something by default; the others (off unless asked, cost 0) join a group after the search. */
-const COSTED = METER_NAMES.filter((name) => METERS[name].costMsPerMinute > 0);
+/** Meters searched over; lighter ones (under 1 ms per stereo minute, or off unless asked) join the
+ * least loaded group after the search, since each would multiply it by the thread count. */
+const COSTED = METER_NAMES.filter((name) => METERS[name].costMsPerMinute >= 1);
 
 /** Load of each thread for an assignment of the costed meters to threads (thread 0 is the main thread). */
 function loads(assignment: number[], threads: number, mainCost: number): number[] {
@@ -55,10 +56,9 @@ const MAX_METER_THREADS = 4;
 
 /**
  * The split of the meters into `threads` groups with the smallest largest load, found by trying
- * every assignment of the costed meters (9: 512 for two threads, 262144 for four); group 0 is the
+ * every assignment of the costed meters (8: 256 for two threads, 65536 for four); group 0 is the
  * main thread's, which also decodes (and hashes): `decodeCost` in the same units, a WAV's by
- * default. A meter of no default cost goes to the least loaded group, outside the search (each
- * would multiply it by the thread count).
+ * default.
  */
 export function meterGroups(threads: number, decodeCost = PCM_DECODE_COST): MeterName[][] {
   const n = Math.max(1, Math.min(Math.floor(threads), MAX_METER_THREADS));

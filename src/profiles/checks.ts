@@ -5,6 +5,7 @@
 
 import type { AnalysisDocument } from '../engine/document.ts';
 import type { CheckResult } from './report.ts';
+import { FRAME_RATES, type FrameRate } from './timecode.ts';
 import { ruleSpec } from './rules/index.ts';
 import { integrityDraft } from './rules/integrity.ts';
 import type { IntegrityRule, Profile, Rule } from './types.ts';
@@ -25,8 +26,9 @@ export function integrityCheck(profile: Profile, doc: AnalysisDocument): CheckRe
   };
 }
 
-export function runCheck(rule: Rule, doc: AnalysisDocument): CheckResult {
-  const { severity, ...draft } = ruleSpec(rule).check(rule, doc);
+/** `frameRate`: the report's (timecode limits); 25 fps when not given. */
+export function runCheck(rule: Rule, doc: AnalysisDocument, frameRate: FrameRate = FRAME_RATES['25']): CheckResult {
+  const { severity, ...draft } = ruleSpec(rule).check(rule, doc, { frameRate });
   return {
     ruleId: rule.id,
     type: rule.type,

@@ -17,6 +17,7 @@ import {
   type Verdict,
 } from './report.ts';
 import { fmt } from './format.ts';
+import { headTimecodeOf } from './head.ts';
 import { FRAME_RATES, timecodeAtSample, type FrameRate } from './timecode.ts';
 import type { FrameRateId, IntegratedLoudnessRule, Profile } from './types.ts';
 
@@ -145,7 +146,10 @@ export function evaluate(profile: Profile, doc: AnalysisDocument, options: Evalu
   const rate: FrameRate = FRAME_RATES[options.frameRate ?? profile.timecode?.frameRate ?? DEFAULT_FRAME_RATE];
   // Integrity first: every profile judges it, whether or not it names it.
   const integrity = integrityCheck(profile, doc);
-  const checks = [integrity, ...profile.rules.filter((r) => r.type !== 'integrity').map((rule) => runCheck(rule, doc))];
+  const checks = [
+    integrity,
+    ...profile.rules.filter((r) => r.type !== 'integrity').map((rule) => runCheck(rule, doc, rate)),
+  ];
   const { flags, flagsTotal, flagCounts } = buildFlags(profile, doc, checks, integrity, rate, options);
   const origin = doc.format.timeReferenceSamples;
   const problems = doc.integrity.problems.map((p) => ({
@@ -172,6 +176,7 @@ export function evaluate(profile: Profile, doc: AnalysisDocument, options: Evalu
       originSeconds: origin === null ? 0 : origin / doc.format.sampleRate,
       originTimecode: timecodeAtSample(0, doc.format.sampleRate, rate, origin),
     },
+    headTimecode: headTimecodeOf(doc, rate),
     generatedAt: (options.now ?? new Date()).toISOString(),
   };
 }

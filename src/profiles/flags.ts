@@ -9,6 +9,8 @@ import { declaredLoudnessDrafts } from './declared-flags.ts';
 import { fmt } from './format.ts';
 import type { CheckResult, Flag, FlagKind, FlagSeverity } from './report.ts';
 import { RULES, RULE_TYPES, ruleSpec } from './rules/index.ts';
+import { headDrafts } from './head-flags.ts';
+import { headSilenceOf } from './head.ts';
 import { timecodeAtSample, type FrameRate } from './timecode.ts';
 import type { Profile, Rule, RuleType } from './types.ts';
 
@@ -44,6 +46,10 @@ export const FLAG_KINDS: Record<FlagKind, { title: string; unit: string | null }
   duplicate_channel: { title: 'Duplicate channel', unit: null },
   inverted_channel: { title: 'Inverted channel', unit: null },
   dc_offset: { title: 'DC offset', unit: 'dBFS' },
+  line_up_tone: { title: 'Line-up tone', unit: 'dBFS' },
+  tone_into_programme: { title: 'Tone into programme', unit: null },
+  sync_pop: { title: 'Sync pop', unit: 'dBFS' },
+  sync_pop_missing: { title: 'Sync pop missing', unit: null },
   declared_loudness_mismatch: { title: 'Declared loudness differs', unit: null },
   downmix_clipping: { title: 'Downmix clipping', unit: 'dBFS' },
 };
@@ -95,7 +101,7 @@ function breaks(rule: Rule, e: AnalysisEvent, doc: AnalysisDocument): boolean {
 }
 
 /** The rule that judges a finding (null when none does) and the severity it gives. */
-type Judged = { ruleId: string | null; severity: FlagSeverity };
+export type Judged = { ruleId: string | null; severity: FlagSeverity };
 
 const rank = (s: FlagSeverity) => (s === 'fail' ? 0 : s === 'warn' ? 1 : 2);
 
@@ -159,7 +165,7 @@ function eventDrafts(profile: Profile, doc: AnalysisDocument, checks: Map<string
 }
 
 /** The severity a broken check of this type gives, with its rule id; a remark when none is broken. */
-function ruleVerdict(
+export function ruleVerdict(
   profile: Profile,
   checks: Map<string, CheckResult>,
   type: RuleType,
@@ -182,7 +188,9 @@ function edgeDrafts(profile: Profile, doc: AnalysisDocument, checks: Map<string,
   const edges = doc.summary.allSilent ? (['head-silence'] as const) : (['head-silence', 'tail-silence'] as const);
   for (const type of edges) {
     const head = type === 'head-silence';
-    const seconds = head ? doc.summary.headSilenceSeconds : doc.summary.tailSilenceSeconds;
+    // The head counts back from the programme start when there is a line-up tone (head.ts).
+    const lead = headSilenceOf(doc);
+    const seconds = head ? lead.seconds : doc.summary.tailSilenceSeconds;
     const judged = ruleVerdict(profile, checks, type);
     if (seconds <= 0 || (judged.severity === 'remark' && seconds < notable)) continue;
     const length = Math.min(frames, Math.round(seconds * rate));
@@ -190,8 +198,8 @@ function edgeDrafts(profile: Profile, doc: AnalysisDocument, checks: Map<string,
       kind: head ? 'head_silence' : 'tail_silence',
       ...judged,
       channel: null,
-      startSample: head ? 0 : frames - length,
-      endSample: head ? length : frames,
+      startSample: head ? lead.startSample : frames - length,
+      endSample: head ? lead.endSample : frames,
       worstValue: null,
       count: 1,
       detections: 1,
@@ -301,6 +309,7 @@ export function buildFlags(
     ...eventDrafts(profile, doc, byId),
     ...edgeDrafts(profile, doc, byId),
     ...dcDrafts(profile, doc, byId),
+    ...headDrafts(profile, doc, byId, rate),
     ...declaredLoudnessDrafts(profile, doc, byId),
   ];
   const merged = merge(drafts, Math.round((options.mergeGapSeconds ?? DEFAULT_FLAG_MERGE_SECONDS) * sampleRate));

@@ -2,6 +2,7 @@
 // `analyze --json` puts it) plus verdict, checks, flags and correction. Schema: openapi/report.schema.json.
 
 import type { AnalysisDocument, DocumentIntegrityProblem } from '../engine/document.ts';
+import type { HeadTimecode } from './head.ts';
 import type { FrameRateId, RuleType, Severity } from './types.ts';
 
 export const REPORT_VERSION = 2;
@@ -60,7 +61,11 @@ export type FlagKind =
   | 'inverted_channel'
   | 'dc_offset'
   | 'declared_loudness_mismatch'
-  | 'downmix_clipping';
+  | 'downmix_clipping'
+  | 'line_up_tone'
+  | 'tone_into_programme'
+  | 'sync_pop'
+  | 'sync_pop_missing';
 
 /** fail and warn come from a broken rule; a remark is a finding no broken rule judges: shown, never counted. */
 export type FlagSeverity = Severity | 'remark';
@@ -141,5 +146,7 @@ export interface QcReport extends AnalysisDocument {
   flagCounts: Record<FlagSeverity, number>;
   correction: Correction | null;
   timecode: ReportTimecode;
+  /** SMPTE labels of the head readings (`head`) at the report's frame rate. */
+  headTimecode: HeadTimecode;
   generatedAt: string;
 }

@@ -217,6 +217,60 @@ export interface MonoCompatibilityRule extends RuleBase {
   /** @minimum 0 @maximum 40 */
   maxLossLu: number;
 }
+/**
+ * Line-up tone before the programme (analysis/head.ts): required (default) or forbidden. When required,
+ * every tone segment is judged against frequencyHz, levelDbfs (the AES17 reading: a sine's peak) and minSeconds.
+ * @dependentRequired {"frequencyToleranceHz": ["frequencyHz"], "levelToleranceDb": ["levelDbfs"]}
+ */
+export interface LineUpToneRule extends RuleBase {
+  type: 'line-up-tone';
+  presence?: 'required' | 'forbidden';
+  /** @minimum 20 @maximum 20000 */
+  frequencyHz?: number;
+  /**
+   * Default 1 Hz.
+   * @minimum 0 @maximum 1000
+   */
+  frequencyToleranceHz?: number;
+  levelDbfs?: Dbfs;
+  /**
+   * Default 0.5 dB.
+   * @minimum 0 @maximum 10
+   */
+  levelToleranceDb?: number;
+  /** Shortest tone accepted (the longest segment is judged). */
+  minSeconds?: Seconds;
+  /**
+   * Channel roles whose tone is judged for frequency and level (e.g. not the LFE's); all when absent.
+   * @minItems 1 @maxItems 32 @uniqueItems true
+   */
+  channels?: ChannelLabel[];
+}
+/** The line-up tone ends in silence before the programme: at least minGapSeconds (default 0.1 s) between its end and the programme start. */
+export interface ToneSeparationRule extends RuleBase {
+  type: 'tone-separation';
+  /** @minimum 0 @maximum 60 */
+  minGapSeconds?: number;
+}
+/**
+ * A sync pop (one frame of tone): at the head, offsetSeconds (default 2) before the programme start, or at a
+ * timecode; at the tail, offsetSeconds after the programme's last sound. Within toleranceFrames (default 1) at
+ * the report's frame rate.
+ */
+export interface SyncPopRule extends RuleBase {
+  type: 'sync-pop';
+  /** head (default) or tail. */
+  position?: 'head' | 'tail';
+  /** @minimum 0 @maximum 60 */
+  offsetSeconds?: number;
+  /**
+   * The pop's first frame as SMPTE timecode (with the file's BWF time reference); wins over offsetSeconds.
+   * @pattern ^[0-2][0-9]:[0-5][0-9]:[0-5][0-9][:;][0-5][0-9]$
+   */
+  atTimecode?: string;
+  /** @asType integer @minimum 0 @maximum 30 */
+  toleranceFrames?: number;
+}
 /** The file itself: cut short, unreadable data, a declared length not reached, non-finite samples, no audio. Fails under every profile; name this rule only to lower it to warn. */
 export interface IntegrityRule extends RuleBase {
   type: 'integrity';
@@ -265,6 +319,9 @@ export type Rule =
   | DurationRule
   | ContainerRule
   | DropoutRule
+  | LineUpToneRule
+  | ToneSeparationRule
+  | SyncPopRule
   | IntegrityRule
   | DeclaredLoudnessRule
   | DownmixLoudnessRule

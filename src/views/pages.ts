@@ -109,6 +109,11 @@ export function reportPage(jobId: string): string {
     <p id="em-player-status" class="em-status" aria-live="polite"></p>
   </section>
 </div>
+<section id="em-head-section" class="em-card" aria-labelledby="em-head-title" hidden>
+  <h2 id="em-head-title" style="margin-top:0">Head</h2>
+  <div id="em-head"></div>
+  <ul id="em-head-facts" class="em-status"></ul>
+</section>
 <section class="em-card" aria-labelledby="em-checks-title">
   <h2 id="em-checks-title" style="margin-top:0">Checks</h2>
   <div style="overflow-x:auto">

@@ -255,6 +255,10 @@ describe.skipIf(!hasTool('chromium'))('pages in Chromium', () => {
     expect(await problem.textContent()).toContain('00:00:05:00');
     expect(await problem.textContent()).toContain('720000 frames missing');
 
+    // The head strip: each channel's tone, the pop and the programme start, and the same in words.
+    expect(await page.locator('#em-head-section:not([hidden]) svg .em-head-tone').count()).toBe(2);
+    expect(await page.textContent('#em-head-facts')).toContain('Programme starts at 00:00:04:00');
+
     // Counts, then every flag with number, severity, title, span, channel, count and worst value.
     expect(await page.textContent('#em-flag-counts')).toBe('1 fail · 1 warn · 2 remarks');
     expect(await page.locator('#em-flags li[data-severity]').count()).toBe(4);

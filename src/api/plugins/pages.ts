@@ -15,6 +15,7 @@ const ASSET_TYPES: Record<string, string> = {
   'dashboard.js': 'text/javascript; charset=utf-8',
   'report.js': 'text/javascript; charset=utf-8',
   'format.js': 'text/javascript; charset=utf-8',
+  'head-strip.js': 'text/javascript; charset=utf-8',
   'declared.js': 'text/javascript; charset=utf-8',
   'downmix.js': 'text/javascript; charset=utf-8',
 };

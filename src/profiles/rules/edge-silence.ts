@@ -1,5 +1,7 @@
 // Silence before the first and after the last signal: minSeconds (a required lead-in) and/or maxSeconds.
+// With a line-up tone the head counts back from the programme start to the tone's end (profiles/head.ts).
 import type { AnalysisDocument } from '../../engine/document.ts';
+import { headSilenceOf } from '../head.ts';
 import type { EdgeSilenceRule } from '../types.ts';
 import { within } from './drafts.ts';
 import { rangeIssues } from './issues.ts';
@@ -19,5 +21,5 @@ function edge(what: string, seconds: (doc: AnalysisDocument) => number): RuleSpe
   };
 }
 
-export const headSilence = edge('Silence before the programme', (doc) => doc.summary.headSilenceSeconds);
+export const headSilence = edge('Silence before the programme', (doc) => headSilenceOf(doc).seconds);
 export const tailSilence = edge('Silence after the programme', (doc) => doc.summary.tailSilenceSeconds);

@@ -17,6 +17,7 @@ import { duration } from './duration.ts';
 import { headSilence, tailSilence } from './edge-silence.ts';
 import { integratedLoudness } from './integrated-loudness.ts';
 import { integrity } from './integrity.ts';
+import { lineUpTone } from './line-up-tone.ts';
 import { loudnessRange } from './loudness-range.ts';
 import { momentaryMax } from './momentary-max.ts';
 import { monoCompatibility } from './mono-compatibility.ts';
@@ -26,6 +27,8 @@ import { samplePeak } from './sample-peak.ts';
 import { sampleRate } from './sample-rate.ts';
 import { shortTermMax } from './short-term-max.ts';
 import { silenceGap } from './silence-gap.ts';
+import { syncPop } from './sync-pop.ts';
+import { toneSeparation } from './tone-separation.ts';
 import { truePeak } from './true-peak.ts';
 
 /** In the order analysis settings are gathered (options.ts). */
@@ -51,6 +54,9 @@ export const RULES: RuleRegistry = {
   duration,
   container,
   dropouts,
+  'line-up-tone': lineUpTone,
+  'tone-separation': toneSeparation,
+  'sync-pop': syncPop,
   integrity,
   'declared-loudness': declaredLoudness,
   'downmix-loudness': downmixLoudness,

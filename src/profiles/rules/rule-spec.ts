@@ -4,6 +4,7 @@ import type { AnalysisEvent, EventKind } from '../../analysis/events.ts';
 import type { AnalysisOptions } from '../../analysis/runner.ts';
 import type { AnalysisDocument } from '../../engine/document.ts';
 import type { CheckResult } from '../report.ts';
+import type { FrameRate } from '../timecode.ts';
 import type { Rule, RuleType } from '../types.ts';
 
 /** A check before the rule's id, type, severity and source are added (a marginal reading may set its own severity). */
@@ -23,9 +24,14 @@ export interface SettingUse {
   value: number | undefined;
 }
 
+/** What a check may need beside the document: the report's frame rate (timecode limits). */
+export interface CheckContext {
+  frameRate: FrameRate;
+}
+
 export interface RuleSpec<R extends Rule> {
   /** The reading, limit and verdict on one document. */
-  check(rule: R, doc: AnalysisDocument): Draft;
+  check(rule: R, doc: AnalysisDocument, context: CheckContext): Draft;
   /** Cross-field problems the schema cannot say (either-or limits, min <= max); `at` is the rule's path. */
   issues?(rule: R, at: string): ProfileIssue[];
   /** The analysis settings this rule sets, so parseProfile can insist they agree. */

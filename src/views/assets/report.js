@@ -2,6 +2,7 @@
 // server-rendered loudness plot, flags that move the plot's cursor when chosen, a short
 // listening excerpt per flag, and the checks. A failed job shows its error and what to do.
 import { api, el, setupKeyForm, text, verdictBadge } from './common.js';
+import { hasHead, headFacts, headStripSvg } from './head-strip.js';
 import { renderDeclaredLoudness } from './declared.js';
 import { renderDownmix } from './downmix.js';
 import { failureHint, flagCountsText, flagDetails, flagView, headlineNamesVerdict, outcomeText } from './format.js';
@@ -145,6 +146,14 @@ function renderSummary(report) {
     .replaceChildren(...items.map(([label, value]) => el('div', {}, el('dt', {}, label), el('dd', {}, value))));
 }
 
+function renderHead(report) {
+  const section = document.getElementById('em-head-section');
+  section.hidden = !hasHead(report);
+  if (section.hidden) return;
+  document.getElementById('em-head').innerHTML = headStripSvg(report);
+  document.getElementById('em-head-facts').replaceChildren(...headFacts(report).map((fact) => el('li', {}, fact)));
+}
+
 function flagItem(flag, index) {
   const messageId = `em-flag-message-${index}`;
   return el(
@@ -239,6 +248,7 @@ async function load() {
     document.getElementById('em-verdict').replaceChildren(verdictBadge(report.verdict, true));
     document.getElementById('em-plot').innerHTML = plot;
     renderSummary(report);
+    renderHead(report);
     renderChecks(report);
     renderFlags(report);
     renderDeclaredLoudness(report);
