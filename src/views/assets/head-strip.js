@@ -84,8 +84,10 @@ export function headStripSvg(report, widthPx = 720) {
   const bottom = top + channels * rowPx;
   marks.forEach(([cls, at, text], i) => {
     parts.push(`<line class="${cls}" x1="${num(x(at))}" x2="${num(x(at))}" y1="${top - 4}" y2="${bottom + 4}"/>`);
+    // A label centred on a mark near either edge would be cut off: it hangs inward there.
+    const anchor = x(at) < left + 80 ? 'start' : x(at) > widthPx - right - 80 ? 'end' : 'middle';
     parts.push(
-      `<text class="em-head-mark" x="${num(x(at))}" y="${bottom + 16 + 12 * (i % 2)}" text-anchor="middle">${esc(text.trim())}</text>`,
+      `<text class="em-head-mark" x="${num(x(at))}" y="${bottom + 16 + 12 * (i % 2)}" text-anchor="${anchor}">${esc(text.trim())}</text>`,
     );
   });
   parts.push(
