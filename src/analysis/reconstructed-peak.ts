@@ -176,6 +176,8 @@ export class ReconstructedPeakMeter implements Meter<ReconstructedPeakResult> {
   private readonly kernel: ReconstructionKernel;
   private readonly envelopes = new EnvelopeBuilder();
   private readonly overLog: OverLog;
+  /** Overs at most this many frames after the open over's last one join it (OverLog's rule). */
+  private readonly mergeLimitFrames: number;
   private position = 0;
   private final: ReconstructedPeakResult | null = null;
 
@@ -187,12 +189,14 @@ export class ReconstructedPeakMeter implements Meter<ReconstructedPeakResult> {
     this.slots = new Float64Array(info.channels * CHANNEL_SLOTS);
     this.histories = new Float64Array(info.channels * HISTORY);
     this.overLog = new OverLog('reconstructed_over', info.channels, info.sampleRate, mergeFrames, options.maxEvents);
+    this.mergeLimitFrames = mergeFrames + 1;
     // Pair k joins z[j + 1 + k] and z[j - k]: halved sums and differences of the mirrored taps.
     const g1 = quarterPhaseTaps(1),
       g2 = quarterPhaseTaps(2);
     const w = STAGE2_HALF_WIDTH - 1;
     this.kernel = new ReconstructionKernel({
       stage1: STAGE1_FULL,
+      halfTaps: Float64Array.from(HALF_SAMPLE_TAPS),
       s: Float64Array.from({ length: 4 }, (_, k) => 0.5 * (g1[w + 1 + k] + g1[w - k])),
       d: Float64Array.from({ length: 4 }, (_, k) => 0.5 * (g1[w + 1 + k] - g1[w - k])),
       h: Float64Array.from({ length: 4 }, (_, k) => g2[w + 1 + k]),
@@ -239,9 +243,15 @@ export class ReconstructedPeakMeter implements Meter<ReconstructedPeakResult> {
         kernel.input.set(x.subarray(from, from + n));
         kernel.chunkMax.set(chunkMax.subarray(chunk0, chunkEnd));
         state[SLOT.position] = at;
-        const overs = kernel.scan(n);
-        for (let i = 0; i < overs; i++)
-          this.overLog.record(c, at + kernel.overIndices[i] - HISTORY, kernel.overPeaks[i]);
+        const open = this.overLog.openOver(c);
+        kernel.openOver[0] = open ? open.lastFrame : -1e300;
+        kernel.openOver[1] = open ? open.peak : 0;
+        kernel.openOver[2] = this.mergeLimitFrames;
+        const runs = kernel.scan(n);
+        for (let i = 0; i < runs; i++) {
+          const first = at + kernel.runFirst[i] - HISTORY;
+          this.overLog.recordRun(c, first, at + kernel.runLast[i] - HISTORY, kernel.runCount[i], kernel.runPeak[i]);
+        }
       }
       slots.set(state.subarray(0, CHANNEL_SLOTS));
       history.set(kernel.history);
