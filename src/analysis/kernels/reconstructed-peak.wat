@@ -672,7 +672,7 @@
 ;; order. Thresholds taken before a frame stay valid after it: the maximum, the gate and the open
 ;; over's value only rise, and a frame it may join is joined by every over before it.
   (func $screen (param $e0 i32) (param $e1 i32) (param $tapMax f64)
-    (local $e i32) (local $p i32) (local $bits i32) (local $cheap i32) (local $f i32) (local $rs i32) (local $re i32)
+    (local $e i32) (local $p i32) (local $bits i32) (local $cheap i32) (local $moved i32) (local $f i32) (local $rs i32) (local $re i32)
     (local $margin f64) (local $low v128) (local $over v128) (local $lowV v128) (local $highV v128) (local $m v128) (local $m3 v128) (local $v v128) (local $l1 v128) (local $s1 v128) (local $lowX v128) (local $highX v128)
     (local $sa v128) (local $da v128) (local $ya v128) (local $sb v128) (local $db v128) (local $yb v128) (local $q7 v128) (local $last v128)
     (local $g0 v128) (local $g1 v128) (local $g2 v128) (local $g3 v128) (local $g4 v128) (local $g5 v128) (local $g6 v128) (local $g7 v128) (local $g8 v128) (local $g9 v128)
@@ -751,23 +751,29 @@
                     (local.set $f (i32.add (local.get $e) (i32.ctz (local.get $bits))))
                     (if (i32.and (local.get $cheap) (i32.and (local.get $bits) (i32.sub (i32.const 0) (local.get $bits))))
                       (then
-                        (if (i32.lt_s (local.get $rs) (local.get $re)) (then (call $exact (local.get $rs) (local.get $re))))
+                        (if (i32.lt_s (local.get $rs) (local.get $re))
+                          (then (call $exact (local.get $rs) (local.get $re)) (local.set $moved (i32.const 1))))
                         (local.set $re (local.get $rs))
                         (call $over (local.get $f) (f64.const 0)))
                       (else
                         (if (i32.ne (local.get $f) (local.get $re))
                           (then
-                            (if (i32.lt_s (local.get $rs) (local.get $re)) (then (call $exact (local.get $rs) (local.get $re))))
+                            (if (i32.lt_s (local.get $rs) (local.get $re))
+                              (then (call $exact (local.get $rs) (local.get $re)) (local.set $moved (i32.const 1))))
                             (local.set $rs (local.get $f))))
                         (local.set $re (i32.add (local.get $f) (i32.const 1)))))
                     (local.set $bits (i32.and (local.get $bits) (i32.sub (local.get $bits) (i32.const 1))))
                     (br $lane)))
-                (call $thresholds (local.get $margin))
-                (local.set $low (v128.load offset=68448 (i32.const 0)))
-                (local.set $lowV (v128.load offset=68464 (i32.const 0)))
-                (local.set $highV (v128.load offset=68480 (i32.const 0)))
-                (local.set $lowX (v128.load offset=68496 (i32.const 0)))
-                (local.set $highX (v128.load offset=68512 (i32.const 0)))))))
+                ;; Only the exact path moves the maximum, the gate and the open over's value.
+                (if (local.get $moved)
+                  (then
+                    (local.set $moved (i32.const 0))
+                    (call $thresholds (local.get $margin))
+                    (local.set $low (v128.load offset=68448 (i32.const 0)))
+                    (local.set $lowV (v128.load offset=68464 (i32.const 0)))
+                    (local.set $highV (v128.load offset=68480 (i32.const 0)))
+                    (local.set $lowX (v128.load offset=68496 (i32.const 0)))
+                    (local.set $highX (v128.load offset=68512 (i32.const 0)))))))))
         (local.set $last (local.get $q7))
         (local.set $e (i32.add (local.get $e) (i32.const 4)))
         (br $quads)))
