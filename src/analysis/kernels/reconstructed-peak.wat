@@ -629,6 +629,25 @@
       (then (local.set $r (f32.reinterpret_i32 (i32.add (i32.reinterpret_f32 (local.get $r)) (i32.const 1))))))
     (local.get $r))
 
+;; `count` certain overs from X index `first` to `last`, each within the merge distance of the one
+;; before and the first of the open over, none raising its value: as $over for each with value 0.
+  (func $overs (param $first i32) (param $last i32) (param $count i32)
+    (local $r i32)
+    (local.set $r (i32.sub (global.get $runs) (i32.const 1)))
+    (if (i32.gt_s (global.get $runs) (i32.const 0))
+      (then
+        (i32.store offset=528384 (i32.shl (local.get $r) (i32.const 2)) (local.get $last))
+        (i32.store offset=593920 (i32.shl (local.get $r) (i32.const 2))
+          (i32.add (i32.load offset=593920 (i32.shl (local.get $r) (i32.const 2))) (local.get $count))))
+      (else
+        (i32.store offset=331776 (i32.const 0) (local.get $first))
+        (i32.store offset=528384 (i32.const 0) (local.get $last))
+        (i32.store offset=593920 (i32.const 0) (local.get $count))
+        (f64.store offset=397312 (i32.const 0) (f64.const 0))
+        (global.set $runs (i32.const 1))))
+    (f64.store offset=791488 (i32.const 0)
+      (f64.sub (f64.add (f64.load offset=68400 (i32.const 0)) (f64.convert_i32_s (local.get $last))) (f64.const 36))))
+
 ;; The screen's float32 thresholds into SCR (free outside $span): M above `low` may beat the
 ;; gate; V (the bound on the reading) above `lowV` may beat the gate, at most `highV` raises
 ;; neither the maximum nor the open over's largest value.
@@ -745,6 +764,13 @@
               (then (local.set $cheap (i32.const 0))))
             (if (local.get $bits)
               (then
+                ;; All certain overs and nothing pending: one step (frames of a vector are at most 3 apart).
+                (if (i32.and (i32.eq (i32.and (local.get $cheap) (local.get $bits)) (local.get $bits))
+                      (i32.and (i32.ge_s (local.get $rs) (local.get $re)) (f64.ge (f64.load offset=791504 (i32.const 0)) (f64.const 4))))
+                  (then
+                    (call $overs (i32.add (local.get $e) (i32.ctz (local.get $bits)))
+                      (i32.sub (i32.add (local.get $e) (i32.const 31)) (i32.clz (local.get $bits))) (i32.popcnt (local.get $bits)))
+                    (local.set $bits (i32.const 0))))
                 (block $read
                   (loop $lane
                     (br_if $read (i32.eqz (local.get $bits)))
