@@ -847,12 +847,17 @@
               (then
                 (local.set $e0 (i32.add (local.get $start) (i32.const 18)))
                 (local.set $e1 (i32.add (local.get $to) (i32.const 18)))
-                ;; The screen's stage-1 points e0 - 2 .. e1 + 1 (stage 2 reads u[e - 2 .. e + 2]).
-                (local.set $lo (i32.sub (local.get $e0) (i32.const 2)))
-                (if (i32.gt_s (global.get $u32End) (local.get $lo)) (then (local.set $lo (global.get $u32End))))
-                (call $half32 (local.get $lo) (i32.add (local.get $e1) (i32.const 2)))
-                (global.set $u32End (i32.add (local.get $e1) (i32.const 2)))
-                (call $screen (local.get $e0) (local.get $e1) (local.get $tapMax)))
+                ;; The screen's margin holds for taps between 2^-90 and 2^100 (no float32 overflow,
+                ;; underflow far below the margin); other chunks take the exact path whole.
+                (if (i32.and (f64.ge (local.get $tapMax) (f64.const 0x1p-90)) (f64.le (local.get $tapMax) (f64.const 0x1p100)))
+                  (then
+                    ;; The screen's stage-1 points e0 - 2 .. e1 + 1 (stage 2 reads u[e - 2 .. e + 2]).
+                    (local.set $lo (i32.sub (local.get $e0) (i32.const 2)))
+                    (if (i32.gt_s (global.get $u32End) (local.get $lo)) (then (local.set $lo (global.get $u32End))))
+                    (call $half32 (local.get $lo) (i32.add (local.get $e1) (i32.const 2)))
+                    (global.set $u32End (i32.add (local.get $e1) (i32.const 2)))
+                    (call $screen (local.get $e0) (local.get $e1) (local.get $tapMax)))
+                  (else (call $exact (local.get $e0) (local.get $e1)))))
               (else (call $prune (i32.sub (local.get $to) (local.get $start)))))))
         (local.set $before2 (local.get $before1))
         (local.set $before1 (local.get $sampleMax))
