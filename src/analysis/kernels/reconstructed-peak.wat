@@ -613,6 +613,18 @@
         (local.set $from (i32.add (local.get $from) (i32.const 4)))
         (br $quads))))
 
+;; max |UF[m]| for m in [from, to), four a vector (points past `to` only raise it).
+  (func $u32Max (param $from i32) (param $to i32) (result f64)
+    (local $top v128)
+    (block $done
+      (loop $quads
+        (br_if $done (i32.ge_s (local.get $from) (local.get $to)))
+        (local.set $top (f32x4.pmax (local.get $top) (f32x4.abs (v128.load offset=725248 (i32.shl (local.get $from) (i32.const 2))))))
+        (local.set $from (i32.add (local.get $from) (i32.const 4)))
+        (br $quads)))
+    (f64.promote_f32 (f32.max (f32.max (f32x4.extract_lane 0 (local.get $top)) (f32x4.extract_lane 1 (local.get $top)))
+                              (f32.max (f32x4.extract_lane 2 (local.get $top)) (f32x4.extract_lane 3 (local.get $top))))))
+
 ;; Directed rounding of a threshold to float32: the largest float32 <= t (-1 when t <= 0, which
 ;; no |value| is at or below), and the smallest float32 >= t (t > 0).
   (func $down (param $t f64) (result f32)
@@ -856,7 +868,14 @@
                     (if (i32.gt_s (global.get $u32End) (local.get $lo)) (then (local.set $lo (global.get $u32End))))
                     (call $half32 (local.get $lo) (i32.add (local.get $e1) (i32.const 2)))
                     (global.set $u32End (i32.add (local.get $e1) (i32.const 2)))
-                    (call $screen (local.get $e0) (local.get $e1) (local.get $tapMax)))
+                    ;; Stage 2's taps: x of this chunk and the one before, u within the margin of the screen's.
+                    (if (call $mayExceed (f64.mul
+                          (f64.add (f64.max (f64.max (local.get $sampleMax) (local.get $before1))
+                                            (call $u32Max (i32.sub (local.get $e0) (i32.const 2)) (i32.add (local.get $e1) (i32.const 2))))
+                                   (f64.mul (local.get $tapMax) (f64.const 0x1p-15)))
+                          (f64.load offset=68424 (i32.const 0))))
+                      (then (call $screen (local.get $e0) (local.get $e1) (local.get $tapMax)))
+                      (else (call $prune (i32.sub (local.get $to) (local.get $start))))))
                   (else (call $exact (local.get $e0) (local.get $e1)))))
               (else (call $prune (i32.sub (local.get $to) (local.get $start)))))))
         (local.set $before2 (local.get $before1))
