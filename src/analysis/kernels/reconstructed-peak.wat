@@ -694,14 +694,36 @@
     (global.set $uEnd (i32.add (local.get $e1) (i32.const 2)))
     (call $span (local.get $e0) (local.get $e1)))
 
-;; The screen over grid frames [e0, e1), four a vector: M, the largest |grid value| of each frame
-;; (but the shared ends) in float32, is within `margin` of the exact path's (the proof is in
-;; reconstructed-peak.ts). A frame with M <= gate - margin does nothing (the exact path's test
-;; fails); one with M > ceiling + margin and M <= min(maximum, open over's value) / cap - margin,
-;; at most the merge distance after the open over's last frame, is an over that raises nothing
-;; (it is counted with value 0); the rest, in runs of consecutive frames, go to $exact, in frame
-;; order. Thresholds taken before a frame stay valid after it: the maximum, the gate and the open
-;; over's value only rise, and a frame it may join is joined by every over before it.
+;; The screen over grid frames [e0, e1), four a vector, in float32: M, the largest |grid value| of
+;; a frame (but the shared ends), and V, a bound on its reading: a point certainly below a
+;; neighbour (by 3 margins) is not a local maximum and reads itself, any other point at most cap
+;; times itself; the sample, where certainly not a local maximum, reads itself exactly (s1). Per
+;; frame, in frame order:
+;; - nothing, when M <= gate / cap - margin (the exact path's own test fails) or when
+;;   V <= (gate - 2 margin)(1 - 2^-20) and s1 <= gate (the reading is at most the maximum and
+;;   the ceiling, so it changes neither);
+;; - an over with value 0, when M > ceiling + margin (every point reads at least its |g|, so the
+;;   reading is above the ceiling), V and s1 are as low against min(maximum, open over's value),
+;;   and the vector's last frame is at most the merge distance after the open over's last one:
+;;   OverLog then ends in the state the exact value gives;
+;; - else the exact path ($exact), in runs of consecutive frames.
+;; Thresholds are rounded towards the safe side ($down, $up); taken before a frame they stay
+;; valid after it (the maximum, the gate and the open over's value only rise, and a frame that
+;; may join the open over is joined by every over before it).
+;; Why margin = 2^-15 X holds (X = max |x| over the chunk's taps, u = 2^-24; float32 weights are
+;; the float64 ones rounded, relative error u): stage 1 sums 16 terms c[k] (x + x') in k order,
+;; each with three roundings, so |u32 - u| <= gamma_18 * 2 sum|c| X = gamma_18 * 2.5611 X < 47 u X,
+;; and |u| <= 2.5611 X, so |z| <= Z = 2.57 X. Stage 2's sums of four terms w[k] (z + z') round
+;; six times on 2 Z and carry the 47 u X of u: with sum(|s| + |d|) = 1.0653 and sum |h| = 0.7841,
+;; |sa| + |da| and every quarter point are within 1.0653 (12 u Z + 47 u X) + 2 u Z < 89 u X of
+;; their real values, u within 47 u X, x exact: every float32 |g| is within 2^-17 X of the real
+;; one, and the exact path's float64 values are within 2^-40 X of it, so within 2^-16 X of each
+;; other; the margin doubles that. A point the exact path may refine reads at most
+;; fl(|g| * cap) <= (|g32| + margin) cap (1 + 2^-53) <= V (1 + 2^-20) + 2 margin (V from |g32|
+;; times cap rounded up, itself rounded, relative 2^-24). A neighbour above f32(|g32| + 3 margin)
+;; >= |g32| + 2 margin (|g| <= 7 X: that rounding is below 2^-21 X) is above |g| in float64
+;; too, so the exact path does not refine that point. Taps beyond
+;; 2^-90 .. 2^100 (float32 overflow, or underflow near the margin) take the exact path instead.
   (func $screen (param $e0 i32) (param $e1 i32) (param $tapMax f64)
     (local $e i32) (local $p i32) (local $bits i32) (local $cheap i32) (local $moved i32) (local $f i32) (local $rs i32) (local $re i32)
     (local $margin f64) (local $low v128) (local $over v128) (local $lowV v128) (local $highV v128) (local $m v128) (local $m3 v128) (local $v v128) (local $l1 v128) (local $s1 v128) (local $lowX v128) (local $highX v128)
