@@ -445,9 +445,18 @@ describe('ReconstructedPeakMeter: the WebAssembly kernel changes no reading', ()
 describe('ReconstructedPeakMeter: the float32 screen changes no reading', () => {
   const hardLimited = (channels: number, seconds: number, seed: number): Float32Array[] => {
     const ceiling = 10 ** (-1 / 20);
-    const [block] = programmeBlocks({ sampleRate: 48000, channels, seconds, seed, levelDbfs: -16, blockFrames: 1 << 22 });
+    const [block] = programmeBlocks({
+      sampleRate: 48000,
+      channels,
+      seconds,
+      seed,
+      levelDbfs: -16,
+      blockFrames: 1 << 22,
+    });
     // Programme +12 dB into a hard limit at -1 dBFS: clipped runs sit one float32 step below the ceiling.
-    return block.channelData.map((x, c) => x.map((v) => Math.max(-ceiling, Math.min(ceiling, v * (c % 3 === 2 ? 2 : 4)))));
+    return block.channelData.map((x, c) =>
+      x.map((v) => Math.max(-ceiling, Math.min(ceiling, v * (c % 3 === 2 ? 2 : 4)))),
+    );
   };
 
   function expectSame(channels: Float32Array[], options: ReconstructedPeakOptions, sizes: number[], name: string) {
@@ -468,7 +477,9 @@ describe('ReconstructedPeakMeter: the float32 screen changes no reading', () => 
       const x = hardLimited(channels, 1, 40 + channels);
       // 0.05 s merges runs of overs a vector at a time; 0, 2 frames and -1 s take the per-frame path.
       for (const overMergeSeconds of [0.05, 0, 2 / 48000, -1]) {
-        for (const sizes of overMergeSeconds === 0.05 ? [[1 << 20], [16385, 31, 1, 40000], [7, 1000, 333]] : [[7, 1000, 333]]) {
+        for (const sizes of overMergeSeconds === 0.05
+          ? [[1 << 20], [16385, 31, 1, 40000], [7, 1000, 333]]
+          : [[7, 1000, 333]]) {
           const result = expectSame(
             x,
             { overCeilingDbtp: -1, overMergeSeconds, maxEvents: 1e6 },
@@ -491,7 +502,12 @@ describe('ReconstructedPeakMeter: the float32 screen changes no reading', () => 
     for (const reading of picks) {
       for (const nudgeDb of [0, 1e-13, -1e-13]) {
         const overCeilingDbtp = 20 * Math.log10(reading) + nudgeDb;
-        expectSame([x, x.map((v) => -v)], { overCeilingDbtp, maxEvents: 1e6 }, [4097, 13], `ceiling ${overCeilingDbtp}`);
+        expectSame(
+          [x, x.map((v) => -v)],
+          { overCeilingDbtp, maxEvents: 1e6 },
+          [4097, 13],
+          `ceiling ${overCeilingDbtp}`,
+        );
       }
     }
   });
@@ -503,18 +519,26 @@ describe('ReconstructedPeakMeter: the float32 screen changes no reading', () => 
       ['fs/4 at 45 degrees, peak at the ceiling', sine(48000, 12000, ceiling, Math.PI / 4, 24000, 100)],
       ['fs/6 a hair below', sine(48000, 8000, ceiling * (1 - 1e-7), 0.1, 24000, 100)],
       ['0.45 fs a hair above', sine(48000, 0.45 * 48000, ceiling * (1 + 1e-7), 0.2, 24000, 100)],
-      ['clipped 1 kHz', sine(48000, 1000, 2 * ceiling, 0, 24000, 100).map((v) => Math.max(-ceiling, Math.min(ceiling, v)))],
+      [
+        'clipped 1 kHz',
+        sine(48000, 1000, 2 * ceiling, 0, 24000, 100).map((v) => Math.max(-ceiling, Math.min(ceiling, v))),
+      ],
     ];
     for (const [name, x] of signals) {
       for (const overMergeSeconds of [0.05, 0]) {
         for (const sizes of [[1 << 20], [1, 3, 35, 36, 37, 500]]) {
-          expectSame([x], { overCeilingDbtp: -1, overMergeSeconds, maxEvents: 1e6 }, sizes, `${name} ${sizes.join(',')}`);
+          expectSame(
+            [x],
+            { overCeilingDbtp: -1, overMergeSeconds, maxEvents: 1e6 },
+            sizes,
+            `${name} ${sizes.join(',')}`,
+          );
         }
       }
     }
   });
 
-  it('equals the pre-kernel meter where the taps leave the screen\'s range (2^-90 .. 2^100: huge and tiny float samples)', () => {
+  it("equals the pre-kernel meter where the taps leave the screen's range (2^-90 .. 2^100: huge and tiny float samples)", () => {
     const random = seededRandom(61);
     const huge = Float32Array.from({ length: 5000 }, () => (random() - 0.5) * 1e35);
     const tiny = Float32Array.from({ length: 5000 }, () => (random() - 0.5) * 1e-30);
