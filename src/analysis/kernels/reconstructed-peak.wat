@@ -16,7 +16,8 @@
 ;;   ST 68352 f64 slots: 0 maximum, 1 its frame, 2 gate, 3 sample peak, 4 max|history|, 5 pruned
 ;;      frames, 6 position (frames before IN), 7 over ceiling, 8 prune gain, 9 stage-2 prune gain,
 ;;      10 1/cap with margin
-;;   SCR 68448 the slow path's grid values -1..8 of two frames, one f64x2 each
+;;   SCR 68448 the slow path's grid values -1..8 of two frames, one f64x2 each (between $span
+;;      calls, the screen's float32 thresholds)
 ;;   X 68608 f64 x: 36 history frames, then the piece; U 200192 f64 stage-1 points at the same indices
 ;;   OE 331776 i32, OL 528384 i32, ON 593920 i32 and OP 397312 f64: the runs of overs found (first
 ;;      and last X index, count, largest value; overs in a run are at most the merge distance
