@@ -6,9 +6,11 @@ import { describe, expect, it } from 'vitest';
 import {
   gridPhaseKernels,
   HALF_SAMPLE_TAPS,
+  quarterPhaseTaps,
   RECONSTRUCTION_GAIN_BOUND,
   REFINEMENT_CAP,
   ReconstructedPeakMeter,
+  STAGE2_HALF_WIDTH,
   type ReconstructedPeakOptions,
   type ReconstructedPeakResult,
 } from '../../src/analysis/reconstructed-peak.ts';
@@ -443,6 +445,18 @@ describe('ReconstructedPeakMeter: the WebAssembly kernel changes no reading', ()
 });
 
 describe('ReconstructedPeakMeter: the float32 screen changes no reading', () => {
+  it("the sums of |weights| its margin proof uses (kernels/reconstructed-peak.wat) are the filters' own", () => {
+    // Stage 1: sum |c| over the 32 taps; stage 2: sum (|s| + |d|) and sum |h| of the pair weights.
+    expect(2 * HALF_SAMPLE_TAPS.reduce((sum, c) => sum + Math.abs(c), 0)).toBeLessThan(2.5612);
+    const g1 = quarterPhaseTaps(1),
+      g2 = quarterPhaseTaps(2),
+      w = STAGE2_HALF_WIDTH - 1;
+    const pairs = [0, 1, 2, 3];
+    const sd = pairs.reduce((sum, k) => sum + Math.max(Math.abs(g1[w + 1 + k]), Math.abs(g1[w - k])), 0);
+    expect(sd).toBeLessThan(1.0654); // |s| + |d| = max(|g1[w + 1 + k]|, |g1[w - k]|)
+    expect(pairs.reduce((sum, k) => sum + Math.abs(g2[w + 1 + k]), 0)).toBeLessThan(0.7842);
+  });
+
   const hardLimited = (channels: number, seconds: number, seed: number): Float32Array[] => {
     const ceiling = 10 ** (-1 / 20);
     const [block] = programmeBlocks({

@@ -716,7 +716,7 @@
 ;; each with three roundings, so |u32 - u| <= gamma_18 * 2 sum|c| X = gamma_18 * 2.5611 X < 47 u X,
 ;; and |u| <= 2.5611 X, so |z| <= Z = 2.57 X. Stage 2's sums of four terms w[k] (z + z') round
 ;; six times on 2 Z and carry the 47 u X of u: with sum(|s| + |d|) = 1.0653 and sum |h| = 0.7841,
-;; |sa| + |da| and every quarter point are within 1.0653 (12 u Z + 47 u X) + 2 u Z < 89 u X of
+;; |sa| + |da| and every quarter point are within 1.0653 (12 u Z + 47 u X) + 2.2 u Z < 89 u X of
 ;; their real values, u within 47 u X, x exact: every float32 |g| is within 2^-17 X of the real
 ;; one, and the exact path's float64 values are within 2^-40 X of it, so within 2^-16 X of each
 ;; other; the margin doubles that. A point the exact path may refine reads at most
