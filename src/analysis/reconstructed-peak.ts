@@ -39,7 +39,9 @@
 // frames passed the float64 gate; the screen sends 1.6 % to the float64 path and counts 11 % as
 // overs. Measured, 48 kHz stereo, ms per audio minute, pushed alone (own envelope), least of 11
 // alternating rounds in one process on a shared machine, before -> after: hard-limited master
-// 96.5 -> 70.4 (process CPU 96.5 -> 70.4); programme at -20 dBFS 15.1 -> 11.4.
+// 93.5 -> 70.1 (process CPU 92.3 -> 69.9); programme at -20 dBFS 12.5 -> 10.6. With the envelope
+// attached as inside the runner, 2 minutes of the benchmark's programme: CPU 11.4 -> 9.3, so the
+// runner's 5.4 on the 60-minute benchmark file scales to 4.4.
 
 import type { Meter, PcmBlock, StreamInfo } from './audio.ts';
 import { ENVELOPE_CHUNK_FRAMES, EnvelopeBuilder } from './envelope.ts';
