@@ -552,6 +552,23 @@ describe('ReconstructedPeakMeter: the float32 screen changes no reading', () => 
     }
   });
 
+  it('equals the pre-kernel meter where a steady tone (chunks taken whole) and a hard-limited master (screened) alternate', () => {
+    const [limited] = hardLimited(1, 1, 71);
+    const tone = sine(48000, 997, 0.8, 0.4, 30000, 100);
+    const x = new Float32Array(2 * tone.length + limited.length);
+    x.set(tone);
+    x.set(limited, tone.length);
+    x.set(tone, tone.length + limited.length);
+    for (const overCeilingDbtp of [-1, -3])
+      for (const sizes of [[1 << 20], [16385, 31, 1, 40000]])
+        expectSame(
+          [x, x.map((v) => v / 2)],
+          { overCeilingDbtp, maxEvents: 1e6 },
+          sizes,
+          `${overCeilingDbtp} dBTP ${sizes.join(',')}`,
+        );
+  });
+
   it("equals the pre-kernel meter where the taps leave the screen's range (2^-90 .. 2^100: huge and tiny float samples)", () => {
     const random = seededRandom(61);
     const huge = Float32Array.from({ length: 5000 }, () => (random() - 0.5) * 1e35);

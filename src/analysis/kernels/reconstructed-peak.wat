@@ -892,7 +892,7 @@
                 ;; The screen's margin holds for taps between 2^-90 and 2^100 (no float32 overflow,
                 ;; underflow far below the margin); other chunks take the exact path whole.
                 ;; A run sent to the exact path costs about what 25 frames of the screen do, a chunk
-                ;; taken whole about twice the screen's. Where the screen's chunks send more than one
+                ;; taken whole about twice the screen's. Where the screen's chunks send more than 1.5
                 ;; run on average (a steady tone near its maximum: the frames about each peak may
                 ;; beat it), chunks take the exact path whole, the screen reading one in 64 to
                 ;; follow the average; the readings are the same either way.
