@@ -733,7 +733,7 @@
 ;; too, so the exact path does not refine that point. Taps beyond
 ;; 2^-90 .. 2^100 (float32 overflow, or underflow near the margin) take the exact path instead.
   (func $screen (param $e0 i32) (param $e1 i32) (param $tapMax f64)
-    (local $e i32) (local $p i32) (local $bits i32) (local $cheap i32) (local $moved i32) (local $f i32) (local $rs i32) (local $re i32)
+    (local $e i32) (local $p i32) (local $bits i32) (local $cheap i32) (local $moved i32) (local $maxSeen f64) (local $openSeen f64) (local $f i32) (local $rs i32) (local $re i32)
     (local $margin f64) (local $low v128) (local $over v128) (local $lowV v128) (local $highV v128) (local $m v128) (local $m3 v128) (local $v v128) (local $l1 v128) (local $s1 v128) (local $lowX v128) (local $highX v128)
     (local $sa v128) (local $da v128) (local $ya v128) (local $sb v128) (local $db v128) (local $yb v128) (local $q7 v128) (local $last v128)
     (local $g0 v128) (local $g1 v128) (local $g2 v128) (local $g3 v128) (local $g4 v128) (local $g5 v128) (local $g6 v128) (local $g7 v128) (local $g8 v128) (local $g9 v128)
@@ -743,6 +743,8 @@
     (local.set $over (f32x4.splat (call $up (f64.add (f64.load offset=68408 (i32.const 0)) (local.get $margin)))))
     (local.set $m3 (f32x4.splat (f32.demote_f64 (f64.mul (local.get $margin) (f64.const 3)))))
     (call $thresholds (local.get $margin))
+    (local.set $maxSeen (f64.load offset=68352 (i32.const 0)))
+    (local.set $openSeen (f64.load offset=791496 (i32.const 0)))
     (local.set $low (v128.load offset=68448 (i32.const 0)))
     (local.set $lowV (v128.load offset=68464 (i32.const 0)))
     (local.set $highV (v128.load offset=68480 (i32.const 0)))
@@ -804,6 +806,7 @@
                            (f64.load offset=791488 (i32.const 0)))
                   (f64.load offset=791504 (i32.const 0)))
               (then (local.set $cheap (i32.const 0))))
+            (local.set $moved (i32.const 0))
             (if (local.get $bits)
               (then
                 ;; All certain overs and nothing pending: one step (frames of a vector are at most 3 apart).
@@ -832,10 +835,14 @@
                         (local.set $re (i32.add (local.get $f) (i32.const 1)))))
                     (local.set $bits (i32.and (local.get $bits) (i32.sub (local.get $bits) (i32.const 1))))
                     (br $lane)))
-                ;; Only the exact path moves the maximum, the gate and the open over's value.
-                (if (local.get $moved)
+                ;; Only the exact path moves the maximum, the gate and the open over's value, and
+                ;; mostly it moves none of them.
+                (if (i32.and (local.get $moved)
+                      (i32.or (f64.ne (local.get $maxSeen) (f64.load offset=68352 (i32.const 0)))
+                              (f64.ne (local.get $openSeen) (f64.load offset=791496 (i32.const 0)))))
                   (then
-                    (local.set $moved (i32.const 0))
+                    (local.set $maxSeen (f64.load offset=68352 (i32.const 0)))
+                    (local.set $openSeen (f64.load offset=791496 (i32.const 0)))
                     (call $thresholds (local.get $margin))
                     (local.set $low (v128.load offset=68448 (i32.const 0)))
                     (local.set $lowV (v128.load offset=68464 (i32.const 0)))
@@ -897,7 +904,7 @@
                 ;; beat it), chunks take the exact path whole, the screen reading one in 64 to
                 ;; follow the average; the readings are the same either way.
                 (if (i32.and (i32.and (f64.ge (local.get $tapMax) (f64.const 0x1p-90)) (f64.le (local.get $tapMax) (f64.const 0x1p100)))
-                             (i32.or (f64.le (local.get $runRate) (f64.const 1.5)) (i32.eqz (i32.and (local.get $k) (i32.const 63)))))
+                             (i32.or (f64.le (local.get $runRate) (f64.const 1.2)) (i32.eqz (i32.and (local.get $k) (i32.const 31)))))
                   (then
                     (global.set $sent (i32.const 0))
                     ;; The screen's stage-1 points e0 - 2 .. e1 + 1 (stage 2 reads u[e - 2 .. e + 2]).
@@ -913,8 +920,8 @@
                           (f64.load offset=68424 (i32.const 0))))
                       (then (call $screen (local.get $e0) (local.get $e1) (local.get $tapMax)))
                       (else (call $prune (i32.sub (local.get $to) (local.get $start)))))
-                    (local.set $runRate (f64.add (f64.mul (local.get $runRate) (f64.const 0.875))
-                                                 (f64.mul (f64.convert_i32_s (global.get $sent)) (f64.const 0.125)))))
+                    (local.set $runRate (f64.add (f64.mul (local.get $runRate) (f64.const 0.9375))
+                                                 (f64.mul (f64.convert_i32_s (global.get $sent)) (f64.const 0.0625)))))
                   (else (call $exact (local.get $e0) (local.get $e1)))))
               (else (call $prune (i32.sub (local.get $to) (local.get $start)))))))
         (local.set $before2 (local.get $before1))
