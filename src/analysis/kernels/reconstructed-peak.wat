@@ -898,11 +898,11 @@
                 (local.set $e1 (i32.add (local.get $to) (i32.const 18)))
                 ;; The screen's margin holds for taps between 2^-90 and 2^100 (no float32 overflow,
                 ;; underflow far below the margin); other chunks take the exact path whole.
-                ;; A run sent to the exact path costs about what 25 frames of the screen do, a chunk
-                ;; taken whole about twice the screen's. Where the screen's chunks send more than 1.5
-                ;; run on average (a steady tone near its maximum: the frames about each peak may
-                ;; beat it), chunks take the exact path whole, the screen reading one in 64 to
-                ;; follow the average; the readings are the same either way.
+                ;; A run sent to the exact path costs about what 80 frames of the screen do. Where the
+                ;; screen's chunks send more than 1.2 runs on average (over about 16 of them; a steady
+                ;; tone near its maximum, where the frames about each peak may beat it), chunks take
+                ;; the exact path whole, the screen reading one in 32 to follow the average; the
+                ;; readings are the same either way.
                 (if (i32.and (i32.and (f64.ge (local.get $tapMax) (f64.const 0x1p-90)) (f64.le (local.get $tapMax) (f64.const 0x1p100)))
                              (i32.or (f64.le (local.get $runRate) (f64.const 1.2)) (i32.eqz (i32.and (local.get $k) (i32.const 31)))))
                   (then
