@@ -15,7 +15,8 @@
 ;;   C2 68096 stage-2 pair weights s[4], d[4], h[4], then the refinement cap, splatted
 ;;   ST 68352 f64 slots: 0 maximum, 1 its frame, 2 gate, 3 sample peak, 4 max|history|, 5 pruned
 ;;      frames, 6 position (frames before IN), 7 over ceiling, 8 prune gain, 9 stage-2 prune gain,
-;;      10 1/cap with margin
+;;      10 1/cap with margin, 11 the screen's runs to the exact path per chunk, averaged (a
+;;      cost heuristic the channels share)
 ;;   SCR 68448 the slow path's grid values -1..8 of two frames, one f64x2 each (between $span
 ;;      calls, the screen's float32 thresholds)
 ;;   X 68608 f64 x: 36 history frames, then the piece; U 200192 f64 stage-1 points at the same indices
@@ -861,7 +862,7 @@
 ;; else the screen reads it. Returns the runs of overs written.
   (func (export "scan") (param $frames i32) (result i32)
     (local $i i32) (local $k i32) (local $from i32) (local $to i32) (local $start i32) (local $first i32)
-    (local $e0 i32) (local $e1 i32) (local $lo i32) (local $runRate f64)
+    (local $e0 i32) (local $e1 i32) (local $lo i32) (local $runRate f64) (local $w f64)
     (local $sampleMax f64) (local $before1 f64) (local $before2 f64) (local $tapMax f64) (local $h f64)
     (global.set $runs (i32.const 0))
     (global.set $frames (local.get $frames))
@@ -880,6 +881,7 @@
       (then (local.set $first (i32.sub (i32.const 18) (i32.trunc_f64_s (f64.load offset=68400 (i32.const 0)))))))
     (local.set $before1 (f64.load offset=68384 (i32.const 0)))
     (local.set $before2 (local.get $before1))
+    (local.set $runRate (f64.load offset=68440 (i32.const 0)))
     (block $chunksDone
       (loop $chunks
         (br_if $chunksDone (i32.ge_s (local.get $from) (local.get $frames)))
@@ -899,12 +901,13 @@
                 ;; The screen's margin holds for taps between 2^-90 and 2^100 (no float32 overflow,
                 ;; underflow far below the margin); other chunks take the exact path whole.
                 ;; A run sent to the exact path costs about what 80 frames of the screen do. Where the
-                ;; screen's chunks send more than 1.2 runs on average (over about 16 of them; a steady
-                ;; tone near its maximum, where the frames about each peak may beat it), chunks take
-                ;; the exact path whole, the screen reading one in 32 to follow the average; the
+                ;; screen's chunks send more than one run on average (over about 64 of them, slot 11,
+                ;; kept across calls: 1.4 on a steady 997 Hz tone near its maximum, where the frames
+                ;; about each peak may beat it; 0.5 on the hard-limited master), chunks take the
+                ;; exact path whole, the screen reading one in 32 to follow the average; the
                 ;; readings are the same either way.
                 (if (i32.and (i32.and (f64.ge (local.get $tapMax) (f64.const 0x1p-90)) (f64.le (local.get $tapMax) (f64.const 0x1p100)))
-                             (i32.or (f64.le (local.get $runRate) (f64.const 1.2)) (i32.eqz (i32.and (local.get $k) (i32.const 31)))))
+                             (i32.or (f64.le (local.get $runRate) (f64.const 1)) (i32.eqz (i32.and (local.get $k) (i32.const 31)))))
                   (then
                     (global.set $sent (i32.const 0))
                     ;; The screen's stage-1 points e0 - 2 .. e1 + 1 (stage 2 reads u[e - 2 .. e + 2]).
@@ -920,8 +923,10 @@
                           (f64.load offset=68424 (i32.const 0))))
                       (then (call $screen (local.get $e0) (local.get $e1) (local.get $tapMax)))
                       (else (call $prune (i32.sub (local.get $to) (local.get $start)))))
-                    (local.set $runRate (f64.add (f64.mul (local.get $runRate) (f64.const 0.9375))
-                                                 (f64.mul (f64.convert_i32_s (global.get $sent)) (f64.const 0.0625)))))
+                    ;; A probe stands for the 32 chunks since the last: it weighs 1 - (63/64)^32.
+                    (local.set $w (select (f64.const 0.3974) (f64.const 0.015625) (f64.gt (local.get $runRate) (f64.const 1))))
+                    (local.set $runRate (f64.add (f64.mul (local.get $runRate) (f64.sub (f64.const 1) (local.get $w)))
+                                                 (f64.mul (f64.convert_i32_s (global.get $sent)) (local.get $w)))))
                   (else (call $exact (local.get $e0) (local.get $e1)))))
               (else (call $prune (i32.sub (local.get $to) (local.get $start)))))))
         (local.set $before2 (local.get $before1))
@@ -941,5 +946,6 @@
       (local.set $i (i32.add (local.get $i) (i32.const 1)))
       (br_if $history (i32.lt_s (local.get $i) (i32.const 36))))
     (f64.store offset=68384 (i32.const 0) (local.get $h))
+    (f64.store offset=68440 (i32.const 0) (local.get $runRate))
     (global.get $runs))
 )
