@@ -36,12 +36,16 @@
 // test/helpers/reference-meters/reconstructed-peak-baseline.ts and compared in the tests). Overs
 // leave the kernel as runs OverLog.recordRun takes whole. On the hard-limited master (programme
 // +12 dB clipped at -1 dBFS, clipped runs one float32 step below the ceiling) a quarter of the
-// frames passed the float64 gate; the screen sends 1.6 % to the float64 path and counts 11 % as
-// overs. Measured, 48 kHz stereo, ms per audio minute, pushed alone (own envelope), least of 11
-// alternating rounds in one process on a shared machine, before -> after: hard-limited master
-// 93.5 -> 70.1 (process CPU 92.3 -> 69.9); programme at -20 dBFS 12.5 -> 10.6. With the envelope
-// attached as inside the runner, 2 minutes of the benchmark's programme: CPU 11.4 -> 9.3, so the
-// runner's 5.4 on the 60-minute benchmark file scales to 4.4.
+// frames pass the float64 gate; the screen sends 1.6 % to the float64 path and counts 11 % as
+// overs. Where it would send more than one run per chunk on average (a steady tone near its
+// maximum) the kernel takes chunks whole on the float64 path instead, probing with the screen.
+// Measured, 48 kHz stereo, ms per audio minute, pushed alone (own envelope), least of 15
+// alternating rounds in one process on a shared machine (load average 5-8), before -> after:
+// hard-limited master 103.8 -> 81.1 (process CPU 96.2 -> 80.9; medians 124.0 -> 98.7; 93.5 ->
+// 70.1 before the tone fallback, at lower load); 997 Hz tone at 0.89 FS 93.2 -> 87.7; programme at
+// -20 dBFS 19.0 -> 15.5 (CPU 17.7 -> 14.9). With the envelope attached as inside the runner, 2
+// minutes of the benchmark's programme: CPU 11.2 -> 8.7 (11.4 -> 9.3 in another run), so the
+// runner's 5.4 on the 60-minute benchmark file scales to about 4.4.
 
 import type { Meter, PcmBlock, StreamInfo } from './audio.ts';
 import { ENVELOPE_CHUNK_FRAMES, EnvelopeBuilder } from './envelope.ts';
