@@ -26,7 +26,7 @@
 // times the cascade's largest per-phase sum |h| (times the cap) cannot beat both the running
 // maximum and the over ceiling, max|x| coming from the block envelope; the first test over a
 // whole 16384-frame piece skips the kernel call and the copy into its memory; after the screen's
-// stage 1, the same test on max|z| (within its margin) with stage 2's gain. A chunk it reads goes
+// stage 1, the same test on max|z| (within its margin) with stage 2's gain. A chunk not skipped goes
 // through a float32 screen (both stages, four frames a vector, within a margin of 2^-15
 // max|x| that the kernel's comment proves): a frame that cannot beat the maximum or the ceiling
 // does nothing; one that is certainly an over and can raise neither the maximum nor the open
