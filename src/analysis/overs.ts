@@ -53,6 +53,11 @@ export class OverLog {
     this.open[channel] = { startFrame, lastFrame, count, peak };
   }
 
+  /** A channel's open over (its last frame and largest value so far), if any. */
+  openOver(channel: number): Readonly<Pick<OpenOver, 'lastFrame' | 'peak'>> | null {
+    return this.open[channel];
+  }
+
   private close(channel: number): void {
     const open = this.open[channel];
     if (!open) return;

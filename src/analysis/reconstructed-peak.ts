@@ -22,18 +22,30 @@
 // not read. Grid points at the samples are the samples, so it never reads below the sample peak.
 //
 // Speed (all exact): a WebAssembly SIMD kernel (kernels/reconstructed-peak.wat) runs the chunk
-// loop, both stages and the refinement; f64x2 lanes hold two neighbouring outputs, each with the
-// scalar loop's arithmetic in its order, so every reading equals the JavaScript meter's to the
-// bit (kept as test/helpers/reference-meters/reconstructed-peak-baseline.ts and compared in the
-// tests). A 32-frame chunk is skipped when max|x over its taps| times the cascade's largest
-// per-phase sum |h| (times the cap) cannot beat both the running maximum and the over ceiling,
-// max|x| coming from the block envelope; after stage 1 the same test on max|z| with stage 2's
-// gain; inside a chunk a frame is refined (parabolas) only when cap * max|grid value| beats the
-// gate. The first test over a whole 16384-frame piece skips the kernel call and the copy into
-// its memory; samples become Float64 only where stage 1 reads them. Measured, 48 kHz stereo, ms
-// per audio minute, pushed alone (own envelope), alternating runs: a hard-limited master 89
-// (the Annex 2 meter 79, the JavaScript meter 156); ordinary programme 12.0 (12.2, 26); inside
-// the runner on the 60-minute benchmark file 5.4 (4.9, 14).
+// loop, both stages and the refinement. A 32-frame chunk is skipped when max|x over its taps|
+// times the cascade's largest per-phase sum |h| (times the cap) cannot beat both the running
+// maximum and the over ceiling, max|x| coming from the block envelope; the first test over a
+// whole 16384-frame piece skips the kernel call and the copy into its memory; after the screen's
+// stage 1, the same test on max|z| (within its margin) with stage 2's gain. A chunk not skipped goes
+// through a float32 screen (both stages, four frames a vector, within a margin of 2^-15
+// max|x| that the kernel's comment proves): a frame that cannot beat the maximum or the ceiling
+// does nothing; one that is certainly an over and can raise neither the maximum nor the open
+// over's largest value is counted as an over; only the rest get the float64 path, whose f64x2
+// lanes hold two neighbouring outputs with the scalar loop's arithmetic in its order, so every
+// reading and over equals the JavaScript meter's to the bit (kept as
+// test/helpers/reference-meters/reconstructed-peak-baseline.ts and compared in the tests). Overs
+// leave the kernel as runs OverLog.recordRun takes whole. On the hard-limited master (programme
+// +12 dB clipped at -1 dBFS, clipped runs one float32 step below the ceiling) a quarter of the
+// frames pass the float64 gate; the screen sends 1.6 % to the float64 path and counts 11 % as
+// overs. Where it would send more than one run per chunk on average (a steady tone near its
+// maximum) the kernel takes chunks whole on the float64 path instead, probing with the screen.
+// Measured, 48 kHz stereo, ms per audio minute, pushed alone (own envelope), least of 15
+// alternating rounds in one process on a shared machine (load average 5-8), before -> after:
+// hard-limited master 103.8 -> 81.1 (process CPU 96.2 -> 80.9; medians 124.0 -> 98.7; 93.5 ->
+// 70.1 before the tone fallback, at lower load); 997 Hz tone at 0.89 FS 93.2 -> 87.7; programme at
+// -20 dBFS 19.0 -> 15.5 (CPU 17.7 -> 14.9). With the envelope attached as inside the runner, 2
+// minutes of the benchmark's programme: CPU 11.2 -> 8.7 (11.4 -> 9.3 in another run), so the
+// runner's 5.4 on the 60-minute benchmark file scales to about 4.4.
 
 import type { Meter, PcmBlock, StreamInfo } from './audio.ts';
 import { ENVELOPE_CHUNK_FRAMES, EnvelopeBuilder } from './envelope.ts';
@@ -176,6 +188,8 @@ export class ReconstructedPeakMeter implements Meter<ReconstructedPeakResult> {
   private readonly kernel: ReconstructionKernel;
   private readonly envelopes = new EnvelopeBuilder();
   private readonly overLog: OverLog;
+  /** Overs at most this many frames after the open over's last one join it (OverLog's rule). */
+  private readonly mergeLimitFrames: number;
   private position = 0;
   private final: ReconstructedPeakResult | null = null;
 
@@ -187,12 +201,14 @@ export class ReconstructedPeakMeter implements Meter<ReconstructedPeakResult> {
     this.slots = new Float64Array(info.channels * CHANNEL_SLOTS);
     this.histories = new Float64Array(info.channels * HISTORY);
     this.overLog = new OverLog('reconstructed_over', info.channels, info.sampleRate, mergeFrames, options.maxEvents);
+    this.mergeLimitFrames = mergeFrames + 1;
     // Pair k joins z[j + 1 + k] and z[j - k]: halved sums and differences of the mirrored taps.
     const g1 = quarterPhaseTaps(1),
       g2 = quarterPhaseTaps(2);
     const w = STAGE2_HALF_WIDTH - 1;
     this.kernel = new ReconstructionKernel({
       stage1: STAGE1_FULL,
+      halfTaps: Float64Array.from(HALF_SAMPLE_TAPS),
       s: Float64Array.from({ length: 4 }, (_, k) => 0.5 * (g1[w + 1 + k] + g1[w - k])),
       d: Float64Array.from({ length: 4 }, (_, k) => 0.5 * (g1[w + 1 + k] - g1[w - k])),
       h: Float64Array.from({ length: 4 }, (_, k) => g2[w + 1 + k]),
@@ -239,9 +255,15 @@ export class ReconstructedPeakMeter implements Meter<ReconstructedPeakResult> {
         kernel.input.set(x.subarray(from, from + n));
         kernel.chunkMax.set(chunkMax.subarray(chunk0, chunkEnd));
         state[SLOT.position] = at;
-        const overs = kernel.scan(n);
-        for (let i = 0; i < overs; i++)
-          this.overLog.record(c, at + kernel.overIndices[i] - HISTORY, kernel.overPeaks[i]);
+        const open = this.overLog.openOver(c);
+        kernel.openOver[0] = open ? open.lastFrame : -1e300;
+        kernel.openOver[1] = open ? open.peak : 0;
+        kernel.openOver[2] = this.mergeLimitFrames;
+        const runs = kernel.scan(n);
+        for (let i = 0; i < runs; i++) {
+          const first = at + kernel.runFirst[i] - HISTORY;
+          this.overLog.recordRun(c, first, at + kernel.runLast[i] - HISTORY, kernel.runCount[i], kernel.runPeak[i]);
+        }
       }
       slots.set(state.subarray(0, CHANNEL_SLOTS));
       history.set(kernel.history);

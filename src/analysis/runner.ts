@@ -92,7 +92,7 @@ export const METERS: { readonly [K in MeterName]: MeterDescriptor<Measurements[K
   },
   reconstructedPeak: {
     create: (info, o) => new ReconstructedPeakMeter(info, o.reconstructedPeak),
-    costMsPerMinute: 5.4,
+    costMsPerMinute: 4.4,
     readsEnvelope: true,
     events: { kinds: ['reconstructed_over'], countOrder: 1 },
   },

@@ -6,9 +6,11 @@ import { describe, expect, it } from 'vitest';
 import {
   gridPhaseKernels,
   HALF_SAMPLE_TAPS,
+  quarterPhaseTaps,
   RECONSTRUCTION_GAIN_BOUND,
   REFINEMENT_CAP,
   ReconstructedPeakMeter,
+  STAGE2_HALF_WIDTH,
   type ReconstructedPeakOptions,
   type ReconstructedPeakResult,
 } from '../../src/analysis/reconstructed-peak.ts';
@@ -21,7 +23,10 @@ import {
   frameReadings,
   ReconstructedPeakMeter as PlainMeter,
 } from '../helpers/reference-meters/reconstructed-peak.ts';
-import { ReconstructedPeakMeter as PreKernelMeter } from '../helpers/reference-meters/reconstructed-peak-baseline.ts';
+import {
+  baselineReadings,
+  ReconstructedPeakMeter as PreKernelMeter,
+} from '../helpers/reference-meters/reconstructed-peak-baseline.ts';
 import { BLOCK_CUTS, cut, expectClose, testSignals } from '../helpers/test-signals.ts';
 import { hasTool } from '../helpers/tools.ts';
 
@@ -436,5 +441,139 @@ describe('ReconstructedPeakMeter: the WebAssembly kernel changes no reading', ()
       expect(result.eventsTotal).toBe(2 * 20000);
       expect(result.prunedFrames).toBe(0);
     }
+  });
+});
+
+describe('ReconstructedPeakMeter: the float32 screen changes no reading', () => {
+  it("the sums of |weights| its margin proof uses (kernels/reconstructed-peak.wat) are the filters' own", () => {
+    // Stage 1: sum |c| over the 32 taps; stage 2: sum (|s| + |d|) and sum |h| of the pair weights.
+    expect(2 * HALF_SAMPLE_TAPS.reduce((sum, c) => sum + Math.abs(c), 0)).toBeLessThan(2.5612);
+    const g1 = quarterPhaseTaps(1),
+      g2 = quarterPhaseTaps(2),
+      w = STAGE2_HALF_WIDTH - 1;
+    const pairs = [0, 1, 2, 3];
+    const sd = pairs.reduce((sum, k) => sum + Math.max(Math.abs(g1[w + 1 + k]), Math.abs(g1[w - k])), 0);
+    expect(sd).toBeLessThan(1.0654); // |s| + |d| = max(|g1[w + 1 + k]|, |g1[w - k]|)
+    expect(pairs.reduce((sum, k) => sum + Math.abs(g2[w + 1 + k]), 0)).toBeLessThan(0.7842);
+  });
+
+  const hardLimited = (channels: number, seconds: number, seed: number): Float32Array[] => {
+    const ceiling = 10 ** (-1 / 20);
+    const [block] = programmeBlocks({
+      sampleRate: 48000,
+      channels,
+      seconds,
+      seed,
+      levelDbfs: -16,
+      blockFrames: 1 << 22,
+    });
+    // Programme +12 dB into a hard limit at -1 dBFS: clipped runs sit one float32 step below the ceiling.
+    return block.channelData.map((x, c) =>
+      x.map((v) => Math.max(-ceiling, Math.min(ceiling, v * (c % 3 === 2 ? 2 : 4)))),
+    );
+  };
+
+  function expectSame(channels: Float32Array[], options: ReconstructedPeakOptions, sizes: number[], name: string) {
+    const stream = info(channels.length);
+    const optimised = new ReconstructedPeakMeter(stream, options),
+      before = new PreKernelMeter(stream, options);
+    for (const block of cut(channels, sizes)) {
+      optimised.push(block);
+      before.push(block);
+    }
+    const result = optimised.result();
+    expect({ ...result, prunedFrames: 0 }, name).toEqual({ ...before.result(), prunedFrames: 0 });
+    return result;
+  }
+
+  it('equals the pre-kernel meter on a hard-limited master: 1, 2 and 6 channels, odd blocks, merge distances that take each path', () => {
+    for (const channels of [1, 2, 6]) {
+      const x = hardLimited(channels, 1, 40 + channels);
+      // 0.05 s merges runs of overs a vector at a time; 0, 2 frames and -1 s take the per-frame path.
+      for (const overMergeSeconds of [0.05, 0, 2 / 48000, -1]) {
+        for (const sizes of overMergeSeconds === 0.05
+          ? [[1 << 20], [16385, 31, 1, 40000], [7, 1000, 333]]
+          : [[7, 1000, 333]]) {
+          const result = expectSame(
+            x,
+            { overCeilingDbtp: -1, overMergeSeconds, maxEvents: 1e6 },
+            sizes,
+            `${channels} ch, merge ${overMergeSeconds} s, ${sizes.join(',')}`,
+          );
+          expect(result.eventsTotal).toBeGreaterThan(0);
+        }
+      }
+    }
+  });
+
+  it('equals the pre-kernel meter with the ceiling within a few ulps of frame readings (tiny margins either side)', () => {
+    const [x] = hardLimited(1, 1, 51);
+    const readings = baselineReadings(x);
+    // The largest readings, and readings just above the clip level, as ceilings: dBTP and back to
+    // amplitude lands within a few ulps of the reading, on either side.
+    const sorted = Array.from(readings).sort((a, b) => b - a);
+    const picks = [sorted[0], sorted[1], sorted[100], sorted[Math.floor(sorted.length * 0.1)], 10 ** (-1 / 20)];
+    for (const reading of picks) {
+      for (const nudgeDb of [0, 1e-13, -1e-13]) {
+        const overCeilingDbtp = 20 * Math.log10(reading) + nudgeDb;
+        expectSame(
+          [x, x.map((v) => -v)],
+          { overCeilingDbtp, maxEvents: 1e6 },
+          [4097, 13],
+          `ceiling ${overCeilingDbtp}`,
+        );
+      }
+    }
+  });
+
+  it('equals the pre-kernel meter on sines whose peaks sit at the gate (amplitude at the ceiling, samples clipped one float32 step below it)', () => {
+    const ceiling = 10 ** (-1 / 20);
+    const signals: [string, Float32Array][] = [
+      ['997 Hz at the ceiling', sine(48000, 997, ceiling, 0.3, 24000, 100)],
+      ['fs/4 at 45 degrees, peak at the ceiling', sine(48000, 12000, ceiling, Math.PI / 4, 24000, 100)],
+      ['fs/6 a hair below', sine(48000, 8000, ceiling * (1 - 1e-7), 0.1, 24000, 100)],
+      ['0.45 fs a hair above', sine(48000, 0.45 * 48000, ceiling * (1 + 1e-7), 0.2, 24000, 100)],
+      [
+        'clipped 1 kHz',
+        sine(48000, 1000, 2 * ceiling, 0, 24000, 100).map((v) => Math.max(-ceiling, Math.min(ceiling, v))),
+      ],
+    ];
+    for (const [name, x] of signals) {
+      for (const overMergeSeconds of [0.05, 0]) {
+        for (const sizes of [[1 << 20], [1, 3, 35, 36, 37, 500]]) {
+          expectSame(
+            [x],
+            { overCeilingDbtp: -1, overMergeSeconds, maxEvents: 1e6 },
+            sizes,
+            `${name} ${sizes.join(',')}`,
+          );
+        }
+      }
+    }
+  });
+
+  it('equals the pre-kernel meter where a steady tone (chunks taken whole) and a hard-limited master (screened) alternate', () => {
+    const [limited] = hardLimited(1, 1, 71);
+    const tone = sine(48000, 997, 0.8, 0.4, 30000, 100);
+    const x = new Float32Array(2 * tone.length + limited.length);
+    x.set(tone);
+    x.set(limited, tone.length);
+    x.set(tone, tone.length + limited.length);
+    for (const overCeilingDbtp of [-1, -3])
+      for (const sizes of [[1 << 20], [16385, 31, 1, 40000]])
+        expectSame(
+          [x, x.map((v) => v / 2)],
+          { overCeilingDbtp, maxEvents: 1e6 },
+          sizes,
+          `${overCeilingDbtp} dBTP ${sizes.join(',')}`,
+        );
+  });
+
+  it("equals the pre-kernel meter where the taps leave the screen's range (2^-90 .. 2^100: huge and tiny float samples)", () => {
+    const random = seededRandom(61);
+    const huge = Float32Array.from({ length: 5000 }, () => (random() - 0.5) * 1e35);
+    const tiny = Float32Array.from({ length: 5000 }, () => (random() - 0.5) * 1e-30);
+    for (const overCeilingDbtp of [-1, 700, -700])
+      expectSame([huge, tiny], { overCeilingDbtp, maxEvents: 1e6 }, [1000, 4001], `${overCeilingDbtp} dBTP`);
   });
 });

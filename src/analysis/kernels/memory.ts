@@ -19,6 +19,12 @@ export const KERNEL_MEMORY = {
     U: 200192,
     OE: 331776,
     OP: 397312,
+    OL: 528384,
+    ON: 593920,
+    XF: 659456,
+    UF: 725248,
+    W: 791040,
+    OV: 791488,
   },
   'true-peak': { IN: 0, ENV: 65600, C: 67648, ST: 68032, OE: 68096, OP: 133632, W: 264704, OL: 265216 },
 } as const satisfies Record<string, Record<string, number>>;
