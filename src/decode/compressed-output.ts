@@ -61,7 +61,7 @@ export class OutputCheck {
       const n = Math.min(frames - at, this.blockFrames - this.filled);
       for (let c = 0; c < channels.length; c++) {
         const from = channels[c].subarray(at, at + n);
-        if (this.flacScale) requantizeInto(this.pending[c], this.filled, from, this.flacScale);
+        if (this.flacScale && !r.exactScale) requantizeInto(this.pending[c], this.filled, from, this.flacScale);
         else this.pending[c].set(from, this.filled);
       }
       this.filled += n;
