@@ -4,6 +4,7 @@
 // loops never test for the end, the decoder checks after each partition and subframe whether it
 // has read past `end`, and then reports the frame incomplete (the caller waits for more input).
 import { CRC8_TABLE, crc16 } from './crc.ts';
+import { LPC_TAPS, lpcFloat64, lpcFloat64Taps, lpcInt32, lpcInt32Taps } from './lpc.ts';
 
 /** Slack after the valid bytes: one partition's worst case overrun (65535 samples of at most 50 bits) and more. */
 export const OVERRUN_BYTES = 512 * 1024;
@@ -234,7 +235,12 @@ export class FlacFrameDecoder {
     // |sum| <= sumAbs * 2^(bits-1) when every earlier sample fits `bits` (a valid stream): under
     // 2^31 the 32-bit sum is exact. Otherwise the sum in float64: |coef| <= 2^14 (15 bits),
     // |sample| <= 2^31, 32 terms: |sum| <= 2^(14+31+5) = 2^50 < 2^53, every partial sum exact.
-    if (sumAbs * 2 ** (bits - 1) < 2 ** 31) lpcInt32(x, n, coefs, order, shift);
+    const int32 = sumAbs * 2 ** (bits - 1) < 2 ** 31;
+    if (order <= LPC_TAPS) {
+      coefs.fill(0, order, LPC_TAPS);
+      if (int32) lpcInt32Taps(x, n, coefs, order, shift);
+      else lpcFloat64Taps(x, n, coefs, order, shift);
+    } else if (int32) lpcInt32(x, n, coefs, order, shift);
     else lpcFloat64(x, n, coefs, order, shift);
     return FRAME_OK;
   }
@@ -362,24 +368,6 @@ function riceFast(b: Uint8Array, pos: number, x: Int32Array, i: number, to: numb
     x[i] = (u >>> 1) ^ -(u & 1);
   }
   return p;
-}
-
-function lpcInt32(x: Int32Array, n: number, c: Int32Array, order: number, shift: number): void {
-  for (let i = order; i < n; i++) {
-    let sum = 0;
-    for (let j = 0; j < order; j++) sum = (sum + Math.imul(c[j], x[i - 1 - j])) | 0;
-    x[i] = (x[i] + (sum >> shift)) | 0;
-  }
-}
-
-function lpcFloat64(x: Int32Array, n: number, c: Int32Array, order: number, shift: number): void {
-  const scale = 2 ** -shift;
-  for (let i = order; i < n; i++) {
-    let sum = 0;
-    for (let j = 0; j < order; j++) sum += c[j] * x[i - 1 - j];
-    // sum * 2^-shift is exact (a power of two), so the floor is the arithmetic shift.
-    x[i] = (x[i] + Math.floor(sum * scale)) | 0;
-  }
 }
 
 /** Inter-channel decorrelation (RFC 9639 section 4.2), in place. */
