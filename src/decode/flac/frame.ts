@@ -4,7 +4,7 @@
 // loops never test for the end, the decoder checks after each partition and subframe whether it
 // has read past `end`, and then reports the frame incomplete (the caller waits for more input).
 import { CRC8_TABLE, crc16 } from './crc.ts';
-import { LPC_TAPS, lpcFloat64, lpcFloat64Taps, lpcInt32, lpcInt32Taps } from './lpc.ts';
+import { lpcLoop } from './lpc.ts';
 
 /** Slack after the valid bytes: one partition's worst case overrun (65535 samples of at most 50 bits) and more. */
 export const OVERRUN_BYTES = 512 * 1024;
@@ -235,13 +235,9 @@ export class FlacFrameDecoder {
     // |sum| <= sumAbs * 2^(bits-1) when every earlier sample fits `bits` (a valid stream): under
     // 2^31 the 32-bit sum is exact. Otherwise the sum in float64: |coef| <= 2^14 (15 bits),
     // |sample| <= 2^31, 32 terms: |sum| <= 2^(14+31+5) = 2^50 < 2^53, every partial sum exact.
-    const int32 = sumAbs * 2 ** (bits - 1) < 2 ** 31;
-    if (order <= LPC_TAPS) {
-      coefs.fill(0, order, LPC_TAPS);
-      if (int32) lpcInt32Taps(x, n, coefs, order, shift);
-      else lpcFloat64Taps(x, n, coefs, order, shift);
-    } else if (int32) lpcInt32(x, n, coefs, order, shift);
-    else lpcFloat64(x, n, coefs, order, shift);
+    const { loop, taps } = lpcLoop(order, sumAbs * 2 ** (bits - 1) < 2 ** 31);
+    coefs.fill(0, order, taps);
+    loop(x, n, coefs, order, shift);
     return FRAME_OK;
   }
 
