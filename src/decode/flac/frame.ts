@@ -71,6 +71,8 @@ export class FlacFrameDecoder {
   problem = '';
 
   private buf: Uint8Array = new Uint8Array(0);
+  /** Over `buf`: one big-endian 32-bit load where the Rice loop would take four byte loads. */
+  private view: DataView = new DataView(new ArrayBuffer(0));
   private pos = 0; // bit position in buf
   private endBits = 0;
   private readonly coefs = new Int32Array(32);
@@ -79,7 +81,10 @@ export class FlacFrameDecoder {
 
   /** Decodes the frame whose header starts at byte `o`; valid bytes end at `end`, slack follows. */
   decode(b: Uint8Array, o: number, end: number): FrameResult {
-    this.buf = b;
+    if (b !== this.buf) {
+      this.buf = b;
+      this.view = new DataView(b.buffer, b.byteOffset, b.byteLength);
+    }
     this.endBits = end * 8;
     this.pos = o * 8;
     const headerBytes = frameHeaderBytes(b, o, end);
@@ -264,7 +269,7 @@ export class FlacFrameDecoder {
           const u = this.readUnary(0xffffffff);
           x[i] = u % 2 ? -(u + 1) / 2 : u / 2;
         }
-      } else if (k <= 24) this.pos = riceFast(this.buf, this.pos, x, i, to, k, this);
+      } else if (k <= 24) this.pos = riceFast(this.view, this.pos, x, i, to, k, this);
       else {
         for (; i < to; i++) {
           const u = this.readUnary(0xffffffff >>> k) * 2 ** k + this.readBits(k);
@@ -335,12 +340,11 @@ export class FlacFrameDecoder {
  * the low bits. Returns the new bit position. A unary run that overflows the loaded word (a
  * residual of 2^24 or more: rare) takes the reader's general path.
  */
-function riceFast(b: Uint8Array, pos: number, x: Int32Array, i: number, to: number, k: number, r: FlacFrameDecoder): number {
+function riceFast(v: DataView, pos: number, x: Int32Array, i: number, to: number, k: number, r: FlacFrameDecoder): number {
   let p = pos;
   const kShift = 32 - k;
   for (; i < to; i++) {
-    let at = p >>> 3;
-    const w = ((b[at] << 24) | (b[at + 1] << 16) | (b[at + 2] << 8) | b[at + 3]) << (p & 7);
+    const w = v.getInt32(p >>> 3) << (p & 7);
     let q = Math.clz32(w);
     let low: number;
     // The word holds 32 - (p & 7) >= 25 valid bits.
@@ -349,8 +353,7 @@ function riceFast(b: Uint8Array, pos: number, x: Int32Array, i: number, to: numb
       p += q + 1 + k;
     } else if (q < 25) {
       p += q + 1;
-      at = p >>> 3;
-      low = (((b[at] << 24) | (b[at + 1] << 16) | (b[at + 2] << 8) | b[at + 3]) << (p & 7)) >>> kShift;
+      low = (v.getInt32(p >>> 3) << (p & 7)) >>> kShift;
       p += k;
     } else {
       r.setPos(p);
