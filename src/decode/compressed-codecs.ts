@@ -10,6 +10,8 @@ export interface CodecOutput {
   errors?: readonly { message: string }[];
   /** Samples are already integer / 2^(bits-1) (our FLAC decoder): OutputCheck does not requantize them. */
   exactScale?: boolean;
+  /** Every |sample| is at most 1: OutputCheck skips its level check. */
+  withinFullScale?: boolean;
 }
 
 export interface Codec {

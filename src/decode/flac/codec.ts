@@ -36,6 +36,8 @@ export class FlacCodec implements Codec {
   private sampleRate = 0;
   private errors: { message: string }[] = [];
   private framesBefore = 0;
+  /** A sample of this output is beyond full scale (a damaged stream whose CRC still matched). */
+  private overFullScale = false;
 
   decode(data: Uint8Array): CodecOutput {
     this.append(data);
@@ -209,7 +211,14 @@ export class FlacCodec implements Codec {
         this.out[c] = o = grown;
       }
       const x = f.channels[c];
-      for (let i = 0; i < n; i++) o[at + i] = x[i] * scale;
+      // |x| (less one when negative) ORed: under 2^(bits-1) means every sample within full scale.
+      let magnitudes = 0;
+      for (let i = 0; i < n; i++) {
+        const v = x[i];
+        magnitudes |= v ^ (v >> 31);
+        o[at + i] = v * scale;
+      }
+      if (magnitudes >= 2 ** (f.bits - 1)) this.overFullScale = true;
     }
     this.outFrames = at + n;
     this.sampleRate = f.sampleRate;
@@ -218,6 +227,8 @@ export class FlacCodec implements Codec {
   private output(): CodecOutput {
     const frames = this.outFrames;
     const errors = this.errors;
+    const over = this.overFullScale;
+    this.overFullScale = false;
     this.framesBefore += frames;
     this.outFrames = 0;
     this.errors = [];
@@ -227,6 +238,7 @@ export class FlacCodec implements Codec {
       samplesDecoded: frames,
       errors,
       exactScale: true,
+      withinFullScale: !over,
     };
   }
 }
