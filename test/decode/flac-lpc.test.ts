@@ -47,7 +47,9 @@ describe('FLAC LPC loops', () => {
         // encoder could send, so the residuals of a smooth signal stay within 32 bits.
         const shift = Math.min(precision - 3, (order * 3 + sampleBits) % 16);
         const noise = randomInts(order, Math.max(1, shift - 2), order * 13 + sampleBits);
-        const coefs = noise.map((e, j) => e + (j === 0 ? (order === 1 ? 1 : 2) * 2 ** shift : j === 1 ? -(2 ** shift) : 0));
+        const coefs = noise.map(
+          (e, j) => e + (j === 0 ? (order === 1 ? 1 : 2) * 2 ** shift : j === 1 ? -(2 ** shift) : 0),
+        );
         const residuals = lpcResiduals(samples, coefs, shift);
         if (residuals.some((r) => Math.abs(r) >= 2 ** 31)) continue; // not a valid stream
         const expected = lpcRestore(residuals, coefs, shift);

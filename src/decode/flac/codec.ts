@@ -86,7 +86,8 @@ export class FlacCodec implements Codec {
         if (avail < 10 && !final) return;
         if (avail >= 10 && b[s] === 0x49 && b[s + 1] === 0x44 && b[s + 2] === 0x33) {
           // ID3v2 before the stream: syncsafe size, plus a footer when flagged.
-          const size = ((b[s + 6] & 0x7f) << 21) | ((b[s + 7] & 0x7f) << 14) | ((b[s + 8] & 0x7f) << 7) | (b[s + 9] & 0x7f);
+          const size =
+            ((b[s + 6] & 0x7f) << 21) | ((b[s + 7] & 0x7f) << 14) | ((b[s + 8] & 0x7f) << 7) | (b[s + 9] & 0x7f);
           this.skipBytes = 10 + size + (b[s + 5] & 0x10 ? 10 : 0);
           continue;
         }
@@ -201,7 +202,8 @@ export class FlacCodec implements Codec {
     const n = f.blockSize;
     if (!this.channels) this.channels = f.channelCount;
     const at = this.outFrames;
-    if (this.out.length !== f.channelCount) this.out = Array.from({ length: f.channelCount }, () => new Float32Array(0));
+    if (this.out.length !== f.channelCount)
+      this.out = Array.from({ length: f.channelCount }, () => new Float32Array(0));
     const scale = 2 ** -(f.bits - 1);
     for (let c = 0; c < f.channelCount; c++) {
       let o = this.out[c];

@@ -251,7 +251,7 @@ export class FlacFrameDecoder {
     const method = this.readBits(2);
     if (method > 1) return this.bad('reserved residual coding method');
     const paramBits = method === 0 ? 4 : 5;
-    const escape = method === 0 ? 15 : 31;
+    const escapeCode = method === 0 ? 15 : 31;
     const partitionOrder = this.readBits(4);
     const partitions = 1 << partitionOrder;
     const per = n >> partitionOrder;
@@ -260,7 +260,7 @@ export class FlacFrameDecoder {
     for (let part = 0; part < partitions; part++) {
       const to = (part + 1) * per;
       const k = this.readBits(paramBits);
-      if (k === escape) {
+      if (k === escapeCode) {
         const width = this.readBits(5);
         if (width === 0) x.fill(0, i, to);
         else for (; i < to; i++) x[i] = this.readSigned(width);
@@ -340,7 +340,15 @@ export class FlacFrameDecoder {
  * the low bits. Returns the new bit position. A unary run that overflows the loaded word (a
  * residual of 2^24 or more: rare) takes the reader's general path.
  */
-function riceFast(v: DataView, pos: number, x: Int32Array, i: number, to: number, k: number, r: FlacFrameDecoder): number {
+function riceFast(
+  v: DataView,
+  pos: number,
+  x: Int32Array,
+  i: number,
+  to: number,
+  k: number,
+  r: FlacFrameDecoder,
+): number {
   let p = pos;
   const kShift = 32 - k;
   for (; i < to; i++) {
