@@ -2,6 +2,7 @@
 // (test/helpers/flac-lpc-reference.ts, RFC 9639 section 9.2.6), for every order 1 to 32, both
 // arithmetics, coefficient precisions up to 15 bits and samples up to 32 bits.
 import { describe, expect, it } from 'vitest';
+import { crc16, crc16Bytewise } from '../../src/decode/flac/crc.ts';
 import { lpcFloat64, lpcInt32, lpcLoop } from '../../src/decode/flac/lpc.ts';
 import { lpcResiduals, lpcRestore } from '../helpers/flac-lpc-reference.ts';
 
@@ -14,6 +15,22 @@ function randomInts(count: number, bits: number, seed: number): number[] {
     return Math.floor(u * 2 ** bits) - 2 ** (bits - 1);
   });
 }
+
+describe('FLAC CRC-16', () => {
+  it('four bytes at a time equals one byte at a time, at every length and offset', () => {
+    const b = Uint8Array.from(randomInts(300, 8, 5), (v) => v & 0xff);
+    for (let from = 0; from < 5; from++)
+      for (let to = from; to <= b.length; to += 7) expect(crc16(b, from, to)).toBe(crc16Bytewise(b, from, to));
+  });
+
+  it('of a message followed by its CRC is 0 (RFC 9639 section 9.3)', () => {
+    const b = Uint8Array.from(randomInts(100, 8, 6), (v) => v & 0xff);
+    const c = crc16Bytewise(b, 0, 98);
+    b[98] = c >> 8;
+    b[99] = c & 0xff;
+    expect(crc16(b, 0, 100)).toBe(0);
+  });
+});
 
 describe('FLAC LPC loops', () => {
   it('the BigInt reference restores what it predicted', () => {

@@ -14,17 +14,25 @@ export const CRC16_TABLE = Uint16Array.from({ length: 256 }, (_, i) => {
   return c & 0xffff;
 });
 
-// Slicing by two: the table for a byte followed by one more (its CRC shifted through 8 zero bits).
-const CRC16_TABLE_HI = Uint16Array.from(CRC16_TABLE, (c) => ((c << 8) & 0xffff) ^ CRC16_TABLE[c >> 8]);
+/** CRC-16 of b[from, to), one byte at a time: the definition the tables below speed up. */
+export function crc16Bytewise(b: Uint8Array, from: number, to: number): number {
+  let c = 0;
+  for (let i = from; i < to; i++) c = ((c << 8) & 0xffff) ^ CRC16_TABLE[(c >> 8) ^ b[i]];
+  return c;
+}
+
+// Slicing by four: T[k][v] is the CRC of byte v followed by k zero bytes; the CRC is linear, so
+// four bytes take four independent lookups.
+const zeroByte = (t: Uint16Array): Uint16Array => t.map((c) => ((c << 8) & 0xffff) ^ CRC16_TABLE[c >> 8]);
+const T1 = zeroByte(CRC16_TABLE);
+const T2 = zeroByte(T1);
+const T3 = zeroByte(T2);
 
 /** CRC-16 of b[from, to). */
 export function crc16(b: Uint8Array, from: number, to: number): number {
   let c = 0;
   let i = from;
-  for (; i + 1 < to; i += 2) {
-    const x = c ^ ((b[i] << 8) | b[i + 1]);
-    c = CRC16_TABLE_HI[x >> 8] ^ CRC16_TABLE[x & 0xff];
-  }
-  if (i < to) c = ((c << 8) & 0xffff) ^ CRC16_TABLE[(c >> 8) ^ b[i]];
+  for (; i + 3 < to; i += 4) c = T3[(c >> 8) ^ b[i]] ^ T2[(c & 0xff) ^ b[i + 1]] ^ T1[b[i + 2]] ^ CRC16_TABLE[b[i + 3]];
+  for (; i < to; i++) c = ((c << 8) & 0xffff) ^ CRC16_TABLE[(c >> 8) ^ b[i]];
   return c;
 }
