@@ -206,22 +206,27 @@ export class FlacCodec implements Codec {
       this.out = Array.from({ length: f.channelCount }, () => new Float32Array(0));
     const scale = 2 ** -(f.bits - 1);
     for (let c = 0; c < f.channelCount; c++) {
-      let o = this.out[c];
-      if (o.length < at + n) {
-        const grown = new Float32Array(Math.max(at + n, o.length * 2, 16384));
-        grown.set(o.subarray(0, at));
-        this.out[c] = o = grown;
+      if (this.out[c].length < at + n) {
+        const grown = new Float32Array(Math.max(at + n, this.out[c].length * 2, 16384));
+        grown.set(this.out[c].subarray(0, at));
+        this.out[c] = grown;
       }
-      const x = f.channels[c];
-      // |x| (less one when negative) ORed: under 2^(bits-1) means every sample within full scale.
-      let magnitudes = 0;
-      for (let i = 0; i < n; i++) {
-        const v = x[i];
-        magnitudes |= v ^ (v >> 31);
-        o[at + i] = v * scale;
-      }
-      if (magnitudes >= 2 ** (f.bits - 1)) this.overFullScale = true;
     }
+    // |sample| (less one when negative) ORed: under 2^(bits-1) means every sample within full scale.
+    let magnitudes = 0;
+    if (f.assignment >= 8)
+      magnitudes = stereoOut(f.channels[0], f.channels[1], f.assignment, n, this.out[0], this.out[1], at, scale);
+    else
+      for (let c = 0; c < f.channelCount; c++) {
+        const x = f.channels[c];
+        const o = this.out[c];
+        for (let i = 0; i < n; i++) {
+          const v = x[i];
+          magnitudes |= v ^ (v >> 31);
+          o[at + i] = v * scale;
+        }
+      }
+    if (magnitudes >= 2 ** (f.bits - 1)) this.overFullScale = true;
     this.outFrames = at + n;
     this.sampleRate = f.sampleRate;
   }
@@ -243,4 +248,52 @@ export class FlacCodec implements Codec {
       withinFullScale: !over,
     };
   }
+}
+
+/**
+ * Undoes the stereo coding (RFC 9639 section 4.2) while writing the scaled output: one pass over
+ * the pair. Returns the ORed magnitudes (see emit).
+ */
+function stereoOut(
+  a: Int32Array,
+  b: Int32Array,
+  assignment: number,
+  n: number,
+  left: Float32Array,
+  right: Float32Array,
+  at: number,
+  scale: number,
+): number {
+  let m = 0;
+  if (assignment === 8) {
+    // left, side: right = left - side
+    for (let i = 0; i < n; i++) {
+      const l = a[i];
+      const r = (l - b[i]) | 0;
+      m |= (l ^ (l >> 31)) | (r ^ (r >> 31));
+      left[at + i] = l * scale;
+      right[at + i] = r * scale;
+    }
+  } else if (assignment === 9) {
+    // side, right: left = side + right
+    for (let i = 0; i < n; i++) {
+      const r = b[i];
+      const l = (a[i] + r) | 0;
+      m |= (l ^ (l >> 31)) | (r ^ (r >> 31));
+      left[at + i] = l * scale;
+      right[at + i] = r * scale;
+    }
+  } else {
+    // mid, side
+    for (let i = 0; i < n; i++) {
+      const side = b[i];
+      const mid = (a[i] << 1) | (side & 1);
+      const l = (mid + side) >> 1;
+      const r = (mid - side) >> 1;
+      m |= (l ^ (l >> 31)) | (r ^ (r >> 31));
+      left[at + i] = l * scale;
+      right[at + i] = r * scale;
+    }
+  }
+  return m;
 }

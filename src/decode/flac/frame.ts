@@ -58,11 +58,17 @@ function codedNumberExtra(lead: number): number {
 }
 
 export class FlacFrameDecoder {
-  /** Per channel, the frame's samples (after decorrelation, before scaling). */
+  /**
+   * Per channel, the frame's subframes: for assignments 8 to 10 (RFC 9639 section 4.2) the
+   * stereo pair still coded as left/side, side/right or mid/side (the caller undoes it in the
+   * pass that writes its output, codec.ts).
+   */
   readonly channels: Int32Array[] = [];
   // The frame just decoded.
   blockSize = 0;
   channelCount = 0;
+  /** Channel assignment code: 0 to 7 independent channels, 8 to 10 a coded stereo pair. */
+  assignment = 0;
   bits = 0;
   sampleRate = 0;
   /** Byte offset just past the frame (its CRC-16) after FRAME_OK. */
@@ -131,7 +137,7 @@ export class FlacFrameDecoder {
     if (crcAt + 2 > end) return FRAME_INCOMPLETE;
     if (crc16(b, o, crcAt) !== ((b[crcAt] << 8) | b[crcAt + 1])) return this.bad('frame CRC-16 mismatch');
     this.frameEnd = crcAt + 2;
-    if (assignment >= 8) decorrelate(this.channels[0], this.channels[1], blockSize, assignment);
+    this.assignment = assignment;
     return FRAME_OK;
   }
 
@@ -375,22 +381,4 @@ function riceFast(
     x[i] = (u >>> 1) ^ -(u & 1);
   }
   return p;
-}
-
-/** Inter-channel decorrelation (RFC 9639 section 4.2), in place. */
-function decorrelate(a: Int32Array, b: Int32Array, n: number, assignment: number): void {
-  if (assignment === 8) {
-    // left, side: right = left - side
-    for (let i = 0; i < n; i++) b[i] = (a[i] - b[i]) | 0;
-  } else if (assignment === 9) {
-    // side, right: left = side + right
-    for (let i = 0; i < n; i++) a[i] = (a[i] + b[i]) | 0;
-  } else {
-    for (let i = 0; i < n; i++) {
-      const side = b[i];
-      const mid = (a[i] << 1) | (side & 1);
-      a[i] = (mid + side) >> 1;
-      b[i] = (mid - side) >> 1;
-    }
-  }
 }
