@@ -6,7 +6,10 @@
 import { CRC8_TABLE, crc16 } from './crc.ts';
 import { lpcLoop } from './lpc.ts';
 
-/** Slack after the valid bytes: one partition's worst case overrun (65535 samples of at most 50 bits) and more. */
+/**
+ * Slack after the valid bytes: one partition's worst overrun in the Rice loop's fast path (65535
+ * samples of at most 49 bits: 402 KB); its slow path stops once past the end.
+ */
 export const OVERRUN_BYTES = 512 * 1024;
 
 export const FRAME_OK = 0;
@@ -288,6 +291,10 @@ export class FlacFrameDecoder {
     return FRAME_OK;
   }
 
+  pastEnd(): boolean {
+    return this.pos > this.endBits;
+  }
+
   getPos(): number {
     return this.pos;
   }
@@ -375,6 +382,8 @@ function riceFast(
       const u = q * 2 ** k + r.readBits(k);
       x[i] = u % 2 ? -(u + 1) / 2 : u / 2;
       p = r.getPos();
+      // Past the valid bytes (zero runs of stale slack take this path): stop within the slack.
+      if (r.pastEnd()) return p;
       continue;
     }
     const u = (q << k) | low;
