@@ -8,6 +8,10 @@ export interface CodecOutput {
   /** Valid frames when the arrays are longer than the output. */
   samplesDecoded?: number;
   errors?: readonly { message: string }[];
+  /** Samples are already integer / 2^(bits-1) (our FLAC decoder): OutputCheck does not requantize them. */
+  exactScale?: boolean;
+  /** Every |sample| is at most 1: OutputCheck skips its level check. */
+  withinFullScale?: boolean;
 }
 
 export interface Codec {
@@ -18,7 +22,8 @@ export interface Codec {
 
 /** The decoder packages by the name a probe gives (Probe.codec). */
 const CODECS = {
-  flac: async () => (await import('@audio/decode-flac')).decoder(),
+  flac: async () => new (await import('./flac/codec.ts')).FlacCodec(),
+  oggflac: async () => (await import('@audio/decode-flac')).decoder(),
   mp3: async () => (await import('@audio/decode-mp3')).decoder(),
   mp4: async () => (await import('@audio/decode-mp4')).decoder(),
   aac: async () => (await import('@audio/decode-aac')).decoder(),

@@ -1,6 +1,8 @@
-// Native FLAC input, cut into the slices the decoder package is given one decode() call at a time.
+// Native FLAC input, cut into the slices the decoder (flac/codec.ts) is given one decode() call at
+// a time.
 //
-// Two reasons. The package's frame splitter tests for the next frame header once, with the bytes
+// Two reasons; the first was the decoder package's, which native FLAC no longer uses (our decoder
+// holds a cut frame until its bytes are all there), and costs nothing to keep. The package's frame splitter tests for the next frame header once, with the bytes
 // it holds: a header cut by the end of one decode() input fails that test for want of bytes, its
 // running CRC-16 moves past the sync code, and the next call never looks there again, so two
 // frames reach libFLAC as one and the second one's samples are lost (a 6-hour silent file lost

@@ -46,7 +46,7 @@ export class OutputCheck {
     if (!data.length || frames <= 0) return;
     const channels = this.reconcile(data);
     this.checkRate(r.sampleRate);
-    this.checkLevels(channels, frames);
+    if (!r.withinFullScale) this.checkLevels(channels, frames);
     if ((this.framesOut + this.filled + frames) * this.probe.channels * 4 > this.maxDecodedBytes) {
       throw new EarmarkError('decoded_size_exceeded', `decoded audio exceeds the cap of ${this.maxDecodedBytes} bytes`);
     }
@@ -61,7 +61,7 @@ export class OutputCheck {
       const n = Math.min(frames - at, this.blockFrames - this.filled);
       for (let c = 0; c < channels.length; c++) {
         const from = channels[c].subarray(at, at + n);
-        if (this.flacScale) requantizeInto(this.pending[c], this.filled, from, this.flacScale);
+        if (this.flacScale && !r.exactScale) requantizeInto(this.pending[c], this.filled, from, this.flacScale);
         else this.pending[c].set(from, this.filled);
       }
       this.filled += n;

@@ -40,7 +40,7 @@ async function probeOgg(path: string, head: Uint8Array, fileBytes: number): Prom
   } else if (ascii(head, p, 5) === '\x7fFLAC' && ascii(head, p + 9, 4) === 'fLaC') {
     const s = flacStreamInfo(head, p + 17);
     info = {
-      codec: 'flac',
+      codec: 'oggflac',
       encoding: 'flac',
       channels: s.channels,
       sampleRate: s.sampleRate,
