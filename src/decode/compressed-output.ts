@@ -12,7 +12,8 @@ const GARBAGE_PEAK = 3.98;
 
 export class OutputCheck {
   framesOut = 0;
-  private pending: Float32Array[] = [];
+  /** The block being filled; null until the first frames after an emitted block arrive. */
+  private pending: Float32Array[] | null = null;
   private filled = 0;
   private restoredWarned = false;
   private finalErrors: string[] = [];
@@ -26,9 +27,10 @@ export class OutputCheck {
     private readonly maxDecodedBytes: number,
     /** Cap on decoded frames for every file, checked before each output is taken. */
     private readonly maxFrames = Infinity,
+    /** Arrays the consumer offers for the next block (DecodeOptions.blockArrays). */
+    private readonly blockArrays?: () => readonly Float32Array[] | null,
   ) {
     this.flacScale = probe.encoding === 'flac' && probe.bitsPerSample ? 2 ** (probe.bitsPerSample - 1) : 0;
-    this.fresh();
   }
 
   /** `final`: this output came from the last input bytes or the flush, where a cut file shows up. */
@@ -59,10 +61,11 @@ export class OutputCheck {
     }
     for (let at = 0; at < frames; ) {
       const n = Math.min(frames - at, this.blockFrames - this.filled);
+      const pending = (this.pending ??= this.nextArrays());
       for (let c = 0; c < channels.length; c++) {
         const from = channels[c].subarray(at, at + n);
-        if (this.flacScale && !r.exactScale) requantizeInto(this.pending[c], this.filled, from, this.flacScale);
-        else this.pending[c].set(from, this.filled);
+        if (this.flacScale && !r.exactScale) requantizeInto(pending[c], this.filled, from, this.flacScale);
+        else pending[c].set(from, this.filled);
       }
       this.filled += n;
       at += n;
@@ -124,16 +127,25 @@ export class OutputCheck {
   private readonly flacScale: number;
 
   private emit(): PcmBlock {
-    const block: PcmBlock = { channelData: this.pending.map((c) => c.subarray(0, this.filled)), frames: this.filled };
+    const pending = this.pending ?? [];
+    const block: PcmBlock = { channelData: pending.map((c) => c.subarray(0, this.filled)), frames: this.filled };
     this.framesOut += this.filled;
-    this.fresh();
+    this.pending = null;
+    this.filled = 0;
     return block;
   }
 
-  // Fresh arrays per block: consumers may keep blocks, and decoder arrays may be reused views.
-  private fresh(): void {
-    this.pending = Array.from({ length: this.probe.channels }, () => new Float32Array(this.blockFrames));
-    this.filled = 0;
+  /**
+   * The consumer's arrays when it offers them: asked only once the emitted block has been taken
+   * (the generator resumes after the consumer's next()), as the PCM streamer does. Else fresh
+   * arrays per block: consumers may keep blocks, and decoder arrays may be reused views.
+   */
+  private nextArrays(): Float32Array[] {
+    const offered = this.blockArrays?.();
+    if (offered && offered.length === this.probe.channels && offered.every((a) => a.length >= this.blockFrames)) {
+      return offered.map((a) => (a.length === this.blockFrames ? a : a.subarray(0, this.blockFrames)));
+    }
+    return Array.from({ length: this.probe.channels }, () => new Float32Array(this.blockFrames));
   }
 
   private reconcile(data: Float32Array[]): Float32Array[] {

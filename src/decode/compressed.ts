@@ -109,6 +109,7 @@ async function openCompressed(
     warnings,
     p.wholeFile ? maxDecodedBytes : Infinity,
     Math.floor(maxDecodedSeconds * p.sampleRate),
+    options.blockArrays,
   );
   return {
     format,

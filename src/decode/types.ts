@@ -95,8 +95,10 @@ export interface DecodeOptions {
   maxBlockFrames?: number;
   /**
    * Arrays to decode the next block into, offered by the consumer (the parallel runner's shared
-   * ring) to save a copy; asked once per block, null for the decoder's own. Only the PCM streamer
-   * writes in place; other decoders ignore it.
+   * ring, or one reused set on one thread) to save a copy and an allocation per block; asked once
+   * per block, after the previous block was taken; null for the decoder's own. The PCM streamer
+   * and the compressed decoders' output write in place; the arrays must stay untouched by the
+   * consumer until it asks for the next block.
    */
   blockArrays?: () => readonly Float32Array[] | null;
   /** Cap on decoded PCM bytes (as float32) for decoders that cannot stream. Default 2 GiB. */

@@ -45,10 +45,19 @@ async function digest(fileHash: FileHash, path: string): Promise<string | undefi
 
 export async function analyzeFile(path: string, options: AnalyzeFileOptions = {}): Promise<AnalysisDocument> {
   const started = performance.now();
+  const maxBlockFrames = options.decode?.maxBlockFrames ?? DEFAULT_MAX_BLOCK_FRAMES;
   const fileHash = options.knownSha256 === undefined && options.hash !== false ? new FileHash(path) : null;
-  // With threads the decoder writes each block straight into the runner's shared ring.
+  // With threads the decoder writes each block straight into the runner's shared ring; on one
+  // thread into one reused set, since the runner is done with a block when push returns.
   let runner: AnalysisRunner | ParallelAnalysisRunner | null = null;
-  const blockArrays = () => (runner instanceof ParallelAnalysisRunner ? runner.nextBlockArrays() : null);
+  let reused: Float32Array[] | null = null;
+  const blockArrays = (): readonly Float32Array[] | null => {
+    if (runner instanceof ParallelAnalysisRunner) return runner.nextBlockArrays();
+    if (runner === null) return null;
+    const { channels } = runner.info;
+    reused ??= Array.from({ length: channels }, () => new Float32Array(maxBlockFrames));
+    return reused;
+  };
   const onBytes = fileHash?.onBytes;
   const decoded = await openAudioFile(path, { ...options.decode, blockArrays, ...(onBytes ? { onBytes } : {}) });
   const { format } = decoded;
@@ -59,7 +68,6 @@ export async function analyzeFile(path: string, options: AnalyzeFileOptions = {}
     ...(format.frames ? { expectedFrames: format.frames } : {}),
   };
   const threads = threadsFor(options.threads, format);
-  const maxBlockFrames = options.decode?.maxBlockFrames ?? DEFAULT_MAX_BLOCK_FRAMES;
   if (threads > 1) {
     const decodeCostMsPerMinute = decodeCostFor(format, (await stat(path)).size, fileHash !== null);
     runner = new ParallelAnalysisRunner(info, options.analysis, threads, { maxBlockFrames, decodeCostMsPerMinute });
