@@ -23,7 +23,7 @@ import { randomBytes } from 'node:crypto';
 import { createReadStream, existsSync, openAsBlob, statSync } from 'node:fs';
 import { Agent as HttpAgent, request as httpRequest } from 'node:http';
 import { mkdir, rename, stat } from 'node:fs/promises';
-import { tmpdir } from 'node:os';
+import { loadavg, tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { writeWavFile } from '../src/encode/wav.ts';
 import { programmeBlocks } from '../src/selftest/signals.ts';
@@ -34,6 +34,10 @@ const cacheDir = process.env.BENCH_DIR ?? join(tmpdir(), 'earmark-bench');
 const files = Number(process.env.BENCH_SERVICE_FILES ?? 200);
 const cliRuns = Number(process.env.BENCH_SERVICE_CLI_RUNS ?? 10);
 const latencyRuns = Number(process.env.BENCH_SERVICE_LATENCY_RUNS ?? 20);
+const latencyPollMs = Number(process.env.BENCH_SERVICE_POLL_MS ?? 5);
+const longRuns = Number(process.env.BENCH_SERVICE_LONG_RUNS ?? 3);
+const longMinutes = Number(process.env.BENCH_SERVICE_LONG_MINUTES ?? 10);
+const withIngest = process.env.BENCH_SERVICE_INGEST !== '0';
 const sampleRate = 48000;
 const basePrefix = `bsvc${randomBytes(4).toString('hex')}`;
 const key = `bench-${randomBytes(12).toString('hex')}`;
@@ -136,6 +140,8 @@ const keepAlive = new HttpAgent({ keepAlive: true, maxSockets: 8 });
 
 interface View {
   state: string;
+  createdAt: string;
+  startedAt: string | null;
   finishedAt: string | null;
 }
 async function view(url: string, id: string): Promise<View> {
@@ -150,10 +156,10 @@ async function report(url: string, id: string): Promise<void> {
 }
 
 /** Wall time of one CLI analysis process (bench/analyze-once.ts, bundled as the CLI runs after `npm run build`). */
-function cliRun(file: string): Promise<number> {
+function cliRun(file: string, threads = 1): Promise<number> {
   return new Promise((resolve, reject) => {
     const started = performance.now();
-    const child = spawn(process.execPath, ['dist/analyze-once.mjs', file, '1'], {
+    const child = spawn(process.execPath, ['dist/analyze-once.mjs', file, String(threads)], {
       stdio: ['ignore', 'ignore', 'inherit'],
     });
     child.on('error', reject);
@@ -167,25 +173,135 @@ const percentile = (values: number[], p: number) => {
   const sorted = [...values].sort((a, b) => a - b);
   return sorted[Math.min(sorted.length - 1, Math.max(0, Math.ceil((p / 100) * sorted.length) - 1))];
 };
+const median = (values: number[]) => percentile(values, 50);
+const loadAverage = () => loadavg()[0].toFixed(2);
 
 const rows: string[][] = [];
 const row = (what: string, ours: string, reference: string, ratio: string, goal: string) =>
   rows.push([what, ours, reference, ratio, goal]);
 
-async function throughputAndLatency(oneMinute: string, thirtySeconds: string): Promise<void> {
-  // Reference first, on an idle machine: the CLI over the same file, serially.
-  await cliRun(oneMinute); // page cache and tsx cache warm
+/** Submits, then polls every `pollMs` until the job ends; its view. */
+async function runJob(url: string, path: string, name: string, pollMs: number): Promise<View & { id: string }> {
+  const id = await submitFile(url, path, name);
+  for (;;) {
+    const v = await view(url, id);
+    if (v.state === 'completed') return { ...v, id };
+    if (v.state === 'failed') throw new Error(`${name} failed`);
+    await sleep(pollMs);
+  }
+}
+const jobSeconds = (v: View) => (Date.parse(v.finishedAt ?? '') - Date.parse(v.startedAt ?? '')) / 1000;
+
+/** Target 1: `files` one-minute WAVs through one worker process, first submit to last finished. */
+async function throughput(service: Service, oneMinute: string, cliPerFile: number): Promise<void> {
+  const started = Date.now();
+  const t0 = performance.now();
+  const ids: string[] = [];
+  let next = 0;
+  const client = async () => {
+    while (next < files) {
+      next += 1;
+      ids.push(await submitFile(service.url, oneMinute, 'one-minute.wav'));
+    }
+  };
+  await Promise.all(Array.from({ length: 4 }, client));
+  const submitSeconds = (performance.now() - t0) / 1000;
+  const pending = new Set(ids);
+  let lastFinished = 0;
+  let failed = 0;
+  while (pending.size > 0) {
+    await sleep(250);
+    for (const id of [...pending]) {
+      const v = await view(service.url, id);
+      if (v.state === 'completed' || v.state === 'failed') {
+        pending.delete(id);
+        if (v.state === 'failed') failed += 1;
+        lastFinished = Math.max(lastFinished, Date.parse(v.finishedAt ?? new Date().toISOString()));
+      }
+    }
+  }
+  await report(service.url, ids[ids.length - 1]);
+  const wall = (lastFinished - started) / 1000;
+  const reference = cliPerFile * files;
+  console.log(
+    `throughput: ${files} jobs submitted in ${submitSeconds.toFixed(1)} s; last finished ${wall.toFixed(1)} s after the first submit; failed ${failed}; load ${loadAverage()}`,
+  );
+  row(
+    `${files} x 1-min stereo WAV, one worker process (s)`,
+    wall.toFixed(1),
+    `${reference.toFixed(1)} CLI 1 thr`,
+    `${(reference / wall).toFixed(2)}x`,
+    '>= 1.8x',
+  );
+}
+
+/** Target 2: one long file, queue otherwise empty; job time against the CLI on one and on two threads. */
+async function longFile(service: Service, long: string, minutes: number): Promise<void> {
+  const ours: number[] = [];
+  const cli1: number[] = [];
+  const cli2: number[] = [];
+  for (let i = 0; i < longRuns; i++) {
+    cli1.push(await cliRun(long, 1));
+    ours.push(jobSeconds(await runJob(service.url, long, 'long.wav', 20)));
+    cli2.push(await cliRun(long, 2));
+  }
+  const f = (xs: number[]) => xs.map((x) => x.toFixed(2)).join(' ');
+  console.log(
+    `long file (${minutes} min), ${longRuns} alternating runs, s: job ${f(ours)}; CLI 1 thread ${f(cli1)}; CLI 2 threads ${f(cli2)}; load ${loadAverage()}`,
+  );
+  row(
+    `${minutes}-min WAV alone, job start to finish (s)`,
+    median(ours).toFixed(2),
+    `${median(cli1).toFixed(2)} CLI 1 thr`,
+    `${(median(cli1) / median(ours)).toFixed(2)}x`,
+    `> 1x (CLI 2 thr: ${(median(cli1) / median(cli2)).toFixed(2)}x)`,
+  );
+}
+
+/** Target 3: sequential 30-second jobs, submit to report read. */
+async function latency(service: Service, thirtySeconds: string): Promise<void> {
+  const latencies: number[] = [];
+  // Where the time goes, per job: to the 202, queued, running (worker's start to its commit), then seen and read.
+  const parts: number[][] = [[], [], [], []];
+  for (let i = 0; i < latencyRuns; i++) {
+    const t = performance.now();
+    const submitted = Date.now();
+    const done = await runJob(service.url, thirtySeconds, 'thirty-seconds.wav', latencyPollMs);
+    await report(service.url, done.id);
+    latencies.push(performance.now() - t);
+    const [created, startedAt, finished] = [done.createdAt, done.startedAt, done.finishedAt].map((x) =>
+      Date.parse(x ?? ''),
+    );
+    parts[0].push(created - submitted);
+    parts[1].push(startedAt - created);
+    parts[2].push(finished - startedAt);
+    parts[3].push(submitted + latencies[i] - finished);
+  }
+  console.log(
+    `latency medians, ms: submit to job created ${median(parts[0])}, queued ${median(parts[1])}, running ${median(parts[2])}, finished to report read ${median(parts[3]).toFixed(0)}`,
+  );
+  const p50 = percentile(latencies, 50);
+  const p95 = percentile(latencies, 95);
+  console.log(
+    `latency: ${latencyRuns} sequential 30-s jobs (polled every ${latencyPollMs} ms), ms: ${latencies.map((x) => x.toFixed(0)).join(' ')}; load ${loadAverage()}`,
+  );
+  row('submit-to-report, 30-s file, p50 (ms)', p50.toFixed(0), '150', (p50 / 150).toFixed(2), '<= 150 ms');
+  row('submit-to-report, 30-s file, p95 (ms)', p95.toFixed(0), '', '', 'reported');
+}
+
+async function serviceTargets(oneMinute: string, thirtySeconds: string, long: string, minutes: number): Promise<void> {
+  // Reference first, on an idle machine: the CLI over the same file, serially, one thread.
+  await cliRun(oneMinute); // page cache warm
   const cli: number[] = [];
   for (let i = 0; i < cliRuns; i++) cli.push(await cliRun(oneMinute));
-  const cliTotal = cli.reduce((a, b) => a + b, 0);
-  const reference = (cliTotal * (files / cliRuns)) / 2;
+  const cliPerFile = median(cli);
   console.log(
-    `CLI: ${cliRuns} serial runs of bench/analyze-once.ts on the 1-minute file: ${cliTotal.toFixed(2)} s (median ${percentile(cli, 50).toFixed(2)} s); x${files / cliRuns} for ${files} files, / 2 = ${reference.toFixed(1)} s`,
+    `CLI: ${cliRuns} serial runs of bench/analyze-once.ts on the 1-minute file, one thread: median ${cliPerFile.toFixed(3)} s (${cli.map((x) => x.toFixed(3)).join(' ')}); load ${loadAverage()}`,
   );
 
-  const service = await startService(basePrefix, 2);
+  const service = await startService(basePrefix, 1);
   try {
-    // Warm each worker's sandboxed child (two jobs at once, so both workers take one) before the clock starts.
+    // Warm the worker's sandboxed children (two jobs at once) before the clock starts.
     const warm = await Promise.all([
       submitFile(service.url, oneMinute, 'warm.wav'),
       submitFile(service.url, oneMinute, 'warm.wav'),
@@ -196,68 +312,11 @@ async function throughputAndLatency(oneMinute: string, thirtySeconds: string): P
       120_000,
       100,
     );
-
-    const started = Date.now();
-    const t0 = performance.now();
-    const ids: string[] = [];
-    let next = 0;
-    const client = async () => {
-      while (next < files) {
-        next += 1;
-        ids.push(await submitFile(service.url, oneMinute, 'one-minute.wav'));
-      }
-    };
-    await Promise.all(Array.from({ length: 4 }, client));
-    const submitSeconds = (performance.now() - t0) / 1000;
-    const pending = new Set(ids);
-    let lastFinished = 0;
-    let failed = 0;
-    while (pending.size > 0) {
-      await sleep(250);
-      for (const id of [...pending]) {
-        const v = await view(service.url, id);
-        if (v.state === 'completed' || v.state === 'failed') {
-          pending.delete(id);
-          if (v.state === 'failed') failed += 1;
-          lastFinished = Math.max(lastFinished, Date.parse(v.finishedAt ?? new Date().toISOString()));
-        }
-      }
-    }
-    await report(service.url, ids[ids.length - 1]);
-    const observed = (performance.now() - t0) / 1000;
-    const wall = (lastFinished - started) / 1000;
+    if (files > 0) await throughput(service, oneMinute, cliPerFile);
+    if (latencyRuns > 0) await latency(service, thirtySeconds);
+    if (longRuns > 0) await longFile(service, long, minutes);
     console.log(
-      `service: ${files} jobs submitted in ${submitSeconds.toFixed(1)} s; last finished ${wall.toFixed(1)} s after the first submit (observed by polling ${observed.toFixed(1)} s); failed ${failed}`,
-    );
-    row(
-      `${files} x 1-min stereo WAV, 2 workers (s)`,
-      wall.toFixed(1),
-      `${reference.toFixed(1)} CLI/2`,
-      (wall / reference).toFixed(2),
-      '< 1.2',
-    );
-
-    // Latency, warm workers: one job at a time.
-    const latencies: number[] = [];
-    for (let i = 0; i < latencyRuns; i++) {
-      const t = performance.now();
-      const id = await submitFile(service.url, thirtySeconds, 'thirty-seconds.wav');
-      for (;;) {
-        const v = await view(service.url, id);
-        if (v.state === 'completed') break;
-        if (v.state === 'failed') throw new Error('latency job failed');
-        await sleep(20);
-      }
-      await report(service.url, id);
-      latencies.push(performance.now() - t);
-    }
-    const p50 = percentile(latencies, 50);
-    const p95 = percentile(latencies, 95);
-    console.log(`latency: ${latencyRuns} sequential 30-s jobs, ms: ${latencies.map((x) => x.toFixed(0)).join(' ')}`);
-    row('submit-to-report, 30-s file, p50 (ms)', p50.toFixed(0), '300', (p50 / 300).toFixed(2), '<= 300 ms');
-    row('submit-to-report, 30-s file, p95 (ms)', p95.toFixed(0), '', '', 'reported');
-    console.log(
-      `peak RSS: API ${peakRssMib(service.api.pid)?.toFixed(0)} MiB, workers ${service.workers.map((w) => peakRssMib(w.pid)?.toFixed(0)).join(' / ')} MiB`,
+      `peak RSS: API ${peakRssMib(service.api.pid)?.toFixed(0)} MiB, worker ${service.workers.map((w) => peakRssMib(w.pid)?.toFixed(0)).join(' / ')} MiB`,
     );
   } finally {
     await service.close();
@@ -346,11 +405,16 @@ async function main(): Promise<void> {
     throw new Error('npm run build failed');
   const oneMinute = await wavFile('programme-1min-48k-stereo-24bit.wav', 60);
   const thirtySeconds = await wavFile('programme-0.5min-48k-stereo-24bit.wav', 30);
+  const long = await wavFile(`programme-${longMinutes}min-48k-stereo-24bit.wav`, longMinutes * 60);
+
+  await serviceTargets(oneMinute, thirtySeconds, long, longMinutes);
+  if (withIngest) await ingestRows();
+  printRows();
+}
+
+async function ingestRows(): Promise<void> {
   const mid = await wavFile('programme-10min-48k-stereo-24bit.wav', 600);
   const large = await wavFile('programme-60min-48k-stereo-24bit.wav', 3600);
-
-  await throughputAndLatency(oneMinute, thirtySeconds);
-
   const small = await ingest(mid, 'm');
   const big = await ingest(large, 'l');
   for (const [label, r] of [
@@ -398,7 +462,9 @@ async function main(): Promise<void> {
     '',
     'not growing with size',
   );
+}
 
+function printRows(): void {
   console.log('');
   const widths = [58, 12, 16, 7];
   for (const r of [['target', 'earmark', 'reference', 'ratio', 'goal'], ...rows]) {

@@ -4,6 +4,7 @@
 // the rest are retried with backoff.
 
 import { UnrecoverableError, type SandboxedJob } from 'bullmq';
+import { stat } from 'node:fs/promises';
 import { analyzeFile } from '../engine/analyze-file.ts';
 import { isRetryable, toEarmarkError } from '../errors/index.ts';
 import { UrlPolicy } from '../net/url-guard.ts';
@@ -12,6 +13,7 @@ import { ANALYZE_JOB_V1, encodeFailure, type AnalyzeJobV1, type AnalyzeResultV1 
 import { openStorage } from '../storage/index.ts';
 import { readChildSettings } from './child-settings.ts';
 import { fetchSource } from './fetch-source.ts';
+import { readThreadBudget, threadsForFile } from './thread-policy.ts';
 
 const config = readChildSettings();
 // A worker killed with SIGKILL leaves this child behind: without it the analysis would go on
@@ -64,7 +66,13 @@ export default async function analyzeJob(job: SandboxedJob<AnalyzeJobV1, Analyze
       fileName = decodeURIComponent(new URL(data.source.url).pathname.split('/').pop() || 'source');
     }
     let lastPercent = -1;
+    // A missing file is analyzeFile's typed error to raise: size 0 here means one thread.
+    const sizeBytes = await stat(path).then(
+      (s) => s.size,
+      () => 0,
+    );
     const doc = await analyzeFile(path, {
+      threads: threadsForFile(readThreadBudget(job), sizeBytes),
       analysis: analysisOptionsForProfile(data.profile),
       displayName: fileName,
       decode: { maxDecodedSeconds: config.maxDecodedSeconds },
