@@ -1,22 +1,30 @@
 // `npm run bench:service`: the service targets of the performance issue, measured on real
 // processes over loopback against the local Redis (REDIS_URL, default redis://127.0.0.1:6379),
 // under a private queue prefix and a temp storage folder, both removed at the end.
-// A benchmark, not a test: it prints figures and never fails on them.
+// A benchmark, not a test: it prints figures and never fails on them. Each row prints our figure,
+// the reference and the ratio; the 1-minute load average is printed beside each measurement,
+// since the machine's cores are shared.
 //
-// 1. Throughput: 200 one-minute 48 kHz stereo 24-bit WAVs (one generated file uploaded 200 times,
-//    the jobs are independent) through one API and two workers, first submit to last report,
-//    beside the CLI analysis run serially (10 runs scaled to 200) divided by two. The uploads come
-//    from the lean client (4 at a time), which leaves the shared cores to the service.
-// 2. Upload ingest: one large WAV (the 60-minute bench file, ~989 MiB) and one smaller one (the
-//    10-minute file, ~165 MiB) posted to /v1/jobs, each to a fresh API process with no worker:
-//    MB/s from the start of the request to the 202 (Node's fetch, then the same file from curl and
-//    from a lean Node client that streams the file into a hand-written multipart body), and the
-//    API's VmHWM before and after.
-// 3. Latency: 20 sequential submits of a 30-second file with warm workers, polling every 20 ms
-//    until completed and then reading the report; p50 and p95.
+// 1. Throughput: 200 one-minute 48 kHz stereo 24-bit WAVs (one generated file uploaded 200 times
+//    by 4 lean clients; the jobs are independent) through one API and ONE worker process, first
+//    submit to last report stored, against the single-thread CLI analysis time per file (median
+//    of BENCH_SERVICE_CLI_RUNS runs, process start included) times 200. Goal: >= 1.8x.
+// 2. One long file (BENCH_SERVICE_LONG_MINUTES, 10) with an otherwise empty queue: the job's start
+//    to finish against the CLI on one thread (and, for scale, on two), alternating. Then where a
+//    second thread pays at all: the CLI on one and two threads for files of
+//    BENCH_SERVICE_SPLIT_MINUTES (1,3,10) minutes (worker/thread-policy.ts MIN_THREADED_BYTES).
+// 3. Latency: sequential submits of a 30-second file with warm workers, polling every
+//    BENCH_SERVICE_POLL_MS (5) until completed, then reading the report; p50 and p95, and the
+//    medians of where the time goes (to the 202, queued, running, then seen and read).
+// 4. Upload ingest (BENCH_SERVICE_INGEST=0 skips it): one large WAV (the 60-minute bench file,
+//    ~989 MiB) and one smaller one (the 10-minute file, ~165 MiB) posted to /v1/jobs, each to a
+//    fresh API process with no worker: MB/s from the start of the request to the 202 (Node's fetch,
+//    then the same file from curl and from a lean Node client that streams the file into a
+//    hand-written multipart body), and the API's VmHWM before and after.
 //
 // Environment: BENCH_DIR (cache folder, shared with bench/analysis.ts), BENCH_SERVICE_FILES (200),
-// BENCH_SERVICE_CLI_RUNS (10), BENCH_SERVICE_LATENCY_RUNS (20).
+// BENCH_SERVICE_CLI_RUNS (10), BENCH_SERVICE_LATENCY_RUNS (20), BENCH_SERVICE_LONG_RUNS (3),
+// BENCH_SERVICE_SPLIT_RUNS (5); a count of 0 skips that part.
 
 import { spawn, spawnSync } from 'node:child_process';
 import { randomBytes } from 'node:crypto';
@@ -38,6 +46,8 @@ const latencyPollMs = Number(process.env.BENCH_SERVICE_POLL_MS ?? 5);
 const longRuns = Number(process.env.BENCH_SERVICE_LONG_RUNS ?? 3);
 const longMinutes = Number(process.env.BENCH_SERVICE_LONG_MINUTES ?? 10);
 const withIngest = process.env.BENCH_SERVICE_INGEST !== '0';
+const splitMinutes = (process.env.BENCH_SERVICE_SPLIT_MINUTES ?? '1,3,10').split(',').filter(Boolean).map(Number);
+const splitRuns = Number(process.env.BENCH_SERVICE_SPLIT_RUNS ?? 5);
 const sampleRate = 48000;
 const basePrefix = `bsvc${randomBytes(4).toString('hex')}`;
 const key = `bench-${randomBytes(12).toString('hex')}`;
@@ -258,6 +268,33 @@ async function longFile(service: Service, long: string, minutes: number): Promis
   );
 }
 
+/**
+ * Where a second thread pays (worker/thread-policy.ts MIN_THREADED_BYTES): the bundled analysis on
+ * one and on two threads, alternating, for files of a few lengths. Process start is in both.
+ */
+async function threadSplit(): Promise<void> {
+  for (const minutes of splitMinutes) {
+    const file = await wavFile(`programme-${minutes}min-48k-stereo-24bit.wav`, minutes * 60);
+    const one: number[] = [];
+    const two: number[] = [];
+    for (let i = 0; i < splitRuns; i++) {
+      one.push(await cliRun(file, 1));
+      two.push(await cliRun(file, 2));
+    }
+    const sizeMb = statSync(file).size / 1e6;
+    console.log(
+      `split: ${minutes} min (${sizeMb.toFixed(0)} MB), ${splitRuns} alternating runs, s: 1 thread ${one.map((x) => x.toFixed(3)).join(' ')}; 2 threads ${two.map((x) => x.toFixed(3)).join(' ')}; load ${loadAverage()}`,
+    );
+    row(
+      `${minutes}-min WAV (${sizeMb.toFixed(0)} MB), CLI on 2 threads (s)`,
+      median(two).toFixed(3),
+      `${median(one).toFixed(3)} 1 thr`,
+      `${(median(one) / median(two)).toFixed(2)}x`,
+      'where > 1x, threads pay',
+    );
+  }
+}
+
 /** Target 3: sequential 30-second jobs, submit to report read. */
 async function latency(service: Service, thirtySeconds: string): Promise<void> {
   const latencies: number[] = [];
@@ -408,6 +445,7 @@ async function main(): Promise<void> {
   const long = await wavFile(`programme-${longMinutes}min-48k-stereo-24bit.wav`, longMinutes * 60);
 
   await serviceTargets(oneMinute, thirtySeconds, long, longMinutes);
+  await threadSplit();
   if (withIngest) await ingestRows();
   printRows();
 }

@@ -20,6 +20,8 @@ const config = readChildSettings();
 // unowned (burning a core, writing a report) while another worker redoes the job.
 if (process.send) process.once('disconnect', () => process.exit(1));
 const policy = new UrlPolicy(config.urlAllowlist);
+/** Progress at most this often: each report is an IPC message and a Redis script in the worker, and a short job needs none. */
+const PROGRESS_EVERY_MS = 250;
 
 /**
  * BullMQ reuses a sandboxed child for job after job, and memory a child took (V8 heap, decoder
@@ -66,6 +68,7 @@ export default async function analyzeJob(job: SandboxedJob<AnalyzeJobV1, Analyze
       fileName = decodeURIComponent(new URL(data.source.url).pathname.split('/').pop() || 'source');
     }
     let lastPercent = -1;
+    let lastProgressAt = performance.now();
     // A missing file is analyzeFile's typed error to raise: size 0 here means one thread.
     const sizeBytes = await stat(path).then(
       (s) => s.size,
@@ -79,8 +82,10 @@ export default async function analyzeJob(job: SandboxedJob<AnalyzeJobV1, Analyze
       ...(knownSha256 ? { knownSha256 } : {}),
       onProgress: (fraction) => {
         const percent = Math.floor(fraction * 100);
-        if (percent > lastPercent) {
+        const now = performance.now();
+        if (percent > lastPercent && now - lastProgressAt >= PROGRESS_EVERY_MS) {
           lastPercent = percent;
+          lastProgressAt = now;
           void job.updateProgress(percent);
         }
       },
