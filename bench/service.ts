@@ -10,12 +10,15 @@
 //    submit to last report stored, against the single-thread analysis time per file the CLI
 //    reports (median of BENCH_SERVICE_CLI_RUNS runs; decode and meters, without process start)
 //    times 200. Goal: >= 1.8x. The CLI's wall time with its process start is shown beside it.
-//    Then the same jobs stored first and one worker started on them (BENCH_SERVICE_PREFILLED=0
-//    skips it): the worker's own throughput, first job start to last finish, ingest not running.
+//    Then the worker alone (BENCH_SERVICE_PREFILLED=0 skips it): the jobs stored first, then one
+//    worker started on them, first job start to last finish; first a worker held to one job and
+//    one thread (the same path as one analysis thread, child warm after its first job), then the
+//    default worker, and the CLI's analysis time again after both.
 // 2. One long file (BENCH_SERVICE_LONG_MINUTES, 10) with an otherwise empty queue: the job's start
-//    to finish against the CLI on one thread (and, for scale, on two), alternating. Then where a
-//    second thread pays at all: the CLI on one and two threads for files of
-//    BENCH_SERVICE_SPLIT_MINUTES (1,3,10) minutes (worker/thread-policy.ts MIN_THREADED_BYTES).
+//    to finish against the same job on a worker held to one thread, alternating (the CLI on one
+//    thread printed for scale). Then where a second thread pays at all: the CLI on one and two
+//    threads for files of BENCH_SERVICE_SPLIT_MINUTES (1,3,10) minutes (MIN_THREADED_BYTES in
+//    worker/thread-policy.ts).
 // 3. Latency: sequential submits of a 30-second file with warm workers, polling every
 //    BENCH_SERVICE_POLL_MS (5) until completed, then reading the report; p50 and p95, and the
 //    medians of where the time goes (to the 202, queued, running, then seen and read).

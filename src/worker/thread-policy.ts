@@ -23,11 +23,12 @@ export function threadBudget({ maxThreads, otherActiveJobs, waitingJobs }: Threa
 }
 
 /**
- * Below this size one thread is as fast: a second meter thread starts in 30-60 ms (bundled) and
- * saves about a third of the analysis, which is about 55 ms per minute of 48 kHz stereo 24-bit
- * audio on one thread (17.3 MB a minute), so the split pays from about 3 minutes of such audio.
- * Measured in bench/service.ts; compressed files hold more audio per byte and pay sooner, so the
- * bound errs on the side of one thread for them.
+ * Below this size one thread is as fast. The split saves about 20 ms per minute of 48 kHz stereo
+ * 24-bit audio (17.3 MB a minute; 60 minutes take 3.16-3.38 s on one thread and 1.95-2.10 s on
+ * two on an idle machine, BENCHMARKS.md); a bundled meter thread's start measured 60-130 ms on
+ * 30- and 60-second files with the machine's cores shared (less idle), so the split pays from
+ * about 3-6 minutes of such audio, and 48 MiB is the low end. Compressed files hold more audio
+ * per byte and pay sooner, so the bound errs on the side of one thread for them.
  */
 export const MIN_THREADED_BYTES = 48 * 1024 * 1024;
 
