@@ -12,6 +12,7 @@ export const ENTRIES = {
   earmark: 'src/cli/bin.ts',
   'parallel-worker': 'src/engine/parallel-worker.ts',
   'analyze-once': 'bench/analyze-once.ts',
+  'analysis-child': 'src/worker/processor.ts',
 };
 const SOURCE_DIRS = ['src', 'bench'];
 

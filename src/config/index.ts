@@ -1,7 +1,7 @@
 // The one environment schema. Read once at start; a bad value throws ConfigError naming the
 // variable, and the entrypoints print it and exit (no half-configured process).
 
-import { tmpdir } from 'node:os';
+import { availableParallelism, tmpdir } from 'node:os';
 import { join, resolve } from 'node:path';
 
 // admin (profile edits) implies submit and read only: metrics and the all-tenant view
@@ -34,7 +34,10 @@ export interface Config {
   /** API: a connection that sends or receives nothing for this long is closed (408 if a request is open). */
   bodyTimeoutMs: number;
   urlAllowlist: string[];
+  /** Analysis jobs per worker process at once (one child process each); the cores by default. */
   workerConcurrency: number;
+  /** Most threads one job's analysis may use, when it runs alone (worker/thread-policy.ts); the cores by default. */
+  analysisThreads: number;
   retentionHours: number;
   jobAttempts: number;
   jobBackoffMs: number;
@@ -164,7 +167,8 @@ export function loadConfig(env: Env = process.env): Config {
       .split(',')
       .map((s) => s.trim())
       .filter(Boolean),
-    workerConcurrency: int(env, 'EARMARK_WORKER_CONCURRENCY', 1, 1, 64),
+    workerConcurrency: int(env, 'EARMARK_WORKER_CONCURRENCY', availableParallelism(), 1, 64),
+    analysisThreads: int(env, 'EARMARK_ANALYSIS_THREADS', availableParallelism(), 1, 64),
     retentionHours: int(env, 'EARMARK_RETENTION_HOURS', 24, 1, 24 * 365),
     jobAttempts: int(env, 'EARMARK_JOB_ATTEMPTS', 3, 1, 20),
     jobBackoffMs: int(env, 'EARMARK_JOB_BACKOFF_MS', 5_000, 10),

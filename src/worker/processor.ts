@@ -4,6 +4,7 @@
 // the rest are retried with backoff.
 
 import { UnrecoverableError, type SandboxedJob } from 'bullmq';
+import { stat } from 'node:fs/promises';
 import { analyzeFile } from '../engine/analyze-file.ts';
 import { isRetryable, toEarmarkError } from '../errors/index.ts';
 import { UrlPolicy } from '../net/url-guard.ts';
@@ -12,12 +13,15 @@ import { ANALYZE_JOB_V1, encodeFailure, type AnalyzeJobV1, type AnalyzeResultV1 
 import { openStorage } from '../storage/index.ts';
 import { readChildSettings } from './child-settings.ts';
 import { fetchSource } from './fetch-source.ts';
+import { readThreadBudget, threadsForFile } from './thread-policy.ts';
 
 const config = readChildSettings();
 // A worker killed with SIGKILL leaves this child behind: without it the analysis would go on
 // unowned (burning a core, writing a report) while another worker redoes the job.
 if (process.send) process.once('disconnect', () => process.exit(1));
 const policy = new UrlPolicy(config.urlAllowlist);
+/** Progress at most this often: each report is an IPC message and a Redis script in the worker, and a short job needs none. */
+const PROGRESS_EVERY_MS = 250;
 
 /**
  * BullMQ reuses a sandboxed child for job after job, and memory a child took (V8 heap, decoder
@@ -64,15 +68,24 @@ export default async function analyzeJob(job: SandboxedJob<AnalyzeJobV1, Analyze
       fileName = decodeURIComponent(new URL(data.source.url).pathname.split('/').pop() || 'source');
     }
     let lastPercent = -1;
+    let lastProgressAt = performance.now();
+    // A missing file is analyzeFile's typed error to raise: size 0 here means one thread.
+    const sizeBytes = await stat(path).then(
+      (s) => s.size,
+      () => 0,
+    );
     const doc = await analyzeFile(path, {
+      threads: threadsForFile(readThreadBudget(job), sizeBytes),
       analysis: analysisOptionsForProfile(data.profile),
       displayName: fileName,
       decode: { maxDecodedSeconds: config.maxDecodedSeconds, ...decodeOptionsForProfile(data.profile) },
       ...(knownSha256 ? { knownSha256 } : {}),
       onProgress: (fraction) => {
         const percent = Math.floor(fraction * 100);
-        if (percent > lastPercent) {
+        const now = performance.now();
+        if (percent > lastPercent && now - lastProgressAt >= PROGRESS_EVERY_MS) {
           lastPercent = percent;
+          lastProgressAt = now;
           void job.updateProgress(percent);
         }
       },

@@ -30,13 +30,19 @@ import { createAnalysisQueue, createWebhookQueue } from '../queue/queues.ts';
 import { openServiceStores } from '../queue/store.ts';
 import { openStorage } from '../storage/index.ts';
 import { CHILD_SETTINGS_ENV, type ChildSettings } from './child-settings.ts';
+import { threadBudget } from './thread-policy.ts';
 import { deliver } from './webhooks.ts';
+import { currentBundle } from '../../bin/bundles.js';
 
-// The child is BullMQ's own main.js, which then imports our processor: a loader given on the
-// child's command line is the one hook that is in place before that import. Resolving tsx to a
-// file URL keeps it independent of the working directory.
+// The child is BullMQ's own main.js, which then imports our processor: the bundled one
+// (dist/analysis-child.mjs, bin/build.js) while it is newer than every source, else processor.ts
+// through the tsx loader, given on the child's command line as the one hook in place before that
+// import. The bundle starts its meter threads from the bundled dist/parallel-worker.mjs in 30-60 ms
+// instead of 250-450 ms through tsx, which decides whether a second thread pays for a file.
+const BUNDLED_PROCESSOR = currentBundle('analysis-child');
 const TSX_LOADER = import.meta.resolve('tsx');
-const PROCESSOR_FILE = new URL('./processor.ts', import.meta.url);
+const PROCESSOR_FILE = new URL(BUNDLED_PROCESSOR ?? './processor.ts', import.meta.url);
+const CHILD_EXEC_ARGV = BUNDLED_PROCESSOR ? process.execArgv : [...process.execArgv, '--import', TSX_LOADER];
 
 /** Fault tests only: the worker SIGKILLs itself at this point (see durable-completion.test.ts). */
 export const KILL_AT_ENV = 'EARMARK_TEST_SIGKILL_AT';
@@ -68,10 +74,14 @@ export function isFinalFailure(job: AnalysisJob, error: Error): boolean {
  * writes run in the parent after the child answers and before BullMQ moves the job.
  */
 class AnalysisWorker extends Worker<AnalyzeJobV1, AnalyzeResultV1> {
+  /** Jobs in callProcessJob now. */
+  private analysing = 0;
+
   constructor(
     file: URL,
     opts: WorkerOptions,
     private readonly settle: Settlement,
+    private readonly budget: (otherActiveJobs: number) => Promise<number>,
   ) {
     super(ANALYSIS_QUEUE, file, opts);
   }
@@ -81,7 +91,15 @@ class AnalysisWorker extends Worker<AnalyzeJobV1, AnalyzeResultV1> {
     token: string,
     signal?: AbortSignal,
   ): Promise<AnalyzeResultV1> {
-    const result = await super.callProcessJob(job, token, signal);
+    const others = this.analysing;
+    this.analysing += 1;
+    let result: AnalyzeResultV1;
+    try {
+      const threads = await this.budget(others);
+      result = await super.callProcessJob(withThreadBudget(job, threads), token, signal);
+    } finally {
+      this.analysing -= 1;
+    }
     // A throw here fails this attempt (retried): better than a completion without its effects.
     await this.settle.completed(job, result);
     killPoint('before-complete');
@@ -104,6 +122,18 @@ class AnalysisWorker extends Worker<AnalyzeJobV1, AnalyzeResultV1> {
     }
     return super.handleFailed(err, job, token, fetchNextCallback, span);
   }
+}
+
+/**
+ * The job as the sandbox sends it to the child, with the thread budget beside its data (the
+ * child reads it with readThreadBudget); the job itself, its data and the contract are unchanged.
+ */
+function withThreadBudget(job: AnalysisJob, threads: number): AnalysisJob {
+  return Object.create(job, {
+    asJSONSandbox: { value: () => ({ ...job.asJSONSandbox(), analysisThreads: threads }) },
+    // Progress lands on the job itself, as without the wrapper.
+    updateProgress: { value: (progress: number | object) => job.updateProgress(progress) },
+  });
 }
 
 /** Stable per job and outcome: the webhook job's id and the `Earmark-Delivery` header. */
@@ -186,7 +216,7 @@ export async function startWorker(config: Config, log: Logger): Promise<WorkerRu
       concurrency: config.workerConcurrency,
       useWorkerThreads: false,
       workerForkOptions: {
-        execArgv: [...process.execArgv, '--import', TSX_LOADER],
+        execArgv: CHILD_EXEC_ARGV,
         env: { ...process.env, [CHILD_SETTINGS_ENV]: JSON.stringify(childSettings) },
       },
       // A child that dies takes its job with it; the stall check hands such jobs to a live worker.
@@ -195,6 +225,12 @@ export async function startWorker(config: Config, log: Logger): Promise<WorkerRu
       stalledInterval: config.stalledIntervalMs,
     },
     settlement,
+    async (otherActiveJobs) => {
+      if (config.analysisThreads < 2 || otherActiveJobs > 0) return 1;
+      // One round trip, only when this worker is otherwise idle; a Redis fault costs the split, not the job.
+      const waitingJobs = await analysisQueue.getJobCountByTypes('wait', 'prioritized').catch(() => 1);
+      return threadBudget({ maxThreads: config.analysisThreads, otherActiveJobs, waitingJobs });
+    },
   );
   const active = new Map<string, AnalysisJob>();
   analysis.on('error', (error) => onError(error, 'analysis worker'));
@@ -307,7 +343,15 @@ export async function startWorker(config: Config, log: Logger): Promise<WorkerRu
     Math.min(sweepMs, 600_000),
   );
   sweeper.unref();
-  log.info({ concurrency: config.workerConcurrency, jobName: ANALYZE_JOB_V1 }, 'worker ready');
+  log.info(
+    {
+      concurrency: config.workerConcurrency,
+      analysisThreads: config.analysisThreads,
+      bundledChild: BUNDLED_PROCESSOR !== null,
+      jobName: ANALYZE_JOB_V1,
+    },
+    'worker ready',
+  );
 
   return {
     async close() {

@@ -1,4 +1,5 @@
 // The environment schema: defaults, and a bad value names its variable.
+import { availableParallelism } from 'node:os';
 import { describe, expect, it } from 'vitest';
 import { ConfigError, loadConfig } from '../../src/config/index.ts';
 
@@ -11,7 +12,9 @@ describe('loadConfig', () => {
       port: 8080,
       redisUrl: 'redis://127.0.0.1:6379',
       redisUrlExplicit: false,
-      workerConcurrency: 1,
+      // One job per core, and a job alone may use every core (worker/thread-policy.ts).
+      workerConcurrency: availableParallelism(),
+      analysisThreads: availableParallelism(),
       retentionHours: 24,
       uploadLimitBytes: 2 * 1024 ** 3,
       apiKeys: [],
@@ -30,6 +33,7 @@ describe('loadConfig', () => {
     ['EARMARK_API_KEYS', JSON.stringify([{ key: 'short', tenant: 't', scopes: ['read'] }])],
     ['EARMARK_API_KEYS', JSON.stringify([{ key: 'k-0123456789abcdef', tenant: 't', scopes: ['root'] }])],
     ['EARMARK_WORKER_CONCURRENCY', '0'],
+    ['EARMARK_ANALYSIS_THREADS', '0'],
     ['EARMARK_UPLOAD_LIMIT_BYTES', '-5'],
     ['EARMARK_WEBHOOK_SECRETS', JSON.stringify({ t: 'short' })],
     ['EARMARK_LOG_LEVEL', 'loud'],
