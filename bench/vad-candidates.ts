@@ -209,7 +209,17 @@ interface Tally {
 }
 
 async function measure(candidate: Candidate, corpus: CorpusItem[]): Promise<Tally> {
-  const t: Tally = { tp: 0, fp: 0, fn: 0, falseOnNonSpeech: 0, nonSpeechBlocks: 0, shareErrors: [], loudnessErrors: new Map(), seconds: 0, audioSeconds: 0 };
+  const t: Tally = {
+    tp: 0,
+    fp: 0,
+    fn: 0,
+    falseOnNonSpeech: 0,
+    nonSpeechBlocks: 0,
+    shareErrors: [],
+    loudnessErrors: new Map(),
+    seconds: 0,
+    audioSeconds: 0,
+  };
   for (const item of corpus) {
     const started = process.hrtime.bigint();
     const decisions = await candidate.run(item.mix);
@@ -278,11 +288,13 @@ if (modules) {
           const wasm = member(member(ort, 'env'), 'wasm');
           if (isRecord(wasm)) wasm.numThreads = 1;
         }
-        for (const rate of [16000, 8000] as const) candidates.push(await silero(ort, `silero ${version} (${runtime})`, model, rate));
+        for (const rate of [16000, 8000] as const)
+          candidates.push(await silero(ort, `silero ${version} (${runtime})`, model, rate));
       } catch (error) {
         process.stdout.write(`silero ${version} on ${runtime} skipped: ${String(error)}\n`);
       }
     }
   }
 }
-for (const candidate of candidates) process.stdout.write(`${report(candidate.name, await measure(candidate, corpus))}\n`);
+for (const candidate of candidates)
+  process.stdout.write(`${report(candidate.name, await measure(candidate, corpus))}\n`);
