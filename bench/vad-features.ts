@@ -5,7 +5,8 @@
 //   - voicing by normalised autocorrelation at lags of 80-400 Hz, and its on/off alternation
 //     (speech switches between voiced and unvoiced; held musical notes stay voiced),
 //   - the 300-3400 Hz share of the full-band energy.
-// State is fixed-size ring buffers; nothing grows with the input.
+// State is fixed-size ring buffers; only the decision list grows (the bench reads it at the end;
+// a meter would hand decisions on block by block).
 
 const DECIMATION = 6; // 48 kHz to 8 kHz
 const FRAME = 160; // 20 ms at 8 kHz
