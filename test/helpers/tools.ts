@@ -1,14 +1,20 @@
-// The cross-check tools (ffmpeg, sox, chromium) are optional on a developer machine, where their
-// tests skip. Under CI=true a missing one fails the run instead: a skipped cross-check must not
-// look like a passed one.
+// The cross-check tools (ffmpeg, sox, chromium; espeak-ng speaks the dialogue corpus) are optional
+// on a developer machine, where their tests skip. Under CI=true a missing one fails the run
+// instead: a skipped cross-check must not look like a passed one.
 
 import { accessSync, constants } from 'node:fs';
 import { delimiter, join } from 'node:path';
 
-export type Tool = 'ffmpeg' | 'ffprobe' | 'sox' | 'chromium';
+export type Tool = 'ffmpeg' | 'ffprobe' | 'sox' | 'chromium' | 'espeak-ng';
 
 // The Debian package that provides each tool.
-const PACKAGE: Record<Tool, string> = { ffmpeg: 'ffmpeg', ffprobe: 'ffmpeg', sox: 'sox', chromium: 'chromium' };
+const PACKAGE: Record<Tool, string> = {
+  ffmpeg: 'ffmpeg',
+  ffprobe: 'ffmpeg',
+  sox: 'sox',
+  chromium: 'chromium',
+  'espeak-ng': 'espeak-ng',
+};
 
 /** The tool's executable on PATH, or null. */
 export function toolPath(tool: Tool): string | null {
