@@ -183,6 +183,20 @@ function timed(command: string, args: string[], cwd: string): Promise<RunFigures
   });
 }
 
+/** Failed runs (exit 3 or above, or a crash), printed and counted; each is run again once. */
+const failures: string[] = [];
+
+async function timedOnce(command: string, args: string[], cwd: string): Promise<RunFigures> {
+  try {
+    return await timed(command, args, cwd);
+  } catch (error) {
+    const text = error instanceof Error ? error.message : String(error);
+    failures.push(text.slice(0, 400));
+    console.log(`  FAILED, run again: ${text.slice(0, 400)}`);
+    return timed(command, args, cwd);
+  }
+}
+
 const median = (values: number[]) => [...values].sort((a, b) => a - b)[Math.floor(values.length / 2)];
 
 const figures = (r: RunFigures) => `${r.seconds.toFixed(2)} s ${r.peakRssMib.toFixed(0)} MiB`;
@@ -216,9 +230,9 @@ async function benchFile(target: Target, file: string): Promise<Row[]> {
   const profile = ['--profile', 'delivery-online', '--json'];
   for (let i = 0; i < runs; i++) {
     for (const [k, checkout] of checkouts.entries()) {
-      analyze[k].push(await timed('npx', ['earmark', 'analyze', file, '--json'], checkout));
-      check[k].push(await timed('npx', ['earmark', 'check', file, ...profile], checkout));
-      direct[k].push(await timed(process.execPath, ['bin/earmark.js', 'analyze', file, '--json'], checkout));
+      analyze[k].push(await timedOnce('npx', ['earmark', 'analyze', file, '--json'], checkout));
+      check[k].push(await timedOnce('npx', ['earmark', 'check', file, ...profile], checkout));
+      direct[k].push(await timedOnce(process.execPath, ['bin/earmark.js', 'analyze', file, '--json'], checkout));
     }
     theirs.push(await timed('ffmpeg', ffmpegArgs, checkouts[0]));
     const mine = analyze.map(
@@ -277,6 +291,8 @@ async function main(): Promise<void> {
     rows.push(...(await benchFile(target, file)));
   }
   printTable(rows);
+  console.log(`\nfailed runs: ${failures.length}`);
+  for (const f of failures) console.log(`  ${f}`);
 }
 
 await main();
