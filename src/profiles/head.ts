@@ -28,6 +28,29 @@ export function headSilenceOf(doc: AnalysisDocument): HeadSilence {
   return { seconds, startSample: 0, endSample: Math.min(doc.format.framesDecoded, Math.round(seconds * rate)) };
 }
 
+/**
+ * The line-up outside the programme, in samples: before the programme start when a tone or a head
+ * pop was found, after the programme's end when a tail pop was. Its silences are the line-up's
+ * own (tone, gap, pop, gap), not dropouts or dead air in the programme.
+ */
+export function lineUpSpans(doc: AnalysisDocument): { headEndSample: number | null; tailStartSample: number | null } {
+  const head = doc.head;
+  const hasHead = head.toneSegments.length > 0 || head.headPop !== null;
+  return {
+    headEndSample: hasHead ? head.programmeStartFrame : null,
+    tailStartSample: head.tailPop !== null ? head.programmeEndFrame : null,
+  };
+}
+
+/** Whether a span lies wholly inside the line-up head or tail (lineUpSpans). */
+export function inLineUp(doc: AnalysisDocument, span: { startFrame: number; endFrame: number }): boolean {
+  const { headEndSample, tailStartSample } = lineUpSpans(doc);
+  return (
+    (headEndSample !== null && span.endFrame <= headEndSample) ||
+    (tailStartSample !== null && span.startFrame >= tailStartSample)
+  );
+}
+
 export interface HeadTimecode {
   toneStart: string | null;
   toneEnd: string | null;

@@ -3,8 +3,17 @@
 import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
 import { formatReport } from '../../src/cli/check.ts';
+import { analyzeFile } from '../../src/engine/analyze-file.ts';
 import { writeWavFile } from '../../src/encode/wav.ts';
-import { FRAME_RATES, type FrameRate, type Profile, profileIssues, type Rule } from '../../src/profiles/index.ts';
+import {
+  analysisOptionsForProfile,
+  evaluate,
+  FRAME_RATES,
+  type FrameRate,
+  type Profile,
+  profileIssues,
+  type Rule,
+} from '../../src/profiles/index.ts';
 import { compose, type Piece, RATE, seconds } from '../helpers/head-signals.ts';
 import { checkFile, checkOf, tempDir } from './helpers.ts';
 
@@ -196,5 +205,44 @@ describe('head rules', () => {
     expect(checkOf(df, 'pop').explanation).toMatch(/00:01:00;00 is not a timecode at 29.97-df fps/);
     const tail: Rule = { id: 'pop', type: 'sync-pop', severity: 'fail', position: 'tail', atTimecode: '00:00:04:00' };
     expect(profileIssues(profile([tail])).map((i) => i.field)).toEqual(['rules[0].atTimecode']);
+  });
+});
+
+describe('the line-up is not programme', () => {
+  const gapRules: Rule[] = [
+    { id: 'drop', type: 'dropouts', severity: 'fail', maxCount: 0, source: 'common practice' },
+    { id: 'air', type: 'silence-gap', severity: 'fail', maxSeconds: 0.3, source: 'common practice' },
+  ];
+
+  it('its own silences (around the tone and the pops) are neither dropouts nor dead air', async () => {
+    const path = await headFile();
+    const p = profile(gapRules);
+    const doc = await analyzeFile(path, { analysis: analysisOptionsForProfile(p) });
+    // The meters see those silences: the rules must leave them out, not miss them.
+    expect(doc.summary.allChannelDropouts).toBeGreaterThan(0);
+    expect(doc.summary.longestInternalGapSeconds).toBeGreaterThan(1);
+    const report = evaluate(p, doc);
+    expect(checkOf(report, 'drop').passed).toBe(true);
+    expect(checkOf(report, 'air').passed).toBe(true);
+    expect(report.flags.filter((f) => f.severity !== 'remark')).toEqual([]);
+  });
+
+  it('a gap inside the programme after a line-up head still counts', async () => {
+    // Tone 0-3 s, silence, programme 6-7 s, 0.5 s of digital silence, programme 7.5-9 s.
+    const pieces: Piece[] = [0, 1].flatMap((channel): Piece[] => [
+      { kind: 'sine', channel, startFrame: 0, frames: seconds(3), hz: 1000, levelDbfs: -18 },
+      { kind: 'programme', channel, startFrame: seconds(6), frames: seconds(1) },
+      { kind: 'programme', channel, startFrame: seconds(7.5), frames: seconds(1.5) },
+    ]);
+    const path = join(dir, 'head-gap-in-programme.wav');
+    await writeWavFile(path, { sampleRate: RATE, channels: 2, bitsPerSample: 24, float: false }, [
+      compose(2, seconds(10), pieces),
+    ]);
+    const report = await checkFile(path, profile(gapRules));
+    expect(checkOf(report, 'air').passed).toBe(false);
+    expect(Number(checkOf(report, 'air').measured)).toBeCloseTo(0.5, 2);
+    const gapFlags = report.flags.filter((f) => f.severity === 'fail');
+    expect(gapFlags.length).toBeGreaterThan(0);
+    expect(gapFlags.every((f) => f.startSeconds >= 6.9 && f.startSeconds <= 7.1)).toBe(true);
   });
 });

@@ -1,6 +1,8 @@
 // Dropouts inside the programme; `channels` scopes the rule to channel roles, and all-channel
-// dropouts always count.
+// dropouts always count. Silences of the line-up head or tail (tone, gaps, sync pop) are not
+// dropouts of the programme (head.ts lineUpSpans).
 import { channelName, type AnalysisDocument } from '../../engine/document.ts';
+import { inLineUp } from '../head.ts';
 import type { DropoutRule } from '../types.ts';
 import { count } from './drafts.ts';
 import type { RuleSpec } from './rule-spec.ts';
@@ -10,12 +12,21 @@ const inScope = (rule: DropoutRule, doc: AnalysisDocument, channel: number) =>
 
 export const dropouts: RuleSpec<DropoutRule> = {
   check: (rule, doc) => {
-    const perChannel = doc.channels.filter((c) => inScope(rule, doc, c.index) && c.dropouts > 0);
-    const n = doc.summary.allChannelDropouts + perChannel.reduce((sum, c) => sum + c.dropouts, 0);
+    // A cut event list keeps the earliest events, so the head's are in it; a tail cut off the
+    // list stays counted (never fewer dropouts than were found).
+    const lineUp = doc.events.filter((e) => e.kind === 'dropout' && inLineUp(doc, e));
+    const excluded = (channel: number | null) => lineUp.filter((e) => e.channel === channel).length;
+    const allChannel = doc.summary.allChannelDropouts - excluded(null);
+    const perChannel = doc.channels
+      .filter((c) => inScope(rule, doc, c.index))
+      .map((c) => ({ index: c.index, dropouts: c.dropouts - excluded(c.index) }))
+      .filter((c) => c.dropouts > 0);
+    const n = allChannel + perChannel.reduce((sum, c) => sum + c.dropouts, 0);
     const scope = rule.channels ? ` in ${rule.channels.join(', ')}` : '';
     const where = [
-      ...(doc.summary.allChannelDropouts > 0 ? [`${doc.summary.allChannelDropouts} in all channels`] : []),
+      ...(allChannel > 0 ? [`${allChannel} in all channels`] : []),
       ...perChannel.map((c) => `${c.dropouts} in ${channelName(doc, c.index)}`),
+      ...(lineUp.length > 0 ? [`${lineUp.length} in the line-up not counted`] : []),
     ];
     return count(
       n === 1 ? `dropout${scope}` : `dropouts${scope}`,
@@ -26,5 +37,5 @@ export const dropouts: RuleSpec<DropoutRule> = {
     );
   },
   events: ['dropout'],
-  breaks: (rule, e, doc) => e.channel === null || inScope(rule, doc, e.channel),
+  breaks: (rule, e, doc) => !inLineUp(doc, e) && (e.channel === null || inScope(rule, doc, e.channel)),
 };
