@@ -272,6 +272,24 @@ function toLufsInPlace(series: Float64Array): Float64Array {
   return series;
 }
 
+/**
+ * Gated integrated loudness (BS.1770-5 eqs. (4)-(7)) of the gating blocks that start at or after
+ * `fromFrame`: the programme after a line-up. From the result's momentary series (LUFS at 10 Hz,
+ * NaN below the absolute gate), back to powers by 10^((L + 0.691) / 10): within 1e-12 LU of the
+ * powers themselves. Block j starts at round(j * fs / 10), as the meter's sub-blocks do.
+ */
+export function integratedLufsFrom(momentaryLufs: Float64Array, fromFrame: number, sampleRate: number): number | null {
+  let first = Math.max(0, Math.floor((fromFrame * 10) / sampleRate) - 1);
+  while (Math.round((first * sampleRate) / 10) < fromFrame) first++;
+  const start = SUBBLOCKS_PER_MOMENTARY - 1 + first;
+  const powers = new Float64Array(Math.max(0, momentaryLufs.length - start));
+  for (let i = 0; i < powers.length; i++) {
+    const lufs = momentaryLufs[start + i];
+    powers[i] = Number.isNaN(lufs) ? 0 : 10 ** ((lufs - LOUDNESS_OFFSET) / 10);
+  }
+  return gatedLoudness(powers, RELATIVE_GATE_LU).loudness;
+}
+
 /** BS.1770-5 eqs. (4)-(7): absolute gate at -70 LKFS, then a relative gate. */
 export function gatedLoudness(
   blockPowers: Float64Array,

@@ -5,6 +5,7 @@ import type { AnalysisEvent, EventKind } from '../analysis/events.ts';
 import type { DownmixGains } from '../analysis/downmix.ts';
 import { isEventList, METER_NAMES, METERS, type Measurements } from '../analysis/runner.ts';
 import type { AudioFormat, DecodeWarning } from '../decode/types.ts';
+import { integratedLufsFrom } from '../analysis/loudness.ts';
 import { compareDeclaredLoudness, type DeclaredLoudnessComparison } from './declared-loudness.ts';
 
 export const ENGINE_NAME = 'earmark';
@@ -127,7 +128,12 @@ export interface AnalysisDocument {
   file: FileInfo | null;
   format: Omit<AudioFormat, 'declaredLoudness'> & { framesDecoded: number; timeReferenceSeconds: number | null };
   summary: {
+    /** The programme's: from the programme start when the file opens with a line-up (tone or sync pop). */
     integratedLufs: number | null;
+    /** Where integratedLufs starts: 0, or the programme start after a line-up. */
+    integratedFromSeconds: number;
+    /** Over the whole file, line-up included. */
+    wholeFileIntegratedLufs: number | null;
     loudnessRangeLu: number | null;
     maxMomentaryLufs: number | null;
     maxMomentaryAtSeconds: number | null;
@@ -287,6 +293,9 @@ export function buildAnalysisDocument(
 ): AnalysisDocument {
   const rate = format.sampleRate;
   const { events, eventCounts, eventsTruncated } = collectEvents(m);
+  // A line-up (tone or sync pop) is not programme: the integrated loudness starts after it.
+  const lineUp = m.head.toneSegments.length > 0 || m.head.headPop !== null;
+  const programmeFrom = lineUp ? (m.head.programmeStartFrame ?? 0) : 0;
   const dead = new Set(m.channelRelations.deadChannels);
   const { declaredLoudness, ...formatFields } = format;
   const doc: AnalysisDocument = {
@@ -300,7 +309,12 @@ export function buildAnalysisDocument(
       timeReferenceSeconds: format.timeReferenceSamples === null ? null : format.timeReferenceSamples / rate,
     },
     summary: {
-      integratedLufs: m.loudness.integratedLufs,
+      integratedLufs:
+        programmeFrom > 0
+          ? integratedLufsFrom(m.loudness.momentaryLufs, programmeFrom, rate)
+          : m.loudness.integratedLufs,
+      integratedFromSeconds: programmeFrom / rate,
+      wholeFileIntegratedLufs: m.loudness.integratedLufs,
       loudnessRangeLu: m.loudness.loudnessRangeLu,
       maxMomentaryLufs: m.loudness.maxMomentaryLufs,
       maxMomentaryAtSeconds: m.loudness.maxMomentaryAtSeconds,

@@ -3,6 +3,7 @@
 import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
 import { formatReport } from '../../src/cli/check.ts';
+import { openAudioFile } from '../../src/decode/index.ts';
 import { analyzeFile } from '../../src/engine/analyze-file.ts';
 import { writeWavFile } from '../../src/encode/wav.ts';
 import {
@@ -244,5 +245,40 @@ describe('the line-up is not programme', () => {
     const gapFlags = report.flags.filter((f) => f.severity === 'fail');
     expect(gapFlags.length).toBeGreaterThan(0);
     expect(gapFlags.every((f) => f.startSeconds >= 6.9 && f.startSeconds <= 7.1)).toBe(true);
+  });
+});
+
+describe('programme loudness after a line-up', () => {
+  it('integrated loudness starts at the programme start; the whole file is kept beside it', async () => {
+    // Tone 0-3 s at -18 dBFS, pops, programme from 6 s (a 100 ms block boundary) to 9 s.
+    const rate = FRAME_RATES['25'];
+    const withHead = await headFile({ rate, pops: true });
+    const doc = await analyzeFile(withHead, {});
+    expect(doc.head.programmeStartFrame).toBe(seconds(6));
+    expect(doc.summary.integratedFromSeconds).toBe(6);
+    // The same samples from the programme start, as a file of their own: the reference reading.
+    const decoded = await openAudioFile(withHead);
+    const parts: Float32Array[][] = [];
+    for await (const block of decoded.blocks) parts.push(block.channelData.map((c) => Float32Array.from(c)));
+    const channelData = [0, 1].map((c) => {
+      const out = new Float32Array(parts.reduce((n, p) => n + p[c].length, 0));
+      let at = 0;
+      for (const p of parts) {
+        out.set(p[c], at);
+        at += p[c].length;
+      }
+      return out;
+    });
+    const alone = join(dir, 'programme-alone.wav');
+    await writeWavFile(alone, { sampleRate: RATE, channels: 2, bitsPerSample: 24, float: false }, [
+      channelData.map((c) => c.subarray(seconds(6))),
+    ]);
+    const reference = await analyzeFile(alone, {});
+    expect(doc.summary.integratedLufs).not.toBeNull();
+    expect(Math.abs((doc.summary.integratedLufs ?? 0) - (reference.summary.wholeFileIntegratedLufs ?? 0))).toBeLessThan(
+      1e-9,
+    );
+    // The -18 dBFS tone (about -18 LUFS) pulls the whole file's reading 1.2 LU away from the programme's.
+    expect(Math.abs((doc.summary.wholeFileIntegratedLufs ?? 0) - (doc.summary.integratedLufs ?? 0))).toBeGreaterThan(1);
   });
 });
