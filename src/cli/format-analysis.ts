@@ -30,7 +30,11 @@ export function formatAnalysis(doc: AnalysisDocument): string {
     `${printableName(doc.file?.name ?? 'stream')}: ${f.container} ${f.encoding}, ${f.sampleRate} Hz, ${f.channels} ch (${f.channelLabels.join(' ')}${f.layoutFrom ? `; ${LAYOUT_FROM[f.layoutFrom]}` : ''})` +
       `${f.bitsPerSample ? `, ${f.bitsPerSample}-bit` : ''}, ${formatTime(f.durationSeconds ?? 0)}`,
     '',
-    `  Integrated loudness   ${orNone(s.integratedLufs, 'LUFS')}`,
+    `  Integrated loudness   ${orNone(s.integratedLufs, 'LUFS')}${
+      s.integratedFromSeconds > 0
+        ? ` from ${s.integratedFromSeconds.toFixed(2)} s, after the line-up (whole file ${orNone(s.wholeFileIntegratedLufs, 'LUFS')})`
+        : ''
+    }`,
     `  Loudness range        ${orNone(s.loudnessRangeLu, 'LU')}`,
     `  Max momentary         ${orNone(s.maxMomentaryLufs, 'LUFS')}`,
     `  Max short-term        ${orNone(s.maxShortTermLufs, 'LUFS')}`,

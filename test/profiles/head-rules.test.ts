@@ -3,6 +3,7 @@
 import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
 import { formatReport } from '../../src/cli/check.ts';
+import { formatAnalysis } from '../../src/cli/format-analysis.ts';
 import { openAudioFile } from '../../src/decode/index.ts';
 import { analyzeFile } from '../../src/engine/analyze-file.ts';
 import { writeWavFile } from '../../src/encode/wav.ts';
@@ -256,6 +257,9 @@ describe('programme loudness after a line-up', () => {
     const doc = await analyzeFile(withHead, {});
     expect(doc.head.programmeStartFrame).toBe(seconds(6));
     expect(doc.summary.integratedFromSeconds).toBe(6);
+    expect(formatAnalysis(doc)).toMatch(
+      /Integrated loudness\s+-\d+\.\d LUFS from 6\.00 s, after the line-up \(whole file -\d+\.\d LUFS\)/,
+    );
     // The same samples from the programme start, as a file of their own: the reference reading.
     const decoded = await openAudioFile(withHead);
     const parts: Float32Array[][] = [];
