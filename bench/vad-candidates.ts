@@ -54,15 +54,15 @@ function construct(x: unknown, key: string, args: unknown[]): unknown {
   return Reflect.construct(c, args);
 }
 
-/** 48 kHz to 16 kHz: two low-pass biquads at 7 kHz, every third sample. */
-function to16k(x: Float32Array): Float32Array {
-  const a = rbj('low', 7000, 48000);
-  const out = new Float32Array(Math.floor(x.length / 3));
+/** Keeps every `factor`-th sample after two low-pass biquads at `cutoffHz`. */
+function decimate(x: Float32Array, factor: number, cutoffHz: number, rate: number): Float32Array {
+  const a = rbj('low', cutoffHz, rate);
+  const out = new Float32Array(Math.floor(x.length / factor));
   let z0 = 0,
     z1 = 0,
     z2 = 0,
     z3 = 0;
-  for (let i = 0; i < out.length * 3; i++) {
+  for (let i = 0; i < out.length * factor; i++) {
     const s = x[i];
     const y = a.b0 * s + z0;
     z0 = a.b1 * s - a.a1 * y + z1;
@@ -70,10 +70,15 @@ function to16k(x: Float32Array): Float32Array {
     const v = a.b0 * y + z2;
     z2 = a.b1 * y - a.a1 * v + z3;
     z3 = a.b2 * y - a.a2 * v;
-    if (i % 3 === 2) out[(i - 2) / 3] = v;
+    if (i % factor === factor - 1) out[(i - factor + 1) / factor] = v;
   }
   return out;
 }
+
+/** 48 kHz to 16 kHz: two low-pass biquads at 7 kHz, every third sample. */
+const to16k = (x: Float32Array) => decimate(x, 3, 7000, 48000);
+/** 16 kHz to 8 kHz: two low-pass biquads at 3.5 kHz, every second sample. */
+const decimateBy2 = (x: Float32Array) => decimate(x, 2, 3500, 16000);
 
 /**
  * Silero VAD (v5/v6 ONNX) on an onnxruntime module (node: native CPU; web: WebAssembly), one
@@ -130,27 +135,6 @@ async function silero(
       return { frameSeconds: FRAME / rate, decisions };
     },
   };
-}
-
-/** 16 kHz to 8 kHz: two low-pass biquads at 3.5 kHz, every second sample. */
-function decimateBy2(x: Float32Array): Float32Array {
-  const a = rbj('low', 3500, 16000);
-  const out = new Float32Array(Math.floor(x.length / 2));
-  let z0 = 0,
-    z1 = 0,
-    z2 = 0,
-    z3 = 0;
-  for (let i = 0; i < out.length * 2; i++) {
-    const s = x[i];
-    const y = a.b0 * s + z0;
-    z0 = a.b1 * s - a.a1 * y + z1;
-    z1 = a.b2 * s - a.a2 * y;
-    const v = a.b0 * y + z2;
-    z2 = a.b1 * y - a.a1 * v + z3;
-    z3 = a.b2 * y - a.a2 * v;
-    if (i % 2 === 1) out[(i - 1) / 2] = v;
-  }
-  return out;
 }
 
 async function webrtc(modules: string, mode: number): Promise<Candidate> {

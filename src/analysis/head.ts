@@ -39,8 +39,8 @@ export interface HeadMeterOptions {
   popIsolationSeconds?: number;
 }
 
-export interface ToneSegment {
-  channel: number;
+/** A stretch of steady sine: a line-up tone segment or a sync pop. */
+interface SineSpan {
   startFrame: number;
   endFrame: number;
   startSeconds: number;
@@ -48,20 +48,17 @@ export interface ToneSegment {
   frequencyHz: number;
   peakDbfs: number;
   rmsDbfs: number;
+}
+
+export interface ToneSegment extends SineSpan {
+  channel: number;
   /** AES17: RMS referenced to a full-scale sine (RMS + 3.01 dB), equal to the peak for a sine. */
   rmsAes17Db: number;
   /** Still sounding when the programme started (no silence between). */
   intoProgramme: boolean;
 }
 
-export interface PopReading {
-  startFrame: number;
-  endFrame: number;
-  startSeconds: number;
-  endSeconds: number;
-  frequencyHz: number;
-  peakDbfs: number;
-  rmsDbfs: number;
+export interface PopReading extends SineSpan {
   channels: number[];
 }
 

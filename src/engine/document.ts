@@ -2,7 +2,8 @@
 // carry their unit. A level of digital silence is null (JSON has no -Infinity).
 
 import type { AnalysisEvent, EventKind } from '../analysis/events.ts';
-import type { DownmixGains } from '../analysis/downmix.ts';
+import type { DownmixResult } from '../analysis/downmix.ts';
+import type { HeadResult } from '../analysis/head.ts';
 import { isEventList, METER_NAMES, METERS, type Measurements } from '../analysis/runner.ts';
 import type { AudioFormat, DecodeWarning } from '../decode/types.ts';
 import { integratedLufsFrom } from '../analysis/loudness.ts';
@@ -64,16 +65,16 @@ export interface DocumentIntegrityProblem {
 export interface DownmixReadings {
   measured: boolean;
   /** ITU-R BS.775 Lo/Ro of a 5.0/5.1-or-wider file; null for other layouts or when not measured. */
-  loRo: {
-    gains: DownmixGains;
-    integratedLufs: number | null;
-    truePeakDbtp: number | null;
-    truePeakAtSeconds: number | null;
-    /** Runs of Lo or Ro samples at or over full scale (each run is a 'downmix_clipping' event). */
-    clipRuns: number;
-    clippedSamples: number;
-    longestClipRunSamples: number;
-  } | null;
+  loRo: Pick<
+    DownmixResult,
+    | 'gains'
+    | 'integratedLufs'
+    | 'truePeakDbtp'
+    | 'truePeakAtSeconds'
+    | 'clipRuns'
+    | 'clippedSamples'
+    | 'longestClipRunSamples'
+  > | null;
   /** Stereo only: the mono sum L + R, and its loss against the stereo integrated loudness. */
   mono: {
     integratedLufs: number | null;
@@ -92,19 +93,12 @@ export interface DownmixReadings {
 export function downmixReadings(m: Measurements): DownmixReadings {
   const d = m.downmix;
   const stereo = m.loudness.integratedLufs;
+  const { gains, integratedLufs, truePeakDbtp, truePeakAtSeconds, clipRuns, clippedSamples, longestClipRunSamples } = d;
   return {
     measured: d.enabled,
     loRo:
       d.kind === 'lo_ro'
-        ? {
-            gains: d.gains,
-            integratedLufs: d.integratedLufs,
-            truePeakDbtp: d.truePeakDbtp,
-            truePeakAtSeconds: d.truePeakAtSeconds,
-            clipRuns: d.clipRuns,
-            clippedSamples: d.clippedSamples,
-            longestClipRunSamples: d.longestClipRunSamples,
-          }
+        ? { gains, integratedLufs, truePeakDbtp, truePeakAtSeconds, clipRuns, clippedSamples, longestClipRunSamples }
         : null,
     mono:
       d.kind === 'mono_sum'
@@ -117,6 +111,14 @@ export function downmixReadings(m: Measurements): DownmixReadings {
     channelIntegratedLufs: d.channelIntegratedLufs,
     note: d.note,
   };
+}
+
+/**
+ * Where the line-up at the head ends: the programme start, when the file opens with a line-up
+ * tone or a sync pop; null otherwise. Loudness, dropouts and dead air count from here.
+ */
+export function lineUpEndFrame(head: HeadResult): number | null {
+  return head.toneSegments.length > 0 || head.headPop !== null ? head.programmeStartFrame : null;
 }
 
 /** One 400 ms gating block (ITU-R BS.1770-5 eq. (3)): audio shorter than this has no loudness at all. */
@@ -294,8 +296,7 @@ export function buildAnalysisDocument(
   const rate = format.sampleRate;
   const { events, eventCounts, eventsTruncated } = collectEvents(m);
   // A line-up (tone or sync pop) is not programme: the integrated loudness starts after it.
-  const lineUp = m.head.toneSegments.length > 0 || m.head.headPop !== null;
-  const programmeFrom = lineUp ? (m.head.programmeStartFrame ?? 0) : 0;
+  const programmeFrom = lineUpEndFrame(m.head) ?? 0;
   const dead = new Set(m.channelRelations.deadChannels);
   const { declaredLoudness, ...formatFields } = format;
   const doc: AnalysisDocument = {

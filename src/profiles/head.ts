@@ -6,7 +6,7 @@
 // tone at the very top does not read as "no head silence". Without a tone it is the silence
 // before the first sound, as before.
 
-import type { AnalysisDocument } from '../engine/document.ts';
+import { type AnalysisDocument, lineUpEndFrame } from '../engine/document.ts';
 import { EarmarkError } from '../errors/index.ts';
 import { type FrameRate, framesAtSample, timecodeAtSample } from './timecode.ts';
 
@@ -34,11 +34,9 @@ export function headSilenceOf(doc: AnalysisDocument): HeadSilence {
  * own (tone, gap, pop, gap), not dropouts or dead air in the programme.
  */
 export function lineUpSpans(doc: AnalysisDocument): { headEndSample: number | null; tailStartSample: number | null } {
-  const head = doc.head;
-  const hasHead = head.toneSegments.length > 0 || head.headPop !== null;
   return {
-    headEndSample: hasHead ? head.programmeStartFrame : null,
-    tailStartSample: head.tailPop !== null ? head.programmeEndFrame : null,
+    headEndSample: lineUpEndFrame(doc.head),
+    tailStartSample: doc.head.tailPop !== null ? doc.head.programmeEndFrame : null,
   };
 }
 
