@@ -114,11 +114,20 @@ export function downmixReadings(m: Measurements): DownmixReadings {
 }
 
 /**
+ * A line-up tone lasts seconds (EBU Tech 3304 opens with 3 s; common practice is longer): a
+ * shorter steady sine at the head may be the programme's own opening, whose silences and
+ * loudness must still count.
+ */
+export const LINE_UP_MIN_TONE_SECONDS = 1;
+
+/**
  * Where the line-up at the head ends: the programme start, when the file opens with a line-up
- * tone or a sync pop; null otherwise. Loudness, dropouts and dead air count from here.
+ * tone (a segment of LINE_UP_MIN_TONE_SECONDS or more) or a sync pop; null otherwise. Loudness,
+ * dropouts and dead air count from here.
  */
 export function lineUpEndFrame(head: HeadResult): number | null {
-  return head.toneSegments.length > 0 || head.headPop !== null ? head.programmeStartFrame : null;
+  const tone = head.toneSegments.some((t) => t.endSeconds - t.startSeconds >= LINE_UP_MIN_TONE_SECONDS);
+  return tone || head.headPop !== null ? head.programmeStartFrame : null;
 }
 
 /** One 400 ms gating block (ITU-R BS.1770-5 eq. (3)): audio shorter than this has no loudness at all. */

@@ -285,4 +285,25 @@ describe('programme loudness after a line-up', () => {
     // The -18 dBFS tone (about -18 LUFS) pulls the whole file's reading 1.2 LU away from the programme's.
     expect(Math.abs((doc.summary.wholeFileIntegratedLufs ?? 0) - (doc.summary.integratedLufs ?? 0))).toBeGreaterThan(1);
   });
+
+  it('a short steady sine at the head (under LINE_UP_MIN_TONE_SECONDS) is programme: its gap still counts', async () => {
+    // 0.6 s of 1 kHz, 0.5 s of digital silence, programme: an opening, not a line-up.
+    const pieces: Piece[] = [0, 1].flatMap((channel): Piece[] => [
+      { kind: 'sine', channel, startFrame: 0, frames: seconds(0.6), hz: 1000, levelDbfs: -18 },
+      { kind: 'programme', channel, startFrame: seconds(1.1), frames: seconds(4) },
+    ]);
+    const path = join(dir, 'short-sine-opening.wav');
+    await writeWavFile(path, { sampleRate: RATE, channels: 2, bitsPerSample: 24, float: false }, [
+      compose(2, seconds(6), pieces),
+    ]);
+    const rules: Rule[] = [
+      { id: 'air', type: 'silence-gap', severity: 'fail', maxSeconds: 0.3, source: 'common practice' },
+    ];
+    const p = profile(rules);
+    const doc = await analyzeFile(path, { analysis: analysisOptionsForProfile(p) });
+    expect(doc.head.toneSegments.length).toBeGreaterThan(0);
+    expect(doc.summary.integratedFromSeconds).toBe(0);
+    expect(doc.summary.integratedLufs).toBe(doc.summary.wholeFileIntegratedLufs);
+    expect(checkOf(evaluate(p, doc), 'air').passed).toBe(false);
+  });
 });
