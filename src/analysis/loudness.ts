@@ -279,6 +279,19 @@ function toLufsInPlace(series: Float64Array): Float64Array {
  * powers themselves. Block j starts at round(j * fs / 10), as the meter's sub-blocks do.
  */
 export function integratedLufsFrom(momentaryLufs: Float64Array, fromFrame: number, sampleRate: number): number | null {
+  return gatedLoudness(gatingBlocksFrom(momentaryLufs, fromFrame, sampleRate).powers, RELATIVE_GATE_LU).loudness;
+}
+
+/**
+ * The gating blocks' powers from the momentary series, from the first block that starts at or
+ * after `fromFrame` (`first`: its index; block j starts at round(j * fs / 10)). Below the
+ * absolute gate a block's power is 0.
+ */
+export function gatingBlocksFrom(
+  momentaryLufs: Float64Array,
+  fromFrame: number,
+  sampleRate: number,
+): { first: number; powers: Float64Array } {
   let first = Math.max(0, Math.floor((fromFrame * 10) / sampleRate) - 1);
   while (Math.round((first * sampleRate) / 10) < fromFrame) first++;
   const start = SUBBLOCKS_PER_MOMENTARY - 1 + first;
@@ -287,7 +300,12 @@ export function integratedLufsFrom(momentaryLufs: Float64Array, fromFrame: numbe
     const lufs = momentaryLufs[start + i];
     powers[i] = Number.isNaN(lufs) ? 0 : 10 ** ((lufs - LOUDNESS_OFFSET) / 10);
   }
-  return gatedLoudness(powers, RELATIVE_GATE_LU).loudness;
+  return { first, powers };
+}
+
+/** Gated loudness with BS.1770-5's relative gate (eq. (6)). */
+export function gatedLufs(blockPowers: Float64Array): number | null {
+  return gatedLoudness(blockPowers, RELATIVE_GATE_LU).loudness;
 }
 
 /** BS.1770-5 eqs. (4)-(7): absolute gate at -70 LKFS, then a relative gate. */

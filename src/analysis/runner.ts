@@ -15,6 +15,7 @@ import { LoudnessMeter, type LoudnessOptions, type LoudnessResult } from './loud
 import { SilenceMeter, type SilenceMeterOptions, type SilenceResult } from './silence.ts';
 import { TimeWeightedLevelMeter, type TimeWeightedLevelResult } from './ballistics.ts';
 import { TruePeakMeter, type TruePeakOptions, type TruePeakResult } from './true-peak.ts';
+import { SpeechMeter, type SpeechClassifier, type SpeechOptions, type SpeechResult } from './speech/meter.ts';
 import {
   ReconstructedPeakMeter,
   type ReconstructedPeakOptions,
@@ -32,6 +33,13 @@ export interface AnalysisOptions {
   downmix?: DownmixOptions;
   /** The silence threshold is the silence meter's unless set here. */
   head?: HeadMeterOptions;
+  speech?: SpeechOptions;
+}
+
+/** What some meters need besides options, made by the engine (not sent to meter threads). */
+export interface MeterContext {
+  /** The speech detector, when options.speech asks for it. */
+  speechClassifier?: SpeechClassifier;
 }
 
 export interface Measurements {
@@ -47,6 +55,7 @@ export interface Measurements {
   channelRelations: ChannelRelationResult;
   downmix: DownmixResult;
   head: HeadResult;
+  speech: SpeechResult;
 }
 
 export type MeterName = Exclude<keyof Measurements, 'frames'>;
@@ -56,7 +65,9 @@ export type MeterName = Exclude<keyof Measurements, 'frames'>;
  * whole on one thread, so results are never combined across threads.
  */
 export interface MeterDescriptor<R> {
-  create: (info: StreamInfo, options: AnalysisOptions) => Meter<R>;
+  create: (info: StreamInfo, options: AnalysisOptions, context?: MeterContext) => Meter<R>;
+  /** Runs on the decoding thread only: its work is asynchronous (settle) or needs the context. */
+  mainThreadOnly?: true;
   /** Relative thread cost: ms per stereo audio minute, the meter's time in a one-thread run of the
    * 60-minute benchmark file (bench/meters.ts); the parallel runner balances threads by it. */
   costMsPerMinute: number;
@@ -134,7 +145,26 @@ export const METERS: { readonly [K in MeterName]: MeterDescriptor<Measurements[K
     readsEnvelope: true,
     events: null,
   },
+  // Off unless asked (options.speech.enabled); its cost when on is SPEECH_COST_MS_PER_MINUTE.
+  speech: {
+    create: (info, o, context) => new SpeechMeter(info, o.speech, context?.speechClassifier ?? null),
+    costMsPerMinute: 0,
+    readsEnvelope: false,
+    events: null,
+    mainThreadOnly: true,
+  },
 };
+
+/** The speech meter's time when on: Silero VAD at about 220x real time (bench/vad-candidates.ts). */
+export const SPEECH_COST_MS_PER_MINUTE = 270;
+
+/** A meter whose work finishes asynchronously after push: the runner awaits settle() per block. */
+interface SettlingMeter {
+  settle(): Promise<void>;
+}
+function settles(meter: object): meter is SettlingMeter {
+  return 'settle' in meter && typeof meter.settle === 'function';
+}
 
 export const METER_NAMES = Object.keys(METERS) as MeterName[];
 /** Meters that read the block envelope; a runner without them skips that pass. */
@@ -157,11 +187,13 @@ export class AnalysisRunner implements Meter<Measurements> {
   /** Per meter run: puts its result in a partial Measurements. */
   private readonly collectors: ((out: Partial<Measurements>) => void)[] = [];
   private readonly envelopes: EnvelopeBuilder | null;
+  private readonly settling: SettlingMeter[] = [];
 
   constructor(
     readonly info: StreamInfo,
     options: AnalysisOptions = {},
     only: readonly MeterName[] = METER_NAMES,
+    private readonly context: MeterContext = {},
   ) {
     const names = METER_NAMES.filter((name) => only.includes(name));
     for (const name of names) this.start(name, options);
@@ -169,8 +201,9 @@ export class AnalysisRunner implements Meter<Measurements> {
   }
 
   private start<K extends MeterName>(name: K, options: AnalysisOptions): void {
-    const meter: Meter<Measurements[K]> = METERS[name].create(this.info, options);
+    const meter: Meter<Measurements[K]> = METERS[name].create(this.info, options, this.context);
     this.meters.push(meter);
+    if (settles(meter)) this.settling.push(meter);
     this.collectors.push((out) => {
       out[name] = meter.result();
     });
@@ -185,6 +218,11 @@ export class AnalysisRunner implements Meter<Measurements> {
       block.envelope || !this.envelopes ? block : { ...block, envelope: this.envelopes.build(block) };
     for (const meter of this.meters) meter.push(shared);
     this.frames += block.frames;
+  }
+
+  /** Waits for the meters whose work on the blocks pushed so far is asynchronous. */
+  async settle(): Promise<void> {
+    for (const meter of this.settling) await meter.settle();
   }
 
   /** Every meter's result; only a runner of all the meters has one (see partialResult). */

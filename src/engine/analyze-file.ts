@@ -5,7 +5,7 @@ import { createReadStream } from 'node:fs';
 import { stat } from 'node:fs/promises';
 import { basename } from 'node:path';
 import { setImmediate as nextTurn } from 'node:timers/promises';
-import { AnalysisRunner, type AnalysisOptions, type Measurements } from '../analysis/runner.ts';
+import { AnalysisRunner, type AnalysisOptions, type Measurements, type MeterContext } from '../analysis/runner.ts';
 import { ParallelAnalysisRunner } from './parallel-runner.ts';
 import { decodeCostFor, threadsFor, type ThreadChoice } from './thread-plan.ts';
 import { openAudioFile } from '../decode/index.ts';
@@ -13,6 +13,7 @@ import { FileHash } from '../decode/file-hash.ts';
 import { DEFAULT_MAX_BLOCK_FRAMES, type DecodeOptions } from '../decode/types.ts';
 import { EarmarkError } from '../errors/index.ts';
 import { buildAnalysisDocument, type AnalysisDocument } from './document.ts';
+import { sileroClassifier, speechRuntime } from './speech-model.ts';
 
 export interface AnalyzeFileOptions {
   analysis?: AnalysisOptions;
@@ -68,10 +69,19 @@ export async function analyzeFile(path: string, options: AnalyzeFileOptions = {}
     ...(format.frames ? { expectedFrames: format.frames } : {}),
   };
   const threads = threadsFor(options.threads, format);
+  const context: MeterContext = options.analysis?.speech?.enabled
+    ? { speechClassifier: sileroClassifier(await speechRuntime()) }
+    : {};
   if (threads > 1) {
     const decodeCostMsPerMinute = decodeCostFor(format, (await stat(path)).size, fileHash !== null);
-    runner = new ParallelAnalysisRunner(info, options.analysis, threads, { maxBlockFrames, decodeCostMsPerMinute });
-  } else runner = new AnalysisRunner(info, options.analysis);
+    runner = new ParallelAnalysisRunner(
+      info,
+      options.analysis,
+      threads,
+      { maxBlockFrames, decodeCostMsPerMinute },
+      context,
+    );
+  } else runner = new AnalysisRunner(info, options.analysis, undefined, context);
   let measurements: Measurements;
   try {
     const expectedFrames = format.frames ?? 0;
@@ -79,6 +89,7 @@ export async function analyzeFile(path: string, options: AnalyzeFileOptions = {}
     for await (const block of decoded.blocks) {
       if (options.signal?.aborted) throw new EarmarkError('cancelled', 'analysis was cancelled');
       await runner.push(block);
+      if (runner instanceof AnalysisRunner) await runner.settle();
       // Decoding reads synchronously, so without a turn per block (about 1.5 ms of work) no abort,
       // IPC disconnect, progress message or timer would run until the file ends.
       await nextTurn();

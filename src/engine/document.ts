@@ -3,6 +3,7 @@
 
 import type { AnalysisEvent, EventKind } from '../analysis/events.ts';
 import type { DownmixResult } from '../analysis/downmix.ts';
+import { dialogueReading, speechBlockMask, type DialogueReading } from '../analysis/speech/dialogue.ts';
 import type { HeadResult } from '../analysis/head.ts';
 import { isEventList, METER_NAMES, METERS, type Measurements } from '../analysis/runner.ts';
 import type { AudioFormat, DecodeWarning } from '../decode/types.ts';
@@ -177,12 +178,16 @@ export interface AnalysisDocument {
   /** Loudness the file's metadata declares (bext v2, iXML), each figure beside our reading; empty when none. */
   declaredLoudness: DeclaredLoudnessComparison[];
   downmix: DownmixReadings;
+  /** Dialogue-gated loudness (analysis/speech), measured only when asked: it runs a speech detector. */
+  dialogue: DialogueReading;
   events: AnalysisEvent[];
   eventCounts: Partial<Record<EventKind, number>>;
   eventsTruncated: boolean;
   series: {
     momentary: { pointsPerSecond: 10; firstAtSeconds: number; lufs: (number | null)[] };
     shortTerm: { pointsPerSecond: 1; firstAtSeconds: number; lufs: (number | null)[] };
+    /** Per gating block, at the block's end as the momentary series: 1 speech, 0 not; null when not measured. */
+    speech: { pointsPerSecond: 10; firstAtSeconds: number; isSpeech: (0 | 1)[] } | null;
   };
   settings: {
     overCeilingDbtp: number;
@@ -295,6 +300,14 @@ function collectEvents(m: Measurements): Pick<AnalysisDocument, 'events' | 'even
   return { events: all.slice(0, MAX_DOCUMENT_EVENTS), eventCounts, eventsTruncated: truncated };
 }
 
+/** The speech flag of each gating block, at the block's end (0.4 s, 0.5 s, ...). */
+function speechSeries(m: Measurements): AnalysisDocument['series']['speech'] {
+  if (!m.speech.enabled) return null;
+  const blocks = Math.max(0, m.loudness.momentaryLufs.length - 3);
+  const mask = speechBlockMask(m.speech.frameIsSpeech, m.speech.frameSeconds, blocks);
+  return { pointsPerSecond: 10, firstAtSeconds: 0.4, isSpeech: Array.from(mask, (v) => (v === 1 ? 1 : 0)) };
+}
+
 export function buildAnalysisDocument(
   format: AudioFormat,
   m: Measurements,
@@ -308,6 +321,8 @@ export function buildAnalysisDocument(
   const programmeFrom = lineUpEndFrame(m.head) ?? 0;
   const dead = new Set(m.channelRelations.deadChannels);
   const { declaredLoudness, ...formatFields } = format;
+  const integratedLufs =
+    programmeFrom > 0 ? integratedLufsFrom(m.loudness.momentaryLufs, programmeFrom, rate) : m.loudness.integratedLufs;
   const doc: AnalysisDocument = {
     schemaVersion: DOCUMENT_SCHEMA_VERSION,
     engine: { name: ENGINE_NAME, version: ENGINE_VERSION },
@@ -319,10 +334,7 @@ export function buildAnalysisDocument(
       timeReferenceSeconds: format.timeReferenceSamples === null ? null : format.timeReferenceSamples / rate,
     },
     summary: {
-      integratedLufs:
-        programmeFrom > 0
-          ? integratedLufsFrom(m.loudness.momentaryLufs, programmeFrom, rate)
-          : m.loudness.integratedLufs,
+      integratedLufs,
       integratedFromSeconds: programmeFrom / rate,
       wholeFileIntegratedLufs: m.loudness.integratedLufs,
       loudnessRangeLu: m.loudness.loudnessRangeLu,
@@ -378,6 +390,7 @@ export function buildAnalysisDocument(
     head: m.head,
     declaredLoudness: [],
     downmix: downmixReadings(m),
+    dialogue: dialogueReading(m.speech, m.loudness.momentaryLufs, programmeFrom, rate, integratedLufs),
     events,
     eventCounts,
     eventsTruncated,
@@ -385,6 +398,7 @@ export function buildAnalysisDocument(
       momentary: { pointsPerSecond: 10, firstAtSeconds: 0.1, lufs: seriesPoints(m.loudness.momentaryLufs, 0, 1) },
       // The 10 Hz short-term series at whole seconds (its 10th value ends at 1 s).
       shortTerm: { pointsPerSecond: 1, firstAtSeconds: 1, lufs: seriesPoints(m.loudness.shortTermLufs, 9, 10) },
+      speech: speechSeries(m),
     },
     settings: {
       overCeilingDbtp: m.truePeak.overCeilingDbtp,

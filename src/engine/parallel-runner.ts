@@ -12,7 +12,9 @@ import {
   METERS,
   type AnalysisOptions,
   type Measurements,
+  type MeterContext,
   type MeterName,
+  SPEECH_COST_MS_PER_MINUTE,
 } from '../analysis/runner.ts';
 import { EarmarkError, fromWireError } from '../errors/index.ts';
 import { EnvelopeBuilder } from '../analysis/envelope.ts';
@@ -78,6 +80,7 @@ export function meterGroups(threads: number, decodeCost = PCM_DECODE_COST): Mete
   const started = load.map((l, t) => t === 0 || l > 0);
   const lightest = load.reduce((min, l, t) => (started[t] && l < load[min] ? t : min), 0);
   const groupOf = (name: MeterName) => {
+    if (METERS[name].mainThreadOnly) return 0;
     const m = COSTED.indexOf(name);
     return m < 0 ? lightest : best[m];
   };
@@ -174,10 +177,13 @@ export class ParallelAnalysisRunner {
     readonly info: StreamInfo,
     options: AnalysisOptions = {},
     threads = 2,
-    { maxBlockFrames = DEFAULT_RING_FRAMES, decodeCostMsPerMinute }: ParallelRunnerOptions = {},
+    { maxBlockFrames = DEFAULT_RING_FRAMES, decodeCostMsPerMinute = PCM_DECODE_COST }: ParallelRunnerOptions = {},
+    context: MeterContext = {},
   ) {
-    const [mine, ...theirs] = meterGroups(Math.max(1, Math.floor(threads)), decodeCostMsPerMinute);
-    this.main = new AnalysisRunner(info, options, mine);
+    // The speech detector stays on this thread (mainThreadOnly): its time is this thread's too.
+    const mainCost = decodeCostMsPerMinute + (options.speech?.enabled ? SPEECH_COST_MS_PER_MINUTE : 0);
+    const [mine, ...theirs] = meterGroups(Math.max(1, Math.floor(threads)), mainCost);
+    this.main = new AnalysisRunner(info, options, mine, context);
     // The envelope is built once, here, and shared with every thread through the ring.
     this.envelopes = new EnvelopeBuilder();
     this.ring = theirs.length ? new BlockRing(createRing(info.channels, maxBlockFrames, true)) : null;

@@ -71,6 +71,11 @@ export const errorCatalogue = {
     retryable: true,
     retryAfterSeconds: 5,
   },
+  speech_model_unavailable: {
+    status: 500,
+    title: "The speech detector's model could not be loaded (dialogue loudness needs it)",
+    retryable: false,
+  },
   // Catch-all
   internal_error: { status: 500, title: 'Internal error', retryable: true },
 } as const satisfies Record<string, CatalogueEntry>;
