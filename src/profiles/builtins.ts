@@ -116,6 +116,34 @@ const definitions: Profile[] = [
     ],
   },
   {
+    id: 'streaming-dialogue-anchored',
+    name: 'Streaming, anchored on dialogue where there is speech',
+    version: '1.0.0',
+    description:
+      'Assorted streamed content: dialogue-gated loudness -18 LUFS within 1 LU where speech fills at least 10 % of the programme, else programme loudness -18 LUFS within 2 LU; true peak at most -1 dBTP. Values from quotations of AES TD1008 (secondary). TD1008 states the tolerances upward only; they apply both ways here, and the 10 % speech share that makes dialogue measurable is our choice.',
+    basis: 'AES TD1008.1.21-9 (2021) Table 1 (secondary quotation)',
+    timecode: { frameRate: '25' },
+    rules: [
+      {
+        id: 'anchor-loudness',
+        type: 'integrated-loudness',
+        severity: 'fail',
+        targetLufs: -18,
+        toleranceLu: 2,
+        dialogueAnchor: { minSpeechSharePercent: 10, toleranceLu: 1 },
+        source:
+          'AES TD1008 Table 1 (secondary): dialogue -18 LUFS +1 LU where measurable, else -18 LUFS +2 LU; both ways and the 10 % share our choice',
+      },
+      {
+        id: 'true-peak',
+        type: 'true-peak',
+        severity: 'fail',
+        maxDbtp: -1,
+        source: 'AES TD1008, at the codec input of lossy-encoded streams (secondary quotation)',
+      },
+    ],
+  },
+  {
     id: 'podcast',
     name: 'Podcast (common practice)',
     version: '1.0.0',

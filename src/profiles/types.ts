@@ -70,6 +70,18 @@ export interface IntegratedLoudnessRule extends RuleBase {
    * @minimum 0 @maximum 2
    */
   measurementToleranceLu?: number;
+  /** Judge dialogue loudness instead of programme loudness when the programme has enough speech (runs the speech detector). */
+  dialogueAnchor?: DialogueAnchor;
+}
+/** @minimum 1 @maximum 100 */
+type SpeechSharePercent = number;
+/** When speech fills at least minSpeechSharePercent of the programme's gating blocks, the rule judges the dialogue-gated loudness, with these limits where given (the rule's own otherwise); else the programme loudness. */
+export interface DialogueAnchor {
+  minSpeechSharePercent: SpeechSharePercent;
+  /** @minimum 0 @maximum 10 */
+  toleranceLu?: number;
+  minLufs?: Lufs;
+  maxLufs?: Lufs;
 }
 /** annex2: the BS.1770-5 Annex 2 example filter (conformance); reconstructed: our band-limited reading, which does not under-read. */
 export type TruePeakReading = 'annex2' | 'reconstructed';
@@ -298,6 +310,39 @@ export interface DeclaredLoudnessRule extends RuleBase {
   requireDeclared?: boolean;
 }
 
+/**
+ * Dialogue-gated loudness (BS.1770 over the gating blocks a speech detector marks as speech): targetLufs with toleranceLu, or minLufs and/or maxLufs.
+ * @dependentRequired {"toleranceLu": ["targetLufs"]}
+ */
+export interface DialogueLoudnessRule extends RuleBase {
+  type: 'dialogue-loudness';
+  targetLufs?: Lufs;
+  /** @minimum 0 @maximum 10 */
+  toleranceLu?: number;
+  minLufs?: Lufs;
+  maxLufs?: Lufs;
+  /** Below this share of speech blocks dialogue is not measurable (default 10). */
+  minSpeechSharePercent?: SpeechSharePercent;
+  /** Fail when dialogue is not measurable; by default the rule is then not applied. */
+  requireDialogue?: boolean;
+}
+/** Share of the programme's gating blocks that hold speech, in percent: at least minPercent and/or at most maxPercent. */
+export interface SpeechShareRule extends RuleBase {
+  type: 'speech-share';
+  /** @minimum 0 @maximum 100 */
+  minPercent?: number;
+  /** @minimum 0 @maximum 100 */
+  maxPercent?: number;
+}
+/** Loudness-to-dialogue ratio (EBU R 128 s4): programme minus dialogue loudness, in LU, at most maxLu and/or at least minLu. Not applied when dialogue is not measurable. */
+export interface LoudnessToDialogueRule extends RuleBase {
+  type: 'loudness-to-dialogue';
+  /** @minimum -40 @maximum 40 */
+  maxLu?: number;
+  /** @minimum -40 @maximum 40 */
+  minLu?: number;
+}
+
 /** @discriminator type */
 export type Rule =
   | IntegratedLoudnessRule
@@ -327,7 +372,10 @@ export type Rule =
   | DownmixLoudnessRule
   | DownmixTruePeakRule
   | DownmixClippingRule
-  | MonoCompatibilityRule;
+  | MonoCompatibilityRule
+  | DialogueLoudnessRule
+  | SpeechShareRule
+  | LoudnessToDialogueRule;
 
 export type RuleType = Rule['type'];
 

@@ -153,6 +153,23 @@ const cases: Case[] = [
     passes: false,
     source: 'AES TD1004.1.15-10 (secondary)',
   },
+  // AES TD1008 Table 1 (secondary): no measurable dialogue (a tone holds no speech), so the
+  // programme anchor: -18 LUFS within 2 LU (applied both ways, our reading); true peak -1 dBTP.
+  ...[
+    { peakDbfs: -16.15, passes: true },
+    { peakDbfs: -15.85, passes: false },
+    { peakDbfs: -19.85, passes: true },
+    { peakDbfs: -20.15, passes: false },
+  ].map((c) => ({
+    ...c,
+    profile: 'streaming-dialogue-anchored',
+    rule: 'anchor-loudness',
+    source: 'AES TD1008 (secondary)',
+  })),
+  ...[
+    { peakDbfs: -1.1, passes: true },
+    { peakDbfs: -0.9, passes: false },
+  ].map((c) => ({ ...c, profile: 'streaming-dialogue-anchored', rule: 'true-peak', source: 'AES TD1008 (secondary)' })),
   // Podcast: common practice, -16 LUFS stereo +/-1 LU, -1 dBTP.
   { profile: 'podcast', rule: 'programme-loudness', peakDbfs: -15.15, passes: true, source: 'common practice' },
   { profile: 'podcast', rule: 'programme-loudness', peakDbfs: -14.85, passes: false, source: 'common practice' },

@@ -154,6 +154,7 @@ describe('profile validation', () => {
       'ebu-r128-short-form',
       'atsc-a85',
       'streaming-aes',
+      'streaming-dialogue-anchored',
       'podcast',
       'delivery-broadcast-stereo',
       'delivery-broadcast-5-1',

@@ -9,6 +9,9 @@ import { container } from './container.ts';
 import { dcOffset } from './dc-offset.ts';
 import { deadChannel } from './dead-channel.ts';
 import { declaredLoudness } from './declared-loudness.ts';
+import { dialogueLoudness } from './dialogue-loudness.ts';
+import { loudnessToDialogue } from './loudness-to-dialogue.ts';
+import { speechShare } from './speech-share.ts';
 import { downmixClipping } from './downmix-clipping.ts';
 import { downmixLoudness } from './downmix-loudness.ts';
 import { downmixTruePeak } from './downmix-true-peak.ts';
@@ -63,6 +66,9 @@ export const RULES: RuleRegistry = {
   'downmix-true-peak': downmixTruePeak,
   'downmix-clipping': downmixClipping,
   'mono-compatibility': monoCompatibility,
+  'dialogue-loudness': dialogueLoudness,
+  'speech-share': speechShare,
+  'loudness-to-dialogue': loudnessToDialogue,
 };
 
 export function isRuleType(value: string): value is RuleType {

@@ -5,6 +5,7 @@ import { fmt, fmtAgainst, fmtLimit } from '../format.ts';
 import type { CheckLimit } from '../report.ts';
 import type { IntegratedLoudnessRule } from '../types.ts';
 import { notMeasurable, verdictOf, within } from './drafts.ts';
+import { askForSpeech, whyNoDialogue } from './dialogue-common.ts';
 import { orderIssues } from './issues.ts';
 import type { Draft, ProfileIssue, RuleSpec } from './rule-spec.ts';
 
@@ -18,8 +19,34 @@ export function whyNoLoudness(doc: AnalysisDocument): string {
   return 'no 400 ms block is above the -70 LUFS absolute gate';
 }
 
+/**
+ * The dialogue anchor's choice: the dialogue reading and the limits that then apply when speech
+ * fills enough of the programme, else null (the programme loudness is judged).
+ */
+function anchorOf(rule: IntegratedLoudnessRule, doc: AnalysisDocument): { value: number; rule: IntegratedLoudnessRule } | null {
+  const anchor = rule.dialogueAnchor;
+  if (!anchor || whyNoDialogue(doc, anchor.minSpeechSharePercent) !== null) return null;
+  const value = doc.dialogue.dialogueLufs;
+  if (value === null) return null;
+  const { minSpeechSharePercent: _share, ...limits } = anchor;
+  return { value, rule: { ...rule, ...limits } };
+}
+
 function check(rule: IntegratedLoudnessRule, doc: AnalysisDocument): Draft {
-  const value = doc.summary.integratedLufs;
+  const anchored = anchorOf(rule, doc);
+  const anchor = rule.dialogueAnchor;
+  if (anchored) {
+    const share = `speech in ${fmt(doc.dialogue.speechSharePercent ?? 0)} % of the programme, at least ${anchor?.minSpeechSharePercent} %`;
+    const draft = judge(anchored.rule, anchored.value, 'Dialogue loudness', doc);
+    return { ...draft, explanation: `${draft.explanation}; anchored on dialogue (${share})` };
+  }
+  const draft = judge(rule, doc.summary.integratedLufs, 'Integrated loudness', doc);
+  if (!anchor) return draft;
+  const why = whyNoDialogue(doc, anchor.minSpeechSharePercent) ?? 'no dialogue reading';
+  return { ...draft, explanation: `${draft.explanation}; anchored on the programme (${why})` };
+}
+
+function judge(rule: IntegratedLoudnessRule, value: number | null, what: string, doc: AnalysisDocument): Draft {
   const { targetLufs, toleranceLu } = rule;
   const limit: CheckLimit =
     targetLufs !== undefined && toleranceLu !== undefined
@@ -29,9 +56,9 @@ function check(rule: IntegratedLoudnessRule, doc: AnalysisDocument): Draft {
           ...(rule.maxLufs !== undefined ? { max: rule.maxLufs } : {}),
           ...(targetLufs !== undefined ? { targetLufs } : {}),
         };
-  if (value === null) return notMeasurable('Integrated loudness', 'LUFS', limit, whyNoLoudness(doc), false);
+  if (value === null) return notMeasurable(what, 'LUFS', limit, whyNoLoudness(doc), false);
   if (targetLufs === undefined || toleranceLu === undefined)
-    return { ...within('Integrated loudness', value, rule.minLufs, rule.maxLufs, 'LUFS', 'LU'), limit };
+    return { ...within(what, value, rule.minLufs, rule.maxLufs, 'LUFS', 'LU'), limit };
   const measurementTolerance = rule.measurementToleranceLu ?? 0;
   const deviation = value - targetLufs;
   const gap = Math.abs(deviation);
@@ -42,8 +69,8 @@ function check(rule: IntegratedLoudnessRule, doc: AnalysisDocument): Draft {
   const tol = `tolerance ±${fmt(toleranceLu)} LU${measurementTolerance > 0 ? `, measurement tolerance ±${fmt(measurementTolerance)} LU` : ''}`;
   let explanation =
     passed && fmt(gap) === '0.0'
-      ? `Integrated loudness ${fmt(value)} LUFS is on the ${fmtLimit(targetLufs)} LUFS target (${tol})`
-      : `Integrated loudness ${fmt(value)} LUFS is ${gapText} LU ${side} the ${fmtLimit(targetLufs)} LUFS target (${tol})`;
+      ? `${what} ${fmt(value)} LUFS is on the ${fmtLimit(targetLufs)} LUFS target (${tol})`
+      : `${what} ${fmt(value)} LUFS is ${gapText} LU ${side} the ${fmtLimit(targetLufs)} LUFS target (${tol})`;
   if (marginal) explanation += ': outside the tolerance but inside the measurement tolerance, so a warning';
   if (measurementTolerance > 0) limit.measurementToleranceLu = measurementTolerance;
   return {
@@ -72,6 +99,18 @@ function issues(rule: IntegratedLoudnessRule, at: string): ProfileIssue[] {
       message: `${at}.toleranceLu cannot be combined with minLufs/maxLufs; use one`,
     });
   out.push(...orderIssues(at, 'minLufs', 'maxLufs', rule.minLufs, rule.maxLufs));
+  const anchor = rule.dialogueAnchor;
+  if (anchor && !range && (anchor.minLufs !== undefined || anchor.maxLufs !== undefined))
+    out.push({
+      field: `${at}.dialogueAnchor`,
+      message: `${at}.dialogueAnchor takes toleranceLu here, as the rule gives a target with a tolerance`,
+    });
+  if (anchor && range && anchor.toleranceLu !== undefined)
+    out.push({
+      field: `${at}.dialogueAnchor.toleranceLu`,
+      message: `${at}.dialogueAnchor takes minLufs/maxLufs here, as the rule gives a range`,
+    });
+  if (anchor) out.push(...orderIssues(`${at}.dialogueAnchor`, 'minLufs', 'maxLufs', anchor.minLufs, anchor.maxLufs));
   if (
     range &&
     rule.targetLufs !== undefined &&
@@ -82,4 +121,11 @@ function issues(rule: IntegratedLoudnessRule, at: string): ProfileIssue[] {
   return out;
 }
 
-export const integratedLoudness: RuleSpec<IntegratedLoudnessRule> = { check, issues };
+export const integratedLoudness: RuleSpec<IntegratedLoudnessRule> = {
+  check,
+  issues,
+  analysis: (rules, options) => {
+    for (const rule of rules)
+      if (rule.dialogueAnchor) askForSpeech(options, rule.dialogueAnchor.minSpeechSharePercent);
+  },
+};
