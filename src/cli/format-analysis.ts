@@ -50,7 +50,7 @@ export function formatAnalysis(doc: AnalysisDocument): string {
         `  ${String(c.index + 1).padEnd(3)} ${c.label.padEnd(6)} ${num(c.samplePeakDbfs)} ${num(c.truePeakDbtp)} ${num(c.rmsDbfs)} ${num(c.crestFactorDb)} ${c.dcOffset.toExponential(2).padStart(10)}  ${String(c.clippingRuns).padStart(9)}  ${String(c.dropouts).padStart(8)}${c.dead ? '  (dead)' : ''}`,
     ),
   ];
-  lines.push(...downmixLines(doc));
+  lines.push(...downmixLines(doc), ...dialogueLines(doc));
   if (!doc.integrity.intact)
     lines.unshift(...doc.integrity.problems.map((p) => `DAMAGED at ${formatTime(p.atSeconds)}: ${p.message}`));
   const counts = Object.entries(doc.eventCounts);
@@ -102,6 +102,19 @@ function downmixLines(doc: AnalysisDocument): string[] {
       `  Each channel alone    ${d.channelIntegratedLufs.map((l, c) => `${channelName(doc, c)} ${orNone(l, 'LUFS')}`).join(', ')} (not summable)`,
     );
   return lines;
+}
+
+/** The dialogue reading, when the analysis ran the speech detector (`--dialogue`). */
+function dialogueLines(doc: AnalysisDocument): string[] {
+  const d = doc.dialogue;
+  if (!d.measured) return [];
+  const share = `speech in ${(d.speechSharePercent ?? 0).toFixed(1)} % of the programme`;
+  if (d.dialogueLufs === null) return ['', `  Dialogue              not measurable: ${d.note ?? share}`];
+  return [
+    '',
+    `  Dialogue              ${d.dialogueLufs.toFixed(1)} LUFS (${share}; detector ${d.detector})`,
+    `  Loudness to dialogue  ${orNone(d.loudnessToDialogueLu, 'LU')} (programme minus dialogue)`,
+  ];
 }
 
 function num(value: number | null): string {

@@ -18,7 +18,7 @@ export const EXIT_ERROR = 3;
 const USAGE = `usage:
   earmark analyze <file> [--json] [--true-peak-ceiling dBTP] [--clip-run N] [--clip-threshold dBFS]
                          [--silence-threshold dBFS] [--silence-min seconds] [--threads N|auto] [--layout name]
-                         [--downmix] [--channel-loudness]
+                         [--downmix] [--channel-loudness] [--dialogue] [--min-speech-share percent]
   earmark check <file> --profile <id|path.json> [--fps rate] [--layout name] [--json] [--threads N|auto]
       rate: 23.976 24 25 29.97-df 29.97-ndf 30 50 59.94-df 59.94-ndf 60 (default: the profile's)
       --layout: channel layout of a file without a channel mask or chna chunk: ${LAYOUT_NAMES.join(' ')}
@@ -79,6 +79,17 @@ export function analysisOptionsFromArgs(values: Record<string, unknown>): Analys
   // Fold-down readings cost extra K-weighting passes: only when asked.
   if (values.downmix === true || values['channel-loudness'] === true)
     options.downmix = { enabled: true, ...(values['channel-loudness'] === true ? { channelLoudness: true } : {}) };
+  // The speech detector is a model inference per 32 ms: only when asked.
+  const minSpeechShare = numberOption(values, 'min-speech-share');
+  if (minSpeechShare !== undefined && !(minSpeechShare > 0 && minSpeechShare <= 100))
+    throw new EarmarkError('invalid_argument', '--min-speech-share must lie above 0 and at most 100 percent', {
+      field: 'min-speech-share',
+    });
+  if (values.dialogue === true || minSpeechShare !== undefined)
+    options.speech = {
+      enabled: true,
+      ...(minSpeechShare !== undefined ? { minimumSharePercent: minSpeechShare } : {}),
+    };
   return options;
 }
 
@@ -92,6 +103,8 @@ const ANALYSIS_FLAGS = {
   layout: { type: 'string' },
   downmix: { type: 'boolean' },
   'channel-loudness': { type: 'boolean' },
+  dialogue: { type: 'boolean' },
+  'min-speech-share': { type: 'string' },
 } as const;
 
 async function analyzeCommand(args: string[], io: CliIo): Promise<number> {

@@ -23,7 +23,10 @@ export function whyNoLoudness(doc: AnalysisDocument): string {
  * The dialogue anchor's choice: the dialogue reading and the limits that then apply when speech
  * fills enough of the programme, else null (the programme loudness is judged).
  */
-function anchorOf(rule: IntegratedLoudnessRule, doc: AnalysisDocument): { value: number; rule: IntegratedLoudnessRule } | null {
+function anchorOf(
+  rule: IntegratedLoudnessRule,
+  doc: AnalysisDocument,
+): { value: number; rule: IntegratedLoudnessRule } | null {
   const anchor = rule.dialogueAnchor;
   if (!anchor || whyNoDialogue(doc, anchor.minSpeechSharePercent) !== null) return null;
   const value = doc.dialogue.dialogueLufs;
@@ -125,7 +128,6 @@ export const integratedLoudness: RuleSpec<IntegratedLoudnessRule> = {
   check,
   issues,
   analysis: (rules, options) => {
-    for (const rule of rules)
-      if (rule.dialogueAnchor) askForSpeech(options, rule.dialogueAnchor.minSpeechSharePercent);
+    for (const rule of rules) if (rule.dialogueAnchor) askForSpeech(options, rule.dialogueAnchor.minSpeechSharePercent);
   },
 };
