@@ -205,6 +205,7 @@ export class ParallelAnalysisRunner {
     this.ring?.publish(this.pushed, block, envelope);
     this.pushed++;
     this.main.push(shared);
+    await this.main.settle();
     // The next block's slot must be free before anyone writes it (the decoder may write it in place).
     await this.ring?.waitWritable(this.pushed, this.threads.length, this.checkThreads);
   }
