@@ -26,6 +26,10 @@ export interface PlotInput {
   /** Ceiling for short-term loudness, drawn as a dashed line. */
   shortTermLimitLufs?: number;
   flags: readonly PlotFlag[];
+  /** Per gating block (400 ms, one every 100 ms; point k ends at firstAtSeconds + k / pointsPerSecond): 1 where the detector heard speech. */
+  speech?: { pointsPerSecond: number; firstAtSeconds: number; isSpeech: readonly number[] };
+  /** Dialogue-gated loudness, drawn as a dotted line. */
+  dialogueLufs?: number;
   /** Formats an axis time (the report's timecode). */
   formatTime: (seconds: number) => string;
   widthPx?: number;
@@ -107,6 +111,32 @@ function polyline(series: PlotSeries, x: (s: number) => number, y: (l: number) =
   return paths;
 }
 
+const SPEECH_LANE_PX = 6;
+
+/** One bar per run of speech blocks along the plot's floor, under the curves. */
+function speechLane(
+  speech: NonNullable<PlotInput['speech']>,
+  x: (seconds: number) => number,
+  top: number,
+  formatTime: (seconds: number) => string,
+): string[] {
+  const step = 1 / speech.pointsPerSecond;
+  const blockSeconds = speech.firstAtSeconds;
+  const runs: [number, number][] = [];
+  speech.isSpeech.forEach((v, k) => {
+    if (v !== 1) return;
+    const start = k * step;
+    const end = start + blockSeconds;
+    const last = runs.at(-1);
+    if (last && start <= last[1]) last[1] = end;
+    else runs.push([start, end]);
+  });
+  return runs.map(
+    ([start, end]) =>
+      `<rect class="em-speech" x="${fmt(x(start))}" y="${top}" width="${fmt(Math.max(1, x(end) - x(start)))}" height="${SPEECH_LANE_PX}"><title>Speech ${escapeXml(formatTime(start))} to ${escapeXml(formatTime(end))}</title></rect>`,
+  );
+}
+
 export function renderLoudnessPlot(input: PlotInput): string {
   const width = input.widthPx ?? 960;
   const height = input.heightPx ?? 320;
@@ -164,6 +194,11 @@ export function renderLoudnessPlot(input: PlotInput): string {
       `<line class="em-limit-line" x1="${plotLeft}" x2="${plotLeft + plotWidth}" y1="${fmt(y(input.shortTermLimitLufs))}" y2="${fmt(y(input.shortTermLimitLufs))}"/>`,
     );
   }
+  if (input.speech) parts.push(...speechLane(input.speech, x, plotTop + plotHeight - SPEECH_LANE_PX, input.formatTime));
+  if (input.dialogueLufs !== undefined)
+    parts.push(
+      `<line class="em-dialogue-line" x1="${plotLeft}" x2="${plotLeft + plotWidth}" y1="${fmt(y(input.dialogueLufs))}" y2="${fmt(y(input.dialogueLufs))}" stroke-dasharray="2 3"><title>Dialogue loudness ${fmt(input.dialogueLufs)} LUFS</title></line>`,
+    );
   for (const points of polyline(input.momentary, x, y))
     parts.push(`<polyline class="em-momentary" points="${points}"/>`);
   for (const points of polyline(input.shortTerm, x, y))

@@ -2,6 +2,7 @@
 // operator enters once (kept in session storage), so the pages need no cookie or session.
 
 import { declaredLoudnessSection } from './declared-section.ts';
+import { dialogueSection } from './dialogue-section.ts';
 import { downmixSection } from './downmix-section.ts';
 import { escapeXml } from './loudness-plot.ts';
 
@@ -122,6 +123,7 @@ export function reportPage(jobId: string): string {
 </section>
 ${declaredLoudnessSection()}
 ${downmixSection()}
+${dialogueSection()}
 </div>`,
     'report.js',
   );

@@ -26,6 +26,8 @@ export function plotInputFor(report: QcReport, widthPx = 960, heightPx = 320): P
     shortTerm: report.series.shortTerm,
     targetBand: targetBand(report),
     ...(shortTermLimit !== undefined ? { shortTermLimitLufs: shortTermLimit } : {}),
+    ...(report.series.speech ? { speech: report.series.speech } : {}),
+    ...(typeof report.dialogue?.dialogueLufs === 'number' ? { dialogueLufs: report.dialogue.dialogueLufs } : {}),
     // Same words as the page's flag list (format.js), so a marker's title matches its list entry.
     flags: report.flags.map((raw, index) => {
       const flag = flagView(raw, index);

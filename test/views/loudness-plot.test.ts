@@ -21,6 +21,19 @@ function input(overrides: Partial<PlotInput> = {}): PlotInput {
 }
 
 describe('renderLoudnessPlot', () => {
+  it('draws one speech bar per run of speech blocks (block k spans k/10 s to k/10 + 0.4 s) and the dialogue line', () => {
+    // Blocks 10-19 (1.0 s to 2.3 s) and 50 (5.0 s to 5.4 s) are speech; the others are not.
+    const isSpeech = Array.from({ length: 596 }, (_, k) => ((k >= 10 && k < 20) || k === 50 ? 1 : 0));
+    const svg = renderLoudnessPlot(
+      input({ speech: { pointsPerSecond: 10, firstAtSeconds: 0.4, isSpeech }, dialogueLufs: -24.5 }),
+    );
+    const bars = [...svg.matchAll(/<rect class="em-speech"[^>]*><title>Speech ([^<]*)<\/title>/g)].map((m) => m[1]);
+    expect(bars).toEqual(['1s to 2s', '5s to 5s']);
+    expect(svg).toContain('<title>Dialogue loudness -24.5 LUFS</title>');
+    expect(renderLoudnessPlot(input())).not.toContain('em-speech');
+  });
+
+
   it('draws one marker per flag, in order, with its label escaped', () => {
     const svg = renderLoudnessPlot(input());
     expect(svg.match(/class="em-flag /g)).toHaveLength(2);

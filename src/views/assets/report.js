@@ -4,6 +4,7 @@
 import { api, el, setupKeyForm, text, verdictBadge } from './common.js';
 import { hasHead, headFacts, headStripSvg } from './head-strip.js';
 import { renderDeclaredLoudness } from './declared.js';
+import { renderDialogue } from './dialogue.js';
 import { renderDownmix } from './downmix.js';
 import { failureHint, flagCountsText, flagDetails, flagView, headlineNamesVerdict, outcomeText } from './format.js';
 
@@ -253,6 +254,7 @@ async function load() {
     renderFlags(report);
     renderDeclaredLoudness(report);
     renderDownmix(report);
+    renderDialogue(report);
     document.getElementById('em-report-body').hidden = false;
     status.textContent = '';
   } catch (error) {
