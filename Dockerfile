@@ -6,6 +6,11 @@ COPY package.json package-lock.json ./
 # stage builds the bundles below); the packages need none of theirs (esbuild finds its platform
 # binary package, msgpackr its prebuilt one).
 RUN npm ci --omit=dev --no-audit --no-fund --ignore-scripts
+# The speech detector loads only onnxruntime-web's Node entry and its one-thread SIMD WebAssembly
+# (files read by `earmark analyze --dialogue`, traced with strace); the browser and GPU builds
+# beside them are 130 MB.
+RUN find node_modules/onnxruntime-web/dist -type f ! -name package.json ! -name ort.node.min.mjs \
+      ! -name ort-wasm-simd-threaded.mjs ! -name ort-wasm-simd-threaded.wasm -delete
 
 FROM node:20-bookworm-slim AS runtime
 ENV NODE_ENV=production
