@@ -205,6 +205,8 @@ export class ParallelAnalysisRunner {
     this.ring?.publish(this.pushed, block, envelope);
     this.pushed++;
     this.main.push(shared);
+    // The speech meter only queues in push: classify this block's frames now, as the one-thread
+    // path does, or they pile up unclassified and the reading finds no speech.
     await this.main.settle();
     // The next block's slot must be free before anyone writes it (the decoder may write it in place).
     await this.ring?.waitWritable(this.pushed, this.threads.length, this.checkThreads);
