@@ -6,7 +6,10 @@ import { createHash } from 'node:crypto';
 import { createReadStream, readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { buildItem, CORPUS_SAMPLE_RATE } from '../../fixtures/dialogue-corpus.ts';
+import { writeWavFile } from '../../src/encode/wav.ts';
 import { verify } from '../../src/worker/webhooks.ts';
+import { hasTool } from '../helpers/tools.ts';
 import { toFlac, writeSine } from './audio.ts';
 import { client, type Client } from './client.ts';
 import { KEYS, startService, until, WEBHOOK_SECRET, type TestService } from './harness.ts';
@@ -88,6 +91,37 @@ describe('upload and report', () => {
     expect(report.summary.truePeakDbtp).toBeGreaterThan(-1);
     expect(report.flags.some((f: { kind: string }) => f.kind === 'true_peak_over')).toBe(true);
   });
+
+  it.skipIf(!hasTool('espeak-ng'))(
+    'speech over music against the dialogue-anchored profile: the worker runs the speech detector and judges dialogue',
+    async () => {
+      const item = buildItem({
+        name: 'promo-voice',
+        seconds: 12,
+        bed: 'music',
+        speechAboveBedDb: 12,
+        speech: true,
+        gapSeconds: [0.4, 1.2],
+        seed: 41,
+      });
+      const path = join(service.dir, 'promo-voice.wav');
+      await writeWavFile(path, { sampleRate: CORPUS_SAMPLE_RATE, channels: 1, bitsPerSample: 24, float: false }, [
+        [item.mix],
+      ]);
+      const submit = await api.upload(path, { profile: 'streaming-dialogue-anchored' }, KEYS.alpha);
+      expect(submit.status).toBe(202);
+      const done = await finished(submit.body.id);
+      expect(done.body.state).toBe('completed');
+      const report = (await api.get(`/v1/jobs/${submit.body.id}/report`, KEYS.alpha)).body;
+      // The truth: the mix over the blocks inside the placed speech, BS.1770-5 gates (fixtures/dialogue-truth.ts).
+      expect(report.dialogue.measured).toBe(true);
+      expect(Math.abs(report.dialogue.dialogueLufs - (item.truth.dialogueLufs ?? 0))).toBeLessThan(1);
+      expect(report.series.speech.isSpeech).toContain(1);
+      const anchor = report.checks.find((c: { ruleId: string }) => c.ruleId === 'anchor-loudness');
+      expect(anchor.measured).toBe(report.dialogue.dialogueLufs);
+      expect(anchor.explanation).toContain('anchored on dialogue');
+    },
+  );
 
   it('a text file named .wav ends as a failed job with unsupported_format, without retries', async () => {
     const submit = await api.upload(files.junk, { profile: 'ebu-r128' }, KEYS.alpha);
