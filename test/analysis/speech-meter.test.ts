@@ -89,6 +89,19 @@ describe('SpeechMeter', () => {
     expect(meter.result().frameIsSpeech.length).toBe(expectedFrames.length);
   });
 
+  it('classifies each frame once when settle is called again before the last call finished', async () => {
+    const { classifier, frames } = recordingClassifier();
+    const meter = new SpeechMeter(MONO_16K, { enabled: true }, classifier);
+    const pending: Promise<void>[] = [];
+    for (const block of blocks(ramp, [700])) {
+      meter.push(block);
+      pending.push(meter.settle());
+    }
+    await Promise.all(pending);
+    expect(frames).toEqual(expectedFrames);
+    expect(meter.result().frameIsSpeech.length).toBe(expectedFrames.length);
+  });
+
   it('marks a frame speech only when its probability exceeds the threshold', async () => {
     const probabilities = [0.5, 0.500001, 0.7, 0.2, 1, 0, 0.69999, 0.75];
     const input = new Float32Array(probabilities.length * FRAME + 1);

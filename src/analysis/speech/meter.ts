@@ -49,6 +49,7 @@ export class SpeechMeter implements Meter<SpeechResult> {
   private queued = 0;
   private decisions = new Uint8Array(1024);
   private frames = 0;
+  private settling: Promise<void> = Promise.resolve();
 
   constructor(
     info: StreamInfo,
@@ -80,8 +81,13 @@ export class SpeechMeter implements Meter<SpeechResult> {
     this.queued += samples.length;
   };
 
-  /** Classifies the whole frames queued so far. */
-  async settle(): Promise<void> {
+  /** Classifies the whole frames queued so far; calls made before the last one finished wait their turn. */
+  settle(): Promise<void> {
+    this.settling = this.settling.then(() => this.classifyQueued());
+    return this.settling;
+  }
+
+  private async classifyQueued(): Promise<void> {
     const classifier = this.classifier;
     const whole = Math.floor(this.queued / this.frameSamples);
     if (!classifier || whole === 0) return;
