@@ -6,10 +6,13 @@ COPY package.json package-lock.json ./
 # stage builds the bundles below); the packages need none of theirs (esbuild finds its platform
 # binary package, msgpackr its prebuilt one).
 RUN npm ci --omit=dev --no-audit --no-fund --ignore-scripts
-# The speech detector loads only onnxruntime-web's Node entry and its one-thread SIMD WebAssembly
-# (files read by `earmark analyze --dialogue`, traced with strace); the browser and GPU builds
+# The speech detector runs on onnxruntime-node's bundled CPU build (its install script, which
+# fetches GPU builds, is not run: allowScripts in package.json); only the Linux builds are kept.
+# Its fallback, onnxruntime-web, needs only its Node entry and the one-thread SIMD WebAssembly
+# (the files `earmark analyze --dialogue` reads, traced with strace); the browser and GPU builds
 # beside them are 130 MB.
-RUN find node_modules/onnxruntime-web/dist -type f ! -name package.json ! -name ort.node.min.mjs \
+RUN find node_modules/onnxruntime-node/bin/napi-v6 -mindepth 1 -maxdepth 1 ! -name linux -exec rm -rf {} + \
+ && find node_modules/onnxruntime-web/dist -type f ! -name package.json ! -name ort.node.min.mjs \
       ! -name ort-wasm-simd-threaded.mjs ! -name ort-wasm-simd-threaded.wasm -delete
 
 FROM node:20-bookworm-slim AS runtime

@@ -33,7 +33,6 @@ describe('renderLoudnessPlot', () => {
     expect(renderLoudnessPlot(input())).not.toContain('em-speech');
   });
 
-
   it('draws one marker per flag, in order, with its label escaped', () => {
     const svg = renderLoudnessPlot(input());
     expect(svg.match(/class="em-flag /g)).toHaveLength(2);
