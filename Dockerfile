@@ -7,7 +7,8 @@ COPY package.json package-lock.json ./
 # binary package, msgpackr its prebuilt one).
 RUN npm ci --omit=dev --no-audit --no-fund --ignore-scripts
 # The speech detector runs on onnxruntime-node's bundled CPU build (its install script, which
-# fetches GPU builds, is not run: allowScripts in package.json); only the Linux builds are kept.
+# fetches GPU builds, is not run: --ignore-scripts here, allowScripts in package.json); only the
+# Linux builds are kept.
 # Its fallback, onnxruntime-web, needs only its Node entry and the one-thread SIMD WebAssembly
 # (the files `earmark analyze --dialogue` reads, traced with strace); the browser and GPU builds
 # beside them are 130 MB.
