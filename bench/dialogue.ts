@@ -204,8 +204,11 @@ async function longFile(items: CorpusItem[], minutes: number, dir: string): Prom
 }
 
 /** The model alone on 60 s of 16 kHz frames (every third corpus sample: timing only), best of 3, x real time. */
-async function modelAloneXRealtime(items: CorpusItem[]): Promise<{ xRealtime: number; microsecondsPerFrame: number }> {
-  const classifier = sileroClassifier(await speechRuntime());
+async function modelAloneXRealtime(
+  items: CorpusItem[],
+): Promise<{ xRealtime: number; microsecondsPerFrame: number; runtime: string }> {
+  const runtime = await speechRuntime();
+  const classifier = sileroClassifier(runtime);
   const frames = new Float32Array(60 * 16000);
   const mix = items[0].mix;
   for (let i = 0; i < frames.length; i++) frames[i] = mix[(3 * i) % mix.length];
@@ -215,7 +218,11 @@ async function modelAloneXRealtime(items: CorpusItem[]): Promise<{ xRealtime: nu
     await classifier.classify(frames);
     best = Math.min(best, (performance.now() - t) / 1000);
   }
-  return { xRealtime: 60 / best, microsecondsPerFrame: (1e6 * best) / (frames.length / classifier.frameSamples) };
+  return {
+    xRealtime: 60 / best,
+    microsecondsPerFrame: (1e6 * best) / (frames.length / classifier.frameSamples),
+    runtime: runtime.name,
+  };
 }
 
 interface SpeedFigures {
@@ -336,7 +343,7 @@ async function main(): Promise<void> {
       detectorSpeeds.push(speedLine(`analyzeFile, ${minutes} min`, await speedInProcess(path, minutes * 60)));
     const model = await modelAloneXRealtime(items);
     console.log(
-      `the model alone (onnxruntime-web, one 32 ms frame per run): ${model.xRealtime.toFixed(0)}x real time, ${model.microsecondsPerFrame.toFixed(0)} us per frame`,
+      `the model alone (${model.runtime}, one 32 ms frame per run): ${model.xRealtime.toFixed(0)}x real time, ${model.microsecondsPerFrame.toFixed(0)} us per frame`,
     );
     const cliNote = (await cliHasDialogueFlag(join(dir, `${items[0].name}.wav`)))
       ? `installed CLI, 10 min: ${speedLine('earmark analyze --json --threads 1', await speedCli(files[0][1], LONG_MINUTES[0] * 60)).toFixed(0)}x`

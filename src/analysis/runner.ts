@@ -155,8 +155,8 @@ export const METERS: { readonly [K in MeterName]: MeterDescriptor<Measurements[K
   },
 };
 
-/** The speech meter's time when on: Silero VAD at about 220x real time (bench/vad-candidates.ts). */
-export const SPEECH_COST_MS_PER_MINUTE = 270;
+/** The speech meter's time when on: about 180x real time in the analysis (bench/dialogue.ts). */
+export const SPEECH_COST_MS_PER_MINUTE = 330;
 
 /** A meter whose work finishes asynchronously after push: the runner awaits settle() per block. */
 interface SettlingMeter {
