@@ -2,7 +2,7 @@
 // on programme, clipped and gappy signals with 1, 2 and 6 channels, in odd block cuts.
 import { afterAll, describe, expect, it } from 'vitest';
 import { defaultChannelLabels, type StreamInfo } from '../../src/analysis/audio.ts';
-import { AnalysisRunner, METER_NAMES, type AnalysisOptions } from '../../src/analysis/runner.ts';
+import { AnalysisRunner, METER_NAMES, METERS, type AnalysisOptions } from '../../src/analysis/runner.ts';
 import { meterGroups, ParallelAnalysisRunner } from '../../src/engine/parallel-runner.ts';
 import { cut, expectClose, SAMPLE_RATE, testSignals } from '../helpers/test-signals.ts';
 
@@ -33,10 +33,17 @@ describe('meter groups', () => {
     expect(main.length).toBeGreaterThan(0);
   });
 
-  it('leave the decoding thread no meters when decoding alone outweighs them (a compressed file)', () => {
+  it('leave the decoding thread only the meters pinned to it when decoding alone outweighs the rest (a compressed file)', () => {
+    const pinned = METER_NAMES.filter((name) => METERS[name].mainThreadOnly);
+    expect(pinned).toEqual(['speech']);
     const [main, worker] = meterGroups(2, 200);
-    expect(main).toEqual([]);
-    expect(worker.sort()).toEqual([...METER_NAMES].sort());
+    expect(main).toEqual(pinned);
+    expect(worker.sort()).toEqual(METER_NAMES.filter((name) => !pinned.includes(name)).sort());
+  });
+
+  it('keep the speech meter on the decoding thread whatever the split', () => {
+    for (const threads of [2, 3, 4])
+      for (const cost of [0, 10.5, 200, 600]) expect(meterGroups(threads, cost)[0]).toContain('speech');
   });
 });
 
