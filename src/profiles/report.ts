@@ -129,6 +129,13 @@ export interface ReportTimecode {
   originTimecode: string;
 }
 
+/** One count per flag severity (written out, so the generated schema allows no other key). */
+export interface FlagCounts {
+  fail: number;
+  warn: number;
+  remark: number;
+}
+
 export interface QcReport extends AnalysisDocument {
   reportVersion: number;
   verdict: Verdict;
@@ -143,7 +150,7 @@ export interface QcReport extends AnalysisDocument {
   flagsTotal: number;
   flagsTruncated: boolean;
   /** Flags before the cap, by severity (remarks included). */
-  flagCounts: Record<FlagSeverity, number>;
+  flagCounts: FlagCounts;
   correction: Correction | null;
   timecode: ReportTimecode;
   /** SMPTE labels of the head readings (`head`) at the report's frame rate. */
