@@ -1,5 +1,6 @@
-# Multi-stage build: dependencies in one stage, a slim non-root runtime in the other.
-FROM node:20-bookworm-slim AS deps
+# Multi-stage build: dependencies in one stage, a slim non-root runtime in the other, on Node 24
+# LTS (the code also runs on Node 20; @types/node stays at 20 so nothing newer creeps in).
+FROM node:24-bookworm-slim AS deps
 WORKDIR /app
 COPY package.json package-lock.json ./
 # No lifecycle scripts here: `prepare` bundles src/, which this stage does not have (the runtime
@@ -16,7 +17,7 @@ RUN find node_modules/onnxruntime-node/bin/napi-v6 -mindepth 1 -maxdepth 1 ! -na
  && find node_modules/onnxruntime-web/dist -type f ! -name package.json ! -name ort.node.min.mjs \
       ! -name ort-wasm-simd-threaded.mjs ! -name ort-wasm-simd-threaded.wasm -delete
 
-FROM node:20-bookworm-slim AS runtime
+FROM node:24-bookworm-slim AS runtime
 ENV NODE_ENV=production
 WORKDIR /app
 COPY --from=deps /app/node_modules ./node_modules
