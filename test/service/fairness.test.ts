@@ -68,12 +68,16 @@ async function measure(
         startedAtMs.push(Date.now());
         await sleep(WORK_MS);
         if (job.data.tenant === 'beta' && job.attemptsMade === 0) {
-          retryDueMs = Date.now() + svc.config.jobBackoffMs;
           throw new Error('the first attempt fails');
         }
       },
       { connection: createRedisFor(), prefix, concurrency: CONCURRENCY },
     );
+    // Once BullMQ has moved the failed attempt to its backoff (it says so with 'failed'), the retry
+    // is due at most the backoff later.
+    worker.on('failed', (job) => {
+      if (job?.data.tenant === 'beta') retryDueMs = Date.now() + svc.config.jobBackoffMs;
+    });
     if (withClock) followClock(worker, queue, new FairShare(createRedisFor(), prefix), () => undefined);
     open.push(worker);
   }
