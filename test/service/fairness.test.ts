@@ -3,8 +3,9 @@
 // analysis is not the subject here; the queue order is). Beta's job must start within
 // workers x concurrency of alpha's jobs after it was submitted, not behind alpha's backlog, and its
 // retry (the first attempt fails) likewise once its backoff is over (while it backs off, alpha's
-// jobs run: that wait is the backoff's, not the queue's order). The same run with plain FIFO jobs (no priority) is the
-// control: it shows the measure tells the two orders apart.
+// jobs run: that wait is the backoff's, not the queue's order); the workers restart the clock once
+// the queue is empty. The same run with plain FIFO jobs (no priority) is the control: it shows the
+// measure tells the two orders apart.
 
 import { randomBytes } from 'node:crypto';
 import { Worker } from 'bullmq';
@@ -23,6 +24,7 @@ const CONCURRENCY = 2;
 const SLOTS = WORKERS * CONCURRENCY;
 const BURST = 200;
 const WORK_MS = 100;
+const RESTART_AT = 50;
 
 let svc: TestService;
 const open: Array<{ close(): Promise<unknown> }> = [];
@@ -78,13 +80,15 @@ async function measure(
     worker.on('failed', (job) => {
       if (job?.data.tenant === 'beta') retryDueMs = Date.now() + svc.config.jobBackoffMs;
     });
-    if (withClock) followClock(worker, queue, new FairShare(createRedisFor(), prefix), () => undefined);
+    // A low restart bound, so the run also shows the clock restarting once the queue is empty.
+    if (withClock) followClock(worker, queue, new FairShare(createRedisFor(), prefix, RESTART_AT), () => undefined);
     open.push(worker);
   }
   for (let i = 0; i < BURST; i += 10) await Promise.all(Array.from({ length: 10 }, (_, k) => submit('alpha', i + k)));
   const startedAtSubmit = starts.length;
   await submit('beta', 0);
   await until(async () => starts.length >= BURST + 2, 20);
+  if (withClock) await until(async () => (await new FairShare(createRedisFor(), prefix).clock()) === 0);
   const first = starts.indexOf('beta:0');
   const retry = starts.indexOf('beta:1');
   const alphaBetween = (from: number, to: number) => starts.slice(from, to).filter((s) => s.startsWith('alpha')).length;
