@@ -91,11 +91,16 @@ export function followClock<D, R>(
   worker.on('active', (job) => {
     fair.started(job.priority).catch(fail);
   });
-  worker.on('drained', () => {
+  // After each finished job too, not only on 'drained': a worker says that once, when its first
+  // slot finds nothing, while its other slots may still run the queue's last jobs.
+  const restart = () => {
     fair
       .restartIfIdle(() =>
         queue.getJobCountByTypes('active', 'wait', 'prioritized', 'delayed', 'paused', 'waiting-children'),
       )
       .catch(fail);
-  });
+  };
+  worker.on('drained', restart);
+  worker.on('completed', restart);
+  worker.on('failed', restart);
 }

@@ -10,12 +10,14 @@
 import { randomBytes } from 'node:crypto';
 import { Worker } from 'bullmq';
 import type { Redis } from 'ioredis';
+import pino from 'pino';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { ANALYSIS_QUEUE, ANALYZE_JOB_V1, type AnalyzeJobV1 } from '../../src/queue/contract.ts';
 import { createRedis } from '../../src/queue/connection.ts';
 import { FairShare, followClock } from '../../src/queue/fair-share.ts';
 import { createAnalysisQueue } from '../../src/queue/queues.ts';
-import { purgePrefix } from '../../src/queue/service-keys.ts';
+import { purgePrefix, serviceKey } from '../../src/queue/service-keys.ts';
+import { startWorker } from '../../src/worker/runtime.ts';
 import { client } from './client.ts';
 import { KEYS, sleep, startService, until, type TestService } from './harness.ts';
 
@@ -148,4 +150,24 @@ describe('fair queues between tenants', () => {
     expect(fifo.aheadOfFirst).toBeGreaterThan(10 * SLOTS);
     await purgePrefix(createRedisFor(), controlPrefix);
   }, 60_000);
+
+  it('the service worker advances the clock as it starts jobs; submissions take priorities from it', async () => {
+    const redis = createRedisFor();
+    await redis.del(serviceKey(svc.config.queuePrefix, 'fair'));
+    const fair = new FairShare(redis, svc.config.queuePrefix);
+    const worker = await startWorker(
+      { ...svc.config, workerConcurrency: 1, jobAttempts: 1 },
+      pino({ level: 'silent' }),
+    );
+    open.push(worker);
+    const res = await client(svc.url).postJson(
+      '/v1/jobs',
+      { sourceUrl: 'http://127.0.0.1:9/nothing-listens.wav', profile: 'ebu-r128' },
+      KEYS.beta,
+    );
+    expect(res.status).toBe(202);
+    const job = await svc.api.deps.queue.getJob(res.body.id);
+    expect(job?.priority).toBe(1);
+    await until(async () => (await fair.clock()) === 1);
+  }, 30_000);
 });
