@@ -11,8 +11,8 @@
 // run before all prioritized jobs.
 //
 // BullMQ allows priorities up to 2^21 - 1, and the clock moves about one step per job started. Once
-// past REBASE_AT it restarts at 0 the next time a worker finds the queue empty (nothing waiting
-// holds an old priority then). A queue that never empties past that point clamps new jobs to the
+// past REBASE_AT it restarts at 0 once a worker, after a job or on finding nothing to do, sees the
+// queue empty (nothing queued holds an old priority then). A queue that never empties past that point clamps new jobs to the
 // limit: fairness lapses to FIFO among them, nothing stalls. A submission whose priority was taken
 // just before a restart keeps its old, larger one: it runs after newer work, once per restart.
 
