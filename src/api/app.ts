@@ -76,7 +76,9 @@ export async function buildApp(config: Config, deps: AppDeps, logger?: Logger): 
   await app.register(errorsPlugin);
   await app.register(jsonBodyPlugin);
   await app.register(authPlugin(config.apiKeys));
-  await app.register(rateLimitPlugin(config.rateLimitPerMinute));
+  await app.register(
+    rateLimitPlugin(config.rateLimitPerMinute, { redis: deps.redis, queuePrefix: config.queuePrefix }),
+  );
   // Generous parser limits: past them the parser stops reading mid-body; upload-form.ts allows 10 fields.
   await app.register(multipart, {
     limits: { fileSize: config.uploadLimitBytes, files: 1, fields: 100, fieldSize: 64 * 1024, parts: 110 },

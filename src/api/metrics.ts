@@ -153,7 +153,9 @@ async function serviceFigures(registry: Registry, deps: AppDeps): Promise<Regist
     labelNames: ['state'],
     registers: [registry],
   });
-  for (const state of ['waiting', 'active', 'delayed', 'prioritized']) queue.set({ state }, depth[state] ?? 0);
+  // Every job waits as a prioritized one (fair share, src/queue/fair-share.ts): "waiting" counts both lanes.
+  queue.set({ state: 'waiting' }, (depth.waiting ?? 0) + (depth.prioritized ?? 0));
+  for (const state of ['active', 'delayed']) queue.set({ state }, depth[state] ?? 0);
   return [registry, analysisHistogram(counters)];
 }
 
@@ -166,8 +168,8 @@ async function tenantFigures(registry: Registry, tenant: string, deps: AppDeps):
     labelNames: ['state'],
     registers: [registry],
   });
-  for (const state of ['waiting', 'prioritized', 'active', 'delayed', 'completed', 'failed'] as const)
-    jobs.set({ state }, c[state]);
+  jobs.set({ state: 'waiting' }, c.waiting + c.prioritized);
+  for (const state of ['active', 'delayed', 'completed', 'failed'] as const) jobs.set({ state }, c[state]);
   new Gauge({
     name: 'earmark_tenant_jobs_finished_last_minute',
     help: "This tenant's jobs finished in the last minute.",

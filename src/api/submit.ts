@@ -82,7 +82,10 @@ export async function submitJob(
     submittedAt: new Date().toISOString(),
   };
   try {
-    await deps.queue.add(ANALYZE_JOB_V1, data, { jobId: id });
+    // Fair share between tenants (src/queue/fair-share.ts): a burst from one tenant queues behind
+    // another tenant's next job instead of in front of it.
+    const priority = await deps.store.fairShare.nextPriority(tenant);
+    await deps.queue.add(ANALYZE_JOB_V1, data, { jobId: id, priority });
     await deps.store.index.add(tenant, id, Date.now());
   } catch (error) {
     if (idempotencyKey) await deps.store.idempotency.release(tenant, idempotencyKey).catch(() => undefined);

@@ -1,8 +1,9 @@
 // The service's state beside the BullMQ queues, one store per concern: each tenant's job index,
-// idempotency keys, cached reports, webhook delivery attempts and job outcomes.
+// idempotency keys, cached reports, webhook delivery attempts, job outcomes and the fair-share clock.
 
 import type { Redis } from 'ioredis';
 import { DeliveryLog } from './deliveries.ts';
+import { FairShare } from './fair-share.ts';
 import { IdempotencyKeys } from './idempotency.ts';
 import { JobIndex } from './job-index.ts';
 import { Outcomes } from './outcomes.ts';
@@ -14,6 +15,7 @@ export interface ServiceStores {
   reports: ReportCache;
   deliveries: DeliveryLog;
   outcomes: Outcomes;
+  fairShare: FairShare;
 }
 
 export function openServiceStores(redis: Redis, prefix: string, retentionSeconds: number): ServiceStores {
@@ -23,5 +25,6 @@ export function openServiceStores(redis: Redis, prefix: string, retentionSeconds
     reports: new ReportCache(redis, prefix, retentionSeconds),
     deliveries: new DeliveryLog(redis, prefix, retentionSeconds),
     outcomes: new Outcomes(redis, prefix, retentionSeconds),
+    fairShare: new FairShare(redis, prefix),
   };
 }

@@ -26,6 +26,7 @@ import {
 } from '../queue/contract.ts';
 import { createRedis, waitReady } from '../queue/connection.ts';
 import { jobView, type JobView } from '../queue/job-view.ts';
+import { followClock } from '../queue/fair-share.ts';
 import { createAnalysisQueue, createWebhookQueue } from '../queue/queues.ts';
 import { openServiceStores } from '../queue/store.ts';
 import { openStorage } from '../storage/index.ts';
@@ -234,6 +235,8 @@ export async function startWorker(config: Config, log: Logger): Promise<WorkerRu
   );
   const active = new Map<string, AnalysisJob>();
   analysis.on('error', (error) => onError(error, 'analysis worker'));
+  // A fault here costs fairness for a moment, never the job.
+  followClock(analysis, analysisQueue, store.fairShare, (error) => onError(error, 'fair share'));
   analysis.on('active', (job) => {
     active.set(String(job.id), job);
     log.info({ jobId: job.id, attempt: job.attemptsMade + 1 }, 'job started');

@@ -1,7 +1,8 @@
 // Plugin wiring and the shared request checks, without a server or Redis.
 
 import Fastify from 'fastify';
-import { describe, expect, it } from 'vitest';
+import { Redis } from 'ioredis';
+import { afterAll, describe, expect, it } from 'vitest';
 import { authPlugin } from '../../src/api/plugins/auth.ts';
 import { errorsPlugin } from '../../src/api/plugins/errors.ts';
 import { parseJsonBody } from '../../src/api/plugins/json-body.ts';
@@ -9,16 +10,20 @@ import { rateLimitPlugin } from '../../src/api/plugins/rate-limit.ts';
 import { fieldOf, poisonKeyOf, validationProblem } from '../../src/api/validation.ts';
 
 describe('plugin dependencies', () => {
+  // Never connects: the plugin only defines its script on the client when it starts.
+  const redis = new Redis({ lazyConnect: true });
+  const store = { redis, queuePrefix: 'plugins-test' };
+  afterAll(() => redis.disconnect());
   it('the rate limit refuses to start without auth registered first (it keys on the principal)', async () => {
     const app = Fastify();
-    await expect(app.register(rateLimitPlugin(10)).ready()).rejects.toThrow(/earmark-auth/);
+    await expect(app.register(rateLimitPlugin(10, store)).ready()).rejects.toThrow(/earmark-auth/);
     await app.close();
   });
   it('starts after auth', async () => {
     const app = Fastify();
     await app.register(errorsPlugin);
     await app.register(authPlugin([]));
-    await app.register(rateLimitPlugin(10));
+    await app.register(rateLimitPlugin(10, store));
     await expect(app.ready()).resolves.toBeDefined();
     await app.close();
   });

@@ -5,7 +5,10 @@ import { mkdtempSync, readdirSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import request from 'supertest';
+import pino from 'pino';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { startApi, type RunningApi } from '../../src/api/server.ts';
+import { createRedis } from '../../src/queue/connection.ts';
 import { writeSine } from '../service/audio.ts';
 import { client, type Client } from '../service/client.ts';
 import { KEYS, startService, type TestService } from '../service/harness.ts';
@@ -51,6 +54,40 @@ describe('per-key rate limit', () => {
       expect((await lim.get('/healthz')).status).toBe(200);
       expect((await lim.get('/readyz')).status).toBe(200);
     }
+  });
+});
+
+describe('one budget across API replicas', () => {
+  let shared: TestService;
+  let second: RunningApi;
+  beforeAll(async () => {
+    shared = await startService({ worker: false, env: { EARMARK_RATE_LIMIT_PER_MINUTE: '5' } });
+    // A second API process on the same Redis and prefix: another fastify server, another connection.
+    second = await startApi(shared.config, pino({ level: 'silent' }));
+  });
+  afterAll(async () => {
+    await second?.close();
+    await shared?.close();
+  });
+
+  it('3 requests on one replica and 3 on the other: the 6th is refused, with Retry-After', async () => {
+    const a = client(shared.url);
+    const b = client(second.url);
+    expect(second.url).not.toBe(shared.url);
+    const statuses = [];
+    for (const api of [a, a, a, b, b]) statuses.push((await api.get('/v1/profiles', KEYS.beta)).status);
+    expect(statuses).toEqual([200, 200, 200, 200, 200]);
+    const refused = await b.get('/v1/profiles', KEYS.beta);
+    expect(refused.status).toBe(429);
+    expect(refused.headers['content-type']).toContain('application/problem+json');
+    expect(refused.body.code).toBe('rate_limited');
+    expect(Number(refused.headers['retry-after'])).toBeGreaterThan(0);
+    expect((await a.get('/v1/profiles', KEYS.beta)).status).toBe(429);
+    // Counted under this deployment's prefix, so another test run (another prefix) has its own counts.
+    const redis = createRedis(shared.config.redisUrl, 'worker');
+    const keys = await redis.keys(`${shared.config.queuePrefix}:svc:rate:*`);
+    await redis.quit();
+    expect(keys).toHaveLength(1);
   });
 });
 

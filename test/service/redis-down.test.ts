@@ -1,5 +1,5 @@
 // A private redis-server that the test stops: the API answers 503 with Retry-After at once
-// (fail-fast connection), readiness says so, and nothing crashes.
+// (fail-fast connection), the Redis-counted rate limit included; readiness says so, and nothing crashes.
 import { spawn, type ChildProcess } from 'node:child_process';
 import { createServer } from 'node:net';
 import { join } from 'node:path';
@@ -57,6 +57,11 @@ describe('Redis outage', () => {
     expect(submit.body.code).toBe('service_unavailable');
     expect(submit.headers['retry-after']).toBe('5');
     expect(JSON.stringify(submit.body)).not.toMatch(/ECONNREFUSED|127\.0\.0\.1|\.ts/);
+    // The rate limit counts in Redis: it answers the same typed 503, never lets requests through uncounted.
+    const limited = await api.get('/v1/profiles', KEYS.alpha);
+    expect(limited.status).toBe(503);
+    expect(limited.body.code).toBe('service_unavailable');
+    expect(limited.headers['retry-after']).toBe('5');
     const ready = await api.get('/readyz');
     expect(ready.status).toBe(503);
     expect(ready.body).toMatchObject({ status: 'unavailable', redis: false });

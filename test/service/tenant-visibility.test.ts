@@ -99,7 +99,11 @@ describe('without a worker: queued jobs per tenant', () => {
       const index = new JobIndex(redis, svc.config.queuePrefix, svc.config.retentionHours * 3600);
       const queue = createAnalysisQueue(redis, svc.config, () => undefined);
       await index.add('beta', 'j_removedremovedremoved00', Date.now() - (svc.config.retentionHours + 1) * 3_600_000);
-      expect(await index.counts('beta', bullKeys(queue), 0)).toMatchObject({ waiting: 2, completed: 0 });
+      expect(await index.counts('beta', bullKeys(queue), 0)).toMatchObject({
+        waiting: 0,
+        prioritized: 2,
+        completed: 0,
+      }); // queued with a fair-share priority
       expect(await redis.zscore(`${svc.config.queuePrefix}:svc:jobs:beta`, 'j_removedremovedremoved00')).toBeNull();
       await queue.close();
     } finally {
