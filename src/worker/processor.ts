@@ -10,7 +10,7 @@ import { isRetryable, toEarmarkError } from '../errors/index.ts';
 import { UrlPolicy } from '../net/url-guard.ts';
 import { analysisOptionsForProfile, decodeOptionsForProfile, evaluate } from '../profiles/index.ts';
 import { ANALYZE_JOB_V1, encodeFailure, type AnalyzeJobV1, type AnalyzeResultV1 } from '../queue/contract.ts';
-import { openStorage } from '../storage/index.ts';
+import { openStorage, type LocalCopy } from '../storage/index.ts';
 import { readChildSettings } from './child-settings.ts';
 import { fetchSource } from './fetch-source.ts';
 import { readThreadBudget, threadsForFile } from './thread-policy.ts';
@@ -39,17 +39,23 @@ export default async function analyzeJob(job: SandboxedJob<AnalyzeJobV1, Analyze
   if (job.name !== ANALYZE_JOB_V1)
     throw new UnrecoverableError(encodeFailure('invalid_argument', `this worker does not know job name ${job.name}`));
   const started = performance.now();
-  const storage = await openStorage(config.storageDir);
+  // The object-store backend copies the audio to a bounded temp file: the decoders read with
+  // random access (storage/s3.ts). Uploads and fetched files share one bound, the larger limit.
+  const storage = await openStorage(config.storage, config.storageDir, {
+    copyLimitBytes: Math.max(config.uploadLimitBytes, config.fetchLimitBytes),
+  });
   const data = job.data;
   let fetchedKey: string | null = null;
   let sourceKey = '';
+  let copy: LocalCopy | null = null;
   let path = '';
   let fileName = 'the file';
   let knownSha256: string | undefined;
   try {
     if (data.source.kind === 'upload') {
       sourceKey = data.source.storageKey;
-      path = storage.pathOf(sourceKey);
+      copy = await storage.localCopy(sourceKey);
+      path = copy.path;
       fileName = data.source.fileName;
       knownSha256 = data.source.sha256;
     } else {
@@ -63,7 +69,8 @@ export default async function analyzeJob(job: SandboxedJob<AnalyzeJobV1, Analyze
       );
       fetchedKey = fetched.key;
       sourceKey = fetched.key;
-      path = storage.pathOf(fetched.key);
+      copy = await storage.localCopy(fetched.key);
+      path = copy.path;
       knownSha256 = fetched.sha256;
       fileName = decodeURIComponent(new URL(data.source.url).pathname.split('/').pop() || 'source');
     }
@@ -123,6 +130,7 @@ export default async function analyzeJob(job: SandboxedJob<AnalyzeJobV1, Analyze
   } finally {
     // A fetched copy of a failed job is ours alone; an upload stays until the retention sweep.
     if (fetchedKey) await storage.remove(fetchedKey).catch(() => undefined);
+    await copy?.release().catch(() => undefined);
     retireIfGrown();
   }
 }

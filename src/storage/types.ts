@@ -1,0 +1,43 @@
+// The storage contract every backend meets; callers never learn which backend they hold.
+
+import type { Readable } from 'node:stream';
+
+export interface StoredFile {
+  key: string;
+  sizeBytes: number;
+  sha256: string;
+}
+
+/** A file on this host holding a stored object; release() removes it if it is a temp copy. */
+export interface LocalCopy {
+  path: string;
+  /** SHA-256 of the bytes copied, or null when nothing was copied (the file backend's own file). */
+  sha256: string | null;
+  release(): Promise<void>;
+}
+
+export interface Storage {
+  readonly kind: 'file' | 's3';
+  /** Streams into a new upload; over limitBytes nothing is kept and payload_too_large is thrown. */
+  saveUpload(source: Readable, limitBytes: number, isTruncated?: () => boolean): Promise<StoredFile>;
+  /** A local file of the object, for decoders that read with random access (see the S3 backend). */
+  localCopy(key: string): Promise<LocalCopy>;
+  writeReport(jobId: string, json: string): Promise<string>;
+  readReport(jobId: string): Promise<string | null>;
+  remove(key: string): Promise<void>;
+  /** Deletes uploads and reports older than maxAgeMs; returns how many went. */
+  sweep(maxAgeMs: number): Promise<number>;
+  /** Deletes partial files (uploads in progress, reports being written) untouched for maxAgeMs. */
+  sweepPartials(maxAgeMs: number): Promise<number>;
+  checkWritable(): Promise<boolean>;
+}
+
+export interface StorageOptions {
+  /** A temp file being written is touched (mtime) at least this often while bytes arrive, even
+   * between the writer's 1 MiB blocks, so the partial-file sweep can tell live from dead. */
+  partialTouchMs?: number;
+  /** Largest object localCopy copies to this host (the S3 backend); larger is payload_too_large. */
+  copyLimitBytes?: number;
+}
+
+export const KEY = /^(uploads|reports)\/[A-Za-z0-9_-]+(\.json)?$/;
