@@ -167,6 +167,8 @@ const PREFIX = /^[A-Za-z0-9!_.*'()/-]*$/;
 
 function storageLocation(env: Env): StorageLocation {
   const dirFromEnv = env.EARMARK_STORAGE_DIR ? resolve(env.EARMARK_STORAGE_DIR) : null;
+  // Checked whatever the backend, so a typo shows before a switch to S3.
+  const forcePathStyle = bool(env, 'EARMARK_S3_FORCE_PATH_STYLE');
   const raw = env.EARMARK_STORAGE_URL;
   if (!raw) return { kind: 'file', dir: dirFromEnv ?? join(tmpdir(), 'earmark-storage') };
   const name = 'EARMARK_STORAGE_URL';
@@ -200,7 +202,7 @@ function storageLocation(env: Env): StorageLocation {
     prefix,
     endpoint,
     region: env.AWS_REGION || env.AWS_DEFAULT_REGION || 'us-east-1',
-    forcePathStyle: bool(env, 'EARMARK_S3_FORCE_PATH_STYLE'),
+    forcePathStyle,
   };
 }
 
