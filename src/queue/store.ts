@@ -3,6 +3,7 @@
 
 import type { Redis } from 'ioredis';
 import { DeliveryLog } from './deliveries.ts';
+import { DirectUploads } from './direct-uploads.ts';
 import { IdempotencyKeys } from './idempotency.ts';
 import { JobIndex } from './job-index.ts';
 import { Outcomes } from './outcomes.ts';
@@ -14,6 +15,7 @@ export interface ServiceStores {
   reports: ReportCache;
   deliveries: DeliveryLog;
   outcomes: Outcomes;
+  uploads: DirectUploads;
 }
 
 export function openServiceStores(redis: Redis, prefix: string, retentionSeconds: number): ServiceStores {
@@ -23,5 +25,6 @@ export function openServiceStores(redis: Redis, prefix: string, retentionSeconds
     reports: new ReportCache(redis, prefix, retentionSeconds),
     deliveries: new DeliveryLog(redis, prefix, retentionSeconds),
     outcomes: new Outcomes(redis, prefix, retentionSeconds),
+    uploads: new DirectUploads(redis, prefix, retentionSeconds),
   };
 }

@@ -7,7 +7,14 @@ import type { Readable } from 'node:stream';
 import { EarmarkError } from '../errors/index.ts';
 import { writeChunksToNewFile } from './block-file-writer.ts';
 import { receiveUpload } from './receive.ts';
-import { KEY, type LocalCopy, type Storage, type StorageOptions, type StoredFile } from './types.ts';
+import {
+  KEY,
+  type LocalCopy,
+  type PresignedUpload,
+  type Storage,
+  type StorageOptions,
+  type StoredFile,
+} from './types.ts';
 
 export class LocalStorage implements Storage {
   readonly kind = 'file';
@@ -33,6 +40,19 @@ export class LocalStorage implements Storage {
   /** The stored file itself: nothing is copied and release() leaves it alone. */
   async localCopy(key: string): Promise<LocalCopy> {
     return { path: this.pathOf(key), sha256: null, release: async () => undefined };
+  }
+
+  /** A directory has no signed URLs: the API is the only way in. */
+  async presignUpload(): Promise<PresignedUpload> {
+    throw new EarmarkError(
+      'direct_upload_unavailable',
+      'direct uploads need the object-store backend (EARMARK_STORAGE_URL=s3://...); upload through POST /v1/jobs',
+    );
+  }
+
+  async sizeOf(key: string): Promise<number | null> {
+    const info = await stat(this.pathOf(key)).catch(() => null);
+    return info?.isFile() ? info.size : null;
   }
 
   async saveUpload(source: Readable, limitBytes: number, isTruncated?: () => boolean): Promise<StoredFile> {

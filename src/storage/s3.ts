@@ -26,7 +26,14 @@ import { EarmarkError } from '../errors/index.ts';
 import { writeChunksToNewFile } from './block-file-writer.ts';
 import { sweepDirs } from './local.ts';
 import { receiveUpload } from './receive.ts';
-import { KEY, type LocalCopy, type Storage, type StorageOptions, type StoredFile } from './types.ts';
+import {
+  KEY,
+  type LocalCopy,
+  type PresignedUpload,
+  type Storage,
+  type StorageOptions,
+  type StoredFile,
+} from './types.ts';
 
 /** S3's smallest part is 5 MiB; 8 MiB parts, two in flight, keep an upload near 24 MiB of buffers. */
 export const PART_SIZE_BYTES = 8 * 1024 * 1024;
@@ -102,6 +109,35 @@ export class S3Storage implements Storage {
       discard: () => this.client.send(new DeleteObjectCommand({ Bucket: this.bucket, Key })).then(() => undefined),
     });
     return { key, ...received };
+  }
+
+  /** Content-Length is signed, so the store refuses a body of any other size: the upload limit
+   * holds without the API seeing a byte. The checksum settings of createS3Client keep the SDK from
+   * adding checksum parameters a plain PUT could not match. */
+  async presignUpload(sizeBytes: number, expiresSeconds: number): Promise<PresignedUpload> {
+    const { getSignedUrl } = await import('@aws-sdk/s3-request-presigner');
+    const key = `uploads/${randomUUID()}`;
+    const command = new PutObjectCommand({ Bucket: this.bucket, Key: this.objectKey(key), ContentLength: sizeBytes });
+    const url = await getSignedUrl(this.client, command, {
+      expiresIn: expiresSeconds,
+      signableHeaders: new Set(['content-length']),
+    });
+    return {
+      key,
+      url,
+      headers: { 'content-length': String(sizeBytes) },
+      expiresAt: new Date(Date.now() + expiresSeconds * 1000),
+    };
+  }
+
+  async sizeOf(key: string): Promise<number | null> {
+    try {
+      const head = await this.client.send(new HeadObjectCommand({ Bucket: this.bucket, Key: this.objectKey(key) }));
+      return head.ContentLength ?? 0;
+    } catch (error) {
+      if (statusOf(error) === 404) return null;
+      throw unavailable('storage could not be asked for the upload', error);
+    }
   }
 
   async localCopy(key: string): Promise<LocalCopy> {

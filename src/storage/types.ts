@@ -16,12 +16,24 @@ export interface LocalCopy {
   release(): Promise<void>;
 }
 
+/** A presigned PUT: the client sends the file to `url` with exactly `headers`, which the signature covers. */
+export interface PresignedUpload {
+  key: string;
+  url: string;
+  headers: Record<string, string>;
+  expiresAt: Date;
+}
+
 export interface Storage {
   readonly kind: 'file' | 's3';
   /** Streams into a new upload; over limitBytes nothing is kept and payload_too_large is thrown. */
   saveUpload(source: Readable, limitBytes: number, isTruncated?: () => boolean): Promise<StoredFile>;
   /** A local file of the object, for decoders that read with random access (see the S3 backend). */
   localCopy(key: string): Promise<LocalCopy>;
+  /** A URL the client PUTs a file of exactly sizeBytes to, straight into storage (object store only). */
+  presignUpload(sizeBytes: number, expiresSeconds: number): Promise<PresignedUpload>;
+  /** The stored object's size, or null when there is none. */
+  sizeOf(key: string): Promise<number | null>;
   writeReport(jobId: string, json: string): Promise<string>;
   readReport(jobId: string): Promise<string | null>;
   remove(key: string): Promise<void>;

@@ -57,7 +57,8 @@ export default async function analyzeJob(job: SandboxedJob<AnalyzeJobV1, Analyze
       copy = await storage.localCopy(sourceKey);
       path = copy.path;
       fileName = data.source.fileName;
-      knownSha256 = data.source.sha256;
+      // A temp copy's hash is of the bytes analysed, taken as they were copied.
+      knownSha256 = copy.sha256 ?? data.source.sha256;
     } else {
       const fetched = await fetchSource(
         policy,

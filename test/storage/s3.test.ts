@@ -7,8 +7,8 @@ import { join } from 'node:path';
 import { Readable } from 'node:stream';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { EarmarkError } from '../../src/errors/index.ts';
-import { openStorage, S3Storage } from '../../src/storage/index.ts';
-import { createS3Client, PART_SIZE_BYTES } from '../../src/storage/s3.ts';
+import { openStorage } from '../../src/storage/index.ts';
+import { createS3Client, PART_SIZE_BYTES, S3Storage } from '../../src/storage/s3.ts';
 import { startS3Server, type TestS3 } from '../helpers/s3-server.ts';
 
 let s3: TestS3;
