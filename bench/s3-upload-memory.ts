@@ -38,8 +38,10 @@ for (let i = 0; i < uploadMib; i++) if (!out.write(randomBytes(MIB))) await once
 out.end();
 await once(out, 'finish');
 
+// No REDIS_URL: the API's entrypoint starts a private redis-server.
+const { REDIS_URL: _redisUrl, ...inherited } = process.env;
 const env = {
-  ...process.env,
+  ...inherited,
   PORT: '0',
   HOST: '127.0.0.1',
   EARMARK_STORAGE_URL: `s3://${bucket}/bench`,
@@ -53,7 +55,6 @@ const env = {
   EARMARK_UPLOAD_LIMIT_BYTES: String((uploadMib + 1) * MIB),
   EARMARK_LOG_LEVEL: 'info',
 };
-delete env.REDIS_URL;
 const api = spawn(process.execPath, ['bin/run.js', 'workers/api.ts'], { env, stdio: ['ignore', 'pipe', 'inherit'] });
 let apiUrl = '';
 for await (const chunk of api.stdout) {
