@@ -43,7 +43,9 @@ export async function submitJob(
   if (!entry)
     throw new EarmarkError('unknown_profile', `no profile "${input.profile}" for this tenant`, { field: 'profile' });
   if (input.callbackUrl) await deps.policy.check(input.callbackUrl, 'callbackUrl');
-  if (source.kind === 'url') {
+  // An s3:// source is read from an allowed bucket of the object store, never over the network policy.
+  if (source.kind === 'url' && source.url.startsWith('s3://')) deps.storage.checkSource(source.url);
+  else if (source.kind === 'url') {
     await deps.policy.check(source.url, 'sourceUrl');
     assertDecodablePath(source.url);
   }

@@ -29,6 +29,8 @@ export type StorageLocation =
       region: string;
       /** EARMARK_S3_FORCE_PATH_STYLE: bucket in the path, for servers without virtual-host addressing. */
       forcePathStyle: boolean;
+      /** EARMARK_S3_SOURCE_BUCKETS: buckets of the same store an `s3://` sourceUrl may name. */
+      sourceBuckets: string[];
     };
 
 export interface Config {
@@ -165,10 +167,21 @@ function bool(env: Env, name: string): boolean {
 const BUCKET = /^[a-z0-9][a-z0-9.-]{1,61}[a-z0-9]$/;
 const PREFIX = /^[A-Za-z0-9!_.*'()/-]*$/;
 
+function sourceBuckets(env: Env): string[] {
+  const names = (env.EARMARK_S3_SOURCE_BUCKETS ?? '')
+    .split(',')
+    .map((s) => s.trim())
+    .filter(Boolean);
+  if (names.some((name) => !BUCKET.test(name)))
+    throw new ConfigError('EARMARK_S3_SOURCE_BUCKETS', 'must be a comma-separated list of S3 bucket names');
+  return names;
+}
+
 function storageLocation(env: Env): StorageLocation {
   const dirFromEnv = env.EARMARK_STORAGE_DIR ? resolve(env.EARMARK_STORAGE_DIR) : null;
   // Checked whatever the backend, so a typo shows before a switch to S3.
   const forcePathStyle = bool(env, 'EARMARK_S3_FORCE_PATH_STYLE');
+  const buckets = sourceBuckets(env);
   const raw = env.EARMARK_STORAGE_URL;
   if (!raw) return { kind: 'file', dir: dirFromEnv ?? join(tmpdir(), 'earmark-storage') };
   const name = 'EARMARK_STORAGE_URL';
@@ -203,6 +216,7 @@ function storageLocation(env: Env): StorageLocation {
     endpoint,
     region: env.AWS_REGION || env.AWS_DEFAULT_REGION || 'us-east-1',
     forcePathStyle,
+    sourceBuckets: buckets,
   };
 }
 

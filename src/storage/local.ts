@@ -50,6 +50,21 @@ export class LocalStorage implements Storage {
     );
   }
 
+  checkSource(): { bucket: string; key: string } {
+    throw new EarmarkError(
+      'source_refused',
+      's3:// sources need the object-store backend (EARMARK_STORAGE_URL=s3://...)',
+      {
+        field: 'sourceUrl',
+      },
+    );
+  }
+
+  async copySource(url: string): Promise<LocalCopy> {
+    this.checkSource();
+    throw new Error(`unreachable: ${url}`);
+  }
+
   async sizeOf(key: string): Promise<number | null> {
     const info = await stat(this.pathOf(key)).catch(() => null);
     return info?.isFile() ? info.size : null;

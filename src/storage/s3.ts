@@ -66,6 +66,7 @@ export class S3Storage implements Storage {
   readonly bucket: string;
   private readonly prefix: string;
   private readonly copyLimitBytes: number;
+  private readonly sourceBuckets: ReadonlySet<string>;
 
   constructor(
     readonly client: S3Client,
@@ -77,6 +78,7 @@ export class S3Storage implements Storage {
     this.bucket = location.bucket;
     this.prefix = location.prefix ? `${location.prefix}/` : '';
     this.copyLimitBytes = options.copyLimitBytes ?? Number.MAX_SAFE_INTEGER;
+    this.sourceBuckets = new Set(location.sourceBuckets);
   }
 
   async init(): Promise<this> {
@@ -140,25 +142,55 @@ export class S3Storage implements Storage {
     }
   }
 
-  async localCopy(key: string): Promise<LocalCopy> {
-    const Key = this.objectKey(key);
+  localCopy(key: string): Promise<LocalCopy> {
+    return this.copyObject(this.bucket, this.objectKey(key), this.copyLimitBytes);
+  }
+
+  checkSource(url: string): { bucket: string; key: string } {
+    const refused = (why: string) => new EarmarkError('source_refused', why, { field: 'sourceUrl' });
+    let parsed: URL;
+    try {
+      parsed = new URL(url);
+    } catch {
+      throw refused('sourceUrl is not a URL');
+    }
+    const bucket = parsed.hostname;
+    if (parsed.protocol !== 's3:' || !this.sourceBuckets.has(bucket))
+      throw refused('sourceUrl names a bucket this service may not read (EARMARK_S3_SOURCE_BUCKETS)');
+    let key: string;
+    try {
+      key = decodeURIComponent(parsed.pathname.replace(/^\//, ''));
+    } catch {
+      throw refused('sourceUrl has a malformed percent escape in its path');
+    }
+    if (!key || parsed.search || parsed.hash || parsed.username || parsed.port)
+      throw refused('an s3:// sourceUrl is s3://bucket/key, nothing more');
+    return { bucket, key };
+  }
+
+  copySource(url: string, limitBytes: number): Promise<LocalCopy> {
+    const { bucket, key } = this.checkSource(url);
+    return this.copyObject(bucket, key, limitBytes);
+  }
+
+  private async copyObject(bucket: string, Key: string, limitBytes: number): Promise<LocalCopy> {
     let head: { ContentLength?: number; ETag?: string };
     try {
-      head = await this.client.send(new HeadObjectCommand({ Bucket: this.bucket, Key }));
+      head = await this.client.send(new HeadObjectCommand({ Bucket: bucket, Key }));
     } catch (error) {
       if (statusOf(error) === 404) throw new EarmarkError('file_not_found', 'the stored audio is gone');
       throw unavailable('the stored audio could not be read', error);
     }
     const sizeBytes = head.ContentLength ?? 0;
-    if (sizeBytes > this.copyLimitBytes)
-      throw new EarmarkError('payload_too_large', `the stored audio is larger than ${this.copyLimitBytes} bytes`, {
-        limitBytes: this.copyLimitBytes,
+    if (sizeBytes > limitBytes)
+      throw new EarmarkError('payload_too_large', `the stored audio is larger than ${limitBytes} bytes`, {
+        limitBytes,
       });
     const path = join(this.localDir, COPIES, randomUUID());
     const hash = createHash('sha256');
     try {
       const got = await this.client.send(
-        new GetObjectCommand({ Bucket: this.bucket, Key, ...(head.ETag ? { IfMatch: head.ETag } : {}) }),
+        new GetObjectCommand({ Bucket: bucket, Key, ...(head.ETag ? { IfMatch: head.ETag } : {}) }),
       );
       if (!(got.Body instanceof Readable)) throw new Error('the object store sent no body stream');
       const body = got.Body;

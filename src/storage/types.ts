@@ -34,6 +34,11 @@ export interface Storage {
   presignUpload(sizeBytes: number, expiresSeconds: number): Promise<PresignedUpload>;
   /** The stored object's size, or null when there is none. */
   sizeOf(key: string): Promise<number | null>;
+  /** An `s3://bucket/key` sourceUrl: its bucket and key when the bucket is one this store may read
+   * sources from (EARMARK_S3_SOURCE_BUCKETS), else source_refused. */
+  checkSource(url: string): { bucket: string; key: string };
+  /** A local copy of an allowed `s3://` source, bounded by limitBytes, hashed as it is copied. */
+  copySource(url: string, limitBytes: number): Promise<LocalCopy>;
   writeReport(jobId: string, json: string): Promise<string>;
   readReport(jobId: string): Promise<string | null>;
   remove(key: string): Promise<void>;

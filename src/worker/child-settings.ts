@@ -9,7 +9,7 @@ export interface ChildSettings {
   storageDir: string;
   /** The S3 backend's settings; absent for the file backend (storageDir). Credentials come from
    * the SDK's chain in the inherited environment. */
-  s3?: { url: string; endpoint: string | null; region: string; forcePathStyle: boolean };
+  s3?: { url: string; endpoint: string | null; region: string; forcePathStyle: boolean; sourceBuckets: string[] };
   urlAllowlist: string[];
   fetchLimitBytes: number;
   fetchTimeoutMs: number;
@@ -76,15 +76,18 @@ function settingsAsEnv(value: unknown, inherited: Env): Env {
 function s3Env(s3: unknown): Env {
   if (s3 === undefined) return {};
   if (!s3 || typeof s3 !== 'object') throw invalid('s3', 'must be an object');
-  const { url, endpoint, region, forcePathStyle } = s3 as Record<string, unknown>;
+  const { url, endpoint, region, forcePathStyle, sourceBuckets } = s3 as Record<string, unknown>;
   if (typeof url !== 'string' || typeof region !== 'string' || typeof forcePathStyle !== 'boolean')
     throw invalid('s3', 'must hold url, region and forcePathStyle');
+  if (!Array.isArray(sourceBuckets) || sourceBuckets.some((name) => typeof name !== 'string' || name.includes(',')))
+    throw invalid('s3', 'sourceBuckets must be a list of bucket names');
   if (endpoint !== null && typeof endpoint !== 'string') throw invalid('s3', 'endpoint must be a string or null');
   return {
     EARMARK_STORAGE_URL: url,
     AWS_ENDPOINT_URL_S3: endpoint ?? undefined,
     AWS_REGION: region,
     EARMARK_S3_FORCE_PATH_STYLE: String(forcePathStyle),
+    EARMARK_S3_SOURCE_BUCKETS: sourceBuckets.join(','),
   };
 }
 
@@ -100,6 +103,7 @@ export function childSettingsOf(config: Config): ChildSettings {
             endpoint: storage.endpoint,
             region: storage.region,
             forcePathStyle: storage.forcePathStyle,
+            sourceBuckets: storage.sourceBuckets,
           },
         }
       : {}),

@@ -59,6 +59,12 @@ export default async function analyzeJob(job: SandboxedJob<AnalyzeJobV1, Analyze
       fileName = data.source.fileName;
       // A temp copy's hash is of the bytes analysed, taken as they were copied.
       knownSha256 = copy.sha256 ?? data.source.sha256;
+    } else if (data.source.url.startsWith('s3://')) {
+      // Read straight from its bucket (checked again here): nothing is kept, so it has no excerpts.
+      copy = await storage.copySource(data.source.url, config.fetchLimitBytes);
+      path = copy.path;
+      knownSha256 = copy.sha256 ?? undefined;
+      fileName = decodeURIComponent(new URL(data.source.url).pathname.split('/').pop() || 'source');
     } else {
       const fetched = await fetchSource(
         policy,

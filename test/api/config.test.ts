@@ -48,6 +48,7 @@ describe('loadConfig', () => {
       endpoint: 'http://store.internal:9000',
       region: 'eu-central-1',
       forcePathStyle: true,
+      sourceBuckets: [],
     });
     // With S3, the folder is this host's own, for temp copies.
     expect(s3.storageDir).toBe('/var/tmp/earmark');
@@ -81,6 +82,7 @@ describe('loadConfig', () => {
     ['EARMARK_STORAGE_URL', 's3://media-bucket/a b'],
     ['EARMARK_STORAGE_URL', 'not a url'],
     ['EARMARK_S3_FORCE_PATH_STYLE', 'yes'],
+    ['EARMARK_S3_SOURCE_BUCKETS', 'ok-bucket,Not_A_Bucket'],
   ])('%s=%s stops start-up with a message naming it', (name, value) => {
     let thrown: unknown;
     try {

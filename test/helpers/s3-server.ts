@@ -1,7 +1,7 @@
 // An S3-protocol server for tests: s3rver (npm) on a free loopback port, its data in a temp folder,
 // with a fresh bucket per run. It checks request signatures against its fixed test credentials,
 // which the SDK's chain reads from the environment (the worker's sandboxed children inherit them).
-import { CreateBucketCommand } from '@aws-sdk/client-s3';
+import { CreateBucketCommand, PutObjectCommand } from '@aws-sdk/client-s3';
 import { randomBytes } from 'node:crypto';
 import { mkdtempSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
@@ -19,6 +19,8 @@ export interface TestS3 {
   location(prefix?: string): S3Location;
   /** The service's environment for this bucket (EARMARK_STORAGE_URL and the SDK's variables). */
   env(prefix?: string): Record<string, string>;
+  /** Another bucket on the same server, with one object in it (for s3:// sourceUrls). */
+  bucketWith(name: string, key: string, body: Buffer): Promise<void>;
   /** The folder s3rver keeps its objects and multipart parts in. */
   directory: string;
   close(): Promise<void>;
@@ -39,6 +41,7 @@ export async function startS3Server(): Promise<TestS3> {
     endpoint,
     region: 'us-east-1',
     forcePathStyle: true,
+    sourceBuckets: [],
   });
   const client = createS3Client(location());
   await client.send(new CreateBucketCommand({ Bucket: bucket }));
@@ -54,6 +57,15 @@ export async function startS3Server(): Promise<TestS3> {
       AWS_REGION: 'us-east-1',
       EARMARK_S3_FORCE_PATH_STYLE: 'true',
     }),
+    async bucketWith(name, key, body) {
+      const other = createS3Client(location());
+      try {
+        await other.send(new CreateBucketCommand({ Bucket: name }));
+        await other.send(new PutObjectCommand({ Bucket: name, Key: key, Body: body }));
+      } finally {
+        other.destroy();
+      }
+    },
     async close() {
       // Kept-alive SDK sockets would hold close() open.
       server.httpServer?.closeAllConnections();

@@ -51,7 +51,7 @@ const filesUnder = (dir: string) =>
 
 beforeAll(async () => {
   s3 = await startS3Server();
-  service = await startService({ s3 });
+  service = await startService({ s3, env: { EARMARK_S3_SOURCE_BUCKETS: `${s3.bucket}-drop` } });
   api = client(service.url);
   inputs = mkdtempSync(join(tmpdir(), 'earmark-s3-inputs-'));
   files = {
@@ -162,6 +162,30 @@ describe('on the S3 backend', () => {
     expect((await api.postJson('/v1/jobs', { uploadId, profile: 'ebu-r128' }, KEYS.beta)).status).toBe(404);
     const over = await api.postJson('/v1/uploads', { fileName: 'x.wav', sizeBytes: 6 * 1024 * 1024 }, KEYS.alpha);
     expect(over.status).toBe(413);
+  });
+
+  it('an s3:// sourceUrl in an allowed bucket is read straight from it; another bucket is refused', async () => {
+    const drop = `${s3.bucket}-drop`;
+    await s3.bucketWith(drop, 'deliveries/promo mix.wav', readFileSync(files.pass));
+    const submit = await api.postJson(
+      '/v1/jobs',
+      { sourceUrl: `s3://${drop}/deliveries/promo%20mix.wav`, profile: 'ebu-r128' },
+      KEYS.alpha,
+    );
+    expect(submit.status).toBe(202);
+    const done = await finished(submit.body.id);
+    expect(done.body).toMatchObject({ state: 'completed', verdict: 'pass' });
+    const report = await api.get(`/v1/jobs/${submit.body.id}/report`, KEYS.alpha);
+    expect(report.body.file).toMatchObject({ name: 'promo mix.wav', sha256: sha256Of(files.pass) });
+    expect(filesUnder(service.workerDir)).toEqual([]);
+    // Its own bucket is not a source bucket unless named.
+    const refused = await api.postJson(
+      '/v1/jobs',
+      { sourceUrl: `s3://${s3.bucket}/anything.wav`, profile: 'ebu-r128' },
+      KEYS.alpha,
+    );
+    expect(refused.status).toBe(422);
+    expect(refused.body).toMatchObject({ code: 'source_refused', field: 'sourceUrl' });
   });
 
   it('readiness asks the bucket', async () => {

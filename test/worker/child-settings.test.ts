@@ -33,6 +33,7 @@ describe('child settings', () => {
 
   it('reads the object-store backend the worker passes', () => {
     const s3 = {
+      sourceBuckets: ['ingest-drop'],
       url: 's3://media-bucket/earmark',
       endpoint: 'http://127.0.0.1:9000',
       region: 'eu-west-1',
@@ -45,6 +46,7 @@ describe('child settings', () => {
       endpoint: 'http://127.0.0.1:9000',
       region: 'eu-west-1',
       forcePathStyle: true,
+      sourceBuckets: ['ingest-drop'],
     });
   });
 
