@@ -217,14 +217,18 @@ export class S3Storage implements Storage {
   async writeReport(jobId: string, json: string): Promise<string> {
     const key = `reports/${jobId}.json`;
     // One PutObject is atomic: a reader never sees half a report.
-    await this.client.send(
-      new PutObjectCommand({
-        Bucket: this.bucket,
-        Key: this.objectKey(key),
-        Body: json,
-        ContentType: 'application/json',
-      }),
-    );
+    await this.client
+      .send(
+        new PutObjectCommand({
+          Bucket: this.bucket,
+          Key: this.objectKey(key),
+          Body: json,
+          ContentType: 'application/json',
+        }),
+      )
+      .catch((error: unknown) => {
+        throw unavailable('the report could not be stored', error);
+      });
     return key;
   }
 
@@ -241,7 +245,11 @@ export class S3Storage implements Storage {
   }
 
   async remove(key: string): Promise<void> {
-    await this.client.send(new DeleteObjectCommand({ Bucket: this.bucket, Key: this.objectKey(key) }));
+    await this.client
+      .send(new DeleteObjectCommand({ Bucket: this.bucket, Key: this.objectKey(key) }))
+      .catch((error) => {
+        throw unavailable('the stored object could not be removed', error);
+      });
   }
 
   /** Objects under uploads/ and reports/ last modified before the cutoff, then this host's stale copies. */

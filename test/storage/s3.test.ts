@@ -107,6 +107,14 @@ describe('S3 storage', () => {
     await storage.remove(stored.key);
   });
 
+  it('an empty upload is an empty object', async () => {
+    const stored = await storage.saveUpload(chunked(Buffer.alloc(0)), MIB);
+    expect(stored).toMatchObject({ sizeBytes: 0, sha256: sha256(Buffer.alloc(0)) });
+    expect(await storage.sizeOf(stored.key)).toBe(0);
+    await storage.remove(stored.key);
+    expect(await storage.sizeOf(stored.key)).toBeNull();
+  });
+
   it('over the limit: payload_too_large, the multipart upload aborted, no object left', async () => {
     sent.length = 0;
     const error = await errorOf(storage.saveUpload(chunked(randomBytes(3 * PART_SIZE_BYTES)), 2 * PART_SIZE_BYTES));
