@@ -10,7 +10,7 @@ import { isRetryable, toEarmarkError } from '../errors/index.ts';
 import { UrlPolicy } from '../net/url-guard.ts';
 import { analysisOptionsForProfile, decodeOptionsForProfile, evaluate } from '../profiles/index.ts';
 import { ANALYZE_JOB_V1, encodeFailure, type AnalyzeJobV1, type AnalyzeResultV1 } from '../queue/contract.ts';
-import { openStorage, type LocalCopy } from '../storage/index.ts';
+import { openStorage, type LocalCopy, type Storage } from '../storage/index.ts';
 import { readChildSettings } from './child-settings.ts';
 import { fetchSource } from './fetch-source.ts';
 import { readThreadBudget, threadsForFile } from './thread-policy.ts';
@@ -35,15 +35,29 @@ function retireIfGrown(): void {
   if (rssMb > config.childRssLimitMb) process.kill(process.pid, 'SIGTERM');
 }
 
+// The object-store backend copies the audio to a bounded temp file: the decoders read with
+// random access (storage/s3.ts). Uploads and fetched files share one bound, the larger limit.
+const openJobStorage = () =>
+  openStorage(config.storage, config.storageDir, {
+    copyLimitBytes: Math.max(config.uploadLimitBytes, config.fetchLimitBytes),
+  });
+/** One S3 client for the child's life (its connections are reused from job to job); the
+ * directory is opened per job, which makes its folders again if they went. */
+let s3Storage: Promise<Storage> | null = null;
+function jobStorage(): Promise<Storage> {
+  if (config.storage.kind === 'file') return openJobStorage();
+  s3Storage ??= openJobStorage().catch((error: unknown) => {
+    s3Storage = null;
+    throw error;
+  });
+  return s3Storage;
+}
+
 export default async function analyzeJob(job: SandboxedJob<AnalyzeJobV1, AnalyzeResultV1>): Promise<AnalyzeResultV1> {
   if (job.name !== ANALYZE_JOB_V1)
     throw new UnrecoverableError(encodeFailure('invalid_argument', `this worker does not know job name ${job.name}`));
   const started = performance.now();
-  // The object-store backend copies the audio to a bounded temp file: the decoders read with
-  // random access (storage/s3.ts). Uploads and fetched files share one bound, the larger limit.
-  const storage = await openStorage(config.storage, config.storageDir, {
-    copyLimitBytes: Math.max(config.uploadLimitBytes, config.fetchLimitBytes),
-  });
+  const storage = await jobStorage();
   const data = job.data;
   let fetchedKey: string | null = null;
   let sourceKey = '';
