@@ -38,7 +38,9 @@ import {
 /** S3's smallest part is 5 MiB; 8 MiB parts, two in flight, keep an upload near 24 MiB of buffers. */
 export const PART_SIZE_BYTES = 8 * 1024 * 1024;
 export const QUEUE_SIZE = 2;
+/** Temp copies for analyses (they live as long as a job) and for excerpts (seconds). */
 const COPIES = 'copies';
+const SHORT_COPIES = 'short-copies';
 
 type S3Location = Extract<StorageLocation, { kind: 's3' }>;
 
@@ -67,6 +69,7 @@ export class S3Storage implements Storage {
   private readonly prefix: string;
   private readonly copyLimitBytes: number;
   private readonly sourceBuckets: ReadonlySet<string>;
+  private readonly copiesFolder: string;
 
   constructor(
     readonly client: S3Client,
@@ -79,10 +82,11 @@ export class S3Storage implements Storage {
     this.prefix = location.prefix ? `${location.prefix}/` : '';
     this.copyLimitBytes = options.copyLimitBytes ?? Number.MAX_SAFE_INTEGER;
     this.sourceBuckets = new Set(location.sourceBuckets);
+    this.copiesFolder = options.shortLivedCopies ? SHORT_COPIES : COPIES;
   }
 
   async init(): Promise<this> {
-    await mkdir(join(this.localDir, COPIES), { recursive: true });
+    await mkdir(join(this.localDir, this.copiesFolder), { recursive: true });
     return this;
   }
 
@@ -186,7 +190,7 @@ export class S3Storage implements Storage {
       throw new EarmarkError('payload_too_large', `the stored audio is larger than ${limitBytes} bytes`, {
         limitBytes,
       });
-    const path = join(this.localDir, COPIES, randomUUID());
+    const path = join(this.localDir, this.copiesFolder, randomUUID());
     const hash = createHash('sha256');
     try {
       const got = await this.client.send(
@@ -274,13 +278,14 @@ export class S3Storage implements Storage {
         token = page.IsTruncated ? page.NextContinuationToken : undefined;
       } while (token);
     }
-    return removed + (await sweepDirs(this.localDir, [COPIES], maxAgeMs));
+    return removed + (await sweepDirs(this.localDir, [COPIES, SHORT_COPIES], maxAgeMs));
   }
 
-  /** Nothing partial is kept here: an abandoned multipart upload is aborted by its request, and
+  /** Short-lived copies a killed process left (a copy being written is touched by every write,
+   * and one in use lives seconds). An abandoned multipart upload is aborted by its request, and
    * one a killed process left is the bucket's lifecycle rule's to remove (see the README). */
-  async sweepPartials(): Promise<number> {
-    return 0;
+  sweepPartials(maxAgeMs: number): Promise<number> {
+    return sweepDirs(this.localDir, [SHORT_COPIES], maxAgeMs);
   }
 
   async checkWritable(): Promise<boolean> {

@@ -55,6 +55,9 @@ export interface StorageOptions {
   partialTouchMs?: number;
   /** Largest object localCopy copies to this host (the S3 backend); larger is payload_too_large. */
   copyLimitBytes?: number;
+  /** Copies are released within seconds (the API's excerpts), so sweepPartials may remove old ones;
+   * an analysis's copy lives as long as its job and is left to the retention sweep. */
+  shortLivedCopies?: boolean;
 }
 
 export const KEY = /^(uploads|reports)\/[A-Za-z0-9_-]+(\.json)?$/;

@@ -180,6 +180,20 @@ describe('S3 storage', () => {
     await storage.remove('reports/new.json');
   });
 
+  it("sweepPartials removes a killed process's short-lived copies, never an analysis's", async () => {
+    const stored = await storage.saveUpload(chunked(randomBytes(1000)), MIB);
+    const analysis = await storage.localCopy(stored.key);
+    const excerpts = new S3Storage(storage.client, s3.location('unit'), localDir, { shortLivedCopies: true });
+    await excerpts.init();
+    const excerpt = await excerpts.localCopy(stored.key);
+    expect(await excerpts.sweepPartials(60_000)).toBe(0);
+    expect(await excerpts.sweepPartials(-1)).toBe(1);
+    expect(existsSync(excerpt.path)).toBe(false);
+    expect(existsSync(analysis.path)).toBe(true);
+    await analysis.release();
+    await storage.remove(stored.key);
+  });
+
   it('checkWritable is true for the bucket and false for a bucket that does not exist', async () => {
     expect(await storage.checkWritable()).toBe(true);
     const missing = { ...s3.location('unit'), bucket: 'earmark-no-such-bucket' };
