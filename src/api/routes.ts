@@ -10,6 +10,7 @@ import { jobSpecs, jobsPlugin } from './plugins/jobs.ts';
 import { pageSpecs, pagesPlugin } from './plugins/pages.ts';
 import { profileSpecs, profilesPlugin } from './plugins/profiles.ts';
 import { reportViewSpecs, reportViewsPlugin } from './plugins/report-views.ts';
+import { uploadSpecs, uploadsPlugin } from './plugins/uploads.ts';
 import type { RouteSpec } from './route-spec.ts';
 
 export interface RouteModule {
@@ -19,6 +20,7 @@ export interface RouteModule {
 
 export const routeModules: readonly RouteModule[] = [
   { specs: jobSpecs, plugin: (deps, config) => jobsPlugin(deps, config.uploadLimitBytes, config.bodyTimeoutMs) },
+  { specs: uploadSpecs, plugin: (deps, config) => uploadsPlugin(deps, config.uploadLimitBytes) },
   { specs: reportViewSpecs, plugin: reportViewsPlugin },
   { specs: profileSpecs, plugin: profilesPlugin },
   { specs: pageSpecs, plugin: pagesPlugin },

@@ -293,18 +293,54 @@ const submitFields = {
 
 export const SubmitJson = {
   type: 'object',
-  required: ['sourceUrl', 'profile'],
+  required: ['profile'],
   properties: {
     sourceUrl: {
       type: 'string',
       maxLength: 2000,
-      description: 'Fetched by the worker (size cap, timeout; internal addresses refused).',
+      description: 'Fetched by the worker (size cap, timeout; internal addresses refused). Give this or uploadId.',
+    },
+    uploadId: {
+      type: 'string',
+      pattern: '^u_[a-f0-9]{24}$',
+      description: 'A direct upload (POST /v1/uploads) whose file has been PUT. Give this or sourceUrl.',
     },
     ...submitFields,
     metadata: { type: 'object', maxProperties: 20, additionalProperties: { type: 'string', maxLength: 500 } },
   },
   additionalProperties: false,
 } as const satisfies ObjectSchema;
+
+export const CreateUpload = {
+  type: 'object',
+  required: ['fileName', 'sizeBytes'],
+  properties: {
+    fileName: { type: 'string', minLength: 1, maxLength: 255, description: 'Shown in the report.' },
+    sizeBytes: {
+      type: 'integer',
+      minimum: 1,
+      description: 'The exact size of the file; the signature covers it, so the store refuses any other.',
+    },
+  },
+  additionalProperties: false,
+} as const satisfies ObjectSchema;
+
+export const DirectUpload: Schema = {
+  type: 'object',
+  required: ['uploadId', 'method', 'url', 'headers', 'expiresAt'],
+  properties: {
+    uploadId: { type: 'string' },
+    method: { type: 'string', enum: ['PUT'] },
+    url: { type: 'string', description: 'Presigned: send the file body here, unchanged, before expiresAt.' },
+    headers: {
+      type: 'object',
+      additionalProperties: { type: 'string' },
+      description: 'Send exactly these headers (the signature covers them): Content-Length, the declared size.',
+    },
+    expiresAt: { type: 'string', format: 'date-time' },
+  },
+  additionalProperties: false,
+};
 
 export const SubmitMultipart: Schema = {
   type: 'object',

@@ -28,8 +28,10 @@ export async function startApi(config: Config, logger?: Logger): Promise<Running
   const log = (message: string, error: Error) => app?.log.warn({ err: { message: error.message } }, message);
   redis.on('error', (error) => log('redis connection error', error));
   await waitReady(redis, 5_000);
-  const storage = await openStorage(config.storageDir, {
+  const storage = await openStorage(config.storage, config.storageDir, {
     partialTouchMs: Math.min(10_000, Math.floor(config.bodyTimeoutMs / 2)),
+    copyLimitBytes: Math.max(config.uploadLimitBytes, config.fetchLimitBytes),
+    shortLivedCopies: true,
   });
   // Partial uploads of a killed process, then of requests that died without cleaning up: a live
   // transfer's temp file is touched while bytes arrive, and they arrive at least once per body

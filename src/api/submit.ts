@@ -43,7 +43,9 @@ export async function submitJob(
   if (!entry)
     throw new EarmarkError('unknown_profile', `no profile "${input.profile}" for this tenant`, { field: 'profile' });
   if (input.callbackUrl) await deps.policy.check(input.callbackUrl, 'callbackUrl');
-  if (source.kind === 'url') {
+  // An s3:// source is read from an allowed bucket of the object store, never over the network policy.
+  if (source.kind === 'url' && source.url.startsWith('s3://')) deps.storage.checkSource(source.url);
+  else if (source.kind === 'url') {
     await deps.policy.check(source.url, 'sourceUrl');
     assertDecodablePath(source.url);
   }
@@ -56,7 +58,7 @@ export async function submitJob(
         input.callbackUrl ?? null,
         input.externalId ?? null,
         input.metadata ?? null,
-        source.kind === 'url' ? source.url : source.sha256,
+        source.kind === 'url' ? source.url : (source.sha256 ?? source.storageKey),
       ]),
     )
     .digest('hex');
@@ -92,4 +94,32 @@ export async function submitJob(
     throw error;
   }
   return { id, duplicate: false };
+}
+
+/** A job on a direct upload's file, once it is in storage. The upload id stays valid until the
+ * retention period ends, so the same file may be checked against several profiles; the worker
+ * hashes the bytes that landed, as it copies them. */
+export async function submitDirectUpload(
+  deps: AppDeps,
+  tenant: string,
+  uploadId: string,
+  input: SubmitInput,
+  idempotencyKey: string | undefined,
+): Promise<Submitted> {
+  const upload = await deps.store.uploads.get(tenant, uploadId);
+  if (!upload) throw new EarmarkError('not_found', `no upload ${uploadId} for this tenant`, { field: 'uploadId' });
+  const sizeBytes = await deps.storage.sizeOf(upload.storageKey);
+  if (sizeBytes === null)
+    throw new EarmarkError('upload_incomplete', 'the file has not been PUT to the upload URL yet', {
+      field: 'uploadId',
+    });
+  // The signed Content-Length makes S3 refuse another size; this holds on stores that do not check.
+  if (sizeBytes !== upload.sizeBytes)
+    throw new EarmarkError(
+      'validation_failed',
+      `the stored file is ${sizeBytes} bytes, not the ${upload.sizeBytes} declared for this upload`,
+      { field: 'uploadId' },
+    );
+  const { storageKey, fileName } = upload;
+  return submitJob(deps, tenant, input, { kind: 'upload', storageKey, fileName, sizeBytes }, idempotencyKey);
 }

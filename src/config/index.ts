@@ -3,6 +3,7 @@
 
 import { availableParallelism, tmpdir } from 'node:os';
 import { join, resolve } from 'node:path';
+import { fileURLToPath } from 'node:url';
 
 // admin (profile edits) implies submit and read only: metrics and the all-tenant view
 // (operator) are granted separately, so a tenant's admin key sees only its own tenant.
@@ -15,6 +16,23 @@ export interface ApiKey {
   scopes: Scope[];
 }
 
+/** Where uploads and reports live: EARMARK_STORAGE_URL (`file:///path` or `s3://bucket/prefix`). */
+export type StorageLocation =
+  | { kind: 'file'; dir: string }
+  | {
+      kind: 's3';
+      bucket: string;
+      /** Key prefix without slashes at either end; '' for the bucket's root. */
+      prefix: string;
+      /** AWS_ENDPOINT_URL_S3 or AWS_ENDPOINT_URL; null for AWS's own. */
+      endpoint: string | null;
+      region: string;
+      /** EARMARK_S3_FORCE_PATH_STYLE: bucket in the path, for servers without virtual-host addressing. */
+      forcePathStyle: boolean;
+      /** EARMARK_S3_SOURCE_BUCKETS: buckets of the same store an `s3://` sourceUrl may name. */
+      sourceBuckets: string[];
+    };
+
 export interface Config {
   port: number;
   host: string;
@@ -23,6 +41,8 @@ export interface Config {
   redisUrlExplicit: boolean;
   queuePrefix: string;
   apiKeys: ApiKey[];
+  storage: StorageLocation;
+  /** The file backend's root; with the S3 backend, this host's own folder for temp copies. */
   storageDir: string;
   uploadLimitBytes: number;
   fetchLimitBytes: number;
@@ -136,6 +156,70 @@ export function maxDecodedSeconds(env: Env = process.env): number {
   return int(env, 'EARMARK_MAX_DECODED_SECONDS', 86_400, 1);
 }
 
+function bool(env: Env, name: string): boolean {
+  const raw = (env[name] ?? '').trim().toLowerCase();
+  if (raw === '' || raw === 'false' || raw === '0') return false;
+  if (raw === 'true' || raw === '1') return true;
+  throw new ConfigError(name, 'must be true or false');
+}
+
+/** Bucket names as S3 allows them (lower case, digits, dots, hyphens; 3-63 characters). */
+const BUCKET = /^[a-z0-9][a-z0-9.-]{1,61}[a-z0-9]$/;
+const PREFIX = /^[A-Za-z0-9!_.*'()/-]*$/;
+
+function sourceBuckets(env: Env): string[] {
+  const names = (env.EARMARK_S3_SOURCE_BUCKETS ?? '')
+    .split(',')
+    .map((s) => s.trim())
+    .filter(Boolean);
+  if (names.some((name) => !BUCKET.test(name)))
+    throw new ConfigError('EARMARK_S3_SOURCE_BUCKETS', 'must be a comma-separated list of S3 bucket names');
+  return names;
+}
+
+function storageLocation(env: Env): StorageLocation {
+  const dirFromEnv = env.EARMARK_STORAGE_DIR ? resolve(env.EARMARK_STORAGE_DIR) : null;
+  // Checked whatever the backend, so a typo shows before a switch to S3.
+  const forcePathStyle = bool(env, 'EARMARK_S3_FORCE_PATH_STYLE');
+  const buckets = sourceBuckets(env);
+  const raw = env.EARMARK_STORAGE_URL;
+  if (!raw) return { kind: 'file', dir: dirFromEnv ?? join(tmpdir(), 'earmark-storage') };
+  const name = 'EARMARK_STORAGE_URL';
+  let url: URL;
+  try {
+    url = new URL(raw);
+  } catch {
+    throw new ConfigError(name, 'must be file:///path or s3://bucket/prefix');
+  }
+  if (url.protocol === 'file:') {
+    if (url.search || url.hash) throw new ConfigError(name, 'a file URL takes no query or fragment');
+    const dir = resolve(fileURLToPath(url));
+    if (dirFromEnv && dirFromEnv !== dir) throw new ConfigError(name, 'names another folder than EARMARK_STORAGE_DIR');
+    return { kind: 'file', dir };
+  }
+  if (url.protocol !== 's3:') throw new ConfigError(name, 'must be file:///path or s3://bucket/prefix');
+  if (!BUCKET.test(url.hostname) || url.username || url.password || url.port)
+    throw new ConfigError(name, 'the bucket must be a valid S3 bucket name, with no user or port');
+  const prefix = decodeURIComponent(url.pathname).replace(/^\/+|\/+$/g, '');
+  if (!PREFIX.test(prefix) || prefix.includes('//') || url.search || url.hash)
+    throw new ConfigError(name, "the prefix may hold only letters, digits and !_.*'()/-");
+  const endpoint = env.AWS_ENDPOINT_URL_S3 || env.AWS_ENDPOINT_URL || null;
+  if (endpoint !== null && !/^https?:\/\//.test(endpoint))
+    throw new ConfigError(
+      env.AWS_ENDPOINT_URL_S3 ? 'AWS_ENDPOINT_URL_S3' : 'AWS_ENDPOINT_URL',
+      'must be an http(s) URL',
+    );
+  return {
+    kind: 's3',
+    bucket: url.hostname,
+    prefix,
+    endpoint,
+    region: env.AWS_REGION || env.AWS_DEFAULT_REGION || 'us-east-1',
+    forcePathStyle,
+    sourceBuckets: buckets,
+  };
+}
+
 export function loadConfig(env: Env = process.env): Config {
   const redisUrl = env.REDIS_URL || 'redis://127.0.0.1:6379';
   if (!/^rediss?:\/\//.test(redisUrl)) throw new ConfigError('REDIS_URL', 'must start with redis:// or rediss://');
@@ -149,6 +233,7 @@ export function loadConfig(env: Env = process.env): Config {
   if (!['fatal', 'error', 'warn', 'info', 'debug', 'trace', 'silent'].includes(logLevel))
     throw new ConfigError('EARMARK_LOG_LEVEL', 'must be one of fatal, error, warn, info, debug, trace, silent');
   const uploadLimitBytes = int(env, 'EARMARK_UPLOAD_LIMIT_BYTES', 2 * 1024 ** 3, 1);
+  const storage = storageLocation(env);
   return {
     port: int(env, 'PORT', 8080, 0, 65535),
     host: env.HOST || '0.0.0.0',
@@ -156,7 +241,9 @@ export function loadConfig(env: Env = process.env): Config {
     redisUrlExplicit: Boolean(env.REDIS_URL),
     queuePrefix: prefix,
     apiKeys: apiKeys(env),
-    storageDir: resolve(env.EARMARK_STORAGE_DIR || join(tmpdir(), 'earmark-storage')),
+    storage,
+    storageDir:
+      storage.kind === 'file' ? storage.dir : resolve(env.EARMARK_STORAGE_DIR || join(tmpdir(), 'earmark-local')),
     uploadLimitBytes,
     fetchLimitBytes: int(env, 'EARMARK_FETCH_LIMIT_BYTES', uploadLimitBytes, 1),
     fetchTimeoutMs: int(env, 'EARMARK_FETCH_TIMEOUT_MS', 60_000, 100),

@@ -63,6 +63,12 @@ export const errorCatalogue = {
   },
   cancelled: { status: 499, title: 'The work was cancelled before it finished', retryable: false },
   webhook_failed: { status: 502, title: 'The callback URL did not accept the notification', retryable: true },
+  direct_upload_unavailable: {
+    status: 501,
+    title: 'Direct uploads need the object-store backend',
+    retryable: false,
+  },
+  upload_incomplete: { status: 409, title: 'Nothing has been uploaded for this uploadId yet', retryable: false },
   storage_full: { status: 507, title: 'Storage is full', retryable: true, retryAfterSeconds: 5 },
   storage_unavailable: { status: 503, title: 'Storage is not available', retryable: true, retryAfterSeconds: 5 },
   service_unavailable: {

@@ -4,6 +4,7 @@
 import type { Redis } from 'ioredis';
 import { DeliveryLog } from './deliveries.ts';
 import { FairShare } from './fair-share.ts';
+import { DirectUploads } from './direct-uploads.ts';
 import { IdempotencyKeys } from './idempotency.ts';
 import { JobIndex } from './job-index.ts';
 import { Outcomes } from './outcomes.ts';
@@ -16,6 +17,7 @@ export interface ServiceStores {
   deliveries: DeliveryLog;
   outcomes: Outcomes;
   fairShare: FairShare;
+  uploads: DirectUploads;
 }
 
 export function openServiceStores(redis: Redis, prefix: string, retentionSeconds: number): ServiceStores {
@@ -26,5 +28,6 @@ export function openServiceStores(redis: Redis, prefix: string, retentionSeconds
     deliveries: new DeliveryLog(redis, prefix, retentionSeconds),
     outcomes: new Outcomes(redis, prefix, retentionSeconds),
     fairShare: new FairShare(redis, prefix),
+    uploads: new DirectUploads(redis, prefix, retentionSeconds),
   };
 }

@@ -3,10 +3,13 @@
 // The child checks them with the worker's own environment schema (config/index.ts), so one set of
 // bounds holds on both sides of the fork.
 import { isAbsolute } from 'node:path';
-import { ConfigError, loadConfig, type Config } from '../config/index.ts';
+import { ConfigError, loadConfig, type Config, type StorageLocation } from '../config/index.ts';
 
 export interface ChildSettings {
   storageDir: string;
+  /** The S3 backend's settings; absent for the file backend (storageDir). Credentials come from
+   * the SDK's chain in the inherited environment. */
+  s3?: { url: string; endpoint: string | null; region: string; forcePathStyle: boolean; sourceBuckets: string[] };
   urlAllowlist: string[];
   fetchLimitBytes: number;
   fetchTimeoutMs: number;
@@ -14,7 +17,11 @@ export interface ChildSettings {
   childRssLimitMb?: number;
   maxDecodedSeconds?: number;
   fetchDeadlineMs?: number;
+  uploadLimitBytes?: number;
 }
+
+/** What the child reads: the settings with the defaults filled in and the storage parsed. */
+export type ChildConfig = Required<Omit<ChildSettings, 's3'>> & { storage: StorageLocation };
 
 export const CHILD_SETTINGS_ENV = 'EARMARK_CHILD_SETTINGS';
 
@@ -27,7 +34,8 @@ const NUMBER_VARIABLES = {
   childRssLimitMb: 'EARMARK_CHILD_RSS_LIMIT_MB',
   maxDecodedSeconds: 'EARMARK_MAX_DECODED_SECONDS',
   fetchDeadlineMs: 'EARMARK_FETCH_DEADLINE_MS',
-} as const satisfies Record<Exclude<keyof ChildSettings, 'storageDir' | 'urlAllowlist'>, string>;
+  uploadLimitBytes: 'EARMARK_UPLOAD_LIMIT_BYTES',
+} as const satisfies Record<Exclude<keyof ChildSettings, 'storageDir' | 'urlAllowlist' | 's3'>, string>;
 
 const REQUIRED = new Set<string>(['fetchLimitBytes', 'fetchTimeoutMs']);
 
@@ -37,7 +45,7 @@ const invalid = (field: string, message: string) => new ConfigError(CHILD_SETTIN
 function settingsAsEnv(value: unknown, inherited: Env): Env {
   if (!value || typeof value !== 'object' || Array.isArray(value)) throw invalid('settings', 'must be a JSON object');
   const record: Record<string, unknown> = { ...value };
-  const known = new Set<string>(['storageDir', 'urlAllowlist', ...Object.keys(NUMBER_VARIABLES)]);
+  const known = new Set<string>(['storageDir', 'urlAllowlist', 's3', ...Object.keys(NUMBER_VARIABLES)]);
   const unknown = Object.keys(record).find((key) => !known.has(key));
   if (unknown !== undefined) throw invalid(unknown, 'is not a known setting');
   const { storageDir, urlAllowlist } = record;
@@ -50,7 +58,11 @@ function settingsAsEnv(value: unknown, inherited: Env): Env {
   ) {
     throw invalid('urlAllowlist', 'must be a list of host names or CIDR ranges');
   }
-  const env: Env = { EARMARK_STORAGE_DIR: storageDir, EARMARK_URL_ALLOWLIST: urlAllowlist.join(',') };
+  const env: Env = {
+    EARMARK_STORAGE_DIR: storageDir,
+    EARMARK_URL_ALLOWLIST: urlAllowlist.join(','),
+    ...s3Env(record.s3),
+  };
   for (const [field, variable] of Object.entries(NUMBER_VARIABLES)) {
     const setting = record[field];
     if (setting === undefined && !REQUIRED.has(field)) env[variable] = inherited[variable];
@@ -59,6 +71,50 @@ function settingsAsEnv(value: unknown, inherited: Env): Env {
     else env[variable] = String(setting);
   }
   return env;
+}
+
+function s3Env(s3: unknown): Env {
+  if (s3 === undefined) return {};
+  if (!s3 || typeof s3 !== 'object') throw invalid('s3', 'must be an object');
+  const { url, endpoint, region, forcePathStyle, sourceBuckets } = s3 as Record<string, unknown>;
+  if (typeof url !== 'string' || typeof region !== 'string' || typeof forcePathStyle !== 'boolean')
+    throw invalid('s3', 'must hold url, region and forcePathStyle');
+  if (!Array.isArray(sourceBuckets) || sourceBuckets.some((name) => typeof name !== 'string' || name.includes(',')))
+    throw invalid('s3', 'sourceBuckets must be a list of bucket names');
+  if (endpoint !== null && typeof endpoint !== 'string') throw invalid('s3', 'endpoint must be a string or null');
+  return {
+    EARMARK_STORAGE_URL: url,
+    AWS_ENDPOINT_URL_S3: endpoint ?? undefined,
+    AWS_REGION: region,
+    EARMARK_S3_FORCE_PATH_STYLE: String(forcePathStyle),
+    EARMARK_S3_SOURCE_BUCKETS: sourceBuckets.join(','),
+  };
+}
+
+/** The settings the worker passes its child for this configuration. */
+export function childSettingsOf(config: Config): ChildSettings {
+  const { storage } = config;
+  return {
+    storageDir: config.storageDir,
+    ...(storage.kind === 's3'
+      ? {
+          s3: {
+            url: `s3://${storage.bucket}/${storage.prefix}`,
+            endpoint: storage.endpoint,
+            region: storage.region,
+            forcePathStyle: storage.forcePathStyle,
+            sourceBuckets: storage.sourceBuckets,
+          },
+        }
+      : {}),
+    urlAllowlist: config.urlAllowlist,
+    fetchLimitBytes: config.fetchLimitBytes,
+    fetchTimeoutMs: config.fetchTimeoutMs,
+    fetchDeadlineMs: config.fetchDeadlineMs,
+    childRssLimitMb: config.childRssLimitMb,
+    maxDecodedSeconds: config.maxDecodedSeconds,
+    uploadLimitBytes: config.uploadLimitBytes,
+  };
 }
 
 /** The schema's verdict, naming the setting rather than the variable it stood in for. */
@@ -75,7 +131,7 @@ function checked(env: Env): Config {
 }
 
 /** The child's settings, checked against the environment schema; a bad value throws ConfigError. */
-export function parseChildSettings(raw: string | undefined, inherited: Env = process.env): Required<ChildSettings> {
+export function parseChildSettings(raw: string | undefined, inherited: Env = process.env): ChildConfig {
   if (!raw)
     throw new ConfigError(CHILD_SETTINGS_ENV, "is missing: the processor runs only as the worker's sandboxed child");
   let value: unknown;
@@ -87,15 +143,17 @@ export function parseChildSettings(raw: string | undefined, inherited: Env = pro
   const config = checked(settingsAsEnv(value, inherited));
   return {
     storageDir: config.storageDir,
+    storage: config.storage,
     urlAllowlist: config.urlAllowlist,
     fetchLimitBytes: config.fetchLimitBytes,
     fetchTimeoutMs: config.fetchTimeoutMs,
     childRssLimitMb: config.childRssLimitMb,
     maxDecodedSeconds: config.maxDecodedSeconds,
     fetchDeadlineMs: config.fetchDeadlineMs,
+    uploadLimitBytes: config.uploadLimitBytes,
   };
 }
 
-export function readChildSettings(): Required<ChildSettings> {
+export function readChildSettings(): ChildConfig {
   return parseChildSettings(process.env[CHILD_SETTINGS_ENV]);
 }

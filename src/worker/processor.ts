@@ -10,7 +10,7 @@ import { isRetryable, toEarmarkError } from '../errors/index.ts';
 import { UrlPolicy } from '../net/url-guard.ts';
 import { analysisOptionsForProfile, decodeOptionsForProfile, evaluate } from '../profiles/index.ts';
 import { ANALYZE_JOB_V1, encodeFailure, type AnalyzeJobV1, type AnalyzeResultV1 } from '../queue/contract.ts';
-import { openStorage } from '../storage/index.ts';
+import { openStorage, type LocalCopy, type Storage } from '../storage/index.ts';
 import { readChildSettings } from './child-settings.ts';
 import { fetchSource } from './fetch-source.ts';
 import { readThreadBudget, threadsForFile } from './thread-policy.ts';
@@ -35,23 +35,50 @@ function retireIfGrown(): void {
   if (rssMb > config.childRssLimitMb) process.kill(process.pid, 'SIGTERM');
 }
 
+// The object-store backend copies the audio to a bounded temp file: the decoders read with
+// random access (storage/s3.ts). Uploads and fetched files share one bound, the larger limit.
+const openJobStorage = () =>
+  openStorage(config.storage, config.storageDir, {
+    copyLimitBytes: Math.max(config.uploadLimitBytes, config.fetchLimitBytes),
+  });
+/** One S3 client for the child's life (its connections are reused from job to job); the
+ * directory is opened per job, which makes its folders again if they went. */
+let s3Storage: Promise<Storage> | null = null;
+function jobStorage(): Promise<Storage> {
+  if (config.storage.kind === 'file') return openJobStorage();
+  s3Storage ??= openJobStorage().catch((error: unknown) => {
+    s3Storage = null;
+    throw error;
+  });
+  return s3Storage;
+}
+
 export default async function analyzeJob(job: SandboxedJob<AnalyzeJobV1, AnalyzeResultV1>): Promise<AnalyzeResultV1> {
   if (job.name !== ANALYZE_JOB_V1)
     throw new UnrecoverableError(encodeFailure('invalid_argument', `this worker does not know job name ${job.name}`));
   const started = performance.now();
-  const storage = await openStorage(config.storageDir);
+  const storage = await jobStorage();
   const data = job.data;
   let fetchedKey: string | null = null;
   let sourceKey = '';
+  let copy: LocalCopy | null = null;
   let path = '';
   let fileName = 'the file';
   let knownSha256: string | undefined;
   try {
     if (data.source.kind === 'upload') {
       sourceKey = data.source.storageKey;
-      path = storage.pathOf(sourceKey);
+      copy = await storage.localCopy(sourceKey);
+      path = copy.path;
       fileName = data.source.fileName;
-      knownSha256 = data.source.sha256;
+      // A temp copy's hash is of the bytes analysed, taken as they were copied.
+      knownSha256 = copy.sha256 ?? data.source.sha256;
+    } else if (data.source.url.startsWith('s3://')) {
+      // Read straight from its bucket (checked again here): nothing is kept, so it has no excerpts.
+      copy = await storage.copySource(data.source.url, config.fetchLimitBytes);
+      path = copy.path;
+      knownSha256 = copy.sha256 ?? undefined;
+      fileName = decodeURIComponent(new URL(data.source.url).pathname.split('/').pop() || 'source');
     } else {
       const fetched = await fetchSource(
         policy,
@@ -63,7 +90,8 @@ export default async function analyzeJob(job: SandboxedJob<AnalyzeJobV1, Analyze
       );
       fetchedKey = fetched.key;
       sourceKey = fetched.key;
-      path = storage.pathOf(fetched.key);
+      copy = await storage.localCopy(fetched.key);
+      path = copy.path;
       knownSha256 = fetched.sha256;
       fileName = decodeURIComponent(new URL(data.source.url).pathname.split('/').pop() || 'source');
     }
@@ -123,6 +151,7 @@ export default async function analyzeJob(job: SandboxedJob<AnalyzeJobV1, Analyze
   } finally {
     // A fetched copy of a failed job is ours alone; an upload stays until the retention sweep.
     if (fetchedKey) await storage.remove(fetchedKey).catch(() => undefined);
+    await copy?.release().catch(() => undefined);
     retireIfGrown();
   }
 }

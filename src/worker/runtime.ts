@@ -30,7 +30,7 @@ import { followClock } from '../queue/fair-share.ts';
 import { createAnalysisQueue, createWebhookQueue } from '../queue/queues.ts';
 import { openServiceStores } from '../queue/store.ts';
 import { openStorage } from '../storage/index.ts';
-import { CHILD_SETTINGS_ENV, type ChildSettings } from './child-settings.ts';
+import { CHILD_SETTINGS_ENV, childSettingsOf } from './child-settings.ts';
 import { threadBudget } from './thread-policy.ts';
 import { deliver } from './webhooks.ts';
 import { currentBundle } from '../../bin/bundles.js';
@@ -151,7 +151,7 @@ export async function startWorker(config: Config, log: Logger): Promise<WorkerRu
   const redis: Redis = createRedis(config.redisUrl, 'worker');
   redis.on('error', (error) => log.warn({ err: { message: error.message } }, 'redis connection error'));
   await waitReady(redis, 10_000);
-  const storage = await openStorage(config.storageDir);
+  const storage = await openStorage(config.storage, config.storageDir);
   const store = openServiceStores(redis, config.queuePrefix, config.retentionHours * 3600);
   const policy = new UrlPolicy(config.urlAllowlist);
   const onError = (error: Error, where: string) => log.error({ err: { message: error.message }, where }, 'queue error');
@@ -200,15 +200,7 @@ export async function startWorker(config: Config, log: Logger): Promise<WorkerRu
     },
   };
 
-  const childSettings: ChildSettings = {
-    storageDir: config.storageDir,
-    urlAllowlist: config.urlAllowlist,
-    fetchLimitBytes: config.fetchLimitBytes,
-    fetchTimeoutMs: config.fetchTimeoutMs,
-    fetchDeadlineMs: config.fetchDeadlineMs,
-    childRssLimitMb: config.childRssLimitMb,
-    maxDecodedSeconds: config.maxDecodedSeconds,
-  };
+  const childSettings = childSettingsOf(config);
   const analysis = new AnalysisWorker(
     PROCESSOR_FILE,
     {

@@ -25,6 +25,46 @@ describe('loadConfig', () => {
     ]);
   });
 
+  it('reads the storage backend from EARMARK_STORAGE_URL; EARMARK_STORAGE_DIR alone is the file backend', () => {
+    expect(loadConfig({ EARMARK_STORAGE_DIR: '/srv/earmark' })).toMatchObject({
+      storage: { kind: 'file', dir: '/srv/earmark' },
+      storageDir: '/srv/earmark',
+    });
+    expect(loadConfig({ EARMARK_STORAGE_URL: 'file:///srv/media' }).storage).toEqual({
+      kind: 'file',
+      dir: '/srv/media',
+    });
+    const s3 = loadConfig({
+      EARMARK_STORAGE_URL: 's3://media-bucket/earmark/prod/',
+      EARMARK_STORAGE_DIR: '/var/tmp/earmark',
+      AWS_ENDPOINT_URL: 'http://store.internal:9000',
+      AWS_REGION: 'eu-central-1',
+      EARMARK_S3_FORCE_PATH_STYLE: 'true',
+    });
+    expect(s3.storage).toEqual({
+      kind: 's3',
+      bucket: 'media-bucket',
+      prefix: 'earmark/prod',
+      endpoint: 'http://store.internal:9000',
+      region: 'eu-central-1',
+      forcePathStyle: true,
+      sourceBuckets: [],
+    });
+    // With S3, the folder is this host's own, for temp copies.
+    expect(s3.storageDir).toBe('/var/tmp/earmark');
+    // The S3-specific endpoint wins over the general one, as in the SDK.
+    expect(
+      loadConfig({
+        EARMARK_STORAGE_URL: 's3://media-bucket',
+        AWS_ENDPOINT_URL: 'http://a:1',
+        AWS_ENDPOINT_URL_S3: 'http://b:2',
+      }).storage,
+    ).toMatchObject({ prefix: '', endpoint: 'http://b:2', region: 'us-east-1', forcePathStyle: false });
+    expect(() => loadConfig({ EARMARK_STORAGE_URL: 'file:///a', EARMARK_STORAGE_DIR: '/b' })).toThrow(
+      /EARMARK_STORAGE_URL: names another folder/,
+    );
+  });
+
   it.each([
     ['PORT', 'eighty'],
     ['PORT', '70000'],
@@ -37,6 +77,12 @@ describe('loadConfig', () => {
     ['EARMARK_UPLOAD_LIMIT_BYTES', '-5'],
     ['EARMARK_WEBHOOK_SECRETS', JSON.stringify({ t: 'short' })],
     ['EARMARK_LOG_LEVEL', 'loud'],
+    ['EARMARK_STORAGE_URL', 'ftp://host/x'],
+    ['EARMARK_STORAGE_URL', 's3://Bad_Bucket/x'],
+    ['EARMARK_STORAGE_URL', 's3://media-bucket/a b'],
+    ['EARMARK_STORAGE_URL', 'not a url'],
+    ['EARMARK_S3_FORCE_PATH_STYLE', 'yes'],
+    ['EARMARK_S3_SOURCE_BUCKETS', 'ok-bucket,Not_A_Bucket'],
   ])('%s=%s stops start-up with a message naming it', (name, value) => {
     let thrown: unknown;
     try {

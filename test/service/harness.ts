@@ -1,6 +1,8 @@
 // A real service for tests: the API listening on a random port and (optionally) a worker, both
-// against the tests' real Redis (testRedisUrl) under a unique prefix, storage in a temp folder.
-// close() stops both and removes every key under the prefix and the folder.
+// against the tests' real Redis (testRedisUrl) under a unique prefix, storage in a temp folder
+// or, given an S3 server, in its bucket under a prefix of the service's own, the API and the
+// worker then each with a local folder of its own (they share nothing but Redis and the bucket).
+// close() stops both and removes every key under the prefix and the folders.
 
 import { randomBytes } from 'node:crypto';
 import { mkdtempSync, rmSync } from 'node:fs';
@@ -12,6 +14,7 @@ import { loadConfig, type Config } from '../../src/config/index.ts';
 import { purgePrefix } from '../../src/queue/service-keys.ts';
 import { startWorker, type WorkerRuntime } from '../../src/worker/runtime.ts';
 import { testRedisUrl } from '../helpers/redis.ts';
+import type { TestS3 } from '../helpers/s3-server.ts';
 
 export const KEYS = {
   alpha: 'alpha-submit-read-key-0001',
@@ -51,26 +54,33 @@ export interface TestService {
   url: string;
   config: Config;
   env: Record<string, string>;
+  /** The API's folder: the file backend's root, or the API's own local folder with S3. */
   dir: string;
+  /** The worker's local folder (the same as dir on the file backend). */
+  workerDir: string;
   api: RunningApi;
   worker: WorkerRuntime | null;
   close(): Promise<void>;
 }
 
 export async function startService(
-  options: { worker?: boolean; env?: Record<string, string> } = {},
+  options: { worker?: boolean; env?: Record<string, string>; s3?: TestS3 } = {},
 ): Promise<TestService> {
   const dir = mkdtempSync(join(tmpdir(), 'earmark-svc-'));
-  const env = testEnv(dir, options.env);
+  const storageEnv = options.s3 ? options.s3.env(`svc-${randomBytes(4).toString('hex')}`) : {};
+  const env = testEnv(dir, { ...storageEnv, ...options.env });
   const config = loadConfig(env);
+  const workerDir = options.s3 ? mkdtempSync(join(tmpdir(), 'earmark-svc-worker-')) : dir;
+  const workerConfig = loadConfig({ ...env, EARMARK_STORAGE_DIR: workerDir });
   const log = pino({ level: process.env.EARMARK_TEST_LOG ?? 'silent' });
-  const worker = options.worker === false ? null : await startWorker(config, log);
+  const worker = options.worker === false ? null : await startWorker(workerConfig, log);
   const api = await startApi(config, log);
   return {
     url: api.url,
     config,
     env,
     dir,
+    workerDir,
     api,
     worker,
     async close() {
@@ -81,6 +91,7 @@ export async function startService(
       await purgePrefix(redis, config.queuePrefix);
       await redis.quit();
       rmSync(dir, { recursive: true, force: true });
+      rmSync(workerDir, { recursive: true, force: true });
     },
   };
 }

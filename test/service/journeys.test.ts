@@ -159,6 +159,20 @@ describe('upload and report', () => {
   });
 });
 
+describe('direct uploads', () => {
+  it('need the object-store backend: 501 direct_upload_unavailable on the file backend', async () => {
+    const res = await api.postJson('/v1/uploads', { fileName: 'a.wav', sizeBytes: 1000 }, KEYS.alpha);
+    expect(res.status).toBe(501);
+    expect(res.body.code).toBe('direct_upload_unavailable');
+    const unknown = await api.postJson(
+      '/v1/jobs',
+      { uploadId: `u_${'0'.repeat(24)}`, profile: 'ebu-r128' },
+      KEYS.alpha,
+    );
+    expect(unknown.status).toBe(404);
+  });
+});
+
 describe('sourceUrl', () => {
   let origin: Server;
   let originUrl: string;

@@ -11,20 +11,42 @@ const good = {
   maxDecodedSeconds: 3600,
   fetchDeadlineMs: 60000,
 };
+// What the child derives: the file backend at storageDir, the schema's default upload limit.
+const derived = { storage: { kind: 'file', dir: '/srv/earmark' }, uploadLimitBytes: 2 * 1024 ** 3 };
 const parse = (value: unknown, inherited = {}) => parseChildSettings(JSON.stringify(value), inherited);
 
 describe('child settings', () => {
   it('reads what the worker passes', () => {
-    expect(parse(good)).toEqual(good);
+    expect(parse(good)).toEqual({ ...good, ...derived });
   });
 
   it('takes absent optional settings from the inherited environment, else the schema defaults', () => {
     const { childRssLimitMb: _r, maxDecodedSeconds: _m, fetchDeadlineMs: _f, ...required } = good;
     expect(parse(required, { EARMARK_CHILD_RSS_LIMIT_MB: '128' })).toEqual({
       ...required,
+      ...derived,
       childRssLimitMb: 128,
       maxDecodedSeconds: 86_400,
       fetchDeadlineMs: 600_000,
+    });
+  });
+
+  it('reads the object-store backend the worker passes', () => {
+    const s3 = {
+      sourceBuckets: ['ingest-drop'],
+      url: 's3://media-bucket/earmark',
+      endpoint: 'http://127.0.0.1:9000',
+      region: 'eu-west-1',
+      forcePathStyle: true,
+    };
+    expect(parse({ ...good, s3 }).storage).toEqual({
+      kind: 's3',
+      bucket: 'media-bucket',
+      prefix: 'earmark',
+      endpoint: 'http://127.0.0.1:9000',
+      region: 'eu-west-1',
+      forcePathStyle: true,
+      sourceBuckets: ['ingest-drop'],
     });
   });
 

@@ -7,7 +7,7 @@ import { bullKeys, type IndexCursor } from '../../queue/job-index.ts';
 import type { AppDeps } from '../deps.ts';
 import { route, routesPlugin, type RouteSpec } from '../route-spec.ts';
 import * as S from '../schemas.ts';
-import { submitJob } from '../submit.ts';
+import { submitDirectUpload, submitJob } from '../submit.ts';
 import { readMultipart } from '../upload-form.ts';
 import { validationProblem } from '../validation.ts';
 import { principalOf, requireScope } from './auth.ts';
@@ -32,7 +32,7 @@ export const jobSpecs = {
     responses: {
       202: { description: 'Queued', schema: S.JobAccepted, headers: { Location: 'The job status URL' } },
       200: { description: 'Already submitted with this Idempotency-Key', schema: S.JobAccepted },
-      ...S.problems(400, 401, 403, 409, 413, 415, 422, 503, 507),
+      ...S.problems(400, 401, 403, 404, 409, 413, 415, 422, 503, 507),
     },
   },
   get: {
@@ -118,8 +118,18 @@ export function jobsPlugin(deps: AppDeps, uploadLimitBytes: number, bodyTimeoutM
         } else {
           const body = request.body;
           if (!validateJson(body)) throw validationProblem(validateJson.errors, 'body');
-          const { sourceUrl, ...input } = body;
-          result = await submitJob(deps, tenant, input, { kind: 'url', url: sourceUrl }, idempotencyKey);
+          const { sourceUrl, uploadId, ...input } = body;
+          if (uploadId !== undefined && sourceUrl !== undefined)
+            throw new EarmarkError('validation_failed', 'give sourceUrl or uploadId, not both', { field: 'uploadId' });
+          if (uploadId !== undefined) {
+            result = await submitDirectUpload(deps, tenant, uploadId, input, idempotencyKey);
+          } else {
+            if (sourceUrl === undefined)
+              throw new EarmarkError('validation_failed', 'sourceUrl (or uploadId, or a multipart file) is required', {
+                field: 'sourceUrl',
+              });
+            result = await submitJob(deps, tenant, input, { kind: 'url', url: sourceUrl }, idempotencyKey);
+          }
         }
         request.log.info({ jobId: result.id, duplicate: result.duplicate }, 'job submitted');
         if (!result.duplicate) deps.metrics.jobSubmitted(tenant);

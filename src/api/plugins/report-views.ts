@@ -5,6 +5,7 @@ import { EarmarkError } from '../../errors/index.ts';
 import { MAX_EXCERPT_SECONDS } from '../../engine/excerpt.ts';
 import { ExcerptRunner } from '../../engine/excerpt-runner.ts';
 import type { QcReport } from '../../profiles/index.ts';
+import type { LocalCopy } from '../../storage/index.ts';
 import { renderReportPlot } from '../../views/report-plot.ts';
 import { principalOf } from './auth.ts';
 import type { AppDeps } from '../deps.ts';
@@ -72,14 +73,19 @@ export function reportViewsPlugin(deps: AppDeps) {
         if (!reply.raw.writableEnded) gone.abort();
       });
       let excerpt: Awaited<ReturnType<typeof excerpts.cut>>;
+      // The object-store backend copies the audio to a temp file for the seek (storage/s3.ts).
+      let copy: LocalCopy | null = null;
       try {
-        excerpt = await excerpts.cut(deps.storage.pathOf(sourceKey), startSeconds, endSeconds, gone.signal);
+        copy = await deps.storage.localCopy(sourceKey);
+        excerpt = await excerpts.cut(copy.path, startSeconds, endSeconds, gone.signal);
       } catch (error) {
         if (gone.signal.aborted) return reply;
         // The stored audio is gone after the retention period; never leak its path.
         if (error instanceof EarmarkError && error.code === 'file_not_found')
           throw new EarmarkError('not_found', `the audio of job ${id} is past its retention period`);
         throw error;
+      } finally {
+        await copy?.release().catch(() => undefined);
       }
       return reply
         .type('audio/wav')
