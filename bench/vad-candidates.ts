@@ -20,7 +20,8 @@ import { join } from 'node:path';
 import { pathToFileURL } from 'node:url';
 import { buildCorpus, type CorpusItem } from '../fixtures/dialogue-corpus.ts';
 import { BLOCK_SECONDS, BLOCK_STEP_SECONDS, blockPowers, gatedLoudnessOf } from '../fixtures/dialogue-truth.ts';
-import { FeatureSpeechDetector, rbj } from './vad-features.ts';
+import { rbj } from '../src/analysis/speech/feed.ts';
+import { FeatureSpeechDetector } from './vad-features.ts';
 
 interface FrameDecisions {
   frameSeconds: number;

@@ -8,31 +8,14 @@
 // State is fixed-size ring buffers; only the decision list grows (the bench reads it at the end;
 // a meter would hand decisions on block by block).
 
+import { rbj } from '../src/analysis/speech/feed.ts';
+
 const DECIMATION = 6; // 48 kHz to 8 kHz
 const FRAME = 160; // 20 ms at 8 kHz
 const MIN_LAG = 20; // 400 Hz
 const MAX_LAG = 100; // 80 Hz
 const WINDOW_FRAMES = 50; // 1 s
 const HANGOVER_FRAMES = 10; // 200 ms
-
-interface Biquad {
-  b0: number;
-  b1: number;
-  b2: number;
-  a1: number;
-  a2: number;
-}
-
-/** RBJ cookbook low-pass / high-pass (common practice). */
-export function rbj(kind: 'low' | 'high', hz: number, rate: number, q = Math.SQRT1_2): Biquad {
-  const w = (2 * Math.PI * hz) / rate;
-  const alpha = Math.sin(w) / (2 * q);
-  const cos = Math.cos(w);
-  const a0 = 1 + alpha;
-  const b1 = kind === 'low' ? 1 - cos : -(1 + cos);
-  const b0 = kind === 'low' ? (1 - cos) / 2 : (1 + cos) / 2;
-  return { b0: b0 / a0, b1: b1 / a0, b2: b0 / a0, a1: (-2 * cos) / a0, a2: (1 - alpha) / a0 };
-}
 
 export interface FeatureDetectorOptions {
   threshold: number;

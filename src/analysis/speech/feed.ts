@@ -5,26 +5,20 @@
 // detection needs the speech band, not a transparent resampler.
 
 import type { ChannelLabel } from '../audio.ts';
+import type { Biquad } from '../k-weighting.ts';
 
 export const SPEECH_RATE_HZ = 16000;
 const LOW_PASS_HZ = 7000;
 
-interface Biquad {
-  b0: number;
-  b1: number;
-  b2: number;
-  a1: number;
-  a2: number;
-}
-
-/** RBJ cookbook low-pass, Q 1/sqrt(2) (common practice). */
-function lowPass(hz: number, rate: number): Biquad {
+/** RBJ cookbook low-pass or high-pass biquad, normalised (common practice). */
+export function rbj(kind: 'low' | 'high', hz: number, rate: number, q = Math.SQRT1_2): Biquad {
   const w = (2 * Math.PI * hz) / rate;
-  const alpha = Math.sin(w) / (2 * Math.SQRT1_2);
+  const alpha = Math.sin(w) / (2 * q);
   const cos = Math.cos(w);
   const a0 = 1 + alpha;
-  const b = (1 - cos) / 2 / a0;
-  return { b0: b, b1: 2 * b, b2: b, a1: (-2 * cos) / a0, a2: (1 - alpha) / a0 };
+  const b1 = kind === 'low' ? 1 - cos : -(1 + cos);
+  const b0 = kind === 'low' ? (1 - cos) / 2 : (1 + cos) / 2;
+  return { b0: b0 / a0, b1: b1 / a0, b2: b0 / a0, a1: (-2 * cos) / a0, a2: (1 - alpha) / a0 };
 }
 
 /** The channels whose mean is the speech channel. */
@@ -56,7 +50,7 @@ export class SpeechFeed {
     sampleRate: number,
     private readonly channels: readonly number[],
   ) {
-    this.filter = sampleRate > SPEECH_RATE_HZ ? lowPass(LOW_PASS_HZ, sampleRate) : null;
+    this.filter = sampleRate > SPEECH_RATE_HZ ? rbj('low', LOW_PASS_HZ, sampleRate) : null;
     this.step = sampleRate / SPEECH_RATE_HZ;
   }
 

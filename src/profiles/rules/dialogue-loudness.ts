@@ -2,7 +2,7 @@
 // Where the programme holds too little speech the rule is not applied, unless it requires dialogue.
 import { DEFAULT_MINIMUM_SPEECH_SHARE_PERCENT } from '../../analysis/speech/meter.ts';
 import type { DialogueLoudnessRule } from '../types.ts';
-import { within } from './drafts.ts';
+import { rangeLimit, within } from './drafts.ts';
 import { askForSpeech, dialogueLufsFor } from './dialogue-common.ts';
 import { orderIssues } from './issues.ts';
 import type { ProfileIssue, RuleSpec } from './rule-spec.ts';
@@ -20,10 +20,7 @@ export const dialogueLoudness: RuleSpec<DialogueLoudnessRule> = {
     const limit =
       rule.targetLufs !== undefined && rule.toleranceLu !== undefined
         ? { targetLufs: rule.targetLufs, toleranceLu: rule.toleranceLu }
-        : {
-            ...(rule.minLufs !== undefined ? { min: rule.minLufs } : {}),
-            ...(rule.maxLufs !== undefined ? { max: rule.maxLufs } : {}),
-          };
+        : rangeLimit(rule.minLufs, rule.maxLufs);
     const minShare = rule.minSpeechSharePercent ?? DEFAULT_MINIMUM_SPEECH_SHARE_PERCENT;
     const value = dialogueLufsFor(doc, WHAT, 'LUFS', limit, minShare, rule.requireDialogue === true);
     if (typeof value !== 'number') return value;

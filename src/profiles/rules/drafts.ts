@@ -12,6 +12,12 @@ export const notMeasurable = (what: string, unit: string, limit: CheckLimit, why
   explanation: `${what} is not measurable (${why}); ${passed ? 'the rule is not applied' : 'the rule fails'}`,
 });
 
+/** The limit of a range check; either end may be absent. */
+export const rangeLimit = (min: number | undefined, max: number | undefined): CheckLimit => ({
+  ...(min !== undefined ? { min } : {}),
+  ...(max !== undefined ? { max } : {}),
+});
+
 export const verdictOf = (passed: boolean): 'pass' | 'fail' => (passed ? 'pass' : 'fail');
 
 /** Ceiling-type check: value <= max. */
@@ -35,7 +41,7 @@ export function within(
   unit: string,
   unitGap: string,
 ): Draft {
-  const limit = { ...(min !== undefined ? { min } : {}), ...(max !== undefined ? { max } : {}) };
+  const limit = rangeLimit(min, max);
   const lowBy = min !== undefined ? min - value : -Infinity;
   const highBy = max !== undefined ? value - max : -Infinity;
   const passed = lowBy <= 0 && highBy <= 0;

@@ -1,28 +1,20 @@
 // The share of the programme's gating blocks that hold speech (analysis/speech/dialogue.ts).
 import type { SpeechShareRule } from '../types.ts';
-import { notMeasurable, within } from './drafts.ts';
+import { notMeasurable, rangeLimit, within } from './drafts.ts';
 import { askForSpeech } from './dialogue-common.ts';
-import { orderIssues } from './issues.ts';
+import { rangeIssues } from './issues.ts';
 import type { RuleSpec } from './rule-spec.ts';
 
 const WHAT = 'Speech share';
 
 export const speechShare: RuleSpec<SpeechShareRule> = {
   check: (rule, doc) => {
-    const limit = {
-      ...(rule.minPercent !== undefined ? { min: rule.minPercent } : {}),
-      ...(rule.maxPercent !== undefined ? { max: rule.maxPercent } : {}),
-    };
+    const limit = rangeLimit(rule.minPercent, rule.maxPercent);
     const share = doc.dialogue.speechSharePercent;
     if (!doc.dialogue.measured || share === null)
       return notMeasurable(WHAT, '%', limit, 'the analysis did not run the speech detector', false);
     return { ...within(WHAT, share, rule.minPercent, rule.maxPercent, '%', 'points'), limit };
   },
-  issues: (rule, at) => [
-    ...(rule.minPercent === undefined && rule.maxPercent === undefined
-      ? [{ field: `${at}.minPercent`, message: `${at} needs minPercent and/or maxPercent` }]
-      : []),
-    ...orderIssues(at, 'minPercent', 'maxPercent', rule.minPercent, rule.maxPercent),
-  ],
+  issues: (rule, at) => rangeIssues(at, 'minPercent', 'maxPercent', rule.minPercent, rule.maxPercent),
   analysis: (_rules, options) => askForSpeech(options),
 };
