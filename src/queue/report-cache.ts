@@ -14,6 +14,15 @@ export class ReportCache {
     await this.redis.set(serviceKey(this.prefix, 'report', jobId), json, 'EX', this.retentionSeconds);
   }
 
+  /** The retention sweep removed the stored report: the copy here goes with it. */
+  async drop(jobIds: readonly string[]): Promise<void> {
+    if (jobIds.length === 0) return;
+    const batch = this.redis.pipeline();
+    for (const id of jobIds) batch.del(serviceKey(this.prefix, 'report', id));
+    const failed = (await batch.exec())?.find(([error]) => error);
+    if (failed?.[0]) throw failed[0];
+  }
+
   async get(jobId: string): Promise<string | null> {
     return this.redis.get(serviceKey(this.prefix, 'report', jobId));
   }

@@ -7,7 +7,7 @@ import { LocalStorage } from './local.ts';
 import type { Storage, StorageOptions } from './types.ts';
 
 export { LocalStorage } from './local.ts';
-export type { LocalCopy, PresignedUpload, Storage, StorageOptions, StoredFile } from './types.ts';
+export type { LocalCopy, PresignedUpload, Storage, StorageOptions, StoredFile, Swept } from './types.ts';
 
 /** `localDir` is the file backend's root, or this host's folder for the S3 backend's temp copies. */
 export async function openStorage(

@@ -14,6 +14,7 @@ import {
   type Storage,
   type StorageOptions,
   type StoredFile,
+  type Swept,
 } from './types.ts';
 
 export class LocalStorage implements Storage {
@@ -111,15 +112,16 @@ export class LocalStorage implements Storage {
     await rm(this.pathOf(key), { force: true });
   }
 
-  sweep(maxAgeMs: number): Promise<number> {
-    return sweepDirs(this.rootDir, ['uploads', 'reports', 'tmp'], maxAgeMs);
+  async sweep(maxAgeMs: number): Promise<Swept> {
+    const keys = await sweepDirs(this.rootDir, ['uploads', 'reports'], maxAgeMs);
+    return { keys, tempFiles: (await sweepDirs(this.rootDir, ['tmp'], maxAgeMs)).length };
   }
 
   /** A live upload's temp file is touched while bytes arrive, and bytes arrive at least once per
    * body (or fetch) timeout or the transfer is ended: an older one is a dead request's or a
    * killed process's. */
-  sweepPartials(maxAgeMs: number): Promise<number> {
-    return sweepDirs(this.rootDir, ['tmp'], maxAgeMs);
+  async sweepPartials(maxAgeMs: number): Promise<number> {
+    return (await sweepDirs(this.rootDir, ['tmp'], maxAgeMs)).length;
   }
 
   async checkWritable(): Promise<boolean> {
@@ -132,10 +134,10 @@ export class LocalStorage implements Storage {
   }
 }
 
-/** Removes files older than maxAgeMs (by mtime) from the folders under rootDir; returns how many went. */
-export async function sweepDirs(rootDir: string, dirs: string[], maxAgeMs: number): Promise<number> {
+/** Removes files older than maxAgeMs (by mtime) from the folders under rootDir; returns the `dir/name`s that went. */
+export async function sweepDirs(rootDir: string, dirs: string[], maxAgeMs: number): Promise<string[]> {
   const cutoff = Date.now() - maxAgeMs;
-  let removed = 0;
+  const removed: string[] = [];
   for (const dir of dirs) {
     const names = await readdir(join(rootDir, dir)).catch(() => [] as string[]);
     for (const name of names) {
@@ -143,7 +145,7 @@ export async function sweepDirs(rootDir: string, dirs: string[], maxAgeMs: numbe
       const info = await stat(path).catch(() => null);
       if (info && info.mtimeMs < cutoff) {
         await rm(path, { force: true });
-        removed += 1;
+        removed.push(`${dir}/${name}`);
       }
     }
   }

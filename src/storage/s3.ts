@@ -33,6 +33,7 @@ import {
   type Storage,
   type StorageOptions,
   type StoredFile,
+  type Swept,
 } from './types.ts';
 
 /** S3's smallest part is 5 MiB; 8 MiB parts, two in flight, keep an upload near 24 MiB of buffers. */
@@ -257,9 +258,9 @@ export class S3Storage implements Storage {
   }
 
   /** Objects under uploads/ and reports/ last modified before the cutoff, then this host's stale copies. */
-  async sweep(maxAgeMs: number): Promise<number> {
+  async sweep(maxAgeMs: number): Promise<Swept> {
     const cutoff = Date.now() - maxAgeMs;
-    let removed = 0;
+    const keys: string[] = [];
     for (const folder of ['uploads/', 'reports/']) {
       let token: string | undefined;
       do {
@@ -273,19 +274,19 @@ export class S3Storage implements Storage {
         for (const item of page.Contents ?? []) {
           if (!item.Key || !item.LastModified || item.LastModified.getTime() >= cutoff) continue;
           await this.client.send(new DeleteObjectCommand({ Bucket: this.bucket, Key: item.Key }));
-          removed += 1;
+          keys.push(item.Key.slice(this.prefix.length));
         }
         token = page.IsTruncated ? page.NextContinuationToken : undefined;
       } while (token);
     }
-    return removed + (await sweepDirs(this.localDir, [COPIES, SHORT_COPIES], maxAgeMs));
+    return { keys, tempFiles: (await sweepDirs(this.localDir, [COPIES, SHORT_COPIES], maxAgeMs)).length };
   }
 
   /** Short-lived copies a killed process left (a copy being written is touched by every write,
    * and one in use lives seconds). An abandoned multipart upload is aborted by its request, and
    * one a killed process left is the bucket's lifecycle rule's to remove (see the README). */
-  sweepPartials(maxAgeMs: number): Promise<number> {
-    return sweepDirs(this.localDir, [SHORT_COPIES], maxAgeMs);
+  async sweepPartials(maxAgeMs: number): Promise<number> {
+    return (await sweepDirs(this.localDir, [SHORT_COPIES], maxAgeMs)).length;
   }
 
   async checkWritable(): Promise<boolean> {

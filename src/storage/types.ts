@@ -42,11 +42,18 @@ export interface Storage {
   writeReport(jobId: string, json: string): Promise<string>;
   readReport(jobId: string): Promise<string | null>;
   remove(key: string): Promise<void>;
-  /** Deletes uploads and reports older than maxAgeMs; returns how many went. */
-  sweep(maxAgeMs: number): Promise<number>;
+  /** Deletes uploads, reports and this host's temp files older than maxAgeMs; says what went. */
+  sweep(maxAgeMs: number): Promise<Swept>;
   /** Deletes partial files (uploads in progress, reports being written) untouched for maxAgeMs. */
   sweepPartials(maxAgeMs: number): Promise<number>;
   checkWritable(): Promise<boolean>;
+}
+
+export interface Swept {
+  /** Storage keys removed (`uploads/<id>`, `reports/<jobId>.json`): the caller drops what refers to them. */
+  keys: string[];
+  /** Temp files and copies removed from this host's folder. */
+  tempFiles: number;
 }
 
 export interface StorageOptions {

@@ -32,6 +32,7 @@ import { openServiceStores } from '../queue/store.ts';
 import { openStorage } from '../storage/index.ts';
 import { CHILD_SETTINGS_ENV, childSettingsOf } from './child-settings.ts';
 import { threadBudget } from './thread-policy.ts';
+import { retentionPass } from './retention.ts';
 import { deliver } from './webhooks.ts';
 import { currentBundle } from '../../bin/bundles.js';
 
@@ -143,6 +144,9 @@ export function deliveryIdOf(jobId: string, event: JobEvent): string {
 }
 
 export interface WorkerRuntime {
+  /** One retention pass now, the one the worker runs every 10 minutes (or every retention period,
+   * if shorter); maxAgeMs defaults to EARMARK_RETENTION_HOURS. Returns how many files went. */
+  sweep(maxAgeMs?: number): Promise<number>;
   /** Stops taking jobs; waits up to shutdownTimeoutMs for active ones, then hands them back. */
   close(): Promise<{ handedBack: number }>;
 }
@@ -327,15 +331,20 @@ export async function startWorker(config: Config, log: Logger): Promise<WorkerRu
   );
   webhooks.on('error', (error) => onError(error, 'webhook worker'));
 
-  const sweepMs = config.retentionHours * 3_600_000;
+  const retentionMs = config.retentionHours * 3_600_000;
+  const sweep = async (maxAgeMs = retentionMs): Promise<number> => {
+    const swept = await retentionPass(storage, store.reports, maxAgeMs);
+    const removed = swept.keys.length + swept.tempFiles;
+    if (removed > 0) log.info({ removed }, 'retention sweep');
+    return removed;
+  };
   const sweeper = setInterval(
     () => {
-      storage.sweep(sweepMs).then(
-        (n) => n > 0 && log.info({ removed: n }, 'retention sweep'),
-        () => log.warn('retention sweep failed'),
+      sweep().catch((error: unknown) =>
+        log.warn({ err: { message: toEarmarkError(error).message } }, 'retention sweep failed'),
       );
     },
-    Math.min(sweepMs, 600_000),
+    Math.min(retentionMs, 600_000),
   );
   sweeper.unref();
   log.info(
@@ -349,6 +358,7 @@ export async function startWorker(config: Config, log: Logger): Promise<WorkerRu
   );
 
   return {
+    sweep,
     async close() {
       clearInterval(sweeper);
       let timer: NodeJS.Timeout | undefined;

@@ -172,8 +172,8 @@ describe('S3 storage', () => {
     // S3 reports LastModified to the second.
     await new Promise((resolve) => setTimeout(resolve, 2_200));
     await storage.writeReport('new', '{}');
-    expect(await storage.sweep(60_000)).toBe(0);
-    expect(await storage.sweep(1_500)).toBe(2);
+    expect(await storage.sweep(60_000)).toEqual({ keys: [], tempFiles: 0 });
+    expect((await storage.sweep(1_500)).keys.sort()).toEqual(['reports/old.json', old.key].sort());
     expect(await keysUnder('uploads/')).not.toContain(`unit/${old.key}`);
     expect(await storage.readReport('old')).toBeNull();
     expect(await storage.readReport('new')).toBe('{}');
