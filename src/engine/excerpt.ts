@@ -4,6 +4,7 @@
 // the span is copied as it passes. The service runs this on a thread of its own (excerpt-runner.ts).
 
 import { setImmediate as nextTurn } from 'node:timers/promises';
+import { excerptFrameSpan } from '../decode/excerpt-span.ts';
 import { openAudioFileAt, type SeekedAudio } from '../decode/seek.ts';
 import { encodePcmFrames, wavHeader } from '../encode/wav.ts';
 import { EarmarkError } from '../errors/index.ts';
@@ -47,8 +48,7 @@ export async function cutExcerpt(
   }
   const opened: SeekedAudio = await openAudioFileAt(path, 0, { maxDecodedBytes: EXCERPT_MAX_DECODED_BYTES });
   const { sampleRate, channels } = opened.audio.format;
-  const startFrame = Math.floor(startSeconds * sampleRate);
-  const wantedFrames = Math.ceil((endSeconds - startSeconds) * sampleRate);
+  const { startFrame, wantedFrames } = excerptFrameSpan(startSeconds, endSeconds, sampleRate);
   if (wantedFrames * channels * 4 > MAX_EXCERPT_BYTES) {
     throw new EarmarkError(
       'invalid_argument',

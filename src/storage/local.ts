@@ -43,6 +43,11 @@ export class LocalStorage implements Storage {
     return { path: this.pathOf(key), sha256: null, release: async () => undefined };
   }
 
+  /** The stored file itself, as for localCopy. */
+  excerptCopy(key: string): Promise<LocalCopy> {
+    return this.localCopy(key);
+  }
+
   /** A directory has no signed URLs: the API is the only way in. */
   async presignUpload(): Promise<PresignedUpload> {
     throw new EarmarkError(

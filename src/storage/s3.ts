@@ -6,7 +6,8 @@
 // The decoders read a file with random access and synchronous reads (chunk tables, seeks for
 // excerpts), which an object store's ranged GETs cannot serve. localCopy therefore downloads the
 // object to a temp file on this host, bounded by copyLimitBytes (checked from HEAD before any byte
-// is fetched), and the caller releases it after the job.
+// is fetched), and the caller releases it after the job. An excerpt of a PCM file fetches only
+// the bytes its decode reads (excerptCopy, sparse-excerpt.ts).
 import {
   DeleteObjectCommand,
   GetObjectCommand,
@@ -18,7 +19,7 @@ import {
 } from '@aws-sdk/client-s3';
 import { Upload } from '@aws-sdk/lib-storage';
 import { createHash, randomUUID } from 'node:crypto';
-import { mkdir, rm } from 'node:fs/promises';
+import { mkdir, open, rm } from 'node:fs/promises';
 import { join } from 'node:path';
 import { Readable } from 'node:stream';
 import type { StorageLocation } from '../config/index.ts';
@@ -26,6 +27,7 @@ import { EarmarkError } from '../errors/index.ts';
 import { writeChunksToNewFile } from './block-file-writer.ts';
 import { sweepDirs } from './local.ts';
 import { receiveUpload } from './receive.ts';
+import { type ExcerptPlan, HEAD_BYTES, planExcerpt } from './sparse-excerpt.ts';
 import {
   KEY,
   type LocalCopy,
@@ -149,6 +151,74 @@ export class S3Storage implements Storage {
 
   localCopy(key: string): Promise<LocalCopy> {
     return this.copyObject(this.bucket, this.objectKey(key), this.copyLimitBytes);
+  }
+
+  /** Only the bytes an excerpt of a PCM file reads (sparse-excerpt.ts), into a sparse file of the
+   * object's size; anything else, or any doubt, is the whole copy. */
+  async excerptCopy(key: string, startSeconds: number, endSeconds: number): Promise<LocalCopy> {
+    const Key = this.objectKey(key);
+    const path = join(this.localDir, this.copiesFolder, randomUUID());
+    try {
+      const sparse = await this.sparseExcerpt(Key, path, startSeconds, endSeconds);
+      if (sparse) return sparse;
+    } catch (error) {
+      if (error instanceof EarmarkError) throw error;
+      // An object replaced between the reads (IfMatch) or a short range: the whole copy decides.
+    }
+    await rm(path, { force: true }).catch(() => undefined);
+    return this.copyObject(this.bucket, Key, this.copyLimitBytes);
+  }
+
+  private async sparseExcerpt(
+    Key: string,
+    path: string,
+    startSeconds: number,
+    endSeconds: number,
+  ): Promise<LocalCopy | null> {
+    let head: { ContentLength?: number; ETag?: string };
+    try {
+      head = await this.client.send(new HeadObjectCommand({ Bucket: this.bucket, Key }));
+    } catch (error) {
+      if (statusOf(error) === 404) throw new EarmarkError('file_not_found', 'the stored audio is gone');
+      throw unavailable('the stored audio could not be read', error);
+    }
+    const sizeBytes = head.ContentLength ?? 0;
+    const etag = head.ETag;
+    if (!etag) return null;
+    let headBytes: Uint8Array = new Uint8Array(0);
+    let plan: ExcerptPlan = { kind: 'more_head' };
+    for (const wanted of HEAD_BYTES) {
+      if (wanted >= sizeBytes) return null;
+      headBytes = await this.getRange(Key, etag, 0, wanted);
+      plan = await planExcerpt(headBytes, sizeBytes, startSeconds, endSeconds);
+      if (plan.kind !== 'more_head') break;
+    }
+    if (plan.kind !== 'ranges') return null;
+    const file = await open(path, 'wx');
+    let fetchedBytes = headBytes.length;
+    try {
+      await file.truncate(sizeBytes);
+      await file.write(headBytes, 0, headBytes.length, 0);
+      for (const [from, to] of plan.ranges) {
+        const bytes = await this.getRange(Key, etag, from, to);
+        await file.write(bytes, 0, bytes.length, from);
+        fetchedBytes += bytes.length;
+      }
+    } finally {
+      await file.close();
+    }
+    return { path, sha256: null, fetchedBytes, release: () => rm(path, { force: true }) };
+  }
+
+  /** Bytes [from, to) of the object as it was at HEAD; anything else throws. */
+  private async getRange(Key: string, etag: string, from: number, to: number): Promise<Uint8Array> {
+    const got = await this.client.send(
+      new GetObjectCommand({ Bucket: this.bucket, Key, IfMatch: etag, Range: `bytes=${from}-${to - 1}` }),
+    );
+    const bytes = await got.Body?.transformToByteArray();
+    if (!bytes || bytes.length !== to - from || !got.ContentRange?.startsWith(`bytes ${from}-${to - 1}/`))
+      throw new Error(`the object store did not send bytes ${from}-${to - 1}`);
+    return bytes;
   }
 
   checkSource(url: string): { bucket: string; key: string } {

@@ -14,6 +14,8 @@ export interface LocalCopy {
   /** SHA-256 of the bytes copied, or null when nothing was copied (the file backend's own file). */
   sha256: string | null;
   release(): Promise<void>;
+  /** Bytes fetched from the object store for a partial (sparse) copy; absent for whole copies. */
+  fetchedBytes?: number;
 }
 
 /** A presigned PUT: the client sends the file to `url` with exactly `headers`, which the signature covers. */
@@ -30,6 +32,9 @@ export interface Storage {
   saveUpload(source: Readable, limitBytes: number, isTruncated?: () => boolean): Promise<StoredFile>;
   /** A local file of the object, for decoders that read with random access (see the S3 backend). */
   localCopy(key: string): Promise<LocalCopy>;
+  /** A local file an excerpt of [startSeconds, endSeconds) can be cut from: the object store
+   * fetches only the bytes a PCM excerpt reads when it can tell which they are. */
+  excerptCopy(key: string, startSeconds: number, endSeconds: number): Promise<LocalCopy>;
   /** A URL the client PUTs a file of exactly sizeBytes to, straight into storage (object store only). */
   presignUpload(sizeBytes: number, expiresSeconds: number): Promise<PresignedUpload>;
   /** The stored object's size, or null when there is none. */

@@ -73,10 +73,10 @@ export function reportViewsPlugin(deps: AppDeps) {
         if (!reply.raw.writableEnded) gone.abort();
       });
       let excerpt: Awaited<ReturnType<typeof excerpts.cut>>;
-      // The object-store backend copies the audio to a temp file for the seek (storage/s3.ts).
+      // The object-store backend fetches what the excerpt reads into a temp file (storage/s3.ts).
       let copy: LocalCopy | null = null;
       try {
-        copy = await deps.storage.localCopy(sourceKey);
+        copy = await deps.storage.excerptCopy(sourceKey, startSeconds, endSeconds);
         excerpt = await excerpts.cut(copy.path, startSeconds, endSeconds, gone.signal);
       } catch (error) {
         if (gone.signal.aborted) return reply;
