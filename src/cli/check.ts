@@ -1,7 +1,7 @@
 // `earmark check <file> --profile <id|path.json> [--fps rate] [--json]`: analyse with the
 // profile's settings, evaluate, print. Exit code from the verdict: 0 pass, 1 warn, 2 fail.
 
-import { parseArgs } from 'node:util';
+import { parseCommandArgs } from './args.ts';
 import { printableName } from './printable.ts';
 import { analyzeFile } from '../engine/analyze-file.ts';
 import { THREADS_FLAG, threadsOption } from './threads.ts';
@@ -118,7 +118,7 @@ const CHECK_FLAGS = {
 } as const;
 
 export async function checkCommand(args: string[], io: CliIo): Promise<number> {
-  const { values, positionals } = parseArgs({ args, options: CHECK_FLAGS, allowPositionals: true, strict: true });
+  const { values, positionals } = parseCommandArgs(args, CHECK_FLAGS);
   if (positionals.length !== 1)
     throw new EarmarkError('invalid_argument', 'check needs exactly one file', { field: 'file' });
   if (values.profile === undefined)

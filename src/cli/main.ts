@@ -1,10 +1,11 @@
 // `earmark` command line. Exit codes: 0 success (check: pass), 1 check warn, 2 check fail,
 // 3 error (bad input, bad profile, bad arguments). Errors print "error <code>: <message>" on stderr.
 
-import { parseArgs } from 'node:util';
+import { parseCommandArgs, suggestion } from './args.ts';
 import { LAYOUT_NAMES } from '../analysis/layouts.ts';
 import type { AnalysisOptions } from '../analysis/runner.ts';
 import { analyzeFile } from '../engine/analyze-file.ts';
+import { ENGINE_VERSION } from '../engine/document.ts';
 import { EarmarkError, toEarmarkError } from '../errors/index.ts';
 import { checkCommand } from './check.ts';
 import { formatAnalysis } from './format-analysis.ts';
@@ -15,6 +16,8 @@ import { THREADS_FLAG, threadsOption } from './threads.ts';
 
 export const EXIT_ERROR = 3;
 
+const COMMANDS = ['analyze', 'check', 'profiles', 'selftest', 'help', 'version'] as const;
+
 const USAGE = `usage:
   earmark analyze <file> [--json] [--true-peak-ceiling dBTP] [--clip-run N] [--clip-threshold dBFS]
                          [--silence-threshold dBFS] [--silence-min seconds] [--threads N|auto] [--layout name]
@@ -24,6 +27,7 @@ const USAGE = `usage:
       --layout: channel layout of a file without a channel mask or chna chunk: ${LAYOUT_NAMES.join(' ')}
   earmark profiles [id] [--json]
   earmark selftest [--json]
+  earmark --version
 exit codes: 0 ok (check: pass), 1 check: warn, 2 check: fail, 3 error (bad input, bad profile, bad arguments)`;
 
 type Write = (text: string) => void;
@@ -108,12 +112,7 @@ const ANALYSIS_FLAGS = {
 } as const;
 
 async function analyzeCommand(args: string[], io: CliIo): Promise<number> {
-  const { values, positionals } = parseArgs({
-    args,
-    options: { ...ANALYSIS_FLAGS, ...THREADS_FLAG },
-    allowPositionals: true,
-    strict: true,
-  });
+  const { values, positionals } = parseCommandArgs(args, { ...ANALYSIS_FLAGS, ...THREADS_FLAG });
   if (positionals.length !== 1) throw new EarmarkError('invalid_argument', 'analyze needs exactly one file');
   const threads = threadsOption(values.threads);
   const layout = layoutOption(values);
@@ -138,14 +137,21 @@ export async function main(argv: string[], io: CliIo = defaultIo): Promise<numbe
         return profilesCommand(rest, io);
       case 'selftest':
         return runSelftest(rest, io);
+      case '--version':
+      case 'version':
+        io.stdout(`earmark ${ENGINE_VERSION}\n`);
+        return 0;
       case undefined:
       case 'help':
       case '--help':
       case '-h':
         io.stdout(`${USAGE}\n`);
         return command === undefined ? EXIT_ERROR : 0;
-      default:
-        throw new EarmarkError('invalid_argument', `unknown command "${command}"\n${USAGE}`);
+      default: {
+        const near = suggestion(command, COMMANDS);
+        const hint = near ? ` (did you mean "${near}"?)` : '';
+        throw new EarmarkError('invalid_argument', `unknown command "${command}"${hint}\n${USAGE}`);
+      }
     }
   } catch (thrown) {
     const error = isArgsError(thrown) ? new EarmarkError('invalid_argument', thrown.message) : toEarmarkError(thrown);
