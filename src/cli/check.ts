@@ -56,7 +56,8 @@ function headLine(report: QcReport): string | null {
   return `head     ${parts.join(', ')}\n`;
 }
 
-export function formatReport(report: QcReport): string {
+/** `all`: every kept flag, not only the first few of each severity. */
+export function formatReport(report: QcReport, { all = false }: { all?: boolean } = {}): string {
   const lines: string[] = [];
   const s = report.summary;
   const failed = report.checks.filter((c) => !c.passed);
@@ -101,11 +102,15 @@ export function formatReport(report: QcReport): string {
   lines.push(
     `flags    ${report.flagsTotal} (${n.fail} fail, ${n.warn} warn, ${n.remark} remark)${report.flagsTruncated ? `, ${report.flags.length} kept` : ''}  timecode ${tc.frameRate} fps from ${tc.originTimecode}\n`,
   );
-  const breaches = report.flags.filter((f) => f.severity !== 'remark').slice(0, SHOWN_BREACHES);
-  const remarks = report.flags.filter((f) => f.severity === 'remark').slice(0, SHOWN_REMARKS);
+  const byKind = new Map<string, number>();
+  for (const f of report.flags) byKind.set(f.kind, (byKind.get(f.kind) ?? 0) + 1);
+  if (byKind.size > 1) lines.push(`  by kind: ${[...byKind].map(([kind, count]) => `${kind} ${count}`).join(', ')}\n`);
+  const breaches = report.flags.filter((f) => f.severity !== 'remark').slice(0, all ? undefined : SHOWN_BREACHES);
+  const remarks = report.flags.filter((f) => f.severity === 'remark').slice(0, all ? undefined : SHOWN_REMARKS);
   for (const f of [...breaches, ...remarks]) lines.push(flagLine(f));
   const hidden = report.flagsTotal - breaches.length - remarks.length;
-  if (hidden > 0) lines.push(`  ... ${hidden} more (see --json)\n`);
+  if (hidden > 0)
+    lines.push(`  ... ${hidden} more (${all ? "past the report's cap; see --json" : '--all lists them'})\n`);
   return lines.join('');
 }
 
@@ -114,6 +119,7 @@ const CHECK_FLAGS = {
   fps: { type: 'string' },
   layout: { type: 'string' },
   json: { type: 'boolean' },
+  all: { type: 'boolean' },
   ...THREADS_FLAG,
 } as const;
 
@@ -136,6 +142,6 @@ export async function checkCommand(args: string[], io: CliIo): Promise<number> {
     threads,
   });
   const report = evaluate(profile, document, fps ? { frameRate: fps } : {});
-  io.stdout(values.json ? `${JSON.stringify(report)}\n` : formatReport(report));
+  io.stdout(values.json ? `${JSON.stringify(report)}\n` : formatReport(report, { all: values.all === true }));
   return VERDICT_EXIT_CODES[report.verdict];
 }

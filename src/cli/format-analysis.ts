@@ -23,7 +23,8 @@ const LAYOUT_FROM: Record<NonNullable<AnalysisDocument['format']['layoutFrom']>,
   declared: 'as declared',
 };
 
-export function formatAnalysis(doc: AnalysisDocument): string {
+/** `all`: every event the document keeps, not only the first 20. */
+export function formatAnalysis(doc: AnalysisDocument, { all = false }: { all?: boolean } = {}): string {
   const f = doc.format;
   const s = doc.summary;
   const lines = [
@@ -60,12 +61,13 @@ export function formatAnalysis(doc: AnalysisDocument): string {
       ? '  No events.'
       : `  Events: ${counts.map(([k, n]) => `${k} ${n}`).join(', ')}${doc.eventsTruncated ? ' (list truncated)' : ''}`,
   );
-  for (const e of doc.events.slice(0, 20)) {
+  const shown = all ? doc.events.length : 20;
+  for (const e of doc.events.slice(0, shown)) {
     lines.push(
       `    ${formatTime(e.startSeconds)} - ${formatTime(e.endSeconds)}  ${e.kind}  ch ${channelName(doc, e.channel)}${e.otherChannel !== undefined ? ` / ${channelName(doc, e.otherChannel)}` : ''}${e.peakValue !== undefined ? `  ${e.peakValue.toFixed(2)}` : ''}`,
     );
   }
-  if (doc.events.length > 20) lines.push(`    ... ${doc.events.length - 20} more (use --json)`);
+  if (doc.events.length > shown) lines.push(`    ... ${doc.events.length - shown} more (--all lists them)`);
   for (const w of doc.warnings) lines.push(`  warning ${w.code}: ${w.message}`);
   return `${lines.join('\n')}\n`;
 }

@@ -19,10 +19,10 @@ export const EXIT_ERROR = 3;
 const COMMANDS = ['analyze', 'check', 'profiles', 'selftest', 'help', 'version'] as const;
 
 const USAGE = `usage:
-  earmark analyze <file> [--json] [--true-peak-ceiling dBTP] [--clip-run N] [--clip-threshold dBFS]
+  earmark analyze <file> [--json] [--all] [--true-peak-ceiling dBTP] [--clip-run N] [--clip-threshold dBFS]
                          [--silence-threshold dBFS] [--silence-min seconds] [--threads N|auto] [--layout name]
                          [--downmix] [--channel-loudness] [--dialogue] [--min-speech-share percent]
-  earmark check <file> --profile <id|path.json> [--fps rate] [--layout name] [--json] [--threads N|auto]
+  earmark check <file> --profile <id|path.json> [--fps rate] [--layout name] [--json] [--all] [--threads N|auto]
       rate: 23.976 24 25 29.97-df 29.97-ndf 30 50 59.94-df 59.94-ndf 60 (default: the profile's)
       --layout: channel layout of a file without a channel mask or chna chunk: ${LAYOUT_NAMES.join(' ')}
   earmark profiles [id] [--json]
@@ -99,6 +99,7 @@ export function analysisOptionsFromArgs(values: Record<string, unknown>): Analys
 
 const ANALYSIS_FLAGS = {
   json: { type: 'boolean' },
+  all: { type: 'boolean' },
   'true-peak-ceiling': { type: 'string' },
   'clip-run': { type: 'string' },
   'clip-threshold': { type: 'string' },
@@ -121,7 +122,7 @@ async function analyzeCommand(args: string[], io: CliIo): Promise<number> {
     threads,
     ...(layout ? { decode: { layout } } : {}),
   });
-  io.stdout(values.json ? `${JSON.stringify(document)}\n` : formatAnalysis(document));
+  io.stdout(values.json ? `${JSON.stringify(document)}\n` : formatAnalysis(document, { all: values.all === true }));
   return 0;
 }
 

@@ -5,7 +5,9 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { joinNegativeValues, suggestion } from '../../src/cli/args.ts';
+import { formatAnalysis } from '../../src/cli/format-analysis.ts';
 import { main } from '../../src/cli/main.ts';
+import { analyzeFile } from '../../src/engine/analyze-file.ts';
 import { writeWavFile } from '../../src/encode/wav.ts';
 import { ENGINE_VERSION } from '../../src/engine/document.ts';
 import { toneBlocks } from '../../src/selftest/signals.ts';
@@ -61,5 +63,27 @@ describe('command-line arguments', () => {
     expect(suggestion('chekc', ['analyze', 'check', 'profiles'])).toBe('check');
     expect(suggestion('PROFILE', ['analyze', 'check', 'profiles'])).toBe('profiles');
     expect(suggestion('upload', ['analyze', 'check', 'profiles'])).toBeNull();
+  });
+
+  it('lists 20 events and says how many more, or every one with --all', async () => {
+    const doc = await analyzeFile(tone);
+    const one = {
+      kind: 'clipping' as const,
+      channel: 0,
+      startFrame: 0,
+      endFrame: 48,
+      startSeconds: 0,
+      endSeconds: 0.001,
+    };
+    const many = {
+      ...doc,
+      events: Array.from({ length: 30 }, (_, i) => ({ ...one, startSeconds: i, endSeconds: i + 0.001 })),
+    };
+    const short = formatAnalysis(many);
+    expect(short.match(/ clipping /g)).toHaveLength(20);
+    expect(short).toContain('... 10 more (--all lists them)');
+    const full = formatAnalysis(many, { all: true });
+    expect(full.match(/ clipping /g)).toHaveLength(30);
+    expect(full).not.toContain('more (');
   });
 });
