@@ -113,6 +113,39 @@ function polyline(series: PlotSeries, x: (s: number) => number, y: (l: number) =
 
 const SPEECH_LANE_PX = 6;
 
+// Presentation attributes, so plot.svg opened on its own is drawn as on the page (the page's
+// stylesheet overrides them: CSS wins over presentation attributes). Colours from earmark.css.
+const PAINT: Record<string, string> = {
+  'em-plot-bg': 'fill="#fbf8f1" stroke="#d9d2c3"',
+  'em-target-band': 'fill="#e8dec6"',
+  'em-target-line': 'stroke="#b9a77c" stroke-dasharray="4 3"',
+  'em-grid': 'stroke="#d9d2c3" stroke-width="0.5"',
+  'em-tick': 'stroke="#59626e"',
+  'em-axis-label': 'fill="#59626e" font-family="sans-serif" font-size="11"',
+  'em-axis-title': 'fill="#59626e" font-family="sans-serif" font-size="11"',
+  'em-limit-line': 'stroke="#7d3f73" stroke-dasharray="6 3"',
+  'em-momentary': 'fill="none" stroke="#97a6b6" stroke-width="1"',
+  'em-short-term': 'fill="none" stroke="#1c6e7d" stroke-width="2"',
+  'em-speech': 'fill="#b5792c" opacity="0.7"',
+  'em-dialogue-line': 'stroke="#b5792c" stroke-width="1.5"',
+  'em-flag-span': 'opacity="0.12"',
+  'em-cursor': 'stroke="#1f2833" stroke-width="2"',
+};
+const FLAG_FILL: Record<string, string> = {
+  clipping: '#a33a2f',
+  true_peak_over: '#c27f0e',
+  loud_short_term: '#7d3f73',
+  loud_momentary: '#7d3f73',
+  phase_problem: '#3f6b3c',
+  inverted_channel: '#3f6b3c',
+  duplicate_channel: '#3f6b3c',
+};
+/** Each painted element's attributes go at the end of its opening tag. */
+const paint = (svg: string) =>
+  svg.replace(/(<[a-z]+ [^>]*?class="(em-[a-z-]+)"[^>]*?)(\/?>)/g, (all, head: string, name: string, end: string) =>
+    PAINT[name] ? `${head} ${PAINT[name]}${end}` : all,
+  );
+
 /** One bar per run of speech blocks along the plot's floor, under the curves. */
 function speechLane(
   speech: NonNullable<PlotInput['speech']>,
@@ -213,7 +246,7 @@ export function renderLoudnessPlot(input: PlotInput): string {
     const markerWidth = Math.max(3, x(flag.endSeconds) - left);
     // The opacity is an attribute, not only CSS, so the SVG fetched on its own shows it too.
     parts.push(
-      `<g class="em-flag em-flag-${escapeXml(flag.kind)} em-sev-${flag.severity}" data-flag-index="${index}"${flag.severity === 'remark' ? ' opacity="0.45"' : ''}>` +
+      `<g class="em-flag em-flag-${escapeXml(flag.kind)} em-sev-${flag.severity}" data-flag-index="${index}"${flag.severity === 'remark' ? ' opacity="0.45"' : ''} fill="${FLAG_FILL[flag.kind] ?? '#6b6f7e'}">` +
         `<rect x="${fmt(left)}" y="${plotTop - FLAG_LANE_PX - 4}" width="${fmt(markerWidth)}" height="${FLAG_LANE_PX}"/>` +
         `<rect class="em-flag-span" x="${fmt(left)}" y="${plotTop}" width="${fmt(markerWidth)}" height="${plotHeight}"/>` +
         `<title>${escapeXml(flag.label)}</title></g>`,
@@ -223,5 +256,5 @@ export function renderLoudnessPlot(input: PlotInput): string {
     `<line id="em-plot-cursor" class="em-cursor" x1="${plotLeft}" x2="${plotLeft}" y1="${plotTop - FLAG_LANE_PX - 4}" y2="${plotTop + plotHeight}" data-plot-left="${plotLeft}" data-plot-width="${plotWidth}" data-duration="${duration}" visibility="hidden"/>`,
   );
   parts.push('</svg>');
-  return parts.join('');
+  return paint(parts.join(''));
 }

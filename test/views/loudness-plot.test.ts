@@ -21,6 +21,14 @@ function input(overrides: Partial<PlotInput> = {}): PlotInput {
 }
 
 describe('renderLoudnessPlot', () => {
+  it('paints itself: opened alone (no stylesheet) the curves are lines, not filled shapes, on a light ground', () => {
+    const svg = renderLoudnessPlot(input());
+    for (const m of svg.matchAll(/<polyline [^>]*>/g)) expect(m[0]).toContain('fill="none"');
+    expect(svg).toMatch(/<rect class="em-plot-bg" [^>]*fill="#fbf8f1"/);
+    expect(svg).toMatch(/<g class="em-flag em-flag-clipping [^>]*fill="#a33a2f"/);
+    for (const m of svg.matchAll(/<rect class="em-flag-span" [^>]*>/g)) expect(m[0]).toContain('opacity="0.12"');
+  });
+
   it('draws one speech bar per run of speech blocks (block k spans k/10 s to k/10 + 0.4 s) and the dialogue line', () => {
     // Blocks 10-19 (1.0 s to 2.3 s) and 50 (5.0 s to 5.4 s) are speech; the others are not.
     const isSpeech = Array.from({ length: 596 }, (_, k) => ((k >= 10 && k < 20) || k === 50 ? 1 : 0));
@@ -51,7 +59,9 @@ describe('renderLoudnessPlot', () => {
         ],
       }),
     );
-    expect(svg).toMatch(/<g class="em-flag em-flag-dc_offset em-sev-remark" data-flag-index="2" opacity="0.45">/);
+    expect(svg).toMatch(
+      /<g class="em-flag em-flag-dc_offset em-sev-remark" data-flag-index="2" opacity="0.45" fill="[^"]+">/,
+    );
     expect(svg).not.toMatch(/em-sev-fail"[^>]*opacity/);
     // Painted first, so the clipping marker at 12 s stays on top of it.
     expect(svg.indexOf('data-flag-index="2"')).toBeLessThan(svg.indexOf('data-flag-index="0"'));
@@ -61,7 +71,7 @@ describe('renderLoudnessPlot', () => {
   it('places a flag at its time on the axis: 30 s of 60 s is half-way across the plot area', () => {
     const svg = renderLoudnessPlot(input({ widthPx: 1000 }));
     // plot area: x from 56 to 1000-16 = 984, width 928; 30 s -> 56 + 464 = 520.
-    expect(svg).toMatch(/data-flag-index="1"><rect x="520"/);
+    expect(svg).toMatch(/data-flag-index="1" fill="[^"]+"><rect x="520"/);
   });
 
   it('draws the target band and the loudness curves, breaking lines at null values', () => {

@@ -26,7 +26,7 @@ describe('report plot', () => {
     const input = plotInputFor(sampleReport(), 1000);
     expect(input.durationSeconds).toBe(20);
     // plot area 56..984 (928 px): 5 s of 20 s -> 56 + 232 = 288.
-    expect(renderLoudnessPlot(input)).toMatch(/data-flag-index="0"><rect x="288"/);
+    expect(renderLoudnessPlot(input)).toMatch(/data-flag-index="0" fill="[^"]+"><rect x="288"/);
     expect(input.formatTime(5)).toBe('00:00:05:00');
   });
 });
