@@ -38,8 +38,8 @@ export function dashboardPage(): string {
     'Queue',
     'data-page="dashboard"',
     `
-<h2 class="em-visually-hidden">Queue at a glance</h2>
-<section id="em-counters" class="em-counters" aria-label="Queue counters" aria-live="polite"></section>
+<h2 id="em-counters-title" class="em-counters-title">All your jobs in the queue <small>(the list's filters do not apply here)</small></h2>
+<section id="em-counters" class="em-counters" aria-labelledby="em-counters-title" aria-live="polite"></section>
 <p id="em-live-status" class="em-status" role="status"></p>
 <section class="em-card" aria-labelledby="em-jobs-title">
   <h2 id="em-jobs-title" style="margin-top:0">Recent jobs</h2>
@@ -51,9 +51,12 @@ export function dashboardPage(): string {
     <label for="em-filter-profile">Profile
       <select id="em-filter-profile"><option value="">any</option></select></label>
   </div>
+  <h3 id="em-list-counters-title" class="em-counters-title">In this list</h3>
+  <div id="em-list-counters" class="em-counters em-list-counters" aria-labelledby="em-list-counters-title" aria-live="polite"></div>
+  <p id="em-list-more" class="em-status"></p>
   <div style="overflow-x:auto">
   <table>
-    <thead><tr><th scope="col">File</th><th scope="col">Profile</th><th scope="col">State</th><th scope="col">Verdict</th><th scope="col" class="em-hide-narrow">Integrated</th><th scope="col" class="em-hide-narrow">True peak</th><th scope="col" class="em-hide-narrow">Submitted</th><th scope="col">Finished</th></tr></thead>
+    <thead><tr><th scope="col">File</th><th scope="col" class="em-hide-narrow">External ID</th><th scope="col">Profile</th><th scope="col">State</th><th scope="col">Verdict</th><th scope="col" class="em-hide-narrow">Integrated</th><th scope="col" class="em-hide-narrow">True peak</th><th scope="col" class="em-hide-narrow">Submitted <small>(your time)</small></th><th scope="col">Finished <small>(your time)</small></th></tr></thead>
     <tbody id="em-jobs-body"></tbody>
   </table>
   </div>

@@ -3,6 +3,7 @@ import { describe, expect, it } from 'vitest';
 import {
   channelText,
   countText,
+  dateTimeText,
   failureHint,
   flagCountsText,
   flagDetails,
@@ -11,6 +12,7 @@ import {
   headlineNamesVerdict,
   outcomeText,
   spanText,
+  stateCounts,
   worstValueText,
 } from '../../src/views/assets/format.js';
 import { sampleFlags } from './sample-report.ts';
@@ -94,5 +96,19 @@ describe('counts, outcomes and failure hints', () => {
     expect(failureHint('unsupported_format')).toMatch(/^Send WAV .*FLAC/);
     expect(failureHint('decoded_size_exceeded')).toMatch(/shorter file/);
     expect(failureHint('internal_error')).toMatch(/job id/);
+  });
+});
+
+describe('dashboard list wording', () => {
+  it('shows a time with its date, year first and 24-hour, in the local zone', () => {
+    const local = new Date(2026, 0, 5, 7, 4, 9);
+    expect(dateTimeText(local.toISOString())).toBe('2026-01-05 07:04:09');
+    expect(dateTimeText(null)).toBe('–');
+    expect(dateTimeText('not a date')).toBe('–');
+  });
+
+  it("counts the list's rows by state", () => {
+    const rows = [{ state: 'completed' }, { state: 'failed' }, { state: 'completed' }, { state: 'queued' }];
+    expect(stateCounts(rows)).toEqual({ shown: 4, queued: 1, active: 0, completed: 2, failed: 1 });
   });
 });

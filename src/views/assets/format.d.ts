@@ -32,3 +32,11 @@ export function flagCountsText(report: {
 export function headlineNamesVerdict(headline: string, verdict: string | null): boolean;
 export function outcomeText(check: { outcome: string; passed: boolean }): string;
 export function failureHint(code: string): string;
+export function dateTimeText(iso: string | null | undefined): string;
+export function stateCounts(items: ReadonlyArray<{ state: string }>): {
+  shown: number;
+  queued: number;
+  active: number;
+  completed: number;
+  failed: number;
+};

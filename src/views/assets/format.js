@@ -116,3 +116,24 @@ const HINTS = {
 export function failureHint(code) {
   return HINTS[code] ?? 'Submit the file again. If it fails again, tell the operator this job id and error code.';
 }
+
+const pad2 = (n) => String(n).padStart(2, '0');
+
+/**
+ * A timestamp as YYYY-MM-DD HH:MM:SS in the viewer's time zone: date first and 24-hour, so no
+ * locale reads it two ways (the page's column header names the zone).
+ */
+export function dateTimeText(iso) {
+  if (!iso) return '–';
+  const d = new Date(iso);
+  if (Number.isNaN(d.getTime())) return '–';
+  const date = `${d.getFullYear()}-${pad2(d.getMonth() + 1)}-${pad2(d.getDate())}`;
+  return `${date} ${pad2(d.getHours())}:${pad2(d.getMinutes())}:${pad2(d.getSeconds())}`;
+}
+
+/** The list's rows counted by state, so the counters beside the table match it row for row. */
+export function stateCounts(items) {
+  const counts = { queued: 0, active: 0, completed: 0, failed: 0 };
+  for (const item of items) if (Object.hasOwn(counts, item.state)) counts[item.state] += 1;
+  return { shown: items.length, ...counts };
+}
