@@ -159,6 +159,9 @@ describe('faults', () => {
     const long = await writeLongWav(join(svc.dir, 'long.wav'), 8000, 3600);
     const short = await writeSine(join(svc.dir, 'short.wav'), -23, 2);
     const w = worker(svc.env);
+    // A worker that meets the outage while it starts exits (nothing answers at REDIS_URL): this
+    // case is about a running worker riding one out, so the outage starts once it is ready.
+    await waitFor('the worker to be ready', async () => w.lines.some((l) => l.includes('worker ready')), 60_000);
     const accepted: string[] = [];
     for (const file of [long, short]) {
       const r = await api.upload(file, { profile: 'ebu-r128' }, KEYS.alpha);
