@@ -4,6 +4,7 @@ import { execFileSync } from 'node:child_process';
 import { mkdtempSync, readFileSync, rmSync, statSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
+import { decodeAll } from '../helpers/decode-all.ts';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { openAudioFileAs } from '../../src/decode/index.ts';
 import type { Container, DecodedAudio } from '../../src/decode/types.ts';
@@ -34,19 +35,6 @@ function reference(path: string, channels: number): Float32Array[] {
   return Array.from({ length: channels }, (_, c) =>
     Float32Array.from({ length: frames }, (_, i) => inter[i * channels + c]),
   );
-}
-async function decodeAll(d: DecodedAudio): Promise<Float32Array[]> {
-  const parts: Float32Array[][] = [];
-  for await (const b of d.blocks) parts.push([...b.channelData]);
-  return Array.from({ length: d.format.channels }, (_, c) => {
-    const out = new Float32Array(parts.reduce((n, p) => n + p[c].length, 0));
-    let at = 0;
-    for (const p of parts) {
-      out.set(p[c], at);
-      at += p[c].length;
-    }
-    return out;
-  });
 }
 const rmsDb = (x: Float32Array): number => 10 * Math.log10(x.reduce((s, v) => s + v * v, 0) / x.length);
 

@@ -16,6 +16,7 @@ import {
   profileIssues,
   type Rule,
 } from '../../src/profiles/index.ts';
+import { decodeAll } from '../helpers/decode-all.ts';
 import { compose, type Piece, RATE, seconds } from '../helpers/head-signals.ts';
 import { checkFile, checkOf, tempDir } from './helpers.ts';
 
@@ -261,18 +262,7 @@ describe('programme loudness after a line-up', () => {
       /Integrated loudness\s+-\d+\.\d LUFS from 6\.00 s, after the line-up \(whole file -\d+\.\d LUFS\)/,
     );
     // The same samples from the programme start, as a file of their own: the reference reading.
-    const decoded = await openAudioFile(withHead);
-    const parts: Float32Array[][] = [];
-    for await (const block of decoded.blocks) parts.push(block.channelData.map((c) => Float32Array.from(c)));
-    const channelData = [0, 1].map((c) => {
-      const out = new Float32Array(parts.reduce((n, p) => n + p[c].length, 0));
-      let at = 0;
-      for (const p of parts) {
-        out.set(p[c], at);
-        at += p[c].length;
-      }
-      return out;
-    });
+    const channelData = await decodeAll(await openAudioFile(withHead));
     const alone = join(dir, 'programme-alone.wav');
     await writeWavFile(alone, { sampleRate: RATE, channels: 2, bitsPerSample: 24, float: false }, [
       channelData.map((c) => c.subarray(seconds(6))),
