@@ -7,7 +7,7 @@ import { join } from 'node:path';
 import { decodeAll } from '../helpers/decode-all.ts';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { openAudioFileAs } from '../../src/decode/index.ts';
-import type { Container, DecodedAudio } from '../../src/decode/types.ts';
+import type { Container } from '../../src/decode/types.ts';
 import { EarmarkError } from '../../src/errors/index.ts';
 import { hasTool } from '../helpers/tools.ts';
 
