@@ -8,6 +8,7 @@ import { analyzeFile } from '../engine/analyze-file.ts';
 import { ENGINE_VERSION } from '../engine/document.ts';
 import { EarmarkError, toEarmarkError } from '../errors/index.ts';
 import { checkCommand } from './check.ts';
+import { compareCommand } from './compare.ts';
 import { formatAnalysis } from './format-analysis.ts';
 import { layoutOption } from './layout-option.ts';
 import { profilesCommand } from './profiles.ts';
@@ -16,7 +17,7 @@ import { THREADS_FLAG, threadsOption } from './threads.ts';
 
 export const EXIT_ERROR = 3;
 
-const COMMANDS = ['analyze', 'check', 'profiles', 'selftest', 'help', 'version'] as const;
+const COMMANDS = ['analyze', 'check', 'compare', 'profiles', 'selftest', 'help', 'version'] as const;
 
 const USAGE = `usage:
   earmark analyze <file> [--json] [--all] [--true-peak-ceiling dBTP] [--clip-run N] [--clip-threshold dBFS]
@@ -25,6 +26,8 @@ const USAGE = `usage:
   earmark check <file> --profile <id|path.json> [--fps rate] [--layout name] [--json] [--all] [--threads N|auto]
       rate: 23.976 24 25 29.97-df 29.97-ndf 30 50 59.94-df 59.94-ndf 60 (default: the profile's)
       --layout: channel layout of a file without a channel mask or chna chunk: ${LAYOUT_NAMES.join(' ')}
+  earmark compare <old report.json|file> <new report.json|file> [--profile <id|path.json>] [--json] [--all]
+      an audio file is checked with --profile first; exit code: the new file's verdict
   earmark profiles [id] [--json]
   earmark selftest [--json]
   earmark --version
@@ -134,6 +137,8 @@ export async function main(argv: string[], io: CliIo = defaultIo): Promise<numbe
         return await analyzeCommand(rest, io);
       case 'check':
         return await checkCommand(rest, io);
+      case 'compare':
+        return await compareCommand(rest, io);
       case 'profiles':
         return profilesCommand(rest, io);
       case 'selftest':
