@@ -131,3 +131,40 @@ ${dialogueSection()}
     'report.js',
   );
 }
+
+/** Re-delivery comparison (assets/compare.js fills it from GET /v1/jobs/:id/compare/:otherId). */
+export function comparePage(jobId: string, otherJobId: string): string {
+  return shell(
+    'Re-delivery',
+    `data-page="compare" data-job-id="${escapeXml(jobId)}" data-other-job-id="${escapeXml(otherJobId)}"`,
+    `
+<h2 id="em-cmp-headline" class="em-headline" hidden></h2>
+<p id="em-load-status" class="em-status" role="status">Loading…</p>
+<ul id="em-cmp-warnings" class="em-cmp-warnings" hidden></ul>
+<div id="em-cmp-body" hidden>
+<section class="em-card" aria-labelledby="em-cmp-files-title">
+  <h2 id="em-cmp-files-title" style="margin-top:0">Deliveries</h2>
+  <div id="em-cmp-sides" class="em-cmp-sides"></div>
+</section>
+<section class="em-card" aria-labelledby="em-cmp-readings-title">
+  <h2 id="em-cmp-readings-title" style="margin-top:0">Readings</h2>
+  <div class="em-cmp-scroll">
+  <table class="em-cmp-table"><thead><tr><th scope="col">Reading</th><th scope="col">Before</th><th scope="col">After</th><th scope="col">Change</th></tr></thead><tbody id="em-cmp-readings"></tbody></table>
+  </div>
+</section>
+<section class="em-card" aria-labelledby="em-cmp-checks-title">
+  <h2 id="em-cmp-checks-title" style="margin-top:0">Rules</h2>
+  <div class="em-cmp-scroll">
+  <table class="em-cmp-table"><thead><tr><th scope="col">Rule</th><th scope="col">Before</th><th scope="col">After</th><th scope="col">Change</th></tr></thead><tbody id="em-cmp-checks"></tbody></table>
+  </div>
+</section>
+<section class="em-card" aria-labelledby="em-cmp-flags-title">
+  <h2 id="em-cmp-flags-title" style="margin-top:0">Flags</h2>
+  <p id="em-cmp-flag-counts" class="em-flag-counts"></p>
+  <p id="em-cmp-flag-rule" class="em-status"></p>
+  <div id="em-cmp-flags" class="em-cmp-flag-groups"></div>
+</section>
+</div>`,
+    'compare.js',
+  );
+}

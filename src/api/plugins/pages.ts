@@ -4,7 +4,7 @@
 import { readFile } from 'node:fs/promises';
 import { fileURLToPath } from 'node:url';
 import { EarmarkError } from '../../errors/index.ts';
-import { dashboardPage, reportPage } from '../../views/pages.ts';
+import { comparePage, dashboardPage, reportPage } from '../../views/pages.ts';
 import { route, routesPlugin, type RouteSpec } from '../route-spec.ts';
 import * as S from '../schemas.ts';
 
@@ -19,6 +19,7 @@ const ASSET_TYPES: Record<string, string> = {
   'declared.js': 'text/javascript; charset=utf-8',
   'downmix.js': 'text/javascript; charset=utf-8',
   'dialogue.js': 'text/javascript; charset=utf-8',
+  'compare.js': 'text/javascript; charset=utf-8',
 };
 const ASSET_NAMES = Object.keys(ASSET_TYPES);
 const html = { description: 'HTML page', schema: { type: 'string' }, contentType: 'text/html' };
@@ -44,6 +45,23 @@ export const pageSpecs = {
     scope: null,
     summary: 'The per-job report page',
     params: S.JobIdParams,
+    responses: {
+      200: html,
+      400: { description: 'Problem', schema: S.Problem, contentType: 'application/problem+json' },
+    },
+  },
+  compare: {
+    method: 'GET',
+    url: '/jobs/:id/compare/:otherId',
+    operationId: 'comparePage',
+    tag: 'pages',
+    scope: null,
+    summary: 'What changed from one job (the first delivery) to another (the re-delivery)',
+    params: {
+      type: 'object',
+      required: ['id', 'otherId'],
+      properties: { id: S.JobIdParams.properties.id, otherId: S.JobIdParams.properties.id },
+    } as const,
     responses: {
       200: html,
       400: { description: 'Problem', schema: S.Problem, contentType: 'application/problem+json' },
@@ -89,6 +107,12 @@ export function pagesPlugin() {
         .header('content-security-policy', CONTENT_SECURITY_POLICY)
         .send(reportPage(id));
     });
+    route(app, pageSpecs.compare, async (request, reply) =>
+      reply
+        .type('text/html; charset=utf-8')
+        .header('content-security-policy', CONTENT_SECURITY_POLICY)
+        .send(comparePage(request.params.id, request.params.otherId)),
+    );
     route(app, pageSpecs.asset, async (request, reply) => {
       const { name } = request.params;
       return reply
