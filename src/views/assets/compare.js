@@ -42,7 +42,9 @@ function checkSideText(side) {
             ? String(m)
             : fixed(m, 1)
           : m;
-  return `${shown}${m !== null && side.unit ? ` ${side.unit}` : ''} (${side.outcome.replace('_', ' ')})`;
+  const outcome = side.outcome.replace('_', ' ');
+  // Integrity and a few other rules measure nothing to show: their outcome alone.
+  return shown === '' ? outcome : `${shown}${m !== null && side.unit ? ` ${side.unit}` : ''} (${outcome})`;
 }
 
 function flagLine(flag) {
@@ -120,9 +122,9 @@ function render(c) {
         'tr',
         { 'data-key': r.key, class: r.changed ? 'em-cmp-changed' : null },
         el('th', { scope: 'row' }, r.label),
-        el('td', { class: 'em-num' }, valueText(r.before, r.unit, r.decimals)),
-        el('td', { class: 'em-num' }, valueText(r.after, r.unit, r.decimals)),
-        el('td', { class: 'em-num em-cmp-delta' }, deltaText(r)),
+        el('td', { class: 'em-num', 'data-label': 'Before' }, valueText(r.before, r.unit, r.decimals)),
+        el('td', { class: 'em-num', 'data-label': 'After' }, valueText(r.after, r.unit, r.decimals)),
+        el('td', { class: 'em-num em-cmp-delta', 'data-label': 'Change' }, deltaText(r)),
       ),
     ),
     ...c.format
@@ -132,9 +134,9 @@ function render(c) {
           'tr',
           { 'data-key': f.key, class: 'em-cmp-changed' },
           el('th', { scope: 'row' }, f.label),
-          el('td', {}, f.before ?? 'none'),
-          el('td', {}, f.after ?? 'none'),
-          el('td', {}, 'changed'),
+          el('td', { 'data-label': 'Before' }, f.before ?? 'none'),
+          el('td', { 'data-label': 'After' }, f.after ?? 'none'),
+          el('td', { 'data-label': 'Change' }, 'changed'),
         ),
       ),
   ];
