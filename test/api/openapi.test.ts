@@ -36,6 +36,14 @@ describe('openapi/openapi.yaml', () => {
       .filter((s) => s.scope === null)
       .map((s) => s.url)
       .sort();
-    expect(open).toEqual(['/', '/assets/:name', '/healthz', '/jobs/:id', '/jobs/:id/compare/:otherId', '/openapi.json', '/readyz']);
+    expect(open).toEqual([
+      '/',
+      '/assets/:name',
+      '/healthz',
+      '/jobs/:id',
+      '/jobs/:id/compare/:otherId',
+      '/openapi.json',
+      '/readyz',
+    ]);
   });
 });
