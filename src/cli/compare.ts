@@ -38,19 +38,21 @@ const COMPARE_FLAGS = {
 
 /** A report when the file's first non-blank byte opens a JSON object; no audio format starts so. */
 async function isJsonFile(path: string): Promise<boolean> {
-  let handle: Awaited<ReturnType<typeof open>>;
+  let head: Buffer;
   try {
-    handle = await open(path, 'r');
+    const handle = await open(path, 'r');
+    try {
+      const buffer = Buffer.alloc(64);
+      const { bytesRead } = await handle.read(buffer, 0, buffer.length, 0);
+      head = buffer.subarray(0, bytesRead);
+    } finally {
+      await handle.close();
+    }
   } catch {
+    // Missing, unreadable, or a folder.
     throw new EarmarkError('file_not_found', `cannot read ${path}`, { field: 'file' });
   }
-  try {
-    const head = Buffer.alloc(64);
-    const { bytesRead } = await handle.read(head, 0, head.length, 0);
-    return /^\s*\{/.test(head.subarray(0, bytesRead).toString('latin1'));
-  } finally {
-    await handle.close();
-  }
+  return /^\s*\{/.test(head.toString('latin1'));
 }
 
 async function readReport(path: string, what: string): Promise<QcReport> {

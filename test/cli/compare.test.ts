@@ -137,6 +137,7 @@ describe('earmark compare: bad input is exit 3 with a typed error', () => {
     const cases: Array<[string[], RegExp]> = [
       [['compare', hotReportPath], /^error invalid_argument: compare needs two files/],
       [['compare', hotReportPath, join(dir, 'missing.wav')], /^error file_not_found: cannot read/],
+      [['compare', dir, hotReportPath], /^error file_not_found: cannot read/],
       [['compare', notReport, hotReportPath], /^error invalid_argument: the old file \(.*\) is not an Earmark report/],
       [['compare', hotReportPath, cut], /^error invalid_argument: the new file \(.*\) is not valid JSON/],
     ];
