@@ -5,10 +5,13 @@ import { readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { main, type CliIo } from '../../src/cli/main.ts';
+import { openAudioFile } from '../../src/decode/index.ts';
 import type { Comparison } from '../../src/profiles/compare.ts';
 import type { QcReport } from '../../src/profiles/index.ts';
 import { tempDir } from '../profiles/helpers.ts';
-import { writeFixedDelivery, writeHotDelivery } from '../helpers/redelivery.ts';
+import { decodeAll } from '../helpers/decode-all.ts';
+import { loadEbur128Reference } from '../helpers/ebur128-reference.ts';
+import { writeFixedDelivery, writeHotDelivery, REDELIVERY_RATE } from '../helpers/redelivery.ts';
 
 const PROFILE = 'delivery-broadcast-stereo';
 
@@ -79,6 +82,19 @@ describe('earmark compare: a fixed re-delivery', () => {
     expect(c.flags.new).toEqual([]);
     expect(c.flags.persisting).toEqual([]);
     expect(c.warnings).toEqual([]);
+  });
+
+  it('the loudness delta agrees with an independent meter (ebur128-wasm) on the two files', async () => {
+    const io = capture();
+    await main(['compare', hotReportPath, fixed, '--profile', PROFILE, '--json'], io);
+    const ours = (JSON.parse(io.out) as Comparison).readings.find((r) => r.key === 'integratedLufs')?.delta;
+    const reference = await loadEbur128Reference();
+    const integrated = async (path: string) => {
+      const [left, right] = await decodeAll(await openAudioFile(path));
+      return reference.integratedStereo(REDELIVERY_RATE, left, right);
+    };
+    const theirs = (await integrated(fixed)) - (await integrated(hot));
+    expect(Math.abs((ours ?? Number.NaN) - theirs)).toBeLessThan(0.1);
   });
 
   it('two audio files, text: units on every value, the verdict first', async () => {
