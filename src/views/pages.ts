@@ -52,11 +52,11 @@ ${uploadSection()}
       <select id="em-filter-verdict"><option value="">any</option><option>pass</option><option>warn</option><option>fail</option></select></label>
     <label for="em-filter-profile">Profile
       <select id="em-filter-profile"><option value="">any</option></select></label>
-    <label for="em-filter-from">Submitted from <small>(your date)</small>
+    <label for="em-filter-from"><span>Submitted from <small>(your date)</small></span>
       <input id="em-filter-from" type="date"></label>
-    <label for="em-filter-to">Submitted to <small>(your date, included)</small>
+    <label for="em-filter-to"><span>Submitted to <small>(your date, included)</small></span>
       <input id="em-filter-to" type="date"></label>
-    <label for="em-filter-q">Search <small>(file name or external ID)</small>
+    <label for="em-filter-q"><span>Search <small>(file name or external ID)</small></span>
       <input id="em-filter-q" type="search" maxlength="200" autocomplete="off"></label>
     <label for="em-filter-limit">Rows per page
       <select id="em-filter-limit"><option>10</option><option>20</option><option selected>50</option><option>100</option></select></label>

@@ -13,7 +13,7 @@ export function uploadSection(): string {
     <div class="em-filters">
       <label for="em-upload-profile">Profile
         <select id="em-upload-profile"><option value="">enter an API key first</option></select></label>
-      <label for="em-upload-external">External ID <small>(optional; your reference, given to every file of this batch)</small>
+      <label for="em-upload-external"><span>External ID <small>(optional; given to every file of this batch)</small></span>
         <input id="em-upload-external" maxlength="200" autocomplete="off"></label>
       <button type="submit" id="em-upload-start">Upload and check</button>
     </div>

@@ -9,8 +9,9 @@ const waiting = [];
 let running = 0;
 let onQueued = () => undefined;
 
+// Decimal units (kB = 1000 bytes), as file managers commonly show them.
 const sizeText = (bytes) =>
-  bytes >= 1024 * 1024 ? `${(bytes / (1024 * 1024)).toFixed(1)} MB` : `${Math.max(1, Math.round(bytes / 1024))} kB`;
+  bytes >= 1e6 ? `${(bytes / 1e6).toFixed(1)} MB` : `${Math.max(1, Math.round(bytes / 1e3))} kB`;
 
 /** "code: detail (field)" from a problem+json body, or what is known without one. */
 function problemText(status, body) {
@@ -135,7 +136,7 @@ function start(files) {
     list.append(view.item);
     waiting.push({ file, profile, externalId, view });
   }
-  status.textContent = `${files.length} file${files.length === 1 ? '' : 's'} added; ${AT_ONCE} upload at a time.`;
+  status.textContent = `${files.length} file${files.length === 1 ? '' : 's'} added; at most ${AT_ONCE} upload at a time.`;
   pump();
 }
 

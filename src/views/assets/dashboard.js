@@ -32,7 +32,6 @@ let nextCursor = null;
 let requestNumber = 0;
 
 const value = (name) => document.getElementById(`em-filter-${name}`).value;
-const rowsPerPage = () => Number(value('limit')) || 50;
 
 /** The start of a local calendar day (yyyy-mm-dd from a date input) as an instant. */
 function localDayStart(day, plusDays = 0) {
@@ -40,21 +39,33 @@ function localDayStart(day, plusDays = 0) {
   return new Date(year, month - 1, date + plusDays).toISOString();
 }
 
-/** The list's query, or a reason it cannot be asked. The dates are the operator's own days:
- * from the first day's local midnight to the end of the last. */
-function filters() {
-  const params = new URLSearchParams({ limit: String(rowsPerPage()) });
+/** The list's filters as the form holds them, or a reason they cannot be asked. The dates are
+ * the operator's own days: from the first day's local midnight to the end of the last. */
+function readFilters() {
+  const limit = Number(value('limit')) || 50;
+  const params = new URLSearchParams({ limit: String(limit) });
   for (const name of ['state', 'verdict', 'profile']) if (value(name)) params.set(name, value(name));
   const q = value('q').trim();
   if (q) params.set('q', q);
   const from = value('from');
   const to = value('to');
-  if (from && to && to < from) return { problem: 'The "to" date is before the "from" date: no job can match.' };
+  if (from && to && to < from) return { limit, problem: 'The "to" date is before the "from" date: no job can match.' };
   if (from) params.set('submittedFrom', localDayStart(from));
   if (to) params.set('submittedTo', localDayStart(to, 1));
+  return { limit, params };
+}
+
+// The filters in force, read when one changes (not at each refresh: text still being typed
+// into the search must not reach the list before its pause, nor take the list back to page 1).
+let applied = readFilters();
+
+/** The current page's query: the filters in force and the page's cursor. */
+function listQuery() {
+  if (!applied.params) return applied;
+  const params = new URLSearchParams(applied.params);
   const cursor = cursors[cursors.length - 1];
   if (cursor) params.set('cursor', cursor);
-  return { params };
+  return { limit: applied.limit, params };
 }
 
 function counterBoxes(names, labels, values, attribute) {
@@ -79,7 +90,7 @@ function renderListCounters(list) {
   document
     .getElementById('em-list-counters')
     .replaceChildren(...counterBoxes(listCounters, listCounterLabels, stateCounts(list.items), 'data-list-counter'));
-  const limit = rowsPerPage();
+  const limit = applied.limit;
   const page = `Page ${cursors.length}`;
   let more = '';
   if (list.nextCursor && list.items.length < limit)
@@ -138,7 +149,7 @@ function renderJobs(list) {
 async function refresh() {
   const status = document.getElementById('em-live-status');
   const number = ++requestNumber;
-  const query = filters();
+  const query = listQuery();
   try {
     const [queue, jobs] = await Promise.all([
       api('/v1/queue').then((r) => r.json()),
@@ -149,6 +160,8 @@ async function refresh() {
     renderJobs(jobs);
     renderListCounters(jobs);
     renderPager(jobs);
+    // Which query the rows answer (tests and scripts wait on it instead of on timing).
+    document.getElementById('em-jobs-body').setAttribute('data-query', query.params ? String(query.params) : '');
     status.textContent = query.problem ?? `Updated ${dateTimeText(new Date().toISOString())}`;
   } catch (error) {
     if (number !== requestNumber) return;
@@ -158,6 +171,7 @@ async function refresh() {
 
 /** New filters start again at the first page. */
 function filtersChanged() {
+  applied = readFilters();
   cursors = [null];
   nextCursor = null;
   refresh();
