@@ -293,6 +293,14 @@ describe.skipIf(!hasTool('chromium'))('dashboard uploads, filters and paging in 
     expect(sawWaiting).toBe(true);
   });
 
+  it('fits a phone screen without sideways scrolling, upload rows included', async () => {
+    await page.setViewportSize({ width: 390, height: 844 });
+    const widths = await page.evaluate('[document.documentElement.scrollWidth, window.innerWidth]');
+    expect(Array.isArray(widths) && widths[0] <= widths[1]).toBe(true);
+    await page.screenshot({ path: join(OUTPUT_DIR, 'dashboard-upload-phone.png'), fullPage: true });
+    await page.setViewportSize({ width: 1280, height: 900 });
+  });
+
   it('made no request outside the server', () => {
     expect(external).toEqual([]);
   });

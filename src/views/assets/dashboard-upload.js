@@ -118,16 +118,16 @@ function start(files) {
   const profile = document.getElementById('em-upload-profile').value;
   if (files.length === 0) {
     status.textContent = 'Choose or drop at least one file.';
-    return;
+    return false;
   }
   if (!apiKey()) {
     status.textContent = 'Enter an API key with submit scope first.';
-    return;
+    return false;
   }
   if (!profile) {
     status.textContent = 'Choose the profile to check the files against.';
     document.getElementById('em-upload-profile').focus();
-    return;
+    return false;
   }
   const externalId = document.getElementById('em-upload-external').value.trim();
   const list = document.getElementById('em-uploads');
@@ -138,6 +138,7 @@ function start(files) {
   }
   status.textContent = `${files.length} file${files.length === 1 ? '' : 's'} added; at most ${AT_ONCE} upload at a time.`;
   pump();
+  return true;
 }
 
 /** The profiles of GET /v1/profiles in the picker; the operator's choice survives a reload of the list. */
@@ -159,9 +160,12 @@ export function setupUploads(queued) {
   const drop = document.getElementById('em-drop');
   document.getElementById('em-upload-form').addEventListener('submit', (event) => {
     event.preventDefault();
-    start([...input.files]);
-    input.value = '';
+    // The chosen files stay chosen when something is missing, so the operator need not pick them again.
+    if (start([...input.files])) input.value = '';
   });
+  // A file dropped beside the box would make the browser leave the dashboard to show it.
+  window.addEventListener('dragover', (event) => event.preventDefault());
+  window.addEventListener('drop', (event) => event.preventDefault());
   drop.addEventListener('dragover', (event) => {
     event.preventDefault();
     drop.classList.add('em-drop-over');
