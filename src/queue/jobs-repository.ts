@@ -169,8 +169,12 @@ export class JobsRepository {
     const items: JobView[] = [];
     const range = query.submitted ?? {};
     const needle = query.search?.toLowerCase();
+    // A filter that skips most jobs (a search) would cost a round trip per few rows: each batch
+    // doubles, up to 100 and never past the scan budget.
+    let batch = Math.min(100, query.limit * 2);
     for (let examined = 0; items.length < query.limit && examined < MAX_EXAMINED; ) {
-      const page = await this.index.page(tenant, cursor, Math.min(100, query.limit * 2), range);
+      const page = await this.index.page(tenant, cursor, Math.min(batch, MAX_EXAMINED - examined), range);
+      batch = Math.min(100, batch * 2);
       if (page.length === 0) {
         cursor = null;
         break;

@@ -109,6 +109,25 @@ describe('JobsRepository.list filters', () => {
     expect(short).toBeGreaterThan(0);
   });
 
+  it('a sparse search reads in growing batches: a page that examines 1000 jobs is a few dozen commands', async () => {
+    const sent: string[] = [];
+    const send = redis.sendCommand.bind(redis);
+    redis.sendCommand = (command, stream) => {
+      sent.push(command.name);
+      return send(command, stream);
+    };
+    try {
+      const page = await jobs.list(TENANT, { cursor: null, limit: 10, search: 'needle' });
+      expect(page.items).toHaveLength(4);
+      expect(page.next).not.toBeNull();
+    } finally {
+      redis.sendCommand = send;
+    }
+    // Batches of 20, 40, 80, eight of 100 and the last 60: 12 index pages, 12 reads and the
+    // "more?" probe (25 commands, measured 25-26); fixed batches of 20 took 102.
+    expect(sent.length).toBeLessThanOrEqual(30);
+  });
+
   it('search: case-insensitive on the file name', async () => {
     const expected = planted.filter((p) => p.fileName.toLowerCase().includes('take-109')).sort(newestFirst);
     const { ids } = await allPages({ limit: 3, search: 'TAKE-109' });
