@@ -4,6 +4,7 @@
 import { readFileSync } from 'node:fs';
 import { profileSchema } from '../profiles/index.ts';
 import { projectFileUrl } from '../config/paths.ts';
+import { ISO_DATE_OR_DATE_TIME } from './list-filters.ts';
 import type { ObjectSchema } from './route-spec.ts';
 
 type Schema = Record<string, unknown>;
@@ -271,8 +272,32 @@ export const ListJobsQuery = {
     state: { type: 'string', enum: ['queued', 'active', 'completed', 'failed'] },
     verdict: { type: 'string', enum: ['pass', 'warn', 'fail'] },
     profile: { type: 'string', maxLength: 64 },
+    q: {
+      type: 'string',
+      minLength: 1,
+      maxLength: 200,
+      description: "Case-insensitive substring of the file name (a URL job: its URL) or the job's externalId.",
+    },
+    submittedFrom: {
+      type: 'string',
+      maxLength: 40,
+      pattern: ISO_DATE_OR_DATE_TIME,
+      description:
+        'Jobs submitted at or after this ISO 8601 date-time (with Z or an offset), or from the start (00:00 UTC) of this date.',
+    },
+    submittedTo: {
+      type: 'string',
+      maxLength: 40,
+      pattern: ISO_DATE_OR_DATE_TIME,
+      description:
+        'Jobs submitted before this ISO 8601 date-time (with Z or an offset), or up to the end (24:00 UTC) of this date.',
+    },
     limit: { type: 'integer', minimum: 1, maximum: 100, default: 20 },
-    cursor: { type: 'string', maxLength: 200 },
+    cursor: {
+      type: 'string',
+      maxLength: 200,
+      description: 'nextCursor of the previous page; send the same filters with it.',
+    },
   },
   additionalProperties: false,
 } as const satisfies ObjectSchema;

@@ -72,6 +72,9 @@ export async function submitJob(
       return { id: existing.jobId, duplicate: true };
     }
   }
+  // One submit time for the job, its createdAt and its index score, so a listing's date range
+  // (bounded by the score) agrees with the createdAt it shows.
+  const submittedAtMs = Date.now();
   const data: AnalyzeJobV1 = {
     tenant,
     source,
@@ -81,14 +84,14 @@ export async function submitJob(
     callbackUrl: input.callbackUrl ?? null,
     externalId: input.externalId ?? null,
     metadata: input.metadata ?? null,
-    submittedAt: new Date().toISOString(),
+    submittedAt: new Date(submittedAtMs).toISOString(),
   };
   try {
     // Fair share between tenants (src/queue/fair-share.ts): a burst from one tenant queues behind
     // another tenant's next job instead of in front of it.
     const priority = await deps.store.fairShare.nextPriority(tenant);
-    await deps.queue.add(ANALYZE_JOB_V1, data, { jobId: id, priority });
-    await deps.store.index.add(tenant, id, Date.now());
+    await deps.queue.add(ANALYZE_JOB_V1, data, { jobId: id, priority, timestamp: submittedAtMs });
+    await deps.store.index.add(tenant, id, submittedAtMs);
   } catch (error) {
     if (idempotencyKey) await deps.store.idempotency.release(tenant, idempotencyKey).catch(() => undefined);
     throw error;

@@ -43,6 +43,12 @@ export interface IndexCursor {
   id: string;
 }
 
+/** Submit times a listing keeps to: at or after fromMs, before toMs (either open). */
+export interface SubmitRange {
+  fromMs?: number;
+  toMs?: number;
+}
+
 export const jobIndexKey = (prefix: string, tenant: string): string => serviceKey(prefix, 'jobs', tenant);
 
 export class JobIndex {
@@ -60,13 +66,25 @@ export class JobIndex {
     await this.redis.zrem(jobIndexKey(this.prefix, tenant), jobId);
   }
 
-  /** Job ids newest first, strictly older than the cursor (score, id). */
-  async page(tenant: string, before: IndexCursor | null, count: number): Promise<IndexCursor[]> {
-    const max = before ? `(${before.scoreMs + 1}` : '+inf';
+  /** Job ids newest first, strictly older than the cursor (score, id), within the range: the
+   * score is the submit time, so Redis starts and stops the scan at the range's ends. */
+  async page(
+    tenant: string,
+    before: IndexCursor | null,
+    count: number,
+    range: SubmitRange = {},
+  ): Promise<IndexCursor[]> {
+    // Both upper bounds are exclusive: the cursor's millisecond is still read for its ties.
+    const below = Math.min(
+      before ? before.scoreMs + 1 : Number.POSITIVE_INFINITY,
+      range.toMs ?? Number.POSITIVE_INFINITY,
+    );
+    const max = Number.isFinite(below) ? `(${below}` : '+inf';
+    const min = range.fromMs === undefined ? '-inf' : String(range.fromMs);
     const raw = await this.redis.zrevrangebyscore(
       jobIndexKey(this.prefix, tenant),
       max,
-      '-inf',
+      min,
       'WITHSCORES',
       'LIMIT',
       0,

@@ -9,7 +9,7 @@ import type { Redis } from 'ioredis';
 import { EarmarkError } from '../errors/index.ts';
 import type { AnalyzeJobV1, AnalyzeResultV1 } from './contract.ts';
 import { deliveriesKey, parseDeliveries, type DeliveryAttempt } from './deliveries.ts';
-import { jobIndexKey, type IndexCursor, type JobIndex } from './job-index.ts';
+import { jobIndexKey, type IndexCursor, type JobIndex, type SubmitRange } from './job-index.ts';
 import { jobView, stateOf, type JobState, type JobView } from './job-view.ts';
 import type { AnalysisQueue } from './queues.ts';
 import type { ReportCache } from './report-cache.ts';
@@ -29,6 +29,15 @@ export interface ListQuery {
   state?: JobState;
   verdict?: 'pass' | 'warn' | 'fail';
   profile?: string;
+  /** Case-insensitive substring of the file name (a URL job: its URL) or the externalId. */
+  search?: string;
+  /** Submit times kept to; the index's score is the submit time, so the scan starts and stops there. */
+  submitted?: SubmitRange;
+}
+
+function matchesSearch(view: JobView, needle: string): boolean {
+  const name = view.source.kind === 'upload' ? view.source.fileName : view.source.url;
+  return name.toLowerCase().includes(needle) || (view.externalId ?? '').toLowerCase().includes(needle);
 }
 
 /** One request examines at most this many index entries, whatever the filters skip. */
@@ -158,8 +167,14 @@ export class JobsRepository {
   async list(tenant: string, query: ListQuery): Promise<{ items: JobView[]; next: IndexCursor | null }> {
     let cursor = query.cursor;
     const items: JobView[] = [];
+    const range = query.submitted ?? {};
+    const needle = query.search?.toLowerCase();
+    // A filter that skips most jobs (a search) would cost a round trip per few rows: each batch
+    // doubles, up to 100 and never past the scan budget.
+    let batch = Math.min(100, query.limit * 2);
     for (let examined = 0; items.length < query.limit && examined < MAX_EXAMINED; ) {
-      const page = await this.index.page(tenant, cursor, Math.min(100, query.limit * 2));
+      const page = await this.index.page(tenant, cursor, Math.min(batch, MAX_EXAMINED - examined), range);
+      batch = Math.min(100, batch * 2);
       if (page.length === 0) {
         cursor = null;
         break;
@@ -177,14 +192,15 @@ export class JobsRepository {
         if (
           (query.state && view.state !== query.state) ||
           (query.verdict && view.verdict !== query.verdict) ||
-          (query.profile && view.profile.id !== query.profile)
+          (query.profile && view.profile.id !== query.profile) ||
+          (needle && !matchesSearch(view, needle))
         )
           continue;
         items.push(view);
         if (items.length === query.limit) break;
       }
     }
-    const more = cursor !== null && (await this.index.page(tenant, cursor, 1)).length > 0;
+    const more = cursor !== null && (await this.index.page(tenant, cursor, 1, range)).length > 0;
     return { items, next: more ? cursor : null };
   }
 }

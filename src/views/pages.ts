@@ -5,6 +5,7 @@ import { declaredLoudnessSection } from './declared-section.ts';
 import { dialogueSection } from './dialogue-section.ts';
 import { downmixSection } from './downmix-section.ts';
 import { escapeXml } from './loudness-plot.ts';
+import { uploadSection } from './upload-section.ts';
 
 function shell(title: string, bodyAttributes: string, main: string, script: string): string {
   return `<!doctype html>
@@ -41,6 +42,7 @@ export function dashboardPage(): string {
 <h2 id="em-counters-title" class="em-counters-title">All your jobs in the queue <small>(the list's filters do not apply here)</small></h2>
 <section id="em-counters" class="em-counters" aria-labelledby="em-counters-title" aria-live="polite"></section>
 <p id="em-live-status" class="em-status" role="status"></p>
+${uploadSection()}
 <section class="em-card" aria-labelledby="em-jobs-title">
   <h2 id="em-jobs-title" style="margin-top:0">Recent jobs</h2>
   <div class="em-filters">
@@ -50,6 +52,14 @@ export function dashboardPage(): string {
       <select id="em-filter-verdict"><option value="">any</option><option>pass</option><option>warn</option><option>fail</option></select></label>
     <label for="em-filter-profile">Profile
       <select id="em-filter-profile"><option value="">any</option></select></label>
+    <label for="em-filter-from"><span>Submitted from <small>(your date)</small></span>
+      <input id="em-filter-from" type="date"></label>
+    <label for="em-filter-to"><span>Submitted to <small>(your date, included)</small></span>
+      <input id="em-filter-to" type="date"></label>
+    <label for="em-filter-q"><span>Search <small>(file name or external ID)</small></span>
+      <input id="em-filter-q" type="search" maxlength="200" autocomplete="off"></label>
+    <label for="em-filter-limit">Rows per page
+      <select id="em-filter-limit"><option>10</option><option>20</option><option selected>50</option><option>100</option></select></label>
   </div>
   <h3 id="em-list-counters-title" class="em-counters-title">In this list</h3>
   <div id="em-list-counters" class="em-counters em-list-counters" aria-labelledby="em-list-counters-title" aria-live="polite"></div>
@@ -60,6 +70,11 @@ export function dashboardPage(): string {
     <tbody id="em-jobs-body"></tbody>
   </table>
   </div>
+  <nav class="em-pager" aria-label="Pages of the list">
+    <button type="button" id="em-page-prev" class="em-quiet" disabled>Previous page</button>
+    <span id="em-page-number" class="em-status" aria-live="polite">Page 1</span>
+    <button type="button" id="em-page-next" class="em-quiet" disabled>Next page</button>
+  </nav>
 </section>`,
     'dashboard.js',
   );

@@ -5,6 +5,7 @@ import type { FromSchema } from 'json-schema-to-ts';
 import { EarmarkError } from '../../errors/index.ts';
 import { bullKeys, type IndexCursor } from '../../queue/job-index.ts';
 import type { AppDeps } from '../deps.ts';
+import { submitRange } from '../list-filters.ts';
 import { route, routesPlugin, type RouteSpec } from '../route-spec.ts';
 import * as S from '../schemas.ts';
 import { submitDirectUpload, submitJob } from '../submit.ts';
@@ -61,7 +62,8 @@ export const jobSpecs = {
     operationId: 'listJobs',
     tag: 'jobs',
     scope: 'read',
-    summary: "The tenant's jobs, newest first, with cursor pagination",
+    summary:
+      "The tenant's jobs, newest first, with cursor pagination; filters by state, verdict, profile, search (q) and submit time",
     querystring: S.ListJobsQuery,
     responses: { 200: { description: 'A page of jobs', schema: S.JobList }, ...S.problems(400, 401, 403, 503) },
   },
@@ -148,9 +150,11 @@ export function jobsPlugin(deps: AppDeps, uploadLimitBytes: number, bodyTimeoutM
       );
 
       route(app, jobSpecs.list, async (request) => {
-        const { cursor, ...filters } = request.query;
+        const { cursor, q, submittedFrom, submittedTo, ...filters } = request.query;
         const page = await deps.jobs.list(principalOf(request).tenant, {
           ...filters,
+          search: q,
+          submitted: submitRange(submittedFrom, submittedTo),
           cursor: cursor ? decodeCursor(cursor) : null,
         });
         return { items: page.items, nextCursor: page.next ? encodeCursor(page.next) : null };

@@ -13,6 +13,7 @@ const ASSET_TYPES: Record<string, string> = {
   'earmark.css': 'text/css; charset=utf-8',
   'common.js': 'text/javascript; charset=utf-8',
   'dashboard.js': 'text/javascript; charset=utf-8',
+  'dashboard-upload.js': 'text/javascript; charset=utf-8',
   'report.js': 'text/javascript; charset=utf-8',
   'format.js': 'text/javascript; charset=utf-8',
   'head-strip.js': 'text/javascript; charset=utf-8',
