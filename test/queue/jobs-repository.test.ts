@@ -1,4 +1,4 @@
-// The jobs repository against the real Redis at 127.0.0.1:6379 (unique prefix): each state reads
+// The jobs repository against the suite's real Redis (unique prefix): each state reads
 // exactly as BullMQ's own getJob + getState + the delivery log give it, tenants stay apart, and a
 // job BullMQ removed drops out of the tenant's index.
 
@@ -8,6 +8,7 @@ import type { Redis } from 'ioredis';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { loadConfig } from '../../src/config/index.ts';
 import { createRedis } from '../../src/queue/connection.ts';
+import { testRedisUrl } from '../helpers/redis.ts';
 import {
   ANALYSIS_QUEUE,
   ANALYZE_JOB_V1,
@@ -50,9 +51,9 @@ const result: AnalyzeResultV1 = {
 };
 
 beforeAll(async () => {
-  redis = createRedis('redis://127.0.0.1:6379', 'worker');
+  redis = createRedis(testRedisUrl(), 'worker');
   const config = loadConfig({
-    REDIS_URL: 'redis://127.0.0.1:6379',
+    REDIS_URL: testRedisUrl(),
     EARMARK_QUEUE_PREFIX: prefix,
     EARMARK_STORAGE_DIR: '/tmp',
     EARMARK_API_KEYS: '[]',
