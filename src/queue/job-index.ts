@@ -74,27 +74,25 @@ export class JobIndex {
     count: number,
     range: SubmitRange = {},
   ): Promise<IndexCursor[]> {
-    // Both upper bounds are exclusive: the cursor's millisecond is still read for its ties.
-    const below = Math.min(
-      before ? before.scoreMs + 1 : Number.POSITIVE_INFINITY,
-      range.toMs ?? Number.POSITIVE_INFINITY,
+    const toMs = range.toMs ?? Number.POSITIVE_INFINITY;
+    // Both upper bounds are exclusive; the cursor's own millisecond is read whole for its ties.
+    const max = Math.min(before ? before.scoreMs : Number.POSITIVE_INFINITY, toMs);
+    const raw = await runScript(
+      this.redis,
+      INDEX_PAGE,
+      [jobIndexKey(this.prefix, tenant)],
+      [
+        before && before.scoreMs < toMs ? before.scoreMs : '',
+        before?.id ?? '',
+        Number.isFinite(max) ? `(${max}` : '+inf',
+        range.fromMs === undefined ? '-inf' : range.fromMs,
+        count,
+      ],
     );
-    const max = Number.isFinite(below) ? `(${below}` : '+inf';
-    const min = range.fromMs === undefined ? '-inf' : String(range.fromMs);
-    const raw = await this.redis.zrevrangebyscore(
-      jobIndexKey(this.prefix, tenant),
-      max,
-      min,
-      'WITHSCORES',
-      'LIMIT',
-      0,
-      count + 50,
-    );
+    if (!isStrings(raw) || raw.length % 2 !== 0) throw new Error('the index page script answered unexpectedly');
     const rows: IndexCursor[] = [];
     for (let i = 0; i < raw.length; i += 2) rows.push({ id: raw[i], scoreMs: Number(raw[i + 1]) });
-    // Same-millisecond ties: ZREVRANGE orders them by member descending, so skip up to the cursor id.
-    const after = before ? rows.filter((r) => r.scoreMs < before.scoreMs || r.id < before.id) : rows;
-    return after.slice(0, count);
+    return rows;
   }
 
   /**
@@ -127,6 +125,26 @@ export class JobIndex {
 // KEYS: tenant index, active list, completed, failed, delayed, prioritized (zsets), finished log.
 // ARGV: job hash prefix (existence checks only), since (ms), retention cut (ms). The active list
 // is short: one entry per running analysis. Waiting is the rest: wait list, paused, children.
+const isStrings = (v: unknown): v is string[] => Array.isArray(v) && v.every((x) => typeof x === 'string');
+
+// A page newest first: the ties at the cursor's millisecond older than its id (read whole, since
+// ZREVRANGEBYSCORE orders ties by member descending and a bounded look-ahead would skip some), then
+// the rows below it. ARGV: cursor ms or '', cursor id, exclusive max, min, count.
+const INDEX_PAGE = script(`
+local out, n = {}, tonumber(ARGV[5])
+if ARGV[1] ~= '' and tonumber(ARGV[1]) >= (tonumber(ARGV[4]) or -math.huge) then
+  for _, id in ipairs(redis.call('ZREVRANGEBYSCORE', KEYS[1], ARGV[1], ARGV[1])) do
+    if #out >= 2 * n then break end
+    if id < ARGV[2] then out[#out + 1] = id; out[#out + 1] = ARGV[1] end
+  end
+end
+if #out < 2 * n then
+  local rest = redis.call('ZREVRANGEBYSCORE', KEYS[1], ARGV[3], ARGV[4], 'WITHSCORES', 'LIMIT', 0, n - #out / 2)
+  for _, v in ipairs(rest) do out[#out + 1] = v end
+end
+return out
+`);
+
 const TENANT_COUNTS = script(`
 local idx = KEYS[1]
 local function inter(other)

@@ -95,6 +95,20 @@ describe('service stores', () => {
     }
     expect(seen).toEqual(['j_a5', 'j_a4', 'j_a3', 'j_a2', 'j_a1']);
   });
+  it('pages through more same-millisecond ties than a page holds, none skipped', async () => {
+    const ids = Array.from({ length: 130 }, (_, i) => `j_t${String(i).padStart(3, '0')}`);
+    for (const id of ids) await store.index.add('t9', id, 5000);
+    await store.index.add('t9', 'j_older', 4000);
+    const seen: string[] = [];
+    let cursor: { id: string; scoreMs: number } | null = null;
+    for (;;) {
+      const page = await store.index.page('t9', cursor, 7);
+      if (page.length === 0) break;
+      seen.push(...page.map((r) => r.id));
+      cursor = page[page.length - 1];
+    }
+    expect(seen).toEqual([...[...ids].reverse(), 'j_older']);
+  });
   it('an idempotency key is claimed once per tenant', async () => {
     expect(await store.idempotency.claim('t1', 'k', 'j_1', 'f1')).toBeNull();
     expect(await store.idempotency.claim('t1', 'k', 'j_2', 'f1')).toEqual({ jobId: 'j_1', fingerprint: 'f1' });
