@@ -232,9 +232,14 @@ function laneParts(lane: Lane, k: number, top: number, x: (s: number) => number,
   return parts;
 }
 
-/** The lane's spans as one path of joined pixel intervals, faint, for the ground under the curves. */
-function spanParts(lane: Lane, x: (s: number) => number, plotTop: number, plotHeight: number): string {
+/**
+ * The lane's spans as one path of joined pixel intervals, faint, for the ground under the curves.
+ * A whole-file finding (a DC offset, a dead channel) says nothing about where: its lane shows it.
+ */
+function spanParts(lane: Lane, x: (s: number) => number, plotTop: number, plotHeight: number): string[] {
+  const whole = x(Number.POSITIVE_INFINITY) - x(0) - 1;
   const intervals = lane.flags
+    .filter(({ flag }) => x(flag.endSeconds) - x(flag.startSeconds) < whole)
     .map(({ flag }) => {
       const start = x(flag.startSeconds);
       return [start, Math.max(start + 1, x(flag.endSeconds))] as [number, number];
@@ -246,9 +251,12 @@ function spanParts(lane: Lane, x: (s: number) => number, plotTop: number, plotHe
     if (last && a <= last[1] + 1) last[1] = Math.max(last[1], b);
     else joined.push([a, b]);
   }
+  if (joined.length === 0) return [];
   const d = joined.map(([a, b]) => `M${fmt(a)} ${plotTop}h${fmt(b - a)}v${plotHeight}h${fmt(a - b)}z`).join('');
   const opacity = lane.severity === 'remark' ? 0.06 : 0.12;
-  return `<path class="em-flag-span em-flag-span-${escapeXml(lane.kind)}" data-kind="${escapeXml(lane.kind)}" d="${d}" fill="${fillOf(lane.kind)}" opacity="${opacity}"/>`;
+  return [
+    `<path class="em-flag-span em-flag-span-${escapeXml(lane.kind)}" data-kind="${escapeXml(lane.kind)}" d="${d}" fill="${fillOf(lane.kind)}" opacity="${opacity}"/>`,
+  ];
 }
 
 export function renderLoudnessPlot(input: PlotInput): string {
@@ -313,7 +321,7 @@ export function renderLoudnessPlot(input: PlotInput): string {
     );
   }
   // Each kind's spans, joined, under the curves: hundreds of flags tint the ground, never hide a line.
-  parts.push(...lanes.map((lane) => spanParts(lane, x, plotTop, plotHeight)));
+  parts.push(...lanes.flatMap((lane) => spanParts(lane, x, plotTop, plotHeight)));
   if (input.speech) parts.push(...speechLane(input.speech, x, plotTop + plotHeight - SPEECH_LANE_PX, input.formatTime));
   if (input.dialogueLufs !== undefined)
     parts.push(
