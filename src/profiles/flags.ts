@@ -67,7 +67,10 @@ type Draft = Pick<
   | 'worstValue'
   | 'count'
   | 'detections'
-> & { message?: string; /** When the kind's unit does not fit this finding (declared loudness: LU or dB). */ unit?: string };
+> & {
+  message?: string /** When the kind's unit does not fit this finding (declared loudness: LU or dB). */;
+  unit?: string;
+};
 
 /** The flag kind each engine event becomes. */
 const EVENT_FLAGS: Record<EventKind, FlagKind> = {

@@ -277,12 +277,12 @@ export function renderLoudnessPlot(input: PlotInput): string {
     plotTop + ((topLufs - Math.min(Math.max(lufs, bottomLufs), topLufs)) / (topLufs - bottomLufs)) * plotHeight;
   const parts: string[] = [];
   parts.push(
-    `<svg xmlns="http://www.w3.org/2000/svg" class="em-plot" viewBox="0 0 ${width} ${height}" role="img" aria-labelledby="em-plot-title">`,
+    `<svg xmlns="http://www.w3.org/2000/svg" class="em-plot" viewBox="0 0 ${width} ${height}" role="img" aria-labelledby="em-plot-svg-title">`,
   );
   const remarks = input.flags.filter((f) => f.severity === 'remark').length;
   const problems = input.flags.length - remarks;
   parts.push(
-    `<title id="em-plot-title">Momentary and short-term loudness over ${escapeXml(input.formatTime(duration))}, with ${problems} flagged problem${problems === 1 ? '' : 's'}${remarks ? ` and ${remarks} remark${remarks === 1 ? '' : 's'}` : ''}</title>`,
+    `<title id="em-plot-svg-title">Momentary and short-term loudness over ${escapeXml(input.formatTime(duration))}, with ${problems} flagged problem${problems === 1 ? '' : 's'}${remarks ? ` and ${remarks} remark${remarks === 1 ? '' : 's'}` : ''}</title>`,
   );
   parts.push(`<rect class="em-plot-bg" x="${plotLeft}" y="${plotTop}" width="${plotWidth}" height="${plotHeight}"/>`);
   if (input.targetBand) {

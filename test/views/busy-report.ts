@@ -99,7 +99,8 @@ function busyFlags(): Flag[] {
   const drafts: Omit<Flag, 'number' | 'message'>[] = [];
   for (const spec of BUSY_KINDS) {
     for (let i = 0; i < spec.flags; i++) {
-      const start = spec.seconds >= BUSY_SECONDS ? 0 : Math.floor(random() * (BUSY_SECONDS - spec.seconds) * 1000) / 1000;
+      const start =
+        spec.seconds >= BUSY_SECONDS ? 0 : Math.floor(random() * (BUSY_SECONDS - spec.seconds) * 1000) / 1000;
       const end = Math.min(BUSY_SECONDS, start + spec.seconds);
       const channel = spec.kind === 'clipping' || spec.kind === 'dropout' || spec.kind === 'dc_offset' ? i % 2 : null;
       const worstValue = spec.worst(random);
@@ -125,7 +126,11 @@ function busyFlags(): Flag[] {
     }
   }
   drafts.sort((a, b) => a.startSample - b.startSample || (a.channel ?? -1) - (b.channel ?? -1));
-  return drafts.map((d, i) => ({ number: i + 1, ...d, message: `${d.title}, ${d.channelName}, at ${d.startTimecode}` }));
+  return drafts.map((d, i) => ({
+    number: i + 1,
+    ...d,
+    message: `${d.title}, ${d.channelName}, at ${d.startTimecode}`,
+  }));
 }
 
 export const BUSY_CHANNELS: ChannelSummary[] = [
@@ -209,14 +214,21 @@ export function busyReport(): QcReport {
     headline: `FAIL: ${counts.fail} clip runs and gaps in a 10-minute programme`,
     integrity: { intact: true, severity: 'fail', problems: [] },
     file: { name: 'night-market-episode-12-final-mix-v3.wav', sizeBytes: 345_600_044 },
-    format: { ...base.format, frames: BUSY_SECONDS * SAMPLE_RATE, framesDecoded: BUSY_SECONDS * SAMPLE_RATE, durationSeconds: BUSY_SECONDS },
+    format: {
+      ...base.format,
+      frames: BUSY_SECONDS * SAMPLE_RATE,
+      framesDecoded: BUSY_SECONDS * SAMPLE_RATE,
+      durationSeconds: BUSY_SECONDS,
+    },
     channels: BUSY_CHANNELS,
     downmix: { measured: true, loRo: null, mono: null, channelIntegratedLufs: [-19.6, -20.1], note: null },
     series: {
       momentary: {
         pointsPerSecond: 10,
         firstAtSeconds: 0.1,
-        lufs: Array.from({ length: BUSY_SECONDS * 10 }, (_, i) => (i < 3 ? null : -16 + 4 * Math.sin(i / 40) + 2 * random())),
+        lufs: Array.from({ length: BUSY_SECONDS * 10 }, (_, i) =>
+          i < 3 ? null : -16 + 4 * Math.sin(i / 40) + 2 * random(),
+        ),
       },
       shortTerm: {
         pointsPerSecond: 1,

@@ -27,7 +27,8 @@ describe('renderLoudnessPlot', () => {
     expect(svg).toMatch(/<rect class="em-plot-bg" [^>]*fill="#fbf8f1"/);
     expect(svg).toMatch(/<g class="em-flag em-flag-clipping [^>]*fill="#a33a2f"/);
     expect(svg).toMatch(/<text class="em-lane-label" [^>]*fill="#59626e"/);
-    for (const m of svg.matchAll(/<path class="em-flag-span [^>]*>/g)) expect(m[0]).toMatch(/fill="#[0-9a-f]{6}" opacity="0.12"/);
+    for (const m of svg.matchAll(/<path class="em-flag-span [^>]*>/g))
+      expect(m[0]).toMatch(/fill="#[0-9a-f]{6}" opacity="0.12"/);
   });
 
   it('draws one speech bar per run of speech blocks (block k spans k/10 s to k/10 + 0.4 s) and the dialogue line', () => {
@@ -60,7 +61,9 @@ describe('renderLoudnessPlot', () => {
         ],
       }),
     );
-    expect(svg).toMatch(/<g class="em-flag em-flag-clipping em-sev-remark" data-flag-index="2" opacity="0.45" fill="[^"]+">/);
+    expect(svg).toMatch(
+      /<g class="em-flag em-flag-clipping em-sev-remark" data-flag-index="2" opacity="0.45" fill="[^"]+">/,
+    );
     expect(svg).not.toMatch(/em-sev-fail"[^>]*opacity/);
     // Painted first, so the fail marker at 12 s stays on top of it.
     expect(svg.indexOf('data-flag-index="2"')).toBeLessThan(svg.indexOf('data-flag-index="0"'));
