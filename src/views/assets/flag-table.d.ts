@@ -29,4 +29,3 @@ export function renderFlagTable(
   report: object,
   actions: { show: (flag: Viewed, index: number) => void; listen: (flag: Viewed) => void },
 ): void;
-export function revealFlagRow(index: number): unknown;

@@ -191,14 +191,3 @@ export function renderFlagTable(report, actions) {
     ? `${report.flagsTotal - report.flags.length} more flags not listed (the report keeps ${report.flags.length}, fail flags first).`
     : '';
 }
-
-/** Opens the group of a flag (when closed), so a flag chosen elsewhere is in view. */
-export function revealFlagRow(index) {
-  const row = document.getElementById(`em-flag-row-${index}`);
-  if (!row?.hidden) return row;
-  const toggle = [...document.querySelectorAll('.em-group-toggle')].find((b) =>
-    b.getAttribute('aria-controls').split(' ').includes(row.id),
-  );
-  toggle?.click();
-  return row;
-}

@@ -8,7 +8,7 @@ import { renderDeclaredLoudness } from './declared.js';
 import { renderDialogue } from './dialogue.js';
 import { renderDownmix } from './downmix.js';
 import { renderChannels } from './channels.js';
-import { renderFlagTable, revealFlagRow } from './flag-table.js';
+import { renderFlagTable } from './flag-table.js';
 import { dateTimeText, failureHint, flagCountsText, headlineNamesVerdict, outcomeText } from './format.js';
 
 const jobId = document.body.dataset.jobId;
@@ -27,7 +27,6 @@ function moveCursor(flag, index) {
   cursor.setAttribute('x2', String(x));
   cursor.setAttribute('visibility', 'visible');
   cursor.dataset.flagIndex = String(index);
-  revealFlagRow(index);
   for (const item of document.querySelectorAll('#em-flags-body tr.em-flag-item'))
     item.classList.toggle('em-selected', item.dataset.flagIndex === String(index));
   document.getElementById('em-cursor-status').textContent =
