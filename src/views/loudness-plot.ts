@@ -40,8 +40,8 @@ export interface PlotInput {
 
 const MARGIN = { left: 56, right: 16, top: 34, bottom: 40 };
 /** One lane per flag kind above the curves: a label line, then the kind's markers. */
-const LANE_PX = 22;
-const LANE_LABEL_PX = 10;
+const LANE_PX = 24;
+const LANE_LABEL_PX = 12;
 const LANE_BAR_PX = 9;
 const LANES_TOP_PX = 6;
 const TIME_STEPS_SECONDS = [1, 2, 5, 10, 15, 30, 60, 120, 300, 600, 900, 1800, 3600, 7200];
@@ -213,7 +213,7 @@ function laneParts(lane: Lane, k: number, top: number, x: (s: number) => number,
   const parts = [
     `<g class="em-lane em-lane-${escapeXml(lane.kind)}" data-kind="${escapeXml(lane.kind)}" data-lane="${k}">`,
     `<rect class="em-lane-bg" x="${left}" y="${top + LANE_LABEL_PX + 1}" width="${plotWidth}" height="${LANE_BAR_PX}"/>`,
-    `<text class="em-lane-label" x="${left}" y="${top + LANE_LABEL_PX - 1}">${escapeXml(lane.title)} · ${n} flag${n === 1 ? '' : 's'}</text>`,
+    `<text class="em-lane-label" x="${left}" y="${top + LANE_LABEL_PX - 2}">${escapeXml(lane.title)} · ${n} flag${n === 1 ? '' : 's'}</text>`,
   ];
   const order = [...lane.flags].sort(
     (a, b) => Number(b.flag.severity === 'remark') - Number(a.flag.severity === 'remark') || a.index - b.index,
@@ -311,8 +311,10 @@ export function renderLoudnessPlot(input: PlotInput): string {
     parts.push(
       `<line class="em-tick" x1="${fmt(x(t))}" x2="${fmt(x(t))}" y1="${plotTop + plotHeight}" y2="${plotTop + plotHeight + 5}"/>`,
     );
+    // A label at the right edge hangs inward, so it is not cut off.
+    const anchor = x(t) > plotLeft + plotWidth - 30 ? 'end' : 'middle';
     parts.push(
-      `<text class="em-axis-label" x="${fmt(x(t))}" y="${plotTop + plotHeight + 18}" text-anchor="middle">${escapeXml(input.formatTime(t))}</text>`,
+      `<text class="em-axis-label" x="${fmt(x(t))}" y="${plotTop + plotHeight + 18}" text-anchor="${anchor}">${escapeXml(input.formatTime(t))}</text>`,
     );
   }
   if (input.shortTermLimitLufs !== undefined) {

@@ -22,7 +22,7 @@ interface PageGlobals {
     querySelector(selector: string): unknown;
   };
   innerWidth: number;
-  getComputedStyle(node: unknown): { display: string; visibility: string; fill: string };
+  getComputedStyle(node: unknown): { display: string; fill: string; backgroundColor: string };
 }
 
 const completedJob = (id: string, report: QcReport) => ({

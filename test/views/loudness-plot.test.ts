@@ -85,8 +85,9 @@ describe('renderLoudnessPlot', () => {
     // The lane's words come from the first flag with a title; a flag without one lends its kind.
     expect(svg).toContain('>Clip · 2 flags</text>');
     expect(svg).toContain('>silence · 1 flag</text>');
-    // 320 px with one lane; two more lanes of 22 px each.
-    expect(svg).toContain('viewBox="0 0 960 364"');
+    // The curves keep their 246 px (320 - 34 - 40); three lanes of 24 px from y = 6, 6 px apart, then the curves and the axis.
+    expect(svg).toContain('viewBox="0 0 960 370"');
+    expect(svg).toContain('<rect class="em-plot-bg" x="56" y="84" width="888" height="246"');
   });
 
   it('places a flag at its time on the axis: 30 s of 60 s is half-way across the plot area', () => {

@@ -75,7 +75,8 @@ export function flagGroups(rawFlags) {
   return groups.sort((a, b) => RANK[a.severity] - RANK[b.severity] || a.startSeconds - b.startSeconds);
 }
 
-const cell = (label, ...children) => el('td', { 'data-label': label }, ...children);
+/** One wrapper per cell: on a phone the cell is a two-column grid (its label, then this). */
+const cell = (label, ...children) => el('td', { 'data-label': label }, el('span', { class: 'em-cell' }, ...children));
 const timeCell = (label, timecode, seconds) =>
   cell(
     label,
