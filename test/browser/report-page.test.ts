@@ -186,9 +186,25 @@ describe.skipIf(!hasTool('chromium'))('report page in Chromium', () => {
         explanation: '260 clipping runs (4212 + 3980 samples at or over -0.1 dBFS) where none are allowed',
       },
     ];
+    // And a declared-loudness table of five columns.
+    report.declaredLoudness = [
+      {
+        source: 'bext',
+        rows: [
+          { field: 'integratedLufs', unit: 'LUFS', declared: -23, measured: -16.2, measuredMinusDeclared: 6.8 },
+          { field: 'maxTruePeakDbtp', unit: 'dBTP', declared: -1, measured: 0.6, measuredMinusDeclared: 1.6 },
+        ],
+      },
+    ];
     const page = await openReport(id, completedJob(id, report), report, { width: 375, height: 812 });
     await page.waitForSelector('#em-report-body:not([hidden]) .em-plot');
+    await page.waitForSelector('#em-declared:not([hidden])');
     expect(await noSidewaysScroll(page)).toBe(true);
+    // Stacked, the declared table needs no sideways scroll of its own either.
+    const declaredScrolls = await page
+      .locator('#em-declared table')
+      .evaluate((node) => (node as { scrollWidth: number }).scrollWidth > 375);
+    expect(declaredScrolls).toBe(false);
     await page.locator('#em-flags-body tr.em-flag-group[data-kind="clipping"] .em-group-toggle').click();
     expect(await noSidewaysScroll(page)).toBe(true);
     const outcome = page.locator('#em-checks-body tr[data-rule-id="no-clips"] td[data-label="Outcome"]');
