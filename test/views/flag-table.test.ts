@@ -2,7 +2,15 @@
 // and seconds, duration, count, worst value with its unit, channel name, rule; a repeating kind
 // becomes one group with its totals.
 import { describe, expect, it } from 'vitest';
-import { channelCellText, durationText, flagGroups, ruleText, worstText } from '../../src/views/assets/flag-table.js';
+import {
+  channelCellText,
+  durationText,
+  flagGroups,
+  lengthText,
+  ruleText,
+  secondsText,
+  worstText,
+} from '../../src/views/assets/flag-table.js';
 import { flagView } from '../../src/views/assets/format.js';
 import { BUSY_KINDS, busyReport } from './busy-report.ts';
 import { sampleFlags } from './sample-report.ts';
@@ -20,6 +28,16 @@ describe('flag table', () => {
     expect(ruleText(cut)).toBe('none');
     expect(channelCellText(cut)).toBe('all');
     expect(channelCellText({ channelName: '2 R', otherChannelName: '1 L' })).toBe('2 R with 1 L');
+  });
+
+  it('cuts seconds down to the millisecond as the timecode does, and gives short lengths in ms', () => {
+    // 239986 samples at 48 kHz = 4.99970833 s: in frame 124 at 25 fps (00:00:04:24), so 4.999 s, not 5.000 s.
+    expect(secondsText(239986 / 48000)).toBe('4.999 s');
+    expect(secondsText(0.453)).toBe('0.453 s');
+    expect(secondsText(12)).toBe('12.000 s');
+    // A 24-sample clip run at 48 kHz lasts 0.5 ms.
+    expect(lengthText(24 / 48000)).toBe('0.5 ms');
+    expect(lengthText(0.3)).toBe('0.300 s');
   });
 
   it('reads a null level of a dropout or gap as digital silence (analysis/events.ts: no peakValue for digital zero)', () => {

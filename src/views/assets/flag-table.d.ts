@@ -20,6 +20,7 @@ export interface FlagGroup {
 }
 
 export function secondsText(seconds: number): string;
+export function lengthText(seconds: number): string;
 export function worstText(flag: Pick<FlagLike, 'worstValue' | 'unit'> & { kind: string }): string;
 export function durationText(flag: { startSeconds: number; endSeconds: number }): string;
 export function channelCellText(flag: Pick<FlagLike, 'channelName' | 'otherChannelName'>): string;

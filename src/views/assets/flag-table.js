@@ -8,7 +8,12 @@ const RANK = { fail: 0, warn: 1, remark: 2 };
 /** Kinds whose level is absent only for digital zero (analysis/events.ts: no peakValue for digital silence). */
 const DIGITAL_ZERO_KINDS = new Set(['silence', 'silence_gap', 'dropout', 'dead_channel']);
 
-export const secondsText = (seconds) => `${seconds.toFixed(3)} s`;
+/** Seconds to the millisecond, cut down as the timecode is (a sample at 4.9997 s is in 00:00:04:24, so 4.999 s). */
+export const secondsText = (seconds) => `${(Math.floor(seconds * 1000 + 1e-6) / 1000).toFixed(3)} s`;
+
+/** A length: milliseconds under 0.1 s (a 24-sample clip run is 0.5 ms, not "0.000 s"), else seconds. */
+export const lengthText = (seconds) =>
+  seconds < 0.1 ? `${(seconds * 1000).toFixed(1)} ms` : `${seconds.toFixed(3)} s`;
 
 /** The worst value with its unit; "digital silence" where the kind's level is null for that alone. */
 export function worstText(flag) {
@@ -18,7 +23,7 @@ export function worstText(flag) {
 }
 
 export function durationText(flag) {
-  return flag.endSeconds > flag.startSeconds ? secondsText(flag.endSeconds - flag.startSeconds) : 'point';
+  return flag.endSeconds > flag.startSeconds ? lengthText(flag.endSeconds - flag.startSeconds) : 'point';
 }
 
 /** "2 R", "all", or "2 R with 1 L" for a pair. */
@@ -164,7 +169,7 @@ function groupRow(group) {
     cell('Severity', severityBadge(group.severity), ' ', el('small', {}, 'strictest')),
     timeCell('First start', group.startTimecode, group.startSeconds),
     timeCell('Last end', group.endTimecode, group.endSeconds),
-    cell('Duration', `${secondsText(group.durationSeconds)} in all`),
+    cell('Duration', `${lengthText(group.durationSeconds)} in all`),
     cell('Count', String(group.count)),
     cell('Worst', group.worst),
     cell('Channel', group.channels),
