@@ -6,7 +6,8 @@ export function flagsSection(): string {
 <section id="em-flags-card" class="em-card" aria-labelledby="em-flags-title">
   <h2 id="em-flags-title" style="margin-top:0">Flags</h2>
   <p id="em-flag-counts" class="em-flag-counts"></p>
-  <p class="em-status">A kind that repeats is one row with its totals: open it for each flag. A remark is shown for your ears only: no rule of this profile judges it, so it never changes the verdict. Choose a flag to put the plot's cursor on it.</p>
+  <p class="em-status">A remark is shown for your ears only: no rule of this profile judges it, so it never changes the verdict.</p>
+  <p class="em-status em-screen-only">A kind that repeats is one row with its totals: open it for each flag. Choose a flag to put the plot's cursor on it.</p>
   <table id="em-flags" class="em-flag-table em-stack">
     <thead><tr><th scope="col">Flag</th><th scope="col">Severity</th><th scope="col">Start</th><th scope="col">End</th><th scope="col">Duration</th><th scope="col">Count</th><th scope="col">Worst</th><th scope="col">Channel</th><th scope="col">Rule</th><th scope="col"><span class="em-visually-hidden">Listen</span></th></tr></thead>
     <tbody id="em-flags-body"></tbody>
