@@ -26,7 +26,9 @@ export function declaredLoudnessDrafts(
     channel: null,
     startSample: 0,
     endSample: doc.format.framesDecoded,
-    worstValue: null,
+    // Measured minus declared, in the figure's own gap unit.
+    worstValue: m.row.measuredMinusDeclared,
+    unit: m.row.unit === 'dBTP' ? 'dB' : 'LU',
     count: 1,
     detections: 1,
     message: `Declared loudness differs: ${mismatchText(m)}`,

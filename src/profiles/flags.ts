@@ -36,15 +36,15 @@ export const FLAG_KINDS: Record<FlagKind, { title: string; unit: string | null }
   dropout: { title: 'Dropout', unit: 'dBFS' },
   silence_gap: { title: 'Gap in programme', unit: 'dBFS' },
   silence: { title: 'Silence', unit: 'dBFS' },
-  head_silence: { title: 'Silence at head', unit: null },
-  tail_silence: { title: 'Silence at tail', unit: null },
+  head_silence: { title: 'Silence at head', unit: 'dBFS' },
+  tail_silence: { title: 'Silence at tail', unit: 'dBFS' },
   true_peak_over: { title: 'True-peak over', unit: 'dBTP' },
   loud_short_term: { title: 'Short-term loudness over', unit: 'LUFS' },
   loud_momentary: { title: 'Momentary loudness over', unit: 'LUFS' },
   phase_problem: { title: 'Anti-phase passage', unit: 'correlation' },
   dead_channel: { title: 'Dead channel', unit: null },
-  duplicate_channel: { title: 'Duplicate channel', unit: null },
-  inverted_channel: { title: 'Inverted channel', unit: null },
+  duplicate_channel: { title: 'Duplicate channel', unit: 'correlation' },
+  inverted_channel: { title: 'Inverted channel', unit: 'correlation' },
   dc_offset: { title: 'DC offset', unit: 'dBFS' },
   line_up_tone: { title: 'Line-up tone', unit: 'dBFS' },
   tone_into_programme: { title: 'Tone into programme', unit: null },
@@ -67,7 +67,10 @@ type Draft = Pick<
   | 'worstValue'
   | 'count'
   | 'detections'
-> & { message?: string };
+> & {
+  message?: string /** When the kind's unit does not fit this finding (declared loudness: LU or dB). */;
+  unit?: string;
+};
 
 /** The flag kind each engine event becomes. */
 const EVENT_FLAGS: Record<EventKind, FlagKind> = {
@@ -180,6 +183,20 @@ export function ruleVerdict(
   return { ruleId: rules[0]?.id ?? null, severity: 'remark' };
 }
 
+/**
+ * The loudest sample (dBFS) of the all-channel silence events inside a span: the worst value of a
+ * head or tail silence. Null when they are digital silence, or when no event lies there.
+ */
+function loudestInSilence(doc: AnalysisDocument, startSample: number, endSample: number): number | null {
+  let loudest: number | null = null;
+  for (const e of doc.events) {
+    if (e.kind !== 'silence' || e.channel !== null || e.peakValue === undefined) continue;
+    if (e.endFrame <= startSample || e.startFrame >= endSample) continue;
+    loudest = loudest === null ? e.peakValue : Math.max(loudest, e.peakValue);
+  }
+  return loudest;
+}
+
 function edgeDrafts(profile: Profile, doc: AnalysisDocument, checks: Map<string, CheckResult>): Draft[] {
   const frames = doc.format.framesDecoded;
   const rate = doc.format.sampleRate;
@@ -194,13 +211,15 @@ function edgeDrafts(profile: Profile, doc: AnalysisDocument, checks: Map<string,
     const judged = ruleVerdict(profile, checks, type);
     if (seconds <= 0 || (judged.severity === 'remark' && seconds < notable)) continue;
     const length = Math.min(frames, Math.round(seconds * rate));
+    const startSample = head ? lead.startSample : frames - length;
+    const endSample = head ? lead.endSample : frames;
     out.push({
       kind: head ? 'head_silence' : 'tail_silence',
       ...judged,
       channel: null,
-      startSample: head ? lead.startSample : frames - length,
-      endSample: head ? lead.endSample : frames,
-      worstValue: null,
+      startSample,
+      endSample,
+      worstValue: loudestInSilence(doc, startSample, endSample),
       count: 1,
       detections: 1,
     });
@@ -336,11 +355,11 @@ export function buildFlags(
     );
   const origin = doc.format.timeReferenceSamples;
   const flags = chosen.map((d, i): Flag => {
-    const { message, ...rest } = d;
+    const { message, unit, ...rest } = d;
     const base = {
       ...rest,
       title: FLAG_KINDS[d.kind].title,
-      unit: d.worstValue === null ? null : FLAG_KINDS[d.kind].unit,
+      unit: d.worstValue === null ? null : (unit ?? FLAG_KINDS[d.kind].unit),
       channelName: channelName(doc, d.channel),
       ...(d.otherChannel !== undefined ? { otherChannelName: channelName(doc, d.otherChannel) } : {}),
       startSeconds: d.startSample / sampleRate,

@@ -7,7 +7,7 @@ export function declaredLoudnessSection(): string {
   <p class="em-status">What the file's metadata (BWF bext version 2, iXML) says about its loudness, beside our reading.</p>
   <p id="em-declared-note" class="em-status"></p>
   <div style="overflow-x:auto">
-  <table><thead><tr><th scope="col">Source</th><th scope="col">Quantity</th><th scope="col" class="em-num">Declared</th><th scope="col" class="em-num">Measured</th><th scope="col" class="em-num">Measured − declared</th></tr></thead><tbody id="em-declared-body"></tbody></table>
+  <table class="em-stack"><thead><tr><th scope="col">Source</th><th scope="col">Quantity</th><th scope="col" class="em-num">Declared</th><th scope="col" class="em-num">Measured</th><th scope="col" class="em-num">Measured − declared</th></tr></thead><tbody id="em-declared-body"></tbody></table>
   </div>
 </section>`;
 }

@@ -15,6 +15,8 @@ export interface PlotFlag {
   startSeconds: number;
   endSeconds: number;
   label: string;
+  /** Words for the kind, shown on its lane ("Clipping run"); the kind's own words when absent. */
+  title?: string;
 }
 
 export interface PlotInput {
@@ -37,7 +39,11 @@ export interface PlotInput {
 }
 
 const MARGIN = { left: 56, right: 16, top: 34, bottom: 40 };
-const FLAG_LANE_PX = 16;
+/** One lane per flag kind above the curves: a label line, then the kind's markers. */
+const LANE_PX = 24;
+const LANE_LABEL_PX = 12;
+const LANE_BAR_PX = 9;
+const LANES_TOP_PX = 6;
 const TIME_STEPS_SECONDS = [1, 2, 5, 10, 15, 30, 60, 120, 300, 600, 900, 1800, 3600, 7200];
 
 export function escapeXml(text: string): string {
@@ -128,7 +134,8 @@ const PAINT: Record<string, string> = {
   'em-short-term': 'fill="none" stroke="#1c6e7d" stroke-width="2"',
   'em-speech': 'fill="#b5792c" opacity="0.7"',
   'em-dialogue-line': 'stroke="#b5792c" stroke-width="1.5"',
-  'em-flag-span': 'opacity="0.12"',
+  'em-lane-bg': 'fill="#f4f1ea"',
+  'em-lane-label': 'fill="#59626e" font-family="sans-serif" font-size="10"',
   'em-cursor': 'stroke="#1f2833" stroke-width="2"',
 };
 const FLAG_FILL: Record<string, string> = {
@@ -170,13 +177,99 @@ function speechLane(
   );
 }
 
+interface Lane {
+  kind: string;
+  title: string;
+  /** The strictest severity in the lane. */
+  severity: PlotFlag['severity'];
+  flags: { flag: PlotFlag; index: number }[];
+}
+
+const rank = (s: PlotFlag['severity']) => (s === 'fail' ? 0 : s === 'warn' ? 1 : 2);
+
+/** One lane per kind: the strictest first, then by first appearance. */
+function flagLanes(flags: readonly PlotFlag[]): Lane[] {
+  const byKind = new Map<string, Lane>();
+  flags.forEach((flag, index) => {
+    let lane = byKind.get(flag.kind);
+    if (!lane) {
+      lane = { kind: flag.kind, title: '', severity: flag.severity, flags: [] };
+      byKind.set(flag.kind, lane);
+    }
+    if (!lane.title && flag.title) lane.title = flag.title;
+    if (rank(flag.severity) < rank(lane.severity)) lane.severity = flag.severity;
+    lane.flags.push({ flag, index });
+  });
+  for (const lane of byKind.values()) lane.title ||= lane.kind.replace(/_/g, ' ');
+  return [...byKind.values()].sort((a, b) => rank(a.severity) - rank(b.severity));
+}
+
+const fillOf = (kind: string) => FLAG_FILL[kind] ?? '#6b6f7e';
+
+/** A labelled strip with one marker per flag; remarks first, so a fail or warn is never painted over by one. */
+function laneParts(lane: Lane, k: number, top: number, x: (s: number) => number, plotWidth: number): string[] {
+  const left = x(0);
+  const n = lane.flags.length;
+  const parts = [
+    `<g class="em-lane em-lane-${escapeXml(lane.kind)}" data-kind="${escapeXml(lane.kind)}" data-lane="${k}">`,
+    `<rect class="em-lane-bg" x="${left}" y="${top + LANE_LABEL_PX + 1}" width="${plotWidth}" height="${LANE_BAR_PX}"/>`,
+    `<text class="em-lane-label" x="${left}" y="${top + LANE_LABEL_PX - 2}">${escapeXml(lane.title)} · ${n} flag${n === 1 ? '' : 's'}</text>`,
+  ];
+  const order = [...lane.flags].sort(
+    (a, b) => Number(b.flag.severity === 'remark') - Number(a.flag.severity === 'remark') || a.index - b.index,
+  );
+  for (const { flag, index } of order) {
+    const start = x(flag.startSeconds);
+    const markerWidth = Math.max(3, x(flag.endSeconds) - start);
+    // The opacity is an attribute, not only CSS, so the SVG fetched on its own shows it too.
+    parts.push(
+      `<g class="em-flag em-flag-${escapeXml(flag.kind)} em-sev-${flag.severity}" data-flag-index="${index}"${flag.severity === 'remark' ? ' opacity="0.45"' : ''} fill="${fillOf(flag.kind)}">` +
+        `<rect x="${fmt(start)}" y="${top + LANE_LABEL_PX + 1}" width="${fmt(markerWidth)}" height="${LANE_BAR_PX}"/>` +
+        `<title>${escapeXml(flag.label)}</title></g>`,
+    );
+  }
+  parts.push('</g>');
+  return parts;
+}
+
+/**
+ * The lane's spans as one path of joined pixel intervals, faint, for the ground under the curves.
+ * A whole-file finding (a DC offset, a dead channel) says nothing about where: its lane shows it.
+ */
+function spanParts(lane: Lane, x: (s: number) => number, plotTop: number, plotHeight: number): string[] {
+  const whole = x(Number.POSITIVE_INFINITY) - x(0) - 1;
+  const intervals = lane.flags
+    .filter(({ flag }) => x(flag.endSeconds) - x(flag.startSeconds) < whole)
+    .map(({ flag }) => {
+      const start = x(flag.startSeconds);
+      return [start, Math.max(start + 1, x(flag.endSeconds))] as [number, number];
+    })
+    .sort((a, b) => a[0] - b[0]);
+  const joined: [number, number][] = [];
+  for (const [a, b] of intervals) {
+    const last = joined.at(-1);
+    if (last && a <= last[1] + 1) last[1] = Math.max(last[1], b);
+    else joined.push([a, b]);
+  }
+  if (joined.length === 0) return [];
+  const d = joined.map(([a, b]) => `M${fmt(a)} ${plotTop}h${fmt(b - a)}v${plotHeight}h${fmt(a - b)}z`).join('');
+  const opacity = lane.severity === 'remark' ? 0.06 : 0.12;
+  return [
+    `<path class="em-flag-span em-flag-span-${escapeXml(lane.kind)}" data-kind="${escapeXml(lane.kind)}" d="${d}" fill="${fillOf(lane.kind)}" opacity="${opacity}"/>`,
+  ];
+}
+
 export function renderLoudnessPlot(input: PlotInput): string {
   const width = input.widthPx ?? 960;
-  const height = input.heightPx ?? 320;
+  const lanes = flagLanes(input.flags);
+  // The curves keep their height; each lane adds its own above them.
+  const plotHeight = (input.heightPx ?? 320) - MARGIN.top - MARGIN.bottom;
+  const lanesTop = LANES_TOP_PX;
+  const laneTop = (k: number) => lanesTop + k * LANE_PX;
+  const plotTop = Math.max(MARGIN.top, laneTop(lanes.length) + 6);
+  const height = plotTop + plotHeight + MARGIN.bottom;
   const plotLeft = MARGIN.left;
-  const plotTop = MARGIN.top;
   const plotWidth = width - MARGIN.left - MARGIN.right;
-  const plotHeight = height - MARGIN.top - MARGIN.bottom;
   const duration = Math.max(input.durationSeconds, 1e-3);
   const [bottomLufs, topLufs] = loudnessRange(input);
   const x = (seconds: number) => plotLeft + (Math.min(Math.max(seconds, 0), duration) / duration) * plotWidth;
@@ -184,12 +277,12 @@ export function renderLoudnessPlot(input: PlotInput): string {
     plotTop + ((topLufs - Math.min(Math.max(lufs, bottomLufs), topLufs)) / (topLufs - bottomLufs)) * plotHeight;
   const parts: string[] = [];
   parts.push(
-    `<svg xmlns="http://www.w3.org/2000/svg" class="em-plot" viewBox="0 0 ${width} ${height}" role="img" aria-labelledby="em-plot-title">`,
+    `<svg xmlns="http://www.w3.org/2000/svg" class="em-plot" viewBox="0 0 ${width} ${height}" role="img" aria-labelledby="em-plot-svg-title">`,
   );
   const remarks = input.flags.filter((f) => f.severity === 'remark').length;
   const problems = input.flags.length - remarks;
   parts.push(
-    `<title id="em-plot-title">Momentary and short-term loudness over ${escapeXml(input.formatTime(duration))}, with ${problems} flagged problem${problems === 1 ? '' : 's'}${remarks ? ` and ${remarks} remark${remarks === 1 ? '' : 's'}` : ''}</title>`,
+    `<title id="em-plot-svg-title">Momentary and short-term loudness over ${escapeXml(input.formatTime(duration))}, with ${problems} flagged problem${problems === 1 ? '' : 's'}${remarks ? ` and ${remarks} remark${remarks === 1 ? '' : 's'}` : ''}</title>`,
   );
   parts.push(`<rect class="em-plot-bg" x="${plotLeft}" y="${plotTop}" width="${plotWidth}" height="${plotHeight}"/>`);
   if (input.targetBand) {
@@ -218,8 +311,10 @@ export function renderLoudnessPlot(input: PlotInput): string {
     parts.push(
       `<line class="em-tick" x1="${fmt(x(t))}" x2="${fmt(x(t))}" y1="${plotTop + plotHeight}" y2="${plotTop + plotHeight + 5}"/>`,
     );
+    // A label at the right edge hangs inward, so it is not cut off.
+    const anchor = x(t) > plotLeft + plotWidth - 30 ? 'end' : 'middle';
     parts.push(
-      `<text class="em-axis-label" x="${fmt(x(t))}" y="${plotTop + plotHeight + 18}" text-anchor="middle">${escapeXml(input.formatTime(t))}</text>`,
+      `<text class="em-axis-label" x="${fmt(x(t))}" y="${plotTop + plotHeight + 18}" text-anchor="${anchor}">${escapeXml(input.formatTime(t))}</text>`,
     );
   }
   if (input.shortTermLimitLufs !== undefined) {
@@ -227,6 +322,8 @@ export function renderLoudnessPlot(input: PlotInput): string {
       `<line class="em-limit-line" x1="${plotLeft}" x2="${plotLeft + plotWidth}" y1="${fmt(y(input.shortTermLimitLufs))}" y2="${fmt(y(input.shortTermLimitLufs))}"/>`,
     );
   }
+  // Each kind's spans, joined, under the curves: hundreds of flags tint the ground, never hide a line.
+  parts.push(...lanes.flatMap((lane) => spanParts(lane, x, plotTop, plotHeight)));
   if (input.speech) parts.push(...speechLane(input.speech, x, plotTop + plotHeight - SPEECH_LANE_PX, input.formatTime));
   if (input.dialogueLufs !== undefined)
     parts.push(
@@ -236,24 +333,9 @@ export function renderLoudnessPlot(input: PlotInput): string {
     parts.push(`<polyline class="em-momentary" points="${points}"/>`);
   for (const points of polyline(input.shortTerm, x, y))
     parts.push(`<polyline class="em-short-term" points="${points}"/>`);
-  // Remarks first, so a fail or warn marker is never painted over by one.
-  const order = input.flags.map((flag, index) => ({ flag, index }));
-  order.sort(
-    (a, b) => Number(b.flag.severity === 'remark') - Number(a.flag.severity === 'remark') || a.index - b.index,
-  );
-  for (const { flag, index } of order) {
-    const left = x(flag.startSeconds);
-    const markerWidth = Math.max(3, x(flag.endSeconds) - left);
-    // The opacity is an attribute, not only CSS, so the SVG fetched on its own shows it too.
-    parts.push(
-      `<g class="em-flag em-flag-${escapeXml(flag.kind)} em-sev-${flag.severity}" data-flag-index="${index}"${flag.severity === 'remark' ? ' opacity="0.45"' : ''} fill="${FLAG_FILL[flag.kind] ?? '#6b6f7e'}">` +
-        `<rect x="${fmt(left)}" y="${plotTop - FLAG_LANE_PX - 4}" width="${fmt(markerWidth)}" height="${FLAG_LANE_PX}"/>` +
-        `<rect class="em-flag-span" x="${fmt(left)}" y="${plotTop}" width="${fmt(markerWidth)}" height="${plotHeight}"/>` +
-        `<title>${escapeXml(flag.label)}</title></g>`,
-    );
-  }
+  parts.push(...lanes.flatMap((lane, k) => laneParts(lane, k, laneTop(k), x, plotWidth)));
   parts.push(
-    `<line id="em-plot-cursor" class="em-cursor" x1="${plotLeft}" x2="${plotLeft}" y1="${plotTop - FLAG_LANE_PX - 4}" y2="${plotTop + plotHeight}" data-plot-left="${plotLeft}" data-plot-width="${plotWidth}" data-duration="${duration}" visibility="hidden"/>`,
+    `<line id="em-plot-cursor" class="em-cursor" x1="${plotLeft}" x2="${plotLeft}" y1="${lanesTop}" y2="${plotTop + plotHeight}" data-plot-left="${plotLeft}" data-plot-width="${plotWidth}" data-duration="${duration}" visibility="hidden"/>`,
   );
   parts.push('</svg>');
   return paint(parts.join(''));

@@ -5,6 +5,8 @@ import { declaredLoudnessSection } from './declared-section.ts';
 import { dialogueSection } from './dialogue-section.ts';
 import { downmixSection } from './downmix-section.ts';
 import { escapeXml } from './loudness-plot.ts';
+import { channelsSection } from './channels-section.ts';
+import { flagsSection } from './flags-section.ts';
 import { uploadSection } from './upload-section.ts';
 
 function shell(title: string, bodyAttributes: string, main: string, script: string): string {
@@ -101,6 +103,7 @@ export function reportPage(jobId: string): string {
     <div><dt>What happened</dt><dd id="em-failure-message"></dd></div>
     <div><dt>What to do</dt><dd id="em-failure-hint"></dd></div>
   </dl>
+  <dl id="em-failure-job" class="em-metrics"></dl>
 </section>
 <div id="em-report-body" hidden>
 <section class="em-card" aria-labelledby="em-file">
@@ -110,24 +113,14 @@ export function reportPage(jobId: string): string {
   </div>
   <dl id="em-metrics" class="em-metrics" style="margin-top:1rem"></dl>
 </section>
-<div class="em-grid-2">
-  <section class="em-card" aria-labelledby="em-plot-title">
-    <h2 id="em-plot-title" style="margin-top:0">Loudness over time</h2>
-    <p class="em-status">Thin line: momentary (400 ms). Thick line: short-term (3 s). Band: the profile's target. Marks above the plot: flags (remarks fainter).</p>
-    <div id="em-plot"></div>
-    <p id="em-cursor-status" class="em-status" aria-live="polite"></p>
-  </section>
-  <section class="em-card" aria-labelledby="em-flags-title">
-    <h2 id="em-flags-title" style="margin-top:0">Flags</h2>
-    <p id="em-flag-counts" class="em-flag-counts"></p>
-    <p class="em-status">A remark is shown for your ears only: no rule of this profile judges it, so it never changes the verdict.</p>
-    <ul id="em-flags" class="em-flags"></ul>
-    <h3>Listen</h3>
-    <p class="em-caution"><strong>Caution:</strong> turn your playback level down before you press play. Excerpts play at the file's own level, and a flagged passage may be clipped, far over the ceiling or suddenly loud. Protect your hearing: follow your workplace's rules on listening levels.</p>
-    <audio id="em-player" controls preload="none" aria-label="Flag excerpt"></audio>
-    <p id="em-player-status" class="em-status" aria-live="polite"></p>
-  </section>
-</div>
+<section class="em-card em-plot-card" aria-labelledby="em-plot-title">
+  <h2 id="em-plot-title" style="margin-top:0">Loudness over time</h2>
+  <p class="em-status">Thin line: momentary (400 ms). Thick line: short-term (3 s). Band: the profile's target. Above the plot, one lane per flag kind (remarks fainter); the tint under the lines shows where flags lie.</p>
+  <div id="em-plot"></div>
+  <p id="em-cursor-status" class="em-status" aria-live="polite"></p>
+</section>
+${flagsSection()}
+${channelsSection()}
 <section id="em-head-section" class="em-card" aria-labelledby="em-head-title" hidden>
   <h2 id="em-head-title" style="margin-top:0">Head</h2>
   <div id="em-head"></div>
@@ -135,9 +128,7 @@ export function reportPage(jobId: string): string {
 </section>
 <section class="em-card" aria-labelledby="em-checks-title">
   <h2 id="em-checks-title" style="margin-top:0">Checks</h2>
-  <div style="overflow-x:auto">
-  <table><thead><tr><th scope="col">Rule</th><th scope="col">Finding</th><th scope="col">Severity</th><th scope="col">Outcome</th></tr></thead><tbody id="em-checks-body"></tbody></table>
-  </div>
+  <table class="em-stack em-checks-table"><thead><tr><th scope="col">Rule</th><th scope="col">Finding</th><th scope="col">Severity</th><th scope="col">Outcome</th></tr></thead><tbody id="em-checks-body"></tbody></table>
 </section>
 ${declaredLoudnessSection()}
 ${downmixSection()}

@@ -33,6 +33,7 @@ export function plotInputFor(report: QcReport, widthPx = 960, heightPx = 320): P
       const flag = flagView(raw, index);
       return {
         kind: flag.kind,
+        title: flag.title,
         severity: flag.severity,
         startSeconds: flag.startSeconds,
         endSeconds: flag.endSeconds,

@@ -146,18 +146,22 @@ describe.skipIf(!hasTool('chromium'))('pages in Chromium', () => {
     expect(await page.locator('#em-flags .em-flag-go').count()).toBe(report.flags.length);
     expect(await page.locator('#em-checks-body tr').count()).toBe(report.checks.length);
     expect(await page.textContent('#em-flag-counts')).toBe(flagCountsText(report));
-    const first = await page.innerText('#em-flags .em-flag-go >> nth=0');
+    // Open every group of a repeating kind, so each flag's row shows.
+    for (const toggle of await page.locator('#em-flags .em-group-toggle').all()) await toggle.click();
+    const first = await page.innerText('#em-flags tr[data-flag-index="0"]');
     for (const part of [
       `#${report.flags[0].number}`,
       report.flags[0].severity.toUpperCase(),
       report.flags[0].title,
       report.flags[0].startTimecode,
+      report.flags[0].endTimecode,
+      report.flags[0].channelName,
     ])
       expect(first).toContain(part);
 
     // Click the last flag: the cursor becomes visible at that flag's time.
     const last = report.flags.length - 1;
-    await page.locator('#em-flags .em-flag-go').nth(last).click();
+    await page.locator(`#em-flags tr[data-flag-index="${last}"] .em-flag-go`).click();
     const cursor = page.locator('#em-plot-cursor');
     expect(await cursor.getAttribute('visibility')).toBe('visible');
     const [left, width, duration, x] = await Promise.all(
@@ -167,14 +171,14 @@ describe.skipIf(!hasTool('chromium'))('pages in Chromium', () => {
     expect(Number(x)).toBeCloseTo(expectedX, 3);
     await page.screenshot({ path: join(OUTPUT_DIR, 'report-1280x800.png'), fullPage: true });
 
-    // Keyboard: focus the first flag button and press Enter.
-    await page.locator('#em-flags .em-flag-go').first().focus();
+    // Keyboard: focus the first flag's button and press Enter.
+    await page.locator('#em-flags tr[data-flag-index="0"] .em-flag-go').focus();
     await page.keyboard.press('Enter');
     expect(await cursor.getAttribute('data-flag-index')).toBe('0');
 
     // Listen: the page loads an excerpt into the player, with the level caution beside it.
     expect(await page.textContent('.em-caution')).toMatch(/playback level down/);
-    await page.locator('#em-flags .em-listen').first().click();
+    await page.locator('#em-flags tr[data-flag-index="0"] .em-listen').click();
     await page.waitForFunction(() =>
       (globalThis as unknown as PageGlobals).document.getElementById('em-player').src.startsWith('blob:'),
     );
@@ -259,24 +263,31 @@ describe.skipIf(!hasTool('chromium'))('pages in Chromium', () => {
     expect(await page.locator('#em-head-section:not([hidden]) svg .em-head-tone').count()).toBe(2);
     expect(await page.textContent('#em-head-facts')).toContain('Programme starts at 00:00:04:00');
 
-    // Counts, then every flag with number, severity, title, span, channel, count and worst value.
+    // Counts, then every flag with number, severity, title, start, end, channel, count and worst value.
     expect(await page.textContent('#em-flag-counts')).toBe('1 fail · 1 warn · 2 remarks');
-    expect(await page.locator('#em-flags li[data-severity]').count()).toBe(4);
-    const remarks = page.locator('#em-flags li[data-severity="remark"]');
+    expect(await page.locator('#em-flags tr.em-flag-item[data-severity]').count()).toBe(4);
+    const remarks = page.locator('#em-flags tr.em-flag-item[data-severity="remark"]');
     expect(await remarks.count()).toBe(2);
-    const dropout = await remarks.nth(1).innerText();
-    for (const part of [
-      '#4',
+    const cellsOf = async (row: ReturnType<Page['locator']>) =>
+      (await row.locator('td').allInnerTexts()).map((t) => t.replace(/\s+/g, ' ').trim());
+    const dropout = await cellsOf(remarks.nth(1));
+    expect(dropout[0]).toContain('#4');
+    expect(dropout[0]).toContain('Dropout');
+    expect(dropout[0]).toContain('37 very short dropouts');
+    // A dropout with no level is digital zero (analysis/events.ts): said so, not a dash.
+    expect(dropout.slice(1, 9)).toEqual([
       'REMARK',
-      'Dropout',
-      '00:00:03:00 – 00:00:04:05',
-      'ch 2 R',
-      '× 37',
-      '37 very short dropouts',
-    ])
-      expect(dropout).toContain(part);
-    expect(await remarks.nth(0).innerText()).toContain('worst -38.1 dBFS');
-    expect(await page.innerText('#em-flags li[data-severity="warn"]')).toContain('ch 1 L · × 3 · worst -0.4 dBTP');
+      '00:00:03:00 3.000 s',
+      '00:00:04:05 4.200 s',
+      '1.200 s',
+      '37',
+      'digital silence',
+      '2 R',
+      'none',
+    ]);
+    expect((await cellsOf(remarks.nth(0)))[6]).toBe('-38.1 dBFS');
+    const warn = await cellsOf(page.locator('#em-flags tr.em-flag-item[data-severity="warn"]'));
+    expect(warn.slice(5, 9)).toEqual(['3', '-0.4 dBTP', '1 L', 'true-peak']);
     // A remark has its own, quieter look: a dotted edge where a fail has a solid one, an outlined label.
     const style = (selector: string, property: string) =>
       page
@@ -286,16 +297,16 @@ describe.skipIf(!hasTool('chromium'))('pages in Chromium', () => {
           (node, name) => (globalThis as unknown as PageGlobals).getComputedStyle(node).getPropertyValue(name),
           property,
         );
-    expect(await style('#em-flags li[data-severity="remark"]', 'border-left-style')).toBe('dotted');
-    expect(await style('#em-flags li[data-severity="fail"]', 'border-left-style')).toBe('solid');
+    expect(await style('#em-flags tr[data-severity="remark"] td', 'border-left-style')).toBe('dotted');
+    expect(await style('#em-flags tr[data-severity="fail"] td', 'border-left-style')).toBe('solid');
     expect(await style('.em-sev-badge-remark', 'background-color')).toBe('rgba(0, 0, 0, 0)');
     expect(await style('.em-sev-badge-fail', 'background-color')).not.toBe('rgba(0, 0, 0, 0)');
     // Text alternatives: the message describes the flag's button; Listen names its flag.
-    const go = page.locator('#em-flags li[data-severity="remark"] .em-flag-go').nth(1);
+    const go = page.locator('#em-flags tr[data-severity="remark"] .em-flag-go').nth(1);
     expect(await page.textContent(`#${await go.getAttribute('aria-describedby')}`)).toBe(
       '37 very short dropouts on channel 2 R.',
     );
-    expect(await page.getAttribute('#em-flags li[data-flag-index="3"] .em-listen', 'aria-label')).toBe(
+    expect(await page.getAttribute('#em-flags tr[data-flag-index="3"] .em-listen', 'aria-label')).toBe(
       'Listen to flag #4, Dropout, at 00:00:03:00',
     );
 
@@ -338,7 +349,8 @@ describe.skipIf(!hasTool('chromium'))('pages in Chromium', () => {
     expect(await page.textContent('#em-headline')).toContain(`Analysis failed: ${failed.error.message}`);
     expect(await page.textContent('#em-failure-code')).toBe('unsupported_format');
     expect(await page.textContent('#em-failure-message')).toContain('meeting-notes.wav');
-    expect(await page.textContent('#em-failure-hint')).toMatch(/^Send WAV .*FLAC/);
+    expect(await page.textContent('#em-failure-hint')).toMatch(/^Re-export the audio as WAV or FLAC/);
+    expect(await page.innerText('#em-failure-job')).toContain('meeting-notes.wav');
     expect(await page.locator('#em-report-body').isHidden()).toBe(true);
     await page.screenshot({ path: join(OUTPUT_DIR, 'report-failed-job.png'), fullPage: true });
     await page.close();

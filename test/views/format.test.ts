@@ -93,7 +93,7 @@ describe('counts, outcomes and failure hints', () => {
   });
 
   it('tells what to do for a failed job, with a fallback for any other code', () => {
-    expect(failureHint('unsupported_format')).toMatch(/^Send WAV .*FLAC/);
+    expect(failureHint('unsupported_format')).toMatch(/^Re-export the audio as WAV or FLAC/);
     expect(failureHint('decoded_size_exceeded')).toMatch(/shorter file/);
     expect(failureHint('internal_error')).toMatch(/job id/);
   });

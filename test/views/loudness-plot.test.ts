@@ -26,7 +26,9 @@ describe('renderLoudnessPlot', () => {
     for (const m of svg.matchAll(/<polyline [^>]*>/g)) expect(m[0]).toContain('fill="none"');
     expect(svg).toMatch(/<rect class="em-plot-bg" [^>]*fill="#fbf8f1"/);
     expect(svg).toMatch(/<g class="em-flag em-flag-clipping [^>]*fill="#a33a2f"/);
-    for (const m of svg.matchAll(/<rect class="em-flag-span" [^>]*>/g)) expect(m[0]).toContain('opacity="0.12"');
+    expect(svg).toMatch(/<text class="em-lane-label" [^>]*fill="#59626e"/);
+    for (const m of svg.matchAll(/<path class="em-flag-span [^>]*>/g))
+      expect(m[0]).toMatch(/fill="#[0-9a-f]{6}" opacity="0.12"/);
   });
 
   it('draws one speech bar per run of speech blocks (block k spans k/10 s to k/10 + 0.4 s) and the dialogue line', () => {
@@ -50,22 +52,42 @@ describe('renderLoudnessPlot', () => {
     expect(svg).not.toContain('<ch 1>');
   });
 
-  it('draws remarks fainter and beneath fail and warn markers, and counts them apart in the title', () => {
+  it('draws remarks fainter and, in their lane, beneath fail and warn markers; counts them apart in the title', () => {
     const svg = renderLoudnessPlot(
       input({
         flags: [
           ...input().flags,
-          { kind: 'dc_offset', severity: 'remark', startSeconds: 11, endSeconds: 14, label: '#3 DC offset (remark)' },
+          { kind: 'clipping', severity: 'remark', startSeconds: 11, endSeconds: 14, label: '#3 Clipping (remark)' },
         ],
       }),
     );
     expect(svg).toMatch(
-      /<g class="em-flag em-flag-dc_offset em-sev-remark" data-flag-index="2" opacity="0.45" fill="[^"]+">/,
+      /<g class="em-flag em-flag-clipping em-sev-remark" data-flag-index="2" opacity="0.45" fill="[^"]+">/,
     );
     expect(svg).not.toMatch(/em-sev-fail"[^>]*opacity/);
-    // Painted first, so the clipping marker at 12 s stays on top of it.
+    // Painted first, so the fail marker at 12 s stays on top of it.
     expect(svg.indexOf('data-flag-index="2"')).toBeLessThan(svg.indexOf('data-flag-index="0"'));
     expect(svg).toContain('with 2 flagged problems and 1 remark</title>');
+  });
+
+  it('gives each flag kind a labelled lane, the strictest first, and grows the image by the lanes', () => {
+    const svg = renderLoudnessPlot(
+      input({
+        flags: [
+          { kind: 'dc_offset', severity: 'remark', startSeconds: 0, endSeconds: 60, label: 'DC', title: 'DC offset' },
+          ...input().flags,
+          { kind: 'clipping', severity: 'fail', startSeconds: 40, endSeconds: 40.01, label: 'Clip 2', title: 'Clip' },
+        ],
+      }),
+    );
+    const lanes = [...svg.matchAll(/<g class="em-lane [^"]*" data-kind="([a-z_]+)" data-lane="(\d+)">/g)];
+    expect(lanes.map((m) => m[1])).toEqual(['clipping', 'silence', 'dc_offset']);
+    // The lane's words come from the first flag with a title; a flag without one lends its kind.
+    expect(svg).toContain('>Clip · 2 flags</text>');
+    expect(svg).toContain('>silence · 1 flag</text>');
+    // The curves keep their 246 px (320 - 34 - 40); three lanes of 24 px from y = 6, 6 px apart, then the curves and the axis.
+    expect(svg).toContain('viewBox="0 0 960 370"');
+    expect(svg).toContain('<rect class="em-plot-bg" x="56" y="84" width="888" height="246"');
   });
 
   it('places a flag at its time on the axis: 30 s of 60 s is half-way across the plot area', () => {

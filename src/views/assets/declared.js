@@ -54,11 +54,11 @@ export function renderDeclaredLoudness(report) {
         el(
           'tr',
           {},
-          el('td', {}, row.source),
-          el('td', {}, row.quantity),
-          el('td', { class: 'em-num' }, row.declared),
-          el('td', { class: 'em-num' }, row.measured),
-          el('td', { class: 'em-num' }, row.difference),
+          el('td', { 'data-label': 'Source' }, row.source),
+          el('td', { 'data-label': 'Quantity' }, row.quantity),
+          el('td', { class: 'em-num', 'data-label': 'Declared' }, row.declared),
+          el('td', { class: 'em-num', 'data-label': 'Measured' }, row.measured),
+          el('td', { class: 'em-num', 'data-label': 'Measured − declared' }, row.difference),
         ),
       ),
     );

@@ -31,6 +31,7 @@ export function flagCountsText(report: {
 }): string;
 export function headlineNamesVerdict(headline: string, verdict: string | null): boolean;
 export function outcomeText(check: { outcome: string; passed: boolean }): string;
+export const FAILURE_HINTS: Record<string, string>;
 export function failureHint(code: string): string;
 export function dateTimeText(iso: string | null | undefined): string;
 export function stateCounts(items: ReadonlyArray<{ state: string }>): {

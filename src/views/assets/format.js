@@ -90,31 +90,40 @@ export function outcomeText(check) {
   return check.passed ? 'met' : 'not met';
 }
 
-const HINTS = {
+/** What to do about each catalogue code (src/errors/index.ts) a job can fail with: the one table the page reads. */
+export const FAILURE_HINTS = {
   empty_file: 'The file has no bytes. Export it again and submit the new file.',
   unsupported_format:
-    'Send WAV (also RF64 and BW64), AIFF or AIFF-C, FLAC, MP3, AAC, M4A, Ogg Vorbis, Ogg Opus, WebM or CAF.',
-  unsupported_encoding: 'Export as PCM (8 to 32-bit integer) or 32/64-bit float WAV or AIFF, or as FLAC.',
+    'Re-export the audio as WAV or FLAC and submit it again. Also read: RF64, BW64, AIFF, AIFF-C, MP3, AAC, M4A, Ogg Vorbis, Ogg Opus, WebM and CAF.',
+  unsupported_encoding:
+    'Re-export as PCM WAV (8 to 32-bit integer, or 32/64-bit float), AIFF, or FLAC, and submit it again.',
   corrupt_file: 'The file is damaged or inconsistent. Export it again from the source and resubmit.',
   decoded_size_exceeded:
     "The decoded audio is over this service's size cap. Send a shorter file, split it, or send a WAV or FLAC export.",
   file_not_found: 'The stored upload is gone (its retention period may be over). Submit the file again.',
   layout_mismatch:
     "The profile declares a channel layout with another channel count, and the file does not name its channels. Use a profile for the file's layout, or export it with a channel mask.",
-  payload_too_large: 'The file is over the upload limit. Send a smaller file or split it.',
+  payload_too_large: 'The file is over the size limit. Send a smaller file or split it.',
   invalid_profile: 'The profile is not valid. Fix it (see GET /v1/profiles) and submit again.',
   unknown_profile: 'No profile has this id. Choose one listed by GET /v1/profiles.',
   invalid_argument: 'The request was not valid for this worker. Submit the job again.',
   source_refused: 'The URL is not allowed: use an http(s) URL on a permitted public host, not an internal address.',
-  source_fetch_failed: 'The URL could not be fetched. Check that it answers with the file, then submit again.',
+  source_fetch_failed:
+    'Check the URL: open it yourself and see that it answers with the file (not a login or error page), then submit again.',
+  source_stalled:
+    'The URL stopped sending the file. Check that its server is up and the link has not expired, then submit again.',
+  cancelled: 'The job was cancelled before it finished. Submit it again if you still need the report.',
   storage_full: 'The service ran out of storage. Submit again later, or tell the operator.',
   storage_unavailable: "The service's storage was not available. Submit again later, or tell the operator.",
   service_unavailable: 'A part of the service was not available. Submit again later.',
+  speech_model_unavailable:
+    "The speech detector that the profile's dialogue reading needs could not be loaded. Use a profile without a dialogue rule, or tell the operator.",
+  internal_error: 'Submit the file again. If it fails again, tell the operator this job id and error code.',
 };
 
 /** What to do about a failed job, in plain words. */
 export function failureHint(code) {
-  return HINTS[code] ?? 'Submit the file again. If it fails again, tell the operator this job id and error code.';
+  return Object.hasOwn(FAILURE_HINTS, code) ? FAILURE_HINTS[code] : FAILURE_HINTS.internal_error;
 }
 
 const pad2 = (n) => String(n).padStart(2, '0');

@@ -1,12 +1,15 @@
 // Report page: the headline and any integrity problem first, then verdict, readings, the
-// server-rendered loudness plot, flags that move the plot's cursor when chosen, a short
-// listening excerpt per flag, and the checks. A failed job shows its error and what to do.
+// server-rendered loudness plot, the flag table (a flag chosen moves the plot's cursor; a short
+// listening excerpt per flag), each channel's readings, and the checks. A failed job shows its
+// error, the job's facts and what to do.
 import { api, el, setupKeyForm, text, verdictBadge } from './common.js';
 import { hasHead, headFacts, headStripSvg } from './head-strip.js';
 import { renderDeclaredLoudness } from './declared.js';
 import { renderDialogue } from './dialogue.js';
 import { renderDownmix } from './downmix.js';
-import { failureHint, flagCountsText, flagDetails, flagView, headlineNamesVerdict, outcomeText } from './format.js';
+import { renderChannels } from './channels.js';
+import { renderFlagTable } from './flag-table.js';
+import { dateTimeText, failureHint, flagCountsText, headlineNamesVerdict, outcomeText } from './format.js';
 
 const jobId = document.body.dataset.jobId;
 const EXCERPT_PAD_SECONDS = 1.5;
@@ -24,7 +27,7 @@ function moveCursor(flag, index) {
   cursor.setAttribute('x2', String(x));
   cursor.setAttribute('visibility', 'visible');
   cursor.dataset.flagIndex = String(index);
-  for (const item of document.querySelectorAll('.em-flags li'))
+  for (const item of document.querySelectorAll('#em-flags-body tr.em-flag-item'))
     item.classList.toggle('em-selected', item.dataset.flagIndex === String(index));
   document.getElementById('em-cursor-status').textContent =
     `Cursor at ${flag.startTimecode}: #${flag.number} ${flag.title} (${flag.severity})`;
@@ -98,6 +101,19 @@ function renderFailure(job) {
   document.getElementById('em-failure-message').textContent =
     `${message}${job.attemptsMade > 1 ? ` (after ${job.attemptsMade} attempts)` : ''}`;
   document.getElementById('em-failure-hint').textContent = failureHint(code);
+  const source = job.source?.kind === 'url' ? ['Source URL', job.source.url] : ['File', job.source?.fileName];
+  const facts = [
+    source,
+    ['Profile', job.profile ? `${job.profile.id} v${job.profile.version}` : null],
+    ['Attempts', job.attemptsMade === undefined ? null : String(job.attemptsMade)],
+    ['Submitted (your time)', job.createdAt ? dateTimeText(job.createdAt) : null],
+    ['Failed (your time)', job.finishedAt ? dateTimeText(job.finishedAt) : null],
+    ['External ID', job.externalId],
+    ['Job', job.id],
+  ].filter(([, value]) => value !== null && value !== undefined && value !== '');
+  document
+    .getElementById('em-failure-job')
+    .replaceChildren(...facts.map(([label, value]) => el('div', {}, el('dt', {}, label), el('dd', {}, value))));
   document.getElementById('em-job-failed').hidden = false;
 }
 
@@ -109,12 +125,12 @@ function renderChecks(report) {
         el(
           'tr',
           { 'data-rule-id': check.ruleId, 'data-outcome': check.outcome },
-          el('td', {}, check.ruleId),
-          el('td', {}, check.explanation),
-          el('td', {}, check.severity),
+          el('td', { 'data-label': 'Rule' }, check.ruleId),
+          el('td', { 'data-label': 'Finding' }, check.explanation),
+          el('td', { 'data-label': 'Severity' }, check.severity),
           el(
             'td',
-            { class: `em-outcome-${check.outcome}${check.passed ? ' em-outcome-met' : ''}` },
+            { 'data-label': 'Outcome', class: `em-outcome-${check.outcome}${check.passed ? ' em-outcome-met' : ''}` },
             outcomeText(check),
           ),
         ),
@@ -155,67 +171,10 @@ function renderHead(report) {
   document.getElementById('em-head-facts').replaceChildren(...headFacts(report).map((fact) => el('li', {}, fact)));
 }
 
-function flagItem(flag, index) {
-  const messageId = `em-flag-message-${index}`;
-  return el(
-    'li',
-    {
-      'data-flag-index': String(index),
-      'data-severity': flag.severity,
-      class: `em-flag-item em-flag-item-${flag.severity}`,
-    },
-    el(
-      'div',
-      { class: 'em-flag-row' },
-      el(
-        'button',
-        {
-          type: 'button',
-          class: 'em-flag-go',
-          onclick: () => moveCursor(flag, index),
-          'aria-describedby': flag.message ? messageId : null,
-        },
-        el(
-          'span',
-          { class: 'em-flag-head' },
-          el('span', { class: 'em-flag-number' }, `#${flag.number}`),
-          ' ',
-          el('span', { class: `em-sev em-sev-badge-${flag.severity}` }, flag.severity),
-          ' ',
-          el('span', { class: `em-swatch em-swatch-${flag.kind}`, 'aria-hidden': 'true' }),
-          ' ',
-          el('span', { class: 'em-flag-title' }, flag.title),
-        ),
-        ' ',
-        el('span', { class: 'em-flag-facts' }, flagDetails(flag).join(' · ')),
-        el('span', { class: 'em-visually-hidden' }, ', show on the plot'),
-      ),
-      el(
-        'button',
-        {
-          type: 'button',
-          class: 'em-quiet em-listen',
-          onclick: () => listen(flag),
-          'aria-label': `Listen to flag #${flag.number}, ${flag.title}, at ${flag.startTimecode}`,
-        },
-        'Listen',
-      ),
-    ),
-    flag.message ? el('p', { class: 'em-flag-message', id: messageId }, flag.message) : null,
-  );
-}
-
 function renderFlags(report) {
-  const list = document.getElementById('em-flags');
   document.getElementById('em-flag-counts').textContent =
     `${flagCountsText(report)}${report.flagsTruncated ? ` (${report.flags.length} of ${report.flagsTotal} listed)` : ''}`;
-  if (report.flags.length === 0) {
-    list.replaceChildren(el('li', { class: 'em-status' }, 'No time-located findings.'));
-    return;
-  }
-  list.replaceChildren(...report.flags.map((raw, index) => flagItem(flagView(raw, index), index)));
-  if (report.flagsTruncated)
-    list.append(el('li', { class: 'em-status' }, `${report.flagsTotal - report.flags.length} more flags not listed.`));
+  renderFlagTable(report, { show: moveCursor, listen });
 }
 
 async function load() {
@@ -252,6 +211,7 @@ async function load() {
     renderHead(report);
     renderChecks(report);
     renderFlags(report);
+    renderChannels(report);
     renderDeclaredLoudness(report);
     renderDownmix(report);
     renderDialogue(report);
