@@ -127,7 +127,9 @@ export function reportPage(jobId: string): string {
 ${declaredLoudnessSection()}
 ${downmixSection()}
 ${dialogueSection()}
-</div>`,
+</div>
+<section id="em-review" class="em-card em-review" aria-labelledby="em-review-title" hidden></section>
+<script type="module" src="/assets/review.js"></script>`,
     'report.js',
   );
 }

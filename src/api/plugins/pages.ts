@@ -19,6 +19,7 @@ const ASSET_TYPES: Record<string, string> = {
   'declared.js': 'text/javascript; charset=utf-8',
   'downmix.js': 'text/javascript; charset=utf-8',
   'dialogue.js': 'text/javascript; charset=utf-8',
+  'review.js': 'text/javascript; charset=utf-8',
 };
 const ASSET_NAMES = Object.keys(ASSET_TYPES);
 const html = { description: 'HTML page', schema: { type: 'string' }, contentType: 'text/html' };
