@@ -43,16 +43,30 @@ function lineage(job) {
   return parts;
 }
 
-function recorded(signOff, count) {
+function recorded(signOff) {
   if (!signOff) return el('p', { class: 'em-status', 'data-review': 'current' }, 'Not signed off yet.');
   return el(
     'div',
     { class: `em-review-record em-review-${signOff.decision}`, 'data-review': 'current' },
     el('p', { class: 'em-review-who', title: signOff.at }, signOffText(signOff)),
     signOff.note ? el('blockquote', { class: 'em-review-note' }, signOff.note) : null,
-    count > 1
-      ? el('p', { class: 'em-status' }, `Sign-off ${signOff.number}; ${count - 1} earlier kept in the history.`)
-      : null,
+    el('p', { class: 'em-status' }, 'A new sign-off replaces this one; the history keeps both.'),
+  );
+}
+
+function historyList(history) {
+  if (history.length < 2) return null;
+  return el(
+    'details',
+    { class: 'em-review-history', 'data-review': 'history' },
+    el('summary', {}, `History (${history.length})`),
+    el(
+      'ol',
+      {},
+      ...history.map((s) =>
+        el('li', {}, signOffText(s), s.note ? el('span', { class: 'em-status' }, ` – ${s.note}`) : null),
+      ),
+    ),
   );
 }
 
@@ -99,7 +113,8 @@ function signOffForm(job, history) {
     'div',
     { class: 'em-review-block', 'data-review': 'signoff' },
     el('h3', {}, 'Sign-off'),
-    recorded(job.signOff, history.length),
+    recorded(job.signOff),
+    historyList(history),
     form,
   );
 }
