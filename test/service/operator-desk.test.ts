@@ -3,6 +3,7 @@
 // warn or fail verdict (recorded, shown in the job and the report, sent to a loopback receiver as
 // a signed job.signed_off webhook). Every response is checked against openapi/openapi.yaml.
 
+import { createReadStream, writeFileSync } from 'node:fs';
 import { createServer, type IncomingMessage, type Server } from 'node:http';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
@@ -147,6 +148,60 @@ describe('re-run', () => {
       KEYS.alpha,
     );
     expect(unknown.status).toBe(404);
+  });
+});
+
+describe('re-run of other sources', () => {
+  it("re-runs a sourceUrl job from its fetched copy, named after the URL's file", async () => {
+    const origin = createServer((req, res) => {
+      if (req.url === '/media/quay-ident.wav')
+        return createReadStream(pass).pipe(res.writeHead(200, { 'content-type': 'audio/wav' }));
+      res.writeHead(404).end();
+    });
+    await new Promise<void>((resolve) => origin.listen(0, '127.0.0.1', resolve));
+    try {
+      const sourceUrl = `http://127.0.0.1:${(origin.address() as { port: number }).port}/media/quay-ident.wav`;
+      const submit = await api.postJson('/v1/jobs', { sourceUrl, profile: 'ebu-r128' }, KEYS.alpha);
+      expect((await finished(submit.body.id)).body.verdict).toBe('pass');
+      const failedFetch = await api.postJson(
+        '/v1/jobs',
+        { sourceUrl: `${sourceUrl}.gone`, profile: 'ebu-r128' },
+        KEYS.alpha,
+      );
+      expect((await finished(failedFetch.body.id)).body.error.code).toBe('source_fetch_failed');
+      // The origin is gone: the re-run reads the copy the first job fetched.
+      await new Promise<void>((resolve) => origin.close(() => resolve()));
+      const rerun = await api.postJson(`/v1/jobs/${submit.body.id}/reruns`, { profile: 'house-loud' }, KEYS.alpha);
+      expect(rerun.status).toBe(202);
+      expect((await finished(rerun.body.id)).body).toMatchObject({
+        verdict: 'fail',
+        source: { kind: 'upload', fileName: 'quay-ident.wav' },
+        rerunOf: submit.body.id,
+      });
+      // A failed fetch kept nothing to re-run.
+      const none = await api.postJson(`/v1/jobs/${failedFetch.body.id}/reruns`, { profile: 'ebu-r128' }, KEYS.alpha);
+      expect(none.status).toBe(404);
+      expect(none.body.code).toBe('audio_expired');
+    } finally {
+      origin.close();
+    }
+  });
+
+  it('re-runs a failed upload (the same bytes fail the same way)', async () => {
+    const junk = join(service.dir, 'minutes.wav');
+    writeFileSync(junk, 'minutes of the planning meeting, not audio\n'.repeat(40));
+    const submit = await api.upload(junk, { profile: 'ebu-r128' }, KEYS.alpha);
+    const first = await finished(submit.body.id);
+    expect(first.body.state).toBe('failed');
+    const rerun = await api.postJson(`/v1/jobs/${submit.body.id}/reruns`, { profile: 'podcast' }, KEYS.alpha);
+    expect(rerun.status).toBe(202);
+    const again = await finished(rerun.body.id);
+    expect(again.body).toMatchObject({ state: 'failed', rerunOf: submit.body.id, profile: { id: 'podcast' } });
+    expect(again.body.error.code).toBe(first.body.error.code);
+    // A failed job has no verdict to sign off.
+    const signOff = await api.postJson(`/v1/jobs/${submit.body.id}/signoffs`, { decision: 'reject' }, KEYS.alphaAdmin);
+    expect(signOff.status).toBe(409);
+    expect(signOff.body.code).toBe('signoff_not_allowed');
   });
 });
 
