@@ -316,3 +316,28 @@ describe('re-run after retention', () => {
     expect((await api.get(`/v1/jobs/${original}`, KEYS.alpha)).body.reruns).toEqual([]);
   });
 });
+
+describe('before the job has finished', () => {
+  it('refuses a re-run (job_not_finished) and a sign-off (signoff_not_allowed) while it is queued', async () => {
+    // An API without a worker: the job stays queued.
+    const idle = await startService({ worker: false });
+    try {
+      const idleApi = client(idle.url);
+      const wav = await writeSine(join(idle.dir, 'waiting.wav'), -23, 1);
+      const submit = await idleApi.upload(wav, { profile: 'ebu-r128' }, KEYS.alpha);
+      expect(submit.status).toBe(202);
+      const rerun = await idleApi.postJson(`/v1/jobs/${submit.body.id}/reruns`, { profile: 'podcast' }, KEYS.alpha);
+      expect(rerun.status).toBe(409);
+      expect(rerun.body.code).toBe('job_not_finished');
+      const signOff = await idleApi.postJson(
+        `/v1/jobs/${submit.body.id}/signoffs`,
+        { decision: 'reject' },
+        KEYS.alphaAdmin,
+      );
+      expect(signOff.status).toBe(409);
+      expect(signOff.body.code).toBe('signoff_not_allowed');
+    } finally {
+      await idle.close();
+    }
+  });
+});
