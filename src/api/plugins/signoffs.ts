@@ -5,7 +5,7 @@
 import { Ajv } from 'ajv';
 import type { FromSchema } from 'json-schema-to-ts';
 import type { Config } from '../../config/index.ts';
-import { createWebhookQueue } from '../../queue/queues.ts';
+import { createWebhookQueue, type WebhookQueue } from '../../queue/queues.ts';
 import type { AppDeps } from '../deps.ts';
 import { route, routesPlugin, type RouteSpec } from '../route-spec.ts';
 import * as S from '../schemas.ts';
@@ -45,12 +45,15 @@ const validateSignOff = new Ajv({ allErrors: false }).compile<FromSchema<typeof 
 
 export function signOffsPlugin(deps: AppDeps, config: Config) {
   return routesPlugin('earmark-signoffs', async (app) => {
-    // The worker's webhook queue, over the API's connection: the worker delivers what is added here.
-    const webhooks = createWebhookQueue(deps.redis, config, (error) =>
-      app.log.warn({ err: { message: error.message } }, 'webhook queue error'),
-    );
+    // The worker's webhook queue, over the API's connection (the worker delivers what is added
+    // here), opened at the first sign-off: an API that never signs off holds none.
+    let webhooks: WebhookQueue | null = null;
+    const webhookQueue = () =>
+      (webhooks ??= createWebhookQueue(deps.redis, config, (error) =>
+        app.log.warn({ err: { message: error.message } }, 'webhook queue error'),
+      ));
     app.addHook('onClose', async () => {
-      await webhooks.close().catch(() => undefined);
+      await webhooks?.close().catch(() => undefined);
     });
 
     const signOffs = async (id: string) => {
@@ -63,7 +66,7 @@ export function signOffsPlugin(deps: AppDeps, config: Config) {
       const body = request.body;
       if (!validateSignOff(body)) throw validationProblem(validateSignOff.errors, 'body');
       const { id } = request.params;
-      const signOff = await signOffJob(deps, webhooks, principal, id, body);
+      const signOff = await signOffJob(deps, webhookQueue(), principal, id, body);
       request.log.info({ jobId: id, decision: signOff.decision, number: signOff.number }, 'verdict signed off');
       return reply.code(201).send(await signOffs(id));
     });
