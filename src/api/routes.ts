@@ -11,6 +11,8 @@ import { jobSpecs, jobsPlugin } from './plugins/jobs.ts';
 import { pageSpecs, pagesPlugin } from './plugins/pages.ts';
 import { profileSpecs, profilesPlugin } from './plugins/profiles.ts';
 import { reportViewSpecs, reportViewsPlugin } from './plugins/report-views.ts';
+import { rerunSpecs, rerunsPlugin } from './plugins/reruns.ts';
+import { signOffSpecs, signOffsPlugin } from './plugins/signoffs.ts';
 import { uploadSpecs, uploadsPlugin } from './plugins/uploads.ts';
 import type { RouteSpec } from './route-spec.ts';
 
@@ -24,6 +26,8 @@ export const routeModules: readonly RouteModule[] = [
   { specs: uploadSpecs, plugin: (deps, config) => uploadsPlugin(deps, config.uploadLimitBytes) },
   { specs: reportViewSpecs, plugin: reportViewsPlugin },
   { specs: compareSpecs, plugin: comparePlugin },
+  { specs: rerunSpecs, plugin: rerunsPlugin },
+  { specs: signOffSpecs, plugin: signOffsPlugin },
   { specs: profileSpecs, plugin: profilesPlugin },
   { specs: pageSpecs, plugin: pagesPlugin },
   { specs: healthSpecs, plugin: healthPlugin },

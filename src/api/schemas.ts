@@ -38,12 +38,43 @@ export const DeliveryAttempt: Schema = {
   required: ['deliveryId', 'event', 'attempt', 'at', 'statusCode', 'outcome', 'error'],
   properties: {
     deliveryId: { type: 'string' },
-    event: { type: 'string', enum: ['job.completed', 'job.failed'] },
+    event: { type: 'string', enum: ['job.completed', 'job.failed', 'job.signed_off'] },
     attempt: { type: 'integer', minimum: 1 },
     at: { type: 'string', format: 'date-time' },
     statusCode: nullable('integer'),
     outcome: { type: 'string', enum: ['delivered', 'retrying', 'failed'] },
     error: nullable('string'),
+  },
+  additionalProperties: false,
+};
+
+/** An operator's decision on a warn or fail verdict (POST /v1/jobs/:id/signoffs). */
+export const SignOff: Schema = {
+  type: 'object',
+  required: ['number', 'decision', 'note', 'verdict', 'by', 'at'],
+  properties: {
+    number: { type: 'integer', minimum: 1, description: "1 for the job's first sign-off, then 2, 3, ..." },
+    decision: { type: 'string', enum: ['accept', 'reject'] },
+    note: nullable('string'),
+    verdict: { type: 'string', enum: ['warn', 'fail'], description: 'The verdict signed off.' },
+    by: {
+      type: 'object',
+      required: ['tenant', 'keyId'],
+      description: "The API key that signed: its tenant and its digest's first 12 hex digits (never the key).",
+      properties: { tenant: { type: 'string' }, keyId: { type: 'string' } },
+      additionalProperties: false,
+    },
+    at: { type: 'string', format: 'date-time' },
+  },
+  additionalProperties: false,
+};
+
+export const SignOffs: Schema = {
+  type: 'object',
+  required: ['current', 'history'],
+  properties: {
+    current: { description: 'The latest sign-off; it replaces any earlier one.', anyOf: [SignOff, { type: 'null' }] },
+    history: { type: 'array', items: SignOff, description: 'Every sign-off kept (the last 50), oldest first.' },
   },
   additionalProperties: false,
 };
@@ -129,6 +160,16 @@ export const Job: Schema = {
       required: ['self', 'report'],
       properties: { self: { type: 'string' }, report: nullable('string') },
       additionalProperties: false,
+    },
+    rerunOf: { type: 'string', description: 'Only on a re-run: the job whose stored audio it checked again.' },
+    reruns: {
+      type: 'array',
+      items: { type: 'string' },
+      description: 'GET /v1/jobs/:id only: the re-runs of this job, oldest first.',
+    },
+    signOff: {
+      description: "GET /v1/jobs/:id only: the operator's current sign-off of the verdict (history: /signoffs).",
+      anyOf: [SignOff, { type: 'null' }],
     },
   },
   additionalProperties: false,
@@ -229,6 +270,16 @@ export const reportDefinitions = reportComponents();
 /** The QC report itself. */
 export const Report: Schema = reportDefinitions[`${REPORT_PREFIX}QcReport`];
 
+/** The report as GET /v1/jobs/:id/report serves it: the stored report, plus the operator's current
+ * sign-off when there is one (never part of the stored report: the numbers stay as analysed). */
+export const ServedReport: Schema = {
+  ...Report,
+  properties: {
+    ...(Report.properties as Record<string, Schema>),
+    signOff: SignOff,
+  },
+};
+
 export const Health: Schema = {
   type: 'object',
   required: ['status'],
@@ -251,6 +302,9 @@ export const components: Record<string, Schema> = {
   ProfileEntry,
   ProfileList,
   Health,
+  SignOff,
+  SignOffs,
+  ServedReport,
   ...reportDefinitions,
 };
 
@@ -380,3 +434,36 @@ export const SubmitMultipart: Schema = {
     metadata: { type: 'string', description: 'A JSON object of string values.' },
   },
 };
+
+export const RerunJson = {
+  type: 'object',
+  required: ['profile'],
+  properties: {
+    profile: { ...submitFields.profile, description: "Profile id (built-in or the tenant's own)." },
+    profileVersion: {
+      type: 'string',
+      pattern: '^[1-9][0-9]{0,8}\\.0\\.0$',
+      description: 'A stored version of that profile ("3.0.0"); the current one when left out.',
+    },
+    callbackUrl: {
+      type: ['string', 'null'],
+      maxLength: 2000,
+      description: "Left out: the original job's callbackUrl; null: none.",
+    },
+  },
+  additionalProperties: false,
+} as const satisfies ObjectSchema;
+
+export const SignOffJson = {
+  type: 'object',
+  required: ['decision'],
+  properties: {
+    decision: { type: 'string', enum: ['accept', 'reject'] },
+    note: {
+      type: 'string',
+      maxLength: 2000,
+      description: 'Why. Required (not blank) to accept a fail verdict.',
+    },
+  },
+  additionalProperties: false,
+} as const satisfies ObjectSchema;

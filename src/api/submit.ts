@@ -11,6 +11,10 @@ export interface SubmitInput {
   callbackUrl?: string;
   externalId?: string;
   metadata?: Record<string, string>;
+  /** A stored version of the profile ("<n>.0.0"); the current one when absent. */
+  profileVersion?: string;
+  /** Set by a re-run (src/api/rerun.ts): the job whose stored audio this one checks again. */
+  rerunOf?: string;
 }
 
 export interface Submitted {
@@ -39,7 +43,14 @@ export async function submitJob(
   source: JobSource & { sha256?: string },
   idempotencyKey: string | undefined,
 ): Promise<Submitted> {
-  const entry = await deps.profiles.get(tenant, input.profile);
+  const entry =
+    input.profileVersion === undefined
+      ? await deps.profiles.get(tenant, input.profile)
+      : await deps.profiles.version(tenant, input.profile, input.profileVersion);
+  if (!entry && input.profileVersion !== undefined && (await deps.profiles.get(tenant, input.profile)))
+    throw new EarmarkError('unknown_profile', `profile "${input.profile}" has no version ${input.profileVersion}`, {
+      field: 'profileVersion',
+    });
   if (!entry)
     throw new EarmarkError('unknown_profile', `no profile "${input.profile}" for this tenant`, { field: 'profile' });
   if (input.callbackUrl) await deps.policy.check(input.callbackUrl, 'callbackUrl');
@@ -59,6 +70,8 @@ export async function submitJob(
         input.externalId ?? null,
         input.metadata ?? null,
         source.kind === 'url' ? source.url : (source.sha256 ?? source.storageKey),
+        // Only re-runs add these, so a plain submission's fingerprint is what it always was.
+        ...(input.rerunOf === undefined ? [] : [input.rerunOf, input.profileVersion ?? null]),
       ]),
     )
     .digest('hex');
@@ -85,6 +98,7 @@ export async function submitJob(
     externalId: input.externalId ?? null,
     metadata: input.metadata ?? null,
     submittedAt: new Date(submittedAtMs).toISOString(),
+    ...(input.rerunOf === undefined ? {} : { rerunOf: input.rerunOf }),
   };
   try {
     // Fair share between tenants (src/queue/fair-share.ts): a burst from one tenant queues behind

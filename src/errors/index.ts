@@ -69,6 +69,9 @@ export const errorCatalogue = {
     retryable: false,
   },
   upload_incomplete: { status: 409, title: 'Nothing has been uploaded for this uploadId yet', retryable: false },
+  job_not_finished: { status: 409, title: 'The job has not finished yet', retryable: false },
+  audio_expired: { status: 404, title: "The job's stored audio is past its retention period", retryable: false },
+  signoff_not_allowed: { status: 409, title: 'Only a warn or fail verdict can be signed off', retryable: false },
   storage_full: { status: 507, title: 'Storage is full', retryable: true, retryAfterSeconds: 5 },
   storage_unavailable: { status: 503, title: 'Storage is not available', retryable: true, retryAfterSeconds: 5 },
   service_unavailable: {

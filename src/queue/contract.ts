@@ -29,6 +29,8 @@ export interface AnalyzeJobV1 {
   externalId: string | null;
   metadata: Record<string, string> | null;
   submittedAt: string;
+  /** The job this one re-runs over the same stored audio (absent on first runs). */
+  rerunOf?: string;
 }
 
 export interface AnalyzeResultV1 {
@@ -44,7 +46,8 @@ export interface AnalyzeResultV1 {
   sourceKey: string;
 }
 
-export type JobEvent = 'job.completed' | 'job.failed';
+/** job.signed_off is sent by the API when an operator signs off a verdict (src/api/signoff.ts). */
+export type JobEvent = 'job.completed' | 'job.failed' | 'job.signed_off';
 
 export interface DeliverWebhookV1 {
   jobId: string;

@@ -4,6 +4,7 @@
 import type { Job } from 'bullmq';
 import { decodeFailure, type AnalyzeJobV1, type AnalyzeResultV1 } from './contract.ts';
 import type { DeliveryAttempt } from './deliveries.ts';
+import type { SignOff } from './signoffs.ts';
 
 export type JobState = 'queued' | 'active' | 'completed' | 'failed';
 
@@ -27,6 +28,11 @@ export interface JobView {
   error: { code: string; message: string } | null;
   callback: { url: string; deliveries: DeliveryAttempt[] } | null;
   links: { self: string; report: string | null };
+  /** The job whose stored audio this one re-ran (only on re-runs). */
+  rerunOf?: string;
+  /** GET /v1/jobs/:id only: the re-runs of this job and the operator's current sign-off. */
+  reruns?: string[];
+  signOff?: SignOff | null;
 }
 
 export function stateOf(raw: string): JobState {
@@ -69,5 +75,6 @@ export function jobView(
     error: state === 'failed' ? decodeFailure(job.failedReason) : null,
     callback: data.callbackUrl ? { url: data.callbackUrl, deliveries } : null,
     links: { self: `/v1/jobs/${id}`, report: state === 'completed' ? `/v1/jobs/${id}/report` : null },
+    ...(data.rerunOf ? { rerunOf: data.rerunOf } : {}),
   };
 }

@@ -69,6 +69,22 @@ export class ProfileStore {
       : null;
   }
 
+  /** One version ("<n>.0.0", as put() numbers them) of a live profile, or null (unknown id or version). */
+  async version(tenant: string, id: string, version: string): Promise<ProfileEntry | null> {
+    const current = await this.get(tenant, id);
+    if (!current || current.profile.version === version) return current;
+    const n = /^([1-9]\d{0,8})\.0\.0$/.exec(version);
+    if (current.builtin || !n || Number(n[1]) > current.versions) return null;
+    const stored = await this.redis.lindex(this.versionsKey(tenant, id), Number(n[1]) - 1);
+    return stored
+      ? {
+          profile: parseProfile(JSON.parse(stored), `stored profile ${id}`),
+          builtin: false,
+          versions: current.versions,
+        }
+      : null;
+  }
+
   /** Validates (invalid_profile naming the field) and stores a new version. */
   async put(tenant: string, id: string, body: unknown): Promise<ProfileEntry> {
     if (ProfileStore.isBuiltin(id))

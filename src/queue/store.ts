@@ -1,5 +1,6 @@
 // The service's state beside the BullMQ queues, one store per concern: each tenant's job index,
-// idempotency keys, cached reports, webhook delivery attempts, job outcomes and the fair-share clock.
+// idempotency keys, cached reports, webhook delivery attempts, job outcomes, the fair-share clock,
+// operator sign-offs and re-run links.
 
 import type { Redis } from 'ioredis';
 import { DeliveryLog } from './deliveries.ts';
@@ -9,6 +10,8 @@ import { IdempotencyKeys } from './idempotency.ts';
 import { JobIndex } from './job-index.ts';
 import { Outcomes } from './outcomes.ts';
 import { ReportCache } from './report-cache.ts';
+import { RerunLog } from './reruns.ts';
+import { SignOffLog } from './signoffs.ts';
 
 export interface ServiceStores {
   index: JobIndex;
@@ -18,6 +21,8 @@ export interface ServiceStores {
   outcomes: Outcomes;
   fairShare: FairShare;
   uploads: DirectUploads;
+  signOffs: SignOffLog;
+  reruns: RerunLog;
 }
 
 export function openServiceStores(redis: Redis, prefix: string, retentionSeconds: number): ServiceStores {
@@ -29,5 +34,7 @@ export function openServiceStores(redis: Redis, prefix: string, retentionSeconds
     outcomes: new Outcomes(redis, prefix, retentionSeconds),
     fairShare: new FairShare(redis, prefix),
     uploads: new DirectUploads(redis, prefix, retentionSeconds),
+    signOffs: new SignOffLog(redis, prefix, retentionSeconds),
+    reruns: new RerunLog(redis, prefix, retentionSeconds),
   };
 }

@@ -133,7 +133,9 @@ ${channelsSection()}
 ${declaredLoudnessSection()}
 ${downmixSection()}
 ${dialogueSection()}
-</div>`,
+</div>
+<section id="em-review" class="em-card em-review" aria-labelledby="em-review-title" hidden></section>
+<script type="module" src="/assets/review.js"></script>`,
     'report.js',
   );
 }

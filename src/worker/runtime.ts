@@ -139,7 +139,7 @@ function withThreadBudget(job: AnalysisJob, threads: number): AnalysisJob {
 }
 
 /** Stable per job and outcome: the webhook job's id and the `Earmark-Delivery` header. */
-export function deliveryIdOf(jobId: string, event: JobEvent): string {
+export function deliveryIdOf(jobId: string, event: Exclude<JobEvent, 'job.signed_off'>): string {
   return `dlv_${jobId}_${event === 'job.completed' ? 'c' : 'f'}`;
 }
 
@@ -162,7 +162,11 @@ export async function startWorker(config: Config, log: Logger): Promise<WorkerRu
   const webhookQueue = createWebhookQueue(redis, config, onError);
   const analysisQueue = createAnalysisQueue(redis, config, onError);
 
-  async function enqueueWebhook(job: AnalysisJob, event: JobEvent, view: JobView): Promise<void> {
+  async function enqueueWebhook(
+    job: AnalysisJob,
+    event: Exclude<JobEvent, 'job.signed_off'>,
+    view: JobView,
+  ): Promise<void> {
     if (!job.data.callbackUrl) return;
     const jobId = String(job.id);
     const deliveryId = deliveryIdOf(jobId, event);
@@ -273,7 +277,8 @@ export async function startWorker(config: Config, log: Logger): Promise<WorkerRu
       // Added before the analysis outcome is committed: send only once it is, and never an outcome
       // a re-run replaced (a crash before the commit re-runs the job, which may end otherwise).
       const state = await analysisQueue.getJobState(d.jobId);
-      if (state !== (d.event === 'job.completed' ? 'completed' : 'failed')) {
+      // A sign-off (added by the API) is only ever made on a completed job.
+      if (state !== (d.event === 'job.failed' ? 'failed' : 'completed')) {
         if (state === 'completed' || state === 'failed' || state === 'unknown') {
           log.info({ jobId: d.jobId, deliveryId: d.deliveryId, state }, 'webhook dropped: the job ended otherwise');
           return;

@@ -4,6 +4,7 @@ import { Ajv } from 'ajv';
 import type { FromSchema } from 'json-schema-to-ts';
 import { EarmarkError } from '../../errors/index.ts';
 import { bullKeys, type IndexCursor } from '../../queue/job-index.ts';
+import type { SignOff } from '../../queue/signoffs.ts';
 import type { AppDeps } from '../deps.ts';
 import { submitRange } from '../list-filters.ts';
 import { route, routesPlugin, type RouteSpec } from '../route-spec.ts';
@@ -54,7 +55,10 @@ export const jobSpecs = {
     scope: 'read',
     summary: 'The QC report of a completed job',
     params: S.JobIdParams,
-    responses: { 200: { description: 'The report', schema: S.Report }, ...S.problems(400, 401, 403, 404, 409, 503) },
+    responses: {
+      200: { description: 'The report (with the current sign-off, if any)', schema: S.ServedReport },
+      ...S.problems(400, 401, 403, 404, 409, 503),
+    },
   },
   list: {
     method: 'GET',
@@ -87,6 +91,14 @@ function decodeCursor(raw: string): IndexCursor {
   const match = /^(\d+):(j_[a-z0-9]+)$/.exec(Buffer.from(raw, 'base64url').toString());
   if (!match) throw new EarmarkError('validation_failed', 'cursor is not one this API gave out', { field: 'cursor' });
   return { scoreMs: Number(match[1]), id: match[2] };
+}
+
+/** The stored report text with the current sign-off as one more member: the stored bytes and their
+ * numbers are served as written, never parsed and written again. */
+function withSignOff(json: string, signOff: SignOff | null): string {
+  const end = json.lastIndexOf('}');
+  if (!signOff || end < 0) return json;
+  return `${json.slice(0, end)},"signOff":${JSON.stringify(signOff)}${json.slice(end)}`;
 }
 
 export function jobsPlugin(deps: AppDeps, uploadLimitBytes: number, bodyTimeoutMs = 60_000) {
@@ -143,11 +155,19 @@ export function jobsPlugin(deps: AppDeps, uploadLimitBytes: number, bodyTimeoutM
           .send({ id: result.id, state, statusUrl, duplicate: result.duplicate });
       });
 
-      route(app, jobSpecs.get, async (request) => deps.jobs.view(principalOf(request).tenant, request.params.id));
+      // The one view that also lists re-runs and the current sign-off (two reads a listing skips).
+      route(app, jobSpecs.get, async (request) => {
+        const { id } = request.params;
+        const view = await deps.jobs.view(principalOf(request).tenant, id);
+        const [reruns, signOff] = await Promise.all([deps.store.reruns.list(id), deps.store.signOffs.current(id)]);
+        return { ...view, reruns, signOff };
+      });
 
-      route(app, jobSpecs.report, async (request, reply) =>
-        reply.type('application/json').send(await deps.jobs.report(principalOf(request).tenant, request.params.id)),
-      );
+      route(app, jobSpecs.report, async (request, reply) => {
+        const { id } = request.params;
+        const json = await deps.jobs.report(principalOf(request).tenant, id);
+        return reply.type('application/json').send(withSignOff(json, await deps.store.signOffs.current(id)));
+      });
 
       route(app, jobSpecs.list, async (request) => {
         const { cursor, q, submittedFrom, submittedTo, ...filters } = request.query;

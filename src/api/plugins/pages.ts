@@ -23,6 +23,7 @@ const ASSET_TYPES: Record<string, string> = {
   'downmix.js': 'text/javascript; charset=utf-8',
   'dialogue.js': 'text/javascript; charset=utf-8',
   'compare.js': 'text/javascript; charset=utf-8',
+  'review.js': 'text/javascript; charset=utf-8',
 };
 const ASSET_NAMES = Object.keys(ASSET_TYPES);
 const html = { description: 'HTML page', schema: { type: 'string' }, contentType: 'text/html' };

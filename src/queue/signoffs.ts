@@ -1,0 +1,56 @@
+// Operator sign-offs of a job's warn or fail verdict, one list per job (oldest first, the last 50):
+// a later sign-off replaces the earlier one as the current decision, and the list keeps both.
+// Kept for the retention period, like the job.
+
+import type { Redis } from 'ioredis';
+import { serviceKey } from './service-keys.ts';
+
+export interface SignOff {
+  /** 1 for the first sign-off of this job, then 2, 3, ... (also names its webhook delivery). */
+  number: number;
+  decision: 'accept' | 'reject';
+  note: string | null;
+  /** The verdict that was signed off, as the report gives it. */
+  verdict: 'warn' | 'fail';
+  /** Who: the API key's tenant and its digest prefix (never the key). */
+  by: { tenant: string; keyId: string };
+  at: string;
+}
+
+const MAX_KEPT = 50;
+
+export class SignOffLog {
+  constructor(
+    private readonly redis: Redis,
+    private readonly prefix: string,
+    private readonly retentionSeconds: number,
+  ) {}
+
+  private key(jobId: string): string {
+    return serviceKey(this.prefix, 'signoffs', jobId);
+  }
+
+  /** Appends a sign-off and returns it numbered (INCR, so concurrent ones never share a number). */
+  async add(jobId: string, entry: Omit<SignOff, 'number'>): Promise<SignOff> {
+    const key = this.key(jobId);
+    const count = await this.redis.incr(`${key}:count`);
+    const signOff: SignOff = { number: count, ...entry };
+    await this.redis
+      .multi()
+      .rpush(key, JSON.stringify(signOff))
+      .ltrim(key, -MAX_KEPT, -1)
+      .expire(key, this.retentionSeconds)
+      .expire(`${key}:count`, this.retentionSeconds)
+      .exec();
+    return signOff;
+  }
+
+  async history(jobId: string): Promise<SignOff[]> {
+    return (await this.redis.lrange(this.key(jobId), 0, -1)).map((line) => JSON.parse(line) as SignOff);
+  }
+
+  async current(jobId: string): Promise<SignOff | null> {
+    const last = await this.redis.lindex(this.key(jobId), -1);
+    return last ? (JSON.parse(last) as SignOff) : null;
+  }
+}
