@@ -278,8 +278,11 @@ describe.skipIf(!hasTool('chromium'))('report page in Chromium', () => {
     const facts = await page.innerText('#em-failure-job');
     for (const part of ['Source URL', job.source.url, 'podcast v1', 'Attempts', '3', 'ord-4471', id])
       expect(facts).toContain(part);
-    // The failure card is the one card shown: the report's cards stay hidden, not empty.
-    expect(await page.locator('.em-card:visible').count()).toBe(1);
+    // The failure card and the review panel (a failed job can be re-run) are the cards shown: the
+    // report's cards stay hidden, not empty.
+    await page.waitForSelector('#em-review:not([hidden])');
+    const shown = await page.locator('.em-card:visible').evaluateAll((cards) => cards.map((c) => c.id));
+    expect(shown).toEqual(['em-job-failed', 'em-review']);
     expect(await page.locator('#em-report-body').isHidden()).toBe(true);
     expect(await noSidewaysScroll(page)).toBe(true);
     await page.screenshot({ path: join(OUTPUT_DIR, 'report-failed-375x812.png'), fullPage: true });
