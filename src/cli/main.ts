@@ -10,13 +10,14 @@ import { EarmarkError, toEarmarkError } from '../errors/index.ts';
 import { checkCommand } from './check.ts';
 import { formatAnalysis } from './format-analysis.ts';
 import { layoutOption } from './layout-option.ts';
+import { packageCommand } from './package.ts';
 import { profilesCommand } from './profiles.ts';
 import { runSelftest } from './selftest.ts';
 import { THREADS_FLAG, threadsOption } from './threads.ts';
 
 export const EXIT_ERROR = 3;
 
-const COMMANDS = ['analyze', 'check', 'profiles', 'selftest', 'help', 'version'] as const;
+const COMMANDS = ['analyze', 'check', 'package', 'profiles', 'selftest', 'help', 'version'] as const;
 
 const USAGE = `usage:
   earmark analyze <file> [--json] [--all] [--true-peak-ceiling dBTP] [--clip-run N] [--clip-threshold dBFS]
@@ -25,6 +26,9 @@ const USAGE = `usage:
   earmark check <file> --profile <id|path.json> [--fps rate] [--layout name] [--json] [--all] [--threads N|auto]
       rate: 23.976 24 25 29.97-df 29.97-ndf 30 50 59.94-df 59.94-ndf 60 (default: the profile's)
       --layout: channel layout of a file without a channel mask or chna chunk: ${LAYOUT_NAMES.join(' ')}
+  earmark package --profile <id|path.json> --mix <file> --stem <file> [--stem <file>...] [--version <file>...]
+                  [--tolerance dB] [--fps rate] [--json] [--threads N|auto]
+      stems must sum to the mix within --tolerance (default -60 dB residual relative to the mix)
   earmark profiles [id] [--json]
   earmark selftest [--json]
   earmark --version
@@ -134,6 +138,8 @@ export async function main(argv: string[], io: CliIo = defaultIo): Promise<numbe
         return await analyzeCommand(rest, io);
       case 'check':
         return await checkCommand(rest, io);
+      case 'package':
+        return await packageCommand(rest, io);
       case 'profiles':
         return profilesCommand(rest, io);
       case 'selftest':
