@@ -32,6 +32,7 @@ export interface SetMember {
   encoding: string;
   sampleRate: number;
   channels: number;
+  channelLabels: string[];
   bitsPerSample: number | null;
   /** e.g. "24-bit", "32-bit float", "lossy (mp3)". */
   depth: string;
@@ -195,6 +196,7 @@ export async function checkPackageSet(
         encoding: f.encoding,
         sampleRate: f.sampleRate,
         channels: f.channels,
+        channelLabels: [...f.channelLabels],
         bitsPerSample: f.bitsPerSample,
         depth: depthLabel(f),
         frames: reader.framesRead,
@@ -266,7 +268,10 @@ function sumCheck(residual: ResidualResult | null, skipped: string | null, mix: 
   const worse = residual.channels.filter(
     (c) => c.residualRelativeDb !== null && c.residualRelativeDb > residual.toleranceDb,
   );
-  const channels = worse.length > 0 ? `; channels over: ${worse.map((c) => c.channel + 1).join(', ')}` : '';
+  const channels =
+    worse.length > 0
+      ? `; channels over: ${worse.map((c) => mix.channelLabels[c.channel] ?? c.channel + 1).join(', ')}`
+      : '';
   const shared =
     residual.frames < mix.frames
       ? ` (over the first ${residual.frames} samples, which every stem and the mix have)`

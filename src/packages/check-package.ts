@@ -128,6 +128,7 @@ export function packageReport(
       verdict,
       members,
       brokenSet.map((c) => c.id),
+      set,
     ),
     profile: { id: profile.id, version: profile.version, name: profile.name },
     frameRate,
@@ -138,11 +139,21 @@ export function packageReport(
   };
 }
 
-function headline(verdict: Verdict, members: readonly PackageMemberResult[], broken: readonly SetCheckId[]): string {
+function headline(
+  verdict: Verdict,
+  members: readonly PackageMemberResult[],
+  broken: readonly SetCheckId[],
+  set: PackageSetResult,
+): string {
   const word = verdict.toUpperCase();
   const failedMembers = members.filter((m) => m.verdict !== 'pass');
+  const r = set.residual;
+  const sumWords =
+    r && r.residualRelativeDb !== null
+      ? ` (residual ${r.residualRelativeDb.toFixed(1)} dB relative to the mix, tolerance ${r.toleranceDb} dB)`
+      : '';
   const reasons = [
-    ...broken.map((id) => SET_CHECK_WORDS[id]),
+    ...broken.map((id) => `${SET_CHECK_WORDS[id]}${id === 'stems_sum_to_mix' ? sumWords : ''}`),
     ...failedMembers.map((m) => `${m.name} ${m.verdict}s: ${m.headline}`),
   ];
   if (reasons.length === 0) return `${word}: ${members.length} files agree and each meets the profile`;
