@@ -11,7 +11,7 @@ import {
   type ResidualResult,
 } from '../analysis/stem-residual.ts';
 import { openAudioFile } from '../decode/index.ts';
-import type { AudioFormat, DecodeOptions } from '../decode/types.ts';
+import type { AudioFormat, DecodedAudio, DecodeOptions } from '../decode/types.ts';
 import { EarmarkError, toEarmarkError } from '../errors/index.ts';
 import { FrameReader } from './frame-reader.ts';
 
@@ -64,6 +64,8 @@ export interface PackageSetOptions {
   windowSeconds?: number;
   decode?: DecodeOptions;
   signal?: AbortSignal;
+  /** Called after each step with the most frames any member has given so far (progress, memory tests). */
+  onStep?: (frames: number) => void;
 }
 
 /** Frames read per member per step. */
@@ -136,20 +138,42 @@ export async function checkPackageSet(
   options: PackageSetOptions = {},
 ): Promise<PackageSetResult> {
   assertPackageShape(inputs);
+  // An opened stream holds no file handle until iterated (decode/index.ts): a member that fails
+  // to open leaves nothing open behind it.
+  const opened: OpenedMember[] = [];
+  for (const input of inputs) {
+    const { name, audio } = await openMember(input, options.decode);
+    opened.push({ name, role: input.role, audio });
+  }
+  return checkOpenedSet(opened, options);
+}
+
+export interface OpenedMember {
+  name: string;
+  role: PackageRole;
+  audio: DecodedAudio;
+}
+
+/** The set check over streams already opened (files, or generated streams in tests). */
+export async function checkOpenedSet(
+  members: readonly OpenedMember[],
+  options: PackageSetOptions = {},
+): Promise<PackageSetResult> {
+  assertPackageShape(members);
   const toleranceDb = options.toleranceDb ?? DEFAULT_RESIDUAL_TOLERANCE_DB;
   if (!Number.isFinite(toleranceDb) || toleranceDb >= 0)
     throw new EarmarkError('invalid_argument', 'the residual tolerance must be a number of dB below 0', {
       field: 'tolerance',
     });
   const windowSeconds = options.windowSeconds ?? DEFAULT_RESIDUAL_WINDOW_SECONDS;
-  const opened: Array<{ name: string; reader: FrameReader }> = [];
+  if (!(windowSeconds > 0 && windowSeconds <= 60))
+    throw new EarmarkError('invalid_argument', 'the residual window must lie above 0 and at most 60 seconds', {
+      field: 'windowSeconds',
+    });
+  const opened = members.map((m) => ({ name: m.name, reader: new FrameReader(m.audio, STEP_FRAMES) }));
   try {
-    for (const input of inputs) {
-      const { name, audio } = await openMember(input, options.decode);
-      opened.push({ name, reader: new FrameReader(audio, STEP_FRAMES) });
-    }
-    const mixIndex = inputs.findIndex((m) => m.role === 'mix');
-    const stemIndexes = inputs.flatMap((m, i) => (m.role === 'stem' ? [i] : []));
+    const mixIndex = members.findIndex((m) => m.role === 'mix');
+    const stemIndexes = members.flatMap((m, i) => (m.role === 'stem' ? [i] : []));
     const format = (i: number) => opened[i].reader.audio.format;
     let residualSkipped: string | null = null;
     if (mixIndex >= 0 && stemIndexes.length > 0) {
@@ -184,14 +208,15 @@ export async function checkPackageSet(
           );
         if (common < STEP_FRAMES) residualOpen = false;
       }
+      options.onStep?.(Math.max(...counts.map((_, i) => opened[i].reader.framesRead)));
       // Decoding reads synchronously: a turn per step lets aborts and timers run.
       await nextTurn();
     }
-    const members: SetMember[] = opened.map(({ name, reader }, i) => {
+    const result: SetMember[] = opened.map(({ name, reader }, i) => {
       const f = reader.audio.format;
       return {
         name,
-        role: inputs[i].role,
+        role: members[i].role,
         container: f.container,
         encoding: f.encoding,
         sampleRate: f.sampleRate,
@@ -205,8 +230,8 @@ export async function checkPackageSet(
     });
     const residual = meter ? meter.result(toleranceDb) : null;
     return {
-      members,
-      checks: setChecks(members, mixIndex, residual, residualSkipped),
+      members: result,
+      checks: setChecks(result, mixIndex, residual, residualSkipped),
       residual,
       residualSkipped,
       toleranceDb,
