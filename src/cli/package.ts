@@ -39,7 +39,11 @@ export function formatPackage(report: PackageReport): string {
     const format = f
       ? `${f.sampleRate} Hz, ${f.depth}, ${f.channels} ch, ${f.frames} samples (${f.durationSeconds.toFixed(3)} s)`
       : '';
-    lines.push(`  ${m.role.padEnd(7)} ${m.verdict.toUpperCase().padEnd(4)}  ${printableName(m.name)}  ${format}\n`);
+    const sm = m.report.summary;
+    const readings = `integrated ${db(sm.integratedLufs, 'LUFS', 'not measurable')}, true peak ${db(sm.truePeakDbtp, 'dBTP', 'none')}`;
+    lines.push(
+      `  ${m.role.padEnd(7)} ${m.verdict.toUpperCase().padEnd(4)}  ${printableName(m.name)}  ${format}; ${readings}\n`,
+    );
     if (m.verdict !== 'pass') lines.push(`            ${m.headline}\n`);
   }
   lines.push('set\n');

@@ -178,11 +178,11 @@ export async function checkOpenedSet(
     let residualSkipped: string | null = null;
     if (mixIndex >= 0 && stemIndexes.length > 0) {
       const mix = format(mixIndex);
-      const odd = stemIndexes.find(
-        (i) => format(i).sampleRate !== mix.sampleRate || format(i).channels !== mix.channels,
-      );
+      // Channels are summed by position: only stems with the mix's rate and channel order can be.
+      const shape = (f: AudioFormat) => `${f.sampleRate} Hz, ${f.channels} ch ${f.channelLabels.join(' ')}`;
+      const odd = stemIndexes.find((i) => shape(format(i)) !== shape(mix));
       if (odd !== undefined)
-        residualSkipped = `${opened[odd].name} (${format(odd).sampleRate} Hz, ${format(odd).channels} ch) cannot be summed with ${opened[mixIndex].name} (${mix.sampleRate} Hz, ${mix.channels} ch)`;
+        residualSkipped = `${opened[odd].name} (${shape(format(odd))}) cannot be summed with ${opened[mixIndex].name} (${shape(mix)})`;
     } else residualSkipped = 'the package has no stems and mix to sum';
     const summing = residualSkipped === null;
     const meter = summing
@@ -274,9 +274,9 @@ function setChecks(
       'stem_channels',
       [reference, ...stems],
       reference,
-      (m) => m.channels,
-      (m) => `${m.channels} ch`,
-      'channel count',
+      (m) => `${m.channels} ch ${m.channelLabels.join(' ')}`,
+      (m) => `${m.channels} ch ${m.channelLabels.join(' ')}`,
+      'channel count or order',
     ),
   );
   checks.push(sumCheck(residual, residualSkipped, reference));

@@ -70,7 +70,7 @@ const SET_CHECK_WORDS: Record<SetCheckId, string> = {
   same_sample_rate: 'sample rates differ',
   same_bit_depth: 'bit depths differ',
   same_length: 'lengths differ',
-  stem_channels: 'a stem has a different channel count from the mix',
+  stem_channels: "a stem's channels differ from the mix's",
   stems_sum_to_mix: 'the stems do not sum to the mix',
 };
 

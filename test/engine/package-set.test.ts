@@ -6,6 +6,7 @@ import { mkdtempSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
+import { writeWavFile } from '../../src/encode/wav.ts';
 import { checkPackageSet, type PackageMemberInput } from '../../src/engine/package-set.ts';
 import { hasTool } from '../helpers/tools.ts';
 import { STEMS, writeStemSet } from '../helpers/stem-files.ts';
@@ -163,6 +164,36 @@ describe('stems that do not sum to the mix', () => {
     expect(result.residual).toBeNull();
     expect(check('stems_sum_to_mix', result).explanation).toContain('not measurable');
     expect(check('stems_sum_to_mix', result).passed).toBe(false);
+  });
+
+  it('a stem with another channel count or order fails stem_channels and is not summed', async () => {
+    const set = await writeStemSet({ dir, seconds: 0.5, prefix: 'order-' });
+    const mono = join(dir, 'order-mono.wav');
+    const centre = join(dir, 'order-c-lfe.wav');
+    const silence = (channels: number) => [Array.from({ length: channels }, () => new Float32Array(24_000))];
+    await writeWavFile(mono, { sampleRate: RATE, channels: 1, bitsPerSample: 32, float: true }, silence(1));
+    // dwChannelMask 0x0C: front centre and LFE (Microsoft WAVEFORMATEXTENSIBLE speaker bits).
+    await writeWavFile(
+      centre,
+      { sampleRate: RATE, channels: 2, bitsPerSample: 32, float: true, channelMask: 0x0c },
+      silence(2),
+    );
+    for (const [path, described] of [
+      [mono, 'stem.wav 1 ch M'],
+      [centre, 'stem.wav 2 ch C LFE'],
+    ]) {
+      const result = await checkPackageSet([
+        { path: set.mix, role: 'mix', name: 'mix.wav' },
+        { path: set.stems[0], role: 'stem', name: 'a.wav' },
+        { path, role: 'stem', name: 'stem.wav' },
+      ]);
+      const channels = check('stem_channels', result);
+      expect(channels.passed).toBe(false);
+      expect(channels.explanation).toContain('mix.wav (2 ch L R)');
+      expect(channels.explanation).toContain(described);
+      expect(result.residual).toBeNull();
+      expect(check('stems_sum_to_mix', result).passed).toBe(false);
+    }
   });
 
   it('versions of one programme are compared on rate, depth and length only', async () => {
