@@ -55,10 +55,12 @@ export function formatPackage(report: PackageReport): string {
       `residual (stems - mix) ${db(r.residualRelativeDb, 'dB')} relative to the mix; RMS ${db(r.residualRmsDbfs, 'dBFS')}, ` +
         `mix RMS ${db(r.mixRmsDbfs, 'dBFS')}, peak ${db(r.residualPeakDbfs, 'dBFS', 'none')}, tolerance ${r.toleranceDb} dB\n`,
     );
-    const labels = report.members.find((m) => m.role === 'mix')?.report.format.channelLabels ?? [];
+    const mix = report.set.members.find((m) => m.role === 'mix');
+    const labels = mix?.channelLabels ?? [];
+    const rate = mix?.sampleRate ?? 1;
     for (const c of r.channels)
       lines.push(
-        `  ch ${labels[c.channel] ?? c.channel + 1}: ${db(c.residualRelativeDb, 'dB')} relative, peak ${db(c.residualPeakDbfs, 'dBFS', 'none')}\n`,
+        `  ch ${labels[c.channel] ?? c.channel + 1}: ${db(c.residualRelativeDb, 'dB')} relative, peak ${db(c.residualPeakDbfs, 'dBFS', 'none')}${c.residualPeakFrame === null ? '' : ` at ${(c.residualPeakFrame / rate).toFixed(3)} s`}\n`,
       );
     for (const s of report.residualSpans.slice(0, SHOWN_SPANS))
       lines.push(
