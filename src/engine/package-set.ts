@@ -123,13 +123,26 @@ function lengthCheck(members: readonly SetMember[], reference: SetMember): SetCh
   return { ...check, explanation: `${check.explanation} (${diffs.join('; ')})` };
 }
 
+/** A decode error names the member it came from. */
+function named(name: string, thrown: unknown): EarmarkError {
+  const error = toEarmarkError(thrown);
+  return new EarmarkError(error.code, `${name}: ${error.message}`, { ...error.details, member: name });
+}
+
+async function readNamed(name: string, reader: FrameReader): Promise<number> {
+  try {
+    return await reader.read();
+  } catch (thrown) {
+    throw named(name, thrown);
+  }
+}
+
 async function openMember(member: PackageMemberInput, decode: DecodeOptions | undefined) {
   const name = member.name ?? member.path;
   try {
     return { name, audio: await openAudioFile(member.path, decode) };
   } catch (thrown) {
-    const error = toEarmarkError(thrown);
-    throw new EarmarkError(error.code, `${name}: ${error.message}`, { ...error.details, member: name });
+    throw named(name, thrown);
   }
 }
 
@@ -196,7 +209,7 @@ export async function checkOpenedSet(
     while (opened.some((o) => !o.reader.done)) {
       if (options.signal?.aborted) throw new EarmarkError('cancelled', 'the package check was cancelled');
       const counts: number[] = [];
-      for (const o of opened) counts.push(o.reader.done ? 0 : await o.reader.read());
+      for (const o of opened) counts.push(o.reader.done ? 0 : await readNamed(o.name, o.reader));
       if (meter && residualOpen) {
         // Sum over the length all stems and the mix share; a length mismatch is its own check.
         const common = Math.min(counts[mixIndex], ...stemIndexes.map((i) => counts[i]));

@@ -13,6 +13,7 @@ import type { PcmBlock } from '../../src/analysis/audio.ts';
 import { openPcmStream } from '../../src/decode/index.ts';
 import type { DecodedAudio } from '../../src/decode/types.ts';
 import { encodePcmFrames, wavHeader } from '../../src/encode/wav.ts';
+import { EarmarkError } from '../../src/errors/index.ts';
 import { FrameReader } from '../../src/engine/frame-reader.ts';
 import { checkOpenedSet, checkPackageSet } from '../../src/engine/package-set.ts';
 import { seededRandom } from '../../src/selftest/signals.ts';
@@ -89,6 +90,38 @@ describe('lockstep across decoders', () => {
     // FLAC is lossless (RFC 9639): the integer sum still nulls to digital silence.
     expect(result.residual?.residualRelativeDb).toBeNull();
     expect(result.residual?.frames).toBe(96_000);
+  });
+});
+
+describe('errors', () => {
+  it('a decode error part-way names its member and closes the others', async () => {
+    const channels = [new Float32Array(50_000), new Float32Array(50_000)];
+    const good = fakeAudio(channels, [4096]);
+    let goodClosed = false;
+    const blocks = good.blocks;
+    good.blocks = (async function* () {
+      try {
+        yield* blocks;
+      } finally {
+        goodClosed = true;
+      }
+    })();
+    const broken = fakeAudio(channels, [4096]);
+    broken.blocks = (async function* () {
+      yield { channelData: channels.map((c) => c.subarray(0, 4096)), frames: 4096 };
+      throw new EarmarkError('corrupt_file', 'bad frame at byte 1234');
+    })();
+    await expect(
+      checkOpenedSet([
+        { name: 'mix.wav', role: 'mix', audio: good },
+        { name: 'stem.wav', role: 'stem', audio: broken },
+      ]),
+    ).rejects.toMatchObject({
+      code: 'corrupt_file',
+      message: 'stem.wav: bad frame at byte 1234',
+      details: { member: 'stem.wav' },
+    });
+    expect(goodClosed).toBe(true);
   });
 });
 
