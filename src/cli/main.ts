@@ -27,7 +27,7 @@ const USAGE = `usage:
       rate: 23.976 24 25 29.97-df 29.97-ndf 30 50 59.94-df 59.94-ndf 60 (default: the profile's)
       --layout: channel layout of a file without a channel mask or chna chunk: ${LAYOUT_NAMES.join(' ')}
   earmark package --profile <id|path.json> --mix <file> --stem <file> [--stem <file>...] [--version <file>...]
-                  [--tolerance dB] [--fps rate] [--json] [--threads N|auto]
+                  [--stem-profile <id|path.json>] [--tolerance dB] [--fps rate] [--json] [--threads N|auto]
       stems must sum to the mix within --tolerance (default -60 dB residual relative to the mix)
   earmark profiles [id] [--json]
   earmark selftest [--json]

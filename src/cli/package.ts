@@ -14,6 +14,7 @@ import { frameRate, resolveProfile } from '../profiles/index.ts';
 
 const PACKAGE_FLAGS = {
   profile: { type: 'string' },
+  'stem-profile': { type: 'string' },
   mix: { type: 'string' },
   stem: { type: 'string', multiple: true },
   version: { type: 'string', multiple: true },
@@ -32,6 +33,9 @@ const db = (value: number | null, unit: string, none = 'digital silence') =>
 export function formatPackage(report: PackageReport): string {
   const lines: string[] = [`${report.headline}\n`];
   lines.push(`profile  ${report.profile.id} ${report.profile.version}\n`);
+  const stemProfile = report.members.find((m) => m.role === 'stem')?.report.profile;
+  if (stemProfile && stemProfile.id !== report.profile.id)
+    lines.push(`stems    ${stemProfile.id} ${stemProfile.version}\n`);
   lines.push('files\n');
   const byName = new Map(report.set.members.map((m) => [m.name, m]));
   for (const m of report.members) {
@@ -102,7 +106,9 @@ export async function packageCommand(args: string[], io: CliIo): Promise<number>
   const toleranceDb = toleranceOption(values.tolerance);
   const fps = values.fps === undefined ? undefined : frameRate(values.fps, 'fps').id;
   const profile = await resolveProfile(values.profile);
+  const stemProfile = values['stem-profile'] === undefined ? undefined : await resolveProfile(values['stem-profile']);
   const report = await checkPackage(profile, members, {
+    ...(stemProfile ? { stemProfile } : {}),
     toleranceDb,
     threads: threadsOption(values.threads),
     ...(fps ? { frameRate: fps } : {}),

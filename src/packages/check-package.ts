@@ -58,6 +58,8 @@ export interface PackageReport {
 }
 
 export interface CheckPackageOptions {
+  /** The profile stems are checked against (stems rarely meet a programme's loudness target); default the package's. */
+  stemProfile?: Profile;
   toleranceDb?: number;
   windowSeconds?: number;
   frameRate?: FrameRateId;
@@ -74,6 +76,9 @@ const SET_CHECK_WORDS: Record<SetCheckId, string> = {
   stems_sum_to_mix: 'the stems do not sum to the mix',
 };
 
+/** Failing files named in the headline; the rest are counted. */
+const SHOWN_MEMBERS = 3;
+
 const RANK: Record<Verdict, number> = { pass: 0, warn: 1, fail: 2 };
 
 export function worstVerdict(verdicts: readonly Verdict[]): Verdict {
@@ -89,14 +94,15 @@ export async function checkPackage(
   const members: PackageMemberResult[] = [];
   for (const input of inputs) {
     const name = input.name ?? input.path;
+    const own = input.role === 'stem' ? (options.stemProfile ?? profile) : profile;
     const document = await analyzeFile(input.path, {
-      analysis: analysisOptionsForProfile(profile),
-      decode: decodeOptionsForProfile(profile),
+      analysis: analysisOptionsForProfile(own),
+      decode: decodeOptionsForProfile(own),
       displayName: name,
       ...(options.threads !== undefined ? { threads: options.threads } : {}),
       ...(options.signal ? { signal: options.signal } : {}),
     });
-    const report = evaluate(profile, document, {
+    const report = evaluate(own, document, {
       ...(options.frameRate ? { frameRate: options.frameRate } : {}),
       ...(options.now ? { now: options.now } : {}),
     });
@@ -152,11 +158,16 @@ function headline(
     r && r.residualRelativeDb !== null
       ? ` (residual ${r.residualRelativeDb.toFixed(1)} dB relative to the mix, tolerance ${r.toleranceDb} dB)`
       : '';
+  const memberWords = failedMembers
+    .slice(0, SHOWN_MEMBERS)
+    .map((m) => `${m.name} ${m.verdict}s: ${m.headline.replace(/^(PASS|WARN|FAIL): /, '')}`);
+  if (failedMembers.length > SHOWN_MEMBERS)
+    memberWords.push(`${failedMembers.length - SHOWN_MEMBERS} more files do not pass`);
   const reasons = [
     ...broken.map((id) => `${SET_CHECK_WORDS[id]}${id === 'stems_sum_to_mix' ? sumWords : ''}`),
-    ...failedMembers.map((m) => `${m.name} ${m.verdict}s: ${m.headline}`),
+    ...memberWords,
   ];
-  if (reasons.length === 0) return `${word}: ${members.length} files agree and each meets the profile`;
+  if (reasons.length === 0) return `${word}: ${members.length} files agree and each meets its profile`;
   return `${word}: ${reasons.join('; ')}`;
 }
 

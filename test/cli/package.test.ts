@@ -94,6 +94,18 @@ describe('earmark package', () => {
     expect(report.headline).toContain('lengths differ');
   });
 
+  it('--stem-profile judges the stems by their own profile; the headline names the files that fail', async () => {
+    const io = capture();
+    const args = ['package', '--profile', profile, '--stem-profile', 'ebu-r128', ...stemArgs(good)];
+    expect(await main(args, io)).toBe(2);
+    expect(io.out).toContain('stems    ebu-r128 1.0.0');
+    // The stems (220 Hz, 1 kHz, 3 kHz sines) read -14.9, -20.0 and -22.9 LUFS in this run: under
+    // EBU R 128's -23 +/-1 LUFS (R 128 item h) only the last passes; the mix is judged by the house profile.
+    expect(io.out).toMatch(/^FAIL: \S*good-stem-1\.wav fails: Integrated loudness/);
+    expect(io.out).not.toContain('FAIL: FAIL');
+    expect(io.out).toMatch(/mix {5}PASS/);
+  });
+
   it('versions alone are compared on rate, depth and length', async () => {
     const io = capture();
     expect(await main(['package', '--profile', profile, '--version', good.mix, '--version', muted.mix], io)).toBe(0);
