@@ -55,6 +55,9 @@ export interface ResidualResult {
   withinTolerance: boolean;
 }
 
+/** Frames summed at a time: the scratch buffer stays small whatever the window. */
+const SUM_FRAMES = 4096;
+
 export class StemResidualMeter {
   private readonly channels: number;
   private readonly windowFrames: number;
@@ -82,7 +85,7 @@ export class StemResidualMeter {
     this.peak = new Float64Array(channels);
     this.peakFrame = new Float64Array(channels).fill(-1);
     this.windowSquares = new Float64Array(channels);
-    this.sum = new Float64Array(windowFrames);
+    this.sum = new Float64Array(SUM_FRAMES);
     const windows = Math.ceil(expectedFrames / windowFrames);
     this.windowWorst = new GrowableFloat64(windows);
     this.windowChannel = new GrowableFloat64(windows);
@@ -92,7 +95,7 @@ export class StemResidualMeter {
   push(stems: readonly (readonly Float32Array[])[], mix: readonly Float32Array[], frames: number): void {
     let done = 0;
     while (done < frames) {
-      const n = Math.min(frames - done, this.windowFrames - this.windowFill);
+      const n = Math.min(frames - done, this.windowFrames - this.windowFill, SUM_FRAMES);
       for (let c = 0; c < this.channels; c++) this.pushChannel(stems, mix, c, done, n);
       done += n;
       this.windowFill += n;

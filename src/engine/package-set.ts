@@ -179,8 +179,9 @@ export async function checkOpenedSet(
       field: 'tolerance',
     });
   const windowSeconds = options.windowSeconds ?? DEFAULT_RESIDUAL_WINDOW_SECONDS;
-  if (!(windowSeconds > 0 && windowSeconds <= 60))
-    throw new EarmarkError('invalid_argument', 'the residual window must lie above 0 and at most 60 seconds', {
+  // Two numbers are kept per window: 10 ms windows bound that to 1.6 kB per second of audio.
+  if (!(windowSeconds >= 0.01 && windowSeconds <= 60))
+    throw new EarmarkError('invalid_argument', 'the residual window must lie from 0.01 to 60 seconds', {
       field: 'windowSeconds',
     });
   const opened = members.map((m) => ({ name: m.name, reader: new FrameReader(m.audio, STEP_FRAMES) }));

@@ -226,6 +226,21 @@ describe('stems that do not sum to the mix', () => {
     ).rejects.toMatchObject({
       code: 'invalid_argument',
     });
+    for (const bad of [
+      { windowSeconds: 0.001 },
+      { windowSeconds: 61 },
+      { toleranceDb: 0 },
+      { toleranceDb: Number.NaN },
+    ])
+      await expect(
+        checkPackageSet(
+          [
+            { path: set.mix, role: 'mix' },
+            { path: set.stems[0], role: 'stem' },
+          ],
+          bad,
+        ),
+      ).rejects.toMatchObject({ code: 'invalid_argument' });
     await expect(checkPackageSet([{ path: set.mix, role: 'version' }])).rejects.toMatchObject({
       code: 'invalid_argument',
     });
