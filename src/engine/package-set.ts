@@ -11,7 +11,12 @@ import {
   type ResidualResult,
 } from '../analysis/stem-residual.ts';
 import { openAudioFile } from '../decode/index.ts';
-import type { AudioFormat, DecodedAudio, DecodeOptions } from '../decode/types.ts';
+import {
+  DEFAULT_MAX_DECODED_SECONDS,
+  type AudioFormat,
+  type DecodedAudio,
+  type DecodeOptions,
+} from '../decode/types.ts';
 import { EarmarkError, toEarmarkError } from '../errors/index.ts';
 import { FrameReader } from './frame-reader.ts';
 
@@ -203,7 +208,11 @@ export async function checkOpenedSet(
       ? new StemResidualMeter(
           format(mixIndex).channels,
           Math.max(1, Math.round(windowSeconds * format(mixIndex).sampleRate)),
-          format(mixIndex).frames ?? 0,
+          // A header may claim any length: presize no further than the decode cap allows.
+          Math.min(
+            format(mixIndex).frames ?? 0,
+            (options.decode?.maxDecodedSeconds ?? DEFAULT_MAX_DECODED_SECONDS) * format(mixIndex).sampleRate,
+          ),
         )
       : null;
     let residualOpen = summing;

@@ -125,6 +125,20 @@ describe('errors', () => {
   });
 });
 
+describe('claims', () => {
+  it('a header claiming 2^50 frames does not size anything by the claim', async () => {
+    const channels = [new Float32Array(10_000), new Float32Array(10_000)];
+    const liar = fakeAudio(channels, [4096]);
+    liar.format = { ...liar.format, frames: 2 ** 50, durationSeconds: 2 ** 50 / 48_000 };
+    const result = await checkOpenedSet([
+      { name: 'mix.wav', role: 'mix', audio: liar },
+      { name: 'stem.wav', role: 'stem', audio: fakeAudio(channels, [4096]) },
+    ]);
+    expect(result.members.map((m) => m.frames)).toEqual([10_000, 10_000]);
+    expect(result.residual?.frames).toBe(10_000);
+  });
+});
+
 describe('constant memory', () => {
   setFlagsFromString('--expose-gc');
   const collectGarbage = runInNewContext('gc') as () => void;
