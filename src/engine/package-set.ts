@@ -28,6 +28,8 @@ export interface PackageMemberInput {
   role: PackageRole;
   /** Name to report (default: the path as given). */
   name?: string;
+  /** This member's decode options (its profile's declared layout), over the set's. */
+  decode?: DecodeOptions;
 }
 
 export interface SetMember {
@@ -145,7 +147,7 @@ async function readNamed(name: string, reader: FrameReader): Promise<number> {
 async function openMember(member: PackageMemberInput, decode: DecodeOptions | undefined) {
   const name = member.name ?? member.path;
   try {
-    return { name, audio: await openAudioFile(member.path, decode) };
+    return { name, audio: await openAudioFile(member.path, { ...decode, ...member.decode }) };
   } catch (thrown) {
     throw named(name, thrown);
   }

@@ -92,12 +92,13 @@ export async function checkPackage(
 ): Promise<PackageReport> {
   assertPackageShape(inputs);
   const members: PackageMemberResult[] = [];
+  const profileOf = (input: PackageMemberInput) => (input.role === 'stem' ? (options.stemProfile ?? profile) : profile);
   for (const input of inputs) {
     const name = input.name ?? input.path;
-    const own = input.role === 'stem' ? (options.stemProfile ?? profile) : profile;
+    const own = profileOf(input);
     const document = await analyzeFile(input.path, {
       analysis: analysisOptionsForProfile(own),
-      decode: decodeOptionsForProfile(own),
+      decode: { ...decodeOptionsForProfile(own), ...input.decode },
       displayName: name,
       ...(options.threads !== undefined ? { threads: options.threads } : {}),
       ...(options.signal ? { signal: options.signal } : {}),
@@ -108,10 +109,14 @@ export async function checkPackage(
     });
     members.push({ name, role: input.role, verdict: report.verdict, headline: report.headline, report });
   }
-  const set = await checkPackageSet(inputs, {
+  // Each member decodes as in its own check (its profile's declared layout).
+  const decoded = inputs.map((input) => ({
+    ...input,
+    decode: { ...decodeOptionsForProfile(profileOf(input)), ...input.decode },
+  }));
+  const set = await checkPackageSet(decoded, {
     ...(options.toleranceDb !== undefined ? { toleranceDb: options.toleranceDb } : {}),
     ...(options.windowSeconds !== undefined ? { windowSeconds: options.windowSeconds } : {}),
-    decode: decodeOptionsForProfile(profile),
     ...(options.signal ? { signal: options.signal } : {}),
   });
   return packageReport(profile, members, set, options);
