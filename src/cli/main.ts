@@ -11,13 +11,14 @@ import { checkCommand } from './check.ts';
 import { compareCommand } from './compare.ts';
 import { formatAnalysis } from './format-analysis.ts';
 import { layoutOption } from './layout-option.ts';
+import { packageCommand } from './package.ts';
 import { profilesCommand } from './profiles.ts';
 import { runSelftest } from './selftest.ts';
 import { THREADS_FLAG, threadsOption } from './threads.ts';
 
 export const EXIT_ERROR = 3;
 
-const COMMANDS = ['analyze', 'check', 'compare', 'profiles', 'selftest', 'help', 'version'] as const;
+const COMMANDS = ['analyze', 'check', 'compare', 'package', 'profiles', 'selftest', 'help', 'version'] as const;
 
 const USAGE = `usage:
   earmark analyze <file> [--json] [--all] [--true-peak-ceiling dBTP] [--clip-run N] [--clip-threshold dBFS]
@@ -28,6 +29,9 @@ const USAGE = `usage:
       --layout: channel layout of a file without a channel mask or chna chunk: ${LAYOUT_NAMES.join(' ')}
   earmark compare <old report.json|file> <new report.json|file> [--profile <id|path.json>] [--json] [--all]
       an audio file is checked with --profile first; exit code: the new file's verdict
+  earmark package --profile <id|path.json> --mix <file> --stem <file> [--stem <file>...] [--version <file>...]
+                  [--stem-profile <id|path.json>] [--tolerance dB] [--fps rate] [--json] [--threads N|auto]
+      stems must sum to the mix within --tolerance (default -60 dB residual relative to the mix)
   earmark profiles [id] [--json]
   earmark selftest [--json]
   earmark --version
@@ -139,6 +143,8 @@ export async function main(argv: string[], io: CliIo = defaultIo): Promise<numbe
         return await checkCommand(rest, io);
       case 'compare':
         return await compareCommand(rest, io);
+      case 'package':
+        return await packageCommand(rest, io);
       case 'profiles':
         return profilesCommand(rest, io);
       case 'selftest':
