@@ -11,16 +11,24 @@ function parseCsv(text: string): string[][] {
   let row: string[] = [];
   let field = '';
   let quoted = false;
+  const endField = () => {
+    row.push(field);
+    field = '';
+  };
   for (let i = 0; i < text.length; i++) {
     const c = text[i];
-    if (quoted) {
-      if (c === '"' && text[i + 1] === '"') (field += '"'), i++;
-      else if (c === '"') quoted = false;
-      else field += c;
-    } else if (c === '"') quoted = true;
-    else if (c === ',') row.push(field), (field = '');
+    if (quoted && c === '"' && text[i + 1] === '"') {
+      field += '"';
+      i++;
+    } else if (quoted && c === '"') quoted = false;
+    else if (quoted) field += c;
+    else if (c === '"') quoted = true;
+    else if (c === ',') endField();
     else if (c === '\r' && text[i + 1] === '\n') {
-      row.push(field), rows.push(row), (row = []), (field = ''), i++;
+      endField();
+      rows.push(row);
+      row = [];
+      i++;
     } else field += c;
   }
   expect(field).toBe('');

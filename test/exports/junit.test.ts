@@ -55,7 +55,7 @@ describe('JUnit XML', () => {
   it('warn passes by default with a note in system-out; counts add up', () => {
     const xml = junitXml(entries, { suiteName: 'nightly' });
     expect(xml).toContain('<testsuite name="nightly" tests="5" failures="1" errors="1" skipped="1"');
-    expect(xml).toMatch(/name="b-warn.wav"[^]*?<system-out>WARN: mono/);
+    expect(xml).toMatch(/name="b-warn.wav"[\s\S]*?<system-out>WARN: mono/);
     expect(xml).not.toMatch(/[\u0000-\u0008\u000b\u000c\u000e-\u001f]/);
   });
 
