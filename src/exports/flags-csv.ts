@@ -82,13 +82,24 @@ export const csvLine = (cells: readonly string[]): string => `${cells.join(',')}
 /** The header line. */
 export const flagsCsvHeader = (): string => csvLine([...FLAG_CSV_COLUMNS]);
 
-/** The rows of one report's kept flags (a report caps its flags: `flagsTruncated`). */
-export function flagsCsvRows(report: Pick<QcReport, 'file' | 'flags'>): string {
-  const file = report.file?.name ?? '';
-  return report.flags.map((f) => csvLine(row(file, f).map(cell))).join('');
+/** One file's flags: the name its rows carry (the path checked, or the report's file name). */
+export interface FlagsOfFile {
+  file: string;
+  flags: readonly Flag[];
 }
 
-/** A whole CSV file: header, then the flags of each report in order. */
-export function flagsCsv(reports: ReadonlyArray<Pick<QcReport, 'file' | 'flags'>>): string {
-  return flagsCsvHeader() + reports.map(flagsCsvRows).join('');
+/** The rows of one report's kept flags (a report caps its flags: `flagsTruncated`). */
+export function flagsCsvRows({ file, flags }: FlagsOfFile): string {
+  return flags.map((f) => csvLine(row(file, f).map(cell))).join('');
 }
+
+/** A whole CSV file: header, then the flags of each file in order. */
+export function flagsCsv(files: readonly FlagsOfFile[]): string {
+  return flagsCsvHeader() + files.map(flagsCsvRows).join('');
+}
+
+/** The entry for a report, named by its file name. */
+export const flagsOfReport = (report: Pick<QcReport, 'file' | 'flags'>): FlagsOfFile => ({
+  file: report.file?.name ?? '',
+  flags: report.flags,
+});

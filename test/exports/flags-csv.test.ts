@@ -2,7 +2,7 @@
 // would run as formulas neutralised (common practice: OWASP "CSV injection") while negative
 // numbers stay numbers.
 import { describe, expect, it } from 'vitest';
-import { csvNumber, FLAG_CSV_COLUMNS, flagsCsv } from '../../src/exports/flags-csv.ts';
+import { csvNumber, FLAG_CSV_COLUMNS, flagsCsv, flagsOfReport } from '../../src/exports/flags-csv.ts';
 import { sampleReport } from '../views/sample-report.ts';
 
 /** A minimal RFC 4180 reader (section 2: quoted fields may hold commas, CRLF and doubled quotes). */
@@ -39,7 +39,7 @@ describe('flags CSV', () => {
   const report = sampleReport();
 
   it('has a header with units and one row per flag, CRLF line ends (RFC 4180 section 2)', () => {
-    const csv = flagsCsv([report]);
+    const csv = flagsCsv([flagsOfReport(report)]);
     expect(csv.endsWith('\r\n')).toBe(true);
     expect(csv.replaceAll('\r\n', '')).not.toMatch(/(?<!")\n/);
     const rows = parseCsv(csv);
@@ -63,7 +63,7 @@ describe('flags CSV', () => {
   it('quotes commas, quotes and line breaks; prefixes formula starts in text, not negative numbers', () => {
     const f = report.flags[0];
     const hostile = {
-      file: { name: '=HYPERLINK("x"),1.wav', sizeBytes: 1 },
+      file: '=HYPERLINK("x"),1.wav',
       flags: [
         { ...f, message: '@SUM(A1)\r\nline two, "quoted"', title: '+x', worstValue: -0.25, unit: 'dBTP' },
         { ...f, message: '-2+3', channelName: '\tall', worstValue: -1e-9 },
