@@ -5,6 +5,7 @@
 import type { FastifyPluginAsync } from 'fastify';
 import type { Config } from '../config/index.ts';
 import type { AppDeps } from './deps.ts';
+import { exportSpecs, exportsPlugin } from './plugins/exports.ts';
 import { healthPlugin, healthSpecs } from './plugins/health.ts';
 import { jobSpecs, jobsPlugin } from './plugins/jobs.ts';
 import { pageSpecs, pagesPlugin } from './plugins/pages.ts';
@@ -22,6 +23,7 @@ export const routeModules: readonly RouteModule[] = [
   { specs: jobSpecs, plugin: (deps, config) => jobsPlugin(deps, config.uploadLimitBytes, config.bodyTimeoutMs) },
   { specs: uploadSpecs, plugin: (deps, config) => uploadsPlugin(deps, config.uploadLimitBytes) },
   { specs: reportViewSpecs, plugin: reportViewsPlugin },
+  { specs: exportSpecs, plugin: exportsPlugin },
   { specs: profileSpecs, plugin: profilesPlugin },
   { specs: pageSpecs, plugin: pagesPlugin },
   { specs: healthSpecs, plugin: healthPlugin },
