@@ -5,6 +5,7 @@ import { readdir, stat } from 'node:fs/promises';
 import { extname, join, resolve } from 'node:path';
 import { PROJECT_ROOT } from '../config/paths.ts';
 import { EarmarkError, isErrorCode, type WireError } from '../errors/index.ts';
+import { summarise, type ReportSummary } from '../exports/junit.ts';
 import type { QcReport } from '../profiles/index.ts';
 
 /** What a folder contributes: the audio extensions Earmark reads (a file named outright is always checked). */
@@ -67,7 +68,9 @@ export async function expandInputs(
   return files.filter((f) => !seen.has(resolve(f)) && seen.add(resolve(f)));
 }
 
-export type BatchResult = { file: string; report: QcReport } | { file: string; error: WireError };
+/** Per file only its summary is kept (a report with its loudness series is far larger), so memory
+ * grows by kilobytes per file, not by whole reports. */
+export type BatchResult = { file: string; report: ReportSummary } | { file: string; error: WireError };
 
 export interface BatchOptions {
   /** `--profile` as given: an id or a path the children resolve the same way. */
@@ -101,7 +104,7 @@ function checkInChild(file: string, o: BatchOptions): Promise<BatchResult> {
     child.on('close', (code, signal) => {
       if (code !== null && code <= 2) {
         try {
-          done({ file, report: JSON.parse(Buffer.concat(out).toString('utf8')) as QcReport });
+          done({ file, report: summarise(JSON.parse(Buffer.concat(out).toString('utf8')) as QcReport) });
         } catch {
           failed('internal_error', 'the check printed no report');
         }

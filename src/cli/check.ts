@@ -145,6 +145,13 @@ function junitWarnOption(raw: string | undefined): JunitWarnAs {
   return found;
 }
 
+/** One line of a batch's --json: the verdict and readings, or the error; `--json` on one file gives the whole report. */
+function batchJson(r: BatchResult) {
+  if ('error' in r) return { file: r.file, error: r.error };
+  const { verdict, headline, profile, summary, flagCounts, flagsTotal } = r.report;
+  return { file: r.file, verdict, headline, profile, ...summary, flagCounts, flagsTotal };
+}
+
 /** main.ts's error exit: a file of a batch that could not be checked counts as it does alone. */
 const EXIT_NOT_CHECKED = 3;
 /** Exit code of a batch: the worst verdict, or 3 when a file could not be checked. */
@@ -214,7 +221,7 @@ export async function checkCommand(args: string[], io: CliIo): Promise<number> {
         `[${done}/${total}] ${printableName(r.file)}: ${'report' in r ? r.report.verdict : `error ${r.error.code}`}\n`,
       ),
   });
-  io.stdout(values.json ? `${JSON.stringify(results)}\n` : formatBatchTable(results));
+  io.stdout(values.json ? `${JSON.stringify(results.map(batchJson))}\n` : formatBatchTable(results));
   await csv(results.flatMap((r) => ('report' in r ? [{ file: r.file, flags: r.report.flags }] : [])));
   await junit(
     results.map((r) => ('report' in r ? { name: r.file, report: r.report } : { name: r.file, error: r.error })),

@@ -9,8 +9,30 @@ import type { QcReport } from '../profiles/index.ts';
 export type JunitWarnAs = 'pass' | 'failure' | 'skipped';
 export const JUNIT_WARN_AS: readonly JunitWarnAs[] = ['pass', 'failure', 'skipped'];
 
+/** What a test case reads of a report (a batch keeps only this much of each file's report). */
+export type ReportSummary = Pick<
+  QcReport,
+  'verdict' | 'headline' | 'profile' | 'checks' | 'flagCounts' | 'flagsTotal' | 'flags'
+> & { summary: Pick<QcReport['summary'], 'integratedLufs' | 'truePeakDbtp'> };
+
+/** The summary of a full report: the readings and judgements, without the analysis series. */
+export function summarise(r: ReportSummary): ReportSummary {
+  const { verdict, headline, profile, checks, flagCounts, flagsTotal, flags } = r;
+  const { integratedLufs, truePeakDbtp } = r.summary;
+  return {
+    verdict,
+    headline,
+    profile,
+    checks,
+    flagCounts,
+    flagsTotal,
+    flags,
+    summary: { integratedLufs, truePeakDbtp },
+  };
+}
+
 export type JunitEntry =
-  | { name: string; report: QcReport }
+  | { name: string; report: ReportSummary }
   | { name: string; error: { code: string; message: string } }
   | { name: string; pending: string };
 
@@ -46,7 +68,7 @@ export function xmlText(value: string, attribute = false): string {
 const attr = (name: string, value: string | number) => ` ${name}="${xmlText(String(value), true)}"`;
 
 /** The lines a person needs: the broken checks and the flag counts. */
-function details(report: QcReport): string {
+function details(report: ReportSummary): string {
   const lines = report.checks.filter((c) => !c.passed).map((c) => `${c.severity}: ${c.ruleId}: ${c.explanation}`);
   const n = report.flagCounts;
   lines.push(`flags: ${report.flagsTotal} (${n.fail} fail, ${n.warn} warn, ${n.remark} remark)`);

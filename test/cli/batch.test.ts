@@ -129,6 +129,18 @@ describe('earmark check on many files', () => {
     expect(readFileSync(junit, 'utf8')).toContain('tests="3" failures="0" errors="2" skipped="0"');
   }, 120_000);
 
+  it('--json prints one summary per file', async () => {
+    const io = capture();
+    expect(await main(['check', onTarget, join(dir, 'missing.wav'), '--profile', 'ebu-r128', '--json'], io)).toBe(3);
+    const rows = JSON.parse(io.out);
+    expect(rows).toMatchObject([
+      { file: onTarget, verdict: 'pass', profile: { id: 'ebu-r128' }, flagCounts: { fail: 0, warn: 0 } },
+      { file: join(dir, 'missing.wav'), error: { code: 'file_not_found' } },
+    ]);
+    // EBU Tech 3341 case 1 style: -23 dBFS peak stereo sine reads -23.0 LUFS (+/-0.1 LU).
+    expect(rows[0].integratedLufs).toBeCloseTo(-23, 1);
+  }, 60_000);
+
   it('refuses --markers for many files and a bad --jobs', async () => {
     let io = capture();
     expect(await main(['check', folder, '--profile', 'ebu-r128', '--markers', join(dir, 'm.wav')], io)).toBe(3);

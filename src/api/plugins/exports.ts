@@ -5,7 +5,7 @@ import { Readable } from 'node:stream';
 import { EarmarkError } from '../../errors/index.ts';
 import { planMarkedWav } from '../../exports/cue-wav.ts';
 import { flagsCsv, flagsOfReport } from '../../exports/flags-csv.ts';
-import { JUNIT_WARN_AS, junitXml, type JunitEntry } from '../../exports/junit.ts';
+import { JUNIT_WARN_AS, junitXml, summarise, type JunitEntry } from '../../exports/junit.ts';
 import type { QcReport } from '../../profiles/index.ts';
 import { decodeFailureError } from '../../queue/contract.ts';
 import type { LocalCopy } from '../../storage/index.ts';
@@ -151,7 +151,7 @@ export function exportsPlugin(deps: AppDeps) {
         else if (loaded.state !== 'completed') entries.push({ name, pending: `job ${id} is ${loaded.state}` });
         else {
           try {
-            entries.push({ name, report: await reportOf(tenant, id) });
+            entries.push({ name, report: summarise(await reportOf(tenant, id)) });
           } catch (error) {
             if (!(error instanceof EarmarkError)) throw error;
             entries.push({ name, error: { code: error.code, message: error.message } });
