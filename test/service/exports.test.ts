@@ -1,7 +1,8 @@
 // Exports over HTTP against a real server, real Redis and a real worker: flags as CSV, the markers
 // WAV streamed from storage (read back by our cue reader, audio bytes unchanged), and the JUnit
 // summary of several jobs. Every response is checked against openapi/openapi.yaml.
-import { readFileSync, writeFileSync } from 'node:fs';
+import { createHash } from 'node:crypto';
+import { readdirSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { open } from 'node:fs/promises';
 import { join } from 'node:path';
 import request from 'supertest';
@@ -127,5 +128,22 @@ describe('exports over HTTP', () => {
     const other = await api.get(`/v1/jobs.junit.xml?ids=${ids.pass}`, KEYS.beta);
     expect(other.text).toContain('tests="1" failures="0" errors="1"');
     expect((await api.get('/v1/jobs.junit.xml?ids=nope', KEYS.alpha)).status).toBe(400);
+  });
+
+  it('markers.wav once the stored audio is gone (past retention) is 404, without the path', async () => {
+    const report = (await api.get(`/v1/jobs/${ids.pass}/report`, KEYS.alpha)).body;
+    const uploads = join(service.dir, 'uploads');
+    const stored = readdirSync(uploads).find(
+      (name) =>
+        createHash('sha256')
+          .update(readFileSync(join(uploads, name)))
+          .digest('hex') === report.file.sha256,
+    );
+    expect(stored).toBeDefined();
+    rmSync(join(uploads, stored ?? ''));
+    const res = await api.get(`/v1/jobs/${ids.pass}/markers.wav`, KEYS.alpha);
+    expect(res.status).toBe(404);
+    expect(res.body.detail).toContain('past its retention period');
+    expect(JSON.stringify(res.body)).not.toContain(service.dir);
   });
 });
