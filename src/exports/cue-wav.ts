@@ -8,7 +8,7 @@
 // to an even length. Other containers are refused with `markers_need_wave` (no decode to WAV: an
 // editor wants the delivered file's own audio, bit for bit).
 import { open } from 'node:fs/promises';
-import { fourcc, u16le } from '../decode/bytes.ts';
+import { u16le } from '../decode/bytes.ts';
 import { readRiffLayout, type RiffChunk, type RiffKind } from '../decode/riff-chunks.ts';
 import { EarmarkError } from '../errors/index.ts';
 import type { Flag } from '../profiles/index.ts';
@@ -211,7 +211,3 @@ export async function planMarkedWav(path: string, flags: readonly Flag[]): Promi
   }
   return { kind, sizeBytes: 8 + riffBytes, markers: markers.length, chunks: chunkStream };
 }
-
-/** Whether `head` (the file's first 12 bytes) starts a WAVE-family file. */
-export const isWaveFamily = (head: Uint8Array): boolean =>
-  head.length >= 12 && ['RIFF', 'RF64', 'BW64'].includes(fourcc(head, 0)) && fourcc(head, 8) === 'WAVE';
