@@ -24,10 +24,10 @@ const USAGE = `usage:
                          [--downmix] [--channel-loudness] [--dialogue] [--min-speech-share percent]
   earmark check <file> --profile <id|path.json> [--fps rate] [--layout name] [--json] [--all] [--threads N|auto]
                  [--csv flags.csv] [--junit summary.xml] [--junit-warn pass|failure|skipped] [--markers copy.wav]
-  earmark check <files or folders...> --profile <id|path.json> [--jobs N] [--csv flags.csv] [--junit summary.xml]
-      folders: their audio files, recursively; --jobs: files at a time (default: the cores)
       rate: 23.976 24 25 29.97-df 29.97-ndf 30 50 59.94-df 59.94-ndf 60 (default: the profile's)
       --layout: channel layout of a file without a channel mask or chna chunk: ${LAYOUT_NAMES.join(' ')}
+  earmark check <files or folders...> --profile <id|path.json> [--jobs N] [--csv flags.csv] [--junit summary.xml]
+      folders: their audio files, recursively; --jobs: files at a time (default: the cores)
   earmark profiles [id] [--json]
   earmark selftest [--json]
   earmark --version
