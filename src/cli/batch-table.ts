@@ -4,7 +4,7 @@ import { fmt } from '../profiles/format.ts';
 import type { BatchResult } from './batch.ts';
 import { printableName } from './printable.ts';
 
-const HEAD = ['file', 'verdict', 'integrated', 'true peak', 'fail', 'warn', 'remark'];
+const HEAD = ['file', 'verdict', 'integrated', 'true peak', 'fail flags', 'warn flags', 'remarks'];
 const reading = (value: number | null, unit: string) => (value === null ? '-' : `${fmt(value)} ${unit}`);
 
 export function formatBatchTable(results: readonly BatchResult[]): string {

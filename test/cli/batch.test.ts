@@ -103,7 +103,7 @@ describe('earmark check on many files', () => {
     );
     expect(code).toBe(2);
     const lines = io.out.trimEnd().split('\n');
-    expect(lines[0]).toMatch(/^file +verdict +integrated +true peak +fail +warn +remark$/);
+    expect(lines[0]).toMatch(/^file +verdict +integrated +true peak +fail flags +warn flags +remarks$/);
     expect(lines[1]).toMatch(/a-on-target\.wav +PASS +-23\.0 LUFS +-23\.0 dBTP +0 +0 +\d+$/);
     expect(lines[2]).toMatch(/b-loud\.wav +FAIL +-14\.0 LUFS +1\.0 dBTP +2 +0 +\d+$/);
     expect(lines.at(-1)).toBe('2 files: 1 pass, 0 warn, 1 fail, 0 not checked');
