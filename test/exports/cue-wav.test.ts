@@ -150,6 +150,10 @@ describe('markers WAV', () => {
     expectWellFormed(out);
     expect(await readCueMarkers(out)).toMatchObject([{ id: 1, sampleOffset: 1000, lengthFrames: 2000 }]);
     expect((await dataBytes(out)).equals(await dataBytes(rf64))).toBe(true);
+    if (hasTool('ffprobe')) {
+      const json = execFileSync('ffprobe', ['-v', 'error', '-show_chapters', '-of', 'json', out], { encoding: 'utf8' });
+      expect((JSON.parse(json) as { chapters: Array<{ start: number }> }).chapters.map((c) => c.start)).toEqual([1000]);
+    }
   });
 
   it('a file outside the WAVE family is refused with markers_need_wave', async () => {
