@@ -62,6 +62,14 @@ describe('earmark check on one file: exports', () => {
     expect((await readCueMarkers(markers)).map((m) => m.sampleOffset)).toEqual(report.flags.map((f) => f.startSample));
   }, 60_000);
 
+  it('a file that cannot be checked still gets its JUnit file, with the error in it', async () => {
+    const io = capture();
+    const junit = join(dir, 'missing.xml');
+    expect(await main(['check', join(dir, 'nope.wav'), '--profile', 'ebu-r128', '--junit', junit], io)).toBe(3);
+    expect(io.err).toContain('error file_not_found');
+    expect(readFileSync(junit, 'utf8')).toContain('tests="1" failures="0" errors="1" skipped="0"');
+  });
+
   it('refuses --markers over the file checked, and a file outside the WAVE family', async () => {
     let io = capture();
     expect(await main(['check', onTarget, '--profile', 'ebu-r128', '--markers', onTarget], io)).toBe(3);
