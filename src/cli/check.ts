@@ -179,6 +179,13 @@ export async function checkCommand(args: string[], io: CliIo): Promise<number> {
       : null;
   const csv = (files: FlagsOfFile[]) => (values.csv ? writeTextFile(values.csv, flagsCsv(files)) : null);
 
+  // An output never replaces a file being checked.
+  const inputs = new Set(positionals.map((p) => resolve(p)));
+  for (const name of ['csv', 'junit', 'markers'] as const) {
+    const out = values[name];
+    if (out !== undefined && inputs.has(resolve(out)))
+      throw new EarmarkError('invalid_argument', `--${name} must name a new file, not a file checked`, { field: name });
+  }
   const single = positionals.length === 1 && !(await stat(positionals[0]).catch(() => null))?.isDirectory();
   if (single) {
     const file = positionals[0];
@@ -214,7 +221,7 @@ export async function checkCommand(args: string[], io: CliIo): Promise<number> {
     ...(values.fps ? { fps: values.fps } : {}),
     ...(layout ? { layout } : {}),
     // One analysis thread per file when files run side by side: at most `jobs` threads in all.
-    threads: values.threads ?? (jobs > 1 ? '1' : 'auto'),
+    threads: values.threads ?? (Math.min(jobs, files.length) > 1 ? '1' : 'auto'),
     jobs,
     onDone: (r, done, total) =>
       io.stderr(

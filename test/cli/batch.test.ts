@@ -74,6 +74,9 @@ describe('earmark check on one file: exports', () => {
     let io = capture();
     expect(await main(['check', onTarget, '--profile', 'ebu-r128', '--markers', onTarget], io)).toBe(3);
     expect(io.err).toContain('error invalid_argument: --markers must name a new file');
+    io = capture();
+    expect(await main(['check', onTarget, loud, '--profile', 'ebu-r128', '--csv', loud], io)).toBe(3);
+    expect(io.err).toContain('--csv must name a new file');
     const aiff = join(dir, 'tone.aiff');
     const tone = new Float32Array(SAMPLE_RATE * 2).map(
       (_, i) => 0.1 * Math.sin((2 * Math.PI * 1000 * i) / SAMPLE_RATE),
