@@ -6,6 +6,7 @@ import type { FastifyPluginAsync } from 'fastify';
 import type { Config } from '../config/index.ts';
 import type { AppDeps } from './deps.ts';
 import { compareSpecs, comparePlugin } from './plugins/compare.ts';
+import { exportSpecs, exportsPlugin } from './plugins/exports.ts';
 import { healthPlugin, healthSpecs } from './plugins/health.ts';
 import { jobSpecs, jobsPlugin } from './plugins/jobs.ts';
 import { pageSpecs, pagesPlugin } from './plugins/pages.ts';
@@ -28,6 +29,7 @@ export const routeModules: readonly RouteModule[] = [
   { specs: compareSpecs, plugin: comparePlugin },
   { specs: rerunSpecs, plugin: rerunsPlugin },
   { specs: signOffSpecs, plugin: signOffsPlugin },
+  { specs: exportSpecs, plugin: exportsPlugin },
   { specs: profileSpecs, plugin: profilesPlugin },
   { specs: pageSpecs, plugin: pagesPlugin },
   { specs: healthSpecs, plugin: healthPlugin },

@@ -1,21 +1,21 @@
 // `earmark check <file> --profile <id|path.json> [--fps rate] [--json]`: analyse with the
 // profile's settings, evaluate, print. Exit code from the verdict: 0 pass, 1 warn, 2 fail.
+// Many files or folders: a batch (batch.ts) with a summary table; exit code the worst verdict.
 
 import { parseCommandArgs } from './args.ts';
 import { printableName } from './printable.ts';
-import { analyzeFile } from '../engine/analyze-file.ts';
 import { THREADS_FLAG, threadsOption } from './threads.ts';
-import { EarmarkError } from '../errors/index.ts';
-import {
-  analysisOptionsForProfile,
-  decodeOptionsForProfile,
-  evaluate,
-  frameRate,
-  resolveProfile,
-  type Flag,
-  type QcReport,
-  type Verdict,
-} from '../profiles/index.ts';
+import { stat } from 'node:fs/promises';
+import { availableParallelism } from 'node:os';
+import { resolve } from 'node:path';
+import { EarmarkError, toEarmarkError } from '../errors/index.ts';
+import { flagsCsv, type FlagsOfFile } from '../exports/flags-csv.ts';
+import { JUNIT_WARN_AS, junitXml, type JunitEntry, type JunitWarnAs } from '../exports/junit.ts';
+import { expandInputs, runBatch, type BatchResult } from './batch.ts';
+import { formatBatchTable } from './batch-table.ts';
+import { checkOneFile } from './check-one.ts';
+import { writeMarkersFile, writeTextFile } from './export-files.ts';
+import { frameRate, resolveProfile, type Flag, type QcReport, type Verdict } from '../profiles/index.ts';
 import { fmt } from '../profiles/format.ts';
 import { layoutOption } from './layout-option.ts';
 import type { CliIo } from './main.ts';
@@ -120,13 +120,48 @@ const CHECK_FLAGS = {
   layout: { type: 'string' },
   json: { type: 'boolean' },
   all: { type: 'boolean' },
+  jobs: { type: 'string' },
+  junit: { type: 'string' },
+  'junit-warn': { type: 'string' },
+  csv: { type: 'string' },
+  markers: { type: 'string' },
   ...THREADS_FLAG,
 } as const;
 
+function jobsOption(raw: string | undefined): number {
+  if (raw === undefined) return availableParallelism();
+  const jobs = Number(raw);
+  if (raw.trim() === '' || !Number.isInteger(jobs) || jobs < 1 || jobs > 256)
+    throw new EarmarkError('invalid_argument', '--jobs must be a whole number from 1 to 256', { field: 'jobs' });
+  return jobs;
+}
+
+function junitWarnOption(raw: string | undefined): JunitWarnAs {
+  const found = JUNIT_WARN_AS.find((w) => w === (raw ?? 'pass'));
+  if (!found)
+    throw new EarmarkError('invalid_argument', `--junit-warn must be one of ${JUNIT_WARN_AS.join(', ')}`, {
+      field: 'junit-warn',
+    });
+  return found;
+}
+
+/** One line of a batch's --json: the verdict and readings, or the error; `--json` on one file gives the whole report. */
+function batchJson(r: BatchResult) {
+  if ('error' in r) return { file: r.file, error: r.error };
+  const { verdict, headline, profile, summary, flagCounts, flagsTotal } = r.report;
+  return { file: r.file, verdict, headline, profile, ...summary, flagCounts, flagsTotal };
+}
+
+/** main.ts's error exit: a file of a batch that could not be checked counts as it does alone. */
+const EXIT_NOT_CHECKED = 3;
+/** Exit code of a batch: the worst verdict, or 3 when a file could not be checked. */
+const worstExit = (results: readonly BatchResult[]) =>
+  Math.max(0, ...results.map((r) => ('report' in r ? VERDICT_EXIT_CODES[r.report.verdict] : EXIT_NOT_CHECKED)));
+
 export async function checkCommand(args: string[], io: CliIo): Promise<number> {
   const { values, positionals } = parseCommandArgs(args, CHECK_FLAGS);
-  if (positionals.length !== 1)
-    throw new EarmarkError('invalid_argument', 'check needs exactly one file', { field: 'file' });
+  if (positionals.length === 0)
+    throw new EarmarkError('invalid_argument', 'check needs at least one file or folder', { field: 'file' });
   if (values.profile === undefined)
     throw new EarmarkError('invalid_argument', 'check needs --profile <id|path.json> (see `earmark profiles`)', {
       field: 'profile',
@@ -136,12 +171,67 @@ export async function checkCommand(args: string[], io: CliIo): Promise<number> {
   const threads = threadsOption(values.threads);
   // --layout overrides the profile's declared layout.
   const layout = layoutOption(values);
-  const document = await analyzeFile(positionals[0], {
-    analysis: analysisOptionsForProfile(profile),
-    decode: layout ? { layout } : decodeOptionsForProfile(profile),
-    threads,
+  const warnAs = junitWarnOption(values['junit-warn']);
+  const jobs = jobsOption(values.jobs);
+  const junit = (entries: JunitEntry[]) =>
+    values.junit
+      ? writeTextFile(values.junit, junitXml(entries, { warnAs, suiteName: `earmark ${profile.id}` }))
+      : null;
+  const csv = (files: FlagsOfFile[]) => (values.csv ? writeTextFile(values.csv, flagsCsv(files)) : null);
+
+  // An output never replaces a file being checked.
+  const inputs = new Set(positionals.map((p) => resolve(p)));
+  for (const name of ['csv', 'junit', 'markers'] as const) {
+    const out = values[name];
+    if (out !== undefined && inputs.has(resolve(out)))
+      throw new EarmarkError('invalid_argument', `--${name} must name a new file, not a file checked`, { field: name });
+  }
+  const single = positionals.length === 1 && !(await stat(positionals[0]).catch(() => null))?.isDirectory();
+  if (single) {
+    const file = positionals[0];
+    let report: QcReport;
+    try {
+      report = await checkOneFile(file, profile, { ...(fps ? { fps } : {}), ...(layout ? { layout } : {}), threads });
+    } catch (thrown) {
+      // A pipeline still gets its JUnit file, with the error in it.
+      const error = toEarmarkError(thrown);
+      await junit([{ name: file, error: { code: error.code, message: error.message } }]);
+      throw error;
+    }
+    io.stdout(values.json ? `${JSON.stringify(report)}\n` : formatReport(report, { all: values.all === true }));
+    await csv([{ file, flags: report.flags }]);
+    await junit([{ name: file, report }]);
+    if (values.markers !== undefined) {
+      const markers = await writeMarkersFile(file, report.flags, values.markers);
+      if (!values.json) io.stdout(`markers  ${markers} written to ${printableName(values.markers)}\n`);
+    }
+    return VERDICT_EXIT_CODES[report.verdict];
+  }
+
+  if (values.markers !== undefined)
+    throw new EarmarkError('invalid_argument', '--markers writes the markers of one file: name one file', {
+      field: 'markers',
+    });
+  const outputs = new Set([values.csv, values.junit].flatMap((p) => (p ? [resolve(p)] : [])));
+  const files = await expandInputs(positionals, outputs);
+  if (files.length === 0)
+    throw new EarmarkError('invalid_argument', 'no audio files found in the folders given', { field: 'file' });
+  const results = await runBatch(files, {
+    profile: values.profile,
+    ...(values.fps ? { fps: values.fps } : {}),
+    ...(layout ? { layout } : {}),
+    // One analysis thread per file when files run side by side: at most `jobs` threads in all.
+    threads: values.threads ?? (Math.min(jobs, files.length) > 1 ? '1' : 'auto'),
+    jobs,
+    onDone: (r, done, total) =>
+      io.stderr(
+        `[${done}/${total}] ${printableName(r.file)}: ${'report' in r ? r.report.verdict : `error ${r.error.code}`}\n`,
+      ),
   });
-  const report = evaluate(profile, document, fps ? { frameRate: fps } : {});
-  io.stdout(values.json ? `${JSON.stringify(report)}\n` : formatReport(report, { all: values.all === true }));
-  return VERDICT_EXIT_CODES[report.verdict];
+  io.stdout(values.json ? `${JSON.stringify(results.map(batchJson))}\n` : formatBatchTable(results));
+  await csv(results.flatMap((r) => ('report' in r ? [{ file: r.file, flags: r.report.flags }] : [])));
+  await junit(
+    results.map((r) => ('report' in r ? { name: r.file, report: r.report } : { name: r.file, error: r.error })),
+  );
+  return worstExit(results);
 }

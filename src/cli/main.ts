@@ -25,8 +25,11 @@ const USAGE = `usage:
                          [--silence-threshold dBFS] [--silence-min seconds] [--threads N|auto] [--layout name]
                          [--downmix] [--channel-loudness] [--dialogue] [--min-speech-share percent]
   earmark check <file> --profile <id|path.json> [--fps rate] [--layout name] [--json] [--all] [--threads N|auto]
+                 [--csv flags.csv] [--junit summary.xml] [--junit-warn pass|failure|skipped] [--markers copy.wav]
       rate: 23.976 24 25 29.97-df 29.97-ndf 30 50 59.94-df 59.94-ndf 60 (default: the profile's)
       --layout: channel layout of a file without a channel mask or chna chunk: ${LAYOUT_NAMES.join(' ')}
+  earmark check <files or folders...> --profile <id|path.json> [--jobs N] [--csv flags.csv] [--junit summary.xml]
+      folders: their audio files, recursively; --jobs: files at a time (default: the cores)
   earmark compare <old report.json|file> <new report.json|file> [--profile <id|path.json>] [--json] [--all]
       an audio file is checked with --profile first; exit code: the new file's verdict
   earmark package --profile <id|path.json> --mix <file> --stem <file> [--stem <file>...] [--version <file>...]

@@ -33,6 +33,11 @@ export const errorCatalogue = {
     title: 'The declared channel layout has a different channel count from the file',
     retryable: false,
   },
+  markers_need_wave: {
+    status: 422,
+    title: 'Markers can be written only into a WAVE, RF64 or BW64 file (within its size limit)',
+    retryable: false,
+  },
   // Arguments and profiles
   invalid_argument: { status: 400, title: 'An argument is invalid', retryable: false },
   invalid_profile: { status: 400, title: 'The delivery profile is invalid', retryable: false },
