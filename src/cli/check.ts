@@ -3,19 +3,10 @@
 
 import { parseCommandArgs } from './args.ts';
 import { printableName } from './printable.ts';
-import { analyzeFile } from '../engine/analyze-file.ts';
 import { THREADS_FLAG, threadsOption } from './threads.ts';
 import { EarmarkError } from '../errors/index.ts';
-import {
-  analysisOptionsForProfile,
-  decodeOptionsForProfile,
-  evaluate,
-  frameRate,
-  resolveProfile,
-  type Flag,
-  type QcReport,
-  type Verdict,
-} from '../profiles/index.ts';
+import { frameRate, resolveProfile, type Flag, type QcReport, type Verdict } from '../profiles/index.ts';
+import { checkFile } from './check-file.ts';
 import { fmt } from '../profiles/format.ts';
 import { layoutOption } from './layout-option.ts';
 import type { CliIo } from './main.ts';
@@ -136,12 +127,11 @@ export async function checkCommand(args: string[], io: CliIo): Promise<number> {
   const threads = threadsOption(values.threads);
   // --layout overrides the profile's declared layout.
   const layout = layoutOption(values);
-  const document = await analyzeFile(positionals[0], {
-    analysis: analysisOptionsForProfile(profile),
-    decode: layout ? { layout } : decodeOptionsForProfile(profile),
+  const report = await checkFile(positionals[0], profile, {
     threads,
+    ...(fps ? { fps } : {}),
+    ...(layout ? { layout } : {}),
   });
-  const report = evaluate(profile, document, fps ? { frameRate: fps } : {});
   io.stdout(values.json ? `${JSON.stringify(report)}\n` : formatReport(report, { all: values.all === true }));
   return VERDICT_EXIT_CODES[report.verdict];
 }

@@ -13,10 +13,11 @@ import { layoutOption } from './layout-option.ts';
 import { profilesCommand } from './profiles.ts';
 import { runSelftest } from './selftest.ts';
 import { THREADS_FLAG, threadsOption } from './threads.ts';
+import { watchCommand } from './watch.ts';
 
 export const EXIT_ERROR = 3;
 
-const COMMANDS = ['analyze', 'check', 'profiles', 'selftest', 'help', 'version'] as const;
+const COMMANDS = ['analyze', 'check', 'profiles', 'selftest', 'watch', 'help', 'version'] as const;
 
 const USAGE = `usage:
   earmark analyze <file> [--json] [--all] [--true-peak-ceiling dBTP] [--clip-run N] [--clip-threshold dBFS]
@@ -25,6 +26,9 @@ const USAGE = `usage:
   earmark check <file> --profile <id|path.json> [--fps rate] [--layout name] [--json] [--all] [--threads N|auto]
       rate: 23.976 24 25 29.97-df 29.97-ndf 30 50 59.94-df 59.94-ndf 60 (default: the profile's)
       --layout: channel layout of a file without a channel mask or chna chunk: ${LAYOUT_NAMES.join(' ')}
+  earmark watch <folder> --profile <id|path.json> [--settle-seconds s] [--jobs N] [--fps rate] [--layout name]
+      checks each audio file once complete, writes <file>.report.json and moves both into passed/ warned/ failed/;
+      runs until SIGINT/SIGTERM
   earmark profiles [id] [--json]
   earmark selftest [--json]
   earmark --version
@@ -136,6 +140,8 @@ export async function main(argv: string[], io: CliIo = defaultIo): Promise<numbe
         return await checkCommand(rest, io);
       case 'profiles':
         return profilesCommand(rest, io);
+      case 'watch':
+        return await watchCommand(rest, io);
       case 'selftest':
         return runSelftest(rest, io);
       case '--version':
