@@ -220,7 +220,8 @@ export class Watcher {
     if (journalled?.state === 'checking' && sameIdentity(journalled, before))
       log(`${printableName(name)}: its check was interrupted; checking it again`);
     await this.journal.set(name, { ...identity, state: 'checking' });
-    log(`checking ${printableName(name)} (${before.size} bytes)`);
+    const why = seen?.renamedIn ? 'renamed in from a temp name' : `unchanged for ${this.options.settleMs / 1000} s`;
+    log(`checking ${printableName(name)} (${before.size} bytes; ${journalled?.state === 'checking' ? 'again' : why})`);
     const started = performance.now();
     let report: QcReport | WatchErrorReport;
     try {
