@@ -21,6 +21,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { JOURNAL_NAME } from '../../src/cli/watch-journal.ts';
 import { Watcher, type WatchErrorReport } from '../../src/cli/watcher.ts';
 import { builtinProfile, type QcReport } from '../../src/profiles/index.ts';
+import { unitless } from '../helpers/units.ts';
 import { SAMPLE_RATE, tempDir, writeTone } from '../profiles/helpers.ts';
 
 const DEADLINE_MS = 60_000;
@@ -176,6 +177,8 @@ describe('earmark watch', () => {
     const journal = readJson(join(dir(), JOURNAL_NAME)) as { entries: Record<string, { state: string }> };
     for (const name of ['late.wav', 'loud.wav', 'junk.wav', 'slow.wav'])
       expect(journal.entries[name]?.state).toBe('done');
+    // Units on every printed value, the log included (test/helpers/units.ts).
+    expect(unitless(allLines.join('\n'))).toEqual([]);
   });
 });
 
