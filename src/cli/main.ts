@@ -27,6 +27,7 @@ const USAGE = `usage:
       rate: 23.976 24 25 29.97-df 29.97-ndf 30 50 59.94-df 59.94-ndf 60 (default: the profile's)
       --layout: channel layout of a file without a channel mask or chna chunk: ${LAYOUT_NAMES.join(' ')}
   earmark watch <folder> --profile <id|path.json> [--settle-seconds s] [--jobs N] [--fps rate] [--layout name]
+                         [--threads N|auto]
       checks each audio file once complete, writes <file>.report.json and moves both into passed/ warned/ failed/;
       runs until SIGINT/SIGTERM
   earmark profiles [id] [--json]

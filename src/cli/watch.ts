@@ -10,6 +10,7 @@ import { frameRate, resolveProfile } from '../profiles/index.ts';
 import { layoutOption } from './layout-option.ts';
 import type { CliIo } from './main.ts';
 import { THREADS_FLAG, threadsOption } from './threads.ts';
+import { printableName } from './printable.ts';
 import { Watcher } from './watcher.ts';
 
 const DEFAULT_SETTLE_SECONDS = 3;
@@ -70,7 +71,7 @@ export async function watchCommand(args: string[], io: CliIo): Promise<number> {
   });
   await watcher.start();
   log(
-    `watching ${folder} with profile ${profile.id} ${profile.version} (settle ${settleSeconds} s, ${jobs} job${jobs === 1 ? '' : 's'})`,
+    `watching ${printableName(folder)} with profile ${profile.id} ${profile.version} (settle ${settleSeconds} s, ${jobs} job${jobs === 1 ? '' : 's'})`,
   );
   const signal = await stopped;
   const waiting = watcher.inProgress();

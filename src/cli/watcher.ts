@@ -58,15 +58,15 @@ interface Seen {
 }
 
 const inodeOf = (s: { dev: number; ino: number }) => `${s.dev}:${s.ino}`;
-/** A move that failed (permissions, a full disk) is tried again after this long, not every scan. */
-const MOVE_RETRY_MS = 30_000;
+/** A file whose handling failed (permissions, a full disk) is tried again after this long, not every scan. */
+const RETRY_MS = 30_000;
 
 export class Watcher {
   private readonly seen = new Map<string, Seen>();
   private tempInodes = new Set<string>();
   private readonly queue: string[] = [];
   private readonly active = new Map<string, Promise<void>>();
-  private readonly moveFailedAt = new Map<string, number>();
+  private readonly failedAt = new Map<string, number>();
   private journal!: WatchJournal;
   private fsWatcher: FSWatcher | null = null;
   private timer: NodeJS.Timeout | null = null;
@@ -164,6 +164,9 @@ export class Watcher {
         this.enqueue(entry.name);
         continue;
       }
+      // An empty file is a copy that has not started (an upload that opened the file and stalled):
+      // it waits for its content rather than being filed as empty.
+      if (s.size === 0) continue;
       const previous = this.seen.get(entry.name);
       if (
         !previous ||
@@ -187,8 +190,8 @@ export class Watcher {
   }
 
   private enqueue(name: string): void {
-    const failedAt = this.moveFailedAt.get(name);
-    if (failedAt !== undefined && Date.now() - failedAt < MOVE_RETRY_MS) return;
+    const failedAt = this.failedAt.get(name);
+    if (failedAt !== undefined && Date.now() - failedAt < RETRY_MS) return;
     this.queue.push(name);
     this.pump();
   }
@@ -198,7 +201,10 @@ export class Watcher {
       const name = this.queue.shift();
       if (name === undefined || this.active.has(name)) continue;
       const job = this.process(name)
-        .catch((error: unknown) => this.options.log(`${printableName(name)}: ${toEarmarkError(error).message}`))
+        .catch((error: unknown) => {
+          this.failedAt.set(name, Date.now());
+          this.options.log(`${printableName(name)}: ${toEarmarkError(error).message}; trying again later`);
+        })
         .finally(() => {
           this.active.delete(name);
           this.pump();
@@ -284,11 +290,11 @@ export class Watcher {
         if (moved === 'taken') throw new Error(`${reportTo} is taken by another file`);
       }
       await this.journal.set(name, { ...entry, fileTo, reportTo, state: 'done' });
-      this.moveFailedAt.delete(name);
+      this.failedAt.delete(name);
       this.seen.delete(name);
       log(`${printableName(name)}: moved to ${printableName(fileTo)}`);
     } catch (error) {
-      this.moveFailedAt.set(name, Date.now());
+      this.failedAt.set(name, Date.now());
       log(`${printableName(name)}: could not move (${toEarmarkError(error).message}); trying again later`);
     }
   }

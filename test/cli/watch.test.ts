@@ -202,6 +202,47 @@ describe('earmark watch on SIGINT', () => {
   });
 });
 
+describe('watcher in process', () => {
+  it('sorts into passed/, warned/ and failed/ with two jobs at a time', { timeout: 120_000 }, async () => {
+    const { dir, cleanup } = tempDir();
+    try {
+      // Podcast (common practice): -16 LUFS; mono is a warning. A mono -13 dBFS-peak sine reads -16 LUFS
+      // (BS.1770-5: one channel, 3 dB under the stereo pair), a stereo -16 dBFS-peak sine -16 LUFS.
+      renameSync(
+        await writeTone(source.dir, { channels: 1, segments: [{ seconds: 6, peakDbfs: -13 }] }),
+        join(dir, 'mono.wav'),
+      );
+      renameSync(await writeTone(source.dir, { segments: [{ seconds: 6, peakDbfs: -16 }] }), join(dir, 'stereo.wav'));
+      writeFileSync(join(dir, 'cut.flac'), Buffer.from('fLaC\u0000\u0000\u0000\u0022', 'latin1'));
+      writeFileSync(join(dir, 'empty.wav'), Buffer.alloc(0));
+      writeFileSync(join(dir, 'notes.txt'), 'not audio: left alone\n');
+      const lines: string[] = [];
+      const watcher = new Watcher({
+        folder: dir,
+        profile: builtinProfile('podcast'),
+        settleMs: 300,
+        jobs: 2,
+        check: {},
+        log: (line) => lines.push(line),
+      });
+      await watcher.start();
+      const filed = ['warned/mono.wav', 'passed/stereo.wav', 'failed/cut.flac'];
+      await waitFor('every file filed', () => filed.every((p) => existsSync(join(dir, `${p}.report.json`))));
+      expect(await watcher.stop(30_000)).toBe(true);
+      for (const p of filed) expect(existsSync(join(dir, p)), p).toBe(true);
+      expect((readJson(join(dir, 'failed', 'cut.flac.report.json')) as WatchErrorReport).error.code).toBe(
+        'corrupt_file',
+      );
+      // Left alone: a file that is not audio, and an empty one (a copy that has not started).
+      expect(existsSync(join(dir, 'notes.txt'))).toBe(true);
+      expect(existsSync(join(dir, 'empty.wav'))).toBe(true);
+      expect(unitless(lines.join('\n'))).toEqual([]);
+    } finally {
+      cleanup();
+    }
+  });
+});
+
 describe('watcher recovery from the journal a kill left', () => {
   it('finishes an interrupted move without checking again, and re-checks an interrupted check', {
     timeout: 120_000,
