@@ -11,6 +11,7 @@ import { layoutOption } from './layout-option.ts';
 import type { CliIo } from './main.ts';
 import { THREADS_FLAG, threadsOption } from './threads.ts';
 import { printableName } from './printable.ts';
+import { lockFolder } from './watch-lock.ts';
 import { Watcher } from './watcher.ts';
 
 const DEFAULT_SETTLE_SECONDS = 3;
@@ -69,7 +70,13 @@ export async function watchCommand(args: string[], io: CliIo): Promise<number> {
     process.once('SIGINT', () => resolve('SIGINT'));
     process.once('SIGTERM', () => resolve('SIGTERM'));
   });
-  await watcher.start();
+  const unlock = await lockFolder(folder);
+  try {
+    await watcher.start();
+  } catch (error) {
+    await unlock();
+    throw error;
+  }
   log(
     `watching ${printableName(folder)} with profile ${profile.id} ${profile.version} (settle ${settleSeconds} s, ${jobs} job${jobs === 1 ? '' : 's'})`,
   );
@@ -82,9 +89,11 @@ export async function watchCommand(args: string[], io: CliIo): Promise<number> {
   process.once('SIGTERM', again);
   const finished = await watcher.stop(STOP_GRACE_MS);
   if (!finished) {
+    await unlock();
     log(`stopped with ${watcher.inProgress().length} file(s) unfinished; they are checked again on the next start`);
     process.exit(130);
   }
+  await unlock();
   log('stopped');
   process.off('SIGINT', again);
   process.off('SIGTERM', again);

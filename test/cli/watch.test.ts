@@ -19,6 +19,7 @@ import { appendFile, writeFile } from 'node:fs/promises';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { JOURNAL_NAME } from '../../src/cli/watch-journal.ts';
+import { LOCK_NAME } from '../../src/cli/watch-lock.ts';
 import { Watcher, type WatchErrorReport } from '../../src/cli/watcher.ts';
 import { builtinProfile, type QcReport } from '../../src/profiles/index.ts';
 import { unitless } from '../helpers/units.ts';
@@ -148,6 +149,13 @@ describe('earmark watch', () => {
     expect(first.child.exitCode).toBeNull();
   });
 
+  it('refuses a second watcher on the same folder (exit 3)', { timeout: 120_000 }, async () => {
+    const second = startWatch(dir());
+    expect(await second.exit).toBe(3);
+    expect(second.lines.join('')).toMatch(/error invalid_argument: another watcher \(process \d+\) is watching/);
+    expect(first.child.exitCode).toBeNull();
+  });
+
   it('never overwrites a name already filed: a second slow.wav becomes slow-1.wav', { timeout: 120_000 }, async () => {
     writeFileSync(join(dir(), 'slow.wav'), passBytes);
     await waitFor('slow-1.wav in passed/', () => existsSync(join(dir(), 'passed', 'slow-1.wav.report.json')));
@@ -161,6 +169,9 @@ describe('earmark watch', () => {
     expect(await stopWatch(first)).toBe(0);
     allLines.push(...first.lines);
     writeFileSync(join(dir(), 'late.wav'), passBytes);
+    expect(existsSync(join(dir(), LOCK_NAME))).toBe(false); // a clean stop releases the lock
+    // The lock a killed watcher leaves (its process is gone) is taken over.
+    writeFileSync(join(dir(), LOCK_NAME), `${first.child.pid}\n`);
     const second = startWatch(dir());
     await waitFor('late.wav in passed/', () => existsSync(join(dir(), 'passed', 'late.wav.report.json')));
     expect(await stopWatch(second)).toBe(0);
