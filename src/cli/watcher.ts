@@ -63,7 +63,8 @@ const RETRY_MS = 30_000;
 
 export class Watcher {
   private readonly seen = new Map<string, Seen>();
-  private tempInodes = new Set<string>();
+  /** Temp names seen lately, by inode: a file that appears with one's inode, size and mtime was renamed. */
+  private readonly temps = new Map<string, { sizeBytes: number; mtimeMs: number; seenMs: number }>();
   private readonly queue: string[] = [];
   private readonly active = new Map<string, Promise<void>>();
   private readonly failedAt = new Map<string, number>();
@@ -151,7 +152,10 @@ export class Watcher {
       if (!entry.isFile()) continue;
       if (isTempName(entry.name)) {
         const s = await statOrNull(join(folder, entry.name));
-        if (s) temps.add(inodeOf(s));
+        if (s) {
+          temps.add(inodeOf(s));
+          this.temps.set(inodeOf(s), { sizeBytes: s.size, mtimeMs: s.mtimeMs, seenMs: now });
+        }
         continue;
       }
       if (!isAudioName(entry.name)) continue;
@@ -174,7 +178,11 @@ export class Watcher {
         previous.mtimeMs !== s.mtimeMs ||
         previous.inode !== inodeOf(s)
       ) {
-        const renamedIn = this.tempInodes.has(inodeOf(s)) || temps.has(inodeOf(s));
+        // Renamed from a temp name we saw, unchanged since (a rename keeps inode, size and mtime):
+        // the writer is done. The same inode under both names now is a hard link: that waits.
+        const temp = this.temps.get(inodeOf(s));
+        const renamedIn =
+          temp !== undefined && !temps.has(inodeOf(s)) && temp.sizeBytes === s.size && temp.mtimeMs === s.mtimeMs;
         this.seen.set(entry.name, {
           sizeBytes: s.size,
           mtimeMs: s.mtimeMs,
@@ -186,7 +194,10 @@ export class Watcher {
       } else if (now - previous.sinceMs >= settleMs) this.enqueue(entry.name);
     }
     for (const name of this.seen.keys()) if (!names.has(name)) this.seen.delete(name);
-    this.tempInodes = temps;
+    // Kept a little while (a scan can miss a temp name renamed while it ran); an inode number the
+    // file system reuses for a new file will not also match size and mtime.
+    for (const [inode, temp] of this.temps)
+      if (now - temp.seenMs > settleMs + 2 * this.scanMs) this.temps.delete(inode);
   }
 
   private enqueue(name: string): void {
