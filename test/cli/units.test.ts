@@ -7,6 +7,8 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { main, type CliIo } from '../../src/cli/main.ts';
 import { formatSelftestLine } from '../../src/cli/selftest.ts';
 import { complianceCases, runComplianceCase } from '../../src/selftest/cases.ts';
+import { writeWavFile } from '../../src/encode/wav.ts';
+import { compose, RATE, seconds } from '../helpers/head-signals.ts';
 import { TABLE_HEADER, unitless } from '../helpers/units.ts';
 import { setRange, tempDir, writeTone } from '../profiles/helpers.ts';
 
@@ -33,6 +35,8 @@ const { dir, cleanup } = tempDir();
 let defective = '';
 let clean = '';
 let cut = '';
+let head = '';
+let headProfile = '';
 beforeAll(async () => {
   // A loud tone with a clip run, a drop-out and a silent gap: events, flags and fold-down lines all print.
   defective = await writeTone(dir, {
@@ -51,6 +55,32 @@ beforeAll(async () => {
   cut = join(dir, 'cut.wav');
   const bytes = readFileSync(clean);
   writeFileSync(cut, bytes.subarray(0, Math.floor(bytes.length * 0.6)));
+  // A head: 3 s of 1 kHz line-up tone at -18 dBFS, 3 s of silence, 3 s of programme; a profile that judges it.
+  head = join(dir, 'head.wav');
+  const tone = { kind: 'sine', startFrame: 0, frames: seconds(3), hz: 1000, levelDbfs: -18 } as const;
+  const programme = { kind: 'programme', startFrame: seconds(6), frames: seconds(3) } as const;
+  await writeWavFile(head, { sampleRate: RATE, channels: 2, bitsPerSample: 24, float: false }, [
+    compose(
+      2,
+      seconds(10),
+      [0, 1].flatMap((channel) => [
+        { ...tone, channel },
+        { ...programme, channel },
+      ]),
+    ),
+  ]);
+  headProfile = join(dir, 'head.json');
+  writeFileSync(
+    headProfile,
+    JSON.stringify({
+      id: 'head-units',
+      name: 'Head units',
+      version: '1.0.0',
+      description: 'line-up tone judged',
+      basis: 'house rule',
+      rules: [{ id: 'tone', type: 'line-up-tone', severity: 'warn', frequencyHz: 1000, levelDbfs: -18, minSeconds: 2 }],
+    }),
+  );
 });
 afterAll(cleanup);
 
@@ -77,6 +107,9 @@ describe('units on every printed value', () => {
         const text = await run('check', file, '--profile', profile, '--all');
         expect(unitless(text), text).toEqual([]);
       }
+    const text = await run('check', head, '--profile', headProfile, '--all');
+    expect(text).toMatch(/^head {5}tone /m);
+    expect(unitless(text), text).toEqual([]);
   });
 
   it('profiles and selftest lines', async () => {
