@@ -104,8 +104,8 @@ describe('earmark watch', () => {
   it('checks a file written slowly in chunks once, when complete', { timeout: 120_000 }, async () => {
     first = startWatch(dir());
     await waitFor('the watcher to start', () => first.lines.some((l) => l.includes(' watching ')));
-    // 12 appends 250 ms apart: about 3 s of writing against a 1 s settle interval.
-    await writeSlowly(join(dir(), 'slow.wav'), passBytes, 12, 250);
+    // 16 appends 200 ms apart: about 3 s of writing, each pause a fifth of the 1 s settle interval.
+    await writeSlowly(join(dir(), 'slow.wav'), passBytes, 16, 200);
     const report = join(dir(), 'passed', 'slow.wav.report.json');
     await waitFor('slow.wav in passed/', () => existsSync(report) && existsSync(join(dir(), 'passed', 'slow.wav')));
     const r = readJson(report) as QcReport;
