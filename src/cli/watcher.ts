@@ -89,12 +89,12 @@ export class Watcher {
     try {
       this.fsWatcher = watch(folder, { persistent: false }, () => this.wake());
       this.fsWatcher.on('error', (error) => {
-        this.options.log(`fs.watch stopped (${error.message}); the periodic scan continues`);
+        this.options.log(`fs.watch stopped (${printableName(error.message)}); the periodic scan continues`);
         this.fsWatcher?.close();
         this.fsWatcher = null;
       });
     } catch (error) {
-      this.options.log(`fs.watch unavailable (${toEarmarkError(error).message}); scanning only`);
+      this.options.log(`fs.watch unavailable (${printableName(toEarmarkError(error).message)}); scanning only`);
     }
     // A restart first finishes the moves a kill interrupted after the file itself had moved.
     for (const [name, entry] of this.journal.pending())
@@ -132,7 +132,7 @@ export class Watcher {
       return;
     }
     this.scanning = this.scan()
-      .catch((error: unknown) => this.options.log(`scan failed: ${toEarmarkError(error).message}`))
+      .catch((error: unknown) => this.options.log(`scan failed: ${printableName(toEarmarkError(error).message)}`))
       .finally(() => {
         this.scanning = null;
         if (this.rescan) {
@@ -214,7 +214,9 @@ export class Watcher {
       const job = this.process(name)
         .catch((error: unknown) => {
           this.failedAt.set(name, Date.now());
-          this.options.log(`${printableName(name)}: ${toEarmarkError(error).message}; trying again later`);
+          this.options.log(
+            `${printableName(name)}: ${printableName(toEarmarkError(error).message)}; trying again later`,
+          );
         })
         .finally(() => {
           this.active.delete(name);
@@ -269,7 +271,7 @@ export class Watcher {
     };
     await this.journal.set(name, entry);
     const seconds = ((performance.now() - started) / 1000).toFixed(1);
-    const error = 'error' in report ? ` (${report.error.code}: ${report.error.message})` : '';
+    const error = 'error' in report ? ` (${report.error.code}: ${printableName(report.error.message)})` : '';
     log(`${printableName(name)}: ${report.verdict.toUpperCase()}${error} in ${seconds} s`);
     await this.finish(name, entry);
   }
@@ -306,7 +308,9 @@ export class Watcher {
       log(`${printableName(name)}: moved to ${printableName(fileTo)}`);
     } catch (error) {
       this.failedAt.set(name, Date.now());
-      log(`${printableName(name)}: could not move (${toEarmarkError(error).message}); trying again later`);
+      log(
+        `${printableName(name)}: could not move (${printableName(toEarmarkError(error).message)}); trying again later`,
+      );
     }
   }
 
