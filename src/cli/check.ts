@@ -30,7 +30,7 @@ const reading = (value: number | null, unit: string, none: string) => (value ===
 function flagLine(f: Flag): string {
   const worst =
     f.worstValue !== null && f.unit ? `  worst ${fmt(f.worstValue, f.unit === 'correlation' ? 2 : 1)} ${f.unit}` : '';
-  const count = f.count > 1 ? `  x${f.count}` : '';
+  const count = f.count > 1 ? `  ${f.count} times` : '';
   const other = f.otherChannelName ? ` / ${f.otherChannelName}` : '';
   return `  #${String(f.number).padEnd(3)} ${f.startTimecode} - ${f.endTimecode}  ${f.severity.padEnd(6)}  ${f.title}  ch ${f.channelName}${other}${worst}${count}${f.ruleId ? `  [${f.ruleId}]` : ''}\n`;
 }

@@ -1,5 +1,6 @@
 // Plain-text summary of an analysis document for people at a terminal.
 import { printableName } from './printable.ts';
+import type { EventKind } from '../analysis/events.ts';
 import { DECLARED_FIELD_TITLES } from '../engine/declared-loudness.ts';
 import { channelName, type AnalysisDocument } from '../engine/document.ts';
 
@@ -14,6 +15,29 @@ export function formatTime(seconds: number): string {
   const m = Math.floor((seconds % 3600) / 60);
   const s = seconds % 60;
   return `${String(h).padStart(2, '0')}:${String(m).padStart(2, '0')}:${s.toFixed(3).padStart(6, '0')}`;
+}
+
+/** The unit of each event kind's peakValue (analysis/events.ts); null where the kind has none. */
+const EVENT_UNITS: Record<EventKind, string | null> = {
+  clipping: 'dBFS',
+  dropout: 'dBFS',
+  silence: 'dBFS',
+  true_peak_over: 'dBTP',
+  reconstructed_over: 'dBTP',
+  dead_channel: null,
+  duplicate_channel: null,
+  inverted_channel: null,
+  phase_problem: 'correlation',
+  loud_short_term: 'LUFS',
+  loud_momentary: 'LUFS',
+  downmix_clipping: 'dBFS',
+};
+
+/** An event's most extreme value with its unit ("loudest 0.98 dBFS"); empty when it has none. */
+function eventPeak(kind: EventKind, value: number | undefined): string {
+  const unit = EVENT_UNITS[kind];
+  if (value === undefined || unit === null) return '';
+  return `  ${kind === 'phase_problem' ? 'lowest' : 'peak'} ${value.toFixed(2)} ${unit}`;
 }
 
 /** Where the channel roles came from, as the text output says it. */
@@ -45,7 +69,7 @@ export function formatAnalysis(doc: AnalysisDocument, { all = false }: { all?: b
     `  Head / tail silence   ${s.headSilenceSeconds.toFixed(2)} s / ${s.tailSilenceSeconds.toFixed(2)} s`,
     ...declaredLines(doc),
     '',
-    '  ch  label  peak dBFS  TP dBTP   RMS dBFS  crest dB  DC          clip runs  dropouts',
+    '  ch  label  peak dBFS  TP dBTP   RMS dBFS  crest dB  DC of FS    clip runs  dropouts',
     ...doc.channels.map(
       (c) =>
         `  ${String(c.index + 1).padEnd(3)} ${c.label.padEnd(6)} ${num(c.samplePeakDbfs)} ${num(c.truePeakDbtp)} ${num(c.rmsDbfs)} ${num(c.crestFactorDb)} ${c.dcOffset.toExponential(2).padStart(10)}  ${String(c.clippingRuns).padStart(9)}  ${String(c.dropouts).padStart(8)}${c.dead ? '  (dead)' : ''}`,
@@ -64,7 +88,7 @@ export function formatAnalysis(doc: AnalysisDocument, { all = false }: { all?: b
   const shown = all ? doc.events.length : 20;
   for (const e of doc.events.slice(0, shown)) {
     lines.push(
-      `    ${formatTime(e.startSeconds)} - ${formatTime(e.endSeconds)}  ${e.kind}  ch ${channelName(doc, e.channel)}${e.otherChannel !== undefined ? ` / ${channelName(doc, e.otherChannel)}` : ''}${e.peakValue !== undefined ? `  ${e.peakValue.toFixed(2)}` : ''}`,
+      `    ${formatTime(e.startSeconds)} - ${formatTime(e.endSeconds)}  ${e.kind}  ch ${channelName(doc, e.channel)}${e.otherChannel !== undefined ? ` / ${channelName(doc, e.otherChannel)}` : ''}${eventPeak(e.kind, e.peakValue)}`,
     );
   }
   if (doc.events.length > shown) lines.push(`    ... ${doc.events.length - shown} more (--all lists them)`);
@@ -77,7 +101,7 @@ function declaredLines(doc: AnalysisDocument): string[] {
   return doc.declaredLoudness.map(({ source, rows }) => {
     const figures = rows.map(
       (r) =>
-        `${DECLARED_FIELD_TITLES[r.field].toLowerCase()} declared ${r.declared.toFixed(2)}, measured ${r.measured === null ? 'none' : r.measured.toFixed(1)} ${r.unit}`,
+        `${DECLARED_FIELD_TITLES[r.field].toLowerCase()} declared ${r.declared.toFixed(2)} ${r.unit}, measured ${r.measured === null ? 'none' : r.measured.toFixed(1)} ${r.unit}`,
     );
     return `  Declared (${source === 'bext' ? 'bext' : 'iXML'})`.padEnd(24) + figures.join('; ');
   });
@@ -101,7 +125,7 @@ function downmixLines(doc: AnalysisDocument): string[] {
   if (d.note) lines.push(`  Downmix               ${d.note}`);
   if (d.channelIntegratedLufs)
     lines.push(
-      `  Each channel alone    ${d.channelIntegratedLufs.map((l, c) => `${channelName(doc, c)} ${orNone(l, 'LUFS')}`).join(', ')} (not summable)`,
+      `  Each channel alone    ${d.channelIntegratedLufs.map((l, c) => `ch ${channelName(doc, c)} ${orNone(l, 'LUFS')}`).join(', ')} (not summable)`,
     );
   return lines;
 }

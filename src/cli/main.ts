@@ -15,10 +15,21 @@ import { packageCommand } from './package.ts';
 import { profilesCommand } from './profiles.ts';
 import { runSelftest } from './selftest.ts';
 import { THREADS_FLAG, threadsOption } from './threads.ts';
+import { watchCommand } from './watch.ts';
 
 export const EXIT_ERROR = 3;
 
-const COMMANDS = ['analyze', 'check', 'compare', 'package', 'profiles', 'selftest', 'help', 'version'] as const;
+const COMMANDS = [
+  'analyze',
+  'check',
+  'compare',
+  'package',
+  'profiles',
+  'selftest',
+  'watch',
+  'help',
+  'version',
+] as const;
 
 const USAGE = `usage:
   earmark analyze <file> [--json] [--all] [--true-peak-ceiling dBTP] [--clip-run N] [--clip-threshold dBFS]
@@ -35,6 +46,10 @@ const USAGE = `usage:
   earmark package --profile <id|path.json> --mix <file> --stem <file> [--stem <file>...] [--version <file>...]
                   [--stem-profile <id|path.json>] [--tolerance dB] [--fps rate] [--json] [--threads N|auto]
       stems must sum to the mix within --tolerance (default -60 dB residual relative to the mix)
+  earmark watch <folder> --profile <id|path.json> [--settle-seconds s] [--jobs N] [--fps rate] [--layout name]
+                         [--threads N|auto]
+      checks each audio file once complete, writes <file>.report.json and moves both into passed/ warned/ failed/;
+      runs until SIGINT/SIGTERM
   earmark profiles [id] [--json]
   earmark selftest [--json]
   earmark --version
@@ -150,6 +165,8 @@ export async function main(argv: string[], io: CliIo = defaultIo): Promise<numbe
         return await packageCommand(rest, io);
       case 'profiles':
         return profilesCommand(rest, io);
+      case 'watch':
+        return await watchCommand(rest, io);
       case 'selftest':
         return runSelftest(rest, io);
       case '--version':

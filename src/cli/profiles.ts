@@ -7,8 +7,9 @@ import type { CliIo } from './main.ts';
 function loudnessText(p: Profile): string {
   const rule = p.rules.find((r) => r.type === 'integrated-loudness');
   if (rule?.type !== 'integrated-loudness') return '-';
-  if (rule.toleranceLu !== undefined) return `${rule.targetLufs} LUFS +/-${rule.toleranceLu} LU`;
-  return `${rule.minLufs ?? ''}..${rule.maxLufs ?? ''} LUFS`;
+  if (rule.toleranceLu !== undefined) return `${rule.targetLufs} LUFS ±${rule.toleranceLu} LU`;
+  if (rule.minLufs !== undefined && rule.maxLufs !== undefined) return `${rule.minLufs} to ${rule.maxLufs} LUFS`;
+  return rule.minLufs !== undefined ? `>= ${rule.minLufs} LUFS` : `<= ${rule.maxLufs ?? '?'} LUFS`;
 }
 
 export function profilesCommand(args: string[], io: CliIo): number {

@@ -1,5 +1,5 @@
 // `earmark selftest`: measures the EBU Tech 3341 / 3342 signals with this installation's meters.
-import { complianceCases, runComplianceCase } from '../selftest/cases.ts';
+import { complianceCases, runComplianceCase, type Reading } from '../selftest/cases.ts';
 import type { CliIo } from './main.ts';
 
 export function runSelftest(args: string[], io: CliIo): number {
@@ -24,15 +24,32 @@ export function runSelftest(args: string[], io: CliIo): number {
       })}\n`,
     );
   } else {
-    for (const o of outcomes) {
-      const t = o.testCase;
-      const tolerance =
-        t.toleranceBelow === t.toleranceAbove ? `±${t.toleranceAbove}` : `+${t.toleranceAbove}/-${t.toleranceBelow}`;
-      io.stdout(
-        `${o.passed ? 'pass' : 'FAIL'}  ${t.id.padEnd(10)} ${t.reading.padEnd(16)} ${o.measured === null ? 'n/a' : o.measured.toFixed(2).padStart(7)}  expected ${String(t.expected).padStart(4)} ${tolerance.padEnd(9)} ${t.description}\n`,
-      );
-    }
-    io.stdout(`${outcomes.length - failed}/${outcomes.length} cases within tolerance\n`);
+    for (const o of outcomes) io.stdout(`${formatSelftestLine(o)}\n`);
+    io.stdout(`${outcomes.length - failed} of ${outcomes.length} cases within tolerance\n`);
   }
   return failed === 0 ? 0 : 1;
+}
+
+/** Each reading's unit, and the unit of a difference from it (a tolerance). */
+const READING_UNITS: Record<Reading, { unit: string; toleranceUnit: string }> = {
+  integrated: { unit: 'LUFS', toleranceUnit: 'LU' },
+  maxMomentary: { unit: 'LUFS', toleranceUnit: 'LU' },
+  maxShortTerm: { unit: 'LUFS', toleranceUnit: 'LU' },
+  shortTermSpread: { unit: 'LUFS', toleranceUnit: 'LU' },
+  momentarySpread: { unit: 'LUFS', toleranceUnit: 'LU' },
+  loudnessRange: { unit: 'LU', toleranceUnit: 'LU' },
+  truePeak: { unit: 'dBTP', toleranceUnit: 'dB' },
+};
+
+type Outcome = ReturnType<typeof runComplianceCase>;
+
+export function formatSelftestLine(o: Outcome): string {
+  const t = o.testCase;
+  const { unit, toleranceUnit } = READING_UNITS[t.reading];
+  const tolerance =
+    t.toleranceBelow === t.toleranceAbove
+      ? `±${t.toleranceAbove} ${toleranceUnit}`
+      : `+${t.toleranceAbove}/-${t.toleranceBelow} ${toleranceUnit}`;
+  const measured = o.measured === null ? 'n/a' : `${o.measured.toFixed(2)} ${unit}`;
+  return `${o.passed ? 'pass' : 'FAIL'}  ${t.id.padEnd(10)} ${t.reading.padEnd(16)} ${measured.padStart(12)}  expected ${`${t.expected} ${unit}`.padStart(9)} ${tolerance.padEnd(12)} ${t.description}`;
 }

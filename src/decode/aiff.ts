@@ -151,7 +151,7 @@ export async function parseAiff(reader: ByteReader, container: Container): Promi
     // The declared length is not reached: the audio stops where the SSND chunk does.
     warnings.push({
       code: 'truncated_data',
-      message: `audio data ends at frame ${chunkFrames}, COMM declares ${frames} frames`,
+      message: `audio data ends after ${chunkFrames} frames, COMM declares ${frames} frames`,
       atFrame: chunkFrames,
     });
     frames = chunkFrames;

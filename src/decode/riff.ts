@@ -341,7 +341,7 @@ export async function parseRiff(reader: ByteReader, container: Container): Promi
     warnings.push({
       code: 'truncated_data',
       atFrame: frames,
-      message: `audio data ends at frame ${frames}, the ds64 sample count declares ${ds64.sampleCount}`,
+      message: `audio data ends after ${frames} frames, the ds64 sample count declares ${ds64.sampleCount} frames`,
     });
   } else if (ds64 && ds64.sampleCount !== 0 && ds64.sampleCount < frames) {
     warnings.push({

@@ -127,7 +127,7 @@ export function complianceCases(): ComplianceCase[] {
     cases.push(loudnessCase('3341-2', `stereo 1 kHz -33 dBFS 20 s, ${reading}`, reading, -33, [tone(20, -33)]));
   }
   cases.push(
-    loudnessCase('3341-3', '10 s -36, 60 s -23, 10 s -36 dBFS', 'integrated', -23, [
+    loudnessCase('3341-3', '10 s at -36 dBFS, 60 s at -23 dBFS, 10 s at -36 dBFS', 'integrated', -23, [
       tone(10, -36),
       tone(60, -23),
       tone(10, -36),
@@ -143,7 +143,7 @@ export function complianceCases(): ComplianceCase[] {
     ]),
   );
   cases.push(
-    loudnessCase('3341-5', '20 s -26, 20.1 s -20, 20 s -26 dBFS', 'integrated', -23, [
+    loudnessCase('3341-5', '20 s at -26 dBFS, 20.1 s at -20 dBFS, 20 s at -26 dBFS', 'integrated', -23, [
       tone(20, -26),
       tone(20.1, -20),
       tone(20, -26),
@@ -152,7 +152,7 @@ export function complianceCases(): ComplianceCase[] {
   cases.push({
     ...loudnessCase(
       '3341-6',
-      '5.0: L,R -28, C -24, Ls,Rs -30 dBFS',
+      '5.0 layout: L and R at -28 dBFS, C at -24 dBFS, Ls and Rs at -30 dBFS',
       'integrated',
       -23,
       [tone(20, [-28, -28, -24, -30, -30])],
@@ -164,7 +164,7 @@ export function complianceCases(): ComplianceCase[] {
   cases.push(
     loudnessCase(
       '3341-9',
-      '(1.34 s -20, 1.66 s -30) x5: short-term after 3 s',
+      '(1.34 s at -20 dBFS, 1.66 s at -30 dBFS) 5 times: short-term after 3 s',
       'shortTermSpread',
       -23,
       repeat([tone(1.34, -20), tone(1.66, -30)], 5),
@@ -173,7 +173,7 @@ export function complianceCases(): ComplianceCase[] {
   cases.push(
     loudnessCase(
       '3341-12',
-      '(0.18 s -20, 0.22 s -30) x25: momentary after 1 s',
+      '(0.18 s at -20 dBFS, 0.22 s at -30 dBFS) 25 times: momentary after 1 s',
       'momentarySpread',
       -23,
       repeat([tone(0.18, -20), tone(0.22, -30)], 25),

@@ -21,5 +21,5 @@ it('prints one line per declaring source, declared beside measured', async () =>
     blocks.map((b) => [...b.channelData]),
   );
   const text = formatAnalysis(await analyzeFile(path));
-  expect(text).toContain('  Declared (bext)       integrated loudness declared -23.00, measured -20.0 LUFS\n');
+  expect(text).toContain('  Declared (bext)       integrated loudness declared -23.00 LUFS, measured -20.0 LUFS\n');
 });

@@ -68,7 +68,7 @@ export function streamPcm(
             const partial = bytes.length % blockAlign;
             warnings.push({
               code: 'truncated_data',
-              message: `audio data ends at frame ${at} of ${declaredFrames} declared${partial ? ` (partial last frame of ${partial} bytes dropped)` : ''}`,
+              message: `audio data ends after ${at} of ${declaredFrames} frames declared${partial ? ` (partial last frame of ${partial} bytes dropped)` : ''}`,
               atFrame: at,
             });
             break;

@@ -16,6 +16,10 @@ function copies(inverted: boolean, doc: AnalysisDocument): Draft {
   const names = hits.map(
     (p) => `${channelName(doc, p.otherChannel)}${inverted ? ' = -' : ' = '}${channelName(doc, p.channel)}`,
   );
+  // In words, each channel number after "ch" so it does not read as a value.
+  const shown = hits.map(
+    (p) => `ch ${channelName(doc, p.otherChannel)} = ${inverted ? 'inverted ' : ''}ch ${channelName(doc, p.channel)}`,
+  );
   const passed = hits.length === 0;
   const what = inverted ? 'polarity-inverted copy' : 'duplicate';
   return {
@@ -26,7 +30,7 @@ function copies(inverted: boolean, doc: AnalysisDocument): Draft {
     passed,
     explanation: passed
       ? `No channel is a ${what} of another`
-      : `${hits.length} channel pair${hits.length > 1 ? 's are' : ' is a'} ${what}${hits.length > 1 ? 's' : ''}: ${names.join('; ')}`,
+      : `${hits.length} channel pair${hits.length > 1 ? 's are' : ' is a'} ${what}${hits.length > 1 ? 's' : ''}: ${shown.join('; ')}`,
   };
 }
 

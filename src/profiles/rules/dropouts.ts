@@ -23,10 +23,12 @@ export const dropouts: RuleSpec<DropoutRule> = {
       .filter((c) => c.dropouts > 0);
     const n = allChannel + perChannel.reduce((sum, c) => sum + c.dropouts, 0);
     const scope = rule.channels ? ` in ${rule.channels.join(', ')}` : '';
+    // Each count says its noun, so no number in the text stands without one.
+    const dropouts = (k: number) => `${k} dropout${k === 1 ? '' : 's'}`;
     const where = [
-      ...(allChannel > 0 ? [`${allChannel} in all channels`] : []),
-      ...perChannel.map((c) => `${c.dropouts} in ${channelName(doc, c.index)}`),
-      ...(lineUp.length > 0 ? [`${lineUp.length} in the line-up not counted`] : []),
+      ...(allChannel > 0 ? [`${dropouts(allChannel)} in all channels`] : []),
+      ...perChannel.map((c) => `${dropouts(c.dropouts)} in ch ${channelName(doc, c.index)}`),
+      ...(lineUp.length > 0 ? [`${dropouts(lineUp.length)} in the line-up not counted`] : []),
     ];
     return count(
       n === 1 ? `dropout${scope}` : `dropouts${scope}`,
