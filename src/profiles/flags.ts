@@ -292,6 +292,12 @@ function merge(drafts: Draft[], gapSamples: number): Draft[] {
   return out;
 }
 
+/** A span's length as the report page's flag table writes it (assets/flag-table.js lengthText):
+ * milliseconds under 0.1 s, so a 10-sample clip run reads "0.2 ms", not "0.000 s". */
+export function lengthText(seconds: number): string {
+  return seconds < 0.1 ? `${fmt(seconds * 1000, 1)} ms` : `${fmt(seconds, 3)} s`;
+}
+
 function messageOf(f: Omit<Flag, 'message' | 'number'>): string {
   const where =
     f.channel === null
@@ -299,7 +305,7 @@ function messageOf(f: Omit<Flag, 'message' | 'number'>): string {
       : `channel ${f.channelName}${f.otherChannelName ? ` and ${f.otherChannelName}` : ''}`;
   const span =
     f.endSample > f.startSample
-      ? `${f.startTimecode} to ${f.endTimecode} (${fmt(f.endSeconds - f.startSeconds, 3)} s)`
+      ? `${f.startTimecode} to ${f.endTimecode} (${lengthText(f.endSeconds - f.startSeconds)})`
       : `at ${f.startTimecode}`;
   const count = f.count > 1 ? `, ${f.count} merged` : '';
   const worst =
