@@ -168,7 +168,8 @@ export const Job: Schema = {
       description: 'GET /v1/jobs/:id only: the re-runs of this job, oldest first.',
     },
     signOff: {
-      description: "GET /v1/jobs/:id only: the operator's current sign-off of the verdict (history: /signoffs).",
+      description:
+        "The operator's current sign-off of the verdict (history: /signoffs); GET /v1/jobs/:id gives it as null when there is none, the listing only when there is one.",
       anyOf: [SignOff, { type: 'null' }],
     },
   },

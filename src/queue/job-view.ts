@@ -30,8 +30,9 @@ export interface JobView {
   links: { self: string; report: string | null };
   /** The job whose stored audio this one re-ran (only on re-runs). */
   rerunOf?: string;
-  /** GET /v1/jobs/:id only: the re-runs of this job and the operator's current sign-off. */
+  /** GET /v1/jobs/:id only: the re-runs of this job. */
   reruns?: string[];
+  /** The operator's current sign-off: GET /v1/jobs/:id (null when none) and the listing (only when one). */
   signOff?: SignOff | null;
 }
 

@@ -49,6 +49,20 @@ export class SignOffLog {
     return (await this.redis.lrange(this.key(jobId), 0, -1)).map((line) => JSON.parse(line) as SignOff);
   }
 
+  /** The current sign-off of each job, in one round trip (a listing's page: one pipeline, not one read per job). */
+  async currentOf(jobIds: readonly string[]): Promise<Map<string, SignOff>> {
+    const found = new Map<string, SignOff>();
+    if (jobIds.length === 0) return found;
+    const pipeline = this.redis.pipeline();
+    for (const id of jobIds) pipeline.lindex(this.key(id), -1);
+    const answers = (await pipeline.exec()) ?? [];
+    answers.forEach(([error, last], i) => {
+      if (error) throw error;
+      if (typeof last === 'string') found.set(jobIds[i], JSON.parse(last) as SignOff);
+    });
+    return found;
+  }
+
   async current(jobId: string): Promise<SignOff | null> {
     const last = await this.redis.lindex(this.key(jobId), -1);
     return last ? (JSON.parse(last) as SignOff) : null;

@@ -66,9 +66,16 @@ ${uploadSection()}
   <h3 id="em-list-counters-title" class="em-counters-title">In this list</h3>
   <div id="em-list-counters" class="em-counters em-list-counters" aria-labelledby="em-list-counters-title" aria-live="polite"></div>
   <p id="em-list-more" class="em-status"></p>
+  <div class="em-select-bar" role="group" aria-label="Selected jobs">
+    <span id="em-select-count" class="em-status">0 selected</span>
+    <button type="button" id="em-select-compare" disabled title="Two completed jobs: the older is the first delivery">Compare</button>
+    <button type="button" id="em-select-junit" class="em-quiet" disabled>Export JUnit</button>
+    <button type="button" id="em-select-clear" class="em-quiet" disabled>Clear</button>
+    <span id="em-select-status" class="em-status" role="status"></span>
+  </div>
   <div style="overflow-x:auto">
   <table>
-    <thead><tr><th scope="col">File</th><th scope="col" class="em-hide-narrow">External ID</th><th scope="col">Profile</th><th scope="col">State</th><th scope="col">Verdict</th><th scope="col" class="em-hide-narrow">Integrated</th><th scope="col" class="em-hide-narrow">True peak</th><th scope="col" class="em-hide-narrow">Submitted <small>(your time)</small></th><th scope="col">Finished <small>(your time)</small></th></tr></thead>
+    <thead><tr><th scope="col" class="em-select-cell"><span class="em-visually-hidden">Select</span></th><th scope="col">File</th><th scope="col" class="em-hide-narrow">External ID</th><th scope="col">Profile</th><th scope="col">State</th><th scope="col">Verdict</th><th scope="col" class="em-hide-narrow">Integrated</th><th scope="col" class="em-hide-narrow">True peak</th><th scope="col" class="em-hide-narrow">Submitted <small>(your time)</small></th><th scope="col">Finished <small>(your time)</small></th></tr></thead>
     <tbody id="em-jobs-body"></tbody>
   </table>
   </div>
@@ -113,6 +120,7 @@ export function reportPage(jobId: string): string {
   </div>
   <dl id="em-metrics" class="em-metrics" style="margin-top:1rem"></dl>
 </section>
+<section id="em-links" class="em-card em-links em-screen-only" aria-labelledby="em-links-title" hidden></section>
 <section class="em-card em-plot-card" aria-labelledby="em-plot-title">
   <h2 id="em-plot-title" style="margin-top:0">Loudness over time</h2>
   <p class="em-status">Thin line: momentary (400 ms). Thick line: short-term (3 s). Band: the profile's target. Above the plot, one lane per flag kind (remarks fainter); the tint under the lines shows where flags lie.</p>
@@ -135,7 +143,8 @@ ${downmixSection()}
 ${dialogueSection()}
 </div>
 <section id="em-review" class="em-card em-review" aria-labelledby="em-review-title" hidden></section>
-<script type="module" src="/assets/review.js"></script>`,
+<script type="module" src="/assets/review.js"></script>
+<script type="module" src="/assets/report-links.js"></script>`,
     'report.js',
   );
 }

@@ -177,7 +177,13 @@ export function jobsPlugin(deps: AppDeps, uploadLimitBytes: number, bodyTimeoutM
           submitted: submitRange(submittedFrom, submittedTo),
           cursor: cursor ? decodeCursor(cursor) : null,
         });
-        return { items: page.items, nextCursor: page.next ? encodeCursor(page.next) : null };
+        // The current sign-offs of the page's jobs in one pipelined read, so the list can show them.
+        const signOffs = await deps.store.signOffs.currentOf(page.items.map((item) => item.id));
+        const items = page.items.map((item) => {
+          const signOff = signOffs.get(item.id);
+          return signOff ? { ...item, signOff } : item;
+        });
+        return { items, nextCursor: page.next ? encodeCursor(page.next) : null };
       });
 
       route(app, jobSpecs.queue, async (request) => {

@@ -24,6 +24,9 @@ const ASSET_TYPES: Record<string, string> = {
   'dialogue.js': 'text/javascript; charset=utf-8',
   'compare.js': 'text/javascript; charset=utf-8',
   'review.js': 'text/javascript; charset=utf-8',
+  'download.js': 'text/javascript; charset=utf-8',
+  'report-links.js': 'text/javascript; charset=utf-8',
+  'dashboard-select.js': 'text/javascript; charset=utf-8',
 };
 const ASSET_NAMES = Object.keys(ASSET_TYPES);
 const html = { description: 'HTML page', schema: { type: 'string' }, contentType: 'text/html' };

@@ -2,6 +2,7 @@
 // reloading the page; uploads live in dashboard-upload.js.
 import { api, apiKey, el, setupKeyForm, text, verdictBadge } from './common.js';
 import { fillUploadProfiles, setupUploads } from './dashboard-upload.js';
+import { selectCell, setupSelection, signOffBadge } from './dashboard-select.js';
 import { dateTimeText, stateCounts } from './format.js';
 
 const REFRESH_MS = 2000;
@@ -112,7 +113,7 @@ function renderJobs(list) {
   const body = document.getElementById('em-jobs-body');
   if (list.items.length === 0) {
     body.replaceChildren(
-      el('tr', {}, el('td', { colspan: '9', class: 'em-status' }, 'No jobs match these filters yet.')),
+      el('tr', {}, el('td', { colspan: '10', class: 'em-status' }, 'No jobs match these filters yet.')),
     );
     return;
   }
@@ -127,6 +128,7 @@ function renderJobs(list) {
       return el(
         'tr',
         { 'data-job-id': job.id, 'data-state': job.state, 'data-verdict': job.verdict ?? null },
+        selectCell(job, name),
         el(
           'td',
           {},
@@ -136,7 +138,7 @@ function renderJobs(list) {
         el('td', { class: 'em-hide-narrow', 'data-column': 'external-id' }, job.externalId ?? '–'),
         el('td', {}, `${job.profile.id} v${job.profile.version}`),
         el('td', {}, state, job.error ? el('div', { class: 'em-status' }, job.error.code) : null),
-        el('td', {}, job.state === 'completed' ? verdictBadge(job.verdict) : '–'),
+        el('td', {}, job.state === 'completed' ? [verdictBadge(job.verdict), signOffBadge(job.signOff)] : '–'),
         el('td', { class: 'em-hide-narrow' }, text(job.summary?.integratedLufs, 1, 'LUFS')),
         el('td', { class: 'em-hide-narrow' }, text(job.summary?.truePeakDbtp, 1, 'dBTP')),
         el('td', { class: 'em-hide-narrow', 'data-column': 'submitted' }, dateTimeText(job.createdAt)),
@@ -223,5 +225,6 @@ document.getElementById('em-page-prev').addEventListener('click', () => {
   refresh();
 });
 setupUploads(() => refresh());
+setupSelection();
 loadProfiles();
 schedule();

@@ -216,6 +216,8 @@ async function load() {
     renderDownmix(report);
     renderDialogue(report);
     document.getElementById('em-report-body').hidden = false;
+    // Cards in scripts of their own (report-links.js) take the report from here, not a second fetch.
+    document.dispatchEvent(new CustomEvent('earmark:report', { detail: { job, report } }));
     status.textContent = '';
   } catch (error) {
     status.textContent = `Cannot load: ${error.message}. Enter an API key with read scope.`;
