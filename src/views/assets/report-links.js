@@ -87,7 +87,6 @@ function compareForm(job) {
     autocomplete: 'off',
     spellcheck: 'false',
     placeholder: 'j_…',
-    pattern: 'j_[a-z0-9]{20,40}',
     maxlength: '41',
   });
   const status = el('p', { class: 'em-status', role: 'status', 'data-links': 'compare-status' });
