@@ -74,8 +74,14 @@ describe.skipIf(!hasTool('chromium'))('downloads and compare links in Chromium',
     return { page, errors };
   }
 
-  const noSidewaysScroll = (page: Page) =>
-    page.evaluate(() => document.documentElement.scrollWidth <= window.innerWidth);
+  // A string, as in the other page tests: the test's types have no DOM.
+  const noSidewaysScroll = async (page: Page) => {
+    const [scrollWidth, innerWidth] = (await page.evaluate(
+      '[document.documentElement.scrollWidth, window.innerWidth]',
+    )) as [number, number];
+    expect(innerWidth).toBe(375);
+    return scrollWidth <= innerWidth;
+  };
 
   it('report page: saves the flags CSV, offers the markers WAV, links to compare with the re-run', async () => {
     const { page, errors } = await openWithKey(`/jobs/${hotId}`);
@@ -91,7 +97,7 @@ describe.skipIf(!hasTool('chromium'))('downloads and compare links in Chromium',
     const report = (await api.get(`/v1/jobs/${hotId}/report`, KEYS.alpha)).body;
     expect(report.flags.length).toBeGreaterThan(0);
     // The first row: the file, flag number 1, its kind and severity as the report gives them.
-    expect(lines[1]).toMatch(new RegExp(`^river-documentary-hot\\.wav,1,[0-9.]+,`));
+    expect(lines[1]).toMatch(/^river-documentary-hot\.wav,1,[0-9.]+,/);
     expect(lines[1]).toContain(`,${report.flags[0].kind},${report.flags[0].severity},`);
     await page.waitForSelector('.em-download-status:has-text("Saved as river-documentary-hot.flags.csv")');
 
@@ -99,6 +105,25 @@ describe.skipIf(!hasTool('chromium'))('downloads and compare links in Chromium',
     const [json] = await Promise.all([page.waitForEvent('download'), page.click('button[data-download="json"]')]);
     expect(json.suggestedFilename()).toMatch(/\.report\.json$/);
     expect(JSON.parse(readFileSync(await json.path(), 'utf8')).signOff.decision).toBe('reject');
+    // The markers copy: a "Preparing…" state first, then the saved file, a RIFF WAVE with a cue chunk.
+    // Every text the status shows is recorded on the button (a string script: the test has no DOM types).
+    await page.evaluate(`(() => {
+      const button = document.querySelector('button[data-download="wav"]');
+      const status = button.parentElement.querySelector('.em-download-status');
+      const seen = [];
+      new MutationObserver(() => {
+        seen.push(status.textContent);
+        button.setAttribute('data-seen', seen.join('|'));
+      }).observe(status, { childList: true, characterData: true, subtree: true });
+    })()`);
+    const [markers] = await Promise.all([page.waitForEvent('download'), page.click('button[data-download="wav"]')]);
+    expect(markers.suggestedFilename()).toBe('river-documentary-hot.markers.wav');
+    const wav = readFileSync(await markers.path());
+    expect(wav.subarray(0, 4).toString('latin1')).toBe('RIFF');
+    expect(wav.subarray(8, 12).toString('latin1')).toBe('WAVE');
+    expect(wav.includes(Buffer.from('cue ', 'latin1'))).toBe(true);
+    await page.waitForSelector('.em-download-status:has-text("Saved as river-documentary-hot.markers.wav")');
+    expect(await page.getAttribute('button[data-download="wav"]', 'data-seen')).toContain('Preparing…');
     await page.locator('#em-links').scrollIntoViewIfNeeded();
     await page.screenshot({ path: join(OUTPUT_DIR, 'links-report.png'), fullPage: true });
 
