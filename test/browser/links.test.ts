@@ -103,7 +103,7 @@ describe.skipIf(!hasTool('chromium'))('downloads and compare links in Chromium',
 
     // The JSON as the API serves it, sign-off included.
     const [json] = await Promise.all([page.waitForEvent('download'), page.click('button[data-download="json"]')]);
-    expect(json.suggestedFilename()).toMatch(/\.report\.json$/);
+    expect(json.suggestedFilename()).toBe('river-documentary-hot.report.json');
     expect(JSON.parse(readFileSync(await json.path(), 'utf8')).signOff.decision).toBe('reject');
     // The markers copy: a "Preparing…" state first, then the saved file, a RIFF WAVE with a cue chunk.
     // Every text the status shows is recorded on the button (a string script: the test has no DOM types).
@@ -131,7 +131,7 @@ describe.skipIf(!hasTool('chromium'))('downloads and compare links in Chromium',
     await page.setViewportSize({ width: 375, height: 812 });
     expect(await noSidewaysScroll(page)).toBe(true);
     await page.locator('#em-links').scrollIntoViewIfNeeded();
-    await page.screenshot({ path: join(OUTPUT_DIR, 'links-report-phone.png'), fullPage: true });
+    await page.locator('#em-links').screenshot({ path: join(OUTPUT_DIR, 'links-report-phone.png') });
     await page.setViewportSize({ width: 1280, height: 900 });
 
     const link = page.locator('a[data-links="compare-link"]');

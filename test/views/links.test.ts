@@ -3,7 +3,7 @@
 import { describe, expect, it } from 'vitest';
 import { comparePathOf, junitPathOf, signOffMarker } from '../../src/views/assets/dashboard-select.js';
 import { fileNameFromDisposition, progressText, sizeText } from '../../src/views/assets/download.js';
-import { lineageCompareLinks, markersOffer } from '../../src/views/assets/report-links.js';
+import { lineageCompareLinks, markersOffer, saveName } from '../../src/views/assets/report-links.js';
 
 const ID_A = 'j_aaaaaaaaaaaaaaaaaaaaaaaa';
 const ID_B = 'j_bbbbbbbbbbbbbbbbbbbbbbbb';
@@ -21,6 +21,12 @@ describe('download names and progress', () => {
     expect(fileNameFromDisposition('attachment; filename="../../etc/passwd"', 'x.csv')).toBe('passwd');
     expect(fileNameFromDisposition('attachment; filename="a\u0007b.csv"', 'x.csv')).toBe('ab.csv');
     expect(fileNameFromDisposition('attachment; filename="/"', 'x.csv')).toBe('x.csv');
+  });
+
+  it('names a save as the API does (src/api/plugins/exports.ts downloadName)', () => {
+    expect(saveName('river doc (v2).wav', ID_A, '.report.json')).toBe('river_doc_v2_.report.json');
+    expect(saveName(undefined, ID_A, '.report.json')).toBe(`${ID_A}.report.json`);
+    expect(saveName('..wav', ID_A, '.flags.csv')).toBe(`${ID_A}.flags.csv`);
   });
 
   it('says how far the preparation is, in decimal units', () => {

@@ -7,3 +7,4 @@ export function lineageCompareLinks(job: {
   rerunOf?: string;
   reruns?: string[];
 }): { href: string; text: string }[];
+export function saveName(fileName: string | null | undefined, jobId: string, suffix: string): string;

@@ -13,6 +13,15 @@ const JOB_ID = /^j_[a-z0-9]{20,40}$/;
 export const comparePath = (firstId, secondId) =>
   `/jobs/${encodeURIComponent(firstId)}/compare/${encodeURIComponent(secondId)}`;
 
+/** A save name from the delivered file's name (as the API's own: letters, digits, dot, dash, underscore), or the job id. */
+export function saveName(fileName, jobId, suffix) {
+  const base = String(fileName ?? '')
+    .replace(/\.[^.]*$/, '')
+    .replace(/[^A-Za-z0-9._-]+/g, '_')
+    .replace(/^[._]+/, '');
+  return `${base.slice(0, 100) || jobId}${suffix}`;
+}
+
 /** Whether a markers copy can be made, and if not, why in words. */
 export function markersOffer(report) {
   const container = report.format?.container ?? 'unknown';
@@ -57,6 +66,8 @@ function downloadButton(label, path, fallbackName, note) {
 
 function downloads(job, report) {
   const base = `/v1/jobs/${encodeURIComponent(job.id)}`;
+  // The server names the CSV and WAV itself; the report JSON is named here the same way.
+  const name = (suffix) => saveName(report.file?.name, job.id, suffix);
   const markers = markersOffer(report);
   const sourceBytes = job.source?.kind === 'upload' ? job.source.sizeBytes : null;
   return el(
@@ -66,13 +77,13 @@ function downloads(job, report) {
     el(
       'ul',
       { class: 'em-downloads' },
-      downloadButton('Report JSON', `${base}/report`, `${job.id}.report.json`),
-      downloadButton('Flags CSV', `${base}/flags.csv`, `${job.id}.flags.csv`, '(one row per listed flag)'),
+      downloadButton('Report JSON', `${base}/report`, name('.report.json')),
+      downloadButton('Flags CSV', `${base}/flags.csv`, name('.flags.csv'), '(one row per listed flag)'),
       markers.offered
         ? downloadButton(
             'Markers WAV',
             `${base}/markers.wav`,
-            `${job.id}.markers.wav`,
+            name('.markers.wav'),
             `(a full copy of the audio${sourceBytes ? `, about ${sizeText(sourceBytes)}` : ''}, with a cue marker at each flag: it takes a while and the browser holds it until saved)`,
           )
         : el('li', { class: 'em-status', 'data-links': 'no-markers' }, markers.reason),
