@@ -8,7 +8,8 @@ import { dateTimeText } from './format.js';
 
 export const MAX_JUNIT_JOBS = 100;
 const inPage = typeof document !== 'undefined';
-// Job id -> its submit time (ISO): enough to order two for the compare page.
+// Job id -> { createdAt, state }: the submit time orders two for the compare page; the state
+// (kept current by each refresh) says whether they can be compared yet.
 const selected = new Map();
 
 /** The compare page for two selected jobs, the older submission first; null unless exactly two. */
@@ -38,8 +39,10 @@ function status(words) {
 
 function renderBar() {
   const count = selected.size;
-  document.getElementById('em-select-count').textContent = `${count} selected`;
-  document.getElementById('em-select-compare').disabled = count !== 2;
+  const unfinished = [...selected.values()].filter((job) => job.state !== 'completed').length;
+  document.getElementById('em-select-compare').disabled = count !== 2 || unfinished > 0;
+  document.getElementById('em-select-count').textContent =
+    `${count} selected${count === 2 && unfinished > 0 ? ' (only completed jobs can be compared)' : ''}${count > MAX_JUNIT_JOBS ? ` (JUnit takes at most ${MAX_JUNIT_JOBS})` : ''}`;
   document.getElementById('em-select-junit').disabled = count === 0 || count > MAX_JUNIT_JOBS;
   document.getElementById('em-select-clear').disabled = count === 0;
 }
@@ -52,8 +55,12 @@ export function selectCell(job, fileName) {
     'aria-label': `Select ${fileName}`,
     checked: selected.has(job.id),
   });
+  if (selected.has(job.id)) {
+    selected.set(job.id, { createdAt: job.createdAt, state: job.state });
+    renderBar();
+  }
   box.addEventListener('change', () => {
-    if (box.checked) selected.set(job.id, job.createdAt);
+    if (box.checked) selected.set(job.id, { createdAt: job.createdAt, state: job.state });
     else selected.delete(job.id);
     status('');
     renderBar();
@@ -76,7 +83,7 @@ export function signOffBadge(signOff) {
 export function setupSelection() {
   if (!inPage) return;
   document.getElementById('em-select-compare').addEventListener('click', () => {
-    const path = comparePathOf([...selected].map(([id, createdAt]) => ({ id, createdAt })));
+    const path = comparePathOf([...selected].map(([id, job]) => ({ id, createdAt: job.createdAt })));
     if (path) window.location.assign(path);
   });
   document.getElementById('em-select-clear').addEventListener('click', () => {
