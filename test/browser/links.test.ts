@@ -127,6 +127,11 @@ describe.skipIf(!hasTool('chromium'))('downloads and compare links in Chromium',
     await page.locator('#em-links').scrollIntoViewIfNeeded();
     await page.screenshot({ path: join(OUTPUT_DIR, 'links-report.png'), fullPage: true });
 
+    // Print: the card is for the screen only.
+    await page.emulateMedia({ media: 'print' });
+    expect(await page.isVisible('#em-links')).toBe(false);
+    await page.emulateMedia({ media: 'screen' });
+
     // Phone: nothing added scrolls sideways.
     await page.setViewportSize({ width: 375, height: 812 });
     expect(await noSidewaysScroll(page)).toBe(true);
