@@ -174,7 +174,8 @@ function renderHead(report) {
 /** The detections past the event cap are not in the counts: said beside them, detailed below the table. */
 function unlistedCountText(report) {
   const total = (report.unlistedEvents ?? []).reduce((sum, u) => sum + u.count, 0);
-  return total > 0 ? `; plus ${total} detections past the event cap, not in these counts (see below the table)` : '';
+  const what = total === 1 ? 'detection' : 'detections';
+  return total > 0 ? `; plus ${total} ${what} past the event cap, not in these counts (see below the table)` : '';
 }
 
 function renderFlags(report) {
