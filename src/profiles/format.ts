@@ -7,10 +7,10 @@ export function fmt(value: number, decimals = 1): string {
   return text === `-${(0).toFixed(decimals)}` ? (0).toFixed(decimals) : text;
 }
 
-/** Formats `value` so that it never reads equal to `limit` when it is not. */
-export function fmtAgainst(value: number, limit: number): string {
+/** Formats `value` (with at least `minDecimals`) so that it never reads equal to `limit` when it is not. */
+export function fmtAgainst(value: number, limit: number, minDecimals = 1): string {
   // Up to 12 decimals: a measured value a hair past its limit still reads past it.
-  for (let decimals = 1; decimals < MAX_DECIMALS; decimals++) {
+  for (let decimals = minDecimals; decimals < MAX_DECIMALS; decimals++) {
     if (value === limit || fmt(value, decimals) !== fmt(limit, decimals)) return fmt(value, decimals);
   }
   return fmt(value, MAX_DECIMALS);

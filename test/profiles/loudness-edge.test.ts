@@ -6,6 +6,7 @@
 import { afterAll, describe, expect, it } from 'vitest';
 import { runCheck } from '../../src/profiles/checks.ts';
 import { builtinProfile, type Rule } from '../../src/profiles/index.ts';
+import { BUSY_CHANNELS } from '../views/busy-report.ts';
 import { sampleReport } from '../views/sample-report.ts';
 import { checkFile, checkOf, tempDir, writeTone } from './helpers.ts';
 
@@ -84,5 +85,43 @@ describe('integrated loudness at the edge of -23 ±1 LU (EBU R 128 item h)', () 
       /^Integrated loudness -21\.9\d+ LUFS is 1\.0\d+ LU above the -23 LUFS target, 0\.0\d+ LU above the upper limit -22 LUFS/,
     );
     expect(report.headline).not.toContain('-22.0 LUFS');
+  });
+});
+
+describe('line-up tone and its separation just past their limits', () => {
+  /** The sample report with both tone segments read as given. */
+  function withTone(frequencyHz: number, rmsAes17Db: number, endSeconds: number, toneGapSeconds = 3) {
+    const doc = sampleReport();
+    const head = {
+      ...doc.head,
+      toneGapSeconds,
+      toneSegments: doc.head.toneSegments.map((s) => ({ ...s, frequencyHz, rmsAes17Db, endSeconds })),
+    };
+    return { ...doc, channels: BUSY_CHANNELS, head };
+  }
+  const tone: Rule = {
+    id: 'tone',
+    type: 'line-up-tone',
+    severity: 'fail',
+    frequencyHz: 1000,
+    frequencyToleranceHz: 1,
+    levelDbfs: -18,
+    levelToleranceDb: 0.5,
+    minSeconds: 1,
+  };
+
+  it('a reading past its edge shows enough decimals to read past it (not "1001.0 Hz, not 1000 +/- 1 Hz")', () => {
+    const check = runCheck(tone, withTone(1001.04, -17.496, 0.9996));
+    expect(check.passed).toBe(false);
+    expect(check.explanation).toContain('the longest tone lasts 0.9996 s, under the 1 s minimum');
+    expect(check.explanation).toContain('1001.04 Hz, not 1000 +/- 1 Hz');
+    expect(check.explanation).toContain('-17.496 dBFS, not -18 +/- 0.5 dB');
+  });
+
+  it('a tone-to-programme gap a hair under the minimum reads under it', () => {
+    const rule: Rule = { id: 'gap', type: 'tone-separation', severity: 'fail', minGapSeconds: 2 };
+    const check = runCheck(rule, withTone(1000, -18, 1, 1.9996));
+    expect(check.passed).toBe(false);
+    expect(check.explanation).toMatch(/^Only 1\.9996 s between the line-up tone and the programme/);
   });
 });
