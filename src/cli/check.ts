@@ -102,6 +102,14 @@ export function formatReport(report: QcReport, { all = false }: { all?: boolean 
   lines.push(
     `flags    ${report.flagsTotal} (${n.fail} fail, ${n.warn} warn, ${n.remark} remark)${report.flagsTruncated ? `, ${report.flags.length} kept` : ''}  timecode ${tc.frameRate} fps from ${tc.originTimecode}\n`,
   );
+  const unlisted = report.unlistedEvents ?? [];
+  if (unlisted.length > 0) {
+    const total = unlisted.reduce((sum, u) => sum + u.count, 0);
+    const kinds = unlisted.map((u) => `${u.kind} ${u.count} (${u.ruleId ? `${u.ruleId}, ` : ''}${u.severity})`);
+    lines.push(
+      `  listing cut: ${total} more detections past the analysis's event cap, not listed and not in the flag count above (the checks count them all): ${kinds.join(', ')}\n`,
+    );
+  }
   const byKind = new Map<string, number>();
   for (const f of report.flags) byKind.set(f.kind, (byKind.get(f.kind) ?? 0) + 1);
   if (byKind.size > 1) lines.push(`  by kind: ${[...byKind].map(([kind, count]) => `${kind} ${count}`).join(', ')}\n`);
@@ -148,8 +156,8 @@ function junitWarnOption(raw: string | undefined): JunitWarnAs {
 /** One line of a batch's --json: the verdict and readings, or the error; `--json` on one file gives the whole report. */
 function batchJson(r: BatchResult) {
   if ('error' in r) return { file: r.file, error: r.error };
-  const { verdict, headline, profile, summary, flagCounts, flagsTotal } = r.report;
-  return { file: r.file, verdict, headline, profile, ...summary, flagCounts, flagsTotal };
+  const { verdict, headline, profile, summary, flagCounts, flagsTotal, unlistedEvents = [] } = r.report;
+  return { file: r.file, verdict, headline, profile, ...summary, flagCounts, flagsTotal, unlistedEvents };
 }
 
 /** main.ts's error exit: a file of a batch that could not be checked counts as it does alone. */

@@ -12,12 +12,12 @@ export const JUNIT_WARN_AS: readonly JunitWarnAs[] = ['pass', 'failure', 'skippe
 /** What a test case reads of a report (a batch keeps only this much of each file's report). */
 export type ReportSummary = Pick<
   QcReport,
-  'verdict' | 'headline' | 'profile' | 'checks' | 'flagCounts' | 'flagsTotal' | 'flags'
+  'verdict' | 'headline' | 'profile' | 'checks' | 'flagCounts' | 'flagsTotal' | 'flags' | 'unlistedEvents'
 > & { summary: Pick<QcReport['summary'], 'integratedLufs' | 'truePeakDbtp'> };
 
 /** The summary of a full report: the readings and judgements, without the analysis series. */
 export function summarise(r: ReportSummary): ReportSummary {
-  const { verdict, headline, profile, checks, flagCounts, flagsTotal, flags } = r;
+  const { verdict, headline, profile, checks, flagCounts, flagsTotal, flags, unlistedEvents } = r;
   const { integratedLufs, truePeakDbtp } = r.summary;
   return {
     verdict,
@@ -27,6 +27,7 @@ export function summarise(r: ReportSummary): ReportSummary {
     flagCounts,
     flagsTotal,
     flags,
+    ...(unlistedEvents ? { unlistedEvents } : {}),
     summary: { integratedLufs, truePeakDbtp },
   };
 }
@@ -71,7 +72,10 @@ const attr = (name: string, value: string | number) => ` ${name}="${xmlText(Stri
 function details(report: ReportSummary): string {
   const lines = report.checks.filter((c) => !c.passed).map((c) => `${c.severity}: ${c.ruleId}: ${c.explanation}`);
   const n = report.flagCounts;
-  lines.push(`flags: ${report.flagsTotal} (${n.fail} fail, ${n.warn} warn, ${n.remark} remark)`);
+  const unlisted = (report.unlistedEvents ?? []).reduce((sum, u) => sum + u.count, 0);
+  lines.push(
+    `flags: ${report.flagsTotal} (${n.fail} fail, ${n.warn} warn, ${n.remark} remark)${unlisted > 0 ? `; ${unlisted} more detections past the event cap, not listed` : ''}`,
+  );
   return lines.join('\n');
 }
 

@@ -347,6 +347,11 @@ function warningsOf(before: QcReport, after: QcReport): ComparisonWarning[] {
         code: 'flags_truncated',
         message: `the ${name} report lists ${r.flags.length} of its ${r.flagsTotal} flags (the rest are past its caps): only listed flags are matched`,
       });
+    else if ((r.unlistedEvents ?? []).length > 0)
+      out.push({
+        code: 'flags_truncated',
+        message: `the ${name} report's analysis kept only its first events (the rest are counted, not listed): only listed flags are matched`,
+      });
   return out;
 }
 

@@ -150,7 +150,7 @@ export function evaluate(profile: Profile, doc: AnalysisDocument, options: Evalu
     integrity,
     ...profile.rules.filter((r) => r.type !== 'integrity').map((rule) => runCheck(rule, doc, rate)),
   ];
-  const { flags, flagsTotal, flagCounts } = buildFlags(profile, doc, checks, integrity, rate, options);
+  const { flags, flagsTotal, flagCounts, unlistedEvents } = buildFlags(profile, doc, checks, integrity, rate, options);
   const origin = doc.format.timeReferenceSamples;
   const problems = doc.integrity.problems.map((p) => ({
     ...p,
@@ -169,6 +169,7 @@ export function evaluate(profile: Profile, doc: AnalysisDocument, options: Evalu
     flagsTotal,
     flagsTruncated: flags.length < flagsTotal,
     flagCounts,
+    unlistedEvents,
     correction: correctionFor(profile, doc),
     timecode: {
       frameRate: rate.id,

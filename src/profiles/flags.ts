@@ -7,7 +7,7 @@ import type { AnalysisEvent, EventKind } from '../analysis/events.ts';
 import { channelName, type AnalysisDocument } from '../engine/document.ts';
 import { declaredLoudnessDrafts } from './declared-flags.ts';
 import { fmt } from './format.ts';
-import type { CheckResult, Flag, FlagKind, FlagSeverity } from './report.ts';
+import type { CheckResult, Flag, FlagKind, FlagSeverity, UnlistedEvents } from './report.ts';
 import { RULES, RULE_TYPES, ruleSpec } from './rules/index.ts';
 import { headDrafts } from './head-flags.ts';
 import { headSilenceOf } from './head.ts';
@@ -317,6 +317,28 @@ export interface BuiltFlags {
   flags: Flag[];
   flagsTotal: number;
   flagCounts: Record<FlagSeverity, number>;
+  unlistedEvents: UnlistedEvents[];
+}
+
+/**
+ * Findings the analysis counted past its event cap (it keeps only counts of those, by kind): never
+ * made flags, as nobody knows which listed flag each would merge into or how many flags they form.
+ * The verdict does not need them: checks read the meters' own totals.
+ */
+function unlistedEvents(profile: Profile, doc: AnalysisDocument, checks: Map<string, CheckResult>): UnlistedEvents[] {
+  const kept = new Map<EventKind, number>();
+  for (const e of doc.events) kept.set(e.kind, (kept.get(e.kind) ?? 0) + 1);
+  const overKind = judgedOverKind(profile);
+  const out: UnlistedEvents[] = [];
+  for (const [kind, total] of Object.entries(doc.eventCounts) as [EventKind, number][]) {
+    const count = Math.max(0, total - (kept.get(kind) ?? 0));
+    if (count === 0 || ((kind === 'true_peak_over' || kind === 'reconstructed_over') && kind !== overKind)) continue;
+    // A programme silence may be a gap (its rule) or a channel's silence (a remark): named by the gap rule.
+    const rule = kind === 'silence' ? 'silence-gap' : JUDGED_BY.get(kind);
+    const judged = rule ? ruleVerdict(profile, checks, rule) : { ruleId: null, severity: 'remark' as const };
+    out.push({ kind: EVENT_FLAGS[kind], ...judged, count });
+  }
+  return out;
 }
 
 export function buildFlags(
@@ -340,17 +362,6 @@ export function buildFlags(
   const merged = merge(drafts, Math.round((options.mergeGapSeconds ?? DEFAULT_FLAG_MERGE_SECONDS) * sampleRate));
   const flagCounts: Record<FlagSeverity, number> = { fail: 0, warn: 0, remark: 0 };
   for (const d of merged) flagCounts[d.severity]++;
-  // Findings the analysis counted but did not keep (its event cap): counted, as remarks unless their rule is broken.
-  let unseen = 0;
-  const kept = new Map<EventKind, number>();
-  for (const e of doc.events) kept.set(e.kind, (kept.get(e.kind) ?? 0) + 1);
-  for (const [kind, total] of Object.entries(doc.eventCounts) as [EventKind, number][]) {
-    const missing = Math.max(0, total - (kept.get(kind) ?? 0));
-    const rule = JUDGED_BY.get(kind);
-    if (missing === 0 || kind === 'silence') continue;
-    unseen += missing;
-    flagCounts[rule ? ruleVerdict(profile, byId, rule).severity : 'remark'] += missing;
-  }
   const maxFlags = options.maxFlags ?? DEFAULT_MAX_FLAGS;
   const chosen = [...merged]
     .sort((a, b) => rank(a.severity) - rank(b.severity) || a.startSample - b.startSample)
@@ -375,5 +386,5 @@ export function buildFlags(
     };
     return { number: i + 1, ...base, message: message ?? messageOf(base) };
   });
-  return { flags, flagsTotal: merged.length + unseen, flagCounts };
+  return { flags, flagsTotal: merged.length, flagCounts, unlistedEvents: unlistedEvents(profile, doc, byId) };
 }

@@ -129,6 +129,20 @@ export interface ReportTimecode {
   originTimecode: string;
 }
 
+/**
+ * Analysis events of one kind past the analysis's event cap: counted, never listed or merged into
+ * flags (each may extend a listed flag or be a flag of its own). The checks count them all.
+ */
+export interface UnlistedEvents {
+  kind: FlagKind;
+  /** The rule that judges this kind, or null when none of the profile's rules does. */
+  ruleId: string | null;
+  /** That rule's severity when it is broken, else remark. */
+  severity: FlagSeverity;
+  /** Engine events not listed (a clipping run, a span of overs: as a flag's `count`). */
+  count: number;
+}
+
 /** One count per flag severity (written out, so the generated schema allows no other key). */
 export interface FlagCounts {
   fail: number;
@@ -146,11 +160,18 @@ export interface QcReport extends AnalysisDocument {
   profile: { id: string; version: string; name: string; basis: string };
   checks: CheckResult[];
   flags: Flag[];
-  /** Flags before the cap (after merging); flags.length < flagsTotal when truncated. */
+  /**
+   * Flags made from the listed analysis events, before the report's flag cap (after merging);
+   * flags.length < flagsTotal when that cap cut the list. Events past the analysis's event cap
+   * are not in it: see unlistedEvents.
+   */
   flagsTotal: number;
+  /** The report's flag cap cut the list (flags.length < flagsTotal). */
   flagsTruncated: boolean;
-  /** Flags before the cap, by severity (remarks included). */
+  /** flagsTotal by severity (remarks included). */
   flagCounts: FlagCounts;
+  /** Events past the analysis's event cap, by kind, not in any flag; empty when none (absent in older reports). */
+  unlistedEvents?: UnlistedEvents[];
   correction: Correction | null;
   timecode: ReportTimecode;
   /** SMPTE labels of the head readings (`head`) at the report's frame rate. */

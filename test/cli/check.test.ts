@@ -44,7 +44,7 @@ describe('earmark check', () => {
     const io = capture();
     expect(await main(['check', loud, '--profile', 'ebu-r128'], io)).toBe(2);
     expect(io.out).toContain(
-      'programme-loudness: Integrated loudness -20.4 LUFS is 2.6 LU above the -23 LUFS target (tolerance ±1.0 LU)',
+      'programme-loudness: Integrated loudness -20.4 LUFS is 2.6 LU above the -23 LUFS target, 1.6 LU above the upper limit -22 LUFS (tolerance ±1.0 LU)',
     );
     expect(io.out).toMatch(/gain +-2\.6\d dB to -23 LUFS/);
   });

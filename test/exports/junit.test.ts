@@ -2,7 +2,7 @@
 // section 2.2 Char production), checked by Python's XML parser (an outside reader) when present.
 import { execFileSync } from 'node:child_process';
 import { describe, expect, it } from 'vitest';
-import { junitXml, xmlText, type JunitEntry } from '../../src/exports/junit.ts';
+import { junitXml, summarise, xmlText, type JunitEntry } from '../../src/exports/junit.ts';
 import type { QcReport } from '../../src/profiles/index.ts';
 import { sampleReport } from '../views/sample-report.ts';
 
@@ -72,5 +72,17 @@ describe('JUnit XML', () => {
     });
     expect(parse(junitXml(entries, { warnAs: 'failure' })).cases[1]).toBe('b-warn.wav|failure');
     expect(parse(junitXml(entries, { warnAs: 'skipped' })).totals).toBe('5 1 1 2');
+  });
+});
+
+describe('JUnit XML: events past the event cap', () => {
+  it('the failure details say how many detections were not listed; the summary keeps them', () => {
+    const report: QcReport = {
+      ...withVerdict('fail', 'FAIL: clipping'),
+      unlistedEvents: [{ kind: 'clipping', ruleId: 'no-clipping', severity: 'fail', count: 74205 }],
+    };
+    const xml = junitXml([{ name: 'driven.wav', report }]);
+    expect(xml).toContain('; 74205 more detections past the event cap, not listed');
+    expect(summarise(report).unlistedEvents).toEqual(report.unlistedEvents);
   });
 });

@@ -216,7 +216,7 @@ describe('built-in profiles', () => {
     const path = await writeTone(dir, { segments: [{ seconds: 6, peakDbfs: -20.4 }] });
     const check = checkOf(await checkFile(path, builtinProfile('ebu-r128')), 'programme-loudness');
     expect(check.explanation).toBe(
-      'Integrated loudness -20.4 LUFS is 2.6 LU above the -23 LUFS target (tolerance ±1.0 LU)',
+      'Integrated loudness -20.4 LUFS is 2.6 LU above the -23 LUFS target, 1.6 LU above the upper limit -22 LUFS (tolerance ±1.0 LU)',
     );
   });
 

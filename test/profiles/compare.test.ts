@@ -220,6 +220,13 @@ describe('compareReports: warnings (still compared)', () => {
     expect(compareReports(capped, report()).warnings).toEqual([
       { code: 'flags_truncated', message: expect.stringContaining('old report lists 4 of its 900 flags') },
     ]);
+    // Events past the analysis's event cap are not flags either: only listed flags are matched.
+    const cut = report((r) => {
+      r.unlistedEvents = [{ kind: 'clipping', ruleId: null, severity: 'remark', count: 12 }];
+    });
+    expect(compareReports(report(), cut).warnings).toEqual([
+      { code: 'flags_truncated', message: expect.stringContaining("new report's analysis kept only its first events") },
+    ]);
   });
 });
 

@@ -1,7 +1,7 @@
 // Integrated loudness (ITU-R BS.1770): a target with tolerances (EBU R 128 items h and i), or a
 // range. Not measurable fails: a delivery must have a measurable programme.
 import type { AnalysisDocument } from '../../engine/document.ts';
-import { fmt, fmtAgainst, fmtLimit } from '../format.ts';
+import { fmt, fmtAgainst, fmtGap, fmtLimit } from '../format.ts';
 import type { CheckLimit } from '../report.ts';
 import type { IntegratedLoudnessRule } from '../types.ts';
 import { notMeasurable, verdictOf, within } from './drafts.ts';
@@ -49,6 +49,12 @@ function check(rule: IntegratedLoudnessRule, doc: AnalysisDocument): Draft {
   return { ...draft, explanation: `${draft.explanation}; anchored on the programme (${why})` };
 }
 
+/** Of two renderings of one value, the one with more decimals. */
+const decimalsOf = (text: string): number => text.split('.')[1]?.length ?? 0;
+const widest = (a: string, b: string): string => (decimalsOf(b) > decimalsOf(a) ? b : a);
+/** A limit computed from the profile's figures (target ± tolerance), without float noise. */
+const limitText = (value: number): string => fmtLimit(Number(value.toFixed(6)));
+
 function judge(rule: IntegratedLoudnessRule, value: number | null, what: string, doc: AnalysisDocument): Draft {
   const { targetLufs, toleranceLu } = rule;
   const limit: CheckLimit =
@@ -68,12 +74,22 @@ function judge(rule: IntegratedLoudnessRule, value: number | null, what: string,
   const passed = gap <= toleranceLu;
   const marginal = !passed && gap <= toleranceLu + measurementTolerance;
   const side = deviation > 0 ? 'above' : 'below';
-  const gapText = fmtAgainst(gap, toleranceLu);
+  // Distances too read against both edges: a marginal 1.19 LU is not "1.2" of a ±0.2 LU margin.
+  const gapText = widest(fmtAgainst(gap, toleranceLu), fmtAgainst(gap, toleranceLu + measurementTolerance));
   const tol = `tolerance ±${fmt(toleranceLu)} LU${measurementTolerance > 0 ? `, measurement tolerance ±${fmt(measurementTolerance)} LU` : ''}`;
+  // The tolerance applies to the measured value as it is (common practice), so the value shows
+  // enough decimals that it never reads as on the edge it is past (-21.96, not -22.0).
+  const sign = deviation > 0 ? 1 : -1;
+  const edge = targetLufs + sign * toleranceLu;
+  const shown = widest(fmtAgainst(value, edge), fmtAgainst(value, edge + sign * measurementTolerance));
+  const pastText = widest(fmtGap(gap - toleranceLu), fmtAgainst(gap - toleranceLu, measurementTolerance));
+  const past = passed
+    ? ''
+    : `, ${pastText} LU ${side} the ${sign > 0 ? 'upper' : 'lower'} limit ${limitText(edge)} LUFS`;
   let explanation =
     passed && fmt(gap) === '0.0'
-      ? `${what} ${fmt(value)} LUFS is on the ${fmtLimit(targetLufs)} LUFS target (${tol})`
-      : `${what} ${fmt(value)} LUFS is ${gapText} LU ${side} the ${fmtLimit(targetLufs)} LUFS target (${tol})`;
+      ? `${what} ${shown} LUFS is on the ${fmtLimit(targetLufs)} LUFS target (${tol})`
+      : `${what} ${shown} LUFS is ${gapText} LU ${side} the ${fmtLimit(targetLufs)} LUFS target${past} (${tol})`;
   if (marginal) explanation += ': outside the tolerance but inside the measurement tolerance, so a warning';
   if (measurementTolerance > 0) limit.measurementToleranceLu = measurementTolerance;
   return {

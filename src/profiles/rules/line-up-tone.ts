@@ -1,10 +1,14 @@
 // Line-up tone before the programme: required or forbidden; a required tone is judged on its
 // longest segment's duration and on every judged segment's frequency and level (the AES17 reading).
 import { channelName, type AnalysisDocument } from '../../engine/document.ts';
-import { fmt } from '../format.ts';
+import { fmt, fmtAgainst } from '../format.ts';
 import type { LineUpToneRule } from '../types.ts';
 import { verdictOf } from './drafts.ts';
 import type { Draft, RuleSpec } from './rule-spec.ts';
+
+/** The end of `target ± tolerance` on the side of `value`: a broken reading is shown against it. */
+const edge = (value: number, target: number, tolerance: number): number =>
+  target + (value > target ? tolerance : -tolerance);
 
 /** Our defaults. */
 export const DEFAULT_TONE_FREQUENCY_TOLERANCE_HZ = 1;
@@ -29,16 +33,22 @@ function required(rule: LineUpToneRule, doc: AnalysisDocument): Draft {
   const seconds = longest.endSeconds - longest.startSeconds;
   const problems: string[] = [];
   if (rule.minSeconds !== undefined && seconds < rule.minSeconds)
-    problems.push(`the longest tone lasts ${fmt(seconds, 2)} s, under the ${rule.minSeconds} s minimum`);
+    problems.push(
+      `the longest tone lasts ${fmtAgainst(seconds, rule.minSeconds, 2)} s, under the ${rule.minSeconds} s minimum`,
+    );
   const judged = all.filter((s) => inScope(rule, doc, s.channel));
   for (const s of judged) {
     const where = `channel ${channelName(doc, s.channel)} at ${fmt(s.startSeconds, 2)} s`;
     const hzTolerance = rule.frequencyToleranceHz ?? DEFAULT_TONE_FREQUENCY_TOLERANCE_HZ;
     if (rule.frequencyHz !== undefined && Math.abs(s.frequencyHz - rule.frequencyHz) > hzTolerance)
-      problems.push(`${where}: ${fmt(s.frequencyHz, 1)} Hz, not ${rule.frequencyHz} +/- ${hzTolerance} Hz`);
+      problems.push(
+        `${where}: ${fmtAgainst(s.frequencyHz, edge(s.frequencyHz, rule.frequencyHz, hzTolerance), 1)} Hz, not ${rule.frequencyHz} +/- ${hzTolerance} Hz`,
+      );
     const dbTolerance = rule.levelToleranceDb ?? DEFAULT_TONE_LEVEL_TOLERANCE_DB;
     if (rule.levelDbfs !== undefined && Math.abs(s.rmsAes17Db - rule.levelDbfs) > dbTolerance)
-      problems.push(`${where}: ${fmt(s.rmsAes17Db, 2)} dBFS, not ${rule.levelDbfs} +/- ${dbTolerance} dB`);
+      problems.push(
+        `${where}: ${fmtAgainst(s.rmsAes17Db, edge(s.rmsAes17Db, rule.levelDbfs, dbTolerance), 2)} dBFS, not ${rule.levelDbfs} +/- ${dbTolerance} dB`,
+      );
   }
   const passed = problems.length === 0;
   const reading = `${fmt(longest.frequencyHz, 1)} Hz at ${fmt(longest.rmsAes17Db, 2)} dBFS for ${fmt(seconds, 2)} s`;

@@ -1,6 +1,6 @@
 // The line-up tone ends in silence before the programme: a tone that runs up to or into the
 // programme, or a gap shorter than minGapSeconds, breaks the rule. No tone: nothing to separate.
-import { fmt } from '../format.ts';
+import { fmt, fmtAgainst } from '../format.ts';
 import type { ToneSeparationRule } from '../types.ts';
 import { verdictOf } from './drafts.ts';
 import type { RuleSpec } from './rule-spec.ts';
@@ -29,7 +29,7 @@ export const toneSeparation: RuleSpec<ToneSeparationRule> = {
         ? `Line-up tone runs into the programme at ${at} s`
         : passed
           ? `${fmt(gap, 2)} s of silence between the line-up tone and the programme (at least ${min} s)`
-          : `Only ${fmt(gap, 3)} s between the line-up tone and the programme at ${at} s (at least ${min} s)`,
+          : `Only ${fmtAgainst(gap, min, 3)} s between the line-up tone and the programme at ${at} s (at least ${min} s)`,
     };
   },
 };

@@ -2,7 +2,7 @@
 // and seconds), duration, count, worst value, channel, rule and severity. A kind that repeats is
 // one group row with its totals; its flags open below it. The wording is pure (tested in Node).
 import { el } from './common.js';
-import { flagView, worstValueText } from './format.js';
+import { flagView, unlistedText, worstValueText } from './format.js';
 
 const RANK = { fail: 0, warn: 1, remark: 2 };
 /** Kinds whose level is absent only for digital zero (analysis/events.ts: no peakValue for digital silence). */
@@ -182,8 +182,17 @@ function groupRow(group) {
 export function renderFlagTable(report, actions) {
   const body = document.getElementById('em-flags-body');
   const groups = flagGroups(report.flags);
+  const capped = report.flagsTruncated
+    ? `${report.flagsTotal - report.flags.length} more flags not listed (the report keeps ${report.flags.length}, fail flags first).`
+    : '';
+  // Set before the empty case: a file whose every finding lies past the event cap lists none.
+  const unlisted = unlistedText(report);
+  document.getElementById('em-flags-truncated').textContent = [capped, unlisted].filter(Boolean).join(' ');
   if (groups.length === 0) {
-    body.replaceChildren(el('tr', {}, el('td', { colspan: '10', class: 'em-status' }, 'No time-located findings.')));
+    const none = unlisted
+      ? 'No flags listed: see the detections past the event cap below.'
+      : 'No time-located findings.';
+    body.replaceChildren(el('tr', {}, el('td', { colspan: '10', class: 'em-status' }, none)));
     return;
   }
   body.replaceChildren(
@@ -193,7 +202,4 @@ export function renderFlagTable(report, actions) {
         : [groupRow(group), ...group.members.map((m) => flagRow(m.flag, m.index, actions, true))],
     ),
   );
-  document.getElementById('em-flags-truncated').textContent = report.flagsTruncated
-    ? `${report.flagsTotal - report.flags.length} more flags not listed (the report keeps ${report.flags.length}, fail flags first).`
-    : '';
 }

@@ -29,6 +29,9 @@ export function flagCountsText(report: {
   flagCounts?: Partial<Record<FlagSeverity, number>>;
   flags: ReadonlyArray<{ severity: string }>;
 }): string;
+export function unlistedText(report: {
+  unlistedEvents?: ReadonlyArray<{ kind: string; ruleId: string | null; severity: FlagSeverity; count: number }>;
+}): string;
 export function headlineNamesVerdict(headline: string, verdict: string | null): boolean;
 export function outcomeText(check: { outcome: string; passed: boolean }): string;
 export const FAILURE_HINTS: Record<string, string>;

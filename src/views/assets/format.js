@@ -83,6 +83,20 @@ export function flagCountsText(report) {
   return `${counts.fail ?? 0} fail · ${counts.warn ?? 0} warn · ${plural(counts.remark ?? 0, 'remark', 'remarks')}`;
 }
 
+/**
+ * The analysis's events past its event cap: counted by kind, never listed or merged into flags.
+ * "" when none. Says how many and of which kind, and that the flag count leaves them out.
+ */
+export function unlistedText(report) {
+  const unlisted = report.unlistedEvents ?? [];
+  if (unlisted.length === 0) return '';
+  const total = unlisted.reduce((sum, u) => sum + u.count, 0);
+  const kinds = unlisted
+    .map((u) => `${words(u.kind)} ${u.count}${u.ruleId ? ` (${u.ruleId}, ${u.severity})` : ` (${u.severity})`}`)
+    .join(', ');
+  return `Listing cut: ${plural(total, 'more detection', 'more detections')} past the analysis's event cap, not listed and not merged into the flags counted here: ${kinds}. The checks count them all.`;
+}
+
 /** A check's outcome for people; marginal is its own word (it counts as a warn), never "not met". */
 export function outcomeText(check) {
   if (check.outcome === 'marginal') return 'marginal';

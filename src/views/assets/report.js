@@ -171,9 +171,16 @@ function renderHead(report) {
   document.getElementById('em-head-facts').replaceChildren(...headFacts(report).map((fact) => el('li', {}, fact)));
 }
 
+/** The detections past the event cap are not in the counts: said beside them, detailed below the table. */
+function unlistedCountText(report) {
+  const total = (report.unlistedEvents ?? []).reduce((sum, u) => sum + u.count, 0);
+  const what = total === 1 ? 'detection' : 'detections';
+  return total > 0 ? `; plus ${total} ${what} past the event cap, not in these counts (see below the table)` : '';
+}
+
 function renderFlags(report) {
   document.getElementById('em-flag-counts').textContent =
-    `${flagCountsText(report)}${report.flagsTruncated ? ` (${report.flags.length} of ${report.flagsTotal} listed)` : ''}`;
+    `${flagCountsText(report)}${report.flagsTruncated ? ` (${report.flags.length} of ${report.flagsTotal} listed)` : ''}${unlistedCountText(report)}`;
   renderFlagTable(report, { show: moveCursor, listen });
 }
 
