@@ -6,7 +6,7 @@ import { extname, join, resolve } from 'node:path';
 import { PROJECT_ROOT } from '../config/paths.ts';
 import { EarmarkError, isErrorCode, type WireError } from '../errors/index.ts';
 import { summarise, type ReportSummary } from '../exports/junit.ts';
-import type { QcReport } from '../profiles/index.ts';
+import { reportFromText } from '../profiles/report-json.ts';
 
 /** What a folder contributes: the audio extensions Earmark reads (a file named outright is always checked). */
 const AUDIO_EXTENSIONS = new Set([
@@ -104,7 +104,10 @@ function checkInChild(file: string, o: BatchOptions): Promise<BatchResult> {
     child.on('close', (code, signal) => {
       if (code !== null && code <= 2) {
         try {
-          done({ file, report: summarise(JSON.parse(Buffer.concat(out).toString('utf8')) as QcReport) });
+          done({
+            file,
+            report: summarise(reportFromText(Buffer.concat(out).toString('utf8'), `the report of ${file}`)),
+          });
         } catch {
           failed('internal_error', 'the check printed no report');
         }

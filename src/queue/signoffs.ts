@@ -19,6 +19,41 @@ export interface SignOff {
 
 const MAX_KEPT = 50;
 
+/** A stored entry read back: checked field by field, so a damaged entry is an error, not a wrong record. */
+export function parseSignOff(text: string): SignOff {
+  const v: unknown = JSON.parse(text);
+  if (
+    typeof v === 'object' &&
+    v !== null &&
+    'number' in v &&
+    typeof v.number === 'number' &&
+    'decision' in v &&
+    (v.decision === 'accept' || v.decision === 'reject') &&
+    'note' in v &&
+    (v.note === null || typeof v.note === 'string') &&
+    'verdict' in v &&
+    (v.verdict === 'warn' || v.verdict === 'fail') &&
+    'by' in v &&
+    typeof v.by === 'object' &&
+    v.by !== null &&
+    'tenant' in v.by &&
+    typeof v.by.tenant === 'string' &&
+    'keyId' in v.by &&
+    typeof v.by.keyId === 'string' &&
+    'at' in v &&
+    typeof v.at === 'string'
+  )
+    return {
+      number: v.number,
+      decision: v.decision,
+      note: v.note,
+      verdict: v.verdict,
+      by: { tenant: v.by.tenant, keyId: v.by.keyId },
+      at: v.at,
+    };
+  throw new Error('a stored sign-off does not have the shape this version writes');
+}
+
 export class SignOffLog {
   constructor(
     private readonly redis: Redis,
@@ -46,7 +81,7 @@ export class SignOffLog {
   }
 
   async history(jobId: string): Promise<SignOff[]> {
-    return (await this.redis.lrange(this.key(jobId), 0, -1)).map((line) => JSON.parse(line) as SignOff);
+    return (await this.redis.lrange(this.key(jobId), 0, -1)).map(parseSignOff);
   }
 
   /** The current sign-off of each job, in one round trip (a listing's page: one pipeline, not one read per job). */
@@ -58,13 +93,13 @@ export class SignOffLog {
     const answers = (await pipeline.exec()) ?? [];
     answers.forEach(([error, last], i) => {
       if (error) throw error;
-      if (typeof last === 'string') found.set(jobIds[i], JSON.parse(last) as SignOff);
+      if (typeof last === 'string') found.set(jobIds[i], parseSignOff(last));
     });
     return found;
   }
 
   async current(jobId: string): Promise<SignOff | null> {
     const last = await this.redis.lindex(this.key(jobId), -1);
-    return last ? (JSON.parse(last) as SignOff) : null;
+    return last ? parseSignOff(last) : null;
   }
 }

@@ -6,7 +6,7 @@ import { EarmarkError } from '../../errors/index.ts';
 import { planMarkedWav } from '../../exports/cue-wav.ts';
 import { flagsCsv, flagsOfReport } from '../../exports/flags-csv.ts';
 import { JUNIT_WARN_AS, junitXml, summarise, type JunitEntry } from '../../exports/junit.ts';
-import type { QcReport } from '../../profiles/index.ts';
+import { reportFromText } from '../../profiles/report-json.ts';
 import { decodeFailureError } from '../../queue/contract.ts';
 import type { LocalCopy } from '../../storage/index.ts';
 import { principalOf } from './auth.ts';
@@ -85,7 +85,8 @@ export function downloadName(fileName: string | undefined, fallback: string, suf
 
 export function exportsPlugin(deps: AppDeps) {
   return routesPlugin('earmark-exports', async (app) => {
-    const reportOf = async (tenant: string, id: string) => JSON.parse(await deps.jobs.report(tenant, id)) as QcReport;
+    const reportOf = async (tenant: string, id: string) =>
+      reportFromText(await deps.jobs.report(tenant, id), `the report of job ${id}`);
 
     route(app, exportSpecs.flagsCsv, async (request, reply) => {
       const { id } = request.params;

@@ -4,7 +4,7 @@
 import { EarmarkError } from '../../errors/index.ts';
 import { MAX_EXCERPT_SECONDS } from '../../engine/excerpt.ts';
 import { ExcerptRunner } from '../../engine/excerpt-runner.ts';
-import type { QcReport } from '../../profiles/index.ts';
+import { reportFromText } from '../../profiles/report-json.ts';
 import type { LocalCopy } from '../../storage/index.ts';
 import { renderReportPlot } from '../../views/report-plot.ts';
 import { principalOf } from './auth.ts';
@@ -57,7 +57,7 @@ export function reportViewsPlugin(deps: AppDeps) {
 
     route(app, reportViewSpecs.plot, async (request, reply) => {
       const json = await deps.jobs.report(principalOf(request).tenant, request.params.id);
-      return reply.type('image/svg+xml').send(renderReportPlot(JSON.parse(json) as QcReport));
+      return reply.type('image/svg+xml').send(renderReportPlot(reportFromText(json, 'the stored report')));
     });
 
     route(app, reportViewSpecs.excerpt, async (request, reply) => {
