@@ -59,9 +59,10 @@ export const SignOff: Schema = {
     verdict: { type: 'string', enum: ['warn', 'fail'], description: 'The verdict signed off.' },
     by: {
       type: 'object',
-      required: ['tenant', 'keyId'],
-      description: "The API key that signed: its tenant and its digest's first 12 hex digits (never the key).",
-      properties: { tenant: { type: 'string' }, keyId: { type: 'string' } },
+      required: ['tenant', 'keyId', 'operator'],
+      description:
+        "The API key that signed (its tenant and its digest's first 12 hex digits, never the key), and the name the operator gave (null when none was given).",
+      properties: { tenant: { type: 'string' }, keyId: { type: 'string' }, operator: nullable('string') },
       additionalProperties: false,
     },
     at: { type: 'string', format: 'date-time' },
@@ -464,6 +465,11 @@ export const SignOffJson = {
       type: 'string',
       maxLength: 2000,
       description: 'Why. Required (not blank) to accept a fail verdict.',
+    },
+    operator: {
+      type: 'string',
+      maxLength: 100,
+      description: 'Who signs, by name, when several people share one API key (recorded beside the key).',
     },
   },
   additionalProperties: false,

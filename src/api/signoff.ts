@@ -14,6 +14,7 @@ import type { Principal } from './plugins/auth.ts';
 export interface SignOffInput {
   decision: 'accept' | 'reject';
   note?: string;
+  operator?: string;
 }
 
 /** Stable per sign-off: the webhook job's id (BullMQ drops a second add) and `Earmark-Delivery`. */
@@ -47,7 +48,7 @@ export async function signOffJob(
     decision: input.decision,
     note,
     verdict,
-    by: { tenant: principal.tenant, keyId: principal.keyId },
+    by: { tenant: principal.tenant, keyId: principal.keyId, operator: input.operator?.trim() || null },
     at: new Date().toISOString(),
   });
   const url = job.data.callbackUrl;

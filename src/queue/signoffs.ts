@@ -12,8 +12,8 @@ export interface SignOff {
   note: string | null;
   /** The verdict that was signed off, as the report gives it. */
   verdict: 'warn' | 'fail';
-  /** Who: the API key's tenant and its digest prefix (never the key). */
-  by: { tenant: string; keyId: string };
+  /** Who: the API key's tenant and its digest prefix (never the key), and the name the operator gave. */
+  by: { tenant: string; keyId: string; operator: string | null };
   at: string;
 }
 
@@ -40,6 +40,8 @@ export function parseSignOff(text: string): SignOff {
     typeof v.by.tenant === 'string' &&
     'keyId' in v.by &&
     typeof v.by.keyId === 'string' &&
+    // Entries written before the operator's name was recorded have none.
+    (!('operator' in v.by) || v.by.operator === null || typeof v.by.operator === 'string') &&
     'at' in v &&
     typeof v.at === 'string'
   )
@@ -48,7 +50,11 @@ export function parseSignOff(text: string): SignOff {
       decision: v.decision,
       note: v.note,
       verdict: v.verdict,
-      by: { tenant: v.by.tenant, keyId: v.by.keyId },
+      by: {
+        tenant: v.by.tenant,
+        keyId: v.by.keyId,
+        operator: 'operator' in v.by && typeof v.by.operator === 'string' ? v.by.operator : null,
+      },
       at: v.at,
     };
   throw new Error('a stored sign-off does not have the shape this version writes');

@@ -8,7 +8,7 @@ const entry: SignOff = {
   decision: 'accept',
   note: 'level agreed with the client by phone',
   verdict: 'fail',
-  by: { tenant: 'harbour-post', keyId: 'k_3f9a' },
+  by: { tenant: 'harbour-post', keyId: 'k_3f9a', operator: 'Desk two' },
   at: '2026-12-04T21:14:03.000Z',
 };
 
@@ -16,6 +16,14 @@ describe('parseSignOff', () => {
   it('reads back what add() writes', () => {
     expect(parseSignOff(JSON.stringify(entry))).toEqual(entry);
     expect(parseSignOff(JSON.stringify({ ...entry, note: null }))).toEqual({ ...entry, note: null });
+  });
+
+  it('reads an entry written before the operator name was recorded as having none', () => {
+    const { operator: _, ...older } = entry.by;
+    expect(parseSignOff(JSON.stringify({ ...entry, by: older }))).toEqual({
+      ...entry,
+      by: { ...older, operator: null },
+    });
   });
 
   it.each([

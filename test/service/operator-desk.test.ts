@@ -222,7 +222,7 @@ describe('sign-off', () => {
 
     const accepted = await api.postJson(
       path,
-      { decision: 'accept', note: 'Client asked for the quieter mix; approved by the desk.' },
+      { decision: 'accept', note: 'Client asked for the quieter mix; approved by the desk.', operator: '  Desk two  ' },
       KEYS.alphaAdmin,
     );
     expect(accepted.status).toBe(201);
@@ -232,7 +232,8 @@ describe('sign-off', () => {
       decision: 'accept',
       verdict: 'fail',
       note: 'Client asked for the quieter mix; approved by the desk.',
-      by: { tenant: 'alpha' },
+      // The name the operator gave, trimmed, beside the key that signed.
+      by: { tenant: 'alpha', operator: 'Desk two' },
     });
     expect(first.by.keyId).toMatch(/^[0-9a-f]{12}$/);
     expect(new Date(first.at).toISOString()).toBe(first.at);

@@ -77,7 +77,7 @@ describe('compare links and markers offer', () => {
       decision: 'accept',
       note: null,
       verdict: 'warn',
-      by: { tenant: 'alpha', keyId: '0123456789ab' },
+      by: { tenant: 'alpha', keyId: '0123456789ab', operator: null },
       at: '2026-12-04T22:10:03.000Z',
     });
     expect(mark.word).toBe('accepted');

@@ -13,10 +13,19 @@ describe('review panel wording', () => {
       decision: 'accept',
       note: null,
       verdict: 'fail',
-      by: { tenant: 'alpha', keyId: '0123456789ab' },
+      by: { tenant: 'alpha', keyId: '0123456789ab', operator: null },
       at,
     });
     expect(text).toBe(`Accepted the fail verdict, by key 0123456789ab (alpha) on ${local}`);
+    const named = signOffText({
+      number: 2,
+      decision: 'reject',
+      note: null,
+      verdict: 'warn',
+      by: { tenant: 'alpha', keyId: '0123456789ab', operator: 'Desk two' },
+      at,
+    });
+    expect(named).toBe(`Rejected the warn verdict, by Desk two, with key 0123456789ab (alpha) on ${local}`);
   });
 
   it('offers the current version, then every older stored one; a built-in has one', () => {

@@ -5,7 +5,7 @@ export interface SignOffLike {
   decision: 'accept' | 'reject';
   note: string | null;
   verdict: 'warn' | 'fail';
-  by: { tenant: string; keyId: string };
+  by: { tenant: string; keyId: string; operator: string | null };
   at: string;
 }
 

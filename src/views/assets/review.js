@@ -14,7 +14,8 @@ let pending = null;
 /** "Accepted … by key 1a2b3c4d5e6f (alpha) on 2026-12-04 22:10:03" (local time; the ISO time in the title). */
 export function signOffText(signOff) {
   const what = signOff.decision === 'accept' ? 'Accepted' : 'Rejected';
-  return `${what} the ${signOff.verdict} verdict, by key ${signOff.by.keyId} (${signOff.by.tenant}) on ${dateTimeText(signOff.at)}`;
+  const who = signOff.by.operator ? `${signOff.by.operator}, with key` : 'key';
+  return `${what} the ${signOff.verdict} verdict, by ${who} ${signOff.by.keyId} (${signOff.by.tenant}) on ${dateTimeText(signOff.at)}`;
 }
 
 /** The version choices for a profile entry: the current one first, then every stored older one. */
@@ -73,6 +74,14 @@ function historyList(history) {
 function signOffForm(job, history) {
   const status = el('p', { class: 'em-status', role: 'status', 'data-review': 'signoff-status' });
   const note = el('textarea', { id: 'em-review-note', rows: '3', maxlength: '2000' });
+  // The name is remembered for the tab, like the key: one operator signs many reports.
+  const operator = el('input', {
+    id: 'em-review-operator',
+    type: 'text',
+    maxlength: '100',
+    autocomplete: 'name',
+    value: sessionStorage.getItem('earmark.operator') ?? '',
+  });
   const choice = (value, label) =>
     el(
       'label',
@@ -91,6 +100,8 @@ function signOffForm(job, history) {
       job.verdict === 'fail' ? el('small', {}, ' (required to accept a fail)') : null,
     ),
     note,
+    el('label', { for: 'em-review-operator' }, 'Your name', el('small', {}, ' (recorded beside the key)')),
+    operator,
     el('button', { type: 'submit' }, 'Record sign-off'),
     status,
   );
@@ -98,11 +109,16 @@ function signOffForm(job, history) {
     event.preventDefault();
     const decision = form.querySelector('input[name="em-review-decision"]:checked')?.value ?? 'reject';
     status.textContent = 'Recording…';
+    sessionStorage.setItem('earmark.operator', operator.value.trim());
     try {
       await api(`/v1/jobs/${encodeURIComponent(jobId)}/signoffs`, {
         method: 'POST',
         headers: { 'content-type': 'application/json' },
-        body: JSON.stringify(note.value.trim() ? { decision, note: note.value } : { decision }),
+        body: JSON.stringify({
+          decision,
+          ...(note.value.trim() ? { note: note.value } : {}),
+          ...(operator.value.trim() ? { operator: operator.value.trim() } : {}),
+        }),
       });
       await load();
     } catch (error) {
