@@ -5,25 +5,12 @@ import { mkdirSync, readFileSync, renameSync, writeFileSync, existsSync } from '
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { expandInputs } from '../../src/cli/batch.ts';
-import { main, type CliIo } from '../../src/cli/main.ts';
+import { main } from '../../src/cli/main.ts';
 import { readCueMarkers } from '../../src/decode/cue.ts';
 import { writeAiffFile } from '../../src/encode/wav.ts';
 import type { QcReport } from '../../src/profiles/index.ts';
 import { SAMPLE_RATE, setRange, tempDir, writeTone } from '../profiles/helpers.ts';
-
-function capture(): CliIo & { out: string; err: string } {
-  const io = {
-    out: '',
-    err: '',
-    stdout: (t: string) => {
-      io.out += t;
-    },
-    stderr: (t: string) => {
-      io.err += t;
-    },
-  };
-  return io;
-}
+import { capture } from '../helpers/cli-io.ts';
 
 const { dir, cleanup } = tempDir();
 const folder = join(dir, 'delivery');

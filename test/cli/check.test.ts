@@ -4,23 +4,10 @@
 import { writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { main, type CliIo } from '../../src/cli/main.ts';
+import { main } from '../../src/cli/main.ts';
 import type { QcReport } from '../../src/profiles/index.ts';
 import { tempDir, writeTone } from '../profiles/helpers.ts';
-
-function capture(): CliIo & { out: string; err: string } {
-  const io = {
-    out: '',
-    err: '',
-    stdout: (t: string) => {
-      io.out += t;
-    },
-    stderr: (t: string) => {
-      io.err += t;
-    },
-  };
-  return io;
-}
+import { capture } from '../helpers/cli-io.ts';
 
 const { dir, cleanup } = tempDir();
 let onTarget = '';

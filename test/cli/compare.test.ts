@@ -4,7 +4,7 @@
 import { readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { main, type CliIo } from '../../src/cli/main.ts';
+import { main } from '../../src/cli/main.ts';
 import { openAudioFile } from '../../src/decode/index.ts';
 import type { Comparison } from '../../src/profiles/compare.ts';
 import type { QcReport } from '../../src/profiles/index.ts';
@@ -12,22 +12,9 @@ import { tempDir } from '../profiles/helpers.ts';
 import { decodeAll } from '../helpers/decode-all.ts';
 import { loadEbur128Reference } from '../helpers/ebur128-reference.ts';
 import { writeFixedDelivery, writeHotDelivery, REDELIVERY_RATE } from '../helpers/redelivery.ts';
+import { capture } from '../helpers/cli-io.ts';
 
 const PROFILE = 'delivery-broadcast-stereo';
-
-function capture(): CliIo & { out: string; err: string } {
-  const io = {
-    out: '',
-    err: '',
-    stdout: (t: string) => {
-      io.out += t;
-    },
-    stderr: (t: string) => {
-      io.err += t;
-    },
-  };
-  return io;
-}
 
 const { dir, cleanup } = tempDir();
 let hot = '';

@@ -2,24 +2,12 @@
 // was cut, how many detections and of which kind, and counts only the flags it can list.
 
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { main, type CliIo } from '../../src/cli/main.ts';
+import { main } from '../../src/cli/main.ts';
 import type { QcReport } from '../../src/profiles/index.ts';
 import { writeDriven } from '../helpers/driven.ts';
 import { unitless } from '../helpers/units.ts';
 import { tempDir } from '../profiles/helpers.ts';
-
-function capture(): CliIo & { out: string } {
-  const io = {
-    out: '',
-    stdout: (t: string) => {
-      io.out += t;
-    },
-    stderr: (t: string) => {
-      io.out += t;
-    },
-  };
-  return io;
-}
+import { captureMerged } from '../helpers/cli-io.ts';
 
 const { dir, cleanup } = tempDir();
 let driven = '';
@@ -30,13 +18,13 @@ afterAll(cleanup);
 
 describe('earmark check past the event cap', () => {
   it('the text counts listed flags and names the detections past the cap by kind', async () => {
-    const json = capture();
+    const json = captureMerged();
     expect(await main(['check', driven, '--profile', 'delivery-broadcast-stereo', '--json'], json)).toBe(2);
     const report = JSON.parse(json.out) as QcReport;
     const unlisted = report.unlistedEvents?.find((u) => u.kind === 'clipping');
     expect(unlisted?.count).toBeGreaterThan(0);
 
-    const io = capture();
+    const io = captureMerged();
     expect(await main(['check', driven, '--profile', 'delivery-broadcast-stereo', '--all'], io)).toBe(2);
     const n = report.flagCounts;
     expect(io.out).toContain(`flags    ${report.flagsTotal} (${n.fail} fail, ${n.warn} warn, ${n.remark} remark)`);

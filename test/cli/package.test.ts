@@ -5,23 +5,10 @@ import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { main, type CliIo } from '../../src/cli/main.ts';
+import { main } from '../../src/cli/main.ts';
 import type { PackageReport } from '../../src/packages/check-package.ts';
 import { writeStemSet } from '../helpers/stem-files.ts';
-
-function capture(): CliIo & { out: string; err: string } {
-  const io = {
-    out: '',
-    err: '',
-    stdout: (t: string) => {
-      io.out += t;
-    },
-    stderr: (t: string) => {
-      io.err += t;
-    },
-  };
-  return io;
-}
+import { capture } from '../helpers/cli-io.ts';
 
 const dir = mkdtempSync(join(tmpdir(), 'earmark-package-cli-'));
 afterAll(() => rmSync(dir, { recursive: true, force: true }));

@@ -4,29 +4,17 @@
 import { readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { main, type CliIo } from '../../src/cli/main.ts';
+import { main } from '../../src/cli/main.ts';
 import { formatSelftestLine } from '../../src/cli/selftest.ts';
 import { complianceCases, runComplianceCase } from '../../src/selftest/cases.ts';
 import { writeWavFile } from '../../src/encode/wav.ts';
 import { compose, RATE, seconds } from '../helpers/head-signals.ts';
 import { TABLE_HEADER, unitless } from '../helpers/units.ts';
 import { setRange, tempDir, writeTone } from '../profiles/helpers.ts';
-
-function capture(): CliIo & { out: string } {
-  const io = {
-    out: '',
-    stdout: (t: string) => {
-      io.out += t;
-    },
-    stderr: (t: string) => {
-      io.out += t;
-    },
-  };
-  return io;
-}
+import { captureMerged } from '../helpers/cli-io.ts';
 
 async function run(...argv: string[]): Promise<string> {
-  const io = capture();
+  const io = captureMerged();
   await main(argv, io);
   return io.out;
 }
