@@ -2,7 +2,7 @@
 // finished or not) submitted as one package, checked together by the worker's package Worker
 // (src/worker/package-worker.ts), read back as one view.
 
-import { randomBytes } from 'node:crypto';
+import { createHash, randomBytes } from 'node:crypto';
 import { DEFAULT_RESIDUAL_TOLERANCE_DB } from '../analysis/stem-residual.ts';
 import { assertPackageShape } from '../engine/package-set.ts';
 import { EarmarkError } from '../errors/index.ts';
@@ -37,7 +37,8 @@ export async function submitPackage(
   queue: PackageQueue,
   tenant: string,
   input: PackageInput,
-): Promise<CheckPackageJobV1> {
+  idempotencyKey: string | undefined,
+): Promise<{ packageId: string; duplicate: boolean }> {
   const ids = input.members.map((m) => m.jobId);
   const repeated = ids.find((id, i) => ids.indexOf(id) !== i);
   if (repeated)
@@ -64,20 +65,38 @@ export async function submitPackage(
         { field: `members.${i}.jobId`, jobId, profile: checked, expected },
       );
   });
-  const record: CheckPackageJobV1 = {
-    packageId: newPackageId(randomBytes(12).toString('hex')),
-    tenant,
+  const request = {
     profile: input.profile,
     stemProfile: input.stemProfile ?? null,
     toleranceDb: input.toleranceDb ?? DEFAULT_RESIDUAL_TOLERANCE_DB,
     members: input.members.map(({ jobId, role }) => ({ jobId, role })),
     callbackUrl: input.callbackUrl ?? null,
     externalId: input.externalId ?? null,
-    submittedAt: new Date().toISOString(),
   };
-  await deps.store.packages.put(record);
-  await queue.add(CHECK_PACKAGE_V1, record, { jobId: record.packageId });
-  return record;
+  const packageId = newPackageId(randomBytes(12).toString('hex'));
+  if (idempotencyKey) {
+    // Claims share the job submissions' keys; the 'package' tag keeps the two fingerprints apart.
+    const fingerprint = createHash('sha256')
+      .update(JSON.stringify(['package', request]))
+      .digest('hex');
+    const existing = await deps.store.idempotency.claim(tenant, idempotencyKey, packageId, fingerprint);
+    if (existing) {
+      if (existing.fingerprint !== fingerprint)
+        throw new EarmarkError('idempotency_conflict', 'this Idempotency-Key was used for a different request', {
+          field: 'Idempotency-Key',
+        });
+      return { packageId: existing.jobId, duplicate: true };
+    }
+  }
+  const record: CheckPackageJobV1 = { packageId, tenant, ...request, submittedAt: new Date().toISOString() };
+  try {
+    await deps.store.packages.put(record);
+    await queue.add(CHECK_PACKAGE_V1, record, { jobId: record.packageId });
+  } catch (error) {
+    if (idempotencyKey) await deps.store.idempotency.release(tenant, idempotencyKey).catch(() => undefined);
+    throw error;
+  }
+  return { packageId, duplicate: false };
 }
 
 async function storedReport(deps: AppDeps, packageId: string): Promise<string> {
@@ -110,6 +129,7 @@ export async function readPackage(
     finishedAtMs: job.finishedOn ?? null,
     error: state === 'failed' ? decodeFailure(job.failedReason) : null,
     members,
+    deliveries: record.callbackUrl ? await deps.store.deliveries.list(packageId) : [],
   });
 }
 

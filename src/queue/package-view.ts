@@ -6,6 +6,7 @@ import type { SetCheck, SetMember, PackageRole } from '../engine/package-set.ts'
 import type { PackageReport, PackageResidualSpan } from '../packages/check-package.ts';
 import type { Verdict } from '../profiles/index.ts';
 import type { ResidualChannel } from '../analysis/stem-residual.ts';
+import type { DeliveryAttempt } from './deliveries.ts';
 import type { AnalysisJob, LoadedJob } from './jobs-repository.ts';
 import { stateOf, type JobState } from './job-view.ts';
 import type { CheckPackageJobV1, CheckPackageResultV1 } from './package-contract.ts';
@@ -50,7 +51,7 @@ export interface PackageView {
   /** Where the stems' sum leaves the mix by more than the tolerance (up to the engine's cap). */
   residualSpans: PackageResidualSpan[];
   error: { code: string; message: string } | null;
-  callback: { url: string } | null;
+  callback: { url: string; deliveries: DeliveryAttempt[] } | null;
   links: { self: string; report: string | null };
 }
 
@@ -61,6 +62,8 @@ export interface PackageOutcome {
   error: { code: string; message: string } | null;
   /** The member jobs as read now; null: not read (each shows only its id and role). */
   members: Map<string, LoadedJob> | null;
+  /** Webhook attempts for this package so far. */
+  deliveries: DeliveryAttempt[];
 }
 
 /** The name a member's file goes by: its upload's name, or the last part of its URL. */
@@ -123,7 +126,7 @@ export function packageView(record: CheckPackageJobV1, rawState: string, outcome
       : null,
     residualSpans: report?.residualSpans ?? [],
     error: state === 'failed' ? outcome.error : null,
-    callback: record.callbackUrl ? { url: record.callbackUrl } : null,
+    callback: record.callbackUrl ? { url: record.callbackUrl, deliveries: outcome.deliveries } : null,
     links: {
       self: `/v1/packages/${record.packageId}`,
       report: state === 'completed' ? `/v1/packages/${record.packageId}/report` : null,

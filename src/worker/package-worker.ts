@@ -179,48 +179,70 @@ export function startPackageWorker(deps: PackageWorkerDeps) {
     await enqueueWebhook(
       job,
       'package.completed',
-      packageView(d, 'completed', { result, report, finishedAtMs: Date.now(), error: null, members: loaded }),
+      packageView(d, 'completed', {
+        result,
+        report,
+        finishedAtMs: Date.now(),
+        error: null,
+        members: loaded,
+        deliveries: [],
+      }),
     );
     return result;
   }
 
+  async function processPackage(job: PackageJob, token: string | undefined): Promise<CheckPackageResultV1> {
+    if (job.name !== CHECK_PACKAGE_V1)
+      throw new UnrecoverableError(encodeFailure('invalid_argument', `this worker does not know job name ${job.name}`));
+    try {
+      const loaded = await finishedMembers(job);
+      if (!loaded) {
+        await job.moveToDelayed(Date.now() + nextLookMs(job), token);
+        throw new DelayedError();
+      }
+      return await checkSet(job, loaded);
+    } catch (thrown) {
+      if (thrown instanceof DelayedError) throw thrown;
+      const error = toEarmarkError(thrown);
+      // An unexpected error's words stay in the log: clients get the code.
+      const message = error.code === 'internal_error' ? 'the package check failed unexpectedly' : error.message;
+      const reason = encodeFailure(error.code, message, error.code === 'internal_error' ? {} : error.details);
+      const final = !isRetryable(error) || job.attemptsMade + 1 >= (job.opts.attempts ?? 1);
+      log.warn(
+        { packageId: job.data.packageId, code: error.code, err: { message: error.message }, final },
+        'package check failed',
+      );
+      if (!final) throw new Error(reason);
+      const members = await jobs.read(
+        job.data.tenant,
+        job.data.members.map((m) => m.jobId),
+      );
+      await enqueueWebhook(
+        job,
+        'package.failed',
+        packageView(job.data, 'failed', {
+          result: null,
+          report: null,
+          finishedAtMs: Date.now(),
+          error: { code: error.code, message },
+          members,
+          deliveries: [],
+        }),
+      ).catch((e: unknown) => deps.onError(toEarmarkError(e), 'package webhook'));
+      throw new UnrecoverableError(reason);
+    }
+  }
+
+  /** Package jobs in the processor now, for the shutdown's hand-back. */
+  const active = new Map<string, PackageJob>();
   const worker = new Worker<CheckPackageJobV1, CheckPackageResultV1>(
     PACKAGE_QUEUE,
     async (job, token) => {
-      if (job.name !== CHECK_PACKAGE_V1)
-        throw new UnrecoverableError(
-          encodeFailure('invalid_argument', `this worker does not know job name ${job.name}`),
-        );
+      active.set(String(job.id), job);
       try {
-        const loaded = await finishedMembers(job);
-        if (!loaded) {
-          await job.moveToDelayed(Date.now() + nextLookMs(job), token);
-          throw new DelayedError();
-        }
-        return await checkSet(job, loaded);
-      } catch (thrown) {
-        if (thrown instanceof DelayedError) throw thrown;
-        const error = toEarmarkError(thrown);
-        const reason =
-          error.code === 'internal_error'
-            ? encodeFailure(error.code, `the package check failed unexpectedly: ${error.message}`)
-            : encodeFailure(error.code, error.message, error.details);
-        const final = !isRetryable(error) || job.attemptsMade + 1 >= (job.opts.attempts ?? 1);
-        log.warn({ packageId: job.data.packageId, code: error.code, final }, 'package check failed');
-        if (!final) throw new Error(reason);
-        const wire = { code: error.code, message: error.message };
-        await enqueueWebhook(
-          job,
-          'package.failed',
-          packageView(job.data, 'failed', {
-            result: null,
-            report: null,
-            finishedAtMs: Date.now(),
-            error: wire,
-            members: null,
-          }),
-        ).catch((e: unknown) => deps.onError(toEarmarkError(e), 'package webhook'));
-        throw new UnrecoverableError(reason);
+        return await processPackage(job, token);
+      } finally {
+        active.delete(String(job.id));
       }
     },
     {
@@ -236,5 +258,5 @@ export function startPackageWorker(deps: PackageWorkerDeps) {
   worker.on('completed', (job, result) =>
     log.info({ packageId: job.data.packageId, verdict: result.verdict }, 'package completed'),
   );
-  return { worker, runner };
+  return { worker, runner, active };
 }

@@ -35,7 +35,7 @@ import { CHILD_SETTINGS_ENV, childSettingsOf } from './child-settings.ts';
 import { threadBudget } from './thread-policy.ts';
 import { retentionPass } from './retention.ts';
 import { deliver } from './webhooks.ts';
-import { startPackageWorker, type PackageJob } from './package-worker.ts';
+import { startPackageWorker } from './package-worker.ts';
 import { currentBundle } from '../../bin/bundles.js';
 
 // The child is BullMQ's own main.js, which then imports our processor: the bundled one
@@ -341,12 +341,6 @@ export async function startWorker(config: Config, log: Logger): Promise<WorkerRu
   webhooks.on('error', (error) => onError(error, 'webhook worker'));
 
   const packages = startPackageWorker({ config, redis, store, storage, analysisQueue, webhookQueue, log, onError });
-  const activePackages = new Map<string, PackageJob>();
-  packages.worker.on('active', (job) => activePackages.set(String(job.id), job));
-  packages.worker.on('completed', (job) => activePackages.delete(String(job.id)));
-  packages.worker.on('failed', (job) => {
-    if (job) activePackages.delete(String(job.id));
-  });
 
   const retentionMs = config.retentionHours * 3_600_000;
   const sweep = async (maxAgeMs = retentionMs): Promise<number> => {
@@ -389,7 +383,7 @@ export async function startWorker(config: Config, log: Logger): Promise<WorkerRu
       let handedBack = 0;
       if (!drained) {
         // Back to the wait list at once, so another worker takes them without waiting for a stall check.
-        for (const job of [...active.values(), ...activePackages.values()]) {
+        for (const job of [...active.values(), ...packages.active.values()]) {
           if (
             job.token &&
             (await job.moveToWait(job.token).then(

@@ -1,7 +1,7 @@
 // Delivery packages through the service: a mix and its stems uploaded as jobs, submitted as one
 // package while they are still queued, checked by the worker once they finish (real API, worker
 // and Redis; every response checked against the OpenAPI document).
-import { createServer, type Server } from 'node:http';
+import { createServer, type Server, type ServerResponse } from 'node:http';
 import { writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
@@ -122,6 +122,11 @@ describe('POST /v1/packages, GET /v1/packages/:id', () => {
       event: 'package.completed',
       package: { id: submit.body.id, state: 'completed', verdict: 'pass' },
     });
+    const delivered = await until(async () => {
+      const res = await api.get(`/v1/packages/${submit.body.id}`, KEYS.alpha);
+      return res.body.callback.deliveries.length > 0 ? res.body.callback.deliveries : null;
+    });
+    expect(delivered[0]).toMatchObject({ event: 'package.completed', outcome: 'delivered', statusCode: 204 });
   });
 
   it('a stem with a muted section: fail, with the span in seconds and timecode', async () => {
@@ -138,6 +143,11 @@ describe('POST /v1/packages, GET /v1/packages/:id', () => {
       startTimecode: '00:00:01:05',
       endTimecode: '00:00:01:20',
     });
+    // The residual is the muted part of stem 1 (220 Hz, amplitude 0.2) for 0.5 s of 3 s. A sine of
+    // amplitude A has mean square A^2/2 over whole cycles (handbook fact), and the three stems' sines
+    // are orthogonal over the 3 s, so the mix's mean square is (0.2^2 + 0.1^2 + 0.05^2)/2 = 0.02625
+    // and the residual's 0.02 * (0.5/3): 10 log10(0.003333/0.02625) = -8.96 dB relative to the mix.
+    expect(done.residual.residualRelativeDb).toBeCloseTo(-8.96, 1);
     // Each file alone meets its profile: only the set fails.
     expect(done.members.every((m: { verdict: string }) => m.verdict === 'pass')).toBe(true);
   });
@@ -189,9 +199,57 @@ describe('POST /v1/packages, GET /v1/packages/:id', () => {
     ]);
     expect((await post({ profile: PROFILE, members: good }, KEYS.alphaReadOnly)).status).toBe(403);
     expect((await api.postJson('/v1/packages', { profile: PROFILE, members: good })).status).toBe(401);
+    // The same Idempotency-Key: the first package again (200); with another body, a conflict.
+    const key = { 'Idempotency-Key': 'package-once-0001' };
+    const first = await api.postJson('/v1/packages', { profile: PROFILE, members: good }, KEYS.alpha, key);
+    expect(first.status).toBe(202);
+    const again = await api.postJson('/v1/packages', { profile: PROFILE, members: good }, KEYS.alpha, key);
+    expect([again.status, again.body.id]).toEqual([200, first.body.id]);
+    const changed = await api.postJson('/v1/packages', { profile: PROFILE, members: muted }, KEYS.alpha, key);
+    expect(problem(changed)).toEqual([409, 'idempotency_conflict']);
     // Another tenant's package, and a malformed id.
     const mine = await post({ profile: PROFILE, members: good });
     expect(problem(await api.get(`/v1/packages/${mine.body.id}`, KEYS.beta))).toEqual([404, 'not_found']);
     expect(problem(await api.get('/v1/packages/p_nope', KEYS.alpha))).toEqual([400, 'validation_failed']);
+  });
+});
+
+describe('the package wait', () => {
+  it('a member still running when the wait ends fails the package, naming it', async () => {
+    // An origin that never answers keeps its job fetching (active) for as long as the test runs.
+    const held: ServerResponse[] = [];
+    const origin = createServer((_req, res) => held.push(res));
+    await new Promise<void>((resolve) => origin.listen(0, '127.0.0.1', resolve));
+    const impatient = await startService({
+      env: { EARMARK_PACKAGE_WAIT_MS: '300', EARMARK_SHUTDOWN_TIMEOUT_MS: '500' },
+    });
+    try {
+      const other = client(impatient.url);
+      const port = (origin.address() as { port: number }).port;
+      const slow = await other.postJson(
+        '/v1/jobs',
+        { profile: 'ebu-r128', sourceUrl: `http://127.0.0.1:${port}/slow-version.wav` },
+        KEYS.alpha,
+      );
+      expect(slow.status).toBe(202);
+      const quick = await other.upload(join(service.dir, 'good-mix.wav'), { profile: 'ebu-r128' }, KEYS.alpha);
+      const members = [
+        { jobId: quick.body.id, role: 'version' },
+        { jobId: slow.body.id, role: 'version' },
+      ];
+      const submit = await other.postJson('/v1/packages', { profile: 'ebu-r128', members }, KEYS.alpha);
+      expect(submit.status).toBe(202);
+      const done = await until(async () => {
+        const res = await other.get(`/v1/packages/${submit.body.id}`, KEYS.alpha);
+        return res.body.state === 'failed' ? res.body : null;
+      });
+      expect(done.error.code).toBe('package_wait_exceeded');
+      expect(done.error.message).toContain(`the version job ${slow.body.id} had not finished`);
+      expect(done.members[1]).toMatchObject({ fileName: 'slow-version.wav', state: 'active' });
+    } finally {
+      for (const res of held) res.destroy();
+      await impatient.close();
+      await new Promise<void>((resolve) => origin.close(() => resolve()));
+    }
   });
 });

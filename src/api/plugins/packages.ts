@@ -170,7 +170,9 @@ export const PackageView: Schema = {
       }),
     },
     error: { anyOf: [{ type: 'null' }, object({ code: str, message: str })] },
-    callback: { anyOf: [{ type: 'null' }, object({ url: str })] },
+    callback: {
+      anyOf: [{ type: 'null' }, object({ url: str, deliveries: { type: 'array', items: S.DeliveryAttempt } })],
+    },
     links: object({ self: str, report: strOrNull }),
   }),
   description:
@@ -187,9 +189,20 @@ export const packageSpecs = {
     summary:
       "Check a set of this tenant's jobs together as one delivery package (a mix and its stems, or the versions of one programme)",
     body: { 'application/json': PackageJson },
+    headers: {
+      'Idempotency-Key': {
+        description: 'Repeat a submission safely: the same key returns the package made the first time.',
+        schema: { type: 'string', maxLength: 200 },
+      },
+    },
     responses: {
-      202: { description: 'Queued: checked once every member job has finished', schema: PackageView },
-      ...S.problems(400, 401, 403, 404, 415, 422, 503),
+      202: {
+        description: 'Queued: checked once every member job has finished',
+        schema: PackageView,
+        headers: { Location: 'The package status URL' },
+      },
+      200: { description: 'Already made with this Idempotency-Key', schema: PackageView },
+      ...S.problems(400, 401, 403, 404, 409, 415, 422, 503),
     },
   },
   get: {
@@ -235,13 +248,21 @@ export function packagesPlugin(deps: AppDeps, config: Config) {
       const { tenant } = principalOf(request);
       const body = request.body;
       if (!validatePackage(body)) throw validationProblem(validatePackage.errors, 'body');
-      const record = await submitPackage(deps, packageQueue(), tenant, {
-        ...body,
-        members: body.members.map((m) => ({ jobId: m.jobId, role: m.role })),
-      });
-      request.log.info({ packageId: record.packageId, members: record.members.length }, 'package submitted');
-      const view = await readPackage(deps, packageQueue(), tenant, record.packageId);
-      return reply.code(202).header('location', view.links.self).send(view);
+      const header = request.headers['idempotency-key'];
+      const idempotencyKey = typeof header === 'string' ? header.slice(0, 200) : undefined;
+      const { packageId, duplicate } = await submitPackage(
+        deps,
+        packageQueue(),
+        tenant,
+        { ...body, members: body.members.map((m) => ({ jobId: m.jobId, role: m.role })) },
+        idempotencyKey,
+      );
+      request.log.info({ packageId, members: body.members.length, duplicate }, 'package submitted');
+      const view = await readPackage(deps, packageQueue(), tenant, packageId);
+      return reply
+        .code(duplicate ? 200 : 202)
+        .header('location', view.links.self)
+        .send(view);
     });
 
     route(app, packageSpecs.get, async (request) =>
