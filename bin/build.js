@@ -14,7 +14,7 @@ const args = process.argv.slice(2);
 const folder = args.find((arg) => !arg.startsWith('--'));
 const outdir = folder ? resolve(folder) : DIST;
 // The image ships without bench/: bundle what is there.
-// The excerpt thread is started by path from whatever bundle holds excerpt-runner.ts.
+// The excerpt and package-set threads are started by path from whatever bundle holds their runner.
 const entries = Object.entries({
   ...ENTRIES,
   'excerpt-thread': 'src/engine/excerpt-thread.ts',
