@@ -15,7 +15,7 @@ import { EarmarkError, isRetryable, toEarmarkError } from '../errors/index.ts';
 import type { PackageSetResult } from '../engine/package-set.ts';
 import { packageReport, type PackageMemberResult } from '../packages/check-package.ts';
 import { reportFromText } from '../profiles/report-json.ts';
-import { decodeFailureError, DELIVER_WEBHOOK_V1, encodeFailure } from '../queue/contract.ts';
+import { decodeFailure, decodeFailureError, DELIVER_WEBHOOK_V1, encodeFailure } from '../queue/contract.ts';
 import { JobsRepository, type AnalysisJob, type LoadedJob } from '../queue/jobs-repository.ts';
 import {
   CHECK_PACKAGE_V1,
@@ -255,6 +255,28 @@ export function startPackageWorker(deps: PackageWorkerDeps) {
     },
   );
   worker.on('error', (error) => deps.onError(error, 'package worker'));
+  // Backstop for failures the processor did not see (a job stalled too often is failed by BullMQ
+  // on its next pick-up): the webhook job's id is its delivery id, so a second add is dropped.
+  worker.on('failed', (job) => {
+    if (!job) return;
+    void (async () => {
+      if ((await job.getState()) !== 'failed') return;
+      const members = await jobs.read(
+        job.data.tenant,
+        job.data.members.map((m) => m.jobId),
+      );
+      const error = decodeFailure(job.failedReason);
+      const view = packageView(job.data, 'failed', {
+        result: null,
+        report: null,
+        finishedAtMs: job.finishedOn ?? Date.now(),
+        error,
+        members,
+        deliveries: [],
+      });
+      await enqueueWebhook(job, 'package.failed', view);
+    })().catch((e: unknown) => deps.onError(toEarmarkError(e), 'package webhook'));
+  });
   worker.on('completed', (job, result) =>
     log.info({ packageId: job.data.packageId, verdict: result.verdict }, 'package completed'),
   );

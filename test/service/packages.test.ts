@@ -159,10 +159,16 @@ describe('POST /v1/packages, GET /v1/packages/:id', () => {
       { jobId: good[0].jobId, role: 'version' },
       { jobId: await upload(broken), role: 'version' },
     ];
-    const submit = await api.postJson('/v1/packages', { profile: PROFILE, members }, KEYS.alpha);
+    const submit = await api.postJson('/v1/packages', { profile: PROFILE, members, callbackUrl }, KEYS.alpha);
     expect(submit.status).toBe(202);
     const done = await settled(submit.body.id);
     expect(done.state).toBe('failed');
+    const hook = await until(async () => received.find((b) => b.includes(submit.body.id)));
+    expect(JSON.parse(hook)).toMatchObject({
+      event: 'package.failed',
+      deliveryId: `dlv_${submit.body.id}_f`,
+      package: { id: submit.body.id, state: 'failed', error: { code: 'package_member_failed' } },
+    });
     expect(done.verdict).toBeNull();
     expect(done.error.code).toBe('package_member_failed');
     expect(done.error.message).toContain(
