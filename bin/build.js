@@ -14,10 +14,12 @@ const args = process.argv.slice(2);
 const folder = args.find((arg) => !arg.startsWith('--'));
 const outdir = folder ? resolve(folder) : DIST;
 // The image ships without bench/: bundle what is there.
-// The excerpt thread is started by path from whatever bundle holds excerpt-runner.ts.
-const entries = Object.entries({ ...ENTRIES, 'excerpt-thread': 'src/engine/excerpt-thread.ts' }).filter(([, source]) =>
-  existsSync(join(ROOT, source)),
-);
+// The excerpt and package-set threads are started by path from whatever bundle holds their runner.
+const entries = Object.entries({
+  ...ENTRIES,
+  'excerpt-thread': 'src/engine/excerpt-thread.ts',
+  'package-set-thread': 'src/worker/package-set-thread.ts',
+}).filter(([, source]) => existsSync(join(ROOT, source)));
 // An install without the sources (a dependencies-only stage) has nothing to bundle.
 if (entries.length === 0) {
   console.log('no sources to bundle');

@@ -116,7 +116,7 @@ export function buildOpenApiDocument(): Schema {
     },
     servers: [{ url: '/' }],
     security: [{ apiKey: [] }],
-    tags: [{ name: 'jobs' }, { name: 'profiles' }, { name: 'health' }, { name: 'pages' }],
+    tags: [{ name: 'jobs' }, { name: 'packages' }, { name: 'profiles' }, { name: 'health' }, { name: 'pages' }],
     paths,
     components: {
       securitySchemes: { apiKey: { type: 'http', scheme: 'bearer', description: 'An API key from EARMARK_API_KEYS.' } },

@@ -9,6 +9,7 @@ import { compareSpecs, comparePlugin } from './plugins/compare.ts';
 import { exportSpecs, exportsPlugin } from './plugins/exports.ts';
 import { healthPlugin, healthSpecs } from './plugins/health.ts';
 import { jobSpecs, jobsPlugin } from './plugins/jobs.ts';
+import { packageSpecs, packagesPlugin } from './plugins/packages.ts';
 import { pageSpecs, pagesPlugin } from './plugins/pages.ts';
 import { profileSpecs, profilesPlugin } from './plugins/profiles.ts';
 import { reportViewSpecs, reportViewsPlugin } from './plugins/report-views.ts';
@@ -30,6 +31,7 @@ export const routeModules: readonly RouteModule[] = [
   { specs: rerunSpecs, plugin: rerunsPlugin },
   { specs: signOffSpecs, plugin: signOffsPlugin },
   { specs: exportSpecs, plugin: exportsPlugin },
+  { specs: packageSpecs, plugin: packagesPlugin },
   { specs: profileSpecs, plugin: profilesPlugin },
   { specs: pageSpecs, plugin: pagesPlugin },
   { specs: healthSpecs, plugin: healthPlugin },

@@ -38,7 +38,10 @@ export const DeliveryAttempt: Schema = {
   required: ['deliveryId', 'event', 'attempt', 'at', 'statusCode', 'outcome', 'error'],
   properties: {
     deliveryId: { type: 'string' },
-    event: { type: 'string', enum: ['job.completed', 'job.failed', 'job.signed_off'] },
+    event: {
+      type: 'string',
+      enum: ['job.completed', 'job.failed', 'job.signed_off', 'package.completed', 'package.failed'],
+    },
     attempt: { type: 'integer', minimum: 1 },
     at: { type: 'string', format: 'date-time' },
     statusCode: nullable('integer'),

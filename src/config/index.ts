@@ -77,6 +77,8 @@ export interface Config {
   childRssLimitMb: number;
   /** Longest audio any file may decode to; longer is decoded_size_exceeded, checked while decoding. */
   maxDecodedSeconds: number;
+  /** A package whose files have not all finished this long after it was submitted fails. */
+  packageWaitMs: number;
 }
 
 export class ConfigError extends Error {
@@ -271,5 +273,6 @@ export function loadConfig(env: Env = process.env): Config {
     logLevel,
     childRssLimitMb: childRssLimitMb(env),
     maxDecodedSeconds: maxDecodedSeconds(env),
+    packageWaitMs: int(env, 'EARMARK_PACKAGE_WAIT_MS', 6 * 3600_000, 100),
   };
 }

@@ -77,6 +77,12 @@ export const errorCatalogue = {
   job_not_finished: { status: 409, title: 'The job has not finished yet', retryable: false },
   audio_expired: { status: 404, title: "The job's stored audio is past its retention period", retryable: false },
   signoff_not_allowed: { status: 409, title: 'Only a warn or fail verdict can be signed off', retryable: false },
+  package_member_failed: { status: 422, title: 'A file of the package failed its own check', retryable: false },
+  package_wait_exceeded: {
+    status: 504,
+    title: "The package's files did not all finish within the package wait",
+    retryable: false,
+  },
   storage_full: { status: 507, title: 'Storage is full', retryable: true, retryAfterSeconds: 5 },
   storage_unavailable: { status: 503, title: 'Storage is not available', retryable: true, retryAfterSeconds: 5 },
   service_unavailable: {

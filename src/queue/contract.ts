@@ -4,6 +4,7 @@
 
 import { isErrorCode, parseWireError, type ErrorCode, type ErrorDetails, type WireError } from '../errors/index.ts';
 import type { Profile } from '../profiles/index.ts';
+import type { PackageEvent } from './package-contract.ts';
 
 export const ANALYSIS_QUEUE = 'analysis';
 export const WEBHOOK_QUEUE = 'webhooks';
@@ -50,10 +51,11 @@ export interface AnalyzeResultV1 {
 export type JobEvent = 'job.completed' | 'job.failed' | 'job.signed_off';
 
 export interface DeliverWebhookV1 {
+  /** The job's id, or a package's (package events, src/worker/package-worker.ts). */
   jobId: string;
   tenant: string;
   url: string;
-  event: JobEvent;
+  event: JobEvent | PackageEvent;
   /** Same on every retry, so a receiver can drop duplicates. */
   deliveryId: string;
   body: string;

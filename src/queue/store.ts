@@ -1,6 +1,6 @@
 // The service's state beside the BullMQ queues, one store per concern: each tenant's job index,
 // idempotency keys, cached reports, webhook delivery attempts, job outcomes, the fair-share clock,
-// operator sign-offs and re-run links.
+// operator sign-offs, re-run links and delivery packages.
 
 import type { Redis } from 'ioredis';
 import { DeliveryLog } from './deliveries.ts';
@@ -9,6 +9,7 @@ import { DirectUploads } from './direct-uploads.ts';
 import { IdempotencyKeys } from './idempotency.ts';
 import { JobIndex } from './job-index.ts';
 import { Outcomes } from './outcomes.ts';
+import { PackageStore } from './packages.ts';
 import { ReportCache } from './report-cache.ts';
 import { RerunLog } from './reruns.ts';
 import { SignOffLog } from './signoffs.ts';
@@ -23,6 +24,7 @@ export interface ServiceStores {
   uploads: DirectUploads;
   signOffs: SignOffLog;
   reruns: RerunLog;
+  packages: PackageStore;
 }
 
 export function openServiceStores(redis: Redis, prefix: string, retentionSeconds: number): ServiceStores {
@@ -36,5 +38,6 @@ export function openServiceStores(redis: Redis, prefix: string, retentionSeconds
     uploads: new DirectUploads(redis, prefix, retentionSeconds),
     signOffs: new SignOffLog(redis, prefix, retentionSeconds),
     reruns: new RerunLog(redis, prefix, retentionSeconds),
+    packages: new PackageStore(redis, prefix, retentionSeconds),
   };
 }

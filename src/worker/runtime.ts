@@ -1,5 +1,6 @@
 // The worker process: the analysis Worker (sandboxed processor), the webhook Worker (in
-// process: it only waits on the network), the retention sweep, and a time-bounded drain.
+// process: it only waits on the network), the package Worker (in process; its set check runs on
+// a thread, package-worker.ts), the retention sweep, and a time-bounded drain.
 //
 // Completion side effects (the report copy in Redis, the finished record, the webhook job) are
 // written by the parent before BullMQ commits the outcome, not in the `completed`/`failed`
@@ -27,13 +28,14 @@ import {
 import { createRedis, waitReady } from '../queue/connection.ts';
 import { jobView, type JobView } from '../queue/job-view.ts';
 import { followClock } from '../queue/fair-share.ts';
-import { createAnalysisQueue, createWebhookQueue } from '../queue/queues.ts';
+import { createAnalysisQueue, createPackageQueue, createWebhookQueue } from '../queue/queues.ts';
 import { openServiceStores } from '../queue/store.ts';
 import { openStorage } from '../storage/index.ts';
 import { CHILD_SETTINGS_ENV, childSettingsOf } from './child-settings.ts';
 import { threadBudget } from './thread-policy.ts';
 import { retentionPass } from './retention.ts';
 import { deliver } from './webhooks.ts';
+import { startPackageWorker } from './package-worker.ts';
 import { currentBundle } from '../../bin/bundles.js';
 
 // The child is BullMQ's own main.js, which then imports our processor: the bundled one
@@ -161,6 +163,7 @@ export async function startWorker(config: Config, log: Logger): Promise<WorkerRu
   const onError = (error: Error, where: string) => log.error({ err: { message: error.message }, where }, 'queue error');
   const webhookQueue = createWebhookQueue(redis, config, onError);
   const analysisQueue = createAnalysisQueue(redis, config, onError);
+  const packageQueue = createPackageQueue(redis, config, onError);
 
   async function enqueueWebhook(
     job: AnalysisJob,
@@ -276,9 +279,10 @@ export async function startWorker(config: Config, log: Logger): Promise<WorkerRu
       const d = job.data;
       // Added before the analysis outcome is committed: send only once it is, and never an outcome
       // a re-run replaced (a crash before the commit re-runs the job, which may end otherwise).
-      const state = await analysisQueue.getJobState(d.jobId);
+      const packageEvent = d.event === 'package.completed' || d.event === 'package.failed';
+      const state = await (packageEvent ? packageQueue : analysisQueue).getJobState(d.jobId);
       // A sign-off (added by the API) is only ever made on a completed job.
-      if (state !== (d.event === 'job.failed' ? 'failed' : 'completed')) {
+      if (state !== (d.event === 'job.failed' || d.event === 'package.failed' ? 'failed' : 'completed')) {
         if (state === 'completed' || state === 'failed' || state === 'unknown') {
           log.info({ jobId: d.jobId, deliveryId: d.deliveryId, state }, 'webhook dropped: the job ended otherwise');
           return;
@@ -336,6 +340,8 @@ export async function startWorker(config: Config, log: Logger): Promise<WorkerRu
   );
   webhooks.on('error', (error) => onError(error, 'webhook worker'));
 
+  const packages = startPackageWorker({ config, redis, store, storage, analysisQueue, webhookQueue, log, onError });
+
   const retentionMs = config.retentionHours * 3_600_000;
   const sweep = async (maxAgeMs = retentionMs): Promise<number> => {
     const swept = await retentionPass(storage, store.reports, maxAgeMs);
@@ -368,7 +374,7 @@ export async function startWorker(config: Config, log: Logger): Promise<WorkerRu
       clearInterval(sweeper);
       let timer: NodeJS.Timeout | undefined;
       const drained = await Promise.race([
-        analysis.pause().then(() => true),
+        Promise.all([analysis.pause(), packages.worker.pause()]).then(() => true),
         new Promise<boolean>((resolve) => {
           timer = setTimeout(() => resolve(false), config.shutdownTimeoutMs);
         }),
@@ -377,7 +383,7 @@ export async function startWorker(config: Config, log: Logger): Promise<WorkerRu
       let handedBack = 0;
       if (!drained) {
         // Back to the wait list at once, so another worker takes them without waiting for a stall check.
-        for (const job of active.values()) {
+        for (const job of [...active.values(), ...packages.active.values()]) {
           if (
             job.token &&
             (await job.moveToWait(job.token).then(
@@ -387,12 +393,16 @@ export async function startWorker(config: Config, log: Logger): Promise<WorkerRu
           )
             handedBack += 1;
         }
+        // A package check handed back ends with its thread (its lock is gone, so its failure is not recorded).
+        await packages.runner.close();
         log.warn({ handedBack }, 'shutdown bound reached: active jobs handed back');
       }
       await analysis.close(!drained);
+      await packages.worker.close(!drained);
       await webhooks.close();
       await webhookQueue.close();
       await analysisQueue.close();
+      await packageQueue.close();
       await redis.quit().catch(() => undefined);
       return { handedBack };
     },

@@ -16,6 +16,7 @@ describe('loadConfig', () => {
       workerConcurrency: availableParallelism(),
       analysisThreads: availableParallelism(),
       retentionHours: 24,
+      packageWaitMs: 6 * 3_600_000,
       uploadLimitBytes: 2 * 1024 ** 3,
       apiKeys: [],
     });
