@@ -3,7 +3,7 @@
 // Kept for the retention period, like the job.
 
 import type { Redis } from 'ioredis';
-import { serviceKey } from './service-keys.ts';
+import { runScript, script, serviceKey } from './service-keys.ts';
 
 export interface SignOff {
   /** 1 for the first sign-off of this job, then 2, 3, ... (also names its webhook delivery). */
@@ -18,6 +18,13 @@ export interface SignOff {
 }
 
 const MAX_KEPT = 50;
+
+// The last entry of each list, in one command (a missing list answers nil in its place).
+const LAST_OF_EACH = script(`
+local out = {}
+for i, key in ipairs(KEYS) do out[i] = redis.call('LINDEX', key, -1) end
+return out
+`);
 
 /** A stored entry read back: checked field by field, so a damaged entry is an error, not a wrong record. */
 export function parseSignOff(text: string): SignOff {
@@ -94,11 +101,15 @@ export class SignOffLog {
   async currentOf(jobIds: readonly string[]): Promise<Map<string, SignOff>> {
     const found = new Map<string, SignOff>();
     if (jobIds.length === 0) return found;
-    const pipeline = this.redis.pipeline();
-    for (const id of jobIds) pipeline.lindex(this.key(id), -1);
-    const answers = (await pipeline.exec()) ?? [];
-    answers.forEach(([error, last], i) => {
-      if (error) throw error;
+    const answers = await runScript(
+      this.redis,
+      LAST_OF_EACH,
+      jobIds.map((id) => this.key(id)),
+      [],
+    );
+    if (!Array.isArray(answers) || answers.length !== jobIds.length)
+      throw new Error('the sign-off read script answered unexpectedly');
+    answers.forEach((last: unknown, i) => {
       if (typeof last === 'string') found.set(jobIds[i], parseSignOff(last));
     });
     return found;
