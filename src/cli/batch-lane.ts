@@ -92,18 +92,19 @@ export class BatchLane {
       const onMessage = (message: unknown) => {
         const reply = parseReply(message);
         if (reply === null) {
-          child.kill('SIGKILL');
+          this.discard(child, 'SIGKILL');
           finish({ file, error: internalError('the check sent an answer it should not have') });
           return;
         }
         if (reply.id !== id) return;
-        if (reply.rssBytes > this.limits.childRssLimitBytes) this.retire(child);
+        // A grown child goes between files (its memory is rarely handed back).
+        if (reply.rssBytes > this.limits.childRssLimitBytes) this.discard(child, 'SIGTERM');
         finish('report' in reply ? { file, report: reply.report } : { file, error: reply.error });
       };
       const onExit = (code: number | null, signal: NodeJS.Signals | null) =>
         finish({ file, error: internalError(exitCause(code, signal, this.stderrTail), { exitCode: code, signal }) });
       const timer = setTimeout(() => {
-        child.kill('SIGKILL');
+        this.discard(child, 'SIGKILL');
         finish({
           file,
           error: internalError(`the check did not finish within ${Math.round(deadlineMs / 1000)} s and was stopped`, {
@@ -117,10 +118,10 @@ export class BatchLane {
     });
   }
 
-  /** A grown child goes between files (its memory is rarely handed back); the next file starts a fresh one. */
-  private retire(child: ChildProcess): void {
+  /** Ends a child and forgets it at once, so the next file starts a fresh one even before its 'exit' arrives. */
+  private discard(child: ChildProcess, signal: NodeJS.Signals): void {
     if (this.child === child) this.child = null;
-    child.kill('SIGTERM');
+    child.kill(signal);
   }
 
   /** Stops the child now (SIGKILL: a child spinning in a decoder must not outlive the batch). */
