@@ -30,6 +30,8 @@ export interface LaneLimits {
  * and the slowest reading path (low-bitrate compressed audio with a dialogue reading) stays
  * tens of times inside it. */
 export const defaultFileDeadlineMs = (sizeBytes: number) => 120_000 + (sizeBytes / 1e6) * 60_000;
+/** setTimeout's largest delay (about 24.8 days): past it Node fires at once. */
+const MAX_TIMER_MS = 2 ** 31 - 1;
 
 /** The bundle while it is current (bin/bundles.js), else the TypeScript source through tsx. */
 function childEntry(): { path: string; execArgv: string[] } {
@@ -76,7 +78,7 @@ export class BatchLane {
   /** One file in this lane's child: its summary, or its error. */
   async check(file: string): Promise<BatchResult> {
     const sizeBytes = (await stat(file).catch(() => null))?.size ?? 0;
-    const deadlineMs = this.limits.fileDeadlineMs(sizeBytes);
+    const deadlineMs = Math.min(this.limits.fileDeadlineMs(sizeBytes), MAX_TIMER_MS);
     if (this.closed) return { file, error: internalError('the batch was stopped before this file') };
     const alive = this.child && this.child.exitCode === null && this.child.signalCode === null && this.child.connected;
     const child = alive && this.child ? this.child : this.start();
