@@ -89,6 +89,7 @@ export class BatchLane {
         clearTimeout(timer);
         child.off('message', onMessage);
         child.off('exit', onExit);
+        child.off('error', onError);
         resolve(result);
       };
       const onMessage = (message: unknown) => {
@@ -105,6 +106,12 @@ export class BatchLane {
       };
       const onExit = (code: number | null, signal: NodeJS.Signals | null) =>
         finish({ file, error: internalError(exitCause(code, signal, this.stderrTail), { exitCode: code, signal }) });
+      // A fork that failed (no process id) may never send 'exit'.
+      const onError = (e: Error) => {
+        if (child.pid !== undefined) return;
+        this.discard(child, 'SIGKILL');
+        finish({ file, error: internalError(`could not start a check: ${e.message}`) });
+      };
       const timer = setTimeout(() => {
         this.discard(child, 'SIGKILL');
         finish({
@@ -116,6 +123,7 @@ export class BatchLane {
       }, deadlineMs);
       child.on('message', onMessage);
       child.once('exit', onExit);
+      child.on('error', onError);
       child.send({ id, file }, () => {});
     });
   }
