@@ -1,5 +1,6 @@
 #!/usr/bin/env node
-// `npm run build`: bundles the CLI, the analysis and excerpt threads and the benchmark child into dist/*.mjs
+// `npm run build`: bundles the CLI, the analysis and excerpt threads, the service's and the batch check's
+// children and the benchmark child into dist/*.mjs
 // (`node bin/build.js <folder>` for another folder). Packages stay external: node_modules is
 // resolved at run time as usual. npm runs it as `prepare` after `npm ci` and `npm install`, so the
 // `earmark` command starts from the bundles on a fresh install (esbuild is a runtime dependency);

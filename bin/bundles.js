@@ -13,6 +13,7 @@ export const ENTRIES = {
   'parallel-worker': 'src/engine/parallel-worker.ts',
   'analyze-once': 'bench/analyze-once.ts',
   'analysis-child': 'src/worker/processor.ts',
+  'batch-child': 'src/cli/batch-child.ts',
 };
 const SOURCE_DIRS = ['src', 'bench'];
 

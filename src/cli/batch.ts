@@ -1,12 +1,12 @@
-// `earmark check` on many files: folders expanded, each file checked in a child process (the same
-// `earmark check <file> --json`), at most `jobs` at a time, results in the order given.
-import { spawn } from 'node:child_process';
+// `earmark check` on many files: folders expanded, each file checked in a child process, at most
+// `jobs` at a time (one lane each, its child reused from file to file: batch-lane.ts), results in
+// the order given.
 import { readdir, stat } from 'node:fs/promises';
 import { extname, join, resolve } from 'node:path';
-import { PROJECT_ROOT } from '../config/paths.ts';
-import { EarmarkError, isErrorCode, type WireError } from '../errors/index.ts';
-import { summarise, type ReportSummary } from '../exports/junit.ts';
-import { reportFromText } from '../profiles/report-json.ts';
+import { childRssLimitMb } from '../config/index.ts';
+import { EarmarkError, type WireError } from '../errors/index.ts';
+import type { ReportSummary } from '../exports/junit.ts';
+import { BatchLane, defaultFileDeadlineMs, type LaneLimits } from './batch-lane.ts';
 
 /** What a folder contributes: the audio extensions Earmark reads (a file named outright is always checked). */
 const AUDIO_EXTENSIONS = new Set([
@@ -81,59 +81,50 @@ export interface BatchOptions {
   threads: string;
   jobs: number;
   onDone?: (result: BatchResult, done: number, total: number) => void;
+  /** Defaults: defaultFileDeadlineMs, and EARMARK_CHILD_RSS_LIMIT_MB (512 MB, the service's child bound). */
+  limits?: Partial<LaneLimits>;
 }
 
-const EARMARK = join(PROJECT_ROOT, 'bin', 'earmark.js');
-const ERROR_LINE = /^error ([a-z_]+): ([\s\S]*)$/;
-
-/** One file in a child process: its report, or its error as the child printed it. */
-function checkInChild(file: string, o: BatchOptions): Promise<BatchResult> {
-  const args = [EARMARK, 'check', file, '--profile', o.profile, '--json', '--threads', o.threads];
-  if (o.fps) args.push('--fps', o.fps);
-  if (o.layout) args.push('--layout', o.layout);
-  return new Promise((done) => {
-    const child = spawn(process.execPath, args, { stdio: ['ignore', 'pipe', 'pipe'] });
-    const out: Buffer[] = [];
-    let err = '';
-    child.stdout.on('data', (b: Buffer) => out.push(b));
-    child.stderr.on('data', (b: Buffer) => {
-      if (err.length < 64 * 1024) err += b.toString('utf8');
-    });
-    const failed = (code: WireError['code'], message: string) => done({ file, error: { code, message, details: {} } });
-    child.on('error', (e) => failed('internal_error', `could not start a check: ${e.message}`));
-    child.on('close', (code, signal) => {
-      if (code !== null && code <= 2) {
-        try {
-          done({
-            file,
-            report: summarise(reportFromText(Buffer.concat(out).toString('utf8'), `the report of ${file}`)),
-          });
-        } catch {
-          failed('internal_error', 'the check printed no report');
-        }
-        return;
-      }
-      const line = ERROR_LINE.exec(err.trim());
-      if (line && isErrorCode(line[1])) failed(line[1], line[2]);
-      else
-        failed('internal_error', `the check ended with ${signal ?? `exit code ${code}`}: ${err.trim().slice(0, 500)}`);
-    });
-  });
-}
-
-/** Every file checked, `jobs` at a time; results in the order of `files`. */
+/** Every file checked, `jobs` at a time; results in the order of `files`. Every child has ended
+ * when this returns; SIGINT or SIGTERM during the batch kills them before the parent goes. */
 export async function runBatch(files: readonly string[], o: BatchOptions): Promise<BatchResult[]> {
   if (!Number.isInteger(o.jobs) || o.jobs < 1) throw new EarmarkError('invalid_argument', '--jobs must be 1 or more');
+  const limits: LaneLimits = {
+    fileDeadlineMs: o.limits?.fileDeadlineMs ?? defaultFileDeadlineMs,
+    childRssLimitBytes: o.limits?.childRssLimitBytes ?? childRssLimitMb() * 1024 ** 2,
+  };
+  const settings = {
+    profile: o.profile,
+    threads: o.threads,
+    ...(o.fps ? { fps: o.fps } : {}),
+    ...(o.layout ? { layout: o.layout } : {}),
+  };
+  const lanes = Array.from({ length: Math.min(o.jobs, files.length) }, () => new BatchLane(settings, limits));
+  const onSignal = (signal: NodeJS.Signals) => {
+    for (const lane of lanes) lane.kill();
+    process.off('SIGINT', onSignal);
+    process.off('SIGTERM', onSignal);
+    // The signal's own outcome (the default ends the process with it) now that no child is left.
+    process.kill(process.pid, signal);
+  };
+  process.on('SIGINT', onSignal);
+  process.on('SIGTERM', onSignal);
   const results: BatchResult[] = new Array(files.length);
   let next = 0;
   let done = 0;
-  const lane = async () => {
+  const run = async (lane: BatchLane) => {
     while (next < files.length) {
       const i = next++;
-      results[i] = await checkInChild(files[i], o);
+      results[i] = await lane.check(files[i]);
       o.onDone?.(results[i], ++done, files.length);
     }
   };
-  await Promise.all(Array.from({ length: Math.min(o.jobs, files.length) }, lane));
+  try {
+    await Promise.all(lanes.map(run));
+  } finally {
+    process.off('SIGINT', onSignal);
+    process.off('SIGTERM', onSignal);
+    await Promise.all(lanes.map((lane) => lane.close()));
+  }
   return results;
 }
