@@ -3,12 +3,13 @@
 // Screenshots go to test-output/ (git-ignored).
 import { mkdirSync } from 'node:fs';
 import { join } from 'node:path';
-import { chromium, type Browser } from 'playwright-core';
+import type { Browser } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { writeFixedDelivery, writeHotDelivery } from '../helpers/redelivery.ts';
 import { hasTool } from '../helpers/tools.ts';
 import { client, type Client } from '../service/client.ts';
 import { KEYS, startService, until, type TestService } from '../service/harness.ts';
+import { launchChromium } from '../helpers/browser.ts';
 
 const OUTPUT_DIR = join(process.cwd(), 'test-output');
 const PROFILE = 'delivery-broadcast-stereo';
@@ -37,10 +38,7 @@ describe.skipIf(!hasTool('chromium'))('re-delivery page in Chromium', () => {
     hotId = await submitAndWait(await writeHotDelivery(service.dir));
     const gainDb = (await api.get(`/v1/jobs/${hotId}/report`, KEYS.alpha)).body.correction.gainDb;
     fixedId = await submitAndWait(await writeFixedDelivery(service.dir, gainDb));
-    browser = await chromium.launch({
-      executablePath: '/usr/bin/chromium',
-      args: ['--headless', '--no-sandbox', '--disable-gpu', '--disable-background-networking'],
-    });
+    browser = await launchChromium();
   });
 
   afterAll(async () => {

@@ -5,12 +5,13 @@
 import { mkdirSync, mkdtempSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { chromium, type Browser, type Page } from 'playwright-core';
+import type { Browser, Page } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { client } from '../service/client.ts';
 import { KEYS, startService, until, type TestService } from '../service/harness.ts';
 import { writeSine } from '../service/audio.ts';
 import { hasTool } from '../helpers/tools.ts';
+import { launchChromium } from '../helpers/browser.ts';
 
 const OUTPUT_DIR = join(process.cwd(), 'test-output');
 const DATE_TIME = /^\d{4}-\d{2}-\d{2} \d{2}:\d{2}:\d{2}$/;
@@ -32,10 +33,7 @@ describe.skipIf(!hasTool('chromium'))('dashboard list in Chromium', () => {
   beforeAll(async () => {
     mkdirSync(OUTPUT_DIR, { recursive: true });
     service = await startService();
-    browser = await chromium.launch({
-      executablePath: '/usr/bin/chromium',
-      args: ['--headless', '--no-sandbox', '--disable-gpu', '--disable-background-networking', '--no-first-run'],
-    });
+    browser = await launchChromium();
     const api = client(service.url);
     for (const job of JOBS) {
       const wav = await writeSine(join(dir, job.file), -23, 3);

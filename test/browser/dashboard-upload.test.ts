@@ -6,12 +6,13 @@
 import { mkdirSync, mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { chromium, type Browser, type Page } from 'playwright-core';
+import type { Browser, Page } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { writeSine } from '../service/audio.ts';
 import { client } from '../service/client.ts';
 import { KEYS, startService, until, type TestService } from '../service/harness.ts';
 import { hasTool } from '../helpers/tools.ts';
+import { launchChromium } from '../helpers/browser.ts';
 
 const OUTPUT_DIR = join(process.cwd(), 'test-output');
 const dir = mkdtempSync(join(tmpdir(), 'earmark-dash-upload-'));
@@ -29,10 +30,7 @@ describe.skipIf(!hasTool('chromium'))('dashboard uploads, filters and paging in 
   beforeAll(async () => {
     mkdirSync(OUTPUT_DIR, { recursive: true });
     service = await startService();
-    browser = await chromium.launch({
-      executablePath: '/usr/bin/chromium',
-      args: ['--headless', '--no-sandbox', '--disable-gpu', '--disable-background-networking', '--no-first-run'],
-    });
+    browser = await launchChromium();
     const api = client(service.url);
     for (const [i, name] of SEEDS.entries()) {
       const res = await api.postJson(

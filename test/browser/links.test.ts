@@ -4,12 +4,13 @@
 // export as JUnit, with a sign-off marker beside a verdict. Screenshots go to test-output/.
 import { mkdirSync, readFileSync } from 'node:fs';
 import { join } from 'node:path';
-import { chromium, type Browser, type Page } from 'playwright-core';
+import type { Browser, Page } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { writeFixedDelivery, writeHotDelivery } from '../helpers/redelivery.ts';
 import { hasTool } from '../helpers/tools.ts';
 import { client, type Client } from '../service/client.ts';
 import { KEYS, startService, until, type TestService } from '../service/harness.ts';
+import { launchChromium } from '../helpers/browser.ts';
 
 const OUTPUT_DIR = join(process.cwd(), 'test-output');
 const PROFILE = 'delivery-broadcast-stereo';
@@ -49,10 +50,7 @@ describe.skipIf(!hasTool('chromium'))('downloads and compare links in Chromium',
       KEYS.alphaAdmin,
     );
     expect(signed.status).toBe(201);
-    browser = await chromium.launch({
-      executablePath: '/usr/bin/chromium',
-      args: ['--headless', '--no-sandbox', '--disable-gpu', '--disable-background-networking'],
-    });
+    browser = await launchChromium();
   });
 
   afterAll(async () => {

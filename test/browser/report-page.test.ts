@@ -4,7 +4,7 @@
 // stylesheet. Screenshots and a PDF go to test-output/ (git-ignored).
 import { mkdirSync } from 'node:fs';
 import { join } from 'node:path';
-import { chromium, type Browser, type Page } from 'playwright-core';
+import type { Browser, Page } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { QcReport } from '../../src/profiles/report.ts';
 import { FAILURE_HINTS } from '../../src/views/assets/format.js';
@@ -12,6 +12,7 @@ import { renderReportPlot } from '../../src/views/report-plot.ts';
 import { KEYS, startService, type TestService } from '../service/harness.ts';
 import { hasTool } from '../helpers/tools.ts';
 import { BUSY_FLAG_COUNT, BUSY_KINDS, SILENT_CHANNEL, busyReport } from '../views/busy-report.ts';
+import { launchChromium } from '../helpers/browser.ts';
 
 const OUTPUT_DIR = join(process.cwd(), 'test-output');
 /** The little of the page's DOM the tests read (the Node tsconfig has no DOM types). */
@@ -82,10 +83,7 @@ describe.skipIf(!hasTool('chromium'))('report page in Chromium', () => {
   beforeAll(async () => {
     mkdirSync(OUTPUT_DIR, { recursive: true });
     service = await startService({ worker: false });
-    browser = await chromium.launch({
-      executablePath: '/usr/bin/chromium',
-      args: ['--headless', '--no-sandbox', '--disable-gpu', '--disable-background-networking', '--no-first-run'],
-    });
+    browser = await launchChromium();
   });
 
   afterAll(async () => {

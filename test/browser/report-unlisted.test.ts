@@ -1,13 +1,14 @@
 // The report page in Debian's Chromium when the analysis kept only its first events: the flag
 // counts say detections past the event cap are left out, and below the table how many, by kind;
 // a report whose every finding lies past the cap says so instead of "No time-located findings".
-import { chromium, type Browser, type Page } from 'playwright-core';
+import type { Browser, Page } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { QcReport } from '../../src/profiles/report.ts';
 import { renderReportPlot } from '../../src/views/report-plot.ts';
 import { KEYS, startService, type TestService } from '../service/harness.ts';
 import { hasTool } from '../helpers/tools.ts';
 import { sampleReport } from '../views/sample-report.ts';
+import { launchChromium } from '../helpers/browser.ts';
 
 describe.skipIf(!hasTool('chromium'))('report page: detections past the event cap', () => {
   let service: TestService;
@@ -44,10 +45,7 @@ describe.skipIf(!hasTool('chromium'))('report page: detections past the event ca
 
   beforeAll(async () => {
     service = await startService({ worker: false });
-    browser = await chromium.launch({
-      executablePath: '/usr/bin/chromium',
-      args: ['--headless', '--no-sandbox', '--disable-gpu', '--disable-background-networking', '--no-first-run'],
-    });
+    browser = await launchChromium();
   });
 
   afterAll(async () => {

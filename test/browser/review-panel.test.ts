@@ -4,12 +4,13 @@
 // Screenshots go to test-output/ (git-ignored).
 import { mkdirSync } from 'node:fs';
 import { join } from 'node:path';
-import { chromium, type Browser } from 'playwright-core';
+import type { Browser } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { client } from '../service/client.ts';
 import { KEYS, startService, until, type TestService } from '../service/harness.ts';
 import { writeSine } from '../service/audio.ts';
 import { hasTool } from '../helpers/tools.ts';
+import { launchChromium } from '../helpers/browser.ts';
 
 const OUTPUT_DIR = join(process.cwd(), 'test-output');
 
@@ -30,10 +31,7 @@ describe.skipIf(!hasTool('chromium'))('review panel in Chromium', () => {
   beforeAll(async () => {
     mkdirSync(OUTPUT_DIR, { recursive: true });
     service = await startService();
-    browser = await chromium.launch({
-      executablePath: '/usr/bin/chromium',
-      args: ['--headless', '--no-sandbox', '--disable-gpu', '--disable-background-networking', '--no-first-run'],
-    });
+    browser = await launchChromium();
     const api = client(service.url);
     await api.put('/v1/profiles/house-loud', house(-23), KEYS.alphaAdmin);
     await api.put('/v1/profiles/house-loud', house(-16), KEYS.alphaAdmin);
