@@ -4,6 +4,7 @@
 import { createHash, randomBytes } from 'node:crypto';
 import { EarmarkError } from '../errors/index.ts';
 import { ANALYZE_JOB_V1, type AnalyzeJobV1, type JobSource } from '../queue/contract.ts';
+import type { FastifyReply, FastifyRequest } from 'fastify';
 import type { AppDeps } from './deps.ts';
 
 export interface SubmitInput {
@@ -139,4 +140,21 @@ export async function submitDirectUpload(
     );
   const { storageKey, fileName } = upload;
   return submitJob(deps, tenant, input, { kind: 'upload', storageKey, fileName, sizeBytes }, idempotencyKey);
+}
+
+/** The client's Idempotency-Key, cut to the length the stores key on. */
+export function idempotencyKeyOf(request: FastifyRequest): string | undefined {
+  const header = request.headers['idempotency-key'];
+  return typeof header === 'string' ? header.slice(0, 200) : undefined;
+}
+
+/** 202 for a new job, 200 with its state for a repeated submission; Location names the job. */
+export async function replySubmitted(deps: AppDeps, tenant: string, reply: FastifyReply, result: Submitted) {
+  if (!result.duplicate) deps.metrics.jobSubmitted(tenant);
+  const statusUrl = `/v1/jobs/${result.id}`;
+  const state = result.duplicate ? ((await deps.jobs.stateOf(tenant, result.id)) ?? 'queued') : 'queued';
+  return reply
+    .code(result.duplicate ? 200 : 202)
+    .header('location', statusUrl)
+    .send({ id: result.id, state, statusUrl, duplicate: result.duplicate });
 }

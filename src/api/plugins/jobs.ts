@@ -9,7 +9,7 @@ import type { AppDeps } from '../deps.ts';
 import { submitRange } from '../list-filters.ts';
 import { route, routesPlugin, type RouteSpec } from '../route-spec.ts';
 import * as S from '../schemas.ts';
-import { submitDirectUpload, submitJob } from '../submit.ts';
+import { idempotencyKeyOf, replySubmitted, submitDirectUpload, submitJob } from '../submit.ts';
 import { readMultipart } from '../upload-form.ts';
 import { validationProblem } from '../validation.ts';
 import { principalOf, requireScope } from './auth.ts';
@@ -109,10 +109,7 @@ export function jobsPlugin(deps: AppDeps, uploadLimitBytes: number, bodyTimeoutM
     async (app) => {
       route(app, jobSpecs.submit, async (request, reply) => {
         const { tenant } = principalOf(request);
-        const idempotencyKey =
-          typeof request.headers['idempotency-key'] === 'string'
-            ? request.headers['idempotency-key'].slice(0, 200)
-            : undefined;
+        const idempotencyKey = idempotencyKeyOf(request);
         let result: Awaited<ReturnType<typeof submitJob>>;
         if (request.isMultipart()) {
           const { stored, fileName, input } = await readMultipart(deps, request, uploadLimitBytes, drainIdleMs);
@@ -146,13 +143,7 @@ export function jobsPlugin(deps: AppDeps, uploadLimitBytes: number, bodyTimeoutM
           }
         }
         request.log.info({ jobId: result.id, duplicate: result.duplicate }, 'job submitted');
-        if (!result.duplicate) deps.metrics.jobSubmitted(tenant);
-        const statusUrl = `/v1/jobs/${result.id}`;
-        const state = result.duplicate ? ((await deps.jobs.stateOf(tenant, result.id)) ?? 'queued') : 'queued';
-        return reply
-          .code(result.duplicate ? 200 : 202)
-          .header('location', statusUrl)
-          .send({ id: result.id, state, statusUrl, duplicate: result.duplicate });
+        return replySubmitted(deps, tenant, reply, result);
       });
 
       // The one view that also lists re-runs and the current sign-off (two reads a listing skips).

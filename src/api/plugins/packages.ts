@@ -9,6 +9,7 @@ import type { AppDeps } from '../deps.ts';
 import { packageReportText, readPackage, submitPackage } from '../packages.ts';
 import { PackageIdParams, PackageJson, PackageView } from '../package-schemas.ts';
 import { route, routesPlugin, type RouteSpec } from '../route-spec.ts';
+import { idempotencyKeyOf } from '../submit.ts';
 import * as S from '../schemas.ts';
 import { validationProblem } from '../validation.ts';
 import { principalOf } from './auth.ts';
@@ -82,14 +83,12 @@ export function packagesPlugin(deps: AppDeps, config: Config) {
       const { tenant } = principalOf(request);
       const body = request.body;
       if (!validatePackage(body)) throw validationProblem(validatePackage.errors, 'body');
-      const header = request.headers['idempotency-key'];
-      const idempotencyKey = typeof header === 'string' ? header.slice(0, 200) : undefined;
       const { packageId, duplicate } = await submitPackage(
         deps,
         packageQueue(),
         tenant,
         { ...body, members: body.members.map((m) => ({ jobId: m.jobId, role: m.role })) },
-        idempotencyKey,
+        idempotencyKeyOf(request),
       );
       request.log.info({ packageId, members: body.members.length, duplicate }, 'package submitted');
       const view = await readPackage(deps, packageQueue(), tenant, packageId);

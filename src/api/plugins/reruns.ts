@@ -5,6 +5,7 @@ import type { FromSchema } from 'json-schema-to-ts';
 import type { AppDeps } from '../deps.ts';
 import { rerunJob } from '../rerun.ts';
 import { route, routesPlugin, type RouteSpec } from '../route-spec.ts';
+import { idempotencyKeyOf, replySubmitted } from '../submit.ts';
 import * as S from '../schemas.ts';
 import { validationProblem } from '../validation.ts';
 import { principalOf } from './auth.ts';
@@ -42,17 +43,9 @@ export function rerunsPlugin(deps: AppDeps) {
       const { tenant } = principalOf(request);
       const body = request.body;
       if (!validateRerun(body)) throw validationProblem(validateRerun.errors, 'body');
-      const header = request.headers['idempotency-key'];
-      const idempotencyKey = typeof header === 'string' ? header.slice(0, 200) : undefined;
-      const result = await rerunJob(deps, tenant, request.params.id, body, idempotencyKey);
+      const result = await rerunJob(deps, tenant, request.params.id, body, idempotencyKeyOf(request));
       request.log.info({ jobId: result.id, rerunOf: request.params.id, duplicate: result.duplicate }, 'job re-run');
-      if (!result.duplicate) deps.metrics.jobSubmitted(tenant);
-      const statusUrl = `/v1/jobs/${result.id}`;
-      const state = result.duplicate ? ((await deps.jobs.stateOf(tenant, result.id)) ?? 'queued') : 'queued';
-      return reply
-        .code(result.duplicate ? 200 : 202)
-        .header('location', statusUrl)
-        .send({ id: result.id, state, statusUrl, duplicate: result.duplicate });
+      return replySubmitted(deps, tenant, reply, result);
     });
   });
 }
