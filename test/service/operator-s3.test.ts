@@ -1,5 +1,8 @@
-// The markers export on the S3 backend (s3rver on loopback): the API copies the object to a temp
-// file, streams the marked copy from it, and removes the copy when the download ends.
+// The operator's exports and packages on the S3 backend (s3rver on loopback), one service for both:
+// - markers: the API copies the object to a temp file, streams the marked copy from it, and
+//   removes the copy when the download ends;
+// - a delivery package: the API and the worker share only Redis and the bucket, so the worker's set
+//   check reads local copies of the members' objects, and releases them when it ends.
 import { mkdtempSync, readdirSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
@@ -7,6 +10,7 @@ import request from 'supertest';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { readCueMarkers } from '../../src/decode/cue.ts';
 import { startS3Server, type TestS3 } from '../helpers/s3-server.ts';
+import { writeStemSet } from '../helpers/stem-files.ts';
 import { writeSine } from './audio.ts';
 import { client, type Client } from './client.ts';
 import { KEYS, startService, until, type TestService } from './harness.ts';
@@ -23,7 +27,7 @@ beforeAll(async () => {
   s3 = await startS3Server();
   service = await startService({ s3 });
   api = client(service.url);
-  inputs = mkdtempSync(join(tmpdir(), 'earmark-s3-exports-'));
+  inputs = mkdtempSync(join(tmpdir(), 'earmark-s3-desk-'));
 }, 60_000);
 
 afterAll(async () => {
@@ -61,5 +65,31 @@ describe('markers on the S3 backend', () => {
     const source = readFileSync(loud);
     expect((res.body as Buffer).subarray(-(source.length - 44)).equals(source.subarray(44))).toBe(true);
     await until(async () => filesUnder(service.dir).length === 0);
+  }, 60_000);
+});
+
+describe('packages on the S3 backend', () => {
+  it('checks the set from copies of the stored objects and leaves no copy behind', async () => {
+    const set = await writeStemSet({ dir: inputs, seconds: 2 });
+    const upload = async (path: string) => (await api.upload(path, { profile: 'ebu-r128' }, KEYS.alpha)).body.id;
+    const members = [
+      { jobId: await upload(set.mix), role: 'mix' },
+      ...(await Promise.all(set.stems.map(async (s) => ({ jobId: await upload(s), role: 'stem' })))),
+    ];
+    const submit = await api.postJson('/v1/packages', { profile: 'ebu-r128', members }, KEYS.alpha);
+    expect(submit.status).toBe(202);
+    const done = await until(async () => {
+      const res = await api.get(`/v1/packages/${submit.body.id}`, KEYS.alpha);
+      return res.body.state === 'completed' || res.body.state === 'failed' ? res.body : null;
+    });
+    expect(done.state).toBe('completed');
+    // The set agrees: the stems null against the mix.
+    expect(done.set.checks.every((c: { passed: boolean }) => c.passed)).toBe(true);
+    expect(done.residual.residualRelativeDb).toBeLessThan(-140);
+    // The mix reads far above -23 LUFS (EBU R 128 item h allows +/-1 LU): its own fail is the package's.
+    expect(done.members[0].verdict).toBe('fail');
+    expect(done.verdict).toBe('fail');
+    expect(done.headline).toMatch(/^FAIL: mix\.wav fails: /);
+    await until(async () => filesUnder(service.workerDir).length === 0);
   }, 60_000);
 });
