@@ -33,6 +33,7 @@ import { openServiceStores } from '../queue/store.ts';
 import { openStorage } from '../storage/index.ts';
 import { CHILD_SETTINGS_ENV, childSettingsOf } from './child-settings.ts';
 import { threadBudget } from './thread-policy.ts';
+import { CHILD_GUARD_IMPORT } from './child-guard.ts';
 import { retentionPass } from './retention.ts';
 import { deliver } from './webhooks.ts';
 import { startPackageWorker } from './package-worker.ts';
@@ -46,7 +47,11 @@ import { currentBundle } from '../../bin/bundles.js';
 const BUNDLED_PROCESSOR = currentBundle('analysis-child');
 const TSX_LOADER = import.meta.resolve('tsx');
 const PROCESSOR_FILE = new URL(BUNDLED_PROCESSOR ?? './processor.ts', import.meta.url);
-const CHILD_EXEC_ARGV = BUNDLED_PROCESSOR ? process.execArgv : [...process.execArgv, '--import', TSX_LOADER];
+const CHILD_EXEC_ARGV = [
+  ...process.execArgv,
+  ...['--import', CHILD_GUARD_IMPORT],
+  ...(BUNDLED_PROCESSOR ? [] : ['--import', TSX_LOADER]),
+];
 
 /** Fault tests only: the worker SIGKILLs itself at this point (see durable-completion.test.ts). */
 export const KILL_AT_ENV = 'EARMARK_TEST_SIGKILL_AT';
