@@ -4,7 +4,7 @@
 
 import { open, readFile, rename } from 'node:fs/promises';
 import { join } from 'node:path';
-import { EarmarkError } from '../errors/index.ts';
+import { EarmarkError, errnoCode } from '../errors/index.ts';
 import type { Verdict } from '../profiles/index.ts';
 
 export const JOURNAL_NAME = '.earmark-watch.json';
@@ -64,7 +64,7 @@ export class WatchJournal {
     try {
       text = await readFile(join(folder, JOURNAL_NAME), 'utf8');
     } catch (error) {
-      if ((error as NodeJS.ErrnoException).code === 'ENOENT') return journal;
+      if (errnoCode(error) === 'ENOENT') return journal;
       throw error;
     }
     const unreadable = () =>

@@ -3,7 +3,7 @@
 
 import { readFile, unlink, writeFile } from 'node:fs/promises';
 import { join } from 'node:path';
-import { EarmarkError } from '../errors/index.ts';
+import { EarmarkError, errnoCode } from '../errors/index.ts';
 
 export const LOCK_NAME = '.earmark-watch.lock';
 
@@ -13,7 +13,7 @@ function alive(pid: number): boolean {
     return true;
   } catch (error) {
     // EPERM: it exists but belongs to another user.
-    return (error as NodeJS.ErrnoException).code === 'EPERM';
+    return errnoCode(error) === 'EPERM';
   }
 }
 
@@ -25,7 +25,7 @@ export async function lockFolder(folder: string): Promise<() => Promise<void>> {
       await writeFile(path, `${process.pid}\n`, { flag: 'wx' });
       return () => unlink(path).catch(() => undefined);
     } catch (error) {
-      if ((error as NodeJS.ErrnoException).code !== 'EEXIST') throw error;
+      if (errnoCode(error) !== 'EEXIST') throw error;
     }
     const owner = Number.parseInt(await readFile(path, 'utf8').catch(() => ''), 10);
     if (Number.isInteger(owner) && owner > 0 && owner !== process.pid && alive(owner))

@@ -4,6 +4,7 @@
 import { link, rename, stat, unlink, writeFile } from 'node:fs/promises';
 import type { Stats } from 'node:fs';
 import { basename, dirname, extname, join } from 'node:path';
+import { errnoCode } from '../errors/index.ts';
 
 export const REPORT_SUFFIX = '.report.json';
 
@@ -11,7 +12,7 @@ export async function statOrNull(path: string): Promise<Stats | null> {
   try {
     return await stat(path);
   } catch (error) {
-    if ((error as NodeJS.ErrnoException).code === 'ENOENT') return null;
+    if (errnoCode(error) === 'ENOENT') return null;
     throw error;
   }
 }
@@ -50,7 +51,7 @@ export async function moveNoClobber(from: string, to: string): Promise<'moved' |
   try {
     await link(from, to);
   } catch (error) {
-    const code = (error as NodeJS.ErrnoException).code;
+    const code = errnoCode(error);
     if (code === 'EEXIST') return 'taken';
     if (code !== 'EPERM' && code !== 'ENOTSUP' && code !== 'EOPNOTSUPP' && code !== 'ENOSYS') throw error;
     if ((await statOrNull(to)) !== null) return 'taken';

@@ -1,7 +1,7 @@
 // Entry point: open any audio file by its bytes. Detection names the container; its registry
 // entry (registry.ts) decodes it.
 import { open, stat, type FileHandle } from 'node:fs/promises';
-import { EarmarkError } from '../errors/index.ts';
+import { EarmarkError, errnoCode } from '../errors/index.ts';
 import { ByteReader } from './byte-reader.ts';
 import { applyDeclaredLayout } from './declared-layout.ts';
 import { DETECT_HEAD_BYTES, detectAfterId3, detectContainer } from './detect.ts';
@@ -72,7 +72,7 @@ async function openWith(path: string, knownContainer: Container | null, options:
     if (error instanceof EarmarkError) throw error;
     throw new EarmarkError(
       'file_not_found',
-      `cannot read ${safeName(path)}: ${(error as NodeJS.ErrnoException).code ?? String(error)}`,
+      `cannot read ${safeName(path)}: ${errnoCode(error) ?? String(error)}`,
       {},
       { cause: error },
     );
@@ -85,7 +85,7 @@ async function openWith(path: string, knownContainer: Container | null, options:
   } catch (error) {
     throw new EarmarkError(
       'file_not_found',
-      `cannot open ${safeName(path)}: ${(error as NodeJS.ErrnoException).code ?? String(error)}`,
+      `cannot open ${safeName(path)}: ${errnoCode(error) ?? String(error)}`,
       {},
       { cause: error },
     );

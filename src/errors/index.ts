@@ -176,3 +176,9 @@ export function fromWireError(value: unknown): EarmarkError {
 export function isRetryable(error: EarmarkError): boolean {
   return typeof error.details.transient === 'boolean' ? error.details.transient : errorCatalogue[error.code].retryable;
 }
+
+/** The `code` of a Node system error (ENOENT, EEXIST...), read without trusting the thrown value's type. */
+export function errnoCode(error: unknown): string | undefined {
+  if (typeof error !== 'object' || error === null || !('code' in error)) return undefined;
+  return typeof error.code === 'string' ? error.code : undefined;
+}

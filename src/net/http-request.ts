@@ -4,7 +4,7 @@
 
 import { request as httpRequest, type IncomingMessage } from 'node:http';
 import { request as httpsRequest } from 'node:https';
-import { EarmarkError } from '../errors/index.ts';
+import { EarmarkError, errnoCode } from '../errors/index.ts';
 import type { UrlPolicy } from './url-guard.ts';
 
 export interface OutboundRequest {
@@ -68,7 +68,7 @@ export function send(policy: UrlPolicy, req: OutboundRequest): Promise<IncomingM
       reject(
         new EarmarkError(
           'source_fetch_failed',
-          `${req.field}: the request failed (${(error as NodeJS.ErrnoException).code ?? 'network error'})`,
+          `${req.field}: the request failed (${errnoCode(error) ?? 'network error'})`,
           { field: req.field, transient: true },
         ),
       );

@@ -27,7 +27,42 @@ export class PackageStore {
   async get(tenant: string, packageId: string): Promise<PackageRecord | null> {
     const json = await this.redis.get(this.key(packageId));
     if (!json) return null;
-    const record = JSON.parse(json) as PackageRecord;
+    const record = parsePackageRecord(json);
     return record.tenant === tenant ? record : null;
   }
+}
+
+const ROLES: readonly string[] = ['mix', 'stem', 'version'];
+const isRole = (v: unknown): v is PackageRecord['members'][number]['role'] =>
+  typeof v === 'string' && ROLES.includes(v);
+const nullableString = (v: unknown): v is string | null => v === null || typeof v === 'string';
+
+/** A stored record read back field by field: a damaged one is an error, never a wrong package. */
+export function parsePackageRecord(json: string): PackageRecord {
+  const v: unknown = JSON.parse(json);
+  const fail = (): never => {
+    throw new Error('a stored package record does not have the shape this version writes');
+  };
+  if (typeof v !== 'object' || v === null) return fail();
+  const r: Record<string, unknown> = { ...v };
+  const members = Array.isArray(r.members)
+    ? r.members.map((m: unknown) => {
+        if (typeof m !== 'object' || m === null || !('jobId' in m) || !('role' in m)) return fail();
+        if (typeof m.jobId !== 'string' || !isRole(m.role)) return fail();
+        return { jobId: m.jobId, role: m.role };
+      })
+    : fail();
+  const { packageId, tenant, profile, stemProfile, toleranceDb, callbackUrl, externalId, submittedAt } = r;
+  if (
+    typeof packageId !== 'string' ||
+    typeof tenant !== 'string' ||
+    typeof profile !== 'string' ||
+    !nullableString(stemProfile) ||
+    typeof toleranceDb !== 'number' ||
+    !nullableString(callbackUrl) ||
+    !nullableString(externalId) ||
+    typeof submittedAt !== 'string'
+  )
+    return fail();
+  return { packageId, tenant, profile, stemProfile, toleranceDb, members, callbackUrl, externalId, submittedAt };
 }

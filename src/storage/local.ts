@@ -4,7 +4,7 @@ import { randomUUID } from 'node:crypto';
 import { access, constants, mkdir, readdir, readFile, rename, rm, stat, utimes, writeFile } from 'node:fs/promises';
 import { join } from 'node:path';
 import type { Readable } from 'node:stream';
-import { EarmarkError } from '../errors/index.ts';
+import { EarmarkError, errnoCode } from '../errors/index.ts';
 import { writeChunksToNewFile } from './block-file-writer.ts';
 import { receiveUpload } from './receive.ts';
 import {
@@ -108,7 +108,7 @@ export class LocalStorage implements Storage {
     try {
       return await readFile(this.pathOf(`reports/${jobId}.json`), 'utf8');
     } catch (error) {
-      if ((error as NodeJS.ErrnoException).code === 'ENOENT') return null;
+      if (errnoCode(error) === 'ENOENT') return null;
       throw new EarmarkError('storage_unavailable', 'the report could not be read', {}, { cause: error });
     }
   }

@@ -5,7 +5,7 @@
 import { createHash } from 'node:crypto';
 import { PassThrough, type Readable } from 'node:stream';
 import { pipeline } from 'node:stream/promises';
-import { EarmarkError } from '../errors/index.ts';
+import { EarmarkError, errnoCode } from '../errors/index.ts';
 
 class LimitError extends Error {}
 class SourceAborted extends Error {}
@@ -83,7 +83,7 @@ export async function receiveUpload(
     if (error instanceof EarmarkError) throw error;
     if (error instanceof SourceAborted)
       throw new EarmarkError('validation_failed', 'the upload ended before the file did', { field: 'file' });
-    const errno = (error as NodeJS.ErrnoException).code;
+    const errno = errnoCode(error);
     if (errno === 'ENOSPC' || errno === 'EDQUOT')
       throw new EarmarkError('storage_full', 'storage is full; the upload was not kept', {}, { cause: error });
     throw new EarmarkError('storage_unavailable', 'the upload could not be stored', {}, { cause: error });

@@ -4,7 +4,7 @@ import { randomBytes } from 'node:crypto';
 import type { Redis } from 'ioredis';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { createRedis } from '../../src/queue/connection.ts';
-import type { PackageRecord } from '../../src/queue/packages.ts';
+import { parsePackageRecord, type PackageRecord } from '../../src/queue/packages.ts';
 import { purgePrefix, serviceKey } from '../../src/queue/service-keys.ts';
 import { openServiceStores, type ServiceStores } from '../../src/queue/store.ts';
 import { testRedisUrl } from '../helpers/redis.ts';
@@ -47,5 +47,14 @@ describe('PackageStore', () => {
     const ttl = await redis.ttl(serviceKey(prefix, 'package', record.packageId));
     expect(ttl).toBeGreaterThan(RETENTION_SECONDS - 5);
     expect(ttl).toBeLessThanOrEqual(RETENTION_SECONDS);
+  });
+
+  it.each([
+    ['an unknown role', { ...record, members: [{ jobId: 'j_1', role: 'master' }] }],
+    ['no members', { ...record, members: undefined }],
+    ['a tolerance as text', { ...record, toleranceDb: '-60' }],
+    ['no tenant', { ...record, tenant: undefined }],
+  ])('refuses a stored record with %s', (_what, damaged) => {
+    expect(() => parsePackageRecord(JSON.stringify(damaged))).toThrow(/shape/);
   });
 });
